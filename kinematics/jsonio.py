@@ -1,0 +1,115 @@
+"""Reading and writing JSON files: errors with line and column, atomic saves."""
+
+from __future__ import annotations
+
+import json
+import math
+import os
+import tempfile
+from pathlib import Path
+from typing import Any
+
+from .errors import FileReadError
+
+
+def read_json(path: str | os.PathLike[str]) -> Any:
+    """Read a JSON file; raise :class:`FileReadError` naming line and column on bad JSON.
+
+    NaN and Infinity literals are refused (they are not JSON).
+    """
+    p = Path(path)
+    try:
+        text = p.read_text(encoding="utf-8")
+    except FileNotFoundError:
+        raise FileReadError(str(p), "", "file not found") from None
+    except IsADirectoryError:
+        raise FileReadError(str(p), "", "is a folder, expected a file") from None
+    except UnicodeDecodeError as exc:
+        raise FileReadError(str(p), f"byte {exc.start}", "expected UTF-8 text") from None
+    except OSError as exc:
+        raise FileReadError(str(p), "", f"cannot be read ({exc.strerror})") from None
+    return parse_json(text, str(p))
+
+
+def _refuse_constant(name: str) -> Any:
+    raise ValueError(f"{name} is not allowed; expected a finite number")
+
+
+def parse_json(text: str, file: str = "<text>") -> Any:
+    """Parse JSON text; errors name ``file`` and the line and column."""
+    try:
+        return json.loads(text, parse_constant=_refuse_constant)
+    except json.JSONDecodeError as exc:
+        raise FileReadError(file, f"line {exc.lineno}, column {exc.colno}",
+                            f"invalid JSON ({exc.msg})") from None
+    except ValueError as exc:
+        raise FileReadError(file, "", str(exc)) from None
+    except RecursionError:
+        raise FileReadError(file, "", "JSON nested too deeply") from None
+
+
+def atomic_write_text(path: str | os.PathLike[str], text: str) -> None:
+    """Write ``text`` to ``path`` atomically: a temporary file beside it, then a rename.
+
+    A crash mid-write leaves the old file intact.
+    """
+    p = Path(path)
+    directory = p.parent if str(p.parent) else Path(".")
+    fd, tmp = tempfile.mkstemp(prefix=f".{p.name}.", suffix=".tmp", dir=directory)
+    try:
+        with os.fdopen(fd, "w", encoding="utf-8", newline="") as fh:
+            fh.write(text)
+            fh.flush()
+            os.fsync(fh.fileno())
+        os.replace(tmp, p)
+    except BaseException:
+        try:
+            os.unlink(tmp)
+        except OSError:
+            pass
+        raise
+
+
+def atomic_write_bytes(path: str | os.PathLike[str], data: bytes) -> None:
+    """Binary twin of :func:`atomic_write_text`."""
+    p = Path(path)
+    directory = p.parent if str(p.parent) else Path(".")
+    fd, tmp = tempfile.mkstemp(prefix=f".{p.name}.", suffix=".tmp", dir=directory)
+    try:
+        with os.fdopen(fd, "wb") as fh:
+            fh.write(data)
+            fh.flush()
+            os.fsync(fh.fileno())
+        os.replace(tmp, p)
+    except BaseException:
+        try:
+            os.unlink(tmp)
+        except OSError:
+            pass
+        raise
+
+
+def _clean(obj: Any) -> Any:
+    """Round floats for stable, readable files; refuse non-finite numbers."""
+    if isinstance(obj, float):
+        if not math.isfinite(obj):
+            raise ValueError("refusing to write a non-finite number")
+        r = round(obj, 9)
+        return 0.0 if r == 0 else r
+    if isinstance(obj, dict):
+        return {k: _clean(v) for k, v in obj.items()}
+    if isinstance(obj, (list, tuple)):
+        return [_clean(v) for v in obj]
+    if hasattr(obj, "item") and callable(obj.item):  # numpy scalar
+        return _clean(obj.item())
+    return obj
+
+
+def dumps(obj: Any, indent: int | None = 2) -> str:
+    """JSON text with floats rounded to 1e-9 and numpy scalars converted."""
+    return json.dumps(_clean(obj), indent=indent, allow_nan=False) + "\n"
+
+
+def write_json(path: str | os.PathLike[str], obj: Any) -> None:
+    """Write ``obj`` as JSON atomically."""
+    atomic_write_text(path, dumps(obj))

@@ -1,0 +1,120 @@
+"""Small readers that check one value of a parsed JSON document and say where it went wrong.
+
+Every failure raises :class:`kinematics.errors.ValidationError` with the file, the key path
+(``routes[1].waypoints[3]``) and what was expected, so the edge can print one clear line.
+"""
+
+from __future__ import annotations
+
+import math
+from typing import Any
+
+from .errors import ValidationError
+
+_MISSING = object()
+
+
+def join(place: str, key: str | int) -> str:
+    """Key path ``place`` extended by a key or list index."""
+    if isinstance(key, int):
+        return f"{place}[{key}]"
+    return f"{place}.{key}" if place else key
+
+
+def _type_name(v: Any) -> str:
+    if v is None:
+        return "null"
+    if isinstance(v, bool):
+        return "true/false"
+    if isinstance(v, (int, float)):
+        return "a number"
+    if isinstance(v, str):
+        return "text"
+    if isinstance(v, list):
+        return "a list"
+    if isinstance(v, dict):
+        return "an object"
+    return type(v).__name__
+
+
+class Reader:
+    """Checks values of one file's parsed JSON; every error names ``file`` and the key path."""
+
+    def __init__(self, file: str) -> None:
+        self.file = str(file)
+
+    def fail(self, place: str, expected: str) -> ValidationError:
+        return ValidationError(self.file, place, expected)
+
+    def obj(self, value: Any, place: str) -> dict:
+        if not isinstance(value, dict):
+            raise self.fail(place or "top level", f"expected an object, got {_type_name(value)}")
+        return value
+
+    def get(self, d: dict, key: str, place: str, default: Any = _MISSING) -> Any:
+        if key in d:
+            return d[key]
+        if default is _MISSING:
+            raise self.fail(join(place, key), "missing; this key is required")
+        return default
+
+    def number(self, value: Any, place: str, *, positive: bool = False,
+               non_negative: bool = False, minimum: float | None = None,
+               maximum: float | None = None) -> float:
+        if isinstance(value, bool) or not isinstance(value, (int, float)):
+            raise self.fail(place, f"expected a number, got {_type_name(value)}")
+        v = float(value)
+        if not math.isfinite(v):
+            raise self.fail(place, "expected a finite number, got NaN or infinity")
+        if positive and v <= 0:
+            raise self.fail(place, f"expected a positive number, got {v:g}")
+        if non_negative and v < 0:
+            raise self.fail(place, f"expected zero or a positive number, got {v:g}")
+        if minimum is not None and v < minimum:
+            raise self.fail(place, f"expected at least {minimum:g}, got {v:g}")
+        if maximum is not None and v > maximum:
+            raise self.fail(place, f"expected at most {maximum:g}, got {v:g}")
+        return v
+
+    def opt_number(self, d: dict, key: str, place: str, default: float | None = None,
+                   **kw: Any) -> float | None:
+        if key not in d or d[key] is None:
+            return default
+        return self.number(d[key], join(place, key), **kw)
+
+    def text(self, value: Any, place: str) -> str:
+        if not isinstance(value, str):
+            raise self.fail(place, f"expected text, got {_type_name(value)}")
+        return value
+
+    def boolean(self, value: Any, place: str) -> bool:
+        if not isinstance(value, bool):
+            raise self.fail(place, f"expected true or false, got {_type_name(value)}")
+        return value
+
+    def lst(self, value: Any, place: str, min_len: int = 0) -> list:
+        if not isinstance(value, list):
+            raise self.fail(place, f"expected a list, got {_type_name(value)}")
+        if len(value) < min_len:
+            raise self.fail(place, f"expected at least {min_len} entries, got {len(value)}")
+        return value
+
+    def point(self, value: Any, place: str) -> tuple[float, float]:
+        if not isinstance(value, list) or len(value) != 2:
+            raise self.fail(place, "expected a point [x, y] in metres")
+        return (self.number(value[0], join(place, 0)), self.number(value[1], join(place, 1)))
+
+    def points(self, value: Any, place: str, min_len: int) -> tuple[tuple[float, float], ...]:
+        items = self.lst(value, place, min_len)
+        return tuple(self.point(p, join(place, i)) for i, p in enumerate(items))
+
+    def version(self, d: dict, key: str, supported: int) -> int:
+        v = self.get(d, key, "")
+        if isinstance(v, bool) or not isinstance(v, int):
+            raise self.fail(key, f"expected the format version as a whole number, got {v!r}")
+        if v > supported:
+            raise self.fail(key, f"format version {v} is newer than this Swathe reads "
+                                 f"(up to {supported}); update Swathe")
+        if v < 1:
+            raise self.fail(key, f"expected format version 1..{supported}, got {v}")
+        return v
