@@ -1,0 +1,203 @@
+"""The ``swathe`` command: the workbench, and plan / check / schedule / render for scripts.
+
+Every subcommand calls ``kinematics`` only (render also draws with Qt, offscreen). Bad input
+exits 2 with one line on stderr naming the file, the place in it and what was expected.
+"""
+
+from __future__ import annotations
+
+import argparse
+import os
+import sys
+from collections.abc import Sequence
+from pathlib import Path
+
+from kinematics.errors import SwatheInputError
+
+SUBCOMMANDS = ("plan", "check", "schedule", "render")
+EXIT_OK, EXIT_VIOLATION, EXIT_BAD_INPUT, EXIT_INTERNAL = 0, 1, 2, 3
+
+
+class _Parser(argparse.ArgumentParser):
+    """argparse that reports usage mistakes in the same one-line form (exit 2)."""
+
+    def error(self, message: str) -> None:  # type: ignore[override]
+        self.exit(EXIT_BAD_INPUT, f"{self.prog}: {message} (see --help)\n")
+
+
+def build_parser() -> argparse.ArgumentParser:
+    p = _Parser(prog="swathe", description=(
+        "Lay out drivable routes for wheeled robots and carts on a floor plan, check the swept "
+        "footprint against walls and obstacles, and export wheel-rate schedules. Without a "
+        "subcommand, opens the workbench (on the bundled demo if no project is given)."))
+    sub = p.add_subparsers(dest="command", metavar="COMMAND", parser_class=_Parser)
+
+    def common(sp: argparse.ArgumentParser, route_required: bool = False) -> None:
+        sp.add_argument("project", metavar="PROJECT", help="a *.swathe.json project file")
+        sp.add_argument("--route", metavar="NAME", required=route_required,
+                        help="only this route" if not route_required else "the route to use")
+
+    sp = sub.add_parser("plan", help="the drivable segments of each route")
+    common(sp)
+    sp.add_argument("--json", action="store_true", help="print JSON for scripts")
+
+    sp = sub.add_parser("check", help="swept-footprint check of each route "
+                                      "(exit 1 if anything is in the way)")
+    common(sp)
+    sp.add_argument("--json", action="store_true", help="print JSON for scripts")
+    sp.add_argument("--tolerance-mm", type=float, default=2.0, metavar="MM",
+                    help="how much the swept region may exceed the true one (default 2 mm)")
+    sp.add_argument("--sizing", action="store_true",
+                    help="also answer: widest and longest footprint that clears, and the door "
+                         "widths the chassis needs (slower)")
+
+    sp = sub.add_parser("schedule", help="segment-wise wheel-rate schedule of one route")
+    common(sp, route_required=True)
+    sp.add_argument("--format", choices=("csv", "json"), default="json",
+                    help="output format (default json)")
+    sp.add_argument("-o", "--output", metavar="FILE", help="write to FILE (atomically) "
+                                                            "instead of standard output")
+    sp.add_argument("--dt", type=float, default=0.1, metavar="SECONDS",
+                    help="time step of the samples (default 0.1 s)")
+
+    sp = sub.add_parser("render", help="a PNG picture of plan, route, swept area and "
+                                       "violations, without a screen")
+    common(sp)
+    sp.add_argument("-o", "--output", metavar="FILE.png", required=True)
+    sp.add_argument("--width", type=int, default=1600, help="image width in pixels")
+    sp.add_argument("--height", type=int, default=1000, help="image height in pixels")
+    return p
+
+
+def _selected_routes(project, name: str | None):
+    if name is None:
+        return list(project.routes)
+    return [project.route(name)]
+
+
+def cmd_plan(args: argparse.Namespace) -> int:
+    from kinematics.jsonio import dumps
+    from kinematics.planner import plan_route
+    from kinematics.project import load_project
+
+    project = load_project(args.project)
+    plans = [plan_route(r, project.chassis) for r in _selected_routes(project, args.route)]
+    if args.json:
+        sys.stdout.write(dumps({"routes": [pl.to_dict() for pl in plans]}))
+        return EXIT_OK
+    from kinematics.report_text import format_plan_text
+
+    sys.stdout.write(format_plan_text(plans, project))
+    return EXIT_OK
+
+
+def cmd_check(args: argparse.Namespace) -> int:
+    from kinematics.clearance import ObstacleIndex, check_route, format_check_text
+    from kinematics.jsonio import dumps
+    from kinematics.planner import plan_route
+    from kinematics.project import load_project
+
+    if not (args.tolerance_mm > 0) or args.tolerance_mm != args.tolerance_mm:
+        raise SwatheInputError("command line", "--tolerance-mm", "expected a positive number")
+    project = load_project(args.project)
+    index = ObstacleIndex(project.floorplan)
+    tol = args.tolerance_mm / 1000.0
+    checks = []
+    for route in _selected_routes(project, args.route):
+        plan = plan_route(route, project.chassis)
+        chk = check_route(plan, project.chassis, index, tolerance_m=tol, route_name=route.name)
+        if args.sizing:
+            from kinematics.sizing import attach_sizing
+
+            chk = attach_sizing(chk, plan, project, index, tolerance_m=tol)
+        checks.append(chk)
+    if args.json:
+        sys.stdout.write(dumps({"routes": [c.to_dict() for c in checks]}))
+    else:
+        sys.stdout.write(format_check_text(checks))
+    return EXIT_OK if all(c.clear for c in checks) else EXIT_VIOLATION
+
+
+def cmd_schedule(args: argparse.Namespace) -> int:
+    from kinematics.jsonio import atomic_write_text, dumps
+    from kinematics.planner import plan_route
+    from kinematics.project import load_project
+    from kinematics.schedule import build_schedule, schedule_to_csv, schedule_to_dict
+
+    if not (args.dt > 0) or args.dt > 60:
+        raise SwatheInputError("command line", "--dt", "expected a time step between 0 and 60 s")
+    project = load_project(args.project)
+    route = project.route(args.route)
+    plan = plan_route(route, project.chassis)
+    sched = build_schedule(route.name, list(plan.segments), project.chassis, dt_s=args.dt)
+    text = schedule_to_csv(sched) if args.format == "csv" else dumps(schedule_to_dict(sched))
+    if args.output:
+        _check_output_path(args.output)
+        atomic_write_text(args.output, text)
+    else:
+        sys.stdout.write(text)
+    return EXIT_OK
+
+
+def _check_output_path(path: str) -> None:
+    parent = Path(path).resolve().parent
+    if not parent.is_dir():
+        raise SwatheInputError(path, "-o", f"the folder {parent} does not exist")
+
+
+def cmd_render(args: argparse.Namespace) -> int:
+    from kinematics.project import load_project
+
+    if args.width < 200 or args.height < 150 or args.width > 10000 or args.height > 10000:
+        raise SwatheInputError("command line", "--width/--height",
+                               "expected an image between 200x150 and 10000x10000 pixels")
+    project = load_project(args.project)
+    if args.route is not None:
+        project.route(args.route)
+    _check_output_path(args.output)
+    os.environ.setdefault("QT_QPA_PLATFORM", "offscreen")
+    from app.render import render_project_png
+
+    render_project_png(project, args.output, route_name=args.route,
+                       size=(args.width, args.height))
+    return EXIT_OK
+
+
+COMMANDS = {"plan": cmd_plan, "check": cmd_check, "schedule": cmd_schedule,
+            "render": cmd_render}
+
+
+def main(argv: Sequence[str] | None = None) -> int:
+    """Entry point of the ``swathe`` console script; returns the exit code."""
+    argv = list(sys.argv[1:] if argv is None else argv)
+    try:
+        if argv and argv[0] in SUBCOMMANDS or (argv and argv[0] in ("-h", "--help")):
+            args = build_parser().parse_args(argv)
+            return COMMANDS[args.command](args)
+        if len(argv) > 1:
+            build_parser().error("expected at most one PROJECT to open")
+        if argv and argv[0].startswith("-"):
+            build_parser().error(f"unknown option {argv[0]}")
+        project = argv[0] if argv else None
+        if project is not None and not Path(project).exists():
+            raise SwatheInputError(project, "", "file not found")
+        from app.main_window import run_workbench
+
+        return run_workbench(project)
+    except SwatheInputError as exc:
+        sys.stderr.write(f"swathe: {exc.message}\n")
+        return EXIT_BAD_INPUT
+    except BrokenPipeError:
+        return EXIT_OK
+    except KeyboardInterrupt:
+        return 130
+    except Exception as exc:  # noqa: BLE001 - the edge turns every failure into one line
+        if os.environ.get("SWATHE_DEBUG"):
+            raise
+        sys.stderr.write(f"swathe: internal error: {type(exc).__name__}: {exc} "
+                         "(set SWATHE_DEBUG=1 for details; please report it)\n")
+        return EXIT_INTERNAL
+
+
+if __name__ == "__main__":
+    sys.exit(main())
