@@ -1,0 +1,273 @@
+"""Shortest forward-only paths of bounded curvature between two poses (Dubins paths).
+
+Dubins (1957, *Amer. J. Math.* 79(3)) proved that the shortest path of a forward-moving
+vehicle with turn radius at least ``r`` between two poses is one of six words made of arcs of
+radius exactly ``r`` (L, R) and straights (S): LSL, RSR, LSR, RSL, RLR, LRL. The piece lengths
+of each word follow in closed form from the goal pose seen from the start, normalised by ``r``;
+the formulas here are those of Shkel & Lumelsky (2001), "Classification of the Dubins set",
+*Robotics and Autonomous Systems* 34, sec. 2, written with the distance ``d = D / r`` and the
+angles ``alpha``, ``beta`` of both headings measured from the line joining the two positions.
+
+Every word is evaluated as array operations over all pairs at once and the shortest feasible
+one is kept, so :func:`shortest` connects thousands of pairs in one call without a Python loop.
+
+Headings are radians throughout. ``params`` holds the three piece lengths in metres (all >= 0
+for Dubins); an arc piece of length ``s`` turns the heading by ``s / radius_m``.
+"""
+
+from __future__ import annotations
+
+import math
+from collections.abc import Sequence
+from dataclasses import dataclass
+from typing import ClassVar
+
+import numpy as np
+from numpy.typing import ArrayLike, NDArray
+
+from .errors import ValidationError
+from .segments import Segment, arc, line
+
+TWO_PI = 2.0 * math.pi
+
+#: Word names, in the order of the ``word`` index of :class:`DubinsBatch`.
+WORDS: tuple[str, ...] = ("LSL", "RSR", "LSR", "RSL", "RLR", "LRL")
+
+# Angles within this of a full turn are treated as no turn: the closed forms return 2 pi - 1e-16
+# for what is geometrically a zero-length arc, and keeping it would add a whole circle.
+_FULL_TURN_SNAP = 1e-12
+# A piece shorter than this (metres) is dropped when building segments.
+_ZERO_PIECE_M = 1e-12
+
+
+def mod2pi(x: ArrayLike) -> NDArray[np.float64]:
+    """Angle(s) in ``[0, 2 pi)``, with values a rounding error below ``2 pi`` sent to 0.
+
+    Examples
+    --------
+    >>> mod2pi(np.array([-np.pi / 2, 2 * np.pi - 1e-15])).round(6).tolist()
+    [4.712389, 0.0]
+    """
+    x = np.asarray(x, dtype=float)
+    m = x - TWO_PI * np.floor(x / TWO_PI)
+    return np.where((m > TWO_PI - _FULL_TURN_SNAP) | (m < 0.0), 0.0, m)
+
+
+@dataclass(frozen=True)
+class DubinsBatch:
+    """Shortest Dubins paths for ``N`` start/goal pairs.
+
+    Attributes
+    ----------
+    length_m : ndarray, shape (N,)
+        Path length in metres.
+    word : ndarray of int, shape (N,)
+        Index into :attr:`WORDS` of the shortest word.
+    params : ndarray, shape (N, 3)
+        Length in metres of each of the three pieces of the word, in order (all >= 0).
+    radius_m : ndarray, shape (N,)
+        Turn radius used for each pair.
+    """
+
+    length_m: NDArray[np.float64]
+    word: NDArray[np.int64]
+    params: NDArray[np.float64]
+    radius_m: NDArray[np.float64]
+    WORDS: ClassVar[tuple[str, ...]] = WORDS
+
+    def __len__(self) -> int:
+        return int(self.length_m.shape[0])
+
+    def words(self) -> list[str]:
+        """Word names of every pair."""
+        return [WORDS[i] for i in self.word]
+
+
+def _check_inputs(starts: ArrayLike, goals: ArrayLike, radius_m: ArrayLike, where: str
+                  ) -> tuple[NDArray[np.float64], NDArray[np.float64], NDArray[np.float64]]:
+    """Validate and broadcast poses ``(N, 3)`` and radii ``(N,)``."""
+    p0 = np.atleast_2d(np.asarray(starts, dtype=float))
+    p1 = np.atleast_2d(np.asarray(goals, dtype=float))
+    if p0.ndim != 2 or p0.shape[1] != 3:
+        raise ValidationError(where, "starts", "an array of poses (x_m, y_m, heading_rad), "
+                              f"shape (N, 3); got shape {p0.shape}")
+    if p1.shape != p0.shape:
+        raise ValidationError(where, "goals", f"the same shape as starts {p0.shape}; "
+                              f"got {p1.shape}")
+    if not (np.all(np.isfinite(p0)) and np.all(np.isfinite(p1))):
+        raise ValidationError(where, "starts/goals", "finite pose values (no NaN or infinity)")
+    r = np.broadcast_to(np.asarray(radius_m, dtype=float), (p0.shape[0],)).astype(float)
+    if not np.all(np.isfinite(r) & (r > 0.0)):
+        raise ValidationError(where, "radius_m", "a positive finite turn radius in metres")
+    return p0, p1, r
+
+
+def normalised_goal(starts: NDArray[np.float64], goals: NDArray[np.float64],
+                    radius_m: NDArray[np.float64]
+                    ) -> tuple[NDArray[np.float64], NDArray[np.float64], NDArray[np.float64]]:
+    """Goal in the start's frame scaled to unit radius: ``(x, y, phi)``, each shape ``(N,)``."""
+    dx = goals[:, 0] - starts[:, 0]
+    dy = goals[:, 1] - starts[:, 1]
+    c, s = np.cos(starts[:, 2]), np.sin(starts[:, 2])
+    x = (c * dx + s * dy) / radius_m
+    y = (-s * dx + c * dy) / radius_m
+    return x, y, goals[:, 2] - starts[:, 2]
+
+
+def _dubins_words(d: NDArray[np.float64], alpha: NDArray[np.float64],
+                  beta: NDArray[np.float64]) -> tuple[NDArray[np.float64], NDArray[np.float64]]:
+    """Normalised piece lengths of all six words, shape ``(6, N, 3)``, and feasibility ``(6, N)``.
+
+    Shkel & Lumelsky (2001), sec. 2, eqs. for LSL ... LRL; ``alpha`` and ``beta`` are the start
+    and goal headings relative to the line from start to goal, ``d`` the distance over ``r``.
+    """
+    sa, sb = np.sin(alpha), np.sin(beta)
+    ca, cb = np.cos(alpha), np.cos(beta)
+    cab = np.cos(alpha - beta)
+    d2 = d * d
+    # Rounding leaves tangent cases (touching circles, p = 0; CCC at the edge of its range)
+    # a few ulps on the wrong side of feasibility; accept them within that error.
+    tol = 4.0 * np.finfo(float).eps * (8.0 + d2)
+    n = d.shape[0]
+    out = np.zeros((6, n, 3))
+    ok = np.zeros((6, n), dtype=bool)
+
+    # LSL
+    p2 = 2.0 + d2 - 2.0 * cab + 2.0 * d * (sa - sb)
+    th = np.arctan2(cb - ca, d + sa - sb)
+    out[0] = np.stack([mod2pi(th - alpha), np.sqrt(np.maximum(p2, 0.0)), mod2pi(beta - th)], -1)
+    ok[0] = p2 >= -tol
+    # RSR
+    p2 = 2.0 + d2 - 2.0 * cab + 2.0 * d * (sb - sa)
+    th = np.arctan2(ca - cb, d - sa + sb)
+    out[1] = np.stack([mod2pi(alpha - th), np.sqrt(np.maximum(p2, 0.0)), mod2pi(th - beta)], -1)
+    ok[1] = p2 >= -tol
+    # LSR: the straight is an inner tangent; needs the circles apart.
+    p2 = -2.0 + d2 + 2.0 * cab + 2.0 * d * (sa + sb)
+    p = np.sqrt(np.maximum(p2, 0.0))
+    th = np.arctan2(-ca - cb, d + sa + sb) - np.arctan2(-2.0, p)
+    out[2] = np.stack([mod2pi(th - alpha), p, mod2pi(th - beta)], -1)
+    ok[2] = p2 >= -tol
+    # RSL
+    p2 = -2.0 + d2 + 2.0 * cab - 2.0 * d * (sa + sb)
+    p = np.sqrt(np.maximum(p2, 0.0))
+    th = np.arctan2(ca + cb, d - sa - sb) - np.arctan2(2.0, p)
+    out[3] = np.stack([mod2pi(alpha - th), p, mod2pi(beta - th)], -1)
+    ok[3] = p2 >= -tol
+    # RLR: the middle arc of an optimal CCC word is longer than pi (Dubins 1957), hence
+    # 2 pi - acos rather than acos.
+    c = (6.0 - d2 + 2.0 * cab + 2.0 * d * (sa - sb)) / 8.0
+    p = mod2pi(TWO_PI - np.arccos(np.clip(c, -1.0, 1.0)))
+    th = np.arctan2(ca - cb, d - sa + sb)
+    t = mod2pi(alpha - th + 0.5 * p)
+    out[4] = np.stack([t, p, mod2pi(alpha - beta - t + p)], -1)
+    ok[4] = np.abs(c) <= 1.0 + tol
+    # LRL
+    c = (6.0 - d2 + 2.0 * cab + 2.0 * d * (sb - sa)) / 8.0
+    p = mod2pi(TWO_PI - np.arccos(np.clip(c, -1.0, 1.0)))
+    th = np.arctan2(ca - cb, d + sa - sb)
+    t = mod2pi(-alpha - th + 0.5 * p)
+    out[5] = np.stack([t, p, mod2pi(beta - alpha - t + p)], -1)
+    ok[5] = np.abs(c) <= 1.0 + tol
+    return out, ok
+
+
+def shortest(starts: ArrayLike, goals: ArrayLike, radius_m: ArrayLike) -> DubinsBatch:
+    """Shortest forward paths of turn radius ``radius_m`` for many pose pairs at once.
+
+    Parameters
+    ----------
+    starts, goals : array_like, shape (N, 3) or (3,)
+        Poses ``(x_m, y_m, heading_rad)``.
+    radius_m : float or array_like, shape (N,)
+        Minimum turn radius in metres, > 0.
+
+    Returns
+    -------
+    DubinsBatch
+
+    Raises
+    ------
+    ValidationError
+        If shapes differ, a value is not finite or a radius is not positive.
+
+    Examples
+    --------
+    >>> b = shortest([[0, 0, 0]], [[0, 2, np.pi]], 1.0)   # a U-turn
+    >>> round(float(b.length_m[0]), 9), b.words()
+    (3.141592654, ['LSL'])
+    """
+    p0, p1, r = _check_inputs(starts, goals, radius_m, "<dubins.shortest>")
+    x, y, phi = normalised_goal(p0, p1, r)
+    d = np.hypot(x, y)
+    # When the positions coincide the joining line is undefined; measure from the start heading.
+    theta = np.where(d > 0.0, np.arctan2(y, x), 0.0)
+    alpha = mod2pi(-theta)
+    beta = mod2pi(phi - theta)
+    pieces, ok = _dubins_words(d, alpha, beta)
+    total = np.where(ok, pieces.sum(axis=2), np.inf)
+    word = np.argmin(total, axis=0)
+    idx = np.arange(x.shape[0])
+    params = pieces[word, idx] * r[:, None]
+    length = total[word, idx] * r
+    return DubinsBatch(length_m=length, word=word.astype(np.int64), params=params, radius_m=r)
+
+
+def pieces_to_segments(start: Sequence[float], letters: str, signed_lengths_m: Sequence[float],
+                       radius_m: float) -> list[Segment]:
+    """Chain arcs and straights from ``start``: one piece per letter (``L``, ``R``, ``S``).
+
+    A negative length drives that piece in reverse. The steering letter fixes the curvature
+    sign: ``L`` has curvature ``+1/r`` (centre on the left whichever way the body moves), so a
+    reverse ``L`` turns the heading clockwise. Pieces shorter than 1e-12 m are dropped.
+    """
+    segs: list[Segment] = []
+    pose = tuple(float(v) for v in start)
+    for ch, s in zip(letters, signed_lengths_m):
+        s = float(s)
+        if abs(s) < _ZERO_PIECE_M:
+            continue
+        direction = 1 if s > 0 else -1
+        if ch == "S":
+            seg = line(pose, abs(s), direction)
+        else:
+            turn = s / radius_m if ch == "L" else -s / radius_m
+            seg = arc(pose, radius_m, turn, direction)
+        segs.append(seg)
+        pose = seg.end
+    return segs
+
+
+def batch_segments(batch: DubinsBatch, starts: ArrayLike, i: int) -> list[Segment]:
+    """Segments of pair ``i`` of a batch, starting at ``starts[i]``."""
+    p0 = np.atleast_2d(np.asarray(starts, dtype=float))
+    return pieces_to_segments(p0[i], WORDS[int(batch.word[i])], batch.params[i],
+                              float(batch.radius_m[i]))
+
+
+def path_segments(start: Sequence[float], goal: Sequence[float],
+                  radius_m: float) -> list[Segment]:
+    """The shortest Dubins path from ``start`` to ``goal`` as arc and line segments.
+
+    Parameters
+    ----------
+    start, goal : sequence of float
+        Poses ``(x_m, y_m, heading_rad)``.
+    radius_m : float
+        Turn radius in metres, > 0.
+
+    Returns
+    -------
+    list of Segment
+        Arcs of radius ``radius_m`` and straights, all forward, zero-length pieces dropped
+        (empty when start and goal coincide). The last segment ends at ``goal``.
+
+    Examples
+    --------
+    >>> segs = path_segments((0, 0, 0), (0, 2, np.pi), 1.0)
+    >>> [(s.kind, round(s.turn_rad, 6)) for s in segs]
+    [('arc', 3.141593)]
+    """
+    p0 = np.asarray(start, dtype=float).reshape(1, 3)
+    batch = shortest(p0, np.asarray(goal, dtype=float).reshape(1, 3), float(radius_m))
+    return batch_segments(batch, p0, 0)
