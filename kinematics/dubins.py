@@ -38,6 +38,9 @@ WORDS: tuple[str, ...] = ("LSL", "RSR", "LSR", "RSL", "RLR", "LRL")
 _FULL_TURN_SNAP = 1e-12
 # A piece shorter than this (metres) is dropped when building segments.
 _ZERO_PIECE_M = 1e-12
+# Goals this close to the start (in radii and radians) are the start: without this a heading
+# rounding error of 1e-16 would ask for a full loop.
+_SAME_POSE = 1e-12
 
 
 def mod2pi(x: ArrayLike) -> NDArray[np.float64]:
@@ -112,6 +115,13 @@ def normalised_goal(starts: NDArray[np.float64], goals: NDArray[np.float64],
     x = (c * dx + s * dy) / radius_m
     y = (-s * dx + c * dy) / radius_m
     return x, y, goals[:, 2] - starts[:, 2]
+
+
+def same_pose(x: NDArray[np.float64], y: NDArray[np.float64],
+              phi: NDArray[np.float64]) -> NDArray[np.bool_]:
+    """Where a normalised goal coincides with the start up to rounding."""
+    return (np.hypot(x, y) < _SAME_POSE) & (np.abs(phi - TWO_PI * np.round(phi / TWO_PI))
+                                            < _SAME_POSE)
 
 
 def _dubins_words(d: NDArray[np.float64], alpha: NDArray[np.float64],
@@ -206,6 +216,10 @@ def shortest(starts: ArrayLike, goals: ArrayLike, radius_m: ArrayLike) -> Dubins
     beta = mod2pi(phi - theta)
     pieces, ok = _dubins_words(d, alpha, beta)
     total = np.where(ok, pieces.sum(axis=2), np.inf)
+    same = same_pose(x, y, phi)
+    total[:, same] = np.inf
+    total[0, same] = 0.0
+    pieces[:, same] = 0.0
     word = np.argmin(total, axis=0)
     idx = np.arange(x.shape[0])
     params = pieces[word, idx] * r[:, None]

@@ -33,7 +33,7 @@ from typing import ClassVar
 import numpy as np
 from numpy.typing import ArrayLike, NDArray
 
-from .dubins import _check_inputs, normalised_goal, pieces_to_segments
+from .dubins import _check_inputs, normalised_goal, pieces_to_segments, same_pose
 from .segments import Segment
 
 PI = math.pi
@@ -346,6 +346,10 @@ def shortest(starts: ArrayLike, goals: ArrayLike, radius_m: ArrayLike) -> ReedsS
     p0, p1, r = _check_inputs(starts, goals, radius_m, "<reeds_shepp.shortest>")
     x, y, phi = normalised_goal(p0, p1, r)
     pieces, lengths = _evaluate(x, y, phi)
+    same = same_pose(x, y, phi)
+    lengths[:, same] = np.inf
+    lengths[0, same] = 0.0
+    pieces[:, same] = 0.0
     word = np.argmin(lengths, axis=0)
     idx = np.arange(x.shape[0])
     return ReedsSheppBatch(length_m=lengths[word, idx] * r, word=word.astype(np.int64),
