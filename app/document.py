@@ -1,0 +1,457 @@
+"""The workbench document: one project, its undo history and the latest results per route.
+
+The :class:`Document` is the single source of truth of the window. The project is a tree of
+frozen dataclasses (:mod:`kinematics.project`); every edit builds a new tree with
+``dataclasses.replace`` and goes through one :class:`QUndoCommand` that holds the trees before
+and after, so undo and redo are exact and cheap. Views subscribe to the signals and edit only
+through the methods here.
+
+Results (plan, check, schedule) are computed lazily on first request and cached against the
+route, chassis and floor plan objects they came from, so an edit invalidates exactly what it
+changed. The route check keeps one incremental checker per route, so dragging one waypoint
+re-sweeps only the segments that moved.
+"""
+
+from __future__ import annotations
+
+import dataclasses
+import itertools
+import os
+from pathlib import Path
+from typing import Any
+
+from PySide6.QtCore import QObject, Signal
+from PySide6.QtGui import QUndoCommand, QUndoStack
+
+from kinematics.errors import SwatheInputError
+from kinematics.floorplan import FloorPlan
+from kinematics.project import Chassis, Project, Route, Waypoint, load_project, save_project
+
+MIN_WAYPOINTS = 2  # a route file needs two waypoints (kinematics.project.route_from_dict)
+_MERGE_ID = 0x5357  # one id for every mergeable drag command; mergeWith compares the keys
+_drag_tokens = itertools.count(1)
+
+
+def new_drag_token() -> int:
+    """A fresh key for one mouse drag: moves with the same key merge into one undo step."""
+    return next(_drag_tokens)
+
+
+def empty_project() -> Project:
+    """A new project: no floor plan, the default chassis (with a track) and no routes."""
+    chassis = Chassis(name="new chassis", drive="differential", track_m=0.5,
+                      max_wheel_rate_radps=15.0)
+    return Project(FloorPlan(name="empty plan"), chassis, (), None, None, {})
+
+
+class _Edit(QUndoCommand):
+    """Replace the project tree; undo puts the previous tree back."""
+
+    def __init__(self, doc: Document, text: str, before: Project, after: Project,
+                 what: frozenset[str], current: tuple[int, int],
+                 merge_key: tuple | None = None) -> None:
+        super().__init__(text)
+        self._doc = doc
+        self._before = before
+        self._after = after
+        self._what = what
+        self._current = current
+        self.merge_key = merge_key
+
+    def id(self) -> int:  # noqa: A003 - Qt's name
+        return _MERGE_ID if self.merge_key is not None else -1
+
+    def mergeWith(self, other: QUndoCommand) -> bool:  # noqa: N802 - Qt's name
+        if not isinstance(other, _Edit) or other.merge_key != self.merge_key:
+            return False
+        self._after = other._after
+        self._current = (self._current[0], other._current[1])
+        return True
+
+    def redo(self) -> None:
+        self._doc._apply(self._after, self._what, self._current[1])
+
+    def undo(self) -> None:
+        self._doc._apply(self._before, self._what, self._current[0])
+
+
+def _rebase_ref(ref: Any, old_base: Path, new_base: Path) -> Any:
+    """A floor plan reference made relative to ``new_base`` (it was relative to ``old_base``)."""
+
+    def rebase(name: str) -> str:
+        p = Path(name)
+        target = p if p.is_absolute() else (old_base / p)
+        target = Path(os.path.normpath(target.resolve()))
+        try:
+            return Path(os.path.relpath(target, new_base.resolve())).as_posix()
+        except ValueError:  # another drive on Windows
+            return str(target)
+
+    if isinstance(ref, str):
+        return rebase(ref)
+    if isinstance(ref, dict) and isinstance(ref.get("file"), str):
+        out = dict(ref)
+        out["file"] = rebase(ref["file"])
+        return out
+    return ref
+
+
+class Document(QObject):
+    """The open project, its undo stack, the current route and cached results.
+
+    Parameters
+    ----------
+    project : Project, optional
+        The project to start with; an empty one if omitted.
+    """
+
+    projectReplaced = Signal()
+    routesChanged = Signal()
+    chassisChanged = Signal()
+    floorplanChanged = Signal()
+    resultsChanged = Signal()
+    currentRouteChanged = Signal(int)
+    fileStateChanged = Signal()
+    edited = Signal()  # after every edit, undo or redo (autosave listens)
+
+    def __init__(self, project: Project | None = None, parent: QObject | None = None) -> None:
+        super().__init__(parent)
+        self._project = project if project is not None else empty_project()
+        self._current = 0 if self._project.routes else -1
+        self._forced_dirty = False
+        self.undo_stack = QUndoStack(self)
+        self.undo_stack.cleanChanged.connect(self._clean_changed)
+        self._plans: dict[str, tuple[Route, Chassis, Any]] = {}
+        self._checks: dict[str, tuple[Any, FloorPlan, Any]] = {}
+        self._schedules: dict[str, tuple[Any, Any]] = {}
+        self._checkers: dict[str, tuple[Chassis, FloorPlan, Any]] = {}
+        self._errors: dict[str, str] = {}
+        self._index: tuple[FloorPlan, Any] | None = None
+        self.schedule_dt_s = 0.1
+
+    def _clean_changed(self, _clean: bool) -> None:
+        self.fileStateChanged.emit()
+
+    # -- state ------------------------------------------------------------------------------
+    @property
+    def project(self) -> Project:
+        return self._project
+
+    @property
+    def path(self) -> Path | None:
+        return self._project.path
+
+    @property
+    def dirty(self) -> bool:
+        return self._forced_dirty or not self.undo_stack.isClean()
+
+    @property
+    def current_route(self) -> int:
+        """Index of the route being edited, -1 when the project has none."""
+        return self._current
+
+    def set_current_route(self, i: int) -> None:
+        i = max(-1, min(int(i), len(self._project.routes) - 1))
+        if i == -1 and self._project.routes:
+            i = 0
+        if i != self._current:
+            self._current = i
+            self.currentRouteChanged.emit(i)
+
+    def route(self, i: int | None = None) -> Route | None:
+        """Route ``i`` (default the current one), ``None`` if there is no such route."""
+        i = self._current if i is None else i
+        if 0 <= i < len(self._project.routes):
+            return self._project.routes[i]
+        return None
+
+    def route_names(self) -> list[str]:
+        return [r.name for r in self._project.routes]
+
+    def title(self) -> str:
+        """File name for the window title, with ``*`` when there are unsaved changes."""
+        name = self.path.name if self.path else "untitled"
+        return name + (" *" if self.dirty else "")
+
+    # -- results ----------------------------------------------------------------------------
+    def _route_by_name(self, name: str) -> Route | None:
+        for r in self._project.routes:
+            if r.name == name:
+                return r
+        return None
+
+    def error(self, name: str) -> str | None:
+        """Why the route could not be planned or checked, ``None`` when it could."""
+        self.plan(name)
+        return self._errors.get(name)
+
+    def obstacle_index(self) -> Any:
+        """The spatial index of the floor plan's solids, built once per floor plan."""
+        from kinematics.clearance import ObstacleIndex
+
+        fp = self._project.floorplan
+        if self._index is None or self._index[0] is not fp:
+            self._index = (fp, ObstacleIndex(fp))
+        return self._index[1]
+
+    def plan(self, name: str) -> Any:
+        """The :class:`kinematics.planner.RoutePlan` of route ``name``, or ``None``."""
+        route = self._route_by_name(name)
+        if route is None:
+            return None
+        chassis = self._project.chassis
+        hit = self._plans.get(name)
+        if hit is not None and hit[0] == route and hit[1] is chassis:
+            return hit[2]
+        from kinematics.planner import plan_route
+
+        self._errors.pop(name, None)
+        try:
+            plan = plan_route(route, chassis)
+        except SwatheInputError as exc:
+            self._errors[name] = exc.message
+            plan = None
+        except ValueError as exc:
+            self._errors[name] = f"route {name!r}: {exc}"
+            plan = None
+        self._plans[name] = (route, chassis, plan)
+        return plan
+
+    def _checker(self, name: str) -> Any:
+        chassis, fp = self._project.chassis, self._project.floorplan
+        hit = self._checkers.get(name)
+        if hit is not None and hit[0] is chassis and hit[1] is fp:
+            return hit[2]
+        try:
+            from kinematics.clearance import RouteChecker
+        except ImportError:
+            return None
+        checker = RouteChecker(chassis, self.obstacle_index())
+        self._checkers[name] = (chassis, fp, checker)
+        return checker
+
+    def check(self, name: str) -> Any:
+        """The :class:`kinematics.clearance.RouteCheck` of route ``name``, or ``None``."""
+        plan = self.plan(name)
+        if plan is None:
+            return None
+        fp = self._project.floorplan
+        hit = self._checks.get(name)
+        if hit is not None and hit[0] is plan and hit[1] is fp:
+            return hit[2]
+        checker = self._checker(name)
+        try:
+            if checker is not None:
+                chk = checker.check(plan, route_name=name)
+            else:
+                from kinematics.clearance import check_route
+
+                chk = check_route(plan, self._project.chassis, self.obstacle_index(),
+                                  route_name=name)
+        except SwatheInputError as exc:
+            self._errors[name] = exc.message
+            chk = None
+        self._checks[name] = (plan, fp, chk)
+        return chk
+
+    def schedule(self, name: str) -> Any:
+        """The :class:`kinematics.schedule.Schedule` of route ``name``, or ``None``."""
+        plan = self.plan(name)
+        if plan is None or not plan.segments:
+            return None
+        hit = self._schedules.get(name)
+        if hit is not None and hit[0] is plan:
+            return hit[1]
+        from kinematics.schedule import build_schedule
+
+        try:
+            sched = build_schedule(name, list(plan.segments), self._project.chassis,
+                                   dt_s=self.schedule_dt_s)
+        except SwatheInputError as exc:
+            self._errors[name] = exc.message
+            sched = None
+        self._schedules[name] = (plan, sched)
+        return sched
+
+    # -- applying a new tree ----------------------------------------------------------------
+    def _apply(self, project: Project, what: frozenset[str], current: int) -> None:
+        self._project = project
+        live = {r.name for r in project.routes}
+        for cache in (self._plans, self._checks, self._schedules, self._checkers, self._errors):
+            for k in [k for k in cache if k not in live]:
+                del cache[k]
+        if "floorplan" in what:
+            self.floorplanChanged.emit()
+        if "chassis" in what:
+            self.chassisChanged.emit()
+        if "routes" in what:
+            self.routesChanged.emit()
+        self.set_current_route(current)
+        self.resultsChanged.emit()
+        self.edited.emit()
+
+    def _push(self, text: str, after: Project, what: str | set[str], current: int | None = None,
+              merge_key: tuple | None = None) -> None:
+        what_set = frozenset({what} if isinstance(what, str) else what)
+        cur_after = self._current if current is None else current
+        self.undo_stack.push(_Edit(self, text, self._project, after, what_set,
+                                   (self._current, cur_after), merge_key))
+
+    def _check_route_index(self, route_i: int) -> Route:
+        if not 0 <= route_i < len(self._project.routes):
+            raise IndexError(f"no route {route_i}")
+        return self._project.routes[route_i]
+
+    def _with_route(self, route_i: int, route: Route) -> Project:
+        routes = list(self._project.routes)
+        routes[route_i] = route
+        return dataclasses.replace(self._project, routes=tuple(routes))
+
+    # -- edits ------------------------------------------------------------------------------
+    def add_waypoint(self, route_i: int, index: int, wp: Waypoint) -> None:
+        """Insert ``wp`` before position ``index`` (``len`` appends) of route ``route_i``."""
+        rt = self._check_route_index(route_i)
+        wps = list(rt.waypoints)
+        index = max(0, min(index, len(wps)))
+        wps.insert(index, wp)
+        text = (f"Add waypoint {index + 1}" if index == len(wps) - 1
+                else f"Insert waypoint {index + 1}")
+        self._push(text, self._with_route(route_i, dataclasses.replace(rt, waypoints=tuple(wps))),
+                   "routes")
+
+    def move_waypoint(self, route_i: int, index: int, x: float, y: float,
+                      drag: int | None = None) -> None:
+        """Move waypoint ``index`` to ``(x, y)``; moves with the same ``drag`` key merge."""
+        rt = self._check_route_index(route_i)
+        wps = list(rt.waypoints)
+        wps[index] = dataclasses.replace(wps[index], x=float(x), y=float(y))
+        key = None if drag is None else ("move", route_i, index, drag)
+        self._push(f"Move waypoint {index + 1}",
+                   self._with_route(route_i, dataclasses.replace(rt, waypoints=tuple(wps))),
+                   "routes", merge_key=key)
+
+    def delete_waypoint(self, route_i: int, index: int) -> bool:
+        """Remove waypoint ``index``; refused (returns False) if the route would be too short."""
+        rt = self._check_route_index(route_i)
+        if len(rt.waypoints) <= MIN_WAYPOINTS:
+            return False
+        wps = list(rt.waypoints)
+        del wps[index]
+        self._push(f"Delete waypoint {index + 1}",
+                   self._with_route(route_i, dataclasses.replace(rt, waypoints=tuple(wps))),
+                   "routes")
+        return True
+
+    def set_waypoint_heading(self, route_i: int, index: int, heading_deg: float | None,
+                             drag: int | None = None) -> None:
+        """Fix the heading of waypoint ``index`` (degrees), or free it with ``None``."""
+        rt = self._check_route_index(route_i)
+        wps = list(rt.waypoints)
+        h = None if heading_deg is None else float(heading_deg)
+        wps[index] = dataclasses.replace(wps[index], heading_deg=h)
+        text = (f"Clear heading of waypoint {index + 1}" if h is None
+                else f"Set heading of waypoint {index + 1}")
+        key = None if drag is None else ("heading", route_i, index, drag)
+        self._push(text, self._with_route(route_i, dataclasses.replace(rt, waypoints=tuple(wps))),
+                   "routes", merge_key=key)
+
+    def _check_name(self, name: str, skip: int | None = None) -> None:
+        if not name.strip():
+            raise ValueError("a route needs a name")
+        for i, r in enumerate(self._project.routes):
+            if i != skip and r.name == name:
+                raise ValueError(f"a route named {name!r} already exists")
+
+    def unique_route_name(self, base: str = "route") -> str:
+        names = set(self.route_names())
+        for n in itertools.count(1):
+            cand = f"{base} {n}"
+            if cand not in names:
+                return cand
+        raise AssertionError("unreachable")
+
+    def add_route(self, route: Route) -> None:
+        """Append ``route`` (at least two waypoints, a new name) and make it current."""
+        self._check_name(route.name)
+        if len(route.waypoints) < MIN_WAYPOINTS:
+            raise ValueError(f"a route needs at least {MIN_WAYPOINTS} waypoints")
+        after = dataclasses.replace(self._project, routes=self._project.routes + (route,))
+        self._push(f"Add route {route.name!r}", after, "routes",
+                   current=len(after.routes) - 1)
+
+    def remove_route(self, i: int) -> None:
+        rt = self._check_route_index(i)
+        routes = list(self._project.routes)
+        del routes[i]
+        cur = min(self._current, len(routes) - 1)
+        self._push(f"Remove route {rt.name!r}",
+                   dataclasses.replace(self._project, routes=tuple(routes)), "routes",
+                   current=cur)
+
+    def set_route(self, i: int, route: Route) -> None:
+        """Replace route ``i`` (rename, turn radius, reverse, waypoints) in one step."""
+        old = self._check_route_index(i)
+        self._check_name(route.name, skip=i)
+        if len(route.waypoints) < MIN_WAYPOINTS:
+            raise ValueError(f"a route needs at least {MIN_WAYPOINTS} waypoints")
+        if route.name != old.name:
+            text = f"Rename route {old.name!r} to {route.name!r}"
+        else:
+            text = f"Change route {route.name!r}"
+        self._push(text, self._with_route(i, route), "routes")
+
+    def set_chassis(self, chassis: Chassis) -> None:
+        self._push("Change chassis", dataclasses.replace(self._project, chassis=chassis),
+                   "chassis")
+
+    def set_floorplan(self, fp: FloorPlan, ref: str | dict | None) -> None:
+        """Use floor plan ``fp``; ``ref`` is how the project file names it (path or import)."""
+        after = dataclasses.replace(self._project, floorplan=fp, floorplan_ref=ref)
+        self._push(f"Use floor plan {fp.name or Path(fp.source).name!r}", after, "floorplan")
+
+    # -- files ------------------------------------------------------------------------------
+    def replace_project(self, project: Project, dirty: bool = False) -> None:
+        """Start over on ``project`` (a fresh undo history); used by open, new and recover."""
+        self._project = project
+        self._plans.clear()
+        self._checks.clear()
+        self._schedules.clear()
+        self._checkers.clear()
+        self._errors.clear()
+        self._index = None
+        self.undo_stack.clear()
+        self.undo_stack.setClean()
+        self._forced_dirty = dirty
+        self._current = 0 if project.routes else -1
+        self.projectReplaced.emit()
+        self.floorplanChanged.emit()
+        self.chassisChanged.emit()
+        self.routesChanged.emit()
+        self.currentRouteChanged.emit(self._current)
+        self.resultsChanged.emit()
+        self.fileStateChanged.emit()
+
+    def open_project(self, path: str | Path) -> None:
+        """Load ``path``; on bad input raise :class:`SwatheInputError` and keep the document."""
+        project = load_project(path)
+        self.replace_project(project)
+
+    def new_project(self) -> None:
+        self.replace_project(empty_project())
+
+    def save(self, path: str | Path | None = None) -> Path:
+        """Write the project atomically to ``path`` (default where it came from)."""
+        target = Path(path) if path is not None else self.path
+        if target is None:
+            raise ValueError("the project has no file yet; choose where to save it")
+        target = target.resolve()
+        old_base = self.path.parent if self.path is not None else Path.cwd()
+        ref = _rebase_ref(self._project.floorplan_ref, old_base, target.parent)
+        project = dataclasses.replace(self._project, floorplan_ref=ref, path=target)
+        save_project(project, target)
+        self._project = project
+        self._forced_dirty = False
+        self.undo_stack.setClean()
+        self.fileStateChanged.emit()
+        return target
+
