@@ -52,8 +52,10 @@ def mod2pi(x: ArrayLike) -> NDArray[np.float64]:
     [4.712389, 0.0]
     """
     x = np.asarray(x, dtype=float)
-    m = x - TWO_PI * np.floor(x / TWO_PI)
-    return np.where((m > TWO_PI - _FULL_TURN_SNAP) | (m < 0.0), 0.0, m)
+    m = np.atleast_1d(x - TWO_PI * np.floor(x / TWO_PI))
+    # Rounding can give exactly 2 pi for a tiny negative x, or -1e-16 near a multiple of 2 pi.
+    m[(m > TWO_PI - _FULL_TURN_SNAP) | (m < 0.0)] = 0.0
+    return m
 
 
 @dataclass(frozen=True)
@@ -120,66 +122,88 @@ def normalised_goal(starts: NDArray[np.float64], goals: NDArray[np.float64],
 def same_pose(x: NDArray[np.float64], y: NDArray[np.float64],
               phi: NDArray[np.float64]) -> NDArray[np.bool_]:
     """Where a normalised goal coincides with the start up to rounding."""
-    return (np.hypot(x, y) < _SAME_POSE) & (np.abs(phi - TWO_PI * np.round(phi / TWO_PI))
-                                            < _SAME_POSE)
+    near = (np.abs(x) < _SAME_POSE) & (np.abs(y) < _SAME_POSE)
+    if near.any():
+        near &= np.abs(phi - TWO_PI * np.round(phi / TWO_PI)) < _SAME_POSE
+    return near
 
 
-def _dubins_words(d: NDArray[np.float64], alpha: NDArray[np.float64],
-                  beta: NDArray[np.float64]) -> tuple[NDArray[np.float64], NDArray[np.float64]]:
-    """Normalised piece lengths of all six words, shape ``(6, N, 3)``, and feasibility ``(6, N)``.
+def _dubins_words(d: NDArray[np.float64], alpha: NDArray[np.float64], beta: NDArray[np.float64],
+                  trig: tuple[NDArray[np.float64], ...]
+                  ) -> tuple[NDArray[np.float64], NDArray[np.float64]]:
+    """Normalised piece lengths of all six words, shape ``(6, 3, N)``, and totals ``(6, N)``.
 
     Shkel & Lumelsky (2001), sec. 2, eqs. for LSL ... LRL; ``alpha`` and ``beta`` are the start
-    and goal headings relative to the line from start to goal, ``d`` the distance over ``r``.
+    and goal headings relative to the line from start to goal, ``d`` the distance over ``r``,
+    ``trig`` their sines and cosines ``(sa, ca, sb, cb)``. Infeasible words total ``inf``.
     """
-    sa, sb = np.sin(alpha), np.sin(beta)
-    ca, cb = np.cos(alpha), np.cos(beta)
-    cab = np.cos(alpha - beta)
+    sa, ca, sb, cb = trig
+    cab = ca * cb + sa * sb  # cos(alpha - beta)
     d2 = d * d
     # Rounding leaves tangent cases (touching circles, p = 0; CCC at the edge of its range)
     # a few ulps on the wrong side of feasibility; accept them within that error.
     tol = 4.0 * np.finfo(float).eps * (8.0 + d2)
     n = d.shape[0]
-    out = np.zeros((6, n, 3))
-    ok = np.zeros((6, n), dtype=bool)
+    out = np.empty((6, 3, n))
+    ok = np.empty((6, n), dtype=bool)
+    base = 2.0 + d2 - 2.0 * cab
+    sd = d * (sa - sb)
 
     # LSL
-    p2 = 2.0 + d2 - 2.0 * cab + 2.0 * d * (sa - sb)
-    th = np.arctan2(cb - ca, d + sa - sb)
-    out[0] = np.stack([mod2pi(th - alpha), np.sqrt(np.maximum(p2, 0.0)), mod2pi(beta - th)], -1)
+    p2 = base + 2.0 * sd
+    th_lsl = np.arctan2(cb - ca, d + sa - sb)
+    out[0, 0] = mod2pi(th_lsl - alpha)
+    out[0, 1] = np.sqrt(np.maximum(p2, 0.0))
+    out[0, 2] = mod2pi(beta - th_lsl)
     ok[0] = p2 >= -tol
     # RSR
-    p2 = 2.0 + d2 - 2.0 * cab + 2.0 * d * (sb - sa)
-    th = np.arctan2(ca - cb, d - sa + sb)
-    out[1] = np.stack([mod2pi(alpha - th), np.sqrt(np.maximum(p2, 0.0)), mod2pi(th - beta)], -1)
+    p2 = base - 2.0 * sd
+    th_rsr = np.arctan2(ca - cb, d - sa + sb)
+    out[1, 0] = mod2pi(alpha - th_rsr)
+    out[1, 1] = np.sqrt(np.maximum(p2, 0.0))
+    out[1, 2] = mod2pi(th_rsr - beta)
     ok[1] = p2 >= -tol
     # LSR: the straight is an inner tangent; needs the circles apart.
-    p2 = -2.0 + d2 + 2.0 * cab + 2.0 * d * (sa + sb)
+    sp = d * (sa + sb)
+    p2 = d2 - 2.0 + 2.0 * cab + 2.0 * sp
     p = np.sqrt(np.maximum(p2, 0.0))
-    th = np.arctan2(-ca - cb, d + sa + sb) - np.arctan2(-2.0, p)
-    out[2] = np.stack([mod2pi(th - alpha), p, mod2pi(th - beta)], -1)
+    # atan2(Y, X) - atan2(-2, p) as one angle of (X + iY)(p + 2i); (X, Y) is never 0 here.
+    X, Y = d + sa + sb, -ca - cb
+    th = np.arctan2(Y * p + 2.0 * X, X * p - 2.0 * Y)
+    out[2, 0] = mod2pi(th - alpha)
+    out[2, 1] = p
+    out[2, 2] = mod2pi(th - beta)
     ok[2] = p2 >= -tol
     # RSL
-    p2 = -2.0 + d2 + 2.0 * cab - 2.0 * d * (sa + sb)
+    p2 = d2 - 2.0 + 2.0 * cab - 2.0 * sp
     p = np.sqrt(np.maximum(p2, 0.0))
-    th = np.arctan2(ca + cb, d - sa - sb) - np.arctan2(2.0, p)
-    out[3] = np.stack([mod2pi(alpha - th), p, mod2pi(beta - th)], -1)
+    # atan2(Y, X) - atan2(2, p) as one angle of (X + iY)(p - 2i).
+    X, Y = d - sa - sb, ca + cb
+    th = np.arctan2(Y * p - 2.0 * X, X * p + 2.0 * Y)
+    out[3, 0] = mod2pi(alpha - th)
+    out[3, 1] = p
+    out[3, 2] = mod2pi(beta - th)
     ok[3] = p2 >= -tol
     # RLR: the middle arc of an optimal CCC word is longer than pi (Dubins 1957), hence
-    # 2 pi - acos rather than acos.
-    c = (6.0 - d2 + 2.0 * cab + 2.0 * d * (sa - sb)) / 8.0
+    # 2 pi - acos rather than acos. Its joining angle is RSR's, LRL's is minus LSL's.
+    c = (6.0 - d2 + 2.0 * cab + 2.0 * sd) / 8.0
     p = mod2pi(TWO_PI - np.arccos(np.clip(c, -1.0, 1.0)))
-    th = np.arctan2(ca - cb, d - sa + sb)
-    t = mod2pi(alpha - th + 0.5 * p)
-    out[4] = np.stack([t, p, mod2pi(alpha - beta - t + p)], -1)
+    t = mod2pi(alpha - th_rsr + 0.5 * p)
+    out[4, 0] = t
+    out[4, 1] = p
+    out[4, 2] = mod2pi(alpha - beta - t + p)
     ok[4] = np.abs(c) <= 1.0 + tol
     # LRL
-    c = (6.0 - d2 + 2.0 * cab + 2.0 * d * (sb - sa)) / 8.0
+    c = (6.0 - d2 + 2.0 * cab - 2.0 * sd) / 8.0
     p = mod2pi(TWO_PI - np.arccos(np.clip(c, -1.0, 1.0)))
-    th = np.arctan2(ca - cb, d + sa - sb)
-    t = mod2pi(-alpha - th + 0.5 * p)
-    out[5] = np.stack([t, p, mod2pi(beta - alpha - t + p)], -1)
+    t = mod2pi(-alpha + th_lsl + 0.5 * p)
+    out[5, 0] = t
+    out[5, 1] = p
+    out[5, 2] = mod2pi(beta - alpha - t + p)
     ok[5] = np.abs(c) <= 1.0 + tol
-    return out, ok
+    total = out[:, 0] + out[:, 1] + out[:, 2]
+    total[~ok] = np.inf
+    return out, total
 
 
 def shortest(starts: ArrayLike, goals: ArrayLike, radius_m: ArrayLike) -> DubinsBatch:
@@ -209,20 +233,29 @@ def shortest(starts: ArrayLike, goals: ArrayLike, radius_m: ArrayLike) -> Dubins
     """
     p0, p1, r = _check_inputs(starts, goals, radius_m, "<dubins.shortest>")
     x, y, phi = normalised_goal(p0, p1, r)
-    d = np.hypot(x, y)
+    d = np.sqrt(x * x + y * y)
     # When the positions coincide the joining line is undefined; measure from the start heading.
-    theta = np.where(d > 0.0, np.arctan2(y, x), 0.0)
+    far = d > 0.0
+    theta = np.arctan2(y, x)
+    dd = np.where(far, d, 1.0)
+    c_th = np.where(far, x / dd, 1.0)
+    s_th = np.where(far, y / dd, 0.0)
+    theta = np.where(far, theta, 0.0)
     alpha = mod2pi(-theta)
     beta = mod2pi(phi - theta)
-    pieces, ok = _dubins_words(d, alpha, beta)
-    total = np.where(ok, pieces.sum(axis=2), np.inf)
+    s_phi, c_phi = np.sin(phi), np.cos(phi)
+    # Sines and cosines of alpha = -theta and beta = phi - theta by the angle-difference rules,
+    # so only phi needs a trigonometric call.
+    trig = (-s_th, c_th, s_phi * c_th - c_phi * s_th, c_phi * c_th + s_phi * s_th)
+    pieces, total = _dubins_words(d, alpha, beta, trig)
     same = same_pose(x, y, phi)
-    total[:, same] = np.inf
-    total[0, same] = 0.0
-    pieces[:, same] = 0.0
+    if same.any():
+        total[:, same] = np.inf
+        total[0, same] = 0.0
+        pieces[:, :, same] = 0.0
     word = np.argmin(total, axis=0)
     idx = np.arange(x.shape[0])
-    params = pieces[word, idx] * r[:, None]
+    params = pieces[word, :, idx] * r[:, None]
     length = total[word, idx] * r
     return DubinsBatch(length_m=length, word=word.astype(np.int64), params=params, radius_m=r)
 
