@@ -109,6 +109,29 @@ def _line_of(exc: BaseException) -> str:
     return f"line {m.group(1)}" if m else ""
 
 
+def _check_complete(path: Path) -> None:
+    """Refuse an ASCII DXF that does not end with its EOF marker: it was cut short.
+
+    ezdxf reads a truncated file without complaint, silently losing whatever followed the
+    cut (often the whole ENTITIES section).
+    """
+    try:
+        with path.open("rb") as fh:
+            head = fh.read(4096)
+            fh.seek(0, 2)
+            size = fh.tell()
+            fh.seek(max(0, size - 256))
+            tail = fh.read()
+    except OSError as exc:
+        raise FileReadError(str(path), "", f"cannot be read ({exc.strerror})") from None
+    if head.startswith(b"AutoCAD Binary DXF") or b"SECTION" not in head.upper():
+        return  # binary DXF has no text marker; a non-DXF file is ezdxf's to refuse
+    lines = [ln.strip() for ln in tail.splitlines() if ln.strip()]
+    if not lines or lines[-1].upper() != b"EOF":
+        raise FileReadError(str(path), "end of file",
+                            "the DXF file ends early (no EOF marker); it may be truncated")
+
+
 def _read_doc(path: Path):  # -> ezdxf Drawing
     import ezdxf
     from ezdxf import recover
@@ -117,6 +140,7 @@ def _read_doc(path: Path):  # -> ezdxf Drawing
         raise FileReadError(str(path), "", "file not found")
     if path.is_dir():
         raise FileReadError(str(path), "", "is a folder, expected a DXF file")
+    _check_complete(path)
     try:
         return ezdxf.readfile(path)
     except ezdxf.DXFStructureError as exc:
@@ -427,7 +451,8 @@ def import_dxf(path: str | Path, layers: dict[str, list[str]] | None = None,
     FileReadError
         The file is missing, not DXF, or damaged beyond repair.
     ValidationError
-        Unknown ``units``, or ``layers`` naming a layer the drawing lacks.
+        Unknown ``units``, ``layers`` naming a layer the drawing lacks, or no geometry at
+        all on the layers read.
     """
     p = Path(path)
     file = str(p)
@@ -497,6 +522,12 @@ def import_dxf(path: str | Path, layers: dict[str, list[str]] | None = None,
                 best, label = d, s
         doors.append(Door(a, b, label))
 
+    if not (walls or obstacles or doors):
+        named = sorted({n for names in (layers or {}).values() for n in names})
+        which = ("the layers " + ", ".join(repr(n) for n in named)) if named else "any layer"
+        raise ValidationError(file, "layers" if roles else "",
+                              f"no walls, obstacles or doors found on {which} "
+                              f"(layers in the drawing: {', '.join(present) or 'none'})")
     extra = {"dxf_import": {"units": unit_name, "metres_per_unit": scale,
                             "layers": {role: sorted(n for n, r in used.items() if r == role)
                                        for role in ROLES}}}
