@@ -1,0 +1,380 @@
+"""The time-optimal speed profile of a route under speed, acceleration and wheel limits.
+
+Each segment is one piece of constant curvature, so every limit gives one speed cap per piece:
+
+- ``max_speed_mps`` on the reference point;
+- ``max_wheel_rate_radps`` on every wheel's own rate from the drive's inverse kinematics
+  (on an arc the outer wheel reaches it first; on a holonomic line that turns the body the
+  worst body-frame course along the line is taken, found exactly from the extremes of
+  ``A cos(phi) + B sin(phi) + C``, see :meth:`kinematics.drives.DriveModel.critical_course_angles`);
+- ``max_lateral_accel_mps2`` on arcs: ``v^2 / R <= a_lat``;
+- ``max_yaw_rate_dps`` on arcs (``v / R``), on holonomic lines that turn (``v |turn| / L``)
+  and on pivots.
+
+The chassis comes to rest at the start and end of the route, at every cusp (the direction of
+travel in the plan changes at a joint) and before and after every pivot. Between those, the
+standard forward-backward pass over the pieces gives the fastest joint speeds: forward from
+rest with ``v^2 = v0^2 + 2 a s`` and backward with the deceleration limit, each joint also
+capped by both neighbours' caps. Within a piece the speed is then a trapezoid (or triangle)
+between its entry and exit speeds, peak ``min(cap, sqrt((2 a d L + d v0^2 + a v1^2) / (a + d)))``
+(constant-acceleration kinematics, e.g. Halliday, Resnick & Walker, *Fundamentals of Physics*,
+ch. 2). Everything is closed form; nothing is stepped in time.
+
+A pivot is the same trapezoid in the turned angle. Its yaw-rate cap is the least of
+``max_yaw_rate_dps`` and the wheel-rate limit; its angular acceleration keeps the fastest
+wheel's rim within the linear limits: ``alpha = max_accel / lever`` with ``lever`` the rim
+speed of that wheel per unit yaw rate (``track / 2`` for a differential drive). With neither a
+yaw-rate nor a wheel-rate limit, a pivot keeps every wheel's rim speed within
+``max_speed_mps``. Steering (bicycle, ackermann, swerve) is taken as instantaneous.
+"""
+
+from __future__ import annotations
+
+import math
+from collections.abc import Sequence
+from dataclasses import dataclass
+
+import numpy as np
+from numpy.typing import ArrayLike, NDArray
+
+from .drives import DriveModel, drive_for
+from .segments import Segment, segment_stations
+
+# Directions of travel differing by more than this (rad) at a joint make a cusp.
+_CUSP_RAD = 1e-6
+
+
+@dataclass(frozen=True)
+class Limits:
+    """The chassis limits a profile respects; ``None`` means no such limit."""
+
+    max_speed_mps: float
+    max_accel_mps2: float
+    max_decel_mps2: float
+    max_wheel_rate_radps: float | None = None
+    max_lateral_accel_mps2: float | None = None
+    max_yaw_rate_radps: float | None = None
+
+    @classmethod
+    def from_chassis(cls, chassis) -> Limits:
+        """The limits of a :class:`kinematics.project.Chassis` (decel = accel unless given)."""
+        decel = chassis.max_decel_mps2 if chassis.max_decel_mps2 is not None \
+            else chassis.max_accel_mps2
+        yaw = None if chassis.max_yaw_rate_dps is None else math.radians(chassis.max_yaw_rate_dps)
+        return cls(float(chassis.max_speed_mps), float(chassis.max_accel_mps2), float(decel),
+                   chassis.max_wheel_rate_radps, chassis.max_lateral_accel_mps2, yaw)
+
+
+@dataclass(frozen=True)
+class ProfileState:
+    """Where the chassis is at given times; every field is an array of the times' shape."""
+
+    index: NDArray[np.int64]        # segment index
+    progress: NDArray[np.float64]   # along the segment: m (line, arc) or rad turned (pivot)
+    rate: NDArray[np.float64]       # d(progress)/dt: m/s or rad/s, >= 0
+    accel: NDArray[np.float64]      # d(rate)/dt
+    station_m: NDArray[np.float64]  # distance from the route start
+    v_mps: NDArray[np.float64]      # reference-point speed, >= 0 (0 in a pivot)
+    omega_radps: NDArray[np.float64]  # yaw rate, signed
+
+
+@dataclass(frozen=True)
+class SpeedProfile:
+    """Per-segment timing of a route; arrays have one entry per segment.
+
+    For lines and arcs the ``rate_*`` arrays are speeds (m/s) and ``amount`` is the length;
+    for pivots they are yaw rates (rad/s, unsigned) and ``amount`` is ``|turn_rad|``. The
+    ``v_*_mps`` arrays are reference-point speeds (0 in a pivot); ``v_cruise_mps`` is the peak
+    reached. ``binding`` names the limit that set each piece's cap.
+    """
+
+    segments: tuple[Segment, ...]
+    t0_s: NDArray[np.float64]
+    duration_s: NDArray[np.float64]
+    amount: NDArray[np.float64]
+    rate_start: NDArray[np.float64]
+    rate_cruise: NDArray[np.float64]
+    rate_end: NDArray[np.float64]
+    accel: NDArray[np.float64]
+    decel: NDArray[np.float64]
+    cap: NDArray[np.float64]
+    binding: tuple[str, ...]
+    yaw_per_progress: NDArray[np.float64]  # signed yaw (rad) per unit of progress
+    station0_m: NDArray[np.float64]
+    limits: Limits
+
+    @property
+    def is_pivot(self) -> NDArray[np.bool_]:
+        return np.array([s.kind == "pivot" for s in self.segments], dtype=bool)
+
+    @property
+    def v_start_mps(self) -> NDArray[np.float64]:
+        return np.where(self.is_pivot, 0.0, self.rate_start)
+
+    @property
+    def v_cruise_mps(self) -> NDArray[np.float64]:
+        return np.where(self.is_pivot, 0.0, self.rate_cruise)
+
+    @property
+    def v_end_mps(self) -> NDArray[np.float64]:
+        return np.where(self.is_pivot, 0.0, self.rate_end)
+
+    @property
+    def yaw_rate_cruise_radps(self) -> NDArray[np.float64]:
+        """Signed yaw rate at each segment's peak (cruise) rate."""
+        return self.rate_cruise * self.yaw_per_progress
+
+    @property
+    def total_time_s(self) -> float:
+        if len(self.segments) == 0:
+            return 0.0
+        return float(self.t0_s[-1] + self.duration_s[-1])
+
+    def state_at_time(self, t: ArrayLike) -> ProfileState:
+        """Segment, progress, rates and station at times ``t`` (s), vectorised.
+
+        Times before 0 or after the end are clamped to the start and end of the route. A time
+        on a joint belongs to the later segment (the last segment keeps the end time).
+        """
+        t = np.clip(np.asarray(t, dtype=float), 0.0, self.total_time_s)
+        n = len(self.segments)
+        if n == 0:
+            z = np.zeros_like(t)
+            return ProfileState(z.astype(np.int64), z, z, z, z, z, z)
+        idx = np.clip(np.searchsorted(self.t0_s, t, side="right") - 1, 0, n - 1)
+        tau = np.clip(t - self.t0_s[idx], 0.0, self.duration_s[idx])
+        prog, rate, acc = _trapezoid_at(tau, self.amount[idx], self.rate_start[idx],
+                                        self.rate_cruise[idx], self.rate_end[idx],
+                                        self.accel[idx], self.decel[idx])
+        pivot = self.is_pivot[idx]
+        station = self.station0_m[idx] + np.where(pivot, 0.0, prog)
+        v = np.where(pivot, 0.0, rate)
+        omega = rate * self.yaw_per_progress[idx]
+        return ProfileState(idx, prog, rate, acc, station, v, omega)
+
+    def twist_at_time(self, t: ArrayLike) -> tuple[NDArray, NDArray, NDArray, ProfileState]:
+        """Body twist ``(vx, vy, omega)`` at times ``t`` and the :class:`ProfileState`.
+
+        On arcs and plain lines the body moves along its x axis (backwards in reverse); on a
+        holonomic line the course is fixed in the plan while the body turns, so the
+        body-frame direction of travel is ``course - heading``.
+        """
+        st = self.state_at_time(t)
+        n = len(self.segments)
+        phi = np.zeros(max(n, 1))
+        dphi = np.zeros(max(n, 1))  # change of body-frame course per unit progress
+        for i, s in enumerate(self.segments):
+            if s.kind == "pivot":
+                continue
+            if s.kind == "line":
+                phi[i] = s.course - s.start[2]
+                dphi[i] = -s.turn_rad / s.length_m if s.length_m > 0 else 0.0
+            else:
+                phi[i] = 0.0 if s.direction > 0 else math.pi
+        if n == 0:
+            return st.v_mps, st.v_mps, st.omega_radps, st
+        ang = phi[st.index] + dphi[st.index] * st.progress
+        return st.v_mps * np.cos(ang), st.v_mps * np.sin(ang), st.omega_radps, st
+
+    def speed_at_time(self, t: ArrayLike) -> NDArray[np.float64]:
+        """Reference-point speed (m/s, >= 0) at times ``t``, vectorised."""
+        return self.state_at_time(t).v_mps
+
+    def breakpoints_s(self) -> NDArray[np.float64]:
+        """Every time where the acceleration changes: joints and the ends of ramps."""
+        t1 = np.where(self.accel > 0, (self.rate_cruise - self.rate_start) / self.accel, 0.0)
+        t3 = np.where(self.decel > 0, (self.rate_cruise - self.rate_end) / self.decel, 0.0)
+        ends = self.t0_s + self.duration_s
+        pts = np.concatenate([self.t0_s, self.t0_s + t1, ends - t3, ends])
+        pts = np.unique(np.clip(pts, 0.0, self.total_time_s))
+        # Round-off makes near-copies of one time (a ramp ending on a joint); keep one.
+        keep = np.concatenate([[True], np.diff(pts) > 1e-9])
+        return pts[keep]
+
+
+def _trapezoid_at(tau, amount, v0, vp, v1, a, d):
+    """Progress, rate and acceleration at local time ``tau`` of a trapezoidal piece."""
+    with np.errstate(divide="ignore", invalid="ignore"):
+        t1 = np.where(a > 0, (vp - v0) / a, 0.0)
+        t3 = np.where(d > 0, (vp - v1) / d, 0.0)
+        s1 = 0.5 * (v0 + vp) * t1
+        s3 = 0.5 * (vp + v1) * t3
+        tc = np.where(vp > 0, np.maximum(amount - s1 - s3, 0.0) / vp, 0.0)
+    in_acc = tau < t1
+    in_dec = tau > t1 + tc
+    td = np.maximum(tau - t1 - tc, 0.0)
+    prog = np.where(in_acc, v0 * tau + 0.5 * a * tau * tau,
+                    np.where(in_dec, s1 + vp * tc + vp * td - 0.5 * d * td * td,
+                             s1 + vp * (tau - t1)))
+    rate = np.where(in_acc, v0 + a * tau, np.where(in_dec, vp - d * td, vp))
+    acc = np.where(in_acc, a, np.where(in_dec, -d, 0.0))
+    return np.clip(prog, 0.0, amount), np.maximum(rate, 0.0), acc
+
+
+def trapezoid_duration(amount: float, v0: float, v1: float, cap: float, accel: float,
+                       decel: float) -> tuple[float, float]:
+    """Least time over ``amount`` from rate ``v0`` to ``v1`` with a rate cap and ramp limits.
+
+    Returns ``(duration, peak)``. ``v1`` must be reachable from ``v0`` within ``amount``.
+
+    Examples
+    --------
+    >>> trapezoid_duration(5.0, 0.0, 0.0, 1.0, 0.5, 0.5)  # d >= v^2/a: d/v + v/a
+    (7.0, 1.0)
+    """
+    if amount <= 0.0:
+        return 0.0, max(v0, v1)
+    peak2 = (2.0 * accel * decel * amount + decel * v0 * v0 + accel * v1 * v1) / (accel + decel)
+    peak = min(cap, math.sqrt(max(peak2, 0.0)))
+    peak = max(peak, v0, v1)
+    t1 = (peak - v0) / accel
+    t3 = (peak - v1) / decel
+    s1 = 0.5 * (v0 + peak) * t1
+    s3 = 0.5 * (peak + v1) * t3
+    tc = max(amount - s1 - s3, 0.0) / peak if peak > 0 else 0.0
+    return t1 + tc + t3, peak
+
+
+# -- caps -----------------------------------------------------------------------------------
+def _holonomic_line_per_unit(drive: DriveModel, seg: Segment) -> float:
+    """Largest wheel rate per unit speed over a line whose body heading turns linearly."""
+    w = seg.turn_rad / seg.length_m
+    phi0 = seg.course - seg.start[2]          # body-frame course at the start
+    phi1 = phi0 - seg.turn_rad                # ... and at the end (the body turned)
+    lo, hi = min(phi0, phi1), max(phi0, phi1)
+    cands = [phi0, phi1]
+    for c in drive.critical_course_angles():
+        k0 = math.ceil((lo - c) / math.pi)
+        k1 = math.floor((hi - c) / math.pi)
+        cands += [c + k * math.pi for k in range(k0, k1 + 1)]
+    phi = np.array(cands)
+    return float(np.max(drive.max_rate_per_unit(np.cos(phi), np.sin(phi), w * np.ones_like(phi))))
+
+
+def _travel_caps(drive: DriveModel, seg: Segment, lim: Limits) -> tuple[float, str]:
+    caps = {"max_speed_mps": lim.max_speed_mps}
+    if seg.length_m > 0.0:
+        turning_line = seg.kind == "line" and (seg.turn_rad != 0.0 or seg.course_rad is not None)
+        if lim.max_wheel_rate_radps is not None:
+            if turning_line:
+                per = _holonomic_line_per_unit(drive, seg)
+            else:
+                per = float(drive.max_rate_per_unit(float(seg.direction), 0.0,
+                                                    seg.turn_rad / seg.length_m))
+            if per > 0.0:
+                caps["max_wheel_rate_radps"] = lim.max_wheel_rate_radps / per
+        yaw_per_m = abs(seg.turn_rad) / seg.length_m
+        if lim.max_yaw_rate_radps is not None and yaw_per_m > 0.0:
+            caps["max_yaw_rate_dps"] = lim.max_yaw_rate_radps / yaw_per_m
+        if lim.max_lateral_accel_mps2 is not None and seg.kind == "arc" and yaw_per_m > 0.0:
+            caps["max_lateral_accel_mps2"] = math.sqrt(lim.max_lateral_accel_mps2 / yaw_per_m)
+    key = min(caps, key=caps.get)
+    return caps[key], key
+
+
+def _pivot_caps(drive: DriveModel, lim: Limits) -> tuple[float, str]:
+    caps = {}
+    if lim.max_yaw_rate_radps is not None:
+        caps["max_yaw_rate_dps"] = lim.max_yaw_rate_radps
+    if lim.max_wheel_rate_radps is not None:
+        caps["max_wheel_rate_radps"] = drive.max_pivot_yaw_rate(lim.max_wheel_rate_radps)
+    if not caps:
+        caps["max_speed_mps"] = lim.max_speed_mps / drive.pivot_lever_m()
+    key = min(caps, key=caps.get)
+    return caps[key], key
+
+
+def _course_at(seg: Segment, end: bool) -> float:
+    if seg.kind == "line":
+        return seg.course
+    th = seg.end[2] if end else seg.start[2]
+    return th + (0.0 if seg.direction > 0 else math.pi)
+
+
+def _must_rest(a: Segment, b: Segment) -> bool:
+    if a.kind == "pivot" or b.kind == "pivot":
+        return True
+    return abs(math.remainder(_course_at(a, True) - _course_at(b, False), 2 * math.pi)) > _CUSP_RAD
+
+
+# -- the profile ----------------------------------------------------------------------------
+def speed_profile(segments: Sequence[Segment], drive: DriveModel,
+                  limits: Limits) -> SpeedProfile:
+    """The fastest speed profile along ``segments`` within ``limits``.
+
+    Parameters
+    ----------
+    segments : sequence of Segment
+        The route, joints continuous.
+    drive : DriveModel
+        Gives every wheel's rate for the wheel-rate limit.
+    limits : Limits
+        See :meth:`Limits.from_chassis`.
+
+    Returns
+    -------
+    SpeedProfile
+
+    Raises
+    ------
+    ValueError
+        A pivot on a drive that cannot pivot.
+
+    Examples
+    --------
+    >>> from kinematics.drives import DifferentialDrive
+    >>> from kinematics.segments import line
+    >>> p = speed_profile([line((0, 0, 0), 5.0)], DifferentialDrive(0.1, 0.5),
+    ...                   Limits(1.0, 0.5, 0.5))
+    >>> round(p.total_time_s, 9)  # 5 m at 1 m/s after ramps of 0.5 m/s^2: d/v + v/a
+    7.0
+    """
+    segs = tuple(segments)
+    n = len(segs)
+    amount = np.zeros(n)
+    cap = np.zeros(n)
+    acc = np.zeros(n)
+    dec = np.zeros(n)
+    yaw_per = np.zeros(n)
+    binding = []
+    for i, s in enumerate(segs):
+        if s.kind == "pivot":
+            if not drive.can_pivot:
+                raise ValueError(f"segment {i}: a {drive.name} drive cannot turn on the spot")
+            c, key = _pivot_caps(drive, limits)
+            lever = drive.pivot_lever_m()
+            amount[i] = abs(s.turn_rad)
+            acc[i] = limits.max_accel_mps2 / lever
+            dec[i] = limits.max_decel_mps2 / lever
+            yaw_per[i] = math.copysign(1.0, s.turn_rad)
+        else:
+            c, key = _travel_caps(drive, s, limits)
+            amount[i] = s.length_m
+            acc[i] = limits.max_accel_mps2
+            dec[i] = limits.max_decel_mps2
+            yaw_per[i] = s.turn_rad / s.length_m if s.length_m > 0 else 0.0
+        cap[i] = c
+        binding.append(key)
+
+    # Joint speeds: rest at the ends, cusps and pivots; else the lower neighbour cap.
+    node = np.zeros(n + 1)
+    for j in range(1, n):
+        node[j] = 0.0 if _must_rest(segs[j - 1], segs[j]) else min(cap[j - 1], cap[j])
+    for i in range(n):  # forward: what acceleration allows
+        node[i + 1] = min(node[i + 1], math.sqrt(node[i] ** 2 + 2.0 * acc[i] * amount[i]))
+    for i in range(n - 1, -1, -1):  # backward: what deceleration allows
+        node[i] = min(node[i], math.sqrt(node[i + 1] ** 2 + 2.0 * dec[i] * amount[i]))
+
+    dur = np.zeros(n)
+    peak = np.zeros(n)
+    for i in range(n):
+        dur[i], peak[i] = trapezoid_duration(amount[i], node[i], node[i + 1], cap[i], acc[i],
+                                             dec[i])
+    t0 = np.concatenate([[0.0], np.cumsum(dur)[:-1]]) if n else np.zeros(0)
+    return SpeedProfile(segs, t0, dur, amount, node[:-1].copy(), peak, node[1:].copy(), acc, dec,
+                        cap, tuple(binding), yaw_per, segment_stations(segs)[:-1], limits)
+
+
+def profile_for(segments: Sequence[Segment], chassis) -> SpeedProfile:
+    """:func:`speed_profile` with the drive and limits of a chassis."""
+    return speed_profile(segments, drive_for(chassis), Limits.from_chassis(chassis))
