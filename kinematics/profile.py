@@ -142,7 +142,16 @@ class SpeedProfile:
             z = np.zeros_like(t)
             return ProfileState(z.astype(np.int64), z, z, z, z, z, z)
         idx = np.clip(np.searchsorted(self.t0_s, t, side="right") - 1, 0, n - 1)
-        tau = np.clip(t - self.t0_s[idx], 0.0, self.duration_s[idx])
+        return self.state_in_segment(idx, t - self.t0_s[idx])
+
+    def state_in_segment(self, index: ArrayLike, tau: ArrayLike) -> ProfileState:
+        """State at local times ``tau`` (s, clamped to the segment) of segments ``index``.
+
+        Unlike :meth:`state_at_time` this says which side of a joint is meant, so the end of
+        one segment and the start of the next can both be sampled.
+        """
+        idx = np.asarray(index, dtype=np.int64)
+        tau = np.clip(np.asarray(tau, dtype=float), 0.0, self.duration_s[idx])
         prog, rate, acc = _trapezoid_at(tau, self.amount[idx], self.rate_start[idx],
                                         self.rate_cruise[idx], self.rate_end[idx],
                                         self.accel[idx], self.decel[idx])
@@ -160,21 +169,31 @@ class SpeedProfile:
         body-frame direction of travel is ``course - heading``.
         """
         st = self.state_at_time(t)
+        vx, vy = self.body_direction(st)
+        return st.v_mps * vx, st.v_mps * vy, st.omega_radps, st
+
+    def body_direction(self, state: ProfileState) -> tuple[NDArray, NDArray]:
+        """Unit body-frame direction of travel ``(cos phi, sin phi)`` at the given states.
+
+        Zero in a pivot. On arcs and plain lines it is ``(+-1, 0)``; on a holonomic line
+        ``phi = course - heading`` changes as the body turns.
+        """
         n = len(self.segments)
         phi = np.zeros(max(n, 1))
         dphi = np.zeros(max(n, 1))  # change of body-frame course per unit progress
+        moving = np.zeros(max(n, 1))
         for i, s in enumerate(self.segments):
             if s.kind == "pivot":
                 continue
+            moving[i] = 1.0
             if s.kind == "line":
                 phi[i] = s.course - s.start[2]
                 dphi[i] = -s.turn_rad / s.length_m if s.length_m > 0 else 0.0
             else:
                 phi[i] = 0.0 if s.direction > 0 else math.pi
-        if n == 0:
-            return st.v_mps, st.v_mps, st.omega_radps, st
-        ang = phi[st.index] + dphi[st.index] * st.progress
-        return st.v_mps * np.cos(ang), st.v_mps * np.sin(ang), st.omega_radps, st
+        idx = state.index
+        ang = phi[idx] + dphi[idx] * state.progress
+        return moving[idx] * np.cos(ang), moving[idx] * np.sin(ang)
 
     def speed_at_time(self, t: ArrayLike) -> NDArray[np.float64]:
         """Reference-point speed (m/s, >= 0) at times ``t``, vectorised."""
@@ -188,7 +207,7 @@ class SpeedProfile:
         pts = np.concatenate([self.t0_s, self.t0_s + t1, ends - t3, ends])
         pts = np.unique(np.clip(pts, 0.0, self.total_time_s))
         # Round-off makes near-copies of one time (a ramp ending on a joint); keep one.
-        keep = np.concatenate([[True], np.diff(pts) > 1e-9])
+        keep = np.concatenate([[True], np.diff(pts) > 1e-9])[:pts.size]
         return pts[keep]
 
 
