@@ -1,0 +1,95 @@
+"""Speed profile and schedule build times against a stepped forward-backward pass.
+
+Baseline (measured in the same run): the common discretised method, a forward and a backward
+sweep over stations ``ds`` apart with ``v[k+1] = min(cap, sqrt(v[k]^2 + 2 a ds))``. The closed
+form should be much faster and give the same route time (the agreement row).
+"""
+
+from __future__ import annotations
+
+import math
+import sys
+import time
+from pathlib import Path
+
+import numpy as np
+
+sys.path.insert(0, str(Path(__file__).resolve().parent.parent))
+
+from kinematics import segments as S  # noqa: E402
+from kinematics.drives import drive_for  # noqa: E402
+from kinematics.profile import Limits, speed_profile  # noqa: E402
+from kinematics.project import Chassis  # noqa: E402
+from kinematics.schedule import build_schedule  # noqa: E402
+
+CHASSIS = Chassis(drive="differential", wheel_radius_m=0.1, track_m=0.5, max_speed_mps=1.2,
+                  max_accel_mps2=0.5, max_decel_mps2=0.8, max_wheel_rate_radps=11.0,
+                  max_lateral_accel_mps2=0.5)
+
+
+def _route(n: int) -> list[S.Segment]:
+    rng = np.random.default_rng(0)
+    pose = (0.0, 0.0, 0.0)
+    segs = []
+    for i in range(n):
+        if i % 2 == 0:
+            seg = S.line(pose, float(rng.uniform(0.5, 5.0)))
+        else:
+            seg = S.arc(pose, float(rng.uniform(0.4, 4.0)), float(rng.uniform(-2.0, 2.0)))
+        segs.append(seg)
+        pose = seg.end
+    return segs
+
+
+def _stepped_time(segs, caps, lim: Limits, ds: float) -> float:
+    """Route time by the discretised forward-backward sweep (the baseline method)."""
+    cap = np.concatenate([np.full(max(int(math.ceil(s.length_m / ds)), 1), c)
+                          for s, c in zip(segs, caps)])
+    n = cap.size
+    v = np.zeros(n + 1)
+    for k in range(n):
+        v[k + 1] = min(cap[k], math.sqrt(v[k] ** 2 + 2 * lim.max_accel_mps2 * ds))
+    v[-1] = 0.0
+    for k in range(n - 1, -1, -1):
+        v[k] = min(v[k], math.sqrt(v[k + 1] ** 2 + 2 * lim.max_decel_mps2 * ds))
+        v[k] = min(v[k], cap[k])
+    lengths = np.concatenate([np.full(max(int(math.ceil(s.length_m / ds)), 1),
+                                      s.length_m / max(int(math.ceil(s.length_m / ds)), 1))
+                              for s in segs])
+    vm = 0.5 * (v[:-1] + v[1:])
+    return float(np.sum(lengths / np.maximum(vm, 1e-12)))
+
+
+def _best(fn, repeat: int) -> float:
+    best = math.inf
+    for _ in range(repeat):
+        t = time.perf_counter()
+        fn()
+        best = min(best, time.perf_counter() - t)
+    return best
+
+
+def run(quick: bool) -> list[dict]:
+    n = 40 if quick else 200
+    segs = _route(n)
+    drive = drive_for(CHASSIS)
+    lim = Limits.from_chassis(CHASSIS)
+    prof = speed_profile(segs, drive, lim)
+    ds = 0.01 if quick else 0.002
+    t_closed = _best(lambda: speed_profile(segs, drive, lim), 5)
+    t_step = _best(lambda: _stepped_time(segs, prof.cap, lim, ds), 1)
+    stepped_total = _stepped_time(segs, prof.cap, lim, ds)
+    t_sched = _best(lambda: build_schedule("bench", segs, CHASSIS, dt_s=0.1), 3)
+    return [
+        {"name": f"profile closed form, {n} segments", "value": t_closed * 1e3, "unit": "ms",
+         "baseline": t_step * 1e3, "ratio": t_step / t_closed, "target": 10.0},
+        {"name": f"route time stepped(ds={ds} m)/closed", "value": stepped_total
+         / prof.total_time_s, "unit": "", "baseline": None, "ratio": None, "target": 1.0},
+        {"name": f"schedule build, {n} segments, dt 0.1 s", "value": t_sched * 1e3,
+         "unit": "ms", "baseline": None, "ratio": None, "target": None},
+    ]
+
+
+if __name__ == "__main__":
+    for row in run(quick="--quick" in sys.argv):
+        print(row)
