@@ -26,7 +26,7 @@ padded): a negative length is driven in reverse. An arc piece of signed length `
 from __future__ import annotations
 
 import math
-from collections.abc import Callable, Sequence
+from collections.abc import Sequence
 from dataclasses import dataclass
 from typing import ClassVar
 
@@ -40,6 +40,7 @@ PI = math.pi
 TWO_PI = 2.0 * math.pi
 HALF_PI = 0.5 * math.pi
 MAX_PIECES = 5
+_BLOCK = 8192
 
 # A piece whose sign the word fixes may come out a rounding error on the wrong side of zero.
 _SIGN_TOL = 1e-10
@@ -51,11 +52,11 @@ _Arr = NDArray[np.float64]
 
 def _m2(x: _Arr) -> _Arr:
     """Angle in ``[-pi, pi]``."""
-    return x - TWO_PI * np.round(x / TWO_PI)
-
-
-def _polar(x: _Arr, y: _Arr) -> tuple[_Arr, _Arr]:
-    return np.hypot(x, y), np.arctan2(y, x)
+    q = x * (1.0 / TWO_PI)
+    np.rint(q, out=q)
+    q *= -TWO_PI
+    q += x
+    return q
 
 
 def _fit(a: _Arr, want: int) -> tuple[_Arr, NDArray[np.bool_]]:
@@ -66,144 +67,204 @@ def _fit(a: _Arr, want: int) -> tuple[_Arr, NDArray[np.bool_]]:
     rounding error past zero is zero.
     """
     if want > 0:
-        a = np.where(a <= -PI + _SIGN_TOL, a + TWO_PI, a)
         ok = a >= -_SIGN_TOL
-        return np.where(a < 0.0, 0.0, a), ok
-    a = np.where(a >= PI - _SIGN_TOL, a - TWO_PI, a)
-    ok = a <= _SIGN_TOL
-    return np.where(a > 0.0, 0.0, a), ok
+        out = np.maximum(a, 0.0)
+        turn = a <= -PI + _SIGN_TOL
+        shift = TWO_PI
+    else:
+        ok = a <= _SIGN_TOL
+        out = np.minimum(a, 0.0)
+        turn = a >= PI - _SIGN_TOL
+        shift = -TWO_PI
+    if turn.any():
+        out[turn] = a[turn] + shift
+        ok |= turn
+    return out, ok
 
 
-def _tau_omega(u: _Arr, v: _Arr, xi: _Arr, eta: _Arr, phi: _Arr) -> tuple[_Arr, _Arr]:
-    """The first and last arc of a CCCC word given the middle two (Reeds & Shepp 1990, sec. 8)."""
-    delta = _m2(u - v)
-    a = np.sin(u) - np.sin(delta)
-    b = np.cos(u) - np.cos(delta) - 1.0
-    t1 = np.arctan2(eta * a - xi * b, xi * a + eta * b)
-    t2 = 2.0 * (np.cos(delta) - np.cos(v) - np.cos(u)) + 3.0
-    tau = np.where(t2 < 0.0, _m2(t1 + PI), _m2(t1))
-    omega = _m2(tau - u + v - phi)
-    return tau, omega
+# -- family representatives, Reeds & Shepp (1990) sec. 8, for unit radius --------------------
+# Every representative measures the goal (x, y, phi) through one of two points,
+#   P1 = (x - sin phi, y - 1 + cos phi)   (8.1, 8.3/8.4, 8.9)
+#   P2 = (x + sin phi, y - 1 - cos phi)   (8.2, 8.7, 8.8, 8.10, 8.11),
+# the goal's turning centre seen from the start's left one. Time-flip maps P to (-Px, Py)
+# and phi to -phi, so a flipped pair shares the point's distance rho (and its polar angle
+# becomes pi - theta). Whether a family can reach the goal at all depends on rho alone
+# (``_cond_*``), as do its middle pieces (``_pre_*``); the rest (``_fam_*``) gives
+# (t, u, v, feasible) from the precomputed part, the polar angle or the point, and phi.
+
+_Res = tuple[_Arr, _Arr, _Arr, NDArray[np.bool_]]
 
 
-# -- the representative of each family: (t, u, v, feasible) for goal (x, y, phi), r = 1 ------
-def _lp_sp_lp(x: _Arr, y: _Arr, phi: _Arr) -> tuple[_Arr, _Arr, _Arr, NDArray[np.bool_]]:
-    """L+S+L+, formula 8.1."""
-    u, t = _polar(x - np.sin(phi), y - 1.0 + np.cos(phi))
-    t, ok_t = _fit(t, +1)
+def _fam_lsl(rho: _Arr, theta: _Arr, phi: _Arr) -> _Res:
+    """L+S+L+, formula 8.1, from P1."""
+    t, ok_t = _fit(theta, +1)
     v, ok_v = _fit(_m2(phi - t), +1)
+    return t, rho, v, ok_t & ok_v
+
+
+def _cond_lsr(rho: _Arr) -> NDArray[np.bool_]:
+    return rho * rho >= 4.0 - _EDGE_TOL
+
+
+def _pre_lsr(rho: _Arr) -> tuple[_Arr, _Arr]:
+    u = np.sqrt(np.maximum(rho * rho - 4.0, 0.0))
+    return u, np.arctan2(2.0, u)
+
+
+def _fam_lsr(pre: tuple[_Arr, _Arr], theta: _Arr, phi: _Arr) -> _Res:
+    """L+S+R+, formula 8.2, from P2."""
+    u, ang = pre
+    t, ok_t = _fit(_m2(theta + ang), +1)
+    v, ok_v = _fit(_m2(t - phi), +1)
     return t, u, v, ok_t & ok_v
 
 
-def _lp_sp_rp(x: _Arr, y: _Arr, phi: _Arr) -> tuple[_Arr, _Arr, _Arr, NDArray[np.bool_]]:
-    """L+S+R+, formula 8.2."""
-    u1, t1 = _polar(x + np.sin(phi), y - 1.0 - np.cos(phi))
-    u1 = u1 * u1
-    ok = u1 >= 4.0 - _EDGE_TOL
-    u = np.sqrt(np.maximum(u1 - 4.0, 0.0))
-    t, ok_t = _fit(_m2(t1 + np.arctan2(2.0, u)), +1)
-    v, ok_v = _fit(_m2(t - phi), +1)
-    return t, u, v, ok & ok_t & ok_v
+def _cond_ccc(rho: _Arr) -> NDArray[np.bool_]:
+    return rho <= 4.0 + _EDGE_TOL
 
 
-def _lp_rm_l(x: _Arr, y: _Arr, phi: _Arr) -> tuple[_Arr, _Arr, _Arr, NDArray[np.bool_]]:
-    """L+R-L (last arc either way: C|C|C and C|CC), formulas 8.3 and 8.4."""
-    xi = x - np.sin(phi)
-    eta = y - 1.0 + np.cos(phi)
-    u1, theta = _polar(xi, eta)
-    ok = u1 <= 4.0 + _EDGE_TOL
-    u = -2.0 * np.arcsin(np.clip(0.25 * u1, -1.0, 1.0))
+def _pre_ccc(rho: _Arr) -> _Arr:
+    return -2.0 * np.arcsin(np.minimum(0.25 * rho, 1.0))
+
+
+def _fam_ccc(u: _Arr, theta: _Arr, phi: _Arr) -> _Res:
+    """L+R-L (last arc either way: C|C|C and C|CC), formulas 8.3 and 8.4, from P1."""
     t, ok_t = _fit(_m2(theta + 0.5 * u + PI), +1)
-    v = _m2(phi - t + u)
-    return t, u, v, ok & ok_t
+    return t, u, _m2(phi - t + u), ok_t
 
 
-def _lp_rup_lum_rm(x: _Arr, y: _Arr, phi: _Arr) -> tuple[_Arr, _Arr, _Arr, NDArray[np.bool_]]:
-    """L+R+L-R- with equal middle arcs u, formula 8.7; pieces (t, u, -u, v)."""
-    xi = x + np.sin(phi)
-    eta = y - 1.0 - np.cos(phi)
-    rho = 0.25 * (2.0 + np.hypot(xi, eta))
-    ok = rho <= 1.0 + _EDGE_TOL
-    u = np.arccos(np.clip(rho, -1.0, 1.0))
-    t, v = _tau_omega(u, -u, xi, eta, phi)
-    t, ok_t = _fit(t, +1)
-    v, ok_v = _fit(v, -1)
-    return t, u, v, ok & ok_t & ok_v
+def _tau_omega(pre: tuple[_Arr, ...], xi: _Arr, eta: _Arr) -> _Arr:
+    """First arc of a CCCC word given its middle arcs (Reeds & Shepp 1990, sec. 8, tau-omega).
+
+    ``pre`` starts with sin u, cos u, cos v, sin delta, cos delta for delta = u - v.
+    """
+    su, cu, cv, sd, cd = pre[:5]
+    a = su - sd
+    b = cu - cd - 1.0
+    t1 = np.arctan2(eta * a - xi * b, xi * a + eta * b)
+    t2 = 2.0 * (cd - cv - cu) + 3.0
+    return np.where(t2 < 0.0, _m2(t1 + PI), t1)
 
 
-def _lp_rum_lum_rp(x: _Arr, y: _Arr, phi: _Arr) -> tuple[_Arr, _Arr, _Arr, NDArray[np.bool_]]:
-    """L+R-L-R+ with equal middle arcs u, formula 8.8; pieces (t, u, u, v)."""
-    xi = x + np.sin(phi)
-    eta = y - 1.0 - np.cos(phi)
-    rho = (20.0 - xi * xi - eta * eta) / 16.0
-    # rho >= 0 is the paper's condition u >= -pi/2.
-    ok = (rho >= -_EDGE_TOL) & (rho <= 1.0 + _EDGE_TOL)
-    u = -np.arccos(np.clip(rho, 0.0, 1.0))
-    t, v = _tau_omega(u, u, xi, eta, phi)
-    t, ok_t = _fit(t, +1)
-    v, ok_v = _fit(v, +1)
-    return t, u, v, ok & ok_t & ok_v
+def _cond_cccc_a(rho: _Arr) -> NDArray[np.bool_]:
+    return 0.25 * (2.0 + rho) <= 1.0 + _EDGE_TOL
 
 
-def _lp_rm_sm_lm(x: _Arr, y: _Arr, phi: _Arr) -> tuple[_Arr, _Arr, _Arr, NDArray[np.bool_]]:
-    """L+R-(pi/2)S-L-, formula 8.9; pieces (t, -pi/2, u, v)."""
-    xi = x - np.sin(phi)
-    eta = y - 1.0 + np.cos(phi)
-    rho, theta = _polar(xi, eta)
-    ok = rho >= 2.0 - _EDGE_TOL
+def _pre_cccc_a(rho: _Arr) -> tuple[_Arr, ...]:
+    # u = acos(rho'), v = -u, delta = 2u: sines and cosines by the double-angle rules.
+    cu = np.minimum(0.25 * (2.0 + rho), 1.0)
+    su = np.sqrt(1.0 - cu * cu)
+    return su, cu, cu, 2.0 * su * cu, 2.0 * cu * cu - 1.0, np.arccos(cu)
+
+
+def _fam_cccc_a(pre: tuple[_Arr, ...], xi: _Arr, eta: _Arr, phi: _Arr) -> _Res:
+    """L+R+L-R- with middle arcs u, -u, formula 8.7, from P2."""
+    u = pre[5]
+    t, ok_t = _fit(_m2(_tau_omega(pre, xi, eta)), +1)
+    v, ok_v = _fit(_m2(t - 2.0 * u - phi), -1)
+    return t, u, v, ok_t & ok_v
+
+
+def _cond_cccc_b(rho: _Arr) -> NDArray[np.bool_]:
+    # rho' >= 0 is the paper's condition u >= -pi/2.
+    r = (20.0 - rho * rho) / 16.0
+    return (r >= -_EDGE_TOL) & (r <= 1.0 + _EDGE_TOL)
+
+
+def _pre_cccc_b(rho: _Arr) -> tuple[_Arr, ...]:
+    # u = v = -acos(rho'), delta = 0.
+    cu = np.clip((20.0 - rho * rho) / 16.0, 0.0, 1.0)
+    zero = np.zeros_like(cu)
+    return -np.sqrt(1.0 - cu * cu), cu, cu, zero, zero + 1.0, -np.arccos(cu)
+
+
+def _fam_cccc_b(pre: tuple[_Arr, ...], xi: _Arr, eta: _Arr, phi: _Arr) -> _Res:
+    """L+R-L-R+ with middle arcs u, u, formula 8.8, from P2."""
+    t, ok_t = _fit(_m2(_tau_omega(pre, xi, eta)), +1)
+    v, ok_v = _fit(_m2(t - phi), +1)
+    return t, pre[5], v, ok_t & ok_v
+
+
+def _cond_ccsc_l(rho: _Arr) -> NDArray[np.bool_]:
+    # rho >= 2 for the tangent to exist, and the straight (2 - sqrt(rho^2 - 4)) reversed.
+    return (rho >= 2.0 - _EDGE_TOL) & (2.0 - np.sqrt(np.maximum(rho * rho - 4.0, 0.0))
+                                       <= _SIGN_TOL)
+
+
+def _pre_ccsc_l(rho: _Arr) -> tuple[_Arr, _Arr]:
     r = np.sqrt(np.maximum(rho * rho - 4.0, 0.0))
-    u = 2.0 - r
-    t, ok_t = _fit(_m2(theta + np.arctan2(r, -2.0)), +1)
+    return np.minimum(2.0 - r, 0.0), np.arctan2(r, -2.0)
+
+
+def _fam_ccsc_l(pre: tuple[_Arr, _Arr], theta: _Arr, phi: _Arr) -> _Res:
+    """L+R-(pi/2)S-L-, formula 8.9, from P1; pieces (t, -pi/2, u, v)."""
+    u, ang = pre
+    t, ok_t = _fit(_m2(theta + ang), +1)
     v, ok_v = _fit(_m2(phi - HALF_PI - t), -1)
-    return t, np.minimum(u, 0.0), v, ok & (u <= _SIGN_TOL) & ok_t & ok_v
+    return t, u, v, ok_t & ok_v
 
 
-def _lp_rm_sm_rm(x: _Arr, y: _Arr, phi: _Arr) -> tuple[_Arr, _Arr, _Arr, NDArray[np.bool_]]:
-    """L+R-(pi/2)S-R-, formula 8.10; pieces (t, -pi/2, u, v)."""
-    xi = x + np.sin(phi)
-    eta = y - 1.0 - np.cos(phi)
-    rho, theta = _polar(-eta, xi)
-    ok = rho >= 2.0 - _EDGE_TOL
-    u = 2.0 - rho
-    t, ok_t = _fit(theta, +1)
+def _cond_ccsc_r(rho: _Arr) -> NDArray[np.bool_]:
+    return rho >= 2.0 - _EDGE_TOL
+
+
+def _pre_ccsc_r(rho: _Arr) -> _Arr:
+    return np.minimum(2.0 - rho, 0.0)
+
+
+def _fam_ccsc_r(u: _Arr, theta: _Arr, phi: _Arr) -> _Res:
+    """L+R-(pi/2)S-R-, formula 8.10, from P2; pieces (t, -pi/2, u, v).
+
+    The paper takes the polar angle of (-P2y, P2x), which is P2's angle plus pi/2.
+    """
+    t, ok_t = _fit(_m2(theta + HALF_PI), +1)
     v, ok_v = _fit(_m2(t + HALF_PI - phi), -1)
-    return t, np.minimum(u, 0.0), v, ok & (u <= _SIGN_TOL) & ok_t & ok_v
+    return t, u, v, ok_t & ok_v
 
 
-def _lp_rm_slm_rp(x: _Arr, y: _Arr, phi: _Arr) -> tuple[_Arr, _Arr, _Arr, NDArray[np.bool_]]:
-    """L+R-(pi/2)S-L-(pi/2)R+, formula 8.11; pieces (t, -pi/2, u, -pi/2, v)."""
-    xi = x + np.sin(phi)
-    eta = y - 1.0 - np.cos(phi)
-    rho, _ = _polar(xi, eta)
-    ok = rho >= 2.0 - _EDGE_TOL
-    u = 4.0 - np.sqrt(np.maximum(rho * rho - 4.0, 0.0))
-    ok &= u <= _SIGN_TOL
-    u = np.minimum(u, 0.0)
+def _cond_ccscc(rho: _Arr) -> NDArray[np.bool_]:
+    # The straight 4 - sqrt(rho^2 - 4) must be reversed: rho^2 >= 20.
+    return (rho >= 2.0 - _EDGE_TOL) & (4.0 - np.sqrt(np.maximum(rho * rho - 4.0, 0.0))
+                                       <= _SIGN_TOL)
+
+
+def _pre_ccscc(rho: _Arr) -> _Arr:
+    return np.minimum(4.0 - np.sqrt(np.maximum(rho * rho - 4.0, 0.0)), 0.0)
+
+
+def _fam_ccscc(u: _Arr, xi: _Arr, eta: _Arr, phi: _Arr) -> _Res:
+    """L+R-(pi/2)S-L-(pi/2)R+, formula 8.11, from P2; pieces (t, -pi/2, u, -pi/2, v)."""
     t, ok_t = _fit(_m2(np.arctan2((4.0 - u) * xi - 2.0 * eta, -2.0 * xi + (u - 4.0) * eta)), +1)
     v, ok_v = _fit(_m2(t - phi), +1)
-    return t, u, v, ok & ok_t & ok_v
+    return t, u, v, ok_t & ok_v
 
 
-_BaseFn = Callable[[_Arr, _Arr, _Arr], tuple[_Arr, _Arr, _Arr, NDArray[np.bool_]]]
+# How each family is evaluated: (base, point 1 or 2, backwards reading too, rho condition,
+# rho-only part, rest, rest takes the polar angle (True) or the point (False)).
+_FAMILIES = (
+    ("CSC-LSL", 1, False, None, None, _fam_lsl, True),
+    ("CSC-LSR", 2, False, _cond_lsr, _pre_lsr, _fam_lsr, True),
+    ("CCC", 1, True, _cond_ccc, _pre_ccc, _fam_ccc, True),
+    ("CCCC-a", 2, False, _cond_cccc_a, _pre_cccc_a, _fam_cccc_a, False),
+    ("CCCC-b", 2, False, _cond_cccc_b, _pre_cccc_b, _fam_cccc_b, False),
+    ("CCSC-L", 1, True, _cond_ccsc_l, _pre_ccsc_l, _fam_ccsc_l, True),
+    ("CCSC-R", 2, True, _cond_ccsc_r, _pre_ccsc_r, _fam_ccsc_r, True),
+    ("CCSCC", 2, False, _cond_ccscc, _pre_ccscc, _fam_ccscc, False),
+)
 
-# Each family representative: formula, letters, pieces as (source, factor) with source one of
+
+# Each family representative: letters, pieces as (source, factor) with source one of
 # "t", "u", "v" or "c" (a constant factor), the sign each of t, u, v is held to (0 = free),
 # and whether the backwards reading is a different word.
-_BASES: dict[str, tuple[_BaseFn, str, tuple[tuple[str, float], ...], tuple[int, int, int],
-                        bool]] = {
-    "CSC-LSL": (_lp_sp_lp, "LSL", (("t", 1), ("u", 1), ("v", 1)), (1, 1, 1), False),
-    "CSC-LSR": (_lp_sp_rp, "LSR", (("t", 1), ("u", 1), ("v", 1)), (1, 1, 1), False),
-    "CCC": (_lp_rm_l, "LRL", (("t", 1), ("u", 1), ("v", 1)), (1, -1, 0), True),
-    "CCCC-a": (_lp_rup_lum_rm, "LRLR", (("t", 1), ("u", 1), ("u", -1), ("v", 1)),
-               (1, 1, -1), False),
-    "CCCC-b": (_lp_rum_lum_rp, "LRLR", (("t", 1), ("u", 1), ("u", 1), ("v", 1)),
-               (1, -1, 1), False),
-    "CCSC-L": (_lp_rm_sm_lm, "LRSL", (("t", 1), ("c", -HALF_PI), ("u", 1), ("v", 1)),
-               (1, -1, -1), True),
-    "CCSC-R": (_lp_rm_sm_rm, "LRSR", (("t", 1), ("c", -HALF_PI), ("u", 1), ("v", 1)),
-               (1, -1, -1), True),
-    "CCSCC": (_lp_rm_slm_rp, "LRSLR",
-              (("t", 1), ("c", -HALF_PI), ("u", 1), ("c", -HALF_PI), ("v", 1)),
+_BASES: dict[str, tuple[str, tuple[tuple[str, float], ...], tuple[int, int, int], bool]] = {
+    "CSC-LSL": ("LSL", (("t", 1), ("u", 1), ("v", 1)), (1, 1, 1), False),
+    "CSC-LSR": ("LSR", (("t", 1), ("u", 1), ("v", 1)), (1, 1, 1), False),
+    "CCC": ("LRL", (("t", 1), ("u", 1), ("v", 1)), (1, -1, 0), True),
+    "CCCC-a": ("LRLR", (("t", 1), ("u", 1), ("u", -1), ("v", 1)), (1, 1, -1), False),
+    "CCCC-b": ("LRLR", (("t", 1), ("u", 1), ("u", 1), ("v", 1)), (1, -1, 1), False),
+    "CCSC-L": ("LRSL", (("t", 1), ("c", -HALF_PI), ("u", 1), ("v", 1)), (1, -1, -1), True),
+    "CCSC-R": ("LRSR", (("t", 1), ("c", -HALF_PI), ("u", 1), ("v", 1)), (1, -1, -1), True),
+    "CCSCC": ("LRSLR", (("t", 1), ("c", -HALF_PI), ("u", 1), ("c", -HALF_PI), ("v", 1)),
               (1, -1, 1), False),
 }
 # (time-flip, reflect) in the order the paper lists the symmetries.
@@ -224,7 +285,7 @@ class _Word:
 
 def _make_words() -> tuple[_Word, ...]:
     words = []
-    for key, (_, letters, pieces, signs, has_back) in _BASES.items():
+    for key, (letters, pieces, signs, has_back) in _BASES.items():
         sign_of = {"t": signs[0], "u": signs[1], "v": signs[2]}
         for backwards in (False, True) if has_back else (False,):
             pcs = tuple(reversed(pieces)) if backwards else pieces
@@ -292,30 +353,102 @@ class ReedsSheppBatch:
         return n
 
 
-def _evaluate(x: _Arr, y: _Arr, phi: _Arr) -> tuple[_Arr, _Arr]:
-    """Normalised signed pieces ``(W, N, 5)`` and lengths ``(W, N)`` (inf where infeasible)."""
-    n = x.shape[0]
-    cphi, sphi = np.cos(phi), np.sin(phi)
-    xb = x * cphi + y * sphi
-    yb = x * sphi - y * cphi
-    cache: dict[tuple[str, bool, bool, bool], tuple[_Arr, _Arr, _Arr, NDArray[np.bool_]]] = {}
-    pieces = np.zeros((len(_WORDS), n, MAX_PIECES))
-    lengths = np.full((len(_WORDS), n), np.inf)
+_SRC = {"t": 0, "u": 1, "v": 2, "c": 3}
+
+
+def _piece_matrix() -> tuple[NDArray[np.float64], NDArray[np.float64]]:
+    """Per word: signed pieces from (t, u, v, 1), shape (W, 5, 4); length weights (W, 4)."""
+    m = np.zeros((len(_WORDS), MAX_PIECES, 4))
     for k, w in enumerate(_WORDS):
-        gx, gy = (xb, yb) if w.backwards else (x, y)
-        gx = -gx if w.timeflip else gx
-        gy = -gy if w.reflect else gy
-        gphi = -phi if w.timeflip != w.reflect else phi
-        ck = (w.base, w.backwards, w.timeflip, w.reflect)
-        if ck not in cache:
-            cache[ck] = _BASES[w.base][0](gx, gy, gphi)
-        t, u, v, ok = cache[ck]
-        src = {"t": t, "u": u, "v": v}
         flip = -1.0 if w.timeflip else 1.0
-        for j, (s, f) in enumerate(w.pieces):
-            pieces[k, :, j] = flip * (f if s == "c" else f * src[s])
-        lengths[k] = np.where(ok, np.abs(pieces[k]).sum(axis=1), np.inf)
-    return pieces, lengths
+        for j, (src, f) in enumerate(w.pieces):
+            m[k, j, _SRC[src]] = flip * f
+    return m, np.abs(m).sum(axis=1)
+
+
+_PIECES, _WEIGHTS = _piece_matrix()
+_INDEX = {(w.base, w.backwards, w.timeflip, w.reflect): k for k, w in enumerate(_WORDS)}
+# _evaluate sums lengths as |t| + w_u |u| + |v| + constant.
+assert np.all(_WEIGHTS[:, 0] == 1.0) and np.all(_WEIGHTS[:, 2] == 1.0)
+
+
+def _take(a: object, idx: NDArray[np.int64] | None) -> object:
+    if idx is None:
+        return a
+    if isinstance(a, tuple):
+        return tuple(p[idx] for p in a)
+    return a[idx]
+
+
+def _evaluate(x: _Arr, y: _Arr, phi: _Arr) -> tuple[_Arr, _Arr, _Arr, _Arr, NDArray[np.int64]]:
+    """Shortest word per normalised goal: its ``t``, ``u``, ``v``, length and word index.
+
+    Words are compared as they are evaluated, keeping only the best so far, and each family
+    is evaluated only on the goals its rho condition admits (most goals a few radii away
+    rule out CCC and CCCC at once, as the paper's formulas do).
+    """
+    n = x.shape[0]
+    best = np.full(n, np.inf)
+    bt, bu, bv = np.zeros(n), np.zeros(n), np.zeros(n)
+    bw = np.zeros(n, dtype=np.int64)
+    s, c = np.sin(phi), np.cos(phi)
+    xb = x * c + y * s
+    yb = x * s - y * c
+
+    def put(k: int, res: _Res, idx: NDArray[np.int64] | None) -> None:
+        t, u, v, ok = res
+        w = _WEIGHTS[k]
+        total = np.abs(t)  # t and v have weight 1 in every word (asserted below)
+        if w[1] == 1.0:
+            total += np.abs(u)
+        elif w[1]:
+            total += w[1] * np.abs(u)
+        total += np.abs(v)
+        total += w[3]
+        if idx is None:
+            better = ok & (total < best)
+            np.copyto(best, total, where=better)
+            np.copyto(bt, t, where=better)
+            np.copyto(bu, u, where=better)
+            np.copyto(bv, v, where=better)
+            bw[better] = k
+        else:
+            better = ok & (total < best[idx])
+            sel = idx[better]
+            best[sel] = total[better]
+            bt[sel], bu[sel], bv[sel] = t[better], u[better], v[better]
+            bw[sel] = k
+
+    for backwards, gx, gy in ((False, x, y), (True, xb, yb)):
+        for rf in (False, True):
+            # Reflection: (x, y, phi) -> (x, -y, -phi).
+            ry, rsin, rphi = (-gy, -s, -phi) if rf else (gy, s, phi)
+            pts = {}
+            for p, xi, eta in ((1, gx - rsin, ry - 1.0 + c), (2, gx + rsin, ry - 1.0 - c)):
+                th = np.arctan2(eta, xi)
+                pts[p] = (xi, eta, np.sqrt(xi * xi + eta * eta), th, _m2(PI - th))
+            for base, p, back_too, cond, pre_fn, fam, by_angle in _FAMILIES:
+                if backwards and not back_too:
+                    continue
+                xi, eta, rho, th, th_flip = pts[p]
+                idx = None
+                if cond is not None:
+                    ok = cond(rho)
+                    if not ok.all():
+                        idx = np.flatnonzero(ok)
+                        if idx.size == 0:
+                            continue
+                rho_s = _take(rho, idx)
+                pre = rho_s if pre_fn is None else pre_fn(rho_s)
+                for tf in (False, True):
+                    # Time-flip: (x, y, phi) -> (-x, y, -phi); P -> (-Px, Py).
+                    ph = _take(-rphi if tf else rphi, idx)
+                    if by_angle:
+                        res = fam(pre, _take(th_flip if tf else th, idx), ph)
+                    else:
+                        res = fam(pre, _take(-xi if tf else xi, idx), _take(eta, idx), ph)
+                    put(_INDEX[(base, backwards, tf, rf)], res, idx)
+    return bt, bu, bv, best, bw
 
 
 def shortest(starts: ArrayLike, goals: ArrayLike, radius_m: ArrayLike) -> ReedsSheppBatch:
@@ -345,15 +478,22 @@ def shortest(starts: ArrayLike, goals: ArrayLike, radius_m: ArrayLike) -> ReedsS
     """
     p0, p1, r = _check_inputs(starts, goals, radius_m, "<reeds_shepp.shortest>")
     x, y, phi = normalised_goal(p0, p1, r)
-    pieces, lengths = _evaluate(x, y, phi)
+    n = x.shape[0]
+    t, u, v = np.empty(n), np.empty(n), np.empty(n)
+    length, word = np.empty(n), np.empty(n, dtype=np.int64)
+    # Blocks small enough for the evaluation's temporaries to stay in cache.
+    for i in range(0, n, _BLOCK):
+        b = slice(i, i + _BLOCK)
+        t[b], u[b], v[b], length[b], word[b] = _evaluate(x[b], y[b], phi[b])
+    params = np.empty((n, MAX_PIECES))
+    for j in range(MAX_PIECES):
+        m = _PIECES[:, j]
+        params[:, j] = m[word, 0] * t + m[word, 1] * u + m[word, 2] * v + m[word, 3]
     same = same_pose(x, y, phi)
-    lengths[:, same] = np.inf
-    lengths[0, same] = 0.0
-    pieces[:, same] = 0.0
-    word = np.argmin(lengths, axis=0)
-    idx = np.arange(x.shape[0])
-    return ReedsSheppBatch(length_m=lengths[word, idx] * r, word=word.astype(np.int64),
-                           params=pieces[word, idx] * r[:, None], radius_m=r)
+    if same.any():
+        word[same], length[same], params[same] = 0, 0.0, 0.0
+    return ReedsSheppBatch(length_m=length * r, word=word.astype(np.int64),
+                           params=params * r[:, None], radius_m=r)
 
 
 def batch_segments(batch: ReedsSheppBatch, starts: ArrayLike, i: int) -> list[Segment]:
