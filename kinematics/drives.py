@@ -121,7 +121,8 @@ class DriveModel:
     holonomic : bool
         True if the drive can move sideways (``vy != 0``).
     can_pivot : bool
-        True if the drive can turn on the spot.
+        True if the drive can turn on the spot (a differential chassis with a stated
+        ``min_turn_radius_m > 0`` cannot).
     min_turn_radius_m : float
         Least turn radius of the reference point (0 for a drive that pivots freely).
     wheel_radius_m : float
@@ -219,6 +220,9 @@ class DifferentialDrive(DriveModel):
         self.track_m = float(track_m)
         self.effective_track_m = float(effective_track_factor) * self.track_m
         self.min_turn_radius_m = float(min_turn_radius_m)
+        # A stated least radius (a tracked chassis that must not scrub, a tall load) rules
+        # out the radius-0 turn too.
+        self.can_pivot = self.min_turn_radius_m == 0.0
 
     def inverse(self, vx, vy, omega, hold_angles=None) -> WheelCommands:
         vx, omega = np.broadcast_arrays(np.asarray(vx, float), np.asarray(omega, float))

@@ -242,8 +242,8 @@ def test_factory_flags_and_names():
         assert d.holonomic is holo and d.can_pivot is pivot
         assert set(d.steered_wheels) <= set(d.wheel_names)
     assert drive_for(CHASSIS["differential"]).min_turn_radius_m == 0.0
-    assert drive_for(Chassis(drive="differential", track_m=0.5,
-                             min_turn_radius_m=0.7)).min_turn_radius_m == 0.7
+    stiff = drive_for(Chassis(drive="differential", track_m=0.5, min_turn_radius_m=0.7))
+    assert stiff.min_turn_radius_m == 0.7 and stiff.can_pivot is False
 
 
 @pytest.mark.parametrize("drive,missing", [("bicycle", "wheelbase_m"),
