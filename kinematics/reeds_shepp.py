@@ -423,14 +423,15 @@ def _evaluate(x: _Arr, y: _Arr, phi: _Arr) -> tuple[_Arr, _Arr, _Arr, _Arr, NDAr
         for rf in (False, True):
             # Reflection: (x, y, phi) -> (x, -y, -phi).
             ry, rsin, rphi = (-gy, -s, -phi) if rf else (gy, s, phi)
+            phis = (rphi, -rphi)
             pts = {}
             for p, xi, eta in ((1, gx - rsin, ry - 1.0 + c), (2, gx + rsin, ry - 1.0 - c)):
                 th = np.arctan2(eta, xi)
-                pts[p] = (xi, eta, np.sqrt(xi * xi + eta * eta), th, _m2(PI - th))
+                pts[p] = ((xi, -xi), eta, np.sqrt(xi * xi + eta * eta), (th, _m2(PI - th)))
             for base, p, back_too, cond, pre_fn, fam, by_angle in _FAMILIES:
                 if backwards and not back_too:
                     continue
-                xi, eta, rho, th, th_flip = pts[p]
+                xis, eta, rho, ths = pts[p]
                 idx = None
                 if cond is not None:
                     ok = cond(rho)
@@ -442,11 +443,11 @@ def _evaluate(x: _Arr, y: _Arr, phi: _Arr) -> tuple[_Arr, _Arr, _Arr, _Arr, NDAr
                 pre = rho_s if pre_fn is None else pre_fn(rho_s)
                 for tf in (False, True):
                     # Time-flip: (x, y, phi) -> (-x, y, -phi); P -> (-Px, Py).
-                    ph = _take(-rphi if tf else rphi, idx)
+                    ph = _take(phis[tf], idx)
                     if by_angle:
-                        res = fam(pre, _take(th_flip if tf else th, idx), ph)
+                        res = fam(pre, _take(ths[tf], idx), ph)
                     else:
-                        res = fam(pre, _take(-xi if tf else xi, idx), _take(eta, idx), ph)
+                        res = fam(pre, _take(xis[tf], idx), _take(eta, idx), ph)
                     put(_INDEX[(base, backwards, tf, rf)], res, idx)
     return bt, bu, bv, best, bw
 
