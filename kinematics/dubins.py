@@ -110,7 +110,20 @@ def _check_inputs(starts: ArrayLike, goals: ArrayLike, radius_m: ArrayLike, wher
 def normalised_goal(starts: NDArray[np.float64], goals: NDArray[np.float64],
                     radius_m: NDArray[np.float64]
                     ) -> tuple[NDArray[np.float64], NDArray[np.float64], NDArray[np.float64]]:
-    """Goal in the start's frame scaled to unit radius: ``(x, y, phi)``, each shape ``(N,)``."""
+    """Goal in the start's frame scaled to unit radius.
+
+    Parameters
+    ----------
+    starts, goals : ndarray, shape (N, 3)
+        Poses ``(x_m, y_m, heading_rad)``.
+    radius_m : ndarray, shape (N,)
+        Turn radius per pair.
+
+    Returns
+    -------
+    x, y, phi : ndarray, shape (N,)
+        Goal position in start-frame radii and heading change in radians (not wrapped).
+    """
     dx = goals[:, 0] - starts[:, 0]
     dy = goals[:, 1] - starts[:, 1]
     c, s = np.cos(starts[:, 2]), np.sin(starts[:, 2])
@@ -121,7 +134,18 @@ def normalised_goal(starts: NDArray[np.float64], goals: NDArray[np.float64],
 
 def same_pose(x: NDArray[np.float64], y: NDArray[np.float64],
               phi: NDArray[np.float64]) -> NDArray[np.bool_]:
-    """Where a normalised goal coincides with the start up to rounding."""
+    """Where a normalised goal coincides with the start up to rounding.
+
+    Parameters
+    ----------
+    x, y, phi : ndarray, shape (N,)
+        A goal from :func:`normalised_goal`.
+
+    Returns
+    -------
+    ndarray of bool, shape (N,)
+        True where position and heading (mod 2 pi) agree within 1e-12.
+    """
     near = (np.abs(x) < _SAME_POSE) & (np.abs(y) < _SAME_POSE)
     if near.any():
         near &= np.abs(phi - TWO_PI * np.round(phi / TWO_PI)) < _SAME_POSE
@@ -267,6 +291,27 @@ def pieces_to_segments(start: Sequence[float], letters: str, signed_lengths_m: S
     A negative length drives that piece in reverse. The steering letter fixes the curvature
     sign: ``L`` has curvature ``+1/r`` (centre on the left whichever way the body moves), so a
     reverse ``L`` turns the heading clockwise. Pieces shorter than 1e-12 m are dropped.
+
+    Parameters
+    ----------
+    start : sequence of float
+        Start pose ``(x_m, y_m, heading_rad)``.
+    letters : str
+        One of ``L``, ``R``, ``S`` per piece.
+    signed_lengths_m : sequence of float
+        Signed length of each piece in metres (extra entries past ``letters`` are ignored).
+    radius_m : float
+        Arc radius in metres.
+
+    Returns
+    -------
+    list of Segment
+
+    Examples
+    --------
+    >>> segs = pieces_to_segments((0, 0, 0), "LS", (np.pi / 2, -1.0), 1.0)
+    >>> [(s.kind, s.direction) for s in segs], (np.round(segs[-1].end, 9) + 0.0).tolist()
+    ([('arc', 1), ('line', -1)], [1.0, 0.0, 1.570796327])
     """
     segs: list[Segment] = []
     pose = tuple(float(v) for v in start)
@@ -286,7 +331,22 @@ def pieces_to_segments(start: Sequence[float], letters: str, signed_lengths_m: S
 
 
 def batch_segments(batch: DubinsBatch, starts: ArrayLike, i: int) -> list[Segment]:
-    """Segments of pair ``i`` of a batch, starting at ``starts[i]``."""
+    """Segments of pair ``i`` of a batch, starting at ``starts[i]``.
+
+    Parameters
+    ----------
+    batch : DubinsBatch
+        The result of :func:`shortest`.
+    starts : array_like, shape (N, 3)
+        The starts the batch was computed from.
+    i : int
+        Which pair.
+
+    Returns
+    -------
+    list of Segment
+        As :func:`path_segments` returns for that pair.
+    """
     p0 = np.atleast_2d(np.asarray(starts, dtype=float))
     return pieces_to_segments(p0[i], WORDS[int(batch.word[i])], batch.params[i],
                               float(batch.radius_m[i]))

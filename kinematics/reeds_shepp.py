@@ -498,7 +498,22 @@ def shortest(starts: ArrayLike, goals: ArrayLike, radius_m: ArrayLike) -> ReedsS
 
 
 def batch_segments(batch: ReedsSheppBatch, starts: ArrayLike, i: int) -> list[Segment]:
-    """Segments of pair ``i`` of a batch, starting at ``starts[i]``."""
+    """Segments of pair ``i`` of a batch, starting at ``starts[i]``.
+
+    Parameters
+    ----------
+    batch : ReedsSheppBatch
+        The result of :func:`shortest`.
+    starts : array_like, shape (N, 3)
+        The starts the batch was computed from.
+    i : int
+        Which pair.
+
+    Returns
+    -------
+    list of Segment
+        As :func:`path_segments` returns for that pair.
+    """
     p0 = np.atleast_2d(np.asarray(starts, dtype=float))
     return pieces_to_segments(p0[i], LETTERS[int(batch.word[i])], batch.params[i],
                               float(batch.radius_m[i]))
