@@ -5,6 +5,7 @@ from __future__ import annotations
 import json
 import math
 import os
+import re
 import tempfile
 from pathlib import Path
 from typing import Any
@@ -35,6 +36,20 @@ def _refuse_constant(name: str) -> Any:
     raise ValueError(f"{name} is not allowed; expected a finite number")
 
 
+# A JSON string, or one of the non-JSON constants Python's json module would accept.
+_CONSTANT = re.compile(r'"(?:[^"\\]|\\.)*"|(-?Infinity|NaN)')
+
+
+def _where_constant(text: str) -> str:
+    """Line and column of the first NaN / Infinity literal outside a string, or ``""``."""
+    for m in _CONSTANT.finditer(text):
+        if m.group(1):
+            line = text.count("\n", 0, m.start()) + 1
+            col = m.start() - (text.rfind("\n", 0, m.start()) + 1) + 1
+            return f"line {line}, column {col}"
+    return ""
+
+
 def parse_json(text: str, file: str = "<text>") -> Any:
     """Parse JSON text; errors name ``file`` and the line and column."""
     try:
@@ -43,7 +58,7 @@ def parse_json(text: str, file: str = "<text>") -> Any:
         raise FileReadError(file, f"line {exc.lineno}, column {exc.colno}",
                             f"invalid JSON ({exc.msg})") from None
     except ValueError as exc:
-        raise FileReadError(file, "", str(exc)) from None
+        raise FileReadError(file, _where_constant(text), str(exc)) from None
     except RecursionError:
         raise FileReadError(file, "", "JSON nested too deeply") from None
 
