@@ -1,0 +1,523 @@
+"""Route planner: sketched waypoints to drivable line, arc and pivot segments.
+
+The path a chassis can follow between the user's waypoints depends on its drive:
+
+- ``differential`` (also tracked, skid-steer) with ``turn_radius_m`` 0: straight legs joined by
+  pivots on the spot, each the signed smallest turn. A heading given at a waypoint is met with a
+  pivot there. With ``reverse`` on, a leg is driven backwards where that needs the smaller pivot.
+- ``differential`` with ``turn_radius_m`` R > 0: each corner without a heading is a tangent arc
+  of radius R inside the corner (line-arc-line, :mod:`kinematics.fillet`), so the route cuts the
+  corner. A waypoint with a heading is passed exactly with that heading: the legs on either
+  side become a Dubins connection (Reeds-Shepp with ``reverse`` on) between the pose where the
+  neighbouring fillet ends and the waypoint's pose. Where two fillets do not fit on one leg, or
+  a corner turns straight back (no arc turns 180 degrees at a point), the corner with the longer
+  tangent is drawn as a pivot on the spot and an ``infeasible`` issue names the waypoint and
+  the shortfall. With ``"allow_smaller_radius": true`` in the route's extra keys the crowded
+  fillets are shrunk instead (in proportion on each crowded leg) and a note says so; a
+  reversal still becomes a pivot with an ``infeasible`` issue.
+- ``bicycle``, ``ackermann``: never pivot. Every waypoint becomes a pose: its given heading,
+  or one a driver would choose (the bisector of the adjacent legs inside the route, the leg
+  direction at its first and last waypoint; straight on where the route turns straight back),
+  recorded in ``chosen_headings``. Consecutive poses are joined by the shortest Dubins path
+  (Dubins 1957), or the shortest Reeds-Shepp path (Reeds & Shepp 1990) with ``reverse`` on,
+  of radius ``max(turn_radius_m, chassis minimum)``.
+- ``mecanum``, ``swerve``: straight lines between waypoints; the body heading is held, or turns
+  linearly with distance the shorter way round to meet the next waypoint's given heading.
+
+``turn_radius_m`` below the chassis minimum is raised to the minimum with a ``turn_radius``
+issue; 0 means "not set" and quietly takes the minimum (a note says so). Consecutive
+duplicate waypoints are merged (a note says so). Every segment is built from the end pose of
+the one before, so joints are continuous to rounding, and the route ends at the last waypoint.
+Waypoint indices in issues and ``chosen_headings`` are those of the route as given.
+"""
+
+from __future__ import annotations
+
+import math
+from collections.abc import Sequence
+from dataclasses import dataclass, field
+
+import numpy as np
+
+from . import dubins, reeds_shepp
+from .errors import ValidationError
+from .fillet import (
+    STRAIGHT_TOL_RAD,
+    ZERO_LENGTH_M,
+    corner_segment,
+    deflections,
+    fit_radii,
+    layout_fillets,
+    leg_geometry,
+)
+from .project import DRIVE_ALIASES, Chassis, Project, Route
+from .segments import Segment, holonomic_line, line, path_length, pivot
+
+#: Consecutive waypoints closer than this (metres) are the same point.
+DUPLICATE_TOL_M = 1e-6
+#: A heading within this of a leg direction drives straight along the leg.
+ALIGN_TOL_RAD = 1e-12
+#: Shrunk fillets below this radius (metres) are drawn as pivots instead.
+SMALLEST_FILLET_M = 1e-6
+#: Relative slack of the turn radius check (rounding of ``length / turn``).
+RADIUS_REL_TOL = 1e-9
+
+ISSUE_KINDS = ("infeasible", "turn_radius")
+_STEERED = ("bicycle", "ackermann")
+_HOLONOMIC = ("mecanum", "swerve")
+Pose = tuple[float, float, float]
+_REVERSAL = "the route turns straight back here and no arc turns 180 degrees at a point"
+
+
+@dataclass(frozen=True)
+class PlanIssue:
+    """Something about a route that cannot be driven as sketched.
+
+    Attributes
+    ----------
+    kind : {"infeasible", "turn_radius"}
+    message : str
+    waypoint : int or None
+        Index of the waypoint in the route as given.
+    segment : int or None
+        Index of the segment drawn there.
+    x, y : float
+        Where, plan frame, metres.
+    amount_m : float
+        How far short: the missing leg length or the missing radius, metres.
+    """
+
+    kind: str
+    message: str
+    waypoint: int | None
+    segment: int | None
+    x: float
+    y: float
+    amount_m: float
+
+    def to_dict(self) -> dict:
+        return {"kind": self.kind, "message": self.message, "waypoint": self.waypoint,
+                "segment": self.segment, "x": self.x, "y": self.y, "amount_m": self.amount_m}
+
+
+@dataclass(frozen=True)
+class RoutePlan:
+    """The drivable segments of one route, with what could not be met.
+
+    Attributes
+    ----------
+    name, drive : str
+    segments : tuple of Segment
+        Continuous: each starts where the previous ends.
+    issues : tuple of PlanIssue
+    chosen_headings : dict of int to float
+        Waypoint index -> heading (degrees, in (-180, 180]) the planner chose where the user
+        gave none: start and end of every route, every waypoint of a steered or holonomic one.
+    notes : tuple of str
+        Harmless changes the planner made (merged duplicates, shrunk fillets, radius taken).
+    turn_radius_m : float
+        The radius the route turns with (0: pivots).
+    start : tuple of float
+        Start pose ``(x_m, y_m, heading_rad)``; where the route is when it has no segments.
+    """
+
+    name: str
+    drive: str
+    segments: tuple[Segment, ...]
+    issues: tuple[PlanIssue, ...] = ()
+    chosen_headings: dict[int, float] = field(default_factory=dict)
+    notes: tuple[str, ...] = ()
+    turn_radius_m: float = 0.0
+    start: Pose = (0.0, 0.0, 0.0)
+
+    @property
+    def length_m(self) -> float:
+        """Sum of the segment lengths, m."""
+        return path_length(self.segments)
+
+    def to_dict(self) -> dict:
+        """The contract's ``plan --json`` route object, plus issues, chosen headings, notes."""
+        return {
+            "name": self.name,
+            "drive": self.drive,
+            "length_m": self.length_m,
+            "turn_radius_m": self.turn_radius_m,
+            "segments": [s.to_dict() for s in self.segments],
+            "issues": [i.to_dict() for i in self.issues],
+            "chosen_headings": [{"waypoint": k, "heading_deg": v}
+                                for k, v in sorted(self.chosen_headings.items())],
+            "notes": list(self.notes),
+        }
+
+
+# -- drive limits ---------------------------------------------------------------------------
+def _drive_limits(chassis: Chassis) -> tuple[str, float, bool]:
+    """Drive name, minimum turn radius (m) and whether it may pivot on the spot."""
+    drive = DRIVE_ALIASES.get(chassis.drive, chassis.drive)
+    floor = float(chassis.min_turn_radius_m or 0.0)
+    if drive in _STEERED:
+        r = floor
+        if chassis.wheelbase_m and chassis.max_steer_deg:
+            # Bicycle model: the rear-axle midpoint turns on R = wheelbase / tan(steer).
+            r = max(r, chassis.wheelbase_m / math.tan(math.radians(chassis.max_steer_deg)))
+        if not r > 0.0:
+            raise ValidationError(chassis.name, "chassis.max_steer_deg",
+                                  f"a {drive} chassis needs wheelbase_m and max_steer_deg "
+                                  "(or min_turn_radius_m) to give a minimum turn radius")
+        return drive, r, False
+    if drive in _HOLONOMIC:
+        return drive, floor, True
+    return drive, floor, floor == 0.0
+
+
+# -- the builder ----------------------------------------------------------------------------
+def _wrap_deg(rad: float) -> float:
+    """Degrees in (-180, 180]; a rounding error past -180 is 180."""
+    d = math.degrees(math.remainder(rad, 2.0 * math.pi))
+    return d + 360.0 if d <= -180.0 + 1e-9 else d
+
+
+def _turn_to(frm: float, to: float) -> float:
+    """Signed smallest turn from heading ``frm`` to ``to``, in [-pi, pi]."""
+    return math.remainder(to - frm, 2.0 * math.pi)
+
+
+class _Builder:
+    """Collects segments, issues, notes and chosen headings while a route is built.
+
+    ``spin_radius_m`` says how several headings given at one point are met: 0 with pivots on
+    the spot, > 0 with Dubins / Reeds-Shepp loops back to the same point.
+    """
+
+    def __init__(self, route: Route, start: Pose, spin_radius_m: float = 0.0) -> None:
+        self.route = route
+        self.segs: list[Segment] = []
+        self.issues: list[PlanIssue] = []
+        self.notes: list[str] = []
+        self.chosen: dict[int, float] = {}
+        self.start = start
+        self.spin_radius_m = spin_radius_m
+
+    @property
+    def pose(self) -> Pose:
+        return self.segs[-1].end if self.segs else self.start
+
+    def add(self, seg: Segment | None) -> int | None:
+        if seg is None:
+            return None
+        self.segs.append(seg)
+        return len(self.segs) - 1
+
+    def turn(self, to_heading: float) -> int | None:
+        """Pivot from the current heading to ``to_heading`` the short way (none if aligned)."""
+        t = _turn_to(self.pose[2], to_heading)
+        return self.add(pivot(self.pose, t) if abs(t) >= STRAIGHT_TOL_RAD else None)
+
+    def straight(self, length_m: float, direction: int = 1) -> None:
+        if length_m > ZERO_LENGTH_M:
+            self.add(line(self.pose, length_m, direction))
+
+    def connect(self, goal: Pose, radius_m: float, reverse: bool) -> None:
+        """Shortest bounded-curvature path from the current pose to ``goal``."""
+        mod = reeds_shepp if reverse else dubins
+        self.segs.extend(mod.path_segments(self.pose, goal, radius_m))
+
+    def spin(self, xy: Sequence[float], headings: Sequence[float]) -> None:
+        """Meet each heading in turn at the point ``xy`` where the route now is."""
+        for h in headings:
+            if self.spin_radius_m > 0.0:
+                self.connect((float(xy[0]), float(xy[1]), h), self.spin_radius_m,
+                             self.route.reverse)
+            else:
+                self.turn(h)
+
+    def issue(self, kind: str, message: str, waypoint: int | None, segment: int | None,
+              xy: Sequence[float], amount_m: float) -> None:
+        self.issues.append(PlanIssue(kind, message, waypoint, segment, float(xy[0]),
+                                     float(xy[1]), float(amount_m)))
+
+
+@dataclass
+class _Points:
+    """Distinct consecutive waypoints.
+
+    ``headings[k]`` lists the headings (rad) given at point ``k`` in order: one for a plain
+    waypoint with a heading, several where repeated waypoints give different ones, none where
+    the user gave none. ``index[k]`` is the first original waypoint index of point ``k``.
+    """
+
+    xy: np.ndarray
+    headings: list[list[float]]
+    index: list[int]
+
+    def arrive(self, k: int) -> float | None:
+        return self.headings[k][0] if self.headings[k] else None
+
+    def leave(self, k: int) -> float | None:
+        return self.headings[k][-1] if self.headings[k] else None
+
+
+def _distinct_points(route: Route, notes: list[str]) -> _Points:
+    wps = route.waypoints
+    if not wps:
+        raise ValidationError(route.name, "waypoints", "at least one waypoint")
+    for i, w in enumerate(wps):
+        vals = (w.x, w.y) + (() if w.heading_deg is None else (w.heading_deg,))
+        if not all(math.isfinite(float(v)) for v in vals):
+            raise ValidationError(route.name, f"waypoints[{i}]",
+                                  "finite x, y and heading_deg (no NaN or infinity)")
+    groups: list[list[int]] = [[0]]
+    for i in range(1, len(wps)):
+        a = wps[groups[-1][0]]
+        if math.hypot(wps[i].x - a.x, wps[i].y - a.y) < DUPLICATE_TOL_M:
+            groups[-1].append(i)
+        else:
+            groups.append([i])
+    xy, headings, index = [], [], []
+    for g in groups:
+        if len(g) > 1:
+            dropped = ", ".join(str(i) for i in g[1:])
+            notes.append(f"waypoint(s) {dropped} repeat waypoint {g[0]} and were merged")
+        xy.append((wps[g[0]].x, wps[g[0]].y))
+        headings.append([math.radians(wps[i].heading_deg) for i in g
+                         if wps[i].heading_deg is not None])
+        index.append(g[0])
+    return _Points(np.array(xy, dtype=float), headings, index)
+
+
+def _radius(route: Route, min_r: float, pts: _Points, b: _Builder, drive: str) -> float:
+    """The radius the route turns with, raised to the chassis minimum where needed."""
+    asked = float(route.turn_radius_m or 0.0)
+    if asked >= min_r * (1.0 - RADIUS_REL_TOL):
+        return max(asked, min_r) if asked > 0.0 else asked
+    if asked <= 0.0:
+        b.notes.append(f"turn_radius_m not set: using the chassis minimum {min_r:.4g} m")
+        return min_r
+    b.issue("turn_radius", f"route asks for turn radius {asked:.4g} m but the {drive} chassis "
+            f"turns no tighter than {min_r:.4g} m; planned with {min_r:.4g} m",
+            None, None, pts.xy[0], min_r - asked)
+    return min_r
+
+
+# -- per drive ------------------------------------------------------------------------------
+def _plan_pivoting(pts: _Points, b: _Builder, reverse: bool) -> None:
+    """Straight legs joined by pivots on the spot (differential, radius 0)."""
+    head, leg = leg_geometry(pts.xy)
+    b.spin(pts.xy[0], pts.headings[0][1:])
+    for i in range(leg.size):
+        target, direction = float(head[i]), 1
+        if reverse:
+            back = target + math.pi
+            if abs(_turn_to(b.pose[2], back)) < abs(_turn_to(b.pose[2], target)) - 1e-12:
+                target, direction = back, -1
+        b.turn(target)
+        b.straight(float(leg[i]), direction)
+        b.spin(pts.xy[i + 1], pts.headings[i + 1])
+
+
+def _plan_holonomic(pts: _Points, b: _Builder) -> None:
+    """Straight moves; the body heading held or turned linearly to the next given heading."""
+    n = len(pts.index)
+    b.spin(pts.xy[0], pts.headings[0][1:])
+    for i in range(1, n):
+        given = pts.arrive(i)
+        turn = 0.0 if given is None else _turn_to(b.pose[2], given)
+        b.add(holonomic_line(b.pose, pts.xy[i], turn))
+        b.spin(pts.xy[i], pts.headings[i][1:])
+        if given is None and i < n - 1:
+            b.chosen[pts.index[i]] = _wrap_deg(b.pose[2])
+
+
+def _driver_headings(pts: _Points) -> list[float | None]:
+    """Headings a driver would take where none is given: the bisector of the adjacent legs
+    inside the route, the leg direction at its ends; ``None`` where the user gave one."""
+    head, _ = leg_geometry(pts.xy)
+    n = len(pts.index)
+    out: list[float | None] = []
+    for k in range(n):
+        if pts.headings[k]:
+            out.append(None)
+        elif k == 0:
+            out.append(float(head[0]))
+        elif k == n - 1:
+            out.append(float(head[-1]))
+        else:
+            u = (math.cos(head[k - 1]) + math.cos(head[k]),
+                 math.sin(head[k - 1]) + math.sin(head[k]))
+            # Straight back: no bisector; arrive along the incoming leg.
+            out.append(math.atan2(u[1], u[0]) if math.hypot(*u) > 1e-9 else float(head[k - 1]))
+    return out
+
+
+def _plan_steered(pts: _Points, b: _Builder, radius_m: float, reverse: bool) -> None:
+    """Every waypoint a pose; shortest Dubins / Reeds-Shepp paths between consecutive poses."""
+    chosen = _driver_headings(pts)
+    n = len(pts.index)
+    b.spin(pts.xy[0], pts.headings[0][1:])
+    for k in range(1, n):
+        h = pts.arrive(k)
+        h = chosen[k] if h is None else h
+        b.connect((float(pts.xy[k, 0]), float(pts.xy[k, 1]), h), radius_m, reverse)
+        b.spin(pts.xy[k], pts.headings[k][1:])
+        if chosen[k] is not None and k < n - 1:
+            b.chosen[pts.index[k]] = _wrap_deg(chosen[k])
+
+
+def _fillet_radii(pts: _Points, b: _Builder, radius_m: float, route: Route
+                  ) -> tuple[np.ndarray, dict[int, tuple[str, float]]]:
+    """Radius of each corner's fillet (0: pivot or a heading there) and the failed corners."""
+    xy = pts.xy
+    n = len(pts.index)
+    defl = deflections(xy)
+    # Interior points with a heading are poses, not fillets: radius 0 keeps their tangent 0.
+    radii = np.array([0.0 if pts.headings[k + 1] else radius_m for k in range(n - 2)])
+    is_fillet = (radii > 0.0) & (np.abs(defl) >= STRAIGHT_TOL_RAD)
+    lay = layout_fillets(xy, radii)
+    failed: dict[int, tuple[str, float]] = {}  # corner -> (reason, amount_m)
+    if not lay.fits and route.extra.get("allow_smaller_radius") is True:
+        shrunk = fit_radii(xy, radii)
+        for k in np.flatnonzero(is_fillet & (shrunk < radii)):
+            if shrunk[k] < SMALLEST_FILLET_M:
+                failed[int(k)] = (_REVERSAL if np.isinf(lay.tangent_m[k])
+                                  else "no room for any fillet", radius_m)
+                shrunk[k] = 0.0
+            else:
+                b.notes.append(f"fillet at waypoint {pts.index[k + 1]} drawn with radius "
+                               f"{shrunk[k]:.4g} m (route asks {radius_m:.4g} m): the legs "
+                               "are too short")
+        return shrunk, failed
+    # Otherwise the corner with the longer tangent on the most crowded leg becomes a pivot,
+    # one at a time, until the rest fit.
+    while not lay.fits:
+        worst = max(lay.shortfalls, key=lambda s: s.short_m)
+        k = max(worst.corners, key=lambda c: lay.tangent_m[c - 1]) - 1
+        if np.isinf(lay.tangent_m[k]):
+            failed[k] = (_REVERSAL, radius_m)
+        else:
+            failed[k] = (f"fillets of radius {radius_m:.4g} m do not fit on the leg from "
+                         f"waypoint {pts.index[worst.leg]} to {pts.index[worst.leg + 1]}: "
+                         f"it is {worst.leg_m:.4g} m, they need {worst.need_m:.4g} m",
+                         worst.short_m)
+        radii[k] = 0.0
+        lay = layout_fillets(xy, radii)
+    return radii, failed
+
+
+def _plan_filleted(pts: _Points, b: _Builder, radius_m: float, route: Route) -> None:
+    """Line-arc-line through corners without heading; Dubins / Reeds-Shepp at headed ones."""
+    xy = pts.xy
+    n = len(pts.index)
+    head, leg = leg_geometry(xy)
+    defl = deflections(xy)
+    radii, failed = _fillet_radii(pts, b, radius_m, route)
+    t = layout_fillets(xy, radii).tangent_m
+    # Poses are the route's ends and the points with a heading; ends without one take the
+    # direction of their leg.
+    pose = [k in (0, n - 1) or bool(pts.headings[k]) for k in range(n)]
+    h_in = [pts.arrive(k) for k in range(n)]
+    h_out = [pts.leave(k) for k in range(n)]
+    h_out[0] = h_out[0] if h_out[0] is not None else float(head[0])
+    h_in[-1] = h_in[-1] if h_in[-1] is not None else float(head[-1])
+    b.spin(xy[0], pts.headings[0][1:])
+    for i in range(n - 1):
+        u = (math.cos(head[i]), math.sin(head[i]))
+        t0 = 0.0 if pose[i] else t[i - 1]
+        t1 = 0.0 if pose[i + 1] else t[i]
+        on_leg0 = not pose[i] or abs(_turn_to(h_out[i], head[i])) < ALIGN_TOL_RAD
+        on_leg1 = not pose[i + 1] or abs(_turn_to(h_in[i + 1], head[i])) < ALIGN_TOL_RAD
+        if on_leg0 and on_leg1:
+            b.straight(float(leg[i] - t0 - t1))
+        else:
+            goal_h = h_in[i + 1] if pose[i + 1] else float(head[i])
+            b.connect((float(xy[i + 1, 0] - t1 * u[0]), float(xy[i + 1, 1] - t1 * u[1]),
+                       goal_h), radius_m, route.reverse)
+        if pose[i + 1]:
+            b.spin(xy[i + 1], pts.headings[i + 1][1:])
+            continue
+        seg = b.add(corner_segment(b.pose, float(defl[i]), float(radii[i])))
+        if i in failed:
+            reason, amount = failed[i]
+            w = pts.index[i + 1]
+            b.issue("infeasible", f"waypoint {w}: {reason}; drawn as a pivot on the spot",
+                    w, seg, xy[i + 1], amount)
+
+
+def _check_radii(b: _Builder, min_r: float, can_pivot: bool, drive: str) -> None:
+    """A ``turn_radius`` issue for every arc tighter than the chassis turns, and pivots."""
+    for i, s in enumerate(b.segs):
+        if s.kind == "arc" and s.radius_m is not None and \
+                s.radius_m < min_r * (1.0 - RADIUS_REL_TOL):
+            b.issue("turn_radius", f"segment {i}: arc of radius {s.radius_m:.4g} m is tighter "
+                    f"than the {drive} chassis turns ({min_r:.4g} m)", None, i, s.start,
+                    min_r - s.radius_m)
+        elif s.kind == "pivot" and not can_pivot:
+            b.issue("turn_radius", f"segment {i}: pivot on the spot, but the {drive} chassis "
+                    f"turns no tighter than {min_r:.4g} m", None, i, s.start, min_r)
+
+
+# -- public ---------------------------------------------------------------------------------
+def plan_route(route: Route, chassis: Chassis) -> RoutePlan:
+    """Drivable segments for ``route`` as ``chassis`` can follow them.
+
+    Parameters
+    ----------
+    route : Route
+        Waypoints (a heading where the user fixed one), ``turn_radius_m``, ``reverse``; the
+        extra key ``allow_smaller_radius`` lets crowded fillets shrink.
+    chassis : Chassis
+        Its drive decides the kind of path (see the module docstring).
+
+    Returns
+    -------
+    RoutePlan
+        Segments from the first waypoint to the last, continuous, plus issues and notes.
+
+    Raises
+    ------
+    ValidationError
+        For non-finite waypoints, or a steered chassis without a minimum turn radius.
+
+    Examples
+    --------
+    >>> from kinematics.project import Waypoint
+    >>> r = Route("r", (Waypoint(0, 0), Waypoint(4, 0), Waypoint(4, 3)), 0.0)
+    >>> pl = plan_route(r, Chassis(drive="differential", track_m=0.5))
+    >>> [(s.kind, round(s.length_m, 3), round(math.degrees(s.turn_rad))) for s in pl.segments]
+    [('line', 4.0, 0), ('pivot', 0.0, 90), ('line', 3.0, 0)]
+    """
+    drive, min_r, can_pivot = _drive_limits(chassis)
+    notes: list[str] = []
+    pts = _distinct_points(route, notes)
+    n = len(pts.index)
+    h0 = pts.arrive(0)
+    if h0 is None:
+        h0 = math.atan2(*(pts.xy[1] - pts.xy[0])[::-1]) if n > 1 else 0.0
+    start = (float(pts.xy[0, 0]), float(pts.xy[0, 1]), float(h0))
+    b = _Builder(route, start)
+    b.notes.extend(notes)
+    radius = 0.0 if drive in _HOLONOMIC else _radius(route, min_r, pts, b, drive)
+    b.spin_radius_m = 0.0 if can_pivot else radius
+    if n == 1:
+        b.notes.append("the route has only one distinct point")
+        b.spin(pts.xy[0], pts.headings[0][1:])
+    elif drive in _HOLONOMIC:
+        _plan_holonomic(pts, b)
+    elif drive in _STEERED:
+        _plan_steered(pts, b, radius, route.reverse)
+    elif radius == 0.0:
+        _plan_pivoting(pts, b, route.reverse)
+    else:
+        _plan_filleted(pts, b, radius, route)
+    if not pts.headings[0]:
+        b.chosen[0] = _wrap_deg(start[2])
+    if n > 1 and not pts.headings[-1]:
+        b.chosen[len(route.waypoints) - 1] = _wrap_deg(b.pose[2])
+    _check_radii(b, min_r, can_pivot, drive)
+    return RoutePlan(route.name, drive, tuple(b.segs), tuple(b.issues), dict(b.chosen),
+                     tuple(b.notes), float(radius), start)
+
+
+def plan_project(project: Project) -> list[RoutePlan]:
+    """:func:`plan_route` for every route of ``project`` with its chassis, in order."""
+    return [plan_route(r, project.chassis) for r in project.routes]
+
