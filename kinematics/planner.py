@@ -24,10 +24,15 @@ The path a chassis can follow between the user's waypoints depends on its drive:
 - ``mecanum``, ``swerve``: straight lines between waypoints; the body heading is held, or turns
   linearly with distance the shorter way round to meet the next waypoint's given heading.
 
-``turn_radius_m`` below the chassis minimum is raised to the minimum with a ``turn_radius``
-issue; 0 means "not set" and quietly takes the minimum (a note says so). Consecutive
-duplicate waypoints are merged (a note says so). Every segment is built from the end pose of
-the one before, so joints are continuous to rounding, and the route ends at the last waypoint.
+``turn_radius_m`` below the chassis minimum (from :func:`kinematics.drives.drive_for`) is
+raised to the minimum with a ``turn_radius`` issue; 0 means "not set" and quietly takes the
+minimum (a note says so). A differential chassis with a minimum radius cannot pivot, so it is
+planned with fillets and any pivot left in its route is a ``turn_radius`` issue too.
+Consecutive duplicate waypoints are merged (a note says so); where they give different
+headings each is met in turn on the spot, with pivots where the drive may pivot and with
+Dubins / Reeds-Shepp loops back to the point where it may not. Every segment is built from
+the end pose of the one before, so joints are continuous to rounding, and the route ends at
+the last waypoint.
 Waypoint indices in issues and ``chosen_headings`` are those of the route as given.
 """
 
@@ -40,6 +45,7 @@ from dataclasses import dataclass, field
 import numpy as np
 
 from . import dubins, reeds_shepp
+from .drives import drive_for
 from .errors import ValidationError
 from .fillet import (
     STRAIGHT_TOL_RAD,
@@ -64,7 +70,6 @@ RADIUS_REL_TOL = 1e-9
 
 ISSUE_KINDS = ("infeasible", "turn_radius")
 _STEERED = ("bicycle", "ackermann")
-_HOLONOMIC = ("mecanum", "swerve")
 Pose = tuple[float, float, float]
 _REVERSAL = "the route turns straight back here and no arc turns 180 degrees at a point"
 
@@ -151,23 +156,11 @@ class RoutePlan:
 
 
 # -- drive limits ---------------------------------------------------------------------------
-def _drive_limits(chassis: Chassis) -> tuple[str, float, bool]:
-    """Drive name, minimum turn radius (m) and whether it may pivot on the spot."""
+def _drive_limits(chassis: Chassis) -> tuple[str, float, bool, bool]:
+    """Drive name, minimum turn radius (m), may it pivot on the spot, is it holonomic."""
+    model = drive_for(chassis)
     drive = DRIVE_ALIASES.get(chassis.drive, chassis.drive)
-    floor = float(chassis.min_turn_radius_m or 0.0)
-    if drive in _STEERED:
-        r = floor
-        if chassis.wheelbase_m and chassis.max_steer_deg:
-            # Bicycle model: the rear-axle midpoint turns on R = wheelbase / tan(steer).
-            r = max(r, chassis.wheelbase_m / math.tan(math.radians(chassis.max_steer_deg)))
-        if not r > 0.0:
-            raise ValidationError(chassis.name, "chassis.max_steer_deg",
-                                  f"a {drive} chassis needs wheelbase_m and max_steer_deg "
-                                  "(or min_turn_radius_m) to give a minimum turn radius")
-        return drive, r, False
-    if drive in _HOLONOMIC:
-        return drive, floor, True
-    return drive, floor, floor == 0.0
+    return drive, float(model.min_turn_radius_m), bool(model.can_pivot), bool(model.holonomic)
 
 
 # -- the builder ----------------------------------------------------------------------------
@@ -475,17 +468,17 @@ def plan_route(route: Route, chassis: Chassis) -> RoutePlan:
     Raises
     ------
     ValidationError
-        For non-finite waypoints, or a steered chassis without a minimum turn radius.
+        For non-finite waypoints, or a chassis missing a dimension its drive needs.
 
     Examples
     --------
     >>> from kinematics.project import Waypoint
     >>> r = Route("r", (Waypoint(0, 0), Waypoint(4, 0), Waypoint(4, 3)), 0.0)
-    >>> pl = plan_route(r, Chassis(drive="differential", track_m=0.5))
+    >>> pl = plan_route(r, Chassis(drive="differential", track_m=0.5))  # pivots at corners
     >>> [(s.kind, round(s.length_m, 3), round(math.degrees(s.turn_rad))) for s in pl.segments]
     [('line', 4.0, 0), ('pivot', 0.0, 90), ('line', 3.0, 0)]
     """
-    drive, min_r, can_pivot = _drive_limits(chassis)
+    drive, min_r, can_pivot, holonomic = _drive_limits(chassis)
     notes: list[str] = []
     pts = _distinct_points(route, notes)
     n = len(pts.index)
@@ -495,12 +488,12 @@ def plan_route(route: Route, chassis: Chassis) -> RoutePlan:
     start = (float(pts.xy[0, 0]), float(pts.xy[0, 1]), float(h0))
     b = _Builder(route, start)
     b.notes.extend(notes)
-    radius = 0.0 if drive in _HOLONOMIC else _radius(route, min_r, pts, b, drive)
+    radius = 0.0 if holonomic else _radius(route, min_r, pts, b, drive)
     b.spin_radius_m = 0.0 if can_pivot else radius
     if n == 1:
         b.notes.append("the route has only one distinct point")
         b.spin(pts.xy[0], pts.headings[0][1:])
-    elif drive in _HOLONOMIC:
+    elif holonomic:
         _plan_holonomic(pts, b)
     elif drive in _STEERED:
         _plan_steered(pts, b, radius, route.reverse)

@@ -28,10 +28,16 @@ CHASSIS = {
 
 
 def _min_radius(c: Chassis) -> float:
-    # Source: kinematic bicycle model, R = wheelbase / tan(steer) at the rear axle
-    # (Rajamani, Vehicle Dynamics and Control, 2nd ed., sec. 2.2; from memory).
-    if c.drive in ("bicycle", "ackermann"):
-        return max(c.min_turn_radius_m, c.wheelbase_m / math.tan(math.radians(c.max_steer_deg)))
+    tan = math.tan(math.radians(c.max_steer_deg or 45.0))
+    if c.drive == "bicycle":
+        # Source: kinematic bicycle model, R = wheelbase / tan(steer) at the rear axle
+        # (Rajamani, Vehicle Dynamics and Control, 2nd ed., sec. 2.2; from memory).
+        return max(c.min_turn_radius_m, c.wheelbase_m / tan)
+    if c.drive == "ackermann":
+        # Source: Ackermann steering geometry, inner wheel at the stop: tan(d_i) = L/(R - T/2)
+        # for the rear-axle midpoint (Gillespie, Fundamentals of Vehicle Dynamics, ch. 6
+        # low-speed turning; from memory).
+        return max(c.min_turn_radius_m, c.wheelbase_m / tan + c.track_m / 2)
     return c.min_turn_radius_m
 
 
