@@ -270,6 +270,50 @@ def test_steered_two_pose_length_matches_ompl(drive, reverse, a, b, radius):
         assert all(s.direction == 1 for s in plan.segments)
 
 
+@pytest.mark.parametrize("reverse", [False, True])
+def test_steered_headed_route_is_the_sum_of_ompl_legs(reverse):
+    ob = pytest.importorskip("ompl.base")
+    rng = np.random.default_rng(7)
+    c = CHASSIS["ackermann"]
+    r = _min_radius(c)
+    space = (ob.ReedsSheppStateSpace if reverse else ob.DubinsStateSpace)(r)
+    s0, s1 = space.allocState(), space.allocState()
+    for _ in range(10):
+        pts = np.c_[rng.uniform(-10, 10, (5, 2)), rng.uniform(-180, 180, 5)]
+        plan = plan_route(Route("r", tuple(Waypoint(*p) for p in pts), 0.0, reverse), c)
+        total = 0.0
+        for a, b in zip(pts[:-1], pts[1:]):
+            s0.setX(a[0]), s0.setY(a[1]), s0.setYaw(math.radians(a[2]))
+            s1.setX(b[0]), s1.setY(b[1]), s1.setYaw(math.radians(b[2]))
+            total += space.distance(s0, s1)
+        # Source: OMPL DubinsStateSpace / ReedsSheppStateSpace.distance, summed over legs.
+        assert plan.length_m == pytest.approx(total, rel=1e-6)
+        assert plan.chosen_headings == {}
+
+
+def test_arcs_below_the_chassis_minimum_are_turn_radius_issues():
+    # A differential chassis that cannot pivot (it states a minimum turn radius of 0.5 m).
+    c = Chassis(drive="differential", track_m=0.5, min_turn_radius_m=0.5)
+    wps = (_wp(0, 0), _wp(4, 0), _wp(4, 0.6), _wp(0, 0.6))
+    plan = plan_route(Route("r", wps, 1.0, extra={"allow_smaller_radius": True}), c)
+    arcs = [(i, s) for i, s in enumerate(plan.segments) if s.kind == "arc"]
+    # Source: common plane geometry - two right-angle fillets share a 0.6 m leg: R = 0.3 each.
+    assert [s.radius_m for _, s in arcs] == pytest.approx([0.3, 0.3])
+    tr = [i for i in plan.issues if i.kind == "turn_radius"]
+    assert [i.segment for i in tr] == [i for i, _ in arcs]
+    assert [i.amount_m for i in tr] == pytest.approx([0.2, 0.2])
+    # Without shrinking: even one 1 m fillet (tangent 1 m) overfills the 0.6 m leg, so both
+    # corners become pivots, which this chassis cannot make.
+    plan2 = plan_route(Route("r", wps, 1.0), c)
+    inf = [i for i in plan2.issues if i.kind == "infeasible"]
+    assert [i.waypoint for i in inf] == [1, 2]
+    # Source: common plane geometry - first both tangents (2 m), then one (1 m) on 0.6 m.
+    assert [i.amount_m for i in inf] == pytest.approx([1.4, 0.4])
+    tr = [i for i in plan2.issues if i.kind == "turn_radius"]
+    assert [i.segment for i in tr] == [i.segment for i in inf]
+    assert all(plan2.segments[i.segment].kind == "pivot" for i in inf)
+
+
 def test_steered_radius_below_minimum_is_raised_with_an_issue():
     c = CHASSIS["bicycle"]
     r_min = _min_radius(c)
