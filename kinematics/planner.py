@@ -346,14 +346,26 @@ def _plan_steered(pts: _Points, b: _Builder, radius_m: float, reverse: bool) -> 
     """Every waypoint a pose; shortest Dubins / Reeds-Shepp paths between consecutive poses."""
     chosen = _driver_headings(pts)
     n = len(pts.index)
-    b.spin(pts.xy[0], pts.headings[0][1:])
-    for k in range(1, n):
-        h = pts.arrive(k)
-        h = chosen[k] if h is None else h
-        b.connect((float(pts.xy[k, 0]), float(pts.xy[k, 1]), h), radius_m, reverse)
-        b.spin(pts.xy[k], pts.headings[k][1:])
-        if chosen[k] is not None and k < n - 1:
+    poses: list[Pose] = []
+    for k in range(n):
+        x, y = float(pts.xy[k, 0]), float(pts.xy[k, 1])
+        hs = pts.headings[k] or [chosen[k]]
+        poses.extend((x, y, h) for h in hs)
+        if chosen[k] is not None and 0 < k < n - 1:
             b.chosen[pts.index[k]] = _wrap_deg(chosen[k])
+    if len(poses) < 2:
+        return
+    # All legs in one vectorised call; each leg's pieces are then laid from the actual end of
+    # the previous one, so the joints stay continuous.
+    p = np.array(poses, dtype=float)
+    if reverse:
+        batch = reeds_shepp.shortest(p[:-1], p[1:], radius_m)
+        letters = [reeds_shepp.LETTERS[w] for w in batch.word]
+    else:
+        batch = dubins.shortest(p[:-1], p[1:], radius_m)
+        letters = [dubins.WORDS[w] for w in batch.word]
+    for i in range(len(poses) - 1):
+        b.segs.extend(dubins.pieces_to_segments(b.pose, letters[i], batch.params[i], radius_m))
 
 
 def _fillet_radii(pts: _Points, b: _Builder, radius_m: float, route: Route
