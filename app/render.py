@@ -1,0 +1,1179 @@
+"""The picture without a window: floor plan, routes, swept area and violations on a QImage.
+
+Everything is drawn with QPainter onto a QImage (or any paint device the caller's painter is
+on), so it works under ``QT_QPA_PLATFORM=offscreen`` with only a ``QGuiApplication``: the
+``swathe render`` command, the report and the tests use it. The plan is drawn at true scale
+(one metre as long across as up), with a scale bar, an axes cue, a legend, a title carrying
+the verdict, and the safety caution in small print.
+
+Colours come from the Okabe-Ito palette (Okabe & Ito 2008, "Color Universal Design"), which
+stays distinguishable under the common colour-vision deficiencies; nothing is told by colour
+alone: reverse travel is dashed, each violation kind has its own marker shape and a label
+with its amount, and the verdict is spelled out.
+"""
+
+from __future__ import annotations
+
+import math
+from collections.abc import Sequence
+from dataclasses import dataclass
+from pathlib import Path
+from typing import Any
+
+import numpy as np
+from PySide6.QtCore import QBuffer, QByteArray, QIODevice, QPointF, QRectF, Qt
+from PySide6.QtGui import (
+    QBrush,
+    QColor,
+    QFont,
+    QFontMetricsF,
+    QGuiApplication,
+    QImage,
+    QPainter,
+    QPainterPath,
+    QPen,
+    QPolygonF,
+)
+
+from kinematics.report_text import CAUTION
+
+# -- palette (Okabe & Ito 2008) -------------------------------------------------------------
+BLACK = "#000000"
+ORANGE = "#E69F00"
+SKY = "#56B4E9"
+GREEN = "#009E73"
+YELLOW = "#F0E442"
+BLUE = "#0072B2"
+VERMILLION = "#D55E00"
+PURPLE = "#CC79A7"
+WALL_FILL = "#4D4D4D"
+OBSTACLE_FILL = "#A6A6A6"
+INK = "#1A1A1A"
+FAINT_INK = "#5C5C5C"
+#: The swept band: sky blue, translucent so walls and outlines show through it.
+BAND_RGBA = (86, 180, 233, 110)
+#: Route path colours in turn (one per route), all dark enough on white.
+ROUTE_COLOURS = (BLUE, PURPLE, ORANGE, BLACK, GREEN)
+
+#: Word shown beside each violation kind's marker, and in legends.
+VIOLATION_WORDS = {"collision": "overlap", "clearance": "short of margin",
+                   "turn_radius": "radius short", "infeasible": "no connection",
+                   "waypoint_blocked": "waypoint blocked"}
+#: Marker shape per violation kind (drawn by :func:`marker_path`).
+VIOLATION_SHAPES = {"collision": "cross", "clearance": "triangle", "turn_radius": "square",
+                    "infeasible": "star", "waypoint_blocked": "diamond"}
+
+
+def ensure_app() -> QGuiApplication:
+    """The running Qt application, or a new ``QGuiApplication`` (enough for painting)."""
+    app = QGuiApplication.instance()
+    if app is None:
+        app = QGuiApplication([])
+    return app  # type: ignore[return-value]
+
+
+def qcolor(spec: str, alpha: int = 255) -> QColor:
+    c = QColor(spec)
+    c.setAlpha(alpha)
+    return c
+
+
+def pen(colour: str | QColor, width: float = 1.0,
+        style: Qt.PenStyle = Qt.PenStyle.SolidLine) -> QPen:
+    p = QPen(QColor(colour) if isinstance(colour, str) else colour)
+    p.setWidthF(width)
+    p.setStyle(style)
+    p.setCapStyle(Qt.PenCapStyle.FlatCap)
+    p.setJoinStyle(Qt.PenJoinStyle.RoundJoin)
+    return p
+
+
+def font(px: float, bold: bool = False) -> QFont:
+    f = QFont("DejaVu Sans")
+    f.setPixelSize(max(6, int(round(px))))
+    f.setBold(bold)
+    return f
+
+
+def nice_length(target: float) -> float:
+    """The 1-2-5 series value at or just below ``target`` (for scale bars and ticks)."""
+    if not target > 0:
+        return 1.0
+    e = math.floor(math.log10(target))
+    for m in (5.0, 2.0, 1.0):
+        if m * 10 ** e <= target:
+            return m * 10 ** e
+    return 10 ** e
+
+
+# -- results --------------------------------------------------------------------------------
+@dataclass
+class RouteResult:
+    """What the picture and the report need of one route."""
+
+    name: str
+    plan: Any = None
+    check: Any = None
+    error: str | None = None
+
+
+def compute_results(project: Any, route_name: str | None = None,
+                    tolerance_m: float | None = None) -> tuple[dict, dict, dict]:
+    """Plan and check every route (or just ``route_name``).
+
+    Returns
+    -------
+    plans, checks, errors : dict
+        By route name: the ``RoutePlan`` (or ``None``), the ``RouteCheck`` (or ``None`` when
+        the route could not be checked) and the one-line reason where something failed.
+    """
+    from kinematics.errors import SwatheInputError
+    from kinematics.planner import plan_route
+
+    routes = [project.route(route_name)] if route_name is not None else list(project.routes)
+    plans: dict[str, Any] = {}
+    checks: dict[str, Any] = {}
+    errors: dict[str, str] = {}
+    index = None
+    for r in routes:
+        try:
+            plans[r.name] = plan_route(r, project.chassis)
+        except (SwatheInputError, ValueError) as exc:
+            plans[r.name] = None
+            checks[r.name] = None
+            errors[r.name] = getattr(exc, "message", None) or f"route {r.name!r}: {exc}"
+            continue
+        try:
+            from kinematics.clearance import ObstacleIndex, check_route
+
+            if index is None:
+                index = ObstacleIndex(project.floorplan)
+            kw = {"route_name": r.name}
+            if tolerance_m is not None:
+                kw["tolerance_m"] = tolerance_m
+            checks[r.name] = check_route(plans[r.name], project.chassis, index, **kw)
+        except ImportError:
+            checks[r.name] = None
+            errors[r.name] = "the clearance check is not available in this build"
+        except (SwatheInputError, ValueError) as exc:
+            checks[r.name] = None
+            errors[r.name] = getattr(exc, "message", None) or f"route {r.name!r}: {exc}"
+    return plans, checks, errors
+
+
+def swept_geometry(footprint: Sequence[tuple[float, float]], segments: Sequence[Any],
+                   check: Any = None) -> Any:
+    """The swept area of a route as one shapely geometry (``None`` if it cannot be had).
+
+    Taken from the check when it carries it (``check.swept``), else from
+    :func:`kinematics.sweep.swept_route`.
+    """
+    import shapely
+
+    geom = getattr(check, "swept", None) if check is not None else None
+    if geom is None:
+        if not segments:
+            return None
+        try:
+            from kinematics.sweep import swept_route
+        except ImportError:
+            return None
+        geom = swept_route(footprint, list(segments))
+    if isinstance(geom, (list, tuple)):
+        parts = [getattr(p, "geometry", p) for p in geom]
+        parts = [p for p in parts if p is not None]
+        return shapely.union_all(parts) if parts else None
+    return getattr(geom, "geometry", geom)
+
+
+def violations_of(check: Any) -> list[Any]:
+    return list(getattr(check, "violations", None) or []) if check is not None else []
+
+
+def door_results(check: Any) -> list[dict]:
+    """The doors a check reports, as ``{"label", "min_clearance_m", ...}`` dicts."""
+    if check is None:
+        return []
+    out = []
+    for d in getattr(check, "doors", None) or []:
+        if isinstance(d, dict):
+            out.append(dict(d))
+        elif hasattr(d, "to_dict"):
+            out.append(d.to_dict())
+        else:
+            out.append({"label": getattr(d, "label", ""),
+                        "min_clearance_m": getattr(d, "min_clearance_m", None)})
+    return out
+
+
+def verdict_text(checks: dict, errors: dict | None = None) -> tuple[str, bool | None]:
+    """One line for the title, and ``True`` clear / ``False`` not / ``None`` unknown."""
+    errors = errors or {}
+    known = [c for c in checks.values() if c is not None]
+    if not checks:
+        return "NO ROUTES", None
+    if not known:
+        return "NOT CHECKED", None
+    n = sum(len(violations_of(c)) for c in known)
+    mins = [c.min_clearance_m for c in known
+            if getattr(c, "min_clearance_m", None) is not None
+            and math.isfinite(c.min_clearance_m)]
+    tail = f", min clearance {min(mins):.3f} m" if mins else ""
+    unchecked = len(checks) - len(known)
+    extra = f" ({unchecked} route{'s' if unchecked != 1 else ''} not checked)" if unchecked else ""
+    clear = all(getattr(c, "clear", False) for c in known) and n == 0
+    if clear and not unchecked:
+        return f"CLEAR{tail}", True
+    if clear:
+        return f"CLEAR{tail}{extra}", None
+    return f"{n} VIOLATION{'S' if n != 1 else ''}{tail}{extra}", False
+
+
+def project_title(project: Any) -> str:
+    """A name for the project: its file name without the suffixes, else the plan's name."""
+    path = getattr(project, "path", None)
+    if path is not None:
+        name = Path(path).name
+        for suffix in (".swathe.json", ".json"):
+            if name.endswith(suffix):
+                return name[: -len(suffix)]
+        return name
+    return project.floorplan.name or "untitled project"
+
+
+# -- geometry helpers -----------------------------------------------------------------------
+def sample_path(segments: Sequence[Any], step_rad: float = math.radians(3.0)
+                ) -> list[tuple[np.ndarray, int, int]]:
+    """Polylines to draw: ``(xy (n, 2), direction, segment index)`` per line or arc."""
+    out = []
+    for i, seg in enumerate(segments):
+        if seg.kind == "pivot":
+            continue
+        if seg.kind == "arc":
+            n = max(2, int(math.ceil(abs(seg.turn_rad) / step_rad)) + 1)
+        else:
+            n = 2
+        p = seg.poses_at_fraction(np.linspace(0.0, 1.0, n))
+        out.append((p[:, :2], int(seg.direction), i))
+    return out
+
+
+def outline_poses(segments: Sequence[Any], count: int = 8) -> np.ndarray:
+    """Poses for footprint outlines: the start, the end and ``count`` in between."""
+    from kinematics.segments import path_length, poses_along
+
+    if not segments:
+        return np.zeros((0, 3))
+    total = path_length(segments)
+    if total <= 0:
+        return np.array([segments[0].start, segments[-1].end], dtype=float)
+    st = np.linspace(0.0, total, count + 2)
+    poses = poses_along(segments, st)
+    poses[-1] = segments[-1].end
+    return poses
+
+
+def place_footprint(footprint: Sequence[tuple[float, float]], pose: Sequence[float]
+                    ) -> np.ndarray:
+    """The footprint's corners in the plan frame at ``pose`` ``(x, y, heading_rad)``."""
+    fp = np.asarray(footprint, dtype=float)
+    c, s = math.cos(pose[2]), math.sin(pose[2])
+    return np.column_stack([pose[0] + c * fp[:, 0] - s * fp[:, 1],
+                            pose[1] + s * fp[:, 0] + c * fp[:, 1]])
+
+
+def marker_path(shape: str, centre: QPointF, r: float) -> QPainterPath:
+    """A closed marker outline of radius ``r`` pixels around ``centre``."""
+    x, y = centre.x(), centre.y()
+    path = QPainterPath()
+    if shape == "cross":
+        # A plus sign of arm half-width w, turned 45 degrees into an X.
+        w = r * 0.3
+        plus = [(-w, -r), (w, -r), (w, -w), (r, -w), (r, w), (w, w), (w, r), (-w, r),
+                (-w, w), (-r, w), (-r, -w), (-w, -w)]
+        c45 = math.sqrt(0.5)
+        path.addPolygon(QPolygonF([QPointF(x + c45 * (a - b), y + c45 * (a + b))
+                                   for a, b in plus]))
+    elif shape == "triangle":
+        path.addPolygon(QPolygonF([QPointF(x, y - r), QPointF(x + r * 0.95, y + r * 0.75),
+                                   QPointF(x - r * 0.95, y + r * 0.75)]))
+    elif shape == "square":
+        s = r * 0.8
+        path.addRect(QRectF(x - s, y - s, 2 * s, 2 * s))
+    elif shape == "star":
+        pts = []
+        for k in range(10):
+            rr = r * (1.0 if k % 2 == 0 else 0.45)
+            a = -math.pi / 2 + k * math.pi / 5
+            pts.append(QPointF(x + rr * math.cos(a), y + rr * math.sin(a)))
+        path.addPolygon(QPolygonF(pts))
+    elif shape == "diamond":
+        path.addPolygon(QPolygonF([QPointF(x, y - r), QPointF(x + r, y), QPointF(x, y + r),
+                                   QPointF(x - r, y)]))
+    else:
+        path.addEllipse(centre, r, r)
+    path.closeSubpath()
+    return path
+
+
+def draw_marker(p: QPainter, kind: str, centre: QPointF, r: float) -> None:
+    p.setPen(pen(BLACK, max(1.0, r * 0.16)))
+    p.setBrush(QBrush(QColor(VERMILLION)))
+    p.drawPath(marker_path(VIOLATION_SHAPES.get(kind, "circle"), centre, r))
+
+
+def violation_label(v: Any) -> str:
+    word = VIOLATION_WORDS.get(v.kind, v.kind)
+    amount = getattr(v, "amount_m", None)
+    if v.kind == "infeasible" or amount is None or not math.isfinite(amount):
+        return word
+    return f"{word} {amount * 1000:.0f} mm"
+
+
+class _View:
+    """Plan metres to image pixels: uniform scale, y up on the plan, y down on the image."""
+
+    def __init__(self, bounds: tuple[float, float, float, float], rect: QRectF) -> None:
+        x0, y0, x1, y1 = bounds
+        w, h = max(x1 - x0, 1e-6), max(y1 - y0, 1e-6)
+        self.scale = min(rect.width() / w, rect.height() / h)  # pixels per metre
+        cx, cy = (x0 + x1) / 2.0, (y0 + y1) / 2.0
+        self.ox = rect.center().x() - cx * self.scale
+        self.oy = rect.center().y() + cy * self.scale
+
+    def pt(self, x: float, y: float) -> QPointF:
+        return QPointF(self.ox + x * self.scale, self.oy - y * self.scale)
+
+    def poly(self, xy: np.ndarray) -> QPolygonF:
+        xy = np.asarray(xy, dtype=float)
+        px = self.ox + xy[:, 0] * self.scale
+        py = self.oy - xy[:, 1] * self.scale
+        return QPolygonF([QPointF(a, b) for a, b in zip(px, py)])
+
+    def geometry_path(self, geom: Any) -> QPainterPath:
+        """A shapely (multi)polygon as a painter path with holes (odd-even fill)."""
+        path = QPainterPath()
+        path.setFillRule(Qt.FillRule.OddEvenFill)
+        for g in getattr(geom, "geoms", [geom]):
+            if g is None or g.is_empty:
+                continue
+            if g.geom_type == "Polygon":
+                for ring in [g.exterior, *g.interiors]:
+                    path.addPolygon(self.poly(np.asarray(ring.coords)[:, :2]))
+                    path.closeSubpath()
+            elif g.geom_type in ("MultiPolygon", "GeometryCollection"):
+                path.addPath(self.geometry_path(g))
+        return path
+
+
+class _Labels:
+    """Greedy label placement: a label goes where it overlaps nothing placed before."""
+
+    def __init__(self, bounds: QRectF) -> None:
+        self.taken: list[QRectF] = []
+        self.bounds = bounds
+
+    def block(self, r: QRectF) -> None:
+        self.taken.append(r)
+
+    def place(self, p: QPainter, anchor: QPointF, text: str, f: QFont, offset: float,
+              ink: str = INK, fill: QColor | None = None, border: str | None = None,
+              force: bool = False) -> QRectF | None:
+        fm = QFontMetricsF(f)
+        w = fm.horizontalAdvance(text) + 8
+        h = fm.height() + 2
+        ax, ay = anchor.x(), anchor.y()
+        o3 = offset * 0.3
+        cands = [(offset, -h - o3), (offset, o3), (-w - offset, -h - o3), (-w - offset, o3),
+                 (-w / 2, -h - offset * 1.6), (-w / 2, offset * 1.6),
+                 (offset * 2.5, -h / 2), (-w - offset * 2.5, -h / 2)]
+        chosen = None
+        for dx, dy in cands:
+            r = QRectF(ax + dx, ay + dy, w, h)
+            if not self.bounds.contains(r):
+                continue
+            if any(r.intersects(t) for t in self.taken):
+                continue
+            chosen = r
+            break
+        if chosen is None:
+            if not force:
+                return None
+            chosen = QRectF(ax + cands[0][0], ay + cands[0][1], w, h)
+        self.taken.append(chosen)
+        p.setPen(pen(border, 1.0) if border else Qt.PenStyle.NoPen)
+        p.setBrush(QBrush(fill if fill is not None else qcolor("#FFFFFF", 225)))
+        p.drawRoundedRect(chosen, 3, 3)
+        p.setPen(QColor(ink))
+        p.setFont(f)
+        p.drawText(chosen, Qt.AlignmentFlag.AlignCenter, text)
+        return chosen
+
+
+# -- the scene ------------------------------------------------------------------------------
+def _scene_bounds(project: Any, plans: dict, bands: dict) -> tuple[float, float, float, float]:
+    xs: list[float] = []
+    ys: list[float] = []
+    fp = project.floorplan
+    b = fp.bounds()
+    if b != (0.0, 0.0, 0.0, 0.0) or fp.walls or fp.obstacles or fp.doors:
+        xs += [b[0], b[2]]
+        ys += [b[1], b[3]]
+    for r in project.routes:
+        if r.name in plans or not plans:
+            xs += [w.x for w in r.waypoints]
+            ys += [w.y for w in r.waypoints]
+    for g in bands.values():
+        if g is not None and not g.is_empty:
+            gb = g.bounds
+            xs += [gb[0], gb[2]]
+            ys += [gb[1], gb[3]]
+    if not xs:
+        return (-1.0, -1.0, 1.0, 1.0)
+    x0, x1, y0, y1 = min(xs), max(xs), min(ys), max(ys)
+    pad = 0.04 * max(x1 - x0, y1 - y0, 1.0)
+    return (x0 - pad, y0 - pad, x1 + pad, y1 + pad)
+
+
+def render_scene(target: QPainter | QImage, project: Any, plans: dict, checks: dict,
+                 route_name: str | None = None, size: tuple[int, int] = (1600, 1000),
+                 errors: dict | None = None, footer: bool = True) -> dict:
+    """Draw the plan, routes, swept areas, violations, legend and title.
+
+    Parameters
+    ----------
+    target : QPainter or QImage
+        A painter already on a device (drawn into ``(0, 0, *size)`` of its current
+        coordinates, so translate it to place the picture) or an image (drawn over all of it;
+        ``size`` is then the image's size).
+    project : Project
+    plans, checks : dict
+        By route name, as :func:`compute_results` returns them; routes not in ``plans`` are
+        not drawn (all are drawn when ``plans`` is empty).
+    route_name : str, optional
+        The route the title names; by default every route in ``plans``.
+    size : (int, int)
+        Width and height in pixels.
+    errors : dict, optional
+        By route name, why a route could not be planned or checked (shown in the title).
+    footer : bool
+        Draw the safety caution at the bottom.
+
+    Returns
+    -------
+    dict
+        Where things went, in pixels, for tests and callers: ``"plan_rect"``,
+        ``"px_per_m"``, ``"violations"`` (list of ``(kind, QPointF)``), ``"to_px"`` (a
+        function plan (x, y) -> QPointF).
+    """
+    own = isinstance(target, QImage)
+    if own:
+        size = (target.width(), target.height())
+        painter = QPainter(target)
+    else:
+        painter = target
+    try:
+        return _draw(painter, project, plans, checks, route_name, size, errors or {}, footer)
+    finally:
+        if own:
+            painter.end()
+
+
+def _draw(p: QPainter, project: Any, plans: dict, checks: dict, route_name: str | None,
+          size: tuple[int, int], errors: dict, footer: bool) -> dict:
+    W, H = float(size[0]), float(size[1])
+    u = max(0.45, min(W / 1600.0, H / 1000.0))  # layout unit: 1 at the default size
+    p.setRenderHint(QPainter.RenderHint.Antialiasing, True)
+    p.setRenderHint(QPainter.RenderHint.TextAntialiasing, True)
+    p.fillRect(QRectF(0, 0, W, H), QColor("#FFFFFF"))
+
+    f_title = font(22 * u, bold=True)
+    f_sub = font(14 * u)
+    f_label = font(12 * u)
+    f_small = font(11 * u)
+    title_h = 74 * u
+    foot_h = (30 * u) if footer else 6 * u
+    legend_w = min(300 * u, W * 0.3)
+    m = 14 * u
+    plan_rect = QRectF(m, title_h + m * 0.5, W - legend_w - 2.5 * m,
+                       H - title_h - foot_h - 1.5 * m)
+
+    chassis = project.chassis
+    names = list(plans) if plans else [r.name for r in project.routes]
+    bands = {}
+    for name in names:
+        plan = plans.get(name)
+        if plan is not None and plan.segments:
+            try:
+                bands[name] = swept_geometry(chassis.footprint, plan.segments, checks.get(name))
+            except Exception:  # noqa: BLE001 - a picture without a band is still a picture
+                bands[name] = None
+    view = _View(_scene_bounds(project, plans, bands), plan_rect)
+    labels = _Labels(plan_rect)
+
+    # Plan frame background and border.
+    p.setPen(pen("#B0B0B0", 1.0))
+    p.setBrush(QBrush(QColor("#FAFAFA")))
+    p.drawRect(plan_rect)
+    p.save()
+    p.setClipRect(plan_rect)
+
+    _draw_grid(p, view, plan_rect, u)
+    _draw_floorplan(p, view, project.floorplan, u)
+    # Swept bands first, so paths, outlines and markers sit on top of them.
+    p.setPen(Qt.PenStyle.NoPen)
+    p.setBrush(QBrush(QColor(*BAND_RGBA)))
+    for g in bands.values():
+        if g is not None and not g.is_empty:
+            p.drawPath(view.geometry_path(g))
+    routes = [r for r in project.routes if r.name in names]
+    for k, r in enumerate(routes):
+        plan = plans.get(r.name)
+        colour = ROUTE_COLOURS[k % len(ROUTE_COLOURS)]
+        if plan is not None:
+            _draw_outlines(p, view, chassis.footprint, plan.segments, u)
+            _draw_path(p, view, plan.segments, colour, u)
+        _draw_waypoints(p, view, r, colour, u, labels)
+    _draw_doors(p, view, project.floorplan, checks, u, labels, f_label)
+    marks = _draw_violations(p, view, checks, u, labels, f_label)
+    _draw_scale_and_axes(p, view, plan_rect, u, f_small)
+    p.restore()
+
+    _draw_title(p, project, plans, checks, route_name, errors, W, title_h, u, f_title, f_sub)
+    _draw_legend(p, QRectF(W - legend_w - m, plan_rect.top(), legend_w, plan_rect.height()),
+                 routes, checks, u, f_label, f_small)
+    if footer:
+        p.setPen(QColor(FAINT_INK))
+        p.setFont(font(10.5 * u))
+        p.drawText(QRectF(m, H - foot_h, W - 2 * m, foot_h),
+                   Qt.AlignmentFlag.AlignVCenter | Qt.AlignmentFlag.AlignLeft
+                   | Qt.TextFlag.TextWordWrap, CAUTION)
+    return {"plan_rect": plan_rect, "px_per_m": view.scale, "violations": marks,
+            "to_px": view.pt}
+
+
+def _draw_grid(p: QPainter, view: _View, rect: QRectF, u: float) -> None:
+    step = nice_length(90 * u / view.scale) if view.scale > 0 else 1.0
+    tl_x = (rect.left() - view.ox) / view.scale
+    br_x = (rect.right() - view.ox) / view.scale
+    top_y = (view.oy - rect.top()) / view.scale
+    bot_y = (view.oy - rect.bottom()) / view.scale
+    p.setPen(pen("#E6E6E6", 1.0))
+    x = math.floor(tl_x / step) * step
+    while x <= br_x:
+        a = view.pt(x, 0).x()
+        p.drawLine(QPointF(a, rect.top()), QPointF(a, rect.bottom()))
+        x += step
+    y = math.floor(bot_y / step) * step
+    while y <= top_y:
+        b = view.pt(0, y).y()
+        p.drawLine(QPointF(rect.left(), b), QPointF(rect.right(), b))
+        y += step
+
+
+def _draw_floorplan(p: QPainter, view: _View, fp: Any, u: float) -> None:
+    from kinematics.floorplan import solids
+
+    walls = [s.geometry for s in solids(fp) if s.kind == "wall"]
+    obstacles = [s for s in solids(fp) if s.kind == "obstacle"]
+    p.setPen(pen(BLACK, 0.8))
+    p.setBrush(QBrush(QColor(WALL_FILL)))
+    for g in walls:
+        p.drawPath(view.geometry_path(g))
+    hatch = QBrush(QColor("#6E6E6E"), Qt.BrushStyle.BDiagPattern)
+    for s in obstacles:
+        path = view.geometry_path(s.geometry)
+        p.setPen(pen(BLACK, 1.0))
+        p.setBrush(QBrush(QColor(OBSTACLE_FILL)))
+        p.drawPath(path)
+        p.setPen(Qt.PenStyle.NoPen)
+        p.setBrush(hatch)
+        p.drawPath(path)
+    # Obstacle labels inside their shapes when they fit.
+    f = font(11 * u)
+    fm = QFontMetricsF(f)
+    p.setFont(f)
+    for s in obstacles:
+        if not s.label:
+            continue
+        c = s.geometry.representative_point()
+        b = s.geometry.bounds
+        wpx = (b[2] - b[0]) * view.scale
+        if fm.horizontalAdvance(s.label) + 6 > wpx:
+            continue
+        r = QRectF(0, 0, fm.horizontalAdvance(s.label) + 6, fm.height())
+        r.moveCenter(view.pt(c.x, c.y))
+        p.setPen(Qt.PenStyle.NoPen)
+        p.setBrush(QBrush(qcolor("#FFFFFF", 210)))
+        p.drawRect(r)
+        p.setPen(QColor(INK))
+        p.drawText(r, Qt.AlignmentFlag.AlignCenter, s.label)
+
+
+def _draw_doors(p: QPainter, view: _View, fp: Any, checks: dict, u: float, labels: _Labels,
+                f: QFont) -> None:
+    clear_by_label: dict[str, float] = {}
+    for chk in checks.values():
+        for d in door_results(chk):
+            v = d.get("min_clearance_m")
+            lab = d.get("label", "")
+            if v is not None:
+                clear_by_label[lab] = min(v, clear_by_label.get(lab, math.inf))
+    for d in fp.doors:
+        a, b = view.pt(*d.a), view.pt(*d.b)
+        # The opening: a white gap through the wall, a sky-blue threshold and jamb ticks.
+        p.setPen(pen("#FFFFFF", 5 * u))
+        p.drawLine(a, b)
+        p.setPen(pen(BLUE, 2.2 * u, Qt.PenStyle.DotLine))
+        p.drawLine(a, b)
+        dx, dy = b.x() - a.x(), b.y() - a.y()
+        n = math.hypot(dx, dy) or 1.0
+        nx, ny = -dy / n * 7 * u, dx / n * 7 * u
+        p.setPen(pen(BLUE, 2.5 * u))
+        for q in (a, b):
+            p.drawLine(QPointF(q.x() - nx, q.y() - ny), QPointF(q.x() + nx, q.y() + ny))
+        text = f"{d.label or 'door'} {d.width_m:.2f} m"
+        if d.label in clear_by_label:
+            text += f", clearance {clear_by_label[d.label] * 1000:.0f} mm"
+        mid = view.pt(*d.midpoint)
+        labels.place(p, mid, text, f, 10 * u, ink="#003A5C", border=BLUE, force=True)
+
+
+def _draw_outlines(p: QPainter, view: _View, footprint: Sequence, segments: Sequence,
+                   u: float) -> None:
+    poses = outline_poses(list(segments))
+    p.setBrush(Qt.BrushStyle.NoBrush)
+    p.setPen(pen("#3D3D3D", 1.1 * u))
+    for pose in poses:
+        p.drawPolygon(view.poly(place_footprint(footprint, pose)))
+        # A short tick from the reference point forward shows which way the body faces.
+        c = view.pt(pose[0], pose[1])
+        L = 9 * u
+        p.drawLine(c, QPointF(c.x() + L * math.cos(pose[2]), c.y() - L * math.sin(pose[2])))
+
+
+def _draw_path(p: QPainter, view: _View, segments: Sequence, colour: str, u: float) -> None:
+    for xy, direction, _i in sample_path(list(segments)):
+        style = Qt.PenStyle.SolidLine if direction > 0 else Qt.PenStyle.DashLine
+        p.setPen(pen(colour, 2.6 * u, style))
+        p.setBrush(Qt.BrushStyle.NoBrush)
+        p.drawPolyline(view.poly(xy))
+    # Pivots: a ring with an arrow head, turning the way the body turns.
+    for seg in segments:
+        if seg.kind != "pivot" or seg.turn_rad == 0.0:
+            continue
+        c = view.pt(seg.start[0], seg.start[1])
+        r = 11 * u
+        rect = QRectF(c.x() - r, c.y() - r, 2 * r, 2 * r)
+        p.setPen(pen(colour, 2.0 * u))
+        span = 300 if seg.turn_rad > 0 else -300
+        p.drawArc(rect, 30 * 16, span * 16)
+        end = math.radians(30 + span)
+        tip = QPointF(c.x() + r * math.cos(end), c.y() - r * math.sin(end))
+        tang = end + (math.pi / 2 if span > 0 else -math.pi / 2)
+        tx, ty = math.cos(tang), -math.sin(tang)
+        h = 5 * u
+        p.setBrush(QBrush(QColor(colour)))
+        p.drawPolygon(QPolygonF([
+            QPointF(tip.x() + tx * h, tip.y() + ty * h),
+            QPointF(tip.x() - tx * h * 0.2 - ty * h, tip.y() - ty * h * 0.2 + tx * h),
+            QPointF(tip.x() - tx * h * 0.2 + ty * h, tip.y() - ty * h * 0.2 - tx * h)]))
+
+
+def _draw_waypoints(p: QPainter, view: _View, route: Any, colour: str, u: float,
+                    labels: _Labels) -> None:
+    r = 9 * u
+    f = font(10 * u, bold=True)
+    p.setFont(f)
+    for k, w in enumerate(route.waypoints):
+        c = view.pt(w.x, w.y)
+        if w.heading_deg is not None:
+            h = math.radians(w.heading_deg)
+            L = 24 * u
+            p.setPen(pen(colour, 1.8 * u))
+            p.drawLine(c, QPointF(c.x() + L * math.cos(h), c.y() - L * math.sin(h)))
+        p.setPen(pen(colour, 2.0 * u))
+        p.setBrush(QBrush(QColor("#FFFFFF")))
+        p.drawEllipse(c, r, r)
+        p.setPen(QColor(INK))
+        p.drawText(QRectF(c.x() - r, c.y() - r, 2 * r, 2 * r), Qt.AlignmentFlag.AlignCenter,
+                   str(k + 1))
+        labels.block(QRectF(c.x() - r, c.y() - r, 2 * r, 2 * r))
+
+
+def _draw_violations(p: QPainter, view: _View, checks: dict, u: float, labels: _Labels,
+                     f: QFont) -> list[tuple[str, QPointF]]:
+    marks = []
+    r = 8 * u
+    for chk in checks.values():
+        for v in violations_of(chk):
+            c = view.pt(v.x, v.y)
+            draw_marker(p, v.kind, c, r)
+            marks.append((v.kind, c))
+    # Labels after all markers so a label never hides a marker drawn later; the worst first.
+    allv = sorted((v for chk in checks.values() for v in violations_of(chk)),
+                  key=lambda v: -(getattr(v, "amount_m", 0.0) or 0.0))
+    for v in allv:
+        labels.block(QRectF(view.pt(v.x, v.y).x() - r, view.pt(v.x, v.y).y() - r, 2 * r, 2 * r))
+    for v in allv:
+        labels.place(p, view.pt(v.x, v.y), violation_label(v), f, r + 3 * u, ink="#4A1A00",
+                     border=VERMILLION)
+    return marks
+
+
+def _draw_scale_and_axes(p: QPainter, view: _View, rect: QRectF, u: float, f: QFont) -> None:
+    length = nice_length(rect.width() * 0.18 / view.scale)
+    px = length * view.scale
+    x0 = rect.left() + 16 * u
+    y0 = rect.bottom() - 18 * u
+    tw = QFontMetricsF(f).horizontalAdvance(f"{length:g} m")
+    box = QRectF(x0 - 8 * u, y0 - 30 * u, px + tw + 24 * u, 42 * u)
+    p.setPen(Qt.PenStyle.NoPen)
+    p.setBrush(QBrush(qcolor("#FFFFFF", 220)))
+    p.drawRect(box)
+    # Alternating black and white halves, as on a drawing's scale bar.
+    h = 7 * u
+    for k in range(2):
+        p.setPen(pen(BLACK, 1.0))
+        p.setBrush(QBrush(QColor(BLACK if k == 0 else "#FFFFFF")))
+        p.drawRect(QRectF(x0 + k * px / 2, y0 - h, px / 2, h))
+    p.setPen(QColor(INK))
+    p.setFont(f)
+    text = f"{length:g} m"
+    p.drawText(QPointF(x0 + px + 6 * u, y0), text)
+    p.drawText(QPointF(x0, y0 - h - 5 * u), "0")
+    # Axes cue: the plan frame, x to the right and y up.
+    ax = QPointF(rect.right() - 62 * u, rect.bottom() - 18 * u)
+    L = 38 * u
+    p.setPen(Qt.PenStyle.NoPen)
+    p.setBrush(QBrush(qcolor("#FFFFFF", 220)))
+    p.drawRect(QRectF(ax.x() - 14 * u, ax.y() - L - 20 * u, L + 36 * u, L + 30 * u))
+    p.setPen(pen(INK, 1.6 * u))
+    p.setBrush(QBrush(QColor(INK)))
+    for dx, dy, name in ((L, 0.0, "x"), (0.0, -L, "y")):
+        tip = QPointF(ax.x() + dx, ax.y() + dy)
+        p.drawLine(ax, tip)
+        ux, uy = (1, 0) if dx else (0, -1)
+        a = 5 * u
+        p.drawPolygon(QPolygonF([QPointF(tip.x() + ux * a, tip.y() + uy * a),
+                                 QPointF(tip.x() - uy * a * 0.7, tip.y() + ux * a * 0.7),
+                                 QPointF(tip.x() + uy * a * 0.7, tip.y() - ux * a * 0.7)]))
+        p.drawText(QPointF(tip.x() + (8 * u if dx else 7 * u),
+                           tip.y() + (4 * u if dx else 6 * u)), name)
+
+
+def _draw_title(p: QPainter, project: Any, plans: dict, checks: dict, route_name: str | None,
+                errors: dict, W: float, h: float, u: float, f_title: QFont,
+                f_sub: QFont) -> None:
+    m = 14 * u
+    verdict, ok = verdict_text(checks, errors)
+    names = [route_name] if route_name is not None else list(plans)
+    routes = ", ".join(names) if names else "no routes"
+    chassis = project.chassis
+    # Verdict badge on the right: its words say it; colour and symbol only repeat them.
+    f_badge = font(18 * u, bold=True)
+    symbol = {True: "\u2713 ", False: "\u2717 ", None: ""}[ok]
+    badge_text = symbol + verdict
+    fm = QFontMetricsF(f_badge)
+    bw = min(fm.horizontalAdvance(badge_text) + 28 * u, W * 0.55)
+    badge = QRectF(W - bw - m, m, bw, h - 2 * m)
+    fill = {True: BLUE, False: VERMILLION, None: "#707070"}[ok]
+    p.setPen(Qt.PenStyle.NoPen)
+    p.setBrush(QBrush(QColor(fill)))
+    p.drawRoundedRect(badge, 6 * u, 6 * u)
+    p.setPen(QColor("#FFFFFF"))
+    p.setFont(f_badge)
+    p.drawText(badge, Qt.AlignmentFlag.AlignCenter, fm.elidedText(
+        badge_text, Qt.TextElideMode.ElideRight, bw - 16 * u))
+    left = QRectF(m, m * 0.6, W - bw - 3 * m, h - m)
+    p.setPen(QColor(INK))
+    p.setFont(f_title)
+    fmt = QFontMetricsF(f_title)
+    title = f"{project_title(project)} \u2014 {routes}"
+    p.drawText(QRectF(left.left(), left.top(), left.width(), fmt.height()),
+               Qt.AlignmentFlag.AlignLeft | Qt.AlignmentFlag.AlignVCenter,
+               fmt.elidedText(title, Qt.TextElideMode.ElideRight, left.width()))
+    sub = (f"plan: {project.floorplan.name or 'unnamed'}   \u00b7   chassis: {chassis.name} "
+           f"({chassis.drive}), margin {chassis.margin_m * 1000:.0f} mm")
+    errs = [f"{k}: {v}" for k, v in errors.items()]
+    if errs:
+        sub += "   \u00b7   " + "; ".join(errs)
+    fms = QFontMetricsF(f_sub)
+    p.setFont(f_sub)
+    p.setPen(QColor(FAINT_INK))
+    p.drawText(QRectF(left.left(), left.top() + fmt.height() + 2 * u, left.width(),
+                      fms.height()), Qt.AlignmentFlag.AlignLeft | Qt.AlignmentFlag.AlignVCenter,
+               fms.elidedText(sub, Qt.TextElideMode.ElideRight, left.width()))
+
+
+def _legend_rows(routes: Sequence[Any], checks: dict) -> list[tuple[str, str, Any]]:
+    rows: list[tuple[str, str, Any]] = [("wall", "wall", None), ("obstacle", "obstacle", None),
+                                        ("door", "door opening (width, clearance)", None)]
+    for k, r in enumerate(routes):
+        rows.append(("path", f"route {r.name}", ROUTE_COLOURS[k % len(ROUTE_COLOURS)]))
+    rows += [("reverse", "driven in reverse", None), ("pivot", "turn on the spot", None),
+             ("band", "swept area", None), ("outline", "footprint outline", None),
+             ("waypoint", "waypoint (number)", None)]
+    kinds = []
+    for chk in checks.values():
+        for v in violations_of(chk):
+            if v.kind not in kinds:
+                kinds.append(v.kind)
+    for kind in VIOLATION_SHAPES:
+        rows.append(("violation", VIOLATION_WORDS[kind] + ("" if kind in kinds else
+                                                           " (none)"), kind))
+    return rows
+
+
+def _draw_legend(p: QPainter, rect: QRectF, routes: Sequence[Any], checks: dict, u: float,
+                 f: QFont, f_small: QFont) -> None:
+    rows = _legend_rows(routes, checks)
+    row_h = 25 * u
+    head_h = 28 * u
+    needed = head_h + row_h * len(rows) + 10 * u
+    if needed > rect.height():
+        row_h = max(12.0, (rect.height() - head_h - 10 * u) / len(rows))
+    box = QRectF(rect.left(), rect.top(), rect.width(), min(rect.height(), needed))
+    p.setPen(pen("#B0B0B0", 1.0))
+    p.setBrush(QBrush(QColor("#FFFFFF")))
+    p.drawRect(box)
+    p.setPen(QColor(INK))
+    p.setFont(font(13 * u, bold=True))
+    p.drawText(QRectF(box.left() + 10 * u, box.top() + 4 * u, box.width(), head_h),
+               Qt.AlignmentFlag.AlignVCenter, "Legend")
+    fm = QFontMetricsF(f)
+    sw = 38 * u
+    y = box.top() + head_h + 4 * u
+    for kind, text, arg in rows:
+        cy = y + row_h / 2
+        x0 = box.left() + 10 * u
+        sample = QRectF(x0, cy - 7 * u, sw, 14 * u)
+        if kind == "wall":
+            p.setPen(pen(BLACK, 0.8))
+            p.setBrush(QBrush(QColor(WALL_FILL)))
+            p.drawRect(sample)
+        elif kind == "obstacle":
+            p.setPen(pen(BLACK, 1.0))
+            p.setBrush(QBrush(QColor(OBSTACLE_FILL)))
+            p.drawRect(sample)
+            p.setBrush(QBrush(QColor("#6E6E6E"), Qt.BrushStyle.BDiagPattern))
+            p.drawRect(sample)
+        elif kind == "door":
+            p.setPen(pen(BLUE, 2.2 * u, Qt.PenStyle.DotLine))
+            p.drawLine(QPointF(x0, cy), QPointF(x0 + sw, cy))
+            p.setPen(pen(BLUE, 2.5 * u))
+            for xx in (x0, x0 + sw):
+                p.drawLine(QPointF(xx, cy - 7 * u), QPointF(xx, cy + 7 * u))
+        elif kind in ("path", "reverse"):
+            style = Qt.PenStyle.SolidLine if kind == "path" else Qt.PenStyle.DashLine
+            p.setPen(pen(arg or INK, 2.6 * u, style))
+            p.drawLine(QPointF(x0, cy), QPointF(x0 + sw, cy))
+        elif kind == "pivot":
+            r = 8 * u
+            p.setPen(pen(INK, 2.0 * u))
+            p.setBrush(Qt.BrushStyle.NoBrush)
+            p.drawArc(QRectF(x0 + sw / 2 - r, cy - r, 2 * r, 2 * r), 30 * 16, 300 * 16)
+        elif kind == "band":
+            p.setPen(Qt.PenStyle.NoPen)
+            p.setBrush(QBrush(QColor(*BAND_RGBA)))
+            p.drawRect(sample)
+        elif kind == "outline":
+            p.setPen(pen("#3D3D3D", 1.1 * u))
+            p.setBrush(Qt.BrushStyle.NoBrush)
+            p.drawRect(QRectF(x0 + 6 * u, cy - 6 * u, sw - 12 * u, 12 * u))
+        elif kind == "waypoint":
+            r = 8 * u
+            p.setPen(pen(INK, 2.0 * u))
+            p.setBrush(QBrush(QColor("#FFFFFF")))
+            c = QPointF(x0 + sw / 2, cy)
+            p.drawEllipse(c, r, r)
+            p.setFont(font(9 * u, bold=True))
+            p.drawText(QRectF(c.x() - r, c.y() - r, 2 * r, 2 * r),
+                       Qt.AlignmentFlag.AlignCenter, "1")
+        elif kind == "violation":
+            draw_marker(p, arg, QPointF(x0 + sw / 2, cy), 7.5 * u)
+        p.setPen(QColor(INK if "(none)" not in text else FAINT_INK))
+        p.setFont(f)
+        tx = x0 + sw + 10 * u
+        p.drawText(QRectF(tx, y, box.right() - tx - 6 * u, row_h),
+                   Qt.AlignmentFlag.AlignVCenter | Qt.AlignmentFlag.AlignLeft,
+                   fm.elidedText(text, Qt.TextElideMode.ElideRight, box.right() - tx - 6 * u))
+        y += row_h
+
+
+# -- images and files -----------------------------------------------------------------------
+def new_image(size: tuple[int, int]) -> QImage:
+    img = QImage(int(size[0]), int(size[1]), QImage.Format.Format_ARGB32)
+    img.fill(QColor("#FFFFFF"))
+    return img
+
+
+def image_png_bytes(img: QImage) -> bytes:
+    """The PNG encoding of ``img``."""
+    data = QByteArray()
+    buf = QBuffer(data)
+    buf.open(QIODevice.OpenModeFlag.WriteOnly)
+    if not img.save(buf, "PNG"):
+        raise RuntimeError("Qt could not encode the picture as PNG")
+    buf.close()
+    return bytes(data.data())
+
+
+def render_project_image(project: Any, route_name: str | None = None,
+                         size: tuple[int, int] = (1600, 1000)) -> QImage:
+    """Plan, check and draw ``project`` (or one route of it) onto a new image."""
+    ensure_app()
+    plans, checks, errors = compute_results(project, route_name)
+    img = new_image(size)
+    render_scene(img, project, plans, checks, route_name, size, errors=errors)
+    return img
+
+
+def render_project_png(project: Any, path: str | Path, route_name: str | None = None,
+                       size: tuple[int, int] = (1600, 1000)) -> None:
+    """Write the picture of ``project`` as a PNG file, atomically.
+
+    Plans every route (or only ``route_name``) with :func:`kinematics.planner.plan_route`,
+    checks it with :mod:`kinematics.clearance`, and draws it with :func:`render_scene`.
+    """
+    from kinematics.jsonio import atomic_write_bytes
+
+    img = render_project_image(project, route_name, size)
+    atomic_write_bytes(path, image_png_bytes(img))
+
+
+# -- plots without widgets ------------------------------------------------------------------
+#: Line styles per wheel, so wheels differ by dash as well as by colour.
+WHEEL_STYLES = (Qt.PenStyle.SolidLine, Qt.PenStyle.DashLine, Qt.PenStyle.DotLine,
+                Qt.PenStyle.DashDotLine)
+WHEEL_COLOURS = (BLUE, ORANGE, PURPLE, GREEN)
+#: Words for the limit that binds, by the profile's key.
+LIMIT_WORDS = {"max_speed_mps": "max speed", "max_wheel_rate_radps": "max wheel rate",
+               "max_lateral_accel_mps2": "lateral-accel cap", "max_yaw_rate_dps": "yaw-rate cap"}
+
+
+def _ticks(lo: float, hi: float, n: int = 6) -> list[float]:
+    step = nice_length((hi - lo) / n * 1.6) if hi > lo else 1.0
+    t = math.ceil(lo / step) * step
+    out = []
+    while t <= hi + 1e-9 * step:
+        out.append(0.0 if abs(t) < 1e-12 else t)
+        t += step
+    return out
+
+
+def _draw_axes_box(p: QPainter, rect: QRectF, xr: tuple[float, float], yr: tuple[float, float],
+                   xlabel: str, ylabel: str, u: float):
+    f = font(11 * u)
+    p.setFont(f)
+    fm = QFontMetricsF(f)
+    p.setPen(pen("#B0B0B0", 1.0))
+    p.setBrush(QBrush(QColor("#FFFFFF")))
+    p.drawRect(rect)
+
+    def X(x: float) -> float:
+        return rect.left() + (x - xr[0]) / (xr[1] - xr[0]) * rect.width()
+
+    def Y(y: float) -> float:
+        return rect.bottom() - (y - yr[0]) / (yr[1] - yr[0]) * rect.height()
+
+    for t in _ticks(*xr):
+        x = X(t)
+        p.setPen(pen("#ECECEC", 1.0))
+        p.drawLine(QPointF(x, rect.top()), QPointF(x, rect.bottom()))
+        p.setPen(QColor(INK))
+        s = f"{t:g}"
+        p.drawText(QPointF(x - fm.horizontalAdvance(s) / 2, rect.bottom() + fm.height()), s)
+    for t in _ticks(*yr, n=5):
+        y = Y(t)
+        p.setPen(pen("#ECECEC", 1.0))
+        p.drawLine(QPointF(rect.left(), y), QPointF(rect.right(), y))
+        p.setPen(QColor(INK))
+        s = f"{t:g}"
+        p.drawText(QPointF(rect.left() - fm.horizontalAdvance(s) - 5 * u, y + fm.ascent() / 2.5), s)
+    p.setPen(QColor(INK))
+    p.drawText(QRectF(rect.left(), rect.bottom() + fm.height() + 2 * u, rect.width(),
+                      fm.height() + 2), Qt.AlignmentFlag.AlignCenter, xlabel)
+    p.save()
+    p.translate(rect.left() - 48 * u, rect.center().y())
+    p.rotate(-90)
+    p.drawText(QRectF(-rect.height() / 2, -fm.height(), rect.height(), fm.height() + 2),
+               Qt.AlignmentFlag.AlignCenter, ylabel)
+    p.restore()
+    return X, Y
+
+
+def _limit_line(p: QPainter, rect: QRectF, y: float, text: str, u: float,
+                right: bool = True) -> None:
+    p.setPen(pen(VERMILLION, 1.6 * u, Qt.PenStyle.DashLine))
+    p.drawLine(QPointF(rect.left(), y), QPointF(rect.right(), y))
+    f = font(10.5 * u)
+    fm = QFontMetricsF(f)
+    w = fm.horizontalAdvance(text) + 8
+    r = QRectF(rect.right() - w - 4 if right else rect.left() + 4, y - fm.height() - 1, w,
+               fm.height())
+    p.setPen(Qt.PenStyle.NoPen)
+    p.setBrush(QBrush(qcolor("#FFFFFF", 220)))
+    p.drawRect(r)
+    p.setPen(QColor("#7A2E00"))
+    p.setFont(f)
+    p.drawText(r, Qt.AlignmentFlag.AlignCenter, text)
+
+
+def draw_plots(p: QPainter, rect: QRectF, schedule: Any, x_axis: str = "time",
+               title: str | None = None) -> None:
+    """Speed and every wheel's rate against time or distance, with the limits dashed.
+
+    Data from :func:`kinematics.schedule.schedule_series`. The speed panel also shows each
+    segment's speed cap (dotted) named by the limit that sets it, so the binding limit is
+    read off at a glance.
+    """
+    from kinematics.schedule import schedule_series
+
+    u = max(0.45, min(rect.width() / 1200.0, rect.height() / 700.0))
+    p.setRenderHint(QPainter.RenderHint.Antialiasing, True)
+    p.fillRect(rect, QColor("#FFFFFF"))
+    s = schedule_series(schedule)
+    xs = s["t_s"] if x_axis == "time" else s["station_m"]
+    xlabel = "time (s)" if x_axis == "time" else "distance along the route (m)"
+    top = rect.top()
+    if title:
+        p.setPen(QColor(INK))
+        p.setFont(font(15 * u, bold=True))
+        p.drawText(QRectF(rect.left() + 10 * u, top + 4 * u, rect.width(), 24 * u),
+                   Qt.AlignmentFlag.AlignVCenter, title)
+        top += 30 * u
+    left_pad, right_pad = 70 * u, 150 * u
+    gap = 52 * u
+    ph = (rect.bottom() - top - 2 * gap) / 2
+    r1 = QRectF(rect.left() + left_pad, top + 10 * u, rect.width() - left_pad - right_pad, ph)
+    r2 = QRectF(r1.left(), r1.bottom() + gap, r1.width(), ph)
+    if xs.size < 2:
+        p.setPen(QColor(FAINT_INK))
+        p.setFont(font(14 * u))
+        p.drawText(rect, Qt.AlignmentFlag.AlignCenter, "nothing moves on this route")
+        return
+    xr = (float(xs.min()), float(max(xs.max(), xs.min() + 1e-6)))
+    lim = s["limits"]
+    v = s["v_mps"]
+    vmax = lim["max_speed_mps"]
+    cap = lim["speed_cap_mps"]
+    top_v = max(float(np.nanmax(v)) if v.size else 0.0, vmax or 0.0) * 1.15 or 1.0
+    X, Y = _draw_axes_box(p, r1, xr, (0.0, top_v), xlabel, "speed (m/s)", u)
+    p.save()
+    p.setClipRect(r1)
+    # Per-segment speed cap (dotted), broken between segments.
+    seg = s["segment"]
+    p.setPen(pen(FAINT_INK, 1.3 * u, Qt.PenStyle.DotLine))
+    prof = schedule.profile
+    caps_drawn: list[tuple[float, float, float, str]] = []
+    for i in np.unique(seg):
+        m = seg == i
+        c = cap[m]
+        if not np.all(np.isfinite(c)):
+            continue
+        x0, x1 = float(xs[m].min()), float(xs[m].max())
+        cy = float(c[0])
+        if vmax is not None and cy >= vmax * 0.999:
+            continue  # the max-speed line already says it
+        p.drawLine(QPointF(X(x0), Y(min(cy, top_v))), QPointF(X(x1), Y(min(cy, top_v))))
+        caps_drawn.append((x0, x1, cy, LIMIT_WORDS.get(prof.binding[int(i)], prof.binding[int(i)])))
+    p.setPen(pen(BLUE, 2.2 * u))
+    p.drawPolyline(QPolygonF([QPointF(X(a), Y(b)) for a, b in zip(xs, v)]))
+    if vmax is not None:
+        _limit_line(p, r1, Y(vmax), f"max speed {vmax:.2f} m/s", u)
+    f = font(10 * u)
+    fm = QFontMetricsF(f)
+    p.setFont(f)
+    last_right = -1e9
+    for x0, x1, cy, word in caps_drawn:
+        text = word
+        w = fm.horizontalAdvance(text)
+        xm = (X(x0) + X(x1)) / 2 - w / 2
+        if xm < last_right + 4 or X(x1) - X(x0) < 10:
+            continue
+        p.setPen(QColor(FAINT_INK))
+        p.drawText(QPointF(xm, Y(min(cy, top_v)) - 4 * u), text)
+        last_right = xm + w
+    p.restore()
+
+    rates = s["rate_radps"]
+    allr = np.concatenate([np.abs(a) for a in rates.values()]) if rates else np.zeros(1)
+    wmax = lim["max_wheel_rate_radps"]
+    hi = max(float(np.nanmax(allr)) if allr.size else 0.0, wmax or 0.0) * 1.15 or 1.0
+    lo = -hi if any(np.nanmin(a) < -1e-9 for a in rates.values()) else 0.0
+    X2, Y2 = _draw_axes_box(p, r2, xr, (lo, hi), xlabel, "wheel rate (rad/s)", u)
+    p.save()
+    p.setClipRect(r2)
+    for k, a in enumerate(rates.values()):
+        p.setPen(pen(WHEEL_COLOURS[k % 4], 2.0 * u, WHEEL_STYLES[k % 4]))
+        p.drawPolyline(QPolygonF([QPointF(X2(x), Y2(y)) for x, y in zip(xs, a)]))
+    if wmax is not None:
+        _limit_line(p, r2, Y2(wmax), f"max wheel rate {wmax:.1f} rad/s", u)
+        if lo < 0:
+            _limit_line(p, r2, Y2(-wmax), f"max wheel rate -{wmax:.1f} rad/s", u)
+    p.restore()
+    # Wheel legend to the right of the lower panel.
+    y = r2.top() + 4 * u
+    f = font(11 * u)
+    p.setFont(f)
+    for k, name in enumerate(rates):
+        xl = r2.right() + 14 * u
+        p.setPen(pen(WHEEL_COLOURS[k % 4], 2.0 * u, WHEEL_STYLES[k % 4]))
+        p.drawLine(QPointF(xl, y + 8 * u), QPointF(xl + 30 * u, y + 8 * u))
+        p.setPen(QColor(INK))
+        p.drawText(QRectF(xl + 36 * u, y, right_pad - 50 * u, 16 * u),
+                   Qt.AlignmentFlag.AlignVCenter, name.replace("_", " "))
+        y += 20 * u
+    xl = r1.right() + 14 * u
+    yy = r1.top() + 4 * u
+    p.setPen(pen(BLUE, 2.2 * u))
+    p.drawLine(QPointF(xl, yy + 8 * u), QPointF(xl + 30 * u, yy + 8 * u))
+    p.setPen(QColor(INK))
+    p.drawText(QRectF(xl + 36 * u, yy, right_pad - 50 * u, 16 * u),
+               Qt.AlignmentFlag.AlignVCenter, "speed")
+    yy += 20 * u
+    p.setPen(pen(FAINT_INK, 1.3 * u, Qt.PenStyle.DotLine))
+    p.drawLine(QPointF(xl, yy + 8 * u), QPointF(xl + 30 * u, yy + 8 * u))
+    p.setPen(QColor(INK))
+    p.drawText(QRectF(xl + 36 * u, yy, right_pad - 50 * u, 16 * u),
+               Qt.AlignmentFlag.AlignVCenter, "segment cap")
+    yy += 20 * u
+    p.setPen(pen(VERMILLION, 1.6 * u, Qt.PenStyle.DashLine))
+    p.drawLine(QPointF(xl, yy + 8 * u), QPointF(xl + 30 * u, yy + 8 * u))
+    p.setPen(QColor(INK))
+    p.drawText(QRectF(xl + 36 * u, yy, right_pad - 50 * u, 16 * u),
+               Qt.AlignmentFlag.AlignVCenter, "limit")
+
+
+def render_plot_image(schedule: Any, size: tuple[int, int] = (1200, 700),
+                      x_axis: str = "time", title: str | None = None) -> QImage:
+    """The speed and wheel-rate plots of ``schedule`` on a new image."""
+    ensure_app()
+    img = new_image(size)
+    p = QPainter(img)
+    try:
+        draw_plots(p, QRectF(0, 0, size[0], size[1]), schedule, x_axis,
+                   title if title is not None else f"{schedule.route}: speed and wheel rates")
+    finally:
+        p.end()
+    return img
+
+
+def render_plot_png(schedule: Any, path: str | Path, size: tuple[int, int] = (1200, 700),
+                    x_axis: str = "time", title: str | None = None) -> None:
+    """Write the speed and wheel-rate plots of ``schedule`` as a PNG file, atomically.
+
+    Parameters
+    ----------
+    schedule : kinematics.schedule.Schedule
+    path : str or Path
+    size : (int, int)
+        Pixels.
+    x_axis : {"time", "distance"}
+    title : str, optional
+        Default: the route name.
+    """
+    from kinematics.jsonio import atomic_write_bytes
+
+    atomic_write_bytes(path, image_png_bytes(render_plot_image(schedule, size, x_axis, title)))
