@@ -1,0 +1,195 @@
+"""Speed and wheel-rate plots of the current route, over time or over distance.
+
+Two linked pyqtgraph plots: the speed of the reference point, and every wheel's rate. Each
+limit of the chassis is a dashed horizontal line labelled with its name (max speed, max wheel
+rate), and each segment's own speed cap is drawn dotted and named by the limit that sets it
+(lateral-accel cap, yaw-rate cap, max wheel rate), so a user sees at a glance which limit
+binds where. Data from :func:`kinematics.schedule.schedule_series`.
+
+Wheels differ by line style as well as colour (Okabe-Ito palette, Okabe & Ito 2008).
+"""
+
+from __future__ import annotations
+
+import math
+from typing import Any
+
+import numpy as np
+import pyqtgraph as pg
+from PySide6.QtCore import Qt, QTimer
+from PySide6.QtWidgets import QButtonGroup, QHBoxLayout, QLabel, QRadioButton, QVBoxLayout, QWidget
+
+from .render import BLUE, FAINT_INK, LIMIT_WORDS, VERMILLION, WHEEL_COLOURS, WHEEL_STYLES
+
+
+def _limit_line(plot: pg.PlotItem, y: float, text: str, anchor_right: bool = True
+                ) -> pg.InfiniteLine:
+    line = pg.InfiniteLine(pos=y, angle=0, movable=False,
+                           pen=pg.mkPen(VERMILLION, width=1.5, style=Qt.PenStyle.DashLine),
+                           label=text,
+                           labelOpts={"position": 0.98 if anchor_right else 0.02,
+                                      "color": "#7A2E00", "fill": (255, 255, 255, 210),
+                                      "anchors": [(1, 1), (1, 1)] if anchor_right
+                                      else [(0, 1), (0, 1)]})
+    plot.addItem(line)
+    return line
+
+
+class PlotsPanel(QWidget):
+    """Speed and wheel rates of the document's current route.
+
+    Attributes
+    ----------
+    x_axis : str
+        ``"time"`` or ``"distance"``.
+    limit_lines : list of pyqtgraph.InfiniteLine
+        The dashed limit lines now shown (their labels name the limits).
+    cap_labels : list of str
+        The binding-limit names written over the segment caps.
+    """
+
+    def __init__(self, doc: Any, parent: QWidget | None = None) -> None:
+        super().__init__(parent)
+        self.doc = doc
+        self.x_axis = "time"
+        self.limit_lines: list[pg.InfiniteLine] = []
+        self.cap_labels: list[str] = []
+        self._extra_items: list[tuple[pg.PlotItem, Any]] = []
+
+        lay = QVBoxLayout(self)
+        lay.setContentsMargins(4, 4, 4, 4)
+        bar = QHBoxLayout()
+        bar.addWidget(QLabel("Plot against:"))
+        self.by_time = QRadioButton("time (s)")
+        self.by_distance = QRadioButton("distance (m)")
+        self.by_time.setChecked(True)
+        group = QButtonGroup(self)
+        group.addButton(self.by_time)
+        group.addButton(self.by_distance)
+        self.by_time.toggled.connect(self._axis_toggled)
+        bar.addWidget(self.by_time)
+        bar.addWidget(self.by_distance)
+        bar.addStretch(1)
+        self.status = QLabel()
+        self.status.setStyleSheet(f"color: {FAINT_INK};")
+        bar.addWidget(self.status)
+        lay.addLayout(bar)
+
+        self.graphics = pg.GraphicsLayoutWidget()
+        self.graphics.setBackground("w")
+        self.speed_plot = self.graphics.addPlot(row=0, col=0)
+        self.rate_plot = self.graphics.addPlot(row=1, col=0)
+        self.rate_plot.setXLink(self.speed_plot)
+        for plot, label, unit in ((self.speed_plot, "speed", "m/s"),
+                                  (self.rate_plot, "wheel rate", "rad/s")):
+            plot.showGrid(x=True, y=True, alpha=0.25)
+            plot.setLabel("left", label, units=unit)
+            plot.getAxis("left").enableAutoSIPrefix(False)
+            plot.getAxis("bottom").enableAutoSIPrefix(False)
+            for ax in ("left", "bottom"):
+                plot.getAxis(ax).setPen(pg.mkPen("#555555"))
+                plot.getAxis(ax).setTextPen(pg.mkPen("#222222"))
+        self.speed_legend = self.speed_plot.addLegend(offset=(-10, 8), labelTextColor="#222222",
+                                                      brush=(255, 255, 255, 200))
+        self.rate_legend = self.rate_plot.addLegend(offset=(-10, 8), labelTextColor="#222222",
+                                                    brush=(255, 255, 255, 200))
+        lay.addWidget(self.graphics, 1)
+
+        self._timer = QTimer(self)
+        self._timer.setSingleShot(True)
+        self._timer.setInterval(0)  # coalesce bursts of signals into one redraw
+        self._timer.timeout.connect(self.refresh)
+        for sig in ("resultsChanged", "projectReplaced"):
+            getattr(doc, sig).connect(self._timer.start)
+        doc.currentRouteChanged.connect(lambda _i: self._timer.start())
+        self.refresh()
+
+    def _axis_toggled(self, _checked: bool) -> None:
+        self.set_x_axis("time" if self.by_time.isChecked() else "distance")
+
+    def set_x_axis(self, which: str) -> None:
+        """Plot against ``"time"`` or ``"distance"``."""
+        if which not in ("time", "distance"):
+            raise ValueError("x axis is 'time' or 'distance'")
+        self.x_axis = which
+        (self.by_time if which == "time" else self.by_distance).setChecked(True)
+        self.refresh()
+
+    def _clear(self) -> None:
+        for plot in (self.speed_plot, self.rate_plot):
+            plot.clear()
+        for legend in (self.speed_legend, self.rate_legend):
+            legend.clear()
+        self.limit_lines = []
+        self.cap_labels = []
+
+    def refresh(self) -> None:
+        self._clear()
+        r = self.doc.route()
+        s = self.doc.schedule(r.name) if r is not None else None
+        xlabel = ("time", "s") if self.x_axis == "time" else ("distance along the route", "m")
+        for plot in (self.speed_plot, self.rate_plot):
+            plot.setLabel("bottom", xlabel[0], units=xlabel[1])
+        if s is None:
+            err = self.doc.error(r.name) if r is not None else None
+            self.status.setText("No route." if r is None else
+                                f"{r.name}: no schedule" + (f" \u2014 {err}" if err else ""))
+            return
+        from kinematics.schedule import schedule_series
+
+        series = schedule_series(s)
+        xs = series["t_s"] if self.x_axis == "time" else series["station_m"]
+        lim = series["limits"]
+        self.status.setText(f"{s.route}: {s.profile.total_time_s:.1f} s, "
+                            f"{float(series['station_m'][-1]) if xs.size else 0.0:.2f} m")
+
+        self.speed_plot.plot(xs, series["v_mps"], pen=pg.mkPen(BLUE, width=2), name="speed")
+        self._draw_caps(xs, series, s)
+        if lim["max_speed_mps"] is not None:
+            self.limit_lines.append(_limit_line(
+                self.speed_plot, lim["max_speed_mps"],
+                f"max speed {lim['max_speed_mps']:.2f} m/s"))
+
+        rates = series["rate_radps"]
+        for k, (name, a) in enumerate(rates.items()):
+            self.rate_plot.plot(xs, a, name=name.replace("_", " "),
+                                pen=pg.mkPen(WHEEL_COLOURS[k % 4], width=2,
+                                             style=WHEEL_STYLES[k % 4]))
+        wmax = lim["max_wheel_rate_radps"]
+        if wmax is not None:
+            self.limit_lines.append(_limit_line(self.rate_plot, wmax,
+                                                f"max wheel rate {wmax:.1f} rad/s"))
+            if any(np.nanmin(a) < -1e-9 for a in rates.values() if a.size):
+                self.limit_lines.append(_limit_line(self.rate_plot, -wmax,
+                                                    f"max wheel rate -{wmax:.1f} rad/s"))
+        for plot in (self.speed_plot, self.rate_plot):
+            plot.enableAutoRange()
+
+    def _draw_caps(self, xs: np.ndarray, series: dict, s: Any) -> None:
+        """Each segment's speed cap, dotted, named by the limit that sets it."""
+        seg = series["segment"]
+        cap = series["limits"]["speed_cap_mps"]
+        vmax = series["limits"]["max_speed_mps"]
+        bx, by = [], []
+        for i in np.unique(seg):
+            m = seg == i
+            c = cap[m]
+            if not c.size or not np.all(np.isfinite(c)):
+                continue
+            if vmax is not None and float(c[0]) >= vmax * 0.999:
+                continue
+            x0, x1 = float(xs[m].min()), float(xs[m].max())
+            if x1 <= x0:
+                continue
+            bx += [x0, x1, math.nan]
+            by += [float(c[0]), float(c[0]), math.nan]
+            key = s.profile.binding[int(i)]
+            word = LIMIT_WORDS.get(key, key)
+            self.cap_labels.append(word)
+            t = pg.TextItem(word, color=FAINT_INK, anchor=(0.5, 1.0))
+            t.setPos((x0 + x1) / 2, float(c[0]))
+            self.speed_plot.addItem(t)
+        if bx:
+            self.speed_plot.plot(np.array(bx), np.array(by), connect="finite",
+                                 pen=pg.mkPen(FAINT_INK, width=1.3, style=Qt.PenStyle.DotLine),
+                                 name="segment cap")

@@ -1,0 +1,303 @@
+"""Side panels and background jobs: chassis edits and undo, inline refusals, the results list,
+the schedule table's exports, the sizing job and its Cancel, the plots' limit lines."""
+
+from __future__ import annotations
+
+import math
+import os
+import threading
+import time
+
+os.environ.setdefault("QT_QPA_PLATFORM", "offscreen")
+
+import numpy as np  # noqa: E402
+import pytest  # noqa: E402
+from PySide6.QtWidgets import QTableWidgetItem  # noqa: E402
+
+from app.document import Document  # noqa: E402
+from app.panels import PRESETS, ChassisPanel, ResultsPanel, ScheduleTable  # noqa: E402
+from app.workers import Cancelled, error_text, run_in_background  # noqa: E402
+from kinematics.errors import GeometryError  # noqa: E402
+from kinematics.floorplan import Door, FloorPlan, Obstacle, Wall  # noqa: E402
+from kinematics.project import Chassis, Project, Route, Waypoint  # noqa: E402
+
+
+def small_project() -> Project:
+    """An invented 12 m x 6 m store room with a door and a crate in the second route's way."""
+    walls = (Wall(((0, 0), (12, 0), (12, 6), (0, 6), (0, 0)), 0.2),
+             Wall(((6, 0), (6, 2.5)), 0.15), Wall(((6, 3.5), (6, 6)), 0.15))
+    obstacles = (Obstacle(((8.0, 1.2), (9.0, 1.2), (9.0, 1.9), (8.0, 1.9)), "crate"),)
+    fp = FloorPlan("test store room", walls, obstacles, (Door((6.0, 2.5), (6.0, 3.5), "D-1"),))
+    chassis = Chassis(name="test tug", drive="differential",
+                      footprint=((-0.3, -0.3), (0.6, -0.3), (0.6, 0.3), (-0.3, 0.3)),
+                      margin_m=0.05, wheel_radius_m=0.1, track_m=0.5,
+                      max_wheel_rate_radps=12.0, max_lateral_accel_mps2=0.5)
+    routes = (Route("into-crate", (Waypoint(7.0, 1.5), Waypoint(10.5, 1.5)), 0.0),
+              Route("through-door", (Waypoint(1.5, 3.0), Waypoint(10.5, 3.0),
+                                     Waypoint(10.5, 5.0)), 0.8))
+    return Project(fp, chassis, routes)
+
+
+@pytest.fixture
+def doc(qapp):
+    return Document(small_project())
+
+
+# -- chassis ----------------------------------------------------------------------------------
+def test_editing_track_is_one_undo_step(doc, qtbot):
+    panel = ChassisPanel(doc)
+    qtbot.addWidget(panel)
+    before = doc.project.chassis
+    panel.fields["track_m"].setValue(0.62)
+    assert doc.project.chassis.track_m == pytest.approx(0.62)
+    assert doc.project.chassis.footprint == before.footprint
+    assert doc.undo_stack.count() == 1
+    doc.undo_stack.undo()
+    assert doc.project.chassis == before
+    # The form follows the document back.
+    assert panel.fields["track_m"].value() == pytest.approx(0.5)
+
+
+def test_footprint_cell_edit_and_optional_limit(doc, qtbot):
+    panel = ChassisPanel(doc)
+    qtbot.addWidget(panel)
+    panel.table.setItem(1, 0, QTableWidgetItem("0.8"))
+    panel.table.setItem(2, 0, QTableWidgetItem("0.8"))
+    assert doc.project.chassis.footprint[1] == (0.8, -0.3)
+    assert doc.project.chassis.footprint[2] == (0.8, 0.3)
+    panel.fields["max_lateral_accel_mps2"].setValue(0.0)  # shown as "none": no such limit
+    assert doc.project.chassis.max_lateral_accel_mps2 is None
+    assert panel.fields["max_lateral_accel_mps2"].text() == "none"
+
+
+def test_self_intersecting_footprint_shows_message_not_exception(doc, qtbot):
+    panel = ChassisPanel(doc)
+    qtbot.addWidget(panel)
+    panel.show()
+    before = doc.project.chassis
+    # Moving the last corner of the rectangle to (1.2, 0.3) makes its closing edge cross the
+    # front edge x = 0.6 at y = 0.06. Source: shapely Polygon.is_valid (OGC Simple Features:
+    # a polygon's boundary must not cross itself).
+    panel.table.setItem(3, 0, QTableWidgetItem("1.2"))
+    assert panel.message.isVisible()
+    assert "crosses itself" in panel.message.text()
+    assert "Footprint" in panel.message.text()
+    assert doc.project.chassis == before
+    assert not panel.preview.valid
+    assert doc.undo_stack.count() == 0
+    # Putting the corner back clears the message; nothing changed, so nothing to undo.
+    panel.table.setItem(3, 0, QTableWidgetItem("-0.3"))
+    assert not panel.message.isVisible()
+    assert doc.project.chassis == before
+    assert doc.undo_stack.count() == 0
+
+
+def test_bad_cell_text_and_zero_size_refused_inline(doc, qtbot):
+    panel = ChassisPanel(doc)
+    qtbot.addWidget(panel)
+    panel.show()
+    before = doc.project.chassis
+    panel.table.setItem(0, 1, QTableWidgetItem("abc"))
+    assert panel.message.isVisible() and "row 1" in panel.message.text()
+    assert doc.project.chassis == before
+    panel.load()
+    # A negative size cannot be typed (the box stops at 0) and 0 is refused with a message.
+    panel.fields["wheel_radius_m"].setValue(-0.2)
+    assert panel.fields["wheel_radius_m"].value() == 0.0
+    assert panel.message.isVisible() and "Wheel radius" in panel.message.text()
+    assert doc.project.chassis == before
+
+
+def test_form_check_names_the_field(doc):
+    from app.panels import chassis_from_form
+
+    vals = {"name": "x", "drive": "differential", "track_m": -0.4, "wheel_radius_m": 0.1,
+            "margin_m": 0.05, "max_speed_mps": 1.0, "max_accel_mps2": 0.5}
+    rows = [("-0.3", "-0.3"), ("0.6", "-0.3"), ("0.6", "0.3"), ("-0.3", "0.3")]
+    with pytest.raises(Exception) as ei:
+        chassis_from_form(vals, rows)
+    assert "track_m" in ei.value.place
+    with pytest.raises(GeometryError):
+        chassis_from_form(dict(vals, track_m=0.5), [rows[0], rows[2], rows[1], rows[3]])
+
+
+def test_drive_change_and_preset(doc, qtbot):
+    panel = ChassisPanel(doc)
+    qtbot.addWidget(panel)
+    name = next(n for n in PRESETS if "ackermann" in n)
+    i = panel.preset.findText(name)
+    panel.preset.setCurrentIndex(i)
+    panel.preset.activated.emit(i)
+    assert doc.project.chassis == PRESETS[name]
+    assert panel.drive.currentData() == "ackermann"
+    assert panel.fields["max_steer_deg"].isEnabled()
+    assert not panel.fields["effective_track_factor"].isEnabled()
+    doc.undo_stack.undo()
+    assert doc.project.chassis.drive == "differential"
+    assert not panel.fields["max_steer_deg"].isEnabled()
+
+
+def test_presets_are_valid_chassis():
+    from kinematics.drives import drive_for
+    from kinematics.project import chassis_from_dict, chassis_to_dict
+
+    for name, c in PRESETS.items():
+        # Round trip through the project file's reader: every preset is a chassis the file
+        # format accepts.
+        assert chassis_from_dict(chassis_to_dict(c), name) == c
+        drive_for(c)
+
+
+# -- results ----------------------------------------------------------------------------------
+def test_results_list_matches_check_and_click_zooms(doc, qtbot):
+    pytest.importorskip("kinematics.clearance")
+    panel = ResultsPanel(doc)
+    qtbot.addWidget(panel)
+    doc.set_current_route(0)
+    chk = doc.check("into-crate")
+    assert chk is not None and chk.violations
+    assert panel.violations.rowCount() == len(chk.violations)
+    assert "VIOLATION" in panel.verdict.text()
+    with qtbot.waitSignal(panel.zoomRequested, timeout=2000) as sig:
+        panel.violations.cellClicked.emit(0, 2)
+    v = chk.violations[0]
+    assert sig.args == [pytest.approx(v.x), pytest.approx(v.y)]
+    doc.set_current_route(1)
+    chk = doc.check("through-door")
+    assert panel.violations.rowCount() == len(chk.violations)
+    labels = [panel.doors.item(r, 0).text() for r in range(panel.doors.rowCount())]
+    assert labels == [d.label for d in chk.doors]
+
+
+def test_sizing_job_runs_and_reports_progress(doc, qtbot):
+    panel = ResultsPanel(doc)
+    qtbot.addWidget(panel)
+    seen = []
+
+    def fake(project, name, token):
+        for k in range(5):
+            token.report(k / 5, "step")
+            time.sleep(0.01)
+        seen.append(name)
+        return {"route": name, "widest": {"width_m": 0.75}, "longest": {"length_m": 1.5},
+                "doors": [{"label": "D-1", "width_needed_m": 0.71, "width_m": 1.0}]}
+
+    panel.sizing_compute = fake
+    with qtbot.waitSignal(panel.sizingFinished, timeout=5000):
+        panel.start_sizing()
+    assert seen == [doc.route().name]
+    assert "0.750 m" in panel.sizing_label.text()
+    assert "D-1 needs 0.710 m" in panel.sizing_label.text()
+    assert panel.current_sizing() is not None
+    # An edit makes the answers stale: the panel says so and does not hand them out.
+    doc.set_chassis(Chassis(**{**doc.project.chassis.__dict__, "track_m": 0.55}))
+    assert panel.current_sizing() is None
+    assert "changed" in panel.sizing_label.text()
+
+
+def test_sizing_job_can_be_cancelled(doc, qtbot):
+    panel = ResultsPanel(doc)
+    qtbot.addWidget(panel)
+    started = threading.Event()
+
+    def slow(project, name, token):
+        started.set()
+        while not token():
+            time.sleep(0.005)
+        raise Cancelled()
+
+    panel.sizing_compute = slow
+    job = panel.start_sizing()
+    assert started.wait(5)
+    assert panel.cancel_button.isEnabled()
+    with qtbot.waitSignal(job.cancelled, timeout=5000):
+        panel.cancel_button.click()
+    qtbot.waitUntil(lambda: panel.sizing_button.isEnabled(), timeout=2000)
+    assert "Cancelled" in panel.sizing_label.text()
+    assert panel.current_sizing() is None
+
+
+def test_real_sizing_runs_and_cancels(doc, qtbot):
+    pytest.importorskip("kinematics.sizing")
+    panel = ResultsPanel(doc)
+    qtbot.addWidget(panel)
+    doc.set_current_route(1)
+    with qtbot.waitSignal(panel.sizingFinished, timeout=60000) as sig:
+        panel.start_sizing()
+    assert sig.args[0]["route"] == "through-door"
+    assert panel.sizing_label.text() and "Not computed" not in panel.sizing_label.text()
+    job = panel.start_sizing()
+    with qtbot.waitSignal(job.finished, timeout=60000):
+        job.cancel()
+    assert panel.sizing_button.isEnabled() or job.token.cancelled
+
+
+# -- workers ----------------------------------------------------------------------------------
+def test_worker_result_and_errors_come_back_as_one_line(qapp, qtbot):
+    got = {}
+    job = run_in_background(lambda tok: sum(range(10)), done_cb=lambda r: got.setdefault("r", r))
+    qtbot.waitUntil(lambda: "r" in got, timeout=3000)
+    assert got["r"] == 45 and job.token() is False
+
+    def bad(tok):
+        raise GeometryError("plan.json", "obstacles[2]", "expected a polygon")
+
+    job = run_in_background(bad, error_cb=lambda m: got.setdefault("e", m))
+    qtbot.waitUntil(lambda: "e" in got, timeout=3000)
+    assert got["e"] == "plan.json: obstacles[2]: expected a polygon"
+    assert error_text(KeyError("x")) == "KeyError: 'x'"
+    assert "\n" not in error_text(RuntimeError("one\ntwo"))
+
+
+# -- schedule table ----------------------------------------------------------------------------
+def test_schedule_table_exports_equal_the_core(doc, qtbot, tmp_path):
+    from kinematics.jsonio import dumps
+    from kinematics.planner import plan_route
+    from kinematics.schedule import (
+        build_schedule,
+        csv_columns,
+        schedule_to_csv,
+        schedule_to_dict,
+    )
+
+    table = ScheduleTable(doc)
+    qtbot.addWidget(table)
+    doc.set_current_route(1)
+    table.refresh()
+    r = doc.route()
+    sched = build_schedule(r.name, list(plan_route(r, doc.project.chassis).segments),
+                           doc.project.chassis, dt_s=doc.schedule_dt_s)
+    assert table.table.rowCount() == len(sched.segments)
+    heads = [table.table.horizontalHeaderItem(i).text()
+             for i in range(table.table.columnCount())]
+    assert heads == csv_columns(sched.drive)
+    table.export_csv(tmp_path / "s.csv")
+    table.export_json(tmp_path / "s.json")
+    assert (tmp_path / "s.csv").read_text(encoding="utf-8") == schedule_to_csv(sched)
+    assert (tmp_path / "s.json").read_text(encoding="utf-8") == dumps(schedule_to_dict(sched))
+
+
+# -- plots --------------------------------------------------------------------------------------
+def test_plots_show_series_and_named_limits(doc, qtbot):
+    from app.plots import PlotsPanel
+    from kinematics.schedule import schedule_series
+
+    panel = PlotsPanel(doc)
+    qtbot.addWidget(panel)
+    doc.set_current_route(1)  # has an arc: the lateral-acceleration cap binds there
+    panel.refresh()
+    s = schedule_series(doc.schedule("through-door"))
+    curves = panel.speed_plot.listDataItems()
+    speed = next(c for c in curves if c.name() == "speed")
+    x, y = speed.getData()
+    assert np.allclose(x, s["t_s"]) and np.allclose(y, s["v_mps"])
+    texts = [ln.label.format for ln in panel.limit_lines]
+    assert any("max speed" in t for t in texts)
+    assert any("max wheel rate" in t for t in texts)
+    assert "lateral-accel cap" in panel.cap_labels
+    panel.set_x_axis("distance")
+    speed = next(c for c in panel.speed_plot.listDataItems() if c.name() == "speed")
+    assert np.allclose(speed.getData()[0], s["station_m"])
+    wheels = [c.name() for c in panel.rate_plot.listDataItems()]
+    assert wheels == ["left", "right"]
+    assert math.isclose(float(np.max(s["v_mps"])), float(np.max(y)))
