@@ -1,0 +1,518 @@
+"""Project and floor-plan files: every mistake names the file and the place; round trips keep
+everything; saving is atomic; no input, however broken, escapes as another exception.
+"""
+
+from __future__ import annotations
+
+import copy
+import dataclasses
+import json
+import os
+import tempfile
+from pathlib import Path
+
+import ezdxf
+import pytest
+from hypothesis import HealthCheck, given, settings
+from hypothesis import strategies as st
+
+from kinematics.dxf_import import import_dxf
+from kinematics.errors import FileReadError, GeometryError, SwatheInputError, ValidationError
+from kinematics.floorplan import (
+    Door,
+    FloorPlan,
+    Obstacle,
+    Wall,
+    floorplan_to_dict,
+    load_floorplan,
+    save_floorplan,
+)
+from kinematics.project import (
+    DRIVES,
+    REQUIRED,
+    Chassis,
+    Project,
+    Route,
+    Waypoint,
+    load_project,
+    project_to_dict,
+    save_project,
+)
+from kinematics.svg_import import import_svg
+
+FLOOR = {"swathe_floorplan": 1, "name": "test level",
+         "walls": [{"points": [[0, 0], [20, 0], [20, 8]], "thickness_m": 0.15}],
+         "obstacles": [{"points": [[3, 3], [4, 3], [4, 4], [3, 4]], "label": "cart bay"}],
+         "doors": [{"a": [5.0, 0.0], "b": [5.9, 0.0], "label": "D-204"}]}
+CHASSIS = {"name": "tug", "drive": "differential",
+           "footprint": [[-0.3, -0.3], [0.6, -0.3], [0.6, 0.3], [-0.3, 0.3]],
+           "margin_m": 0.05, "wheel_radius_m": 0.1, "track_m": 0.5}
+PROJECT = {"swathe_project": 1, "floorplan": "level.floor.json", "chassis": CHASSIS,
+           "routes": [{"name": "a-to-b", "waypoints": [[1, 1], [8, 1], [8, 6, 90]],
+                       "turn_radius_m": 1.0, "reverse": False}]}
+
+
+def _write(tmp_path: Path, project: dict | str, floor: dict | str | None = FLOOR,
+           name: str = "p.swathe.json") -> Path:
+    if floor is not None:
+        text = floor if isinstance(floor, str) else json.dumps(floor)
+        (tmp_path / "level.floor.json").write_text(text, encoding="utf-8")
+    p = tmp_path / name
+    p.write_text(project if isinstance(project, str) else json.dumps(project), encoding="utf-8")
+    return p
+
+
+def _with(path: tuple, value, base: dict = PROJECT) -> dict:
+    """A deep copy of ``base`` with the item at ``path`` set (or deleted for ``...``)."""
+    d = copy.deepcopy(base)
+    node = d
+    for k in path[:-1]:
+        node = node[k]
+    if value is ...:
+        del node[path[-1]]
+    else:
+        node[path[-1]] = value
+    return d
+
+
+def _error(tmp_path, project, floor=FLOOR, kind=SwatheInputError):
+    p = _write(tmp_path, project, floor)
+    with pytest.raises(kind) as err:
+        load_project(p)
+    return p, err.value
+
+
+def test_the_valid_project_loads(tmp_path):
+    proj = load_project(_write(tmp_path, PROJECT))
+    assert proj.chassis.track_m == 0.5 and proj.routes[0].waypoints[2].heading_deg == 90
+    assert proj.floorplan.doors[0].label == "D-204"
+
+
+# -- JSON syntax ------------------------------------------------------------------------------
+def test_bad_json_names_line_and_column(tmp_path):
+    text = '{"swathe_project": 1,\n  "chassis": ,\n}'
+    p, e = _error(tmp_path, text, kind=FileReadError)
+    # Source: Python json.JSONDecodeError lineno / colno of the first bad token.
+    assert e.file == str(p) and e.place == "line 2, column 14"
+    assert str(p) in e.message and "line 2, column 14" in e.message
+
+
+@pytest.mark.parametrize("literal", ["NaN", "Infinity", "-Infinity"])
+def test_nan_and_infinity_literals_are_refused_with_their_place(tmp_path, literal):
+    # Source: RFC 8259 section 6: NaN and Infinity are not permitted JSON numbers.
+    text = json.dumps(PROJECT, indent=1).replace('"track_m": 0.5', f'"track_m": {literal}')
+    p, e = _error(tmp_path, text, kind=FileReadError)
+    line = next(i for i, ln in enumerate(text.splitlines(), 1) if literal in ln)
+    assert e.place.startswith(f"line {line}, column ") and literal in e.message
+
+
+def test_huge_number_that_overflows_to_infinity_names_the_key(tmp_path):
+    text = json.dumps(PROJECT).replace('"track_m": 0.5', '"track_m": 1e999')
+    _p, e = _error(tmp_path, text, kind=ValidationError)
+    assert e.place == "chassis.track_m" and "finite" in e.message
+
+
+def test_not_utf8_and_missing_project(tmp_path):
+    p = tmp_path / "bin.swathe.json"
+    p.write_bytes(b'{"swathe_project": 1, "name": "\xff\xfe"}')
+    with pytest.raises(FileReadError, match="UTF-8"):
+        load_project(p)
+    with pytest.raises(FileReadError, match="not found"):
+        load_project(tmp_path / "absent.swathe.json")
+
+
+# -- wrong types, missing keys, bad values ----------------------------------------------------
+@pytest.mark.parametrize("path, value, place, words", [
+    (("chassis", "track_m"), "wide", "chassis.track_m", "number"),
+    (("chassis", "track_m"), True, "chassis.track_m", "number"),
+    (("chassis", "margin_m"), [0.05], "chassis.margin_m", "number"),
+    (("chassis", "footprint"), "square", "chassis.footprint", "list"),
+    (("chassis", "footprint", 1), [0.6], "chassis.footprint[1]", "point"),
+    (("routes", 0, "waypoints", 1, 0), "x", "routes[0].waypoints[1][0]", "number"),
+    (("routes", 0, "waypoints", 1), [1, 2, 3, 4], "routes[0].waypoints[1]", "waypoint"),
+    (("routes", 0, "reverse"), "yes", "routes[0].reverse", "true or false"),
+    (("routes", 0, "name"), 7, "routes[0].name", "text"),
+    (("routes",), {"a": 1}, "routes", "list"),
+    (("chassis",), [1, 2], "chassis", "object"),
+    (("chassis", "drive"), ..., "chassis.drive", "missing"),
+    (("chassis", "footprint"), ..., "chassis.footprint", "missing"),
+    (("chassis", "track_m"), ..., "chassis.track_m", "missing"),
+    (("routes", 0, "name"), ..., "routes[0].name", "missing"),
+    (("routes", 0, "waypoints"), ..., "routes[0].waypoints", "missing"),
+    (("chassis",), ..., "chassis", "missing"),
+    (("floorplan",), ..., "floorplan", "missing"),
+    (("swathe_project",), ..., "swathe_project", "missing"),
+    (("chassis", "track_m"), 0, "chassis.track_m", "positive"),
+    (("chassis", "wheel_radius_m"), -0.1, "chassis.wheel_radius_m", "positive"),
+    (("chassis", "max_speed_mps"), 0.0, "chassis.max_speed_mps", "positive"),
+    (("chassis", "margin_m"), -0.01, "chassis.margin_m", "zero or a positive"),
+    (("routes", 0, "turn_radius_m"), -1, "routes[0].turn_radius_m", "zero or a positive"),
+    (("routes", 0, "waypoints"), [[1, 1]], "routes[0].waypoints", "at least 2 waypoints"),
+    (("routes", 0, "waypoints"), [], "routes[0].waypoints", "at least 2 waypoints"),
+    (("chassis", "drive"), "hovercraft", "chassis.drive", "unknown drive"),
+    (("chassis", "drive"), 3, "chassis.drive", "text"),
+    (("swathe_project",), 2, "swathe_project", "newer"),
+    (("swathe_project",), "1", "swathe_project", "whole number"),
+    (("swathe_project",), 0, "swathe_project", "version"),
+    (("floorplan",), 12, "floorplan", "file name"),
+])
+def test_bad_values_name_file_and_key_path(tmp_path, path, value, place, words):
+    p, e = _error(tmp_path, _with(path, value))
+    assert e.file == str(p) and e.place == place
+    assert words in e.expected
+    assert e.message.startswith(f"{p}: {place}: ")
+
+
+def test_every_drive_names_its_missing_dimension(tmp_path):
+    for drive in DRIVES:
+        for key in REQUIRED[drive]:
+            chassis = {**CHASSIS, "drive": drive, "wheelbase_m": 0.8, "track_m": 0.5,
+                       "max_steer_deg": 40.0}
+            del chassis[key]
+            _p, e = _error(tmp_path, _with(("chassis",), chassis), kind=ValidationError)
+            assert e.place == f"chassis.{key}" and drive in e.expected
+
+
+def test_bow_tie_footprint_is_a_geometry_error(tmp_path):
+    bow_tie = [[0, 0], [1, 1], [1, 0], [0, 1]]
+    # Source: shapely Polygon.is_valid is false for a self-intersecting ring (OGC simple
+    # features: a polygon's boundary may not cross itself).
+    p, e = _error(tmp_path, _with(("chassis", "footprint"), bow_tie), kind=GeometryError)
+    assert e.place == "chassis.footprint" and "crosses itself" in e.expected
+
+
+def test_duplicate_route_names(tmp_path):
+    routes = PROJECT["routes"] + [copy.deepcopy(PROJECT["routes"][0])]
+    _p, e = _error(tmp_path, _with(("routes",), routes))
+    assert e.place == "routes[1].name" and "twice" in e.expected
+
+
+# -- the floor plan it refers to ---------------------------------------------------------------
+def test_missing_floor_plan_file(tmp_path):
+    p, e = _error(tmp_path, _with(("floorplan",), "nowhere.floor.json"), kind=FileReadError)
+    assert e.file == str(p) and e.place == "floorplan" and "nowhere.floor.json" in e.expected
+    p, e = _error(tmp_path, _with(("floorplan",), {"file": "gone.dxf"}), kind=FileReadError)
+    assert e.place == "floorplan.file" and "gone.dxf" in e.expected
+
+
+@pytest.mark.parametrize("path, value, place", [
+    (("walls", 0, "thickness_m"), 0, "walls[0].thickness_m"),
+    (("walls", 0, "thickness_m"), -0.1, "walls[0].thickness_m"),
+    (("walls", 0, "points"), [[1, 1]], "walls[0].points"),
+    (("walls", 0, "points"), [[1, 1], [1, 1]], "walls[0].points"),
+    (("obstacles", 0, "points"), [[0, 0], [1, 0], [2, 0]], "obstacles[0].points"),
+    (("obstacles", 0, "label"), None, "obstacles[0].label"),
+    (("doors", 0, "b"), [5.0, 0.0], "doors[0]"),
+    (("doors", 0, "a"), ..., "doors[0].a"),
+    (("walls",), "none", "walls"),
+    (("swathe_floorplan",), 3, "swathe_floorplan"),
+    (("swathe_floorplan",), ..., "swathe_floorplan"),
+])
+def test_errors_in_the_floor_plan_file_name_that_file(tmp_path, path, value, place):
+    _p, e = _error(tmp_path, PROJECT, floor=_with(path, value, FLOOR), kind=ValidationError)
+    assert e.file == str(tmp_path / "level.floor.json") and e.place == place
+
+
+def test_errors_in_an_inline_floor_plan_are_prefixed(tmp_path):
+    inline = _with(("walls", 0, "thickness_m"), "thick", FLOOR)
+    p, e = _error(tmp_path, _with(("floorplan",), inline), floor=None, kind=ValidationError)
+    assert e.file == str(p) and e.place == "floorplan.walls[0].thickness_m"
+    inline = _with(("swathe_floorplan",), 9, FLOOR)
+    p, e = _error(tmp_path, _with(("floorplan",), inline), floor=None, kind=ValidationError)
+    assert e.place == "floorplan.swathe_floorplan" and "newer" in e.expected
+
+
+def test_bad_import_object_options(tmp_path):
+    doc = ezdxf.new(units=4)
+    doc.modelspace().add_line((0, 0), (1000, 0), dxfattribs={"layer": "WALLS"})
+    doc.saveas(tmp_path / "plan.dxf")
+    ref = {"file": "plan.dxf", "layers": {"windows": ["WALLS"]}}
+    p, e = _error(tmp_path, _with(("floorplan",), ref), floor=None, kind=ValidationError)
+    assert e.place == "floorplan.layers.windows"
+    ref = {"file": "plan.dxf", "units": 4}
+    p, e = _error(tmp_path, _with(("floorplan",), ref), floor=None, kind=ValidationError)
+    assert e.place == "floorplan.units"
+    ref = {"file": "plan.dxf", "units": "mm", "layers": {"walls": ["WALLS"]}}
+    proj = load_project(_write(tmp_path, _with(("floorplan",), ref), floor=None))
+    assert proj.floorplan.walls[0].points == ((0.0, 0.0), (1.0, 0.0))
+
+
+# -- round trips ------------------------------------------------------------------------------
+def _num(lo: float, hi: float):
+    # Values the writer keeps exactly (it rounds to 1e-9): millimetre multiples.
+    return st.integers(int(lo * 1000), int(hi * 1000)).map(lambda i: i / 1000.0)
+
+
+JSON_LEAF = st.none() | st.booleans() | st.integers(-10 ** 6, 10 ** 6) | _num(-1e3, 1e3) \
+    | st.text(max_size=8)
+JSON_VALUE = st.recursive(JSON_LEAF, lambda kids: st.lists(kids, max_size=3)
+                          | st.dictionaries(st.text(max_size=5), kids, max_size=3),
+                          max_leaves=8)
+EXTRA = st.dictionaries(st.text(min_size=1, max_size=6).map(lambda k: "x_" + k), JSON_VALUE,
+                        max_size=3)
+
+
+@st.composite
+def floorplans(draw):
+    walls = tuple(Wall(tuple((draw(_num(-50, 50)), draw(_num(-50, 50))) for _ in range(n)),
+                       draw(_num(0.01, 0.5)))
+                  for n in draw(st.lists(st.integers(2, 4), max_size=3)))
+    walls = tuple(w for w in walls if len(set(w.points)) >= 2)
+    obstacles = []
+    for _ in range(draw(st.integers(0, 3))):
+        x, y = draw(_num(-40, 40)), draw(_num(-40, 40))
+        w, h = round(x + draw(_num(0.1, 5)), 3), round(y + draw(_num(0.1, 5)), 3)
+        obstacles.append(Obstacle(((x, y), (w, y), (w, h), (x, h)),
+                                  draw(st.text(max_size=10))))
+    doors = []
+    for _ in range(draw(st.integers(0, 2))):
+        x, y = draw(_num(-40, 40)), draw(_num(-40, 40))
+        doors.append(Door((x, y), (round(x + draw(_num(0.6, 3)), 3), y),
+                          draw(st.text(max_size=10))))
+    return FloorPlan(draw(st.text(max_size=20)), walls, tuple(obstacles), tuple(doors),
+                     extra=draw(EXTRA))
+
+
+@st.composite
+def projects(draw):
+    drive = draw(st.sampled_from(DRIVES))
+    rear, front, half = draw(_num(0.0, 1.0)), draw(_num(0.1, 2.0)), draw(_num(0.2, 1.0))
+    footprint = ((-rear, -half), (front, -half), (front, half), (-rear, half))
+    dims = {"track_m": draw(_num(0.2, 1.5)), "wheelbase_m": draw(_num(0.3, 2.0)),
+            "max_steer_deg": draw(_num(10, 80))}
+    opt = {k: draw(st.none() | _num(0.1, 20)) for k in
+           ("max_decel_mps2", "max_wheel_rate_radps", "max_lateral_accel_mps2",
+            "max_yaw_rate_dps")}
+    chassis = Chassis(name=draw(st.text(max_size=12)), drive=drive, footprint=footprint,
+                      margin_m=draw(_num(0, 0.3)), wheel_radius_m=draw(_num(0.03, 0.4)),
+                      **dims, min_turn_radius_m=draw(_num(0, 3)),
+                      max_speed_mps=draw(_num(0.1, 3)), max_accel_mps2=draw(_num(0.1, 2)),
+                      **opt, effective_track_factor=draw(_num(1.0, 2.0)), extra=draw(EXTRA))
+    routes = []
+    for i in range(draw(st.integers(0, 3))):
+        n = draw(st.integers(2, 5))
+        wps = tuple(Waypoint(draw(_num(-50, 50)), draw(_num(-50, 50)),
+                             draw(st.none() | _num(-180, 180))) for _ in range(n))
+        routes.append(Route(f"route {i}", wps, draw(_num(0, 5)), draw(st.booleans()),
+                            extra=draw(EXTRA)))
+    return Project(draw(floorplans()), chassis, tuple(routes), None, None, extra=draw(EXTRA))
+
+
+@settings(max_examples=60, deadline=None, suppress_health_check=[HealthCheck.too_slow])
+@given(projects(), st.booleans())
+def test_project_round_trip_keeps_everything(proj, inline):
+    with tempfile.TemporaryDirectory() as d:
+        fp_path = Path(d) / "level.floor.json"
+        save_floorplan(proj.floorplan, fp_path)
+        if not inline:
+            proj = Project(proj.floorplan, proj.chassis, proj.routes, "level.floor.json", None,
+                           proj.extra)
+        path = Path(d) / "p.swathe.json"
+        save_project(proj, path, inline_floorplan=inline)
+        back = load_project(path)
+        assert back.chassis == proj.chassis and back.routes == proj.routes
+        # The loaded plan records where it was read from; everything else must be equal.
+        assert dataclasses.replace(back.floorplan, source="") == proj.floorplan
+        assert back.extra == proj.extra and back.chassis.extra == proj.chassis.extra
+        assert [r.extra for r in back.routes] == [r.extra for r in proj.routes]
+        assert back.floorplan.extra == proj.floorplan.extra
+        assert project_to_dict(back) == project_to_dict(proj)
+        # A second save is byte-identical: nothing drifts.
+        first = path.read_text()
+        save_project(back, path, inline_floorplan=inline)
+        assert path.read_text() == first
+
+
+@settings(max_examples=60, deadline=None)
+@given(floorplans())
+def test_floorplan_round_trip(fp):
+    with tempfile.TemporaryDirectory() as d:
+        path = Path(d) / "f.floor.json"
+        save_floorplan(fp, path)
+        back = load_floorplan(path)
+        assert back.source == str(path)
+        assert dataclasses.replace(back, source="") == fp and back.extra == fp.extra
+        assert floorplan_to_dict(back) == floorplan_to_dict(fp)
+
+
+def test_unknown_keys_of_a_newer_writer_survive(tmp_path):
+    proj = _with(("chassis", "x_battery_kwh"), 2.5)
+    proj["x_layers"] = {"hidden": ["notes"]}
+    proj["routes"][0]["x_priority"] = [1, 2]
+    p = _write(tmp_path, proj, floor={**FLOOR, "x_north_deg": 12})
+    save_project(load_project(p), p)
+    again = json.loads(p.read_text())
+    assert again["chassis"]["x_battery_kwh"] == 2.5 and again["x_layers"] == {"hidden": ["notes"]}
+    assert again["routes"][0]["x_priority"] == [1, 2] and again["floorplan"] == "level.floor.json"
+
+
+# -- atomic saving ----------------------------------------------------------------------------
+def test_failed_save_leaves_the_old_file_intact(tmp_path, monkeypatch):
+    p = _write(tmp_path, PROJECT)
+    proj = load_project(p)
+    save_project(proj, p)
+    before = p.read_bytes()
+    changed = Project(proj.floorplan, proj.chassis, (), proj.floorplan_ref, p, proj.extra)
+
+    def broken_replace(src, dst):
+        raise OSError(28, "No space left on device")
+
+    monkeypatch.setattr(os, "replace", broken_replace)
+    with pytest.raises(OSError):
+        save_project(changed, p)
+    with pytest.raises(OSError):
+        save_floorplan(proj.floorplan, tmp_path / "level.floor.json")
+    monkeypatch.undo()
+    assert p.read_bytes() == before
+    assert load_project(p).routes == proj.routes
+    # No temporary files are left behind.
+    assert sorted(x.name for x in tmp_path.iterdir()) == ["level.floor.json", "p.swathe.json"]
+
+
+# -- fuzzing: only SwatheInputError may come out ----------------------------------------------
+VALID_TEXT = json.dumps(PROJECT, indent=1)
+
+
+@st.composite
+def broken_text(draw, valid: str):
+    text = valid
+    for _ in range(draw(st.integers(1, 4))):
+        i = draw(st.integers(0, len(text)))
+        j = draw(st.integers(i, min(len(text), i + 12)))
+        op = draw(st.sampled_from(["delete", "insert", "replace", "truncate"]))
+        junk = draw(st.text(alphabet='{}[]",:0123456789.-eE truefalsnNaIiy\\\n\x00é',
+                            max_size=6))
+        if op == "delete":
+            text = text[:i] + text[j:]
+        elif op == "insert":
+            text = text[:i] + junk + text[i:]
+        elif op == "replace":
+            text = text[:i] + junk + text[j:]
+        else:
+            text = text[:i]
+    return text
+
+
+def _only_input_errors(fn, *args, **kw):
+    try:
+        fn(*args, **kw)
+    except SwatheInputError as exc:
+        assert exc.message.startswith(exc.file)
+        assert exc.file
+        return "error"
+    return "ok"
+
+
+@pytest.fixture(scope="module")
+def fuzz_dir(tmp_path_factory):
+    d = tmp_path_factory.mktemp("fuzz")
+    (d / "level.floor.json").write_text(json.dumps(FLOOR))
+    return d
+
+
+@settings(max_examples=150, deadline=None)
+@given(broken_text(VALID_TEXT))
+def test_fuzzed_project_text(fuzz_dir, text):
+    p = fuzz_dir / "fuzz.swathe.json"
+    p.write_text(text, encoding="utf-8", errors="surrogatepass")
+    _only_input_errors(load_project, p)
+
+
+@settings(max_examples=150, deadline=None)
+@given(st.sampled_from(["floorplan", "chassis", "routes", "swathe_project",
+                        "chassis.footprint", "chassis.drive", "chassis.track_m",
+                        "routes.0", "routes.0.waypoints", "routes.0.waypoints.1",
+                        "routes.0.turn_radius_m"]), JSON_VALUE)
+def test_fuzzed_project_values(fuzz_dir, where, value):
+    d = copy.deepcopy(PROJECT)
+    keys = [int(k) if k.isdigit() else k for k in where.split(".")]
+    node = d
+    for k in keys[:-1]:
+        node = node[k]
+    node[keys[-1]] = value
+    p = fuzz_dir / "values.swathe.json"
+    p.write_text(json.dumps(d))
+    _only_input_errors(load_project, p)
+
+
+@settings(max_examples=100, deadline=None)
+@given(broken_text(json.dumps(FLOOR, indent=1)))
+def test_fuzzed_floorplan_text(fuzz_dir, text):
+    p = fuzz_dir / "fuzz.floor.json"
+    p.write_text(text, encoding="utf-8", errors="surrogatepass")
+    _only_input_errors(load_floorplan, p)
+
+
+def _small_dxf() -> bytes:
+    doc = ezdxf.new(units=4)
+    for n in ("WALLS", "FIXTURES", "DOORS"):
+        doc.layers.add(n)
+    msp = doc.modelspace()
+    msp.add_lwpolyline([(0, 0, 0.3), (3000, 0, 0), (3000, 2000, 0)], format="xyb",
+                       dxfattribs={"layer": "WALLS"})
+    msp.add_circle((1000, 1000), 200, dxfattribs={"layer": "FIXTURES"})
+    msp.add_line((500, 0), (1315, 0), dxfattribs={"layer": "DOORS"})
+    blk = doc.blocks.new("B")
+    blk.add_lwpolyline([(0, 0), (100, 0), (100, 50)], close=True)
+    msp.add_blockref("B", (2000, 500), dxfattribs={"layer": "FIXTURES", "rotation": 30})
+    with tempfile.TemporaryDirectory() as d:
+        doc.saveas(Path(d) / "s.dxf")
+        return (Path(d) / "s.dxf").read_bytes()
+
+
+VALID_DXF = _small_dxf()
+
+
+@st.composite
+def broken_bytes(draw, valid: bytes):
+    data = bytearray(valid)
+    for _ in range(draw(st.integers(1, 6))):
+        i = draw(st.integers(0, len(data)))
+        op = draw(st.sampled_from(["flip", "delete", "insert", "truncate"]))
+        if op == "flip" and i < len(data):
+            data[i] = draw(st.sampled_from(b"0123456789-.\n xAE\x00\xff"))
+        elif op == "delete":
+            del data[i:i + draw(st.integers(1, 40))]
+        elif op == "insert":
+            data[i:i] = draw(st.binary(max_size=8))
+        elif op == "truncate":
+            del data[i:]
+    return bytes(data)
+
+
+@settings(max_examples=150, deadline=None)
+@given(broken_bytes(VALID_DXF))
+def test_fuzzed_dxf_bytes(fuzz_dir, data):
+    p = fuzz_dir / "fuzz.dxf"
+    p.write_bytes(data)
+    _only_input_errors(import_dxf, p)
+
+
+VALID_SVG = """<svg xmlns="http://www.w3.org/2000/svg" viewBox="0 0 1000 500">
+<g class="walls" stroke-width="15" transform="translate(5 5) rotate(2)">
+<path d="M0 0 H990 V490 H0 Z"/></g>
+<rect x="100" y="100" width="200" height="50" rx="5"/>
+<circle cx="500" cy="250" r="30"/>
+<path d="M600 400 c10 0 20 10 20 20 s 10 20 30 20 q 5 5 10 0 t 10 0 a 20 10 30 1 0 40 0"/>
+<line id="door-1" x1="400" y1="490" x2="481.5" y2="490"/>
+<polyline points="700,100 800,100 800,200"/>
+</svg>
+"""
+
+
+@settings(max_examples=150, deadline=None)
+@given(broken_text(VALID_SVG))
+def test_fuzzed_svg_text(fuzz_dir, text):
+    p = fuzz_dir / "fuzz.svg"
+    p.write_text(text, encoding="utf-8", errors="surrogatepass")
+    _only_input_errors(import_svg, p)
+
+
+@settings(max_examples=150, deadline=None)
+@given(st.text(alphabet="MmLlHhVvCcSsQqTtAaZz0123456789.-+eE, ", max_size=60),
+       st.text(alphabet="translatescalerotmix()0123456789.-, ", max_size=30))
+def test_fuzzed_svg_path_data_and_transforms(fuzz_dir, d, transform):
+    p = fuzz_dir / "path.svg"
+    p.write_text('<svg xmlns="http://www.w3.org/2000/svg" viewBox="0 0 100 100">'
+                 f'<g transform="{transform}"><path d="{d}"/></g></svg>')
+    _only_input_errors(import_svg, p)
