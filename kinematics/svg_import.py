@@ -43,7 +43,7 @@ from xml.etree.ElementTree import Element, ParseError
 import numpy as np
 
 from .dxf_import import MAX_CHORDS, chord_count
-from .errors import FileReadError
+from .errors import FileReadError, ValidationError
 from .floorplan import Door, FloorPlan, Obstacle, Wall
 
 TOLERANCE_M = 0.005
@@ -621,12 +621,14 @@ def import_svg(path: str | Path, metres_per_unit: float = 0.01) -> FloorPlan:
     FileReadError
         The file is missing, not well-formed, hostile (entity declarations), not SVG, or an
         element cannot be read; the message names the line and column or the element.
+    ValidationError
+        ``metres_per_unit`` is not a positive number.
     """
     p = Path(path)
     file = str(p)
     if not (isinstance(metres_per_unit, (int, float)) and math.isfinite(metres_per_unit)
             and metres_per_unit > 0):
-        raise FileReadError(file, "metres_per_unit", "expected a positive number")
+        raise ValidationError(file, "metres_per_unit", "expected a positive number")
     root = _read_root(p)
     left, bottom = 0.0, 0.0
     try:
