@@ -17,6 +17,7 @@ from __future__ import annotations
 
 import dataclasses
 import math
+import re
 from collections.abc import Callable
 from pathlib import Path
 from typing import Any
@@ -88,22 +89,32 @@ DIMENSION_FIELDS = (
     ("wheelbase_m", "Wheelbase (m)", 0.0, 30.0, 3, 0.01, False),
     ("wheel_radius_m", "Wheel radius (m)", 0.0, 5.0, 3, 0.005, False),
     ("max_steer_deg", "Max steer angle (deg)", 0.0, 89.0, 1, 1.0, False),
-    ("min_turn_radius_m", "Min turn radius (m, 0 = from drive)", 0.0, 100.0, 3, 0.05, False),
-    ("effective_track_factor", "Effective track factor (skid-steer)", 0.0, 10.0, 2, 0.05,
-     False),
+    ("min_turn_radius_m", "Min turn radius (m)", 0.0, 100.0, 3, 0.05, False),
+    ("effective_track_factor", "Track factor (skid-steer)", 0.0, 10.0, 2, 0.05, False),
 )
 LIMIT_FIELDS = (
     ("margin_m", "Clearance margin (m)", 0.0, 5.0, 3, 0.01, False),
     ("max_speed_mps", "Max speed (m/s)", 0.0, 50.0, 2, 0.05, False),
-    ("max_accel_mps2", "Max acceleration (m/s\u00b2)", 0.0, 50.0, 2, 0.05, False),
-    ("max_decel_mps2", "Max deceleration (m/s\u00b2, none = as accel)", 0.0, 50.0, 2, 0.05,
-     True),
+    ("max_accel_mps2", "Max accel (m/s\u00b2)", 0.0, 50.0, 2, 0.05, False),
+    ("max_decel_mps2", "Max decel (m/s\u00b2)", 0.0, 50.0, 2, 0.05, True),
     ("max_wheel_rate_radps", "Max wheel rate (rad/s)", 0.0, 1000.0, 1, 0.5, True),
-    ("max_lateral_accel_mps2", "Max lateral acceleration (m/s\u00b2)", 0.0, 50.0, 2, 0.05,
-     True),
+    ("max_lateral_accel_mps2", "Max lateral accel (m/s\u00b2)", 0.0, 50.0, 2, 0.05, True),
     ("max_yaw_rate_dps", "Max yaw rate (deg/s)", 0.0, 3600.0, 1, 5.0, True),
 )
 FIELD_LABELS = {k: lab for k, lab, *_ in DIMENSION_FIELDS + LIMIT_FIELDS}
+FIELD_TIPS = {
+    "track_m": "Distance between the left and right wheel centres",
+    "wheelbase_m": "Distance between the rear and front axles",
+    "min_turn_radius_m": "The tightest turn the chassis may make; 0 takes it from the drive "
+                         "(a differential drive then turns on the spot)",
+    "effective_track_factor": "Skid-steer and tracked drives turn as if the track were this "
+                              "many times wider",
+    "margin_m": "The clearance every route must keep from walls and obstacles",
+    "max_decel_mps2": "none: the same as the acceleration",
+    "max_wheel_rate_radps": "none: no wheel-rate limit",
+    "max_lateral_accel_mps2": "Caps the speed on arcs (v\u00b2 / R); none: no cap",
+    "max_yaw_rate_dps": "Caps turning speed on arcs and pivots; none: no cap",
+}
 FIELD_LABELS.update({"footprint": "Footprint", "drive": "Drive", "name": "Name"})
 
 #: Invented example vehicles to start from (plausible sizes, no real product).
@@ -145,7 +156,7 @@ def _spin(lo: float, hi: float, decimals: int, step: float, optional: bool) -> Q
     s.setAccelerated(True)
     if optional:
         s.setSpecialValueText("none")  # shown at the minimum, 0: the limit is off
-    s.setMinimumWidth(90)
+    s.setMinimumWidth(80)
     return s
 
 
@@ -212,6 +223,11 @@ def friendly_message(exc: SwatheInputError) -> str:
         except ValueError:
             pass
     expected = exc.expected
+    # shapely's explain_validity gives "Self-intersection[x y]": say it with rounded numbers.
+    m = re.search(r"\(?Self-intersection\[([-\d.eE+]+) ([-\d.eE+]+)\]\)?", expected)
+    if m:
+        where = f"(near x {float(m.group(1)):.3f} m, y {float(m.group(2)):.3f} m)"
+        expected = expected[:m.start()] + where + expected[m.end():]
     if expected.startswith("missing; "):
         expected = f"needs a value above 0 ({expected.removeprefix('missing; ')})"
     return f"\u26a0 {label}: {expected}"
@@ -361,6 +377,10 @@ class ChassisPanel(QWidget):
         for name in PRESETS:
             self.preset.addItem(name)
         self.preset.activated.connect(self._preset_chosen)
+        for combo in (self.preset,):
+            combo.setSizeAdjustPolicy(
+                QComboBox.SizeAdjustPolicy.AdjustToMinimumContentsLengthWithIcon)
+            combo.setMinimumContentsLength(14)
         top.addRow("Example", self.preset)
         self.name_edit = QLineEdit()
         self.name_edit.editingFinished.connect(self._apply)
@@ -369,6 +389,9 @@ class ChassisPanel(QWidget):
         for d in DRIVES:
             self.drive.addItem(DRIVE_WORDS[d], d)
         self.drive.activated.connect(self._apply)
+        self.drive.setSizeAdjustPolicy(
+            QComboBox.SizeAdjustPolicy.AdjustToMinimumContentsLengthWithIcon)
+        self.drive.setMinimumContentsLength(14)
         top.addRow("Drive", self.drive)
         lay.addLayout(top)
 
@@ -377,6 +400,7 @@ class ChassisPanel(QWidget):
         for key, label, lo, hi, dec, step, opt in DIMENSION_FIELDS:
             s = _spin(lo, hi, dec, step, opt)
             s.valueChanged.connect(self._apply)
+            s.setToolTip(FIELD_TIPS.get(key, ""))
             self.fields[key] = s
             form.addRow(label, s)
         self._dim_form = form
@@ -409,6 +433,7 @@ class ChassisPanel(QWidget):
         for key, label, lo, hi, dec, step, opt in LIMIT_FIELDS:
             s = _spin(lo, hi, dec, step, opt)
             s.valueChanged.connect(self._apply)
+            s.setToolTip(FIELD_TIPS.get(key, ""))
             self.fields[key] = s
             form2.addRow(label, s)
         lay.addWidget(lim)
@@ -422,6 +447,7 @@ class ChassisPanel(QWidget):
 
         scroll = QScrollArea()
         scroll.setWidgetResizable(True)
+        scroll.setHorizontalScrollBarPolicy(Qt.ScrollBarPolicy.ScrollBarAlwaysOff)
         scroll.setWidget(inner)
         scroll.setFrameShape(QScrollArea.Shape.NoFrame)
         outer = QVBoxLayout(self)
@@ -463,7 +489,8 @@ class ChassisPanel(QWidget):
             lab = self._dim_form.labelForField(self.fields[key])
             if lab is not None:
                 lab.setEnabled(used)
-            self.fields[key].setToolTip("" if used else f"not used by a {drive} drive")
+            self.fields[key].setToolTip(FIELD_TIPS.get(key, "") if used
+                                        else f"not used by a {drive} drive")
 
     # -- form -> document --------------------------------------------------------------------
     def form_values(self) -> dict:

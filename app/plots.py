@@ -21,16 +21,20 @@ from PySide6.QtWidgets import QButtonGroup, QHBoxLayout, QLabel, QRadioButton, Q
 
 from .render import BLUE, FAINT_INK, LIMIT_WORDS, VERMILLION, WHEEL_COLOURS, WHEEL_STYLES
 
+HEADROOM = 1.5  # y range above the largest value: room for the legend and limit labels
 
-def _limit_line(plot: pg.PlotItem, y: float, text: str, anchor_right: bool = True
-                ) -> pg.InfiniteLine:
+
+def _limit_line(plot: pg.PlotItem, y: float, text: str) -> pg.InfiniteLine:
+    # The label sits just above a positive limit (in the headroom) and below a negative one,
+    # at the right end, so it never covers the curve it limits.
+    above = y >= 0
     line = pg.InfiniteLine(pos=y, angle=0, movable=False,
                            pen=pg.mkPen(VERMILLION, width=1.5, style=Qt.PenStyle.DashLine),
                            label=text,
-                           labelOpts={"position": 0.98 if anchor_right else 0.02,
-                                      "color": "#7A2E00", "fill": (255, 255, 255, 210),
-                                      "anchors": [(1, 1), (1, 1)] if anchor_right
-                                      else [(0, 1), (0, 1)]})
+                           labelOpts={"position": 0.99, "color": "#7A2E00",
+                                      "fill": (255, 255, 255, 220),
+                                      "anchors": [(1, 1), (1, 1)] if above
+                                      else [(1, 0), (1, 0)]})
     plot.addItem(line)
     return line
 
@@ -89,10 +93,10 @@ class PlotsPanel(QWidget):
             for ax in ("left", "bottom"):
                 plot.getAxis(ax).setPen(pg.mkPen("#555555"))
                 plot.getAxis(ax).setTextPen(pg.mkPen("#222222"))
-        self.speed_legend = self.speed_plot.addLegend(offset=(-10, 8), labelTextColor="#222222",
-                                                      brush=(255, 255, 255, 200))
-        self.rate_legend = self.rate_plot.addLegend(offset=(-10, 8), labelTextColor="#222222",
-                                                    brush=(255, 255, 255, 200))
+        self.speed_legend = self.speed_plot.addLegend(offset=(8, 4), labelTextColor="#222222",
+                                                      brush=(255, 255, 255, 220), colCount=4)
+        self.rate_legend = self.rate_plot.addLegend(offset=(8, 4), labelTextColor="#222222",
+                                                    brush=(255, 255, 255, 220), colCount=4)
         lay.addWidget(self.graphics, 1)
 
         self._timer = QTimer(self)
@@ -162,8 +166,15 @@ class PlotsPanel(QWidget):
             if any(np.nanmin(a) < -1e-9 for a in rates.values() if a.size):
                 self.limit_lines.append(_limit_line(self.rate_plot, -wmax,
                                                     f"max wheel rate -{wmax:.1f} rad/s"))
-        for plot in (self.speed_plot, self.rate_plot):
-            plot.enableAutoRange()
+        vtop = max(float(np.nanmax(series["v_mps"])) if xs.size else 0.0,
+                   lim["max_speed_mps"] or 0.0) or 1.0
+        self.speed_plot.setYRange(0.0, vtop * HEADROOM, padding=0)
+        hi = max([float(np.nanmax(np.abs(a))) for a in rates.values() if a.size]
+                 + [wmax or 0.0]) or 1.0
+        neg = any(np.nanmin(a) < -1e-9 for a in rates.values() if a.size)
+        self.rate_plot.setYRange(-hi * HEADROOM if neg else 0.0, hi * HEADROOM, padding=0)
+        if xs.size:
+            self.speed_plot.setXRange(float(xs.min()), float(xs.max()), padding=0.01)
 
     def _draw_caps(self, xs: np.ndarray, series: dict, s: Any) -> None:
         """Each segment's speed cap, dotted, named by the limit that sets it."""
