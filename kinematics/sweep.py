@@ -1,0 +1,428 @@
+"""The region a footprint sweeps along line, arc and pivot segments, within a stated tolerance.
+
+A rigid body that moves continuously from placement ``P0`` to ``P1`` sweeps exactly
+``P0 ∪ P1 ∪ (the region swept by its boundary)``: a point covered at some instant and not at
+the start must have crossed the outline on the way (the boundary-sweep theorem of
+swept-volume computation, e.g. Abdel-Malek, Blackmore and Joy, "Swept volumes: foundations,
+perspectives and applications", 2006). So any simple polygon, convex or not, is swept by
+sweeping its edges, and no decomposition is needed.
+
+- A **translation** (a line segment) sweeps each edge into a parallelogram; for a convex
+  footprint the whole result is the convex hull of the start and end placements. Exact.
+- A **rotation** about a fixed centre ``Q`` (arcs rotate the body about the arc centre,
+  pivots about the reference point) sweeps an edge exactly as follows. Split the edge at the
+  foot of the perpendicular from ``Q`` so that every piece moves monotonically away from
+  ``Q``; a circle of radius ``rho`` about ``Q`` then meets the piece at one polar angle
+  ``alpha(rho)`` and the swept piece is ``{rho in [r1, r2], psi in [alpha(rho),
+  alpha(rho) + phi]}``: bounded by the piece at the start, the arc traced by its far end,
+  the piece at the end and the arc traced by its near end. The only approximation is drawing
+  those two arcs as polylines: the far arc by a circumscribed polyline (tangents at equal
+  steps, vertices at ``r2 / cos(h)``, outside the circle by at most ``r2 (sec h - 1)``), the
+  near arc by chords (inside the circle by at most the sagitta ``r1 (1 - cos h)``). Both
+  errors push the region outward, so the result CONTAINS the true swept region and exceeds
+  it by at most the tolerance; ``h`` is chosen from the tolerance and the farthest vertex.
+  Rotations are cut into chunks of at most 90 degrees so each piece stays a simple polygon.
+- A **holonomic line that turns the body** (mecanum, swerve) translates at a constant rate
+  while the heading turns linearly. Over a short chunk it differs from the constant-twist
+  (circular) motion between the same two poses by a pure translation of at most
+  ``rho * phi**2 / 8`` (the linear-interpolation error bound ``u(1-u)/2 max|g''|`` applied to
+  ``g(u) = exp(i u phi)``), so each chunk is swept as a rotation and then grown by that bound.
+"""
+
+from __future__ import annotations
+
+import math
+from collections.abc import Sequence
+from dataclasses import dataclass, replace
+
+import numpy as np
+import shapely
+from numpy.typing import ArrayLike, NDArray
+from shapely.geometry import Polygon
+from shapely.geometry.base import BaseGeometry
+
+from .segments import Segment
+
+#: Default bound on how far the swept region may exceed the true one, metres.
+DEFAULT_TOLERANCE_M = 0.002
+#: Largest rotation swept as one piece (keeps every edge piece a simple polygon).
+MAX_CHUNK_RAD = math.pi / 2.0
+#: Share of the tolerance spent on drawing arcs; the rest is slack for rounding.
+_ARC_SHARE = 0.95
+#: Buffer segments per quarter circle when growing holonomic chunks.
+_QUAD_SEGS = 4
+
+@dataclass(frozen=True, eq=False)
+class Footprint:
+    """A footprint outline prepared once for sweeping: counter-clockwise vertex ring (body
+    frame, not closed), whether it is convex, and its farthest vertex radius."""
+
+    ring: NDArray[np.float64]
+    convex: bool
+    r_far_m: float
+    polygon: Polygon
+
+    @property
+    def key(self) -> tuple[tuple[float, float], ...]:
+        """A hashable value identifying the outline (for caches)."""
+        return tuple(map(tuple, self.ring.tolist()))
+
+
+FootprintLike = Footprint | Polygon | Sequence[Sequence[float]] | NDArray[np.float64]
+
+
+def prepare_footprint(footprint: FootprintLike) -> Footprint:
+    """The footprint as a :class:`Footprint` (returned unchanged if it already is one).
+
+    Parameters
+    ----------
+    footprint : Footprint, Polygon or sequence of (x, y)
+        Body frame, metres; a simple polygon.
+    """
+    if isinstance(footprint, Footprint):
+        return footprint
+    if isinstance(footprint, Polygon):
+        pts = np.asarray(footprint.exterior.coords, dtype=float)
+    else:
+        pts = np.asarray(footprint, dtype=float).reshape(-1, 2)
+    if len(pts) > 1 and np.all(pts[0] == pts[-1]):
+        pts = pts[:-1]
+    keep = np.r_[True, np.any(np.diff(pts, axis=0) != 0.0, axis=1)]
+    pts = pts[keep]
+    if len(pts) < 3:
+        raise ValueError("a footprint needs at least 3 distinct points")
+    x, y = pts[:, 0], pts[:, 1]
+    if np.dot(x, np.roll(y, -1)) - np.dot(np.roll(x, -1), y) < 0.0:
+        pts = pts[::-1]
+    ring = np.ascontiguousarray(pts)
+    ring.setflags(write=False)
+    return Footprint(ring, _is_convex(ring), float(np.hypot(ring[:, 0], ring[:, 1]).max()),
+                     Polygon(ring))
+
+
+def footprint_ring(footprint: FootprintLike) -> NDArray[np.float64]:
+    """The footprint outline as an ``(N, 2)`` array, counter-clockwise, not closed."""
+    return prepare_footprint(footprint).ring
+
+
+def as_polygon(footprint: FootprintLike) -> Polygon:
+    """The footprint as a shapely polygon (body frame)."""
+    if isinstance(footprint, Polygon):
+        return footprint
+    return prepare_footprint(footprint).polygon
+
+
+def _place(ring: NDArray[np.float64], poses: NDArray[np.float64]) -> NDArray[np.float64]:
+    """Footprint vertices at each pose, shape ``(len(poses), N, 2)``."""
+    c = np.cos(poses[:, 2])[:, None]
+    s = np.sin(poses[:, 2])[:, None]
+    x = poses[:, 0:1] + c * ring[None, :, 0] - s * ring[None, :, 1]
+    y = poses[:, 1:2] + s * ring[None, :, 0] + c * ring[None, :, 1]
+    return np.stack([x, y], axis=-1)
+
+
+def placed_footprints(footprint: FootprintLike, poses: ArrayLike) -> NDArray[np.object_]:
+    """The footprint placed at each pose, as an array of shapely polygons.
+
+    Parameters
+    ----------
+    footprint : Polygon or sequence of (x, y)
+        Body frame: x forward, y left, origin at the reference point.
+    poses : array_like, shape (N, 3)
+        ``(x_m, y_m, heading_rad)`` in the plan frame.
+
+    Returns
+    -------
+    numpy.ndarray of Polygon, shape (N,)
+
+    Examples
+    --------
+    >>> p = placed_footprints([(0, 0), (1, 0), (1, 1), (0, 1)], [(2.0, 0.0, 0.0)])
+    >>> p[0].bounds
+    (2.0, 0.0, 3.0, 1.0)
+    """
+    ring = prepare_footprint(footprint).ring
+    poses = np.atleast_2d(np.asarray(poses, dtype=float))
+    return shapely.polygons(_place(ring, poses))
+
+
+def _is_convex(ring: NDArray[np.float64]) -> bool:
+    d1 = np.roll(ring, -1, axis=0) - ring
+    d2 = np.roll(d1, -1, axis=0)
+    cross = d1[:, 0] * d2[:, 1] - d1[:, 1] * d2[:, 0]
+    return bool(np.all(cross >= -1e-12 * max(1.0, float(np.abs(ring).max()) ** 2)))
+
+
+def _rotate(p: NDArray[np.float64], ang: float) -> NDArray[np.float64]:
+    c, s = math.cos(ang), math.sin(ang)
+    out = np.empty_like(p)
+    out[..., 0] = c * p[..., 0] - s * p[..., 1]
+    out[..., 1] = s * p[..., 0] + c * p[..., 1]
+    return out
+
+
+def arc_steps(r_max: float, phi: float, tol: float) -> int:
+    """Polyline steps so an arc of radius ``r_max`` turning ``phi`` is drawn within ``tol``.
+
+    The circumscribed polyline lies outside the circle by ``r (sec h - 1)`` with half-step
+    ``h``; chords lie inside by ``r (1 - cos h)``, which is smaller. So
+    ``h = acos(1 / (1 + tol / r))``.
+    """
+    if r_max <= tol or phi == 0.0:
+        return 1
+    h = math.acos(1.0 / (1.0 + tol / r_max))
+    return max(1, math.ceil(abs(phi) / (2.0 * h)))
+
+
+def _monotone_pieces(rel: NDArray[np.float64], sense: float) -> NDArray[np.float64]:
+    """Leading edge pieces of the ring (relative to the centre), split at the foot of the
+    perpendicular from the centre.
+
+    Returns ``(M, 2, 2)``: near end first, far end second, so each piece moves away from
+    the centre monotonically. Only pieces whose velocity (rotation of sign ``sense``) points
+    out of the footprint are kept: a point the body newly covers is first reached by the
+    outline moving outward over it, so trailing pieces add nothing to the swept region.
+    """
+    a = rel
+    b = np.roll(rel, -1, axis=0)
+    d = b - a
+    dd = np.einsum("ij,ij->i", d, d)
+    ok = dd > 1e-24
+    a, b, d, dd = a[ok], b[ok], d[ok], dd[ok]
+    t = -np.einsum("ij,ij->i", a, d) / dd
+    split = (t > 1e-9) & (t < 1.0 - 1e-9)
+    foot = a + t[:, None] * d
+    whole = np.stack([a[~split], b[~split]], axis=1)
+    first = np.stack([a[split], foot[split]], axis=1)
+    second = np.stack([foot[split], b[split]], axis=1)
+    pieces = np.concatenate([whole, first, second], axis=0)
+    # Counter-clockwise ring: the outward normal of edge direction (dx, dy) is (dy, -dx);
+    # the velocity of point p under rotation is sense * (-py, px).
+    dirs = pieces[:, 1] - pieces[:, 0]
+    mid = 0.5 * (pieces[:, 0] + pieces[:, 1])
+    vn = sense * (-mid[:, 1] * dirs[:, 1] - mid[:, 0] * dirs[:, 0])
+    length = np.hypot(dirs[:, 0], dirs[:, 1])
+    pieces = pieces[(vn >= 0.0) & (length > 1e-12)]
+    r0 = np.hypot(pieces[:, 0, 0], pieces[:, 0, 1])
+    r1 = np.hypot(pieces[:, 1, 0], pieces[:, 1, 1])
+    flip = r0 > r1
+    pieces[flip] = pieces[flip][:, ::-1]
+    return pieces
+
+
+def _edge_rotation_rings(pieces: NDArray[np.float64], phi: float, n: int
+                         ) -> NDArray[np.float64]:
+    """Outline of the region each monotone piece sweeps rotating by ``phi`` about 0.
+
+    Shape ``(M, 2n + 3, 2)``: near end, far end, circumscribed far arc (n vertices), far end
+    rotated, near end rotated, inscribed near arc (n - 1 vertices) back to the start.
+    """
+    near, far = pieces[:, 0], pieces[:, 1]
+    r1 = np.hypot(near[:, 0], near[:, 1])
+    r2 = np.hypot(far[:, 0], far[:, 1])
+    a1 = np.arctan2(near[:, 1], near[:, 0])
+    a2 = np.arctan2(far[:, 1], far[:, 0])
+    h = phi / (2.0 * n)
+    k_out = (2.0 * np.arange(n) + 1.0) * h
+    ang_out = a2[:, None] + k_out[None, :]
+    rad_out = (r2 / math.cos(h))[:, None]
+    outer = np.stack([rad_out * np.cos(ang_out), rad_out * np.sin(ang_out)], axis=-1)
+    k_in = phi * (1.0 - np.arange(1, n) / n)
+    ang_in = a1[:, None] + k_in[None, :]
+    inner = np.stack([r1[:, None] * np.cos(ang_in), r1[:, None] * np.sin(ang_in)], axis=-1)
+    far_r = _rotate(far, phi)
+    near_r = _rotate(near, phi)
+    return np.concatenate([near[:, None], far[:, None], outer, far_r[:, None],
+                           near_r[:, None], inner], axis=1)
+
+
+def rotation_parts(ring_world: NDArray[np.float64], centre: Sequence[float], phi: float,
+                   tol: float) -> list[NDArray[np.float64]]:
+    """Polygon outlines whose union contains the region ``ring_world`` sweeps rotating by
+    ``phi`` (signed, rad) about ``centre``, and exceeds it by at most ``tol``.
+
+    Returns a list of ``(K, V, 2)`` coordinate arrays (placements, then edge pieces).
+    """
+    q = np.asarray(centre, dtype=float)
+    rel = ring_world - q
+    r_max = float(np.hypot(rel[:, 0], rel[:, 1]).max())
+    m = max(1, math.ceil(abs(phi) / MAX_CHUNK_RAD - 1e-12))
+    phi_c = phi / m
+    n = arc_steps(r_max, phi_c, tol)
+    base = _monotone_pieces(rel, math.copysign(1.0, phi))
+    placements = np.stack([_rotate(rel, k * phi_c) for k in range(m + 1)]) + q
+    out = [placements]
+    if abs(phi_c) * r_max <= 1e-12:
+        return out
+    chunk0 = _edge_rotation_rings(base, phi_c, n)
+    for k in range(m):
+        out.append(_rotate(chunk0, k * phi_c) + q)
+    return out
+
+
+def translation_parts(ring_world: NDArray[np.float64], v: Sequence[float], convex: bool
+                      ) -> list[NDArray[np.float64]]:
+    """Polygon outlines whose union is exactly the region ``ring_world`` sweeps moving by
+    ``v``: each edge's parallelogram plus both placements (one hull if convex)."""
+    v = np.asarray(v, dtype=float)
+    end = ring_world + v
+    if convex or float(np.hypot(*v)) <= 1e-12:
+        return [np.stack([ring_world, end])]
+    a = ring_world
+    b = np.roll(ring_world, -1, axis=0)
+    d = b - a
+    # Leading edges only (outward normal (dy, -dx) of a counter-clockwise ring along v).
+    lead = d[:, 1] * v[0] - d[:, 0] * v[1]
+    keep = lead > 1e-12
+    quads = np.stack([a[keep], b[keep], b[keep] + v, a[keep] + v], axis=1)
+    return [np.stack([ring_world, end]), quads]
+
+
+def _polys(parts: list[NDArray[np.float64]], hull_first: bool) -> NDArray[np.object_]:
+    geoms = []
+    for k, arr in enumerate(parts):
+        if hull_first and k == 0 and arr.shape[0] == 2:
+            geoms.append(shapely.convex_hull(shapely.multipoints(arr.reshape(-1, 2))))
+            continue
+        geoms.extend(shapely.polygons(arr))
+    return np.asarray(geoms, dtype=object)
+
+
+def _union(geoms: NDArray[np.object_]) -> BaseGeometry:
+    geoms = geoms[~shapely.is_empty(geoms)]
+    bad = ~shapely.is_valid(geoms)
+    if bad.any():
+        geoms = geoms.copy()
+        geoms[bad] = shapely.make_valid(geoms[bad])
+    if len(geoms) == 1:
+        return geoms[0]
+    return shapely.union_all(geoms)
+
+
+def _holonomic_chunks(seg: Segment, tol: float) -> tuple[int, float]:
+    """Chunks for a turning holonomic line and the translation bound of each chunk."""
+    ell, phi = seg.length_m, abs(seg.turn_rad)
+    m = max(1, math.ceil(phi / MAX_CHUNK_RAD - 1e-12))
+    while True:
+        le, ph = ell / m, phi / m
+        dev = 0.0 if ph == 0.0 else le * ph * ph / (16.0 * math.sin(ph / 2.0))
+        if dev <= 0.25 * tol or m > 100000:
+            return m, dev
+        m = max(m + 1, math.ceil(m * math.sqrt(dev / (0.25 * tol))))
+
+
+def _rigid_centre(a: Sequence[float], b: Sequence[float]) -> NDArray[np.float64]:
+    """Fixed point of the rotation by ``b[2] - a[2]`` carrying position a to position b."""
+    phi = b[2] - a[2]
+    c, s = math.cos(phi), math.sin(phi)
+    rhs = np.array([b[0] - (c * a[0] - s * a[1]), b[1] - (s * a[0] + c * a[1])])
+    m = np.array([[1.0 - c, s], [-s, 1.0 - c]])
+    return np.linalg.solve(m, rhs)
+
+
+def segment_parts(footprint: FootprintLike, seg: Segment,
+                  tolerance_m: float = DEFAULT_TOLERANCE_M
+                  ) -> tuple[NDArray[np.object_], float]:
+    """Convex-or-simple polygons whose union is the conservative swept region of ``seg``.
+
+    Returns the polygons and a growth (metres) still to be added by buffering (non-zero only
+    for holonomic lines that turn the body).
+    """
+    fp = prepare_footprint(footprint)
+    ring, convex, r_far = fp.ring, fp.convex, fp.r_far_m
+    tol = _ARC_SHARE * float(tolerance_m)
+    start = np.array([seg.start])
+    placed0 = _place(ring, start)[0]
+    if seg.kind == "pivot":
+        parts = rotation_parts(placed0, seg.start[:2], seg.turn_rad, tol)
+        return _polys(parts, False), 0.0
+    if seg.kind == "arc" and seg.curvature != 0.0:
+        parts = rotation_parts(placed0, seg.arc_centre(), seg.turn_rad, tol)
+        return _polys(parts, False), 0.0
+    end = seg.end
+    if seg.turn_rad != 0.0 and abs(seg.turn_rad) * r_far > 1e-12:
+        if seg.length_m == 0.0:
+            parts = rotation_parts(placed0, seg.start[:2], seg.turn_rad, tol)
+            return _polys(parts, False), 0.0
+        m, dev = _holonomic_chunks(seg, tol)
+        poses = seg.poses_at_fraction(np.linspace(0.0, 1.0, m + 1))
+        placed = _place(ring, poses)
+        # The circular stand-in differs from the true motion by ``dev`` both ways: once
+        # covered by the buffer, once as excess.
+        rot_tol = tol - dev - dev / math.cos(math.pi / (4 * _QUAD_SEGS))
+        geoms: list = []
+        for k in range(m):
+            q = _rigid_centre(poses[k], poses[k + 1])
+            geoms.extend(_polys(rotation_parts(placed[k], q, poses[k + 1, 2] - poses[k, 2],
+                                               rot_tol), False))
+        return np.asarray(geoms, dtype=object), dev
+    v = (end[0] - seg.start[0], end[1] - seg.start[1])
+    return _polys(translation_parts(placed0, v, convex), convex), 0.0
+
+
+def swept_segment(footprint: FootprintLike, seg: Segment,
+                  tolerance_m: float = DEFAULT_TOLERANCE_M) -> BaseGeometry:
+    """The region the footprint sweeps along one segment, conservative and tight.
+
+    The result contains every placement of the footprint along ``seg`` and lies within
+    ``tolerance_m`` (Hausdorff distance) of the true swept region.
+
+    Parameters
+    ----------
+    footprint : Polygon or sequence of (x, y)
+        Any simple polygon, body frame.
+    seg : Segment
+    tolerance_m : float
+        How far the result may exceed the true swept region, metres (> 0).
+
+    Returns
+    -------
+    shapely Polygon (a MultiPolygon only through rounding in degenerate cases)
+
+    Examples
+    --------
+    >>> from kinematics.segments import line
+    >>> g = swept_segment([(-0.5, -0.5), (0.5, -0.5), (0.5, 0.5), (-0.5, 0.5)],
+    ...                   line((0, 0, 0), 2.0))
+    >>> round(g.area, 9)
+    3.0
+    """
+    if not tolerance_m > 0.0:
+        raise ValueError("tolerance_m must be > 0")
+    geoms, dev = segment_parts(footprint, seg, tolerance_m)
+    out = _union(geoms)
+    if dev > 0.0:
+        # Buffer draws its round joins inscribed; enlarging the radius by 1/cos of the half
+        # step keeps the whole disc of radius ``dev`` inside.
+        out = out.buffer(dev / math.cos(math.pi / (4 * _QUAD_SEGS)), quad_segs=_QUAD_SEGS)
+    return out
+
+
+def swept_route(footprint: FootprintLike, segments: Sequence[Segment],
+                tolerance_m: float = DEFAULT_TOLERANCE_M) -> list[BaseGeometry]:
+    """One conservative swept region per segment (see :func:`swept_segment`).
+
+    Keeping one piece per segment lets callers reuse the pieces of unchanged segments.
+    """
+    return [swept_segment(footprint, s, tolerance_m) for s in segments]
+
+
+def sub_segment(seg: Segment, fraction: float) -> Segment:
+    """The first ``fraction`` (0..1) of ``seg``, same start; pivots by fraction of turn."""
+    f = float(min(max(fraction, 0.0), 1.0))
+    if seg.kind == "pivot":
+        return replace(seg, turn_rad=seg.turn_rad * f)
+    return replace(seg, length_m=seg.length_m * f, turn_rad=seg.turn_rad * f)
+
+
+def farthest_radius(footprint: FootprintLike) -> float:
+    """Largest distance of a footprint vertex from the reference point, metres."""
+    return prepare_footprint(footprint).r_far_m
+
+
+def travel_m(footprint: FootprintLike, seg: Segment) -> float:
+    """An upper bound on how far any footprint point moves along ``seg``, metres."""
+    r_far = prepare_footprint(footprint).r_far_m
+    if seg.kind == "arc" and seg.curvature != 0.0:
+        return (abs(1.0 / seg.curvature) + r_far) * abs(seg.turn_rad)
+    return seg.length_m + r_far * abs(seg.turn_rad)
