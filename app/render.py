@@ -437,7 +437,8 @@ def _scene_bounds(project: Any, plans: dict, bands: dict) -> tuple[float, float,
 
 def render_scene(target: QPainter | QImage, project: Any, plans: dict, checks: dict,
                  route_name: str | None = None, size: tuple[int, int] = (1600, 1000),
-                 errors: dict | None = None, footer: bool = True) -> dict:
+                 errors: dict | None = None, footer: bool = True, title: bool = True,
+                 scale: float | None = None) -> dict:
     """Draw the plan, routes, swept areas, violations, legend and title.
 
     Parameters
@@ -458,6 +459,10 @@ def render_scene(target: QPainter | QImage, project: Any, plans: dict, checks: d
         By route name, why a route could not be planned or checked (shown in the title).
     footer : bool
         Draw the safety caution at the bottom.
+    title : bool
+        Draw the title and verdict at the top (the report has its own).
+    scale : float, optional
+        Size of text and symbols relative to the default (by default from the image size).
 
     Returns
     -------
@@ -473,16 +478,19 @@ def render_scene(target: QPainter | QImage, project: Any, plans: dict, checks: d
     else:
         painter = target
     try:
-        return _draw(painter, project, plans, checks, route_name, size, errors or {}, footer)
+        return _draw(painter, project, plans, checks, route_name, size, errors or {}, footer,
+                     title, scale)
     finally:
         if own:
             painter.end()
 
 
 def _draw(p: QPainter, project: Any, plans: dict, checks: dict, route_name: str | None,
-          size: tuple[int, int], errors: dict, footer: bool) -> dict:
+          size: tuple[int, int], errors: dict, footer: bool, title: bool = True,
+          scale: float | None = None) -> dict:
     W, H = float(size[0]), float(size[1])
-    u = max(0.45, min(W / 1600.0, H / 1000.0))  # layout unit: 1 at the default size
+    # Layout unit: 1 at the default size, so text stays in proportion to the picture.
+    u = scale if scale is not None else max(0.45, min(W / 1600.0, H / 1000.0))
     p.setRenderHint(QPainter.RenderHint.Antialiasing, True)
     p.setRenderHint(QPainter.RenderHint.TextAntialiasing, True)
     p.fillRect(QRectF(0, 0, W, H), QColor("#FFFFFF"))
@@ -491,9 +499,9 @@ def _draw(p: QPainter, project: Any, plans: dict, checks: dict, route_name: str 
     f_sub = font(14 * u)
     f_label = font(12 * u)
     f_small = font(11 * u)
-    title_h = 74 * u
+    title_h = 74 * u if title else 4 * u
     foot_h = (30 * u) if footer else 6 * u
-    legend_w = min(300 * u, W * 0.3)
+    legend_w = min(300 * u, W * 0.28)
     m = 14 * u
     plan_rect = QRectF(m, title_h + m * 0.5, W - legend_w - 2.5 * m,
                        H - title_h - foot_h - 1.5 * m)
@@ -539,7 +547,9 @@ def _draw(p: QPainter, project: Any, plans: dict, checks: dict, route_name: str 
     _draw_scale_and_axes(p, view, plan_rect, u, f_small)
     p.restore()
 
-    _draw_title(p, project, plans, checks, route_name, errors, W, title_h, u, f_title, f_sub)
+    if title:
+        _draw_title(p, project, plans, checks, route_name, errors, W, title_h, u, f_title,
+                    f_sub)
     _draw_legend(p, QRectF(W - legend_w - m, plan_rect.top(), legend_w, plan_rect.height()),
                  routes, checks, u, f_label, f_small)
     if footer:
@@ -619,6 +629,7 @@ def _draw_doors(p: QPainter, view: _View, fp: Any, checks: dict, u: float, label
             lab = d.get("label", "")
             if v is not None:
                 clear_by_label[lab] = min(v, clear_by_label.get(lab, math.inf))
+    pending: list[tuple[bool, QPointF, str]] = []
     for d in fp.doors:
         a, b = view.pt(*d.a), view.pt(*d.b)
         # The opening: a white gap through the wall, a sky-blue threshold and jamb ticks.
@@ -633,10 +644,14 @@ def _draw_doors(p: QPainter, view: _View, fp: Any, checks: dict, u: float, label
         for q in (a, b):
             p.drawLine(QPointF(q.x() - nx, q.y() - ny), QPointF(q.x() + nx, q.y() + ny))
         text = f"{d.label or 'door'} {d.width_m:.2f} m"
-        if d.label in clear_by_label:
+        passed = d.label in clear_by_label
+        if passed:
             text += f", clearance {clear_by_label[d.label] * 1000:.0f} mm"
-        mid = view.pt(*d.midpoint)
-        labels.place(p, mid, text, f, 10 * u, ink="#003A5C", border=BLUE, force=True)
+        # Doors a route passes are always labelled; others only where there is room.
+        pending.append((not passed, view.pt(*d.midpoint), text))
+    for not_passed, mid, text in sorted(pending, key=lambda t: t[0]):
+        labels.place(p, mid, text, f if not not_passed else font(10 * u), 10 * u,
+                     ink="#003A5C", border=BLUE, force=not not_passed)
 
 
 def _draw_outlines(p: QPainter, view: _View, footprint: Sequence, segments: Sequence,

@@ -53,7 +53,7 @@ from .render import (
 DPI = 150
 #: A4 at 150 dots per inch, in pixels (ISO 216: 210 x 297 mm).
 PAGE_PX = (round(210 / 25.4 * DPI), round(297 / 25.4 * DPI))
-MAX_VIOLATION_ROWS = 14
+MAX_VIOLATION_ROWS = 10
 MPS2 = "m/s\u00b2"
 
 
@@ -61,8 +61,8 @@ def _table(p: QPainter, rect: QRectF, headers: Sequence[str], rows: Sequence[Seq
            widths: Sequence[float], u: float, right: Sequence[bool] | None = None,
            icons: Sequence[str | None] | None = None) -> float:
     """Draw a simple ruled table; returns the height used. Cells are elided to fit."""
-    f_head = font(12.5 * u, bold=True)
-    f_cell = font(12.5 * u)
+    f_head = font(16.5 * u, bold=True)
+    f_cell = font(16.5 * u)
     fm = QFontMetricsF(f_cell)
     row_h = fm.height() + 6 * u
     right = right or [False] * len(headers)
@@ -107,7 +107,7 @@ def _table(p: QPainter, rect: QRectF, headers: Sequence[str], rows: Sequence[Seq
 
 
 def _heading(p: QPainter, x: float, y: float, w: float, text: str, u: float) -> float:
-    f = font(15 * u, bold=True)
+    f = font(22 * u, bold=True)
     p.setFont(f)
     p.setPen(QColor(INK))
     h = QFontMetricsF(f).height()
@@ -141,9 +141,9 @@ def chassis_lines(c: Any) -> list[tuple[str, str]]:
     xs = [q[0] for q in fp]
     ys = [q[1] for q in fp]
     rows = [("Name", c.name), ("Drive", c.drive),
-            ("Footprint", f"{len(fp)} corners, {max(xs) - min(xs):.3f} m long x "
-                          f"{max(ys) - min(ys):.3f} m wide (x {min(xs):.3f} to {max(xs):.3f}, "
-                          f"y {min(ys):.3f} to {max(ys):.3f})"),
+            ("Footprint", f"{max(xs) - min(xs):.3f} m long x {max(ys) - min(ys):.3f} m wide, "
+                          f"{len(fp)} corners; x {min(xs):.3f}..{max(xs):.3f} m, "
+                          f"y {min(ys):.3f}..{max(ys):.3f} m"),
             ("Margin", _fmt(c.margin_m, "m")),
             ("Wheel radius", _fmt(c.wheel_radius_m, "m"))]
     for key, label, unit in (("track_m", "Track", "m"), ("wheelbase_m", "Wheelbase", "m"),
@@ -200,33 +200,33 @@ def draw_report(p: QPainter, size: tuple[float, float], project: Any, plans: dic
 
     # Header: what, of which project, when; the verdict in words (colour only repeats it).
     names = [route_name] if route_name is not None else list(plans)
-    y += _paragraph(p, QRectF(m, y, cw, 60 * u), "Swathe route report", 26 * u, INK, True)
+    y += _paragraph(p, QRectF(m, y, cw, 70 * u), "Swathe route report", 38 * u, INK, True)
     sub = (f"Project {project_title(project)}  \u00b7  plan {project.floorplan.name or '-'}  "
            f"\u00b7  route{'s' if len(names) != 1 else ''} {', '.join(names) or 'none'}")
-    y += _paragraph(p, QRectF(m, y, cw, 40 * u), sub, 13 * u, FAINT_INK)
+    y += _paragraph(p, QRectF(m, y, cw, 60 * u), sub, 18 * u, FAINT_INK)
     y += _paragraph(p, QRectF(m, y, cw, 30 * u),
                     f"Generated {when or _dt.datetime.now().strftime('%Y-%m-%d %H:%M')}",
-                    11 * u, FAINT_INK)
+                    15 * u, FAINT_INK)
     verdict, ok = verdict_text(checks, errors)
     symbol = {True: "\u2713 ", False: "\u2717 ", None: ""}[ok]
-    badge = QRectF(m, y + 6 * u, cw, 44 * u)
+    badge = QRectF(m, y + 8 * u, cw, 58 * u)
     p.setPen(Qt.PenStyle.NoPen)
     p.setBrush(QBrush(QColor({True: BLUE, False: VERMILLION, None: "#707070"}[ok])))
     p.drawRoundedRect(badge, 6 * u, 6 * u)
     p.setPen(QColor("#FFFFFF"))
-    p.setFont(font(19 * u, True))
+    p.setFont(font(26 * u, True))
     p.drawText(badge, Qt.AlignmentFlag.AlignCenter, f"Verdict: {symbol}{verdict}")
     y = badge.bottom() + 12 * u
     for name, err in errors.items():
-        y += _paragraph(p, QRectF(m, y, cw, 40 * u), f"\u26a0 {name}: {err}", 12 * u,
+        y += _paragraph(p, QRectF(m, y, cw, 40 * u), f"\u26a0 {name}: {err}", 16 * u,
                         "#5A1E00", True)
 
     # The picture.
-    pic_h = 640 * u
+    pic_h = 660 * u
     p.save()
     p.translate(m, y)
     render_scene(p, project, plans, checks, route_name, (int(cw), int(pic_h)), errors=errors,
-                 footer=False)
+                 footer=False, title=False, scale=1.05 * u)
     p.restore()
     p.setPen(pen("#B0B0B0", 1.0))
     p.setBrush(Qt.BrushStyle.NoBrush)
@@ -251,10 +251,10 @@ def draw_report(p: QPainter, size: tuple[float, float], project: Any, plans: dic
         if len(allv) > len(shown):
             y += _paragraph(p, QRectF(m, y + 2 * u, cw, 30 * u),
                             f"\u2026 and {len(allv) - len(shown)} more (see "
-                            "`swathe check --json` for the full list).", 11.5 * u, FAINT_INK)
+                            "`swathe check --json` for the full list).", 15 * u, FAINT_INK)
     else:
         y += _paragraph(p, QRectF(m, y, cw, 30 * u), "None: the swept footprint keeps the "
-                        "margin from every wall and obstacle.", 12.5 * u)
+                        "margin from every wall and obstacle.", 17 * u)
     y += 14 * u
 
     # Two columns: doors and sizing on the left, the chassis on the right.
@@ -276,24 +276,24 @@ def draw_report(p: QPainter, size: tuple[float, float], project: Any, plans: dic
                      drows[:10], [1.1, 1.4, 0.9, 1.2], u, right=[False, False, True, True])
         if len(drows) > 10:
             ly += _paragraph(p, QRectF(m, ly + 2 * u, col_w, 30 * u),
-                             f"\u2026 and {len(drows) - 10} more.", 11.5 * u, FAINT_INK)
+                             f"\u2026 and {len(drows) - 10} more.", 15 * u, FAINT_INK)
     else:
-        ly += _paragraph(p, QRectF(m, ly, col_w, 30 * u), "No door is passed.", 12.5 * u)
+        ly += _paragraph(p, QRectF(m, ly, col_w, 30 * u), "No door is passed.", 17 * u)
     ly += 14 * u
     ly += _heading(p, m, ly, col_w, "What would fit", u)
     lines = _sizing_of(checks, sizing)
     text = "\n".join(lines) if lines else ("Not computed for this report (the results panel's "
                                            "\u201cFind the sizes that fit\u201d, or "
                                            "`swathe check --sizing`).")
-    ly += _paragraph(p, QRectF(m, ly, col_w, 200 * u), text, 12.5 * u,
+    ly += _paragraph(p, QRectF(m, ly, col_w, 300 * u), text, 17 * u,
                      INK if lines else FAINT_INK)
 
     rx = m + col_w + 30 * u
     ry = y
     ry += _heading(p, rx, ry, col_w, "Chassis", u)
-    f = font(12.5 * u)
-    fb = font(12.5 * u, True)
-    lab_w = 120 * u
+    f = font(16.5 * u)
+    fb = font(16.5 * u, True)
+    lab_w = 150 * u
     for label, value in chassis_lines(project.chassis):
         p.setFont(fb)
         p.setPen(QColor(INK))
@@ -308,24 +308,24 @@ def draw_report(p: QPainter, size: tuple[float, float], project: Any, plans: dic
         ry += br.height() + 3 * u
 
     # The caution in full, boxed at the foot of the page.
-    fcau = font(13 * u)
+    fcau = font(18 * u)
     flags = int(Qt.AlignmentFlag.AlignLeft | Qt.AlignmentFlag.AlignTop | Qt.TextFlag.TextWordWrap)
     p.setFont(fcau)
     inner = QRectF(m + 14 * u, 0, cw - 28 * u, 400 * u)
     need = p.boundingRect(inner, flags, CAUTION).height()
-    box = QRectF(m, H - m * 0.7 - need - 52 * u, cw, need + 48 * u)
+    box = QRectF(m, H - m * 0.7 - need - 60 * u, cw, need + 56 * u)
     top = max(ly, ry) + 10 * u
     if box.top() < top:  # a long table pushes the box down rather than overlapping it
         box.moveTop(min(top, H - box.height() - 4 * u))
     p.setPen(pen(INK, 1.5 * u))
     p.setBrush(QBrush(QColor("#FFF8E6")))
     p.drawRect(box)
-    p.setFont(font(13.5 * u, True))
+    p.setFont(font(20 * u, True))
     p.setPen(QColor(INK))
-    p.drawText(QRectF(box.left() + 14 * u, box.top() + 6 * u, cw, 22 * u),
+    p.drawText(QRectF(box.left() + 14 * u, box.top() + 8 * u, cw, 28 * u),
                Qt.AlignmentFlag.AlignLeft | Qt.AlignmentFlag.AlignVCenter, "\u26a0 Safety")
     p.setFont(fcau)
-    p.drawText(QRectF(box.left() + 14 * u, box.top() + 32 * u, cw - 28 * u, need + 8 * u),
+    p.drawText(QRectF(box.left() + 14 * u, box.top() + 40 * u, cw - 28 * u, need + 8 * u),
                flags, CAUTION)
 
 
