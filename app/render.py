@@ -401,6 +401,16 @@ class _Labels:
                 return None
             chosen = QRectF(ax + cands[0][0], ay + cands[0][1], w, h)
         self.taken.append(chosen)
+        if border:
+            # A leader from the anchor to the label's nearest point ties them together.
+            near = QPointF(min(max(ax, chosen.left()), chosen.right()),
+                           min(max(ay, chosen.top()), chosen.bottom()))
+            dx, dy = near.x() - ax, near.y() - ay
+            dist = math.hypot(dx, dy)
+            start = offset * 0.7  # from the marker's edge, not across it
+            if dist > start:
+                p.setPen(pen(border, 1.0))
+                p.drawLine(QPointF(ax + dx / dist * start, ay + dy / dist * start), near)
         p.setPen(pen(border, 1.0) if border else Qt.PenStyle.NoPen)
         p.setBrush(QBrush(fill if fill is not None else qcolor("#FFFFFF", 225)))
         p.drawRoundedRect(chosen, 3, 3)
@@ -516,7 +526,9 @@ def _draw(p: QPainter, project: Any, plans: dict, checks: dict, route_name: str 
                 bands[name] = swept_geometry(chassis.footprint, plan.segments, checks.get(name))
             except Exception:  # noqa: BLE001 - a picture without a band is still a picture
                 bands[name] = None
-    view = _View(_scene_bounds(project, plans, bands), plan_rect)
+    # The plan fits above a strip kept for the scale bar and axes cue, which never cover it.
+    view = _View(_scene_bounds(project, plans, bands),
+                 plan_rect.adjusted(0, 0, 0, -46 * u))
     labels = _Labels(plan_rect)
 
     # Plan frame background and border.
