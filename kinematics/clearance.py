@@ -1,0 +1,681 @@
+"""Clearance of a swept footprint from walls and obstacles: the verdict behind ``swathe check``.
+
+Every segment's swept region (:mod:`kinematics.sweep`) contains the true region the bare
+footprint sweeps and exceeds it by at most the tolerance, so the Euclidean distance from that
+region to a solid lies in ``[true - tol, true]``: a reported clearance is never larger than
+the true one and at most the tolerance smaller. Solids sit in one ``shapely.STRtree`` built
+once per floor plan (:class:`ObstacleIndex`); each swept piece asks the tree only for solids
+within the margin of its envelope, so the cost of a check grows with the route and the clutter
+near it, not with the size of the building. Where a piece overlaps a solid the clearance is
+the negative of an overlap depth estimate (the deepest vertex of the overlap inside either
+shape, or the overlap's largest inscribed circle's diameter, whichever is larger).
+
+Violations are grouped into contiguous stretches per solid; the station where a stretch
+starts is found by bisection on the swept region of the segment's first part (monotone in
+its length), to within the tolerance along the path of the farthest footprint vertex.
+:class:`RouteChecker` keeps the result of every unchanged segment (segments are hashable
+values), so the interactive canvas re-sweeps only what moved.
+"""
+
+from __future__ import annotations
+
+import math
+from collections import OrderedDict
+from collections.abc import Sequence
+from dataclasses import dataclass, field
+from typing import Any
+
+import numpy as np
+import shapely
+from shapely.geometry import LineString, Point
+from shapely.geometry.base import BaseGeometry
+
+from .floorplan import FloorPlan, Solid, check_footprint, solids
+from .segments import Segment, poses_along, segment_stations
+from .sweep import (
+    DEFAULT_TOLERANCE_M,
+    Footprint,
+    placed_footprints,
+    prepare_footprint,
+    sub_segment,
+    swept_segment,
+    travel_m,
+)
+
+#: Half-depth (across the door line) and extra length (beyond each jamb) of the box in which
+#: a door's clearance is measured, metres.
+DOOR_BOX_M = 1.0
+DOOR_BOX_ALONG_M = 0.5
+#: Placements sampled to name the footprint part nearest a solid.
+_PART_SAMPLES = 48
+
+CAUTION = ("Planning aid only, not a safety certification: verify on site and keep the "
+           "clearances that ISO 3691-4, ANSI/ITSDF B56.5 and local fire and building codes "
+           "require.")
+
+
+# -- the spatial index ----------------------------------------------------------------------
+class ObstacleIndex:
+    """The floor plan's solids (walls and obstacles) in one STRtree, plus its doors.
+
+    Build it once per floor plan and pass it to every check.
+
+    Parameters
+    ----------
+    floorplan : FloorPlan
+    """
+
+    def __init__(self, floorplan: FloorPlan) -> None:
+        self.floorplan = floorplan
+        self.solids: list[Solid] = solids(floorplan)
+        self.geometries = np.array([s.geometry for s in self.solids], dtype=object)
+        shapely.prepare(self.geometries)
+        self.tree = shapely.STRtree(self.geometries)
+        self.doors = tuple(floorplan.doors)
+        self.door_lines = np.array([LineString([d.a, d.b]) for d in self.doors], dtype=object)
+        self.door_boxes = np.array([_door_box(d.a, d.b) for d in self.doors], dtype=object)
+        self.door_tree = shapely.STRtree(self.door_lines)
+
+    def __len__(self) -> int:
+        return len(self.solids)
+
+    def within(self, geom: BaseGeometry, distance_m: float) -> np.ndarray:
+        """Indices of solids within ``distance_m`` of ``geom`` (touching and overlapping too)."""
+        if not len(self.solids):
+            return np.zeros(0, dtype=int)
+        if distance_m > 0.0:
+            return self.tree.query(geom, predicate="dwithin", distance=distance_m)
+        return self.tree.query(geom, predicate="intersects")
+
+    def nearest(self, geom: BaseGeometry) -> tuple[int | None, float]:
+        """Index of the nearest solid and its distance (``None, inf`` for an empty plan)."""
+        if not len(self.solids):
+            return None, math.inf
+        idx, dist = self.tree.query_nearest(geom, return_distance=True, all_matches=False)
+        return int(idx[0]), float(dist[0])
+
+    def door_label(self, i: int) -> str:
+        return self.doors[i].label or f"door {i}"
+
+
+def _door_box(a: Sequence[float], b: Sequence[float]) -> BaseGeometry:
+    ax, ay = a
+    bx, by = b
+    w = math.hypot(bx - ax, by - ay)
+    ux, uy = (bx - ax) / w, (by - ay) / w
+    e = DOOR_BOX_ALONG_M
+    line = LineString([(ax - ux * e, ay - uy * e), (bx + ux * e, by + uy * e)])
+    return line.buffer(DOOR_BOX_M, cap_style="flat")
+
+
+# -- results --------------------------------------------------------------------------------
+@dataclass(frozen=True)
+class Violation:
+    """Something on the route that is in the way or cannot be driven.
+
+    Attributes
+    ----------
+    kind : {"collision", "clearance", "turn_radius", "infeasible", "waypoint_blocked"}
+    segment : int or None
+        Index of the segment where it starts.
+    station_m : float
+        Distance along the route where it starts, metres.
+    x, y : float
+        Where it starts, plan frame, metres.
+    amount_m : float
+        Overlap depth, missing clearance or missing radius, metres (the worst of the stretch).
+    message : str
+    solid : str
+        Name of the wall or obstacle (empty where none is involved).
+    """
+
+    kind: str
+    segment: int | None
+    station_m: float
+    x: float
+    y: float
+    amount_m: float
+    message: str
+    solid: str = ""
+
+    def to_dict(self) -> dict:
+        d = {"kind": self.kind, "segment": self.segment, "station_m": self.station_m,
+             "x": self.x, "y": self.y, "amount_m": self.amount_m, "message": self.message}
+        if self.solid:
+            d["solid"] = self.solid
+        return d
+
+
+@dataclass(frozen=True)
+class DoorPass:
+    """A door the swept footprint passes through, with its least clearance near the door."""
+
+    label: str
+    min_clearance_m: float
+    door: int
+    segment: int
+    station_m: float
+    width_m: float
+
+    def to_dict(self) -> dict:
+        return {"label": self.label, "min_clearance_m": self.min_clearance_m,
+                "door": self.door, "segment": self.segment, "station_m": self.station_m,
+                "width_m": self.width_m}
+
+
+@dataclass
+class RouteCheck:
+    """The swept-footprint check of one route.
+
+    ``min_clearance_m`` is ``None`` only when the floor plan has no solids at all.
+    ``pieces`` holds one conservative swept region per segment; ``swept`` is their union.
+    """
+
+    name: str
+    clear: bool
+    min_clearance_m: float | None
+    min_clearance_at: dict | None
+    violations: list[Violation]
+    doors: list[DoorPass]
+    tolerance_m: float
+    margin_m: float
+    segments: tuple[Segment, ...] = ()
+    pieces: tuple[BaseGeometry, ...] = ()
+    sizing: dict | None = None
+    _swept: BaseGeometry | None = field(default=None, repr=False)
+
+    @property
+    def swept(self) -> BaseGeometry | None:
+        """The union of the swept pieces (computed on first use)."""
+        if self._swept is None and self.pieces:
+            self._swept = shapely.union_all(np.array(self.pieces, dtype=object))
+        return self._swept
+
+    def to_dict(self) -> dict:
+        """The contract's ``check --json`` route object, plus location, tolerance, sizing."""
+        d: dict[str, Any] = {
+            "name": self.name,
+            "clear": self.clear,
+            "min_clearance_m": self.min_clearance_m,
+            "violations": [v.to_dict() for v in self.violations],
+            "doors": [p.to_dict() for p in self.doors],
+            "min_clearance_at": self.min_clearance_at,
+            "margin_m": self.margin_m,
+            "tolerance_m": self.tolerance_m,
+        }
+        if self.sizing is not None:
+            d["sizing"] = self.sizing
+        return d
+
+
+@dataclass(frozen=True)
+class _Hit:
+    """One solid closer than the margin to one segment's swept piece."""
+
+    solid: int
+    clearance_m: float
+    collision: bool
+    start_local_m: float
+    x: float
+    y: float
+    part: str
+
+
+@dataclass(frozen=True)
+class _SegmentResult:
+    piece: BaseGeometry
+    clearance_m: float  # inf when the plan has no solids
+    solid: int | None
+    x: float
+    y: float
+    hits: tuple[_Hit, ...]
+    doors: tuple[tuple[int, float], ...]
+
+
+# -- geometry helpers -----------------------------------------------------------------------
+def overlap_depth(a: BaseGeometry, b: BaseGeometry) -> float:
+    """How deep two overlapping regions reach into each other, metres (0 if they do not).
+
+    The larger of: the deepest vertex of the overlap inside ``b`` or inside ``a`` (distance to
+    the other's outline), and the diameter of the overlap's largest inscribed circle (a
+    shape crossing a thin wall overlaps it by the wall's thickness).
+    """
+    inter = a.intersection(b)
+    if inter.is_empty or inter.area <= 0.0:
+        return 0.0
+    pts = shapely.points(shapely.get_coordinates(inter))
+    deep = max(float(shapely.distance(pts, a.boundary).max()),
+               float(shapely.distance(pts, b.boundary).max()))
+    inscribed = 0.0
+    for part in getattr(inter, "geoms", [inter]):
+        if part.geom_type == "Polygon" and part.area > 0.0:
+            tol = max(1e-5, 1e-3 * math.sqrt(part.area))
+            inscribed = max(inscribed, 2.0 * shapely.maximum_inscribed_circle(part, tol).length)
+    return max(deep, inscribed)
+
+
+def _signed_clearance(piece: BaseGeometry, solid: BaseGeometry) -> float:
+    d = float(shapely.distance(piece, solid))
+    if d > 0.0:
+        return d
+    return -overlap_depth(piece, solid)
+
+
+def part_name(footprint: Footprint, bx: float, by: float) -> str:
+    """Name the part of the footprint at body-frame point ``(bx, by)``: "front-left corner",
+    "rear", "right side", ... by which third of the footprint's extent it lies in."""
+    xmin, ymin = footprint.ring.min(axis=0)
+    xmax, ymax = footprint.ring.max(axis=0)
+    fx = (bx - xmin) / max(xmax - xmin, 1e-12)
+    fy = (by - ymin) / max(ymax - ymin, 1e-12)
+    along = "front" if fx > 2.0 / 3.0 else ("rear" if fx < 1.0 / 3.0 else "")
+    side = "left" if fy > 2.0 / 3.0 else ("right" if fy < 1.0 / 3.0 else "")
+    if along and side:
+        return f"{along}-{side} corner"
+    if along:
+        return along
+    if side:
+        return f"{side} side"
+    return "body"
+
+
+def _to_body(pose: Sequence[float], x: float, y: float) -> tuple[float, float]:
+    c, s = math.cos(pose[2]), math.sin(pose[2])
+    dx, dy = x - pose[0], y - pose[1]
+    return c * dx + s * dy, -s * dx + c * dy
+
+
+# -- the checker ----------------------------------------------------------------------------
+class RouteChecker:
+    """Checks routes for one chassis on one floor plan, keeping per-segment results.
+
+    A segment that is unchanged (equal value) since an earlier check reuses its swept piece,
+    its clearances and its door results; only segments that moved are swept again. Results
+    are identical to :func:`check_route`.
+
+    Parameters
+    ----------
+    chassis : Chassis
+        Its ``footprint`` and ``margin_m`` are used.
+    index : ObstacleIndex
+    tolerance_m : float
+        How far each swept region may exceed the true one, metres.
+    cache_size : int
+        Segment results kept (least recently used dropped first).
+    """
+
+    def __init__(self, chassis: Any, index: ObstacleIndex,
+                 tolerance_m: float = DEFAULT_TOLERANCE_M, cache_size: int = 4000,
+                 footprint: Any = None) -> None:
+        if not (tolerance_m > 0.0) or not math.isfinite(tolerance_m):
+            raise ValueError("tolerance_m must be a positive number")
+        pts = footprint if footprint is not None else chassis.footprint
+        if not isinstance(pts, Footprint):
+            check_footprint(tuple(map(tuple, np.asarray(pts, float).tolist())),
+                            getattr(chassis, "name", "chassis"), "chassis.footprint")
+        self.footprint = prepare_footprint(pts)
+        self.margin_m = float(chassis.margin_m)
+        self.tolerance_m = float(tolerance_m)
+        self.index = index
+        self.cache_size = int(cache_size)
+        self._cache: OrderedDict[Segment, _SegmentResult] = OrderedDict()
+        self.swept_count = 0  # segments swept (not taken from the cache), for tests
+
+    # -- per segment ----------------------------------------------------------------------
+    def segment_result(self, seg: Segment) -> _SegmentResult:
+        hit = self._cache.get(seg)
+        if hit is not None:
+            self._cache.move_to_end(seg)
+            return hit
+        res = self._compute(seg)
+        self._cache[seg] = res
+        if len(self._cache) > self.cache_size:
+            self._cache.popitem(last=False)
+        return res
+
+    def _compute(self, seg: Segment) -> _SegmentResult:
+        self.swept_count += 1
+        fp, idx, margin = self.footprint, self.index, self.margin_m
+        piece = swept_segment(fp, seg, self.tolerance_m)
+        near = idx.within(piece, margin)
+        hits: list[_Hit] = []
+        best, best_j, best_xy = math.inf, None, (math.nan, math.nan)
+        for j in near.tolist():
+            solid = idx.geometries[j]
+            c = _signed_clearance(piece, solid)
+            if c < best:
+                best, best_j = c, j
+            if c < margin:
+                hits.append(self._hit(seg, piece, j, c))
+        if best_j is None:
+            j, d = idx.nearest(piece)
+            best, best_j = d, j
+        if best_j is not None:
+            best_xy = self._where(piece, idx.geometries[best_j], best <= 0.0)
+        doors = []
+        if len(idx.doors):
+            for k in idx.door_tree.query(piece, predicate="intersects").tolist():
+                box = idx.door_boxes[k]
+                local = piece.intersection(box)
+                near_box = idx.within(box, 0.0)
+                c = math.inf
+                for j in near_box.tolist():
+                    c = min(c, _signed_clearance(local, idx.geometries[j]))
+                doors.append((k, c))
+        return _SegmentResult(piece, best, best_j, best_xy[0], best_xy[1], tuple(hits),
+                              tuple(doors))
+
+    @staticmethod
+    def _where(piece: BaseGeometry, solid: BaseGeometry, overlap: bool) -> tuple[float, float]:
+        """A point of the swept piece nearest the solid, or inside the overlap."""
+        if overlap:
+            inter = piece.intersection(solid)
+            if not inter.is_empty:
+                p = inter.representative_point()
+                return float(p.x), float(p.y)
+        line = shapely.shortest_line(piece, solid)
+        x, y = line.coords[0]
+        return float(x), float(y)
+
+    def _violates(self, seg: Segment, j: int, collision: bool, f: float) -> bool:
+        solid = self.index.geometries[j]
+        g = (placed_footprints(self.footprint, [seg.start])[0] if f <= 0.0
+             else swept_segment(self.footprint, sub_segment(seg, f), self.tolerance_m))
+        if collision:
+            return bool(shapely.intersects(g, solid))
+        return float(shapely.distance(g, solid)) < self.margin_m
+
+    def _hit(self, seg: Segment, piece: BaseGeometry, j: int, c: float) -> _Hit:
+        fp, solid = self.footprint, self.index.geometries[j]
+        collision = c <= 0.0
+        travel = travel_m(fp, seg)
+        # Bracket the start with placements, then bisect on the swept first part of the
+        # segment, whose clearance can only fall as it grows.
+        fr = np.linspace(0.0, 1.0, _PART_SAMPLES + 1)
+        poses = seg.poses_at_fraction(fr)
+        placed = placed_footprints(fp, poses)
+        dist = shapely.distance(placed, solid)
+        bad = dist <= 0.0 if collision else dist < self.margin_m
+        if bad[0]:
+            lo = hi = 0.0
+        else:
+            k = int(np.argmax(bad)) if bad.any() else len(fr) - 1
+            lo, hi = float(fr[k - 1]) if k > 0 else 0.0, float(fr[k])
+            if lo > 0.0 and self._violates(seg, j, collision, lo):
+                lo = 0.0
+            if self._violates(seg, j, collision, 0.0):
+                hi = 0.0
+            steps = 0
+            while (hi - lo) * travel > self.tolerance_m and steps < 40:
+                mid = 0.5 * (lo + hi)
+                if self._violates(seg, j, collision, mid):
+                    hi = mid
+                else:
+                    lo = mid
+                steps += 1
+        f_start = hi
+        start_geom = (placed[0] if f_start <= 0.0
+                      else swept_segment(fp, sub_segment(seg, f_start), self.tolerance_m))
+        if collision and not shapely.intersects(start_geom, solid):
+            start_geom = piece
+        x, y = self._where(start_geom, solid, collision)
+        # The part: the footprint point nearest (or deepest in) the solid at the worst placement.
+        if collision:
+            areas = shapely.area(shapely.intersection(placed, solid))
+            w = int(np.argmax(areas)) if areas.max() > 0.0 else int(np.argmin(dist))
+        else:
+            w = int(np.argmin(dist))
+        pl = placed[w]
+        if dist[w] > 0.0:
+            px, py = shapely.shortest_line(pl, solid).coords[0]
+        else:
+            ov = pl.intersection(solid)
+            px, py = ov.centroid.x, ov.centroid.y
+        bx, by = _to_body(poses[w], px, py)
+        local = f_start * (seg.length_m if seg.length_m > 0.0 else 0.0)
+        return _Hit(j, c, collision, local, x, y, part_name(fp, bx, by))
+
+    # -- whole route ----------------------------------------------------------------------
+    def check(self, plan_or_segments: Any, route_name: str = "", route: Any = None,
+              waypoints: Sequence[Any] | None = None) -> RouteCheck:
+        """Check one planned route.
+
+        Parameters
+        ----------
+        plan_or_segments : RoutePlan or sequence of Segment
+            A plan's ``issues`` (``turn_radius``, ``infeasible``) are passed through.
+        route_name : str
+        route : Route, optional
+            Its waypoints are checked for ``waypoint_blocked``.
+        waypoints : sequence of (x, y) or Waypoint, optional
+            Instead of ``route``.
+
+        Returns
+        -------
+        RouteCheck
+        """
+        segs = tuple(getattr(plan_or_segments, "segments", plan_or_segments))
+        issues = tuple(getattr(plan_or_segments, "issues", ()))
+        name = route_name or getattr(plan_or_segments, "name", "") or getattr(route, "name", "")
+        if waypoints is None and route is not None:
+            waypoints = route.waypoints
+        results = [self.segment_result(s) for s in segs]
+        stations = segment_stations(segs)
+        idx = self.index
+        violations: list[Violation] = []
+        for iss in issues:
+            si = iss.segment
+            st = float(stations[si]) if si is not None and 0 <= si < len(segs) else 0.0
+            violations.append(Violation(iss.kind, si, st, float(iss.x), float(iss.y),
+                                        float(iss.amount_m), iss.message))
+        violations += self._waypoint_violations(segs, stations, waypoints)
+        violations += self._stretches(results, stations)
+        violations.sort(key=lambda v: (v.station_m, v.kind))
+        # Least clearance over the route.
+        min_c, at = None, None
+        if len(idx) and results:
+            i = int(np.argmin([r.clearance_m for r in results]))
+            r = results[i]
+            min_c = float(r.clearance_m)
+            st = float(stations[i]) + self._station_near(segs[i], r.x, r.y)
+            at = {"x": r.x, "y": r.y, "station_m": st, "segment": i,
+                  "solid": idx.solids[r.solid].name if r.solid is not None else ""}
+        doors: dict[int, DoorPass] = {}
+        for i, r in enumerate(results):
+            for k, c in r.doors:
+                old = doors.get(k)
+                if old is None:
+                    doors[k] = DoorPass(idx.door_label(k), c, k, i, float(stations[i]),
+                                        idx.doors[k].width_m)
+                elif c < old.min_clearance_m:
+                    doors[k] = DoorPass(old.label, c, k, old.segment, old.station_m,
+                                        old.width_m)
+        door_list = sorted(doors.values(), key=lambda p: (p.station_m, p.door))
+        door_list = [DoorPass(p.label, float(p.min_clearance_m) if math.isfinite(
+            p.min_clearance_m) else None, p.door, p.segment, p.station_m, p.width_m)
+            for p in door_list]
+        return RouteCheck(name, not violations, min_c, at, violations, door_list,
+                          self.tolerance_m, self.margin_m, segs,
+                          tuple(r.piece for r in results))
+
+    def _station_near(self, seg: Segment, x: float, y: float) -> float:
+        """Station along ``seg`` (m from its start) of the placement nearest ``(x, y)``."""
+        if seg.length_m <= 0.0:
+            return 0.0
+        n = int(min(400, max(16, math.ceil(travel_m(self.footprint, seg) / 0.01))))
+        fr = np.linspace(0.0, 1.0, n + 1)
+        placed = placed_footprints(self.footprint, seg.poses_at_fraction(fr))
+        d = shapely.distance(placed, Point(x, y))
+        return float(fr[int(np.argmin(d))] * seg.length_m)
+
+    def _stretches(self, results: list[_SegmentResult], stations: np.ndarray
+                   ) -> list[Violation]:
+        """Contiguous runs of segments close to the same solid, one violation each."""
+        runs: dict[int, list[tuple[int, _Hit]]] = {}
+        done: list[list[tuple[int, _Hit]]] = []
+        for i, r in enumerate(results):
+            here = {h.solid: h for h in r.hits}
+            for j in list(runs):
+                if j not in here:
+                    done.append(runs.pop(j))
+            for j, h in here.items():
+                runs.setdefault(j, []).append((i, h))
+        done += runs.values()
+        out = []
+        margin = self.margin_m
+        for run in done:
+            collide = [(i, h) for i, h in run if h.collision]
+            kind = "collision" if collide else "clearance"
+            chosen = collide or run
+            i0, h0 = chosen[0]
+            worst_i, worst = min(chosen, key=lambda ih: ih[1].clearance_m)
+            amount = -worst.clearance_m if collide else margin - worst.clearance_m
+            st = float(stations[i0]) + h0.start_local_m
+            solid = self.index.solids[h0.solid].name
+            if collide:
+                msg = (f"{worst.part} scrapes {solid} by {amount * 1000:.0f} mm at station "
+                       f"{st:.2f} m")
+            else:
+                msg = (f"{worst.part} passes {solid} with {worst.clearance_m * 1000:.0f} mm "
+                       f"clearance, {amount * 1000:.0f} mm short of the "
+                       f"{margin * 1000:.0f} mm margin, from station {st:.2f} m")
+            out.append(Violation(kind, i0, st, h0.x, h0.y, float(amount), msg, solid))
+        return out
+
+    def _waypoint_violations(self, segs: tuple[Segment, ...], stations: np.ndarray,
+                             waypoints: Sequence[Any] | None) -> list[Violation]:
+        if not waypoints or not len(self.index):
+            return []
+        out = []
+        idx = self.index
+        total = float(stations[-1]) if len(segs) else 0.0
+        if segs:
+            n = max(2, int(math.ceil(total / 0.02)) + 1)
+            st = np.linspace(0.0, total, n)
+            poses = poses_along(segs, st)
+        for k, w in enumerate(waypoints):
+            wx = float(w.x if hasattr(w, "x") else w[0])
+            wy = float(w.y if hasattr(w, "y") else w[1])
+            pt = Point(wx, wy)
+            inside = idx.within(pt, 0.0)
+            if len(inside):
+                solid = idx.solids[int(inside[0])]
+                depth = float(shapely.distance(pt, solid.geometry.boundary))
+                s_k = 0.0
+                if segs:
+                    s_k = float(st[int(np.argmin(np.hypot(poses[:, 0] - wx,
+                                                          poses[:, 1] - wy)))])
+                out.append(Violation("waypoint_blocked", self._seg_at(stations, s_k), s_k,
+                                     wx, wy, depth, f"waypoint {k} at ({wx:.2f}, {wy:.2f}) "
+                                     f"lies inside {solid.name}", solid.name))
+                continue
+            if not segs:
+                continue
+            m = int(np.argmin(np.hypot(poses[:, 0] - wx, poses[:, 1] - wy)))
+            pose = (wx, wy, float(poses[m, 2]))
+            placed = placed_footprints(self.footprint, [pose])[0]
+            worst, wj = 0.0, None
+            for j in idx.within(placed, 0.0).tolist():
+                d = overlap_depth(placed, idx.geometries[j])
+                if d > worst:
+                    worst, wj = d, j
+            if wj is not None:
+                name = idx.solids[wj].name
+                out.append(Violation("waypoint_blocked", self._seg_at(stations, float(st[m])),
+                                     float(st[m]), wx, wy, worst,
+                                     f"waypoint {k} at ({wx:.2f}, {wy:.2f}): the footprint "
+                                     f"placed there overlaps {name} by {worst * 1000:.0f} mm",
+                                     name))
+        return out
+
+    @staticmethod
+    def _seg_at(stations: np.ndarray, s: float) -> int:
+        n = len(stations) - 1
+        return int(np.clip(np.searchsorted(stations, s, side="right") - 1, 0, max(n - 1, 0)))
+
+
+def check_route(plan_or_segments: Any, chassis: Any, index: ObstacleIndex,
+                tolerance_m: float = DEFAULT_TOLERANCE_M, route_name: str = "",
+                route: Any = None, waypoints: Sequence[Any] | None = None) -> RouteCheck:
+    """Swept-footprint check of one route against the solids in ``index``.
+
+    Parameters
+    ----------
+    plan_or_segments : RoutePlan or sequence of Segment
+    chassis : Chassis
+        ``footprint`` (bare) and ``margin_m``.
+    index : ObstacleIndex
+    tolerance_m : float
+        The swept region exceeds the true one by at most this, metres; reported clearances
+        are in ``[true - tolerance_m, true]``.
+    route_name : str
+    route : Route, optional
+        For ``waypoint_blocked``.
+    waypoints : sequence, optional
+        Instead of ``route``.
+
+    Returns
+    -------
+    RouteCheck
+
+    Examples
+    --------
+    >>> from kinematics.floorplan import FloorPlan, Obstacle
+    >>> from kinematics.project import Chassis
+    >>> from kinematics.segments import line
+    >>> fp = FloorPlan(obstacles=(Obstacle(((0, 1), (4, 1), (4, 2), (0, 2))),))
+    >>> c = check_route([line((0, 0, 0), 3.0)], Chassis(), ObstacleIndex(fp))
+    >>> c.clear, round(c.min_clearance_m, 3)
+    (True, 0.7)
+    """
+    checker = RouteChecker(chassis, index, tolerance_m)
+    return checker.check(plan_or_segments, route_name=route_name, route=route,
+                         waypoints=waypoints)
+
+
+# -- text report ----------------------------------------------------------------------------
+def format_check_text(checks: Sequence[RouteCheck]) -> str:
+    """A readable report of route checks for the terminal (``swathe check`` without --json)."""
+    out: list[str] = []
+    for c in checks:
+        if c.min_clearance_m is None:
+            least = "no walls or obstacles to measure"
+        else:
+            least = f"least clearance {c.min_clearance_m * 1000:.0f} mm"
+            if c.min_clearance_at:
+                a = c.min_clearance_at
+                least += (f" at station {a['station_m']:.2f} m ({a['x']:.2f}, {a['y']:.2f})"
+                          + (f" to {a['solid']}" if a.get("solid") else ""))
+        state = "CLEAR" if c.clear else f"{len(c.violations)} problem(s)"
+        out.append(f"Route {c.name!r}: {state}; {least}; margin {c.margin_m * 1000:.0f} mm, "
+                   f"tolerance {c.tolerance_m * 1000:.1f} mm")
+        for v in c.violations:
+            seg = "-" if v.segment is None else str(v.segment)
+            out.append(f"  {v.kind:<16} seg {seg:>3}  station {v.station_m:8.2f} m  "
+                       f"({v.x:.2f}, {v.y:.2f})  {v.amount_m * 1000:6.0f} mm  {v.message}")
+        for p in c.doors:
+            cl = "-" if p.min_clearance_m is None else f"{p.min_clearance_m * 1000:.0f} mm"
+            out.append(f"  door {p.label!r} ({p.width_m:.3f} m wide) at station "
+                       f"{p.station_m:.2f} m: least clearance {cl}")
+        if c.sizing:
+            for line_ in _sizing_lines(c.sizing):
+                out.append("  " + line_)
+        out.append("")
+    out.append(CAUTION)
+    return "\n".join(out) + "\n"
+
+
+def _sizing_lines(sizing: dict) -> list[str]:
+    lines = []
+    for key in ("widest", "longest"):
+        s = sizing.get(key)
+        if s:
+            best = s.get("max_m")
+            best_txt = "none clears" if best is None else f"{best:.3f} m"
+            lines.append(f"{key} footprint that clears: {best_txt} "
+                         f"(now {s.get('current_m', 0.0):.3f} m)")
+    for d in sizing.get("doors", []) or []:
+        need = d.get("width_needed_m")
+        need_txt = "-" if need is None else f"{need:.3f} m"
+        lines.append(f"door {d.get('label')!r} needs {need_txt} (now {d.get('width_m'):.3f} m)")
+    return lines
