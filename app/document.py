@@ -14,9 +14,11 @@ re-sweeps only the segments that moved.
 
 from __future__ import annotations
 
+import ctypes
 import dataclasses
 import itertools
 import os
+import sys
 from pathlib import Path
 from typing import Any
 
@@ -27,6 +29,35 @@ from kinematics.errors import SwatheInputError
 from kinematics.floorplan import FloorPlan
 from kinematics.project import Chassis, Project, Route, Waypoint, load_project, save_project
 
+
+def guard_none_refcount() -> bool:
+    """Keep ``None`` alive under Qt bindings that drop a reference per void call.
+
+    PySide6 6.12.0 on CPython 3.11 returns ``None`` from every C++ method returning ``void``
+    without taking a reference, so each call lowers ``None``'s count by one; after a few
+    thousand calls (a second of dragging) the interpreter aborts with "none_dealloc". CPython
+    3.12 made ``None`` immortal, so only older interpreters need this. The guard measures one
+    void call and, if it leaks, raises ``None``'s count far beyond any session's calls.
+    ``None`` is a static object that is never freed, so a larger count is harmless.
+    Returns True when the guard was applied.
+    """
+    if sys.implementation.name != "cpython" or sys.version_info >= (3, 12):
+        return False
+    from PySide6.QtCore import QPointF
+
+    p = QPointF()
+    before = sys.getrefcount(None)
+    p.setX(1.0)
+    if sys.getrefcount(None) >= before:
+        return False
+    # The same bindings also drop references to True and False returned by Python overrides
+    # of C++ virtuals (event handlers), so those two singletons get the same reserve.
+    for singleton in (None, True, False):
+        ctypes.c_ssize_t.from_address(id(singleton)).value += 1 << 40
+    return True
+
+
+GUARDED = guard_none_refcount()
 MIN_WAYPOINTS = 2  # a route file needs two waypoints (kinematics.project.route_from_dict)
 _MERGE_ID = 0x5357  # one id for every mergeable drag command; mergeWith compares the keys
 _drag_tokens = itertools.count(1)
@@ -241,13 +272,14 @@ class Document(QObject):
             return hit[2]
         checker = self._checker(name)
         try:
+            route = self._route_by_name(name)
             if checker is not None:
-                chk = checker.check(plan, route_name=name)
+                chk = checker.check(plan, route_name=name, route=route)
             else:
                 from kinematics.clearance import check_route
 
                 chk = check_route(plan, self._project.chassis, self.obstacle_index(),
-                                  route_name=name)
+                                  route_name=name, route=route)
         except SwatheInputError as exc:
             self._errors[name] = exc.message
             chk = None

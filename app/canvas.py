@@ -1,0 +1,884 @@
+"""The floor-plan canvas: the plan at true scale, route sketching and the live check.
+
+A pyqtgraph plot with its aspect locked, so one metre is as long across as up; axes, grid and
+a scale bar in metres. It draws the Document (walls, obstacles, doors, every route's path, the
+current route's swept band, footprint outlines and violations) and turns mouse gestures into
+Document edits:
+
+- drag a waypoint to move it; drag its heading handle (the diamond) to fix its heading;
+- click in *add* mode, or Ctrl+click in any mode, to append a waypoint;
+- double-click a leg to insert a waypoint there;
+- Delete / Backspace or the context menu removes the selected waypoint;
+- drag empty space to pan, the wheel zooms.
+
+Colours are from the Okabe-Ito colour-blind-safe palette (Okabe & Ito 2008), and nothing is
+told by colour alone: reverse travel is dashed, each violation kind has its own marker shape
+and a text label with its amount.
+"""
+
+from __future__ import annotations
+
+import math
+from collections.abc import Sequence
+
+import numpy as np
+import pyqtgraph as pg
+import shapely
+from PySide6.QtCore import QPoint, QPointF, Qt, Signal
+from PySide6.QtGui import QAction, QBrush, QColor, QKeySequence, QPainterPath, QPen
+from PySide6.QtWidgets import QGraphicsPathItem, QInputDialog, QMenu, QVBoxLayout, QWidget
+
+from kinematics.floorplan import solids
+from kinematics.project import Waypoint
+from kinematics.segments import Segment
+
+from .document import Document, new_drag_token
+
+# Okabe-Ito palette (Okabe & Ito 2008, "Color Universal Design").
+BLACK = "#000000"
+ORANGE = "#E69F00"
+SKY = "#56B4E9"
+GREEN = "#009E73"
+YELLOW = "#F0E442"
+BLUE = "#0072B2"
+VERMILLION = "#D55E00"
+PURPLE = "#CC79A7"
+WALL_FILL = "#4D4D4D"
+OBSTACLE_FILL = "#A6A6A6"
+
+# Marker shape per violation kind (pyqtgraph symbol names) and the word shown beside it.
+VIOLATION_SYMBOLS = {"collision": "x", "clearance": "t", "turn_radius": "s",
+                     "infeasible": "star", "waypoint_blocked": "d"}
+VIOLATION_WORDS = {"collision": "overlap", "clearance": "short of margin",
+                   "turn_radius": "radius short", "infeasible": "no connection",
+                   "waypoint_blocked": "blocked"}
+
+HIT_PX = 9.0  # how close (pixels) a press must be to grab a waypoint or handle
+HANDLE_PX = 42.0  # length of a heading handle on screen
+MAX_LABELS = 80  # violation labels drawn at most (the results panel lists every one)
+
+
+def _pen(colour: str, width: float = 1.0, style: Qt.PenStyle = Qt.PenStyle.SolidLine,
+         alpha: int = 255) -> QPen:
+    c = QColor(colour)
+    c.setAlpha(alpha)
+    pen = QPen(c, width)
+    pen.setCosmetic(True)
+    pen.setStyle(style)
+    return pen
+
+
+def _brush(colour: str, alpha: int = 255) -> QBrush:
+    c = QColor(colour)
+    c.setAlpha(alpha)
+    return QBrush(c)
+
+
+def polygons_path(geoms: Sequence) -> QPainterPath:
+    """A painter path of shapely polygons (holes included, odd-even fill)."""
+    path = QPainterPath()
+    path.setFillRule(Qt.FillRule.OddEvenFill)
+
+    def ring(coords: np.ndarray) -> None:
+        if len(coords) < 3:
+            return
+        path.moveTo(float(coords[0, 0]), float(coords[0, 1]))
+        for x, y in coords[1:]:
+            path.lineTo(float(x), float(y))
+        path.closeSubpath()
+
+    for g in geoms:
+        if g is None or g.is_empty:
+            continue
+        for part in getattr(g, "geoms", [g]):
+            if part.geom_type != "Polygon":
+                continue
+            ring(np.asarray(part.exterior.coords))
+            for hole in part.interiors:
+                ring(np.asarray(hole.coords))
+    return path
+
+
+def sample_segments(segments: Sequence[Segment], step_m: float = 0.05
+                    ) -> tuple[np.ndarray, np.ndarray, np.ndarray, np.ndarray]:
+    """Poses along a path for drawing and hover: ``(xy, station_m, seg_index, direction)``.
+
+    Lines get their two ends, arcs a point every ``step_m`` (at most every 3 degrees);
+    pivots one point.
+    """
+    xy, st, idx, dirs = [], [], [], []
+    s0 = 0.0
+    for i, seg in enumerate(segments):
+        if seg.kind == "arc":
+            n = max(2, int(math.ceil(max(seg.length_m / step_m,
+                                         abs(seg.turn_rad) / math.radians(3.0)))) + 1)
+        elif seg.kind == "line":
+            n = max(2, int(math.ceil(seg.length_m / 0.5)) + 1)
+        else:
+            n = 1
+        f = np.linspace(0.0, 1.0, n)
+        p = seg.poses_at_fraction(f)
+        xy.append(p[:, :2])
+        st.append(s0 + f * seg.length_m)
+        idx.append(np.full(n, i))
+        dirs.append(np.full(n, seg.direction))
+        s0 += seg.length_m
+    if not xy:
+        z = np.zeros((0,))
+        return np.zeros((0, 2)), z, z.astype(int), z.astype(int)
+    return np.vstack(xy), np.concatenate(st), np.concatenate(idx), np.concatenate(dirs)
+
+
+def _broken_line(xy: np.ndarray, dirs: np.ndarray, idx: np.ndarray, want: int
+                 ) -> tuple[np.ndarray, np.ndarray]:
+    """x, y arrays with NaN breaks keeping only the pieces travelled in direction ``want``."""
+    xs: list[float] = []
+    ys: list[float] = []
+    prev = None
+    for k in range(len(xy)):
+        if dirs[k] != want:
+            if prev is not None:
+                xs.append(np.nan)
+                ys.append(np.nan)
+                prev = None
+            continue
+        xs.append(xy[k, 0])
+        ys.append(xy[k, 1])
+        prev = idx[k]
+    return np.asarray(xs, dtype=float), np.asarray(ys, dtype=float)
+
+
+def footprint_outlines(footprint: Sequence[tuple[float, float]], poses: np.ndarray
+                       ) -> QPainterPath:
+    """The footprint outline placed at each pose ``(x, y, heading_rad)``, one path."""
+    fp = np.asarray(footprint, dtype=float)
+    path = QPainterPath()
+    if len(poses) == 0:
+        return path
+    c, s = np.cos(poses[:, 2])[:, None], np.sin(poses[:, 2])[:, None]
+    X = poses[:, 0:1] + c * fp[None, :, 0] - s * fp[None, :, 1]
+    Y = poses[:, 1:2] + s * fp[None, :, 0] + c * fp[None, :, 1]
+    for xr, yr in zip(X, Y):
+        path.moveTo(float(xr[0]), float(yr[0]))
+        for x, y in zip(xr[1:], yr[1:]):
+            path.lineTo(float(x), float(y))
+        path.closeSubpath()
+    return path
+
+
+def _nice_length(target: float) -> float:
+    """The 1-2-5 series value nearest below ``target`` (for the scale bar)."""
+    if target <= 0 or not math.isfinite(target):
+        return 1.0
+    e = math.floor(math.log10(target))
+    for m in (5.0, 2.0, 1.0):
+        if m * 10**e <= target:
+            return m * 10**e
+    return 10**e
+
+
+def _ignore_click(ev) -> None:
+    ev.ignore()
+
+
+class PlanViewBox(pg.ViewBox):
+    """A view box that offers clicks and drags to the canvas before panning."""
+
+    def __init__(self, canvas: PlanCanvas) -> None:
+        super().__init__(lockAspect=True, enableMenu=False)
+        self._canvas = canvas
+
+    def mouseClickEvent(self, ev) -> None:  # noqa: N802 - pyqtgraph's name
+        if not self._canvas._on_click(ev):
+            super().mouseClickEvent(ev)
+
+    def mouseDragEvent(self, ev, axis=None) -> None:  # noqa: N802 - pyqtgraph's name
+        if not self._canvas._on_drag(ev):
+            super().mouseDragEvent(ev, axis)
+
+
+class PlanCanvas(QWidget):
+    """Draws the document's floor plan and routes; edits waypoints with the mouse.
+
+    Parameters
+    ----------
+    doc : Document
+    """
+
+    cursorMoved = Signal(float, float)
+    hoverInfo = Signal(str)
+    message = Signal(str)
+    selectionChanged = Signal(int)
+    modeChanged = Signal(str)
+
+    def __init__(self, doc: Document, parent: QWidget | None = None) -> None:
+        super().__init__(parent)
+        self.doc = doc
+        self.mode = "select"  # or "add"
+        self.snap_m: float | None = None
+        self.show_band = True
+        self.outline_spacing_m: float | None = 1.0
+        self.selected = -1
+        self._drag: tuple | None = None
+        self._pending: tuple[float, float] | None = None  # first point of a new route
+        self._samples = (np.zeros((0, 2)), np.zeros(0), np.zeros(0, int), np.zeros(0, int))
+        self._solids_tree: shapely.STRtree | None = None
+        self._solid_geoms: list = []
+        self.last_hover: dict | None = None
+        self._sweep_cache: dict = {}
+        self._sweep_cache_key: object = None
+
+        self.view = PlanViewBox(self)
+        self.plot = pg.PlotWidget(viewBox=self.view, background="w")
+        self.plot.setAntialiasing(True)
+        self.plot.setFocusPolicy(Qt.FocusPolicy.StrongFocus)
+        pi = self.plot.getPlotItem()
+        pi.showGrid(x=True, y=True, alpha=0.18)
+        for side in ("left", "bottom"):
+            ax = pi.getAxis(side)
+            ax.setPen(_pen("#555555"))
+            ax.setTextPen(_pen("#222222"))
+        pi.setLabel("bottom", "x", units="m")
+        pi.setLabel("left", "y", units="m")
+        lay = QVBoxLayout(self)
+        lay.setContentsMargins(0, 0, 0, 0)
+        lay.addWidget(self.plot)
+        self._build_items()
+
+        self.scale_bar = pg.ScaleBar(size=1.0, width=6, brush=pg.mkBrush(BLACK),
+                                     pen=pg.mkPen(BLACK), suffix="m")
+        self.scale_bar.setParentItem(self.view)
+        self.scale_bar.anchor((1, 1), (1, 1), offset=(-24, -24))
+        self.scale_bar.text.setColor(QColor(BLACK))
+
+        self.view.sigRangeChanged.connect(self._range_changed)
+        self.plot.scene().sigMouseMoved.connect(self._mouse_moved)
+        doc.floorplanChanged.connect(self.refresh_plan)
+        doc.resultsChanged.connect(self.refresh_routes)
+        doc.currentRouteChanged.connect(self._current_changed)
+        doc.projectReplaced.connect(self._project_replaced)
+
+        self._delete_action = QAction("Delete waypoint", self)
+        self._delete_action.setShortcuts([QKeySequence.StandardKey.Delete,
+                                          QKeySequence(Qt.Key.Key_Backspace)])
+        self._delete_action.setShortcutContext(Qt.ShortcutContext.WidgetWithChildrenShortcut)
+        self._delete_action.triggered.connect(self.delete_selected)
+        self.addAction(self._delete_action)
+        self.refresh_plan()
+        self.refresh_routes()
+        self.fit()
+
+    # -- items ------------------------------------------------------------------------------
+    def _build_items(self) -> None:
+        add = self.plot.addItem
+        self.band_item = QGraphicsPathItem()
+        self.band_item.setPen(QPen(Qt.PenStyle.NoPen))
+        self.band_item.setBrush(_brush(SKY, 80))
+        self.band_item.setZValue(-5)
+        add(self.band_item)
+        self.walls_item = QGraphicsPathItem()
+        self.walls_item.setPen(_pen(BLACK, 1.0))
+        self.walls_item.setBrush(_brush(WALL_FILL))
+        self.walls_item.setZValue(0)
+        add(self.walls_item)
+        self.obstacles_item = QGraphicsPathItem()
+        self.obstacles_item.setPen(_pen("#333333", 1.2))
+        self.obstacles_item.setBrush(QBrush(QColor(OBSTACLE_FILL), Qt.BrushStyle.Dense4Pattern))
+        self.obstacles_item.setZValue(0)
+        add(self.obstacles_item)
+        self.doors_item = pg.PlotDataItem(pen=pg.mkPen(ORANGE, width=4), connect="finite")
+        self.doors_item.setZValue(1)
+        add(self.doors_item)
+        self.jambs_item = pg.ScatterPlotItem(symbol="o", size=6, pen=pg.mkPen(BLACK),
+                                             brush=pg.mkBrush(ORANGE))
+        self.jambs_item.setZValue(1)
+        add(self.jambs_item)
+        self.plan_labels: list[pg.TextItem] = []
+
+        self.others_item = pg.PlotDataItem(pen=pg.mkPen("#8C8C8C", width=1.5,
+                                                        style=Qt.PenStyle.DashDotLine),
+                                           connect="finite")
+        self.others_item.setZValue(2)
+        add(self.others_item)
+        self.outlines_item = QGraphicsPathItem()
+        self.outlines_item.setPen(_pen(GREEN, 1.0))
+        self.outlines_item.setZValue(3)
+        add(self.outlines_item)
+        self.path_fwd = pg.PlotDataItem(pen=pg.mkPen(BLUE, width=2.5), connect="finite")
+        self.path_rev = pg.PlotDataItem(pen=pg.mkPen(BLUE, width=2.5, style=Qt.PenStyle.DashLine),
+                                        connect="finite")
+        for it in (self.path_fwd, self.path_rev):
+            it.setZValue(4)
+            add(it)
+        self.chords_item = pg.PlotDataItem(pen=pg.mkPen("#777777", width=1,
+                                                        style=Qt.PenStyle.DotLine))
+        self.chords_item.setZValue(3.5)
+        add(self.chords_item)
+        self.handles_line = pg.PlotDataItem(pen=pg.mkPen(PURPLE, width=2), connect="finite")
+        self.handles_line.setZValue(6)
+        add(self.handles_line)
+        self.handles_item = pg.ScatterPlotItem(symbol="d", size=13, pen=pg.mkPen(BLACK, width=1),
+                                               brush=pg.mkBrush(PURPLE))
+        self.handles_item.setZValue(7)
+        add(self.handles_item)
+        self.waypoints_item = pg.ScatterPlotItem(symbol="o", size=13,
+                                                 pen=pg.mkPen(BLACK, width=1.5),
+                                                 brush=pg.mkBrush("w"))
+        self.waypoints_item.setZValue(8)
+        add(self.waypoints_item)
+        self.pending_item = pg.ScatterPlotItem(symbol="o", size=13,
+                                               pen=pg.mkPen(BLUE, width=2), brush=None)
+        self.pending_item.setZValue(8)
+        add(self.pending_item)
+        self.wp_labels: list[pg.TextItem] = []
+        self.violations_item = pg.ScatterPlotItem(size=16, pen=pg.mkPen(BLACK, width=1.5),
+                                                  brush=pg.mkBrush(VERMILLION))
+        self.violations_item.setZValue(9)
+        add(self.violations_item)
+        self.violation_labels: list[pg.TextItem] = []
+        self.hover_item = pg.ScatterPlotItem(symbol="o", size=16, pen=pg.mkPen(BLACK, width=2),
+                                             brush=None)
+        self.hover_item.setZValue(10)
+        add(self.hover_item)
+
+        # Clicks belong to the canvas's gestures, not to pyqtgraph's per-point click signals.
+        for it in (self.jambs_item, self.handles_item, self.waypoints_item, self.pending_item,
+                   self.violations_item, self.hover_item):
+            it.mouseClickEvent = _ignore_click
+
+    def _labels(self, pool: list[pg.TextItem], n: int, colour: str, fill: str | None,
+                anchor: tuple[float, float]) -> list[pg.TextItem]:
+        while len(pool) < n:
+            t = pg.TextItem("", color=colour, anchor=anchor,
+                            fill=pg.mkBrush(QColor(fill)) if fill else None)
+            t.setZValue(11)
+            self.plot.addItem(t)
+            pool.append(t)
+        for k, t in enumerate(pool):
+            t.setVisible(k < n)
+        return pool[:n]
+
+    # -- coordinates ------------------------------------------------------------------------
+    def px_m(self) -> float:
+        """Size of one screen pixel in plan metres."""
+        w, h = self.view.viewPixelSize()
+        v = max(w, h)
+        return v if v > 0 and math.isfinite(v) else 0.01
+
+    def plan_to_viewport(self, x: float, y: float) -> QPoint:
+        """Viewport pixel of plan point ``(x, y)`` (for tests and tooltips)."""
+        scene = self.view.mapViewToScene(QPointF(x, y))
+        return self.plot.mapFromScene(scene)
+
+    def viewport_to_plan(self, p: QPoint) -> tuple[float, float]:
+        v = self.view.mapSceneToView(self.plot.mapToScene(p))
+        return (v.x(), v.y())
+
+    def _scene_to_plan(self, scene_pos: QPointF) -> tuple[float, float]:
+        v = self.view.mapSceneToView(scene_pos)
+        return (v.x(), v.y())
+
+    def _snap(self, x: float, y: float) -> tuple[float, float]:
+        """Grid snap when on; otherwise 0.1 mm, far finer than a sketch needs, so that files
+        hold short numbers that survive a save exactly."""
+        if self.snap_m:
+            g = self.snap_m
+            return (round(round(x / g) * g, 6), round(round(y / g) * g, 6))
+        return (round(x, 4), round(y, 4))
+
+    def fit(self) -> None:
+        """Show the whole floor plan and every waypoint."""
+        xs, ys = [], []
+        x0, y0, x1, y1 = self.doc.project.floorplan.bounds()
+        if (x0, y0, x1, y1) != (0.0, 0.0, 0.0, 0.0):
+            xs += [x0, x1]
+            ys += [y0, y1]
+        for r in self.doc.project.routes:
+            xs += [w.x for w in r.waypoints]
+            ys += [w.y for w in r.waypoints]
+        if not xs:
+            xs, ys = [0.0, 10.0], [0.0, 10.0]
+        self.view.setRange(xRange=(min(xs), max(xs)), yRange=(min(ys), max(ys)), padding=0.04)
+
+    # -- drawing ----------------------------------------------------------------------------
+    def refresh_plan(self) -> None:
+        fp = self.doc.project.floorplan
+        sol = solids(fp)
+        walls = [s.geometry for s in sol if s.kind == "wall"]
+        obst = [s.geometry for s in sol if s.kind == "obstacle"]
+        self.walls_item.setPath(polygons_path(walls))
+        self.obstacles_item.setPath(polygons_path(obst))
+        self._solid_geoms = [s.geometry for s in sol]
+        self._solids_tree = shapely.STRtree(self._solid_geoms) if sol else None
+        dx, dy = [], []
+        for d in fp.doors:
+            dx += [d.a[0], d.b[0], np.nan]
+            dy += [d.a[1], d.b[1], np.nan]
+        self.doors_item.setData(np.asarray(dx, float), np.asarray(dy, float))
+        jx = [p[0] for d in fp.doors for p in (d.a, d.b)]
+        jy = [p[1] for d in fp.doors for p in (d.a, d.b)]
+        self.jambs_item.setData(jx, jy)
+        named = [(d.midpoint, d.label, "door") for d in fp.doors if d.label]
+        for i, o in enumerate(fp.obstacles):
+            if o.label:
+                g = [s.geometry for s in sol if s.kind == "obstacle" and s.index == i]
+                if g:
+                    c = g[0].representative_point()
+                    named.append(((c.x, c.y), o.label, "obstacle"))
+        labels = self._labels(self.plan_labels, len(named), "#111111", None, (0.5, 0.5))
+        for t, (pos, text, kind) in zip(labels, named):
+            if kind == "door":
+                t.setColor(QColor("#7A4A00"))
+                t.fill = pg.mkBrush(QColor(255, 255, 255, 200))
+                t.setAnchor((0.5, -0.3))
+            else:
+                t.setColor(QColor("#111111"))
+                t.fill = pg.mkBrush(QColor(255, 255, 255, 170))
+                t.setAnchor((0.5, 0.5))
+            t.setText(text)
+            t.setPos(*pos)
+
+    def _project_replaced(self) -> None:
+        self.selected = -1
+        self._pending = None
+        self._drag = None
+        self.fit()
+
+    def _current_changed(self, _i: int) -> None:
+        self.selected = -1
+        self.selectionChanged.emit(-1)
+        self.refresh_routes()
+
+    def refresh_routes(self) -> None:
+        """Redraw every route, the current one with its band, outlines and violations."""
+        doc = self.doc
+        cur = doc.route()
+        # Other routes: faint dash-dot paths so the user sees what else shares the floor.
+        ox, oy = [], []
+        for i, r in enumerate(doc.project.routes):
+            if i == doc.current_route:
+                continue
+            plan = doc.plan(r.name)
+            if plan is None or not plan.segments:
+                pts = np.array([[w.x, w.y] for w in r.waypoints])
+            else:
+                pts = sample_segments(plan.segments, 0.15)[0]
+            ox += list(pts[:, 0]) + [np.nan]
+            oy += list(pts[:, 1]) + [np.nan]
+        self.others_item.setData(np.asarray(ox, float), np.asarray(oy, float))
+        self.pending_item.setData([self._pending[0]] if self._pending else [],
+                                  [self._pending[1]] if self._pending else [])
+        if cur is None:
+            for it in (self.path_fwd, self.path_rev, self.chords_item, self.waypoints_item,
+                       self.handles_item, self.handles_line, self.violations_item):
+                it.setData([], [])
+            self.band_item.setPath(QPainterPath())
+            self.outlines_item.setPath(QPainterPath())
+            self._labels(self.wp_labels, 0, BLACK, None, (0, 0))
+            self._labels(self.violation_labels, 0, BLACK, None, (0, 0))
+            self._samples = sample_segments([])
+            return
+        plan = doc.plan(cur.name)
+        segs = list(plan.segments) if plan is not None else []
+        self._samples = sample_segments(segs)
+        xy, _st, idx, dirs = self._samples
+        self.path_fwd.setData(*_broken_line(xy, dirs, idx, 1))
+        self.path_rev.setData(*_broken_line(xy, dirs, idx, -1))
+        wx = np.array([w.x for w in cur.waypoints])
+        wy = np.array([w.y for w in cur.waypoints])
+        self.chords_item.setData(wx, wy)
+        brushes = [pg.mkBrush(ORANGE if i == self.selected else "w") for i in range(len(wx))]
+        sizes = [16 if i == self.selected else 13 for i in range(len(wx))]
+        self.waypoints_item.setData(wx, wy, brush=brushes, size=sizes)
+        labels = self._labels(self.wp_labels, len(wx), BLACK, None, (-0.35, 1.15))
+        for k, t in enumerate(labels):
+            t.setText(str(k + 1))
+            t.setPos(wx[k], wy[k])
+        self._draw_handles()
+        self._draw_band_and_outlines(segs)
+        self._draw_violations(cur.name)
+
+    def _draw_handles(self) -> None:
+        cur = self.doc.route()
+        if cur is None:
+            return
+        L = HANDLE_PX * self.px_m()
+        hx, hy, lx, ly, brushes = [], [], [], [], []
+        for i, w in enumerate(cur.waypoints):
+            if w.heading_deg is None and i != self.selected:
+                continue
+            h = math.radians(w.heading_deg if w.heading_deg is not None
+                             else self._free_heading_deg(i))
+            ex, ey = w.x + L * math.cos(h), w.y + L * math.sin(h)
+            hx.append(ex)
+            hy.append(ey)
+            brushes.append(pg.mkBrush(PURPLE) if w.heading_deg is not None
+                           else pg.mkBrush(QColor(255, 255, 255, 230)))
+            if w.heading_deg is not None:
+                lx += [w.x, ex, np.nan]
+                ly += [w.y, ey, np.nan]
+        self.handles_item.setData(hx, hy, brush=brushes)
+        self.handles_line.setData(np.asarray(lx, float), np.asarray(ly, float))
+
+    def _free_heading_deg(self, i: int) -> float:
+        """Heading the planner chose at waypoint ``i`` (or the chord direction)."""
+        cur = self.doc.route()
+        plan = self.doc.plan(cur.name) if cur is not None else None
+        ch = getattr(plan, "chosen_headings", None) if plan is not None else None
+        if ch and ch.get(i) is not None:
+            return float(ch[i])
+        wps = cur.waypoints
+        j = i + 1 if i + 1 < len(wps) else i - 1
+        a, b = (wps[i], wps[j]) if j > i else (wps[j], wps[i])
+        return math.degrees(math.atan2(b.y - a.y, b.x - a.x))
+
+    def _draw_band_and_outlines(self, segs: list[Segment]) -> None:
+        chassis = self.doc.project.chassis
+        if self.show_band and segs:
+            self.band_item.setPath(self._swept_path(segs))
+        else:
+            self.band_item.setPath(QPainterPath())
+        if self.outline_spacing_m and segs:
+            from kinematics.segments import path_length, poses_along
+
+            total = path_length(segs)
+            n = int(total // self.outline_spacing_m)
+            stations = np.append(np.arange(n + 1) * self.outline_spacing_m, total)
+            poses = poses_along(segs, stations)
+            self.outlines_item.setPath(footprint_outlines(chassis.footprint, poses))
+        else:
+            self.outlines_item.setPath(QPainterPath())
+
+    def _swept_path(self, segs: list[Segment]) -> QPainterPath:
+        """The swept band as one winding-filled path of per-segment pieces.
+
+        Pieces are oriented alike (exteriors counter-clockwise), so the non-zero winding rule
+        fills their union once without computing it; pieces of unchanged segments come from
+        a cache, so a drag re-sweeps only the segments that moved.
+        """
+        from kinematics.sweep import swept_segment
+
+        fp = self.doc.project.chassis.footprint
+        if self._sweep_cache_key != fp:
+            self._sweep_cache = {}
+            self._sweep_cache_key = fp
+        cur = self.doc.route()
+        chk = self.doc.check(cur.name) if cur is not None else None
+        checked = getattr(chk, "pieces", ()) or ()
+        old = self._sweep_cache
+        new: dict = {}
+        pieces = []
+        for k, seg in enumerate(segs):
+            g = old.get(seg)
+            if g is None:
+                raw = checked[k] if len(checked) == len(segs) else swept_segment(fp, seg)
+                g = shapely.orient_polygons(raw)
+            new[seg] = g
+            pieces.append(g)
+        self._sweep_cache = new
+        path = polygons_path(pieces)
+        path.setFillRule(Qt.FillRule.WindingFill)
+        return path
+
+    def _draw_violations(self, name: str) -> None:
+        chk = self.doc.check(name)
+        vs = list(getattr(chk, "violations", []) or []) if chk is not None else []
+        spots = [{"pos": (v.x, v.y), "symbol": VIOLATION_SYMBOLS.get(v.kind, "o"),
+                  "data": k} for k, v in enumerate(vs)]
+        self.violations_item.setData(spots)
+        shown = vs[:MAX_LABELS]
+        labels = self._labels(self.violation_labels, len(shown), "#5A1E00",
+                              "#FFFFFFDD", (-0.12, -0.1))
+        for t, v in zip(labels, shown):
+            word = VIOLATION_WORDS.get(v.kind, v.kind)
+            t.setText(f"{word} {v.amount_m * 1000:.0f} mm" if v.kind != "infeasible" else word)
+            t.setPos(v.x, v.y)
+
+    def _range_changed(self, *_args) -> None:
+        w = self.view.viewRange()[0]
+        size = _nice_length((w[1] - w[0]) / 6.0)
+        if size != self.scale_bar.size:
+            self.scale_bar.size = size
+            self.scale_bar.text.setText(f"{size:g} m")
+            self.scale_bar.updateBar()
+        self._draw_handles()
+
+    # -- hit testing ------------------------------------------------------------------------
+    def hit(self, x: float, y: float) -> tuple[str, int] | None:
+        """What is under plan point ``(x, y)``: ``("handle", i)``, ``("waypoint", i)``."""
+        cur = self.doc.route()
+        if cur is None:
+            return None
+        tol = HIT_PX * self.px_m()
+        L = HANDLE_PX * self.px_m()
+        best: tuple[float, str, int] | None = None
+        for i, w in enumerate(cur.waypoints):
+            d = math.hypot(w.x - x, w.y - y)
+            if d <= tol and (best is None or d < best[0]):
+                best = (d, "waypoint", i)
+            if w.heading_deg is not None or i == self.selected:
+                h = math.radians(w.heading_deg if w.heading_deg is not None
+                                 else self._free_heading_deg(i))
+                d = math.hypot(w.x + L * math.cos(h) - x, w.y + L * math.sin(h) - y)
+                if d <= tol and (best is None or d < best[0] - 1e-12):
+                    best = (d, "handle", i)
+        return None if best is None else (best[1], best[2])
+
+    def leg_at(self, x: float, y: float) -> int | None:
+        """Index to insert at if ``(x, y)`` is on a leg (near the path or the chord)."""
+        cur = self.doc.route()
+        if cur is None or len(cur.waypoints) < 2:
+            return None
+        tol = HIT_PX * self.px_m()
+        p = np.array([x, y])
+        a = np.array([[w.x, w.y] for w in cur.waypoints[:-1]])
+        b = np.array([[w.x, w.y] for w in cur.waypoints[1:]])
+        ab = b - a
+        t = np.clip(np.einsum("ij,ij->i", p - a, ab) / np.maximum(
+            np.einsum("ij,ij->i", ab, ab), 1e-12), 0, 1)
+        d_chord = np.hypot(*(a + t[:, None] * ab - p).T)
+        leg = int(np.argmin(d_chord))
+        xy = self._samples[0]
+        near_path = len(xy) and float(np.min(np.hypot(*(xy - p).T))) <= tol
+        if d_chord[leg] <= tol or near_path:
+            return leg + 1
+        return None
+
+    # -- gestures ---------------------------------------------------------------------------
+    def set_mode(self, mode: str) -> None:
+        self.mode = mode
+        if mode != "add":
+            self._pending = None
+            self.pending_item.setData([], [])
+        self.modeChanged.emit(mode)
+
+    def select(self, i: int) -> None:
+        if i != self.selected:
+            self.selected = i
+            self.selectionChanged.emit(i)
+            self.refresh_routes()
+
+    def _on_click(self, ev) -> bool:
+        x, y = self._scene_to_plan(ev.scenePos())
+        btn = ev.button()
+        mods = ev.modifiers()
+        self.plot.setFocus()
+        if btn == Qt.MouseButton.RightButton:
+            ev.accept()
+            self._context_menu(x, y, ev.screenPos().toPoint())
+            return True
+        if btn != Qt.MouseButton.LeftButton:
+            return False
+        target = self.hit(x, y)
+        if ev.double():
+            if target is None:
+                leg = self.leg_at(x, y)
+                if leg is not None:
+                    sx, sy = self._snap(x, y)
+                    self.doc.add_waypoint(self.doc.current_route, leg, Waypoint(sx, sy))
+                    self.select(leg)
+            ev.accept()
+            return True
+        if target is not None:
+            self.select(target[1])
+            ev.accept()
+            return True
+        if self.mode == "add" or mods & Qt.KeyboardModifier.ControlModifier:
+            self.append_point(*self._snap(x, y))
+            ev.accept()
+            return True
+        self.select(-1)
+        ev.accept()
+        return True
+
+    def append_point(self, x: float, y: float) -> None:
+        """Add a waypoint at the end of the current route (a new route needs two clicks)."""
+        doc = self.doc
+        cur = doc.route()
+        if cur is None:
+            if self._pending is None:
+                self._pending = (x, y)
+                self.pending_item.setData([x], [y])
+                self.message.emit("First point of a new route; click again for the second.")
+                return
+            from kinematics.project import Route
+
+            first = self._pending
+            self._pending = None
+            self.pending_item.setData([], [])
+            doc.add_route(Route(doc.unique_route_name(),
+                                (Waypoint(*first), Waypoint(x, y))))
+            self.select(1)
+            return
+        doc.add_waypoint(doc.current_route, len(cur.waypoints), Waypoint(x, y))
+        self.select(len(cur.waypoints))
+
+    def _on_drag(self, ev) -> bool:
+        if ev.button() != Qt.MouseButton.LeftButton:
+            return False
+        if ev.isStart():
+            x, y = self._scene_to_plan(ev.buttonDownScenePos())
+            target = self.hit(x, y)
+            if target is None:
+                self._drag = None
+                return False
+            self._drag = (target[0], target[1], new_drag_token())
+            self.select(target[1])
+        if self._drag is None:
+            return False
+        ev.accept()
+        kind, i, token = self._drag
+        x, y = self._scene_to_plan(ev.scenePos())
+        cur = self.doc.route()
+        if cur is None or i >= len(cur.waypoints):
+            self._drag = None
+            return True
+        if kind == "waypoint":
+            sx, sy = self._snap(x, y)
+            w = cur.waypoints[i]
+            if (sx, sy) != (w.x, w.y):
+                self.doc.move_waypoint(self.doc.current_route, i, sx, sy, drag=token)
+        else:
+            w = cur.waypoints[i]
+            h = math.degrees(math.atan2(y - w.y, x - w.x))
+            if self.snap_m or ev.modifiers() & Qt.KeyboardModifier.ShiftModifier:
+                h = round(h / 15.0) * 15.0
+            self.doc.set_waypoint_heading(self.doc.current_route, i, round(h, 2), drag=token)
+        if ev.isFinish():
+            self._drag = None
+        return True
+
+    def delete_selected(self) -> None:
+        i = self.selected
+        if i < 0 or self.doc.route() is None:
+            return
+        if self.doc.delete_waypoint(self.doc.current_route, i):
+            self.selected = -1
+            self.selectionChanged.emit(-1)
+            self.refresh_routes()
+        else:
+            self.message.emit("A route needs at least two waypoints; remove the route instead.")
+
+    def _context_menu(self, x: float, y: float, screen_pos: QPoint) -> None:
+        menu = self.build_context_menu(x, y)
+        menu.popup(screen_pos)
+
+    def build_context_menu(self, x: float, y: float) -> QMenu:
+        """The right-click menu for plan point ``(x, y)``."""
+        menu = QMenu(self)
+        target = self.hit(x, y)
+        ri = self.doc.current_route
+        if target is not None:
+            i = target[1]
+            self.select(i)
+            menu.addAction(f"Delete waypoint {i + 1}", self.delete_selected)
+            w = self.doc.route().waypoints[i]
+            menu.addAction("Set heading...", lambda: self._ask_heading(i))
+            act = menu.addAction("Clear heading",
+                                 lambda: self.doc.set_waypoint_heading(ri, i, None))
+            act.setEnabled(w.heading_deg is not None)
+        else:
+            leg = self.leg_at(x, y)
+            if leg is not None:
+                sx, sy = self._snap(x, y)
+                menu.addAction(f"Insert waypoint here (before {leg + 1})",
+                               lambda: self.doc.add_waypoint(ri, leg, Waypoint(sx, sy)))
+            menu.addAction("Add waypoint here (at the end)",
+                           lambda: self.append_point(*self._snap(x, y)))
+        menu.addSeparator()
+        menu.addAction("Fit to plan", self.fit)
+        return menu
+
+    def _ask_heading(self, i: int) -> None:
+        cur = self.doc.route()
+        if cur is None:
+            return
+        w = cur.waypoints[i]
+        start = w.heading_deg if w.heading_deg is not None else self._free_heading_deg(i)
+        val, ok = QInputDialog.getDouble(self, "Waypoint heading",
+                                         f"Heading at waypoint {i + 1} (degrees, "
+                                         "counter-clockwise from +x):", start, -360.0, 360.0, 1)
+        if ok:
+            self.doc.set_waypoint_heading(self.doc.current_route, i, val)
+
+    # -- hover ------------------------------------------------------------------------------
+    def _mouse_moved(self, scene_pos: QPointF) -> None:
+        if not self.view.sceneBoundingRect().contains(scene_pos):
+            return
+        x, y = self._scene_to_plan(scene_pos)
+        self.cursorMoved.emit(x, y)
+        info = self.info_at(x, y)
+        self.last_hover = info
+        if info is None:
+            self.hover_item.setData([], [])
+            self.hoverInfo.emit("")
+            self.plot.setToolTip("")
+            return
+        self.hover_item.setData([info["x"]], [info["y"]])
+        self.hoverInfo.emit(info["text"])
+        self.plot.setToolTip(info["text"].replace("; ", "\n"))
+
+    def info_at(self, x: float, y: float) -> dict | None:
+        """Station, clearance, speed and wheel rates where ``(x, y)`` is near the path."""
+        xy, st, idx, _dirs = self._samples
+        cur = self.doc.route()
+        if cur is None or len(xy) == 0:
+            return None
+        d = np.hypot(xy[:, 0] - x, xy[:, 1] - y)
+        k = int(np.argmin(d))
+        if d[k] > HIT_PX * self.px_m():
+            return None
+        plan = self.doc.plan(cur.name)
+        seg_i = int(idx[k])
+        seg = plan.segments[seg_i]
+        # Refine to the nearest station on the segment around the nearest sample.
+        lo, hi = max(0, k - 1), min(len(xy) - 1, k + 1)
+        cand = np.linspace(st[lo], st[hi], 21)
+        from kinematics.segments import poses_along
+
+        poses = poses_along(plan.segments, cand)
+        j = int(np.argmin(np.hypot(poses[:, 0] - x, poses[:, 1] - y)))
+        s, pose = float(cand[j]), poses[j]
+        parts = [f"{cur.name}: station {s:.2f} m", f"segment {seg_i + 1} ({seg.kind}"
+                 + (", reverse)" if seg.direction < 0 else ")")]
+        clear = self.clearance_at(pose)
+        if clear is not None:
+            parts.append(f"clearance {clear * 1000:.0f} mm")
+        speed, wheels = self._motion_at(cur.name, seg_i, s)
+        if speed is not None:
+            parts.append(f"speed {speed:.2f} m/s")
+        if wheels:
+            parts.append("wheels " + ", ".join(f"{n} {r:+.1f} rad/s" for n, r in wheels))
+        return {"x": float(pose[0]), "y": float(pose[1]), "station_m": s, "segment": seg_i,
+                "clearance_m": clear, "speed_mps": speed, "wheels": dict(wheels),
+                "text": "; ".join(parts)}
+
+    def clearance_at(self, pose: Sequence[float]) -> float | None:
+        """Distance from the bare footprint at ``pose`` to the nearest solid, metres."""
+        if self._solids_tree is None:
+            return None
+        fp = np.asarray(self.doc.project.chassis.footprint, float)
+        c, s = math.cos(pose[2]), math.sin(pose[2])
+        pts = np.column_stack([pose[0] + c * fp[:, 0] - s * fp[:, 1],
+                               pose[1] + s * fp[:, 0] + c * fp[:, 1]])
+        poly = shapely.Polygon(pts)
+        hit = self._solids_tree.query_nearest(poly, return_distance=True)
+        dist = hit[1]
+        return float(np.min(dist)) if len(dist) else None
+
+    def _motion_at(self, name: str, seg_i: int, s: float
+                   ) -> tuple[float | None, list[tuple[str, float]]]:
+        """Speed and wheel rates of the schedule's sample nearest station ``s``."""
+        sched = self.doc.schedule(name)
+        if sched is None:
+            return None, []
+        from kinematics.schedule import schedule_series
+
+        series = schedule_series(sched)
+        st = np.asarray(series["station_m"], float)
+        if st.size == 0:
+            return None, []
+        j = int(np.argmin(np.abs(st - s)))
+        v = float(series["v_mps"][j])
+        wheels = [(n, float(arr[j])) for n, arr in series["rate_radps"].items()]
+        return v, wheels

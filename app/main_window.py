@@ -1,0 +1,866 @@
+"""The workbench window: the canvas in the middle, panels docked around it, files and undo.
+
+``run_workbench(project_path)`` is what the ``swathe`` command calls: it creates the
+application, offers to recover an autosave a crash left behind, opens the project (the bundled
+demo when none is given), shows the window and runs the event loop.
+
+Every failure of user input (a bad project, floor plan, DXF or SVG) becomes one dialog that
+names the file and the place in it; the open document is never replaced by a broken one.
+"""
+
+from __future__ import annotations
+
+import dataclasses
+import sys
+import time
+from collections.abc import Callable
+from pathlib import Path
+from typing import Any
+
+from PySide6.QtCore import QObject, QRunnable, QSettings, Qt, QThreadPool, QTimer, Signal
+from PySide6.QtGui import QAction, QActionGroup, QKeySequence
+from PySide6.QtWidgets import (
+    QApplication,
+    QCheckBox,
+    QComboBox,
+    QDialog,
+    QDialogButtonBox,
+    QDockWidget,
+    QDoubleSpinBox,
+    QFileDialog,
+    QFormLayout,
+    QInputDialog,
+    QLabel,
+    QMainWindow,
+    QMessageBox,
+    QProgressDialog,
+    QToolBar,
+    QVBoxLayout,
+    QWidget,
+)
+
+from kinematics.errors import SwatheInputError
+from kinematics.project import Route, Waypoint
+from kinematics.report_text import CAUTION as SAFETY_CAUTION
+
+from .autosave import AutosaveEntry, Autosaver, discard, pending_autosaves, recover_into
+from .canvas import PlanCanvas
+from .document import Document
+
+SAMPLES = Path(__file__).resolve().parents[1] / "sample_floorplans"
+DEMO_PROJECT = SAMPLES / "demo.swathe.json"
+PROJECT_FILTER = "Swathe projects (*.swathe.json);;JSON (*.json);;All files (*)"
+FLOOR_FILTER = ("Floor plans (*.floor.json *.dxf *.svg);;Swathe floor plan (*.floor.json);;"
+                "DXF drawing (*.dxf);;SVG drawing (*.svg);;All files (*)")
+MAX_RECENT = 8
+ROLES = ("ignore", "walls", "obstacles", "doors")
+
+
+def _version() -> str:
+    try:
+        from importlib.metadata import version
+
+        return version("swathe")
+    except Exception:  # noqa: BLE001 - a source checkout without metadata still runs
+        return "0.1"
+
+
+class _TaskSignals(QObject):
+    done = Signal(object)
+    failed = Signal(object)
+
+
+class _Task(QRunnable):
+    """Runs ``fn`` on the thread pool and reports back through queued signals."""
+
+    def __init__(self, fn: Callable[[], Any]) -> None:
+        super().__init__()
+        self.fn = fn
+        self.signals = _TaskSignals()
+        self.cancelled = False
+
+    def run(self) -> None:
+        try:
+            out = self.fn()
+        except BaseException as exc:  # noqa: BLE001 - reported to the GUI thread
+            if not self.cancelled:
+                self.signals.failed.emit(exc)
+            return
+        if not self.cancelled:
+            self.signals.done.emit(out)
+
+
+class DxfImportDialog(QDialog):
+    """Pick the role of each DXF layer, the drawing units and the wall thickness."""
+
+    def __init__(self, path: Path, layers: list[str], parent: QWidget | None = None) -> None:
+        super().__init__(parent)
+        from kinematics.dxf_import import guess_role
+
+        self.setWindowTitle(f"Import {path.name}")
+        lay = QVBoxLayout(self)
+        lay.addWidget(QLabel("What does each layer of the drawing hold?"))
+        form = QFormLayout()
+        self.combos: dict[str, QComboBox] = {}
+        for name in layers:
+            cb = QComboBox()
+            cb.addItems(ROLES)
+            guess = guess_role(name)
+            cb.setCurrentText(guess if guess in ROLES else "walls")
+            form.addRow(name, cb)
+            self.combos[name] = cb
+        self.units = QComboBox()
+        self.units.addItems(["from the file", "mm", "cm", "m", "in", "ft"])
+        form.addRow("Drawing units", self.units)
+        self.thickness = QDoubleSpinBox()
+        self.thickness.setRange(0.01, 2.0)
+        self.thickness.setDecimals(3)
+        self.thickness.setSingleStep(0.05)
+        self.thickness.setValue(0.1)
+        self.thickness.setSuffix(" m")
+        form.addRow("Thickness of open wall lines", self.thickness)
+        lay.addLayout(form)
+        buttons = QDialogButtonBox(QDialogButtonBox.StandardButton.Ok
+                                   | QDialogButtonBox.StandardButton.Cancel)
+        buttons.accepted.connect(self.accept)
+        buttons.rejected.connect(self.reject)
+        lay.addWidget(buttons)
+
+    def options(self) -> dict[str, Any]:
+        """Keyword options for :func:`kinematics.floorplan.load_floorplan`."""
+        roles: dict[str, list[str]] = {"walls": [], "obstacles": [], "doors": []}
+        for name, cb in self.combos.items():
+            if cb.currentText() in roles:
+                roles[cb.currentText()].append(name)
+        opts: dict[str, Any] = {"layers": roles, "wall_thickness_m": self.thickness.value()}
+        if self.units.currentIndex() > 0:
+            opts["units"] = self.units.currentText()
+        return opts
+
+
+def _placeholder(text: str) -> QWidget:
+    w = QLabel(text)
+    w.setAlignment(Qt.AlignmentFlag.AlignCenter)
+    w.setWordWrap(True)
+    w.setStyleSheet("color: #555; padding: 12px;")
+    return w
+
+
+class MainWindow(QMainWindow):
+    """The Swathe workbench.
+
+    Parameters
+    ----------
+    doc : Document, optional
+    settings : QSettings, optional
+        Where recent files are kept (tests pass their own).
+    autosave_dir : Path, optional
+        Where autosaves go (default: the application-data folder).
+    """
+
+    taskFinished = Signal()
+
+    def __init__(self, doc: Document | None = None, settings: QSettings | None = None,
+                 autosave_dir: Path | None = None) -> None:
+        super().__init__()
+        self.doc = doc if doc is not None else Document()
+        self.settings = settings if settings is not None else QSettings("Swathe", "Swathe")
+        self.autosaver = Autosaver(self.doc, directory=autosave_dir)
+        self.error_box: QMessageBox | None = None
+        self.about_box: QMessageBox | None = None
+        self._task: _Task | None = None
+        self._progress: QProgressDialog | None = None
+        self.first_shown_at: float | None = None
+        self._last_hover_shown = ""
+        self.setAcceptDrops(True)
+        self.resize(1360, 860)
+
+        self.canvas = PlanCanvas(self.doc, self)
+        self.setCentralWidget(self.canvas)
+        self._build_actions()
+        self._build_menus()
+        self._build_toolbars()
+        self._build_docks()
+        self._build_status()
+
+        d = self.doc
+        d.fileStateChanged.connect(self._update_title)
+        d.routesChanged.connect(self._refresh_route_bar)
+        d.currentRouteChanged.connect(self._refresh_route_bar)
+        d.projectReplaced.connect(self._refresh_route_bar)
+        d.resultsChanged.connect(self._refresh_summary)
+        d.currentRouteChanged.connect(lambda _i: self._refresh_summary())
+        self.canvas.cursorMoved.connect(self._cursor)
+        self.canvas.hoverInfo.connect(self._hover)
+        self.canvas.message.connect(lambda m: self.statusBar().showMessage(m, 6000))
+        self.canvas.selectionChanged.connect(self._selection_changed)
+        self.canvas.modeChanged.connect(self._mode_changed)
+        self._refresh_route_bar()
+        self._refresh_summary()
+        self._update_title()
+        self._rebuild_recent()
+
+    # -- construction -----------------------------------------------------------------------
+    def _act(self, text: str, slot: Callable, shortcut: Any = None, tip: str = "") -> QAction:
+        a = QAction(text, self)
+        if shortcut is not None:
+            if isinstance(shortcut, (list, tuple)):
+                a.setShortcuts(list(shortcut))
+            else:
+                a.setShortcut(shortcut)
+        if tip:
+            a.setStatusTip(tip)
+            a.setToolTip(tip)
+        a.triggered.connect(lambda _checked=False: slot())
+        return a
+
+    def _build_actions(self) -> None:
+        K = QKeySequence.StandardKey
+        self.act_new = self._act("&New project", self._menu_new, K.New)
+        self.act_open = self._act("&Open project...", self._menu_open, K.Open)
+        self.act_open_plan = self._act("Open &floor plan...", self._menu_open_plan,
+                                       QKeySequence("Ctrl+Shift+O"),
+                                       "Use a floor plan (*.floor.json, DXF or SVG)")
+        self.act_save = self._act("&Save", self._menu_save, K.Save)
+        self.act_save_as = self._act("Save &as...", self._menu_save_as, K.SaveAs)
+        self.act_export = self._act("&Export schedule...", self._menu_export,
+                                    QKeySequence("Ctrl+E"),
+                                    "Write the wheel-rate schedule of the current route")
+        self.act_quit = self._act("&Quit", self.close, K.Quit)
+        self.act_undo = self.doc.undo_stack.createUndoAction(self, "&Undo")
+        self.act_undo.setShortcut(K.Undo)
+        self.act_redo = self.doc.undo_stack.createRedoAction(self, "&Redo")
+        self.act_redo.setShortcuts([QKeySequence("Ctrl+Shift+Z"), QKeySequence(K.Redo)])
+        self.act_delete = self._act("&Delete waypoint", self.canvas.delete_selected,
+                                    None, "Remove the selected waypoint")
+        self.act_clear_heading = self._act("&Clear heading", self._clear_heading, None,
+                                           "Let the planner choose the selected "
+                                           "waypoint's heading")
+        self.act_fit = self._act("&Fit to plan", self.canvas.fit, QKeySequence("F"))
+        self.act_about = self._act("&About Swathe", self.show_about)
+        self.mode_group = QActionGroup(self)
+        self.act_select = QAction("Select / move", self, checkable=True)
+        self.act_select.setShortcut(QKeySequence("S"))
+        self.act_select.setToolTip("Drag waypoints and heading handles; drag empty space to "
+                                   "pan (S)")
+        self.act_add = QAction("Add waypoints", self, checkable=True)
+        self.act_add.setShortcut(QKeySequence("A"))
+        self.act_add.setToolTip("Click to append waypoints to the current route; "
+                                "Ctrl+click does the same in any mode (A)")
+        for a, mode in ((self.act_select, "select"), (self.act_add, "add")):
+            self.mode_group.addAction(a)
+            a.triggered.connect(lambda _c=False, m=mode: self.canvas.set_mode(m))
+        self.act_select.setChecked(True)
+        self.act_band = QAction("Swept band", self, checkable=True, checked=True)
+        self.act_band.toggled.connect(self._toggle_band)
+
+    def _build_menus(self) -> None:
+        mb = self.menuBar()
+        f = mb.addMenu("&File")
+        for a in (self.act_new, self.act_open, self.act_open_plan):
+            f.addAction(a)
+        self.recent_menu = f.addMenu("Open &recent")
+        f.addSeparator()
+        for a in (self.act_save, self.act_save_as):
+            f.addAction(a)
+        f.addSeparator()
+        f.addAction(self.act_export)
+        f.addSeparator()
+        f.addAction(self.act_quit)
+        e = mb.addMenu("&Edit")
+        e.addAction(self.act_undo)
+        e.addAction(self.act_redo)
+        e.addSeparator()
+        e.addAction(self.act_delete)
+        e.addAction(self.act_clear_heading)
+        v = mb.addMenu("&View")
+        v.addAction(self.act_fit)
+        v.addAction(self.act_band)
+        outl = v.addMenu("Footprint &outlines")
+        self.outline_group = QActionGroup(self)
+        for label, val in (("None", None), ("Every 0.5 m", 0.5), ("Every 1 m", 1.0),
+                           ("Every 2 m", 2.0)):
+            a = outl.addAction(label)
+            a.setCheckable(True)
+            a.setChecked(val == self.canvas.outline_spacing_m)
+            a.triggered.connect(lambda _c=False, s=val: self._set_outlines(s))
+            self.outline_group.addAction(a)
+        snap = v.addMenu("&Snap to grid")
+        self.snap_group = QActionGroup(self)
+        for label, val in (("Off", None), ("5 cm", 0.05), ("10 cm", 0.1), ("25 cm", 0.25),
+                           ("50 cm", 0.5)):
+            a = snap.addAction(label)
+            a.setCheckable(True)
+            a.setChecked(val is None)
+            a.triggered.connect(lambda _c=False, s=val: setattr(self.canvas, "snap_m", s))
+            self.snap_group.addAction(a)
+        self.view_menu = v
+        v.addSeparator()
+        h = mb.addMenu("&Help")
+        h.addAction(self.act_about)
+
+    def _build_toolbars(self) -> None:
+        tools = QToolBar("Tools", self)
+        tools.setObjectName("tools")
+        tools.addAction(self.act_select)
+        tools.addAction(self.act_add)
+        tools.addSeparator()
+        tools.addAction(self.act_fit)
+        tools.addAction(self.act_undo)
+        tools.addAction(self.act_redo)
+        self.addToolBar(tools)
+        bar = QToolBar("Route", self)
+        bar.setObjectName("route")
+        bar.addWidget(QLabel(" Route "))
+        self.route_combo = QComboBox()
+        self.route_combo.setMinimumWidth(170)
+        self.route_combo.setToolTip("The route being edited")
+        self.route_combo.activated.connect(self.doc.set_current_route)
+        bar.addWidget(self.route_combo)
+        self.act_route_new = bar.addAction("New", self.new_route)
+        self.act_route_new.setToolTip("Add a route with two waypoints in the middle of the view")
+        self.act_route_rename = bar.addAction("Rename...", self._menu_rename_route)
+        self.act_route_remove = bar.addAction("Remove", self._remove_route)
+        bar.addSeparator()
+        bar.addWidget(QLabel(" Turn radius "))
+        self.radius_spin = QDoubleSpinBox()
+        self.radius_spin.setRange(0.0, 50.0)
+        self.radius_spin.setDecimals(2)
+        self.radius_spin.setSingleStep(0.1)
+        self.radius_spin.setSuffix(" m")
+        self.radius_spin.setToolTip("Radius the route uses where it turns (never below the "
+                                    "chassis minimum); 0 lets the chassis turn as tight as it can")
+        self.radius_spin.editingFinished.connect(self._radius_edited)
+        bar.addWidget(self.radius_spin)
+        self.reverse_check = QCheckBox("May reverse")
+        self.reverse_check.setToolTip("Allow reversing where the drive can reverse")
+        self.reverse_check.clicked.connect(self._reverse_edited)
+        bar.addWidget(self.reverse_check)
+        self.addToolBar(bar)
+
+    def _dock(self, title: str, name: str, widget: QWidget,
+              area: Qt.DockWidgetArea) -> QDockWidget:
+        dock = QDockWidget(title, self)
+        dock.setObjectName(name)
+        dock.setWidget(widget)
+        self.addDockWidget(area, dock)
+        self.view_menu.addAction(dock.toggleViewAction())
+        return dock
+
+    def _panel(self, module: str, cls: str) -> QWidget | None:
+        try:
+            mod = __import__(f"app.{module}", fromlist=[cls])
+            return getattr(mod, cls)(self.doc)
+        except (ImportError, AttributeError):
+            return None
+
+    def _build_docks(self) -> None:
+        L, R, B = (Qt.DockWidgetArea.LeftDockWidgetArea, Qt.DockWidgetArea.RightDockWidgetArea,
+                   Qt.DockWidgetArea.BottomDockWidgetArea)
+        self.chassis_panel = self._panel("panels", "ChassisPanel")
+        self.results_panel = self._panel("panels", "ResultsPanel")
+        self.plots_panel = self._panel("plots", "PlotsPanel")
+        self.schedule_table = self._panel("panels", "ScheduleTable")
+        self.chassis_dock = self._dock("Chassis", "chassis", self.chassis_panel or _placeholder(
+            "The chassis editor is not available in this build."), L)
+        self.results_dock = self._dock("Check results", "results", self.results_panel
+                                       or _placeholder("The results list is not available in "
+                                                       "this build."), R)
+        self.plots_dock = self._dock("Speed and wheel rates", "plots", self.plots_panel
+                                     or _placeholder("Plots are not available in this build."), B)
+        self.schedule_dock = self._dock("Schedule", "schedule", self.schedule_table
+                                        or _placeholder("The schedule table is not available "
+                                                        "in this build."), B)
+        self.tabifyDockWidget(self.plots_dock, self.schedule_dock)
+        self.plots_dock.raise_()
+        self.resizeDocks([self.chassis_dock, self.results_dock], [300, 320],
+                         Qt.Orientation.Horizontal)
+        self.resizeDocks([self.plots_dock], [240], Qt.Orientation.Vertical)
+
+    def _build_status(self) -> None:
+        sb = self.statusBar()
+        # Permanent widgets sit at the right; the left is for messages and the hover read-out.
+        self.summary_label = QLabel()
+        self.cursor_label = QLabel("x —  y —")
+        self.cursor_label.setMinimumWidth(190)
+        sb.addPermanentWidget(self.summary_label)
+        sb.addPermanentWidget(self.cursor_label)
+        self.hover_text = ""
+
+    # -- status -----------------------------------------------------------------------------
+    def _hover(self, text: str) -> None:
+        self.hover_text = text
+        if text:
+            self.statusBar().showMessage(text)
+        elif self.statusBar().currentMessage() == self._last_hover_shown:
+            self.statusBar().clearMessage()
+        self._last_hover_shown = text
+
+    def _cursor(self, x: float, y: float) -> None:
+        self.cursor_label.setText(f"x {x:8.2f} m   y {y:8.2f} m")
+
+    def _update_title(self) -> None:
+        name = self.doc.path.name if self.doc.path else "untitled"
+        self.setWindowTitle(f"{name}[*] — Swathe")
+        self.setWindowModified(self.doc.dirty)
+
+    def _refresh_summary(self) -> None:
+        r = self.doc.route()
+        if r is None:
+            self.summary_label.setText("No route yet: press A and click twice on the plan.")
+            return
+        err = self.doc.error(r.name)
+        chk = self.doc.check(r.name)
+        if err and chk is None:
+            self.summary_label.setText(f"{r.name}: cannot plan — {err}")
+            return
+        if chk is None:
+            self.summary_label.setText(f"{r.name}: not checked")
+            return
+        plan = self.doc.plan(r.name)
+        from kinematics.segments import path_length
+
+        length = path_length(plan.segments) if plan is not None else 0.0
+        n = len(chk.violations)
+        state = "all clear" if chk.clear else f"{n} problem{'s' if n != 1 else ''}"
+        mc = chk.min_clearance_m
+        near = f"least clearance {mc * 1000:.0f} mm" if mc is not None else "nothing solid"
+        self.summary_label.setText(f"{r.name}: {length:.1f} m, {state}, {near}  ")
+
+    def _selection_changed(self, i: int) -> None:
+        r = self.doc.route()
+        has = r is not None and 0 <= i < len(r.waypoints)
+        self.act_delete.setEnabled(has)
+        self.act_clear_heading.setEnabled(has and r.waypoints[i].heading_deg is not None)
+
+    def _mode_changed(self, mode: str) -> None:
+        (self.act_add if mode == "add" else self.act_select).setChecked(True)
+
+    def _toggle_band(self, on: bool) -> None:
+        self.canvas.show_band = on
+        self.canvas.refresh_routes()
+
+    def _set_outlines(self, spacing: float | None) -> None:
+        self.canvas.outline_spacing_m = spacing
+        self.canvas.refresh_routes()
+
+    def _clear_heading(self) -> None:
+        i = self.canvas.selected
+        if self.doc.route() is not None and i >= 0:
+            self.doc.set_waypoint_heading(self.doc.current_route, i, None)
+            self._selection_changed(i)
+
+    # -- routes -----------------------------------------------------------------------------
+    def _refresh_route_bar(self, *_args) -> None:
+        names = self.doc.route_names()
+        self.route_combo.blockSignals(True)
+        self.route_combo.clear()
+        self.route_combo.addItems(names)
+        self.route_combo.setCurrentIndex(self.doc.current_route)
+        self.route_combo.blockSignals(False)
+        r = self.doc.route()
+        for w in (self.radius_spin, self.reverse_check, self.act_route_rename,
+                  self.act_route_remove, self.act_export):
+            w.setEnabled(r is not None)
+        if r is not None:
+            self.radius_spin.blockSignals(True)
+            self.radius_spin.setValue(r.turn_radius_m)
+            self.radius_spin.blockSignals(False)
+            self.reverse_check.setChecked(r.reverse)
+        self._selection_changed(self.canvas.selected)
+
+    def new_route(self, name: str | None = None) -> None:
+        """Add a route with two waypoints across the middle of the view and make it current."""
+        (x0, x1), (y0, y1) = self.canvas.view.viewRange()
+        ym = (y0 + y1) / 2.0
+        wps = (Waypoint(x0 + 0.35 * (x1 - x0), ym), Waypoint(x0 + 0.65 * (x1 - x0), ym))
+        self.doc.add_route(Route(name or self.doc.unique_route_name(), wps))
+
+    def rename_route(self, new_name: str) -> bool:
+        r = self.doc.route()
+        if r is None:
+            return False
+        try:
+            self.doc.set_route(self.doc.current_route, dataclasses.replace(r, name=new_name))
+        except ValueError as exc:
+            self.show_error("Cannot rename the route", str(exc))
+            return False
+        return True
+
+    def _menu_rename_route(self) -> None:
+        r = self.doc.route()
+        if r is None:
+            return
+        name, ok = QInputDialog.getText(self, "Rename route", "New name:", text=r.name)
+        if ok and name.strip() and name != r.name:
+            self.rename_route(name.strip())
+
+    def _remove_route(self) -> None:
+        if self.doc.route() is not None:
+            self.doc.remove_route(self.doc.current_route)
+
+    def _radius_edited(self) -> None:
+        r = self.doc.route()
+        v = round(self.radius_spin.value(), 4)
+        if r is not None and v != r.turn_radius_m:
+            self.doc.set_route(self.doc.current_route, dataclasses.replace(r, turn_radius_m=v))
+
+    def _reverse_edited(self, on: bool) -> None:
+        r = self.doc.route()
+        if r is not None and on != r.reverse:
+            self.doc.set_route(self.doc.current_route, dataclasses.replace(r, reverse=on))
+
+    # -- messages ---------------------------------------------------------------------------
+    def show_error(self, title: str, text: str) -> QMessageBox:
+        """One window-modal message; kept in ``error_box`` (it does not block the caller)."""
+        box = QMessageBox(QMessageBox.Icon.Warning, title, text, QMessageBox.StandardButton.Ok,
+                          self)
+        box.setWindowModality(Qt.WindowModality.WindowModal)
+        box.open()
+        self.error_box = box
+        return box
+
+    def show_input_error(self, exc: SwatheInputError, action: str) -> QMessageBox:
+        return self.show_error(f"Swathe could not {action}",
+                               f"{exc.message}\n\nNothing was changed in the open project.")
+
+    def show_about(self) -> QMessageBox:
+        box = QMessageBox(self)
+        box.setWindowTitle("About Swathe")
+        box.setIcon(QMessageBox.Icon.Information)
+        box.setTextFormat(Qt.TextFormat.RichText)
+        box.setText(f"<h3>Swathe {_version()}</h3><p>Lay out routes for wheeled robots and "
+                    "carts on a floor plan, see the swept footprint, find what is in the way "
+                    "and export wheel-rate schedules.</p>"
+                    f"<p><b>Caution.</b> {SAFETY_CAUTION}</p>")
+        box.open()
+        self.about_box = box
+        return box
+
+    # -- files ------------------------------------------------------------------------------
+    def confirm_discard(self) -> bool:
+        """Ask to save unsaved changes; True when the caller may go on."""
+        if not self.doc.dirty:
+            return True
+        ans = QMessageBox.question(
+            self, "Unsaved changes", f"Save the changes to {self.doc.title().rstrip(' *')}?",
+            QMessageBox.StandardButton.Save | QMessageBox.StandardButton.Discard
+            | QMessageBox.StandardButton.Cancel)
+        if ans == QMessageBox.StandardButton.Save:
+            return self._menu_save()
+        return ans == QMessageBox.StandardButton.Discard
+
+    def open_project_file(self, path: str | Path) -> bool:
+        """Open a project; a bad file shows one message and keeps the current document."""
+        try:
+            self.doc.open_project(path)
+        except SwatheInputError as exc:
+            self.show_input_error(exc, "open the project")
+            return False
+        self._add_recent(Path(path))
+        self.canvas.fit()
+        self.statusBar().showMessage(f"Opened {Path(path).name}", 5000)
+        return True
+
+    def open_floorplan_file(self, path: str | Path, options: dict[str, Any] | None = None,
+                            background: bool = True) -> bool:
+        """Use a floor plan file (native, DXF or SVG) in the open project.
+
+        For DXF without ``options`` the layer dialog asks; for SVG the scale is asked.
+        Loading runs off the GUI thread with a cancellable progress dialog.
+        """
+        p = Path(path).resolve()
+        suffix = p.suffix.lower()
+        if options is None:
+            options = {}
+            if suffix == ".dxf":
+                try:
+                    from kinematics.dxf_import import dxf_layers
+
+                    layers = dxf_layers(p)
+                except SwatheInputError as exc:
+                    self.show_input_error(exc, "read the drawing")
+                    return False
+                dlg = DxfImportDialog(p, layers, self)
+                if dlg.exec() != QDialog.DialogCode.Accepted:
+                    return False
+                options = dlg.options()
+            elif suffix == ".svg":
+                scale, ok = QInputDialog.getDouble(
+                    self, f"Import {p.name}", "Metres per SVG unit (e.g. 0.01 when the drawing "
+                    "is in centimetres):", 0.01, 1e-6, 1000.0, 6)
+                if not ok:
+                    return False
+                options = {"metres_per_unit": scale}
+        if suffix in (".dxf", ".svg"):
+            ref: str | dict = {"file": str(p), **options}
+        else:
+            ref = str(p)
+
+        def load():
+            from kinematics.floorplan import load_floorplan
+
+            return load_floorplan(p, **options)
+
+        def done(fp) -> None:
+            self.doc.set_floorplan(fp, ref)
+            self._add_recent(p)
+            self.canvas.fit()
+            self.statusBar().showMessage(f"Floor plan {p.name}: {len(fp.walls)} walls, "
+                                         f"{len(fp.obstacles)} obstacles, {len(fp.doors)} doors",
+                                         8000)
+
+        def failed(exc: BaseException) -> None:
+            if isinstance(exc, SwatheInputError):
+                self.show_input_error(exc, "import the floor plan")
+            else:
+                self.show_error("Swathe could not import the floor plan",
+                                f"{p}: {type(exc).__name__}: {exc}")
+
+        if not background:
+            try:
+                done(load())
+            except Exception as exc:  # noqa: BLE001 - every failure becomes one dialog
+                failed(exc)
+                return False
+            return True
+        self.run_task(f"Reading {p.name}...", load, done, failed)
+        return True
+
+    def run_task(self, label: str, fn: Callable[[], Any], done: Callable[[Any], None],
+                 failed: Callable[[BaseException], None]) -> None:
+        """Run ``fn`` on the thread pool behind a progress dialog whose Cancel drops it."""
+        if self._task is not None:
+            self._task.cancelled = True
+        task = _Task(fn)
+        progress = QProgressDialog(label, "Cancel", 0, 0, self)
+        progress.setWindowTitle("Swathe")
+        progress.setWindowModality(Qt.WindowModality.WindowModal)
+        progress.setMinimumDuration(300)
+
+        def finish() -> None:
+            progress.reset()
+            progress.deleteLater()
+            if self._task is task:
+                self._task = None
+                self._progress = None
+            self.taskFinished.emit()
+
+        def ok(out: Any) -> None:
+            finish()
+            if not task.cancelled:
+                done(out)
+
+        def bad(exc: BaseException) -> None:
+            finish()
+            if not task.cancelled:
+                failed(exc)
+
+        def cancel() -> None:
+            task.cancelled = True
+            self.statusBar().showMessage("Cancelled; the open project is unchanged.", 5000)
+            finish()
+
+        task.signals.done.connect(ok)
+        task.signals.failed.connect(bad)
+        progress.canceled.connect(cancel)
+        self._task = task
+        self._progress = progress
+        QThreadPool.globalInstance().start(task)
+
+    def save_to(self, path: str | Path | None = None) -> bool:
+        try:
+            target = self.doc.save(path)
+        except (OSError, ValueError) as exc:
+            self.show_error("Swathe could not save", f"{path or self.doc.path}: {exc}")
+            return False
+        self._add_recent(target)
+        self.statusBar().showMessage(f"Saved {target}", 5000)
+        return True
+
+    def export_schedule(self, path: str | Path, fmt: str | None = None) -> bool:
+        """Write the current route's schedule as CSV or JSON (by ``fmt`` or the suffix)."""
+        from kinematics.jsonio import atomic_write_text, dumps
+        from kinematics.schedule import schedule_to_csv, schedule_to_dict
+
+        r = self.doc.route()
+        if r is None:
+            self.show_error("Nothing to export", "The project has no route yet.")
+            return False
+        sched = self.doc.schedule(r.name)
+        if sched is None:
+            self.show_error("Nothing to export", f"Route {r.name!r} could not be planned: "
+                            f"{self.doc.error(r.name) or 'no drivable segments'}")
+            return False
+        p = Path(path)
+        fmt = fmt or ("csv" if p.suffix.lower() == ".csv" else "json")
+        text = schedule_to_csv(sched) if fmt == "csv" else dumps(schedule_to_dict(sched))
+        try:
+            atomic_write_text(p, text)
+        except OSError as exc:
+            self.show_error("Swathe could not export", f"{p}: {exc.strerror or exc}")
+            return False
+        self.statusBar().showMessage(f"Schedule of {r.name!r} written to {p}", 6000)
+        return True
+
+    def _start_dir(self) -> str:
+        return str(self.doc.path.parent) if self.doc.path else str(Path.home())
+
+    def _menu_new(self) -> None:
+        if self.confirm_discard():
+            self.doc.new_project()
+
+    def _menu_open(self) -> None:
+        if not self.confirm_discard():
+            return
+        path, _ = QFileDialog.getOpenFileName(self, "Open project", self._start_dir(),
+                                              PROJECT_FILTER)
+        if path:
+            self.open_project_file(path)
+
+    def _menu_open_plan(self) -> None:
+        path, _ = QFileDialog.getOpenFileName(self, "Open floor plan", self._start_dir(),
+                                              FLOOR_FILTER)
+        if path:
+            self.open_floorplan_file(path)
+
+    def _menu_save(self) -> bool:
+        if self.doc.path is None or not self.doc.path.parent.exists():
+            return self._menu_save_as()
+        return self.save_to()
+
+    def _menu_save_as(self) -> bool:
+        start = str(self.doc.path) if self.doc.path else str(Path.home() / "untitled.swathe.json")
+        path, _ = QFileDialog.getSaveFileName(self, "Save project as", start, PROJECT_FILTER)
+        if not path:
+            return False
+        if not path.endswith(".json"):
+            path += ".swathe.json"
+        return self.save_to(path)
+
+    def _menu_export(self) -> None:
+        r = self.doc.route()
+        if r is None:
+            return
+        safe = "".join(c if c.isalnum() or c in "-_" else "_" for c in r.name)
+        path, chosen = QFileDialog.getSaveFileName(
+            self, "Export schedule", str(Path(self._start_dir()) / f"{safe}.schedule.csv"),
+            "CSV (*.csv);;JSON (*.json)")
+        if path:
+            self.export_schedule(path, "json" if chosen.startswith("JSON") else None)
+
+    def open_any(self, path: str | Path) -> bool:
+        """Open a dropped or recent file: a project, or a floor plan for this project."""
+        p = Path(path)
+        name = p.name.lower()
+        if name.endswith(".floor.json") or p.suffix.lower() in (".dxf", ".svg"):
+            return self.open_floorplan_file(p)
+        if not self.confirm_discard():
+            return False
+        return self.open_project_file(p)
+
+    # -- recent files -----------------------------------------------------------------------
+    def recent_files(self) -> list[str]:
+        v = self.settings.value("recent_files", [])
+        if isinstance(v, str):
+            v = [v]
+        return [str(x) for x in (v or [])]
+
+    def _add_recent(self, path: Path) -> None:
+        s = str(Path(path).resolve())
+        items = [s] + [x for x in self.recent_files() if x != s]
+        self.settings.setValue("recent_files", items[:MAX_RECENT])
+        self._rebuild_recent()
+
+    def _rebuild_recent(self) -> None:
+        self.recent_menu.clear()
+        items = self.recent_files()
+        for k, p in enumerate(items):
+            a = self.recent_menu.addAction(f"&{k + 1} {Path(p).name}   ({Path(p).parent})")
+            a.triggered.connect(lambda _c=False, q=p: self.open_any(q))
+        self.recent_menu.setEnabled(bool(items))
+
+    # -- drag and drop ----------------------------------------------------------------------
+    @staticmethod
+    def _dropped_path(mime) -> Path | None:
+        for url in mime.urls() if mime.hasUrls() else []:
+            if url.isLocalFile():
+                p = Path(url.toLocalFile())
+                if p.name.lower().endswith(".json") or p.suffix.lower() in (".dxf", ".svg"):
+                    return p
+        return None
+
+    def dragEnterEvent(self, ev) -> None:  # noqa: N802 - Qt's name
+        if self._dropped_path(ev.mimeData()) is not None:
+            ev.acceptProposedAction()
+        else:
+            ev.ignore()
+
+    def dropEvent(self, ev) -> None:  # noqa: N802 - Qt's name
+        p = self._dropped_path(ev.mimeData())
+        if p is not None:
+            ev.acceptProposedAction()
+            QTimer.singleShot(0, lambda: self.open_any(p))
+
+    # -- recovery and life cycle ------------------------------------------------------------
+    def offer_recovery(self, ask: Callable[[AutosaveEntry], bool] | None = None) -> bool:
+        """Offer the newest autosave a crash left; True if its work was recovered."""
+        entries = pending_autosaves(self.autosaver.directory)
+        if not entries:
+            return False
+        entry = entries[0]
+
+        def default_ask(e: AutosaveEntry) -> bool:
+            ans = QMessageBox.question(
+                self, "Recover unsaved work",
+                f"Recover unsaved work from {e.saved_at:%Y-%m-%d %H:%M:%S}?\n\n"
+                f"Project: {e.original_path or 'untitled'}\n\nIf you choose No, the "
+                "autosaved copy is deleted.")
+            return ans == QMessageBox.StandardButton.Yes
+
+        if (ask or default_ask)(entry):
+            try:
+                recover_into(self.doc, entry)
+            except SwatheInputError as exc:
+                self.show_input_error(exc, "recover the autosave")
+                discard(entry)
+                return False
+            for older in entries[1:]:
+                discard(older)
+            self.canvas.fit()
+            return True
+        for e in entries:
+            discard(e)
+        return False
+
+    def showEvent(self, ev) -> None:  # noqa: N802 - Qt's name
+        super().showEvent(ev)
+        if self.first_shown_at is None:
+            self.first_shown_at = time.perf_counter()
+
+    def closeEvent(self, ev) -> None:  # noqa: N802 - Qt's name
+        if not self.confirm_discard():
+            ev.ignore()
+            return
+        self.autosaver.shutdown()
+        ev.accept()
+
+
+def run_workbench(project_path: str | None) -> int:
+    """Open the workbench on ``project_path`` (default: the bundled demo) and run it.
+
+    Returns the application's exit code.
+    """
+    app = QApplication.instance() or QApplication(sys.argv[:1])
+    app.setApplicationName("Swathe")
+    app.setOrganizationName("Swathe")
+    win = MainWindow()
+    recovered = win.offer_recovery()
+    if not recovered:
+        target = Path(project_path) if project_path else DEMO_PROJECT
+        if target.exists():
+            win.open_project_file(target)
+        else:
+            win.statusBar().showMessage(f"{target} not found; starting an empty project", 8000)
+    win.show()
+    return int(app.exec())

@@ -1,0 +1,366 @@
+"""The workbench window driven like a user: mouse on the canvas, menus' functions, files."""
+
+from __future__ import annotations
+
+import json
+import math
+import os
+from pathlib import Path
+
+import pytest
+
+os.environ.setdefault("QT_QPA_PLATFORM", "offscreen")
+
+from PySide6.QtCore import QEvent, QMimeData, QPoint, QPointF, QSettings, Qt, QUrl  # noqa: E402
+from PySide6.QtGui import QDropEvent, QMouseEvent  # noqa: E402
+from PySide6.QtWidgets import QApplication  # noqa: E402
+from test_document import write_project  # noqa: E402
+
+from kinematics.jsonio import dumps  # noqa: E402
+from kinematics.project import Waypoint, load_project  # noqa: E402
+
+REPO = Path(__file__).resolve().parents[1]
+DEMO = REPO / "sample_floorplans" / "demo.swathe.json"
+
+
+@pytest.fixture
+def make_window(qtbot, tmp_path):
+    from app.main_window import MainWindow
+
+    made = []
+
+    def make(project: Path | None = None):
+        settings = QSettings(str(tmp_path / "settings.ini"), QSettings.Format.IniFormat)
+        w = MainWindow(settings=settings, autosave_dir=tmp_path / "autosave")
+        made.append(w)
+        w.resize(1200, 800)
+        if project is not None:
+            assert w.open_project_file(project)
+        w.show()
+        qtbot.waitExposed(w)
+        w.canvas.fit()
+        QApplication.processEvents()
+        return w
+
+    yield make
+    for w in made:  # no "save changes?" question when the test ends
+        w.doc.undo_stack.setClean()
+        w.doc._forced_dirty = False
+        w.close()
+        w.deleteLater()
+    QApplication.processEvents()
+
+
+@pytest.fixture
+def win(make_window, tmp_path):
+    return make_window(write_project(tmp_path))
+
+
+# -- mouse helpers: real events on the canvas viewport ------------------------------------
+def _send(widget, kind, pos: QPoint, button, buttons, mods=Qt.KeyboardModifier.NoModifier):
+    local = QPointF(pos)
+    glob = QPointF(widget.mapToGlobal(pos))
+    ev = QMouseEvent(kind, local, glob, button, buttons, mods)
+    QApplication.sendEvent(widget, ev)
+
+
+def click(qtbot, canvas, x, y, mods=Qt.KeyboardModifier.NoModifier, double=False,
+          button=Qt.MouseButton.LeftButton):
+    vp = canvas.plot.viewport()
+    p = canvas.plan_to_viewport(x, y)
+    _send(vp, QEvent.Type.MouseMove, p, Qt.MouseButton.NoButton, Qt.MouseButton.NoButton, mods)
+    _send(vp, QEvent.Type.MouseButtonPress, p, button, button, mods)
+    _send(vp, QEvent.Type.MouseButtonRelease, p, button, Qt.MouseButton.NoButton, mods)
+    if double:
+        _send(vp, QEvent.Type.MouseButtonDblClick, p, button, button, mods)
+        _send(vp, QEvent.Type.MouseButtonRelease, p, button, Qt.MouseButton.NoButton, mods)
+    qtbot.wait(1)
+
+
+def drag(qtbot, canvas, a, b, steps=8):
+    """Press at plan point ``a``, move in steps to ``b``, release (pyqtgraph rate-limits
+    moves to 100 per second, hence the short waits)."""
+    vp = canvas.plot.viewport()
+    L = Qt.MouseButton.LeftButton
+    pa = canvas.plan_to_viewport(*a)
+    _send(vp, QEvent.Type.MouseMove, pa, Qt.MouseButton.NoButton, Qt.MouseButton.NoButton)
+    _send(vp, QEvent.Type.MouseButtonPress, pa, L, L)
+    qtbot.wait(12)
+    for k in range(1, steps + 1):
+        f = k / steps
+        p = canvas.plan_to_viewport(a[0] + f * (b[0] - a[0]), a[1] + f * (b[1] - a[1]))
+        _send(vp, QEvent.Type.MouseMove, p, Qt.MouseButton.NoButton, L)
+        qtbot.wait(12)
+    pb = canvas.plan_to_viewport(*b)
+    _send(vp, QEvent.Type.MouseButtonRelease, pb, L, Qt.MouseButton.NoButton)
+    qtbot.wait(1)
+
+
+def px(canvas) -> float:
+    return canvas.px_m()
+
+
+# -- tests --------------------------------------------------------------------------------
+def test_demo_opens_with_routes_and_drawn_plan(make_window):
+    # Source: shared/contract.md (`swathe` opens the bundled demo project).
+    w = make_window(DEMO)
+    assert w.doc.path == DEMO
+    assert w.doc.route_names() == [r.name for r in load_project(DEMO).routes]
+    assert not w.canvas.walls_item.path().isEmpty()
+    assert w.doc.check(w.doc.route().name) is not None
+    assert "demo.swathe.json" in w.windowTitle()
+    w.grab().save(str(Path(os.environ.get("SWATHE_SHOT_DIR", "/tmp")) / "swathe_demo.png"))
+
+
+def test_true_scale_aspect_is_locked(win):
+    # Source: common practice (a plan drawn at true scale: one metre equal across and up).
+    c = win.canvas
+    a, b, d = c.plan_to_viewport(0, 0), c.plan_to_viewport(5, 0), c.plan_to_viewport(0, 5)
+    assert abs((b.x() - a.x()) - (a.y() - d.y())) <= 1
+
+
+def test_add_mode_click_appends_waypoint(win, qtbot):
+    # Source: common practice (a click places a point where the pointer is, within a pixel).
+    c = win.canvas
+    win.act_add.trigger()
+    assert c.mode == "add"
+    n = len(win.doc.route().waypoints)
+    click(qtbot, c, 11.5, 1.5)
+    wps = win.doc.route().waypoints
+    assert len(wps) == n + 1
+    assert math.hypot(wps[-1].x - 11.5, wps[-1].y - 1.5) <= 1.5 * px(c)
+    assert win.doc.undo_stack.undoText() == f"Add waypoint {n + 1}"
+    # In select mode a plain click adds nothing; Ctrl+click does.
+    win.act_select.trigger()
+    click(qtbot, c, 11.0, 1.8)
+    assert len(win.doc.route().waypoints) == n + 1
+    click(qtbot, c, 11.0, 1.8, mods=Qt.KeyboardModifier.ControlModifier)
+    assert len(win.doc.route().waypoints) == n + 2
+
+
+def test_drag_waypoint_one_undo_step_and_redo(win, qtbot):
+    # Source: Qt QUndoCommand::mergeWith (one drag is one undoable step).
+    c = win.canvas
+    doc = win.doc
+    start = doc.route().waypoints[1]
+    assert (start.x, start.y) == (11.0, 0.6)
+    drag(qtbot, c, (11.0, 0.6), (9.0, 1.0))
+    moved = doc.route().waypoints[1]
+    assert math.hypot(moved.x - 9.0, moved.y - 1.0) <= 1.5 * px(c)
+    assert doc.undo_stack.count() == 1
+    assert doc.undo_stack.undoText() == "Move waypoint 2"
+    win.act_undo.trigger()
+    assert doc.route().waypoints[1] == start
+    win.act_redo.trigger()
+    assert doc.route().waypoints[1] == moved
+
+
+def test_drag_into_obstacle_shows_violation_and_undo_clears_it(win, qtbot):
+    # Source: shared/contract.md (violation kinds; `collision` where the footprint overlaps).
+    doc = win.doc
+    name = doc.route().name
+    assert doc.check(name).clear
+    # Move the far end into the parked cart (x 6..6.4, y 1.3..1.95).
+    drag(qtbot, win.canvas, (11.0, 0.6), (6.2, 1.6))
+    chk = doc.check(name)
+    assert not chk.clear
+    assert any(v.kind in ("collision", "waypoint_blocked") for v in chk.violations)
+    assert len(win.canvas.violations_item.data) == len(chk.violations)
+    if win.results_panel is not None and hasattr(win.results_panel, "violation_count"):
+        assert win.results_panel.violation_count() == len(chk.violations)
+    win.act_undo.trigger()
+    assert doc.check(name).clear
+    assert len(win.canvas.violations_item.data) == 0
+
+
+def test_double_click_leg_inserts_and_delete_key_removes(win, qtbot):
+    # Source: common practice (double-click on a line inserts a vertex; Delete removes it).
+    c = win.canvas
+    doc = win.doc
+    click(qtbot, c, 4.0, 0.6, double=True)
+    wps = doc.route().waypoints
+    assert len(wps) == 3
+    assert math.hypot(wps[1].x - 4.0, wps[1].y - 0.6) <= 1.5 * px(c)
+    assert c.selected == 1
+    assert doc.undo_stack.undoText() == "Insert waypoint 2"
+    c.plot.setFocus()
+    qtbot.keyClick(c.plot, Qt.Key.Key_Delete)
+    assert len(doc.route().waypoints) == 2
+    assert doc.undo_stack.undoText() == "Delete waypoint 2"
+
+
+def test_heading_handle_drag_sets_and_menu_clears(win, qtbot):
+    # Source: shared/contract.md (heading counter-clockwise from +x, degrees in files).
+    c = win.canvas
+    doc = win.doc
+    w0 = doc.route().waypoints[0]
+    assert w0.heading_deg == 0.0
+    L = 42.0 * px(c)  # the handle sits HANDLE_PX pixels along the heading
+    drag(qtbot, c, (w0.x + L, w0.y), (w0.x, w0.y + L))
+    h = doc.route().waypoints[0].heading_deg
+    assert h == pytest.approx(90.0, abs=2.0)
+    assert doc.undo_stack.undoText() == "Set heading of waypoint 1"
+    menu = c.build_context_menu(w0.x, w0.y)
+    clear = [a for a in menu.actions() if a.text() == "Clear heading"][0]
+    clear.trigger()
+    assert doc.route().waypoints[0].heading_deg is None
+
+
+def test_routes_add_rename_remove_from_toolbar(win):
+    # Source: common practice (named routes in a list; undo restores a removed one).
+    doc = win.doc
+    win.new_route()
+    assert doc.current_route == 2 and win.route_combo.currentText() == "route 1"
+    assert win.rename_route("night run")
+    assert win.route_combo.currentText() == "night run"
+    assert not win.rename_route("clear")  # names must stay unique
+    assert win.error_box is not None and "already exists" in win.error_box.text()
+    win.error_box.close()
+    win.act_route_remove.trigger()
+    assert doc.route_names() == ["clear", "second"]
+    win.act_undo.trigger()
+    assert "night run" in doc.route_names()
+
+
+def test_hover_reports_station_and_clearance(win, qtbot):
+    # Source: shapely.distance (clearance = distance from the footprint to the nearest solid).
+    c = win.canvas
+    info = c.info_at(5.0, 0.6)
+    assert info is not None
+    assert info["station_m"] == pytest.approx(4.0, abs=3 * px(c))
+    # The bare footprint at y 0.3..0.9 against the bottom wall face at y = 0.05.
+    assert info["clearance_m"] == pytest.approx(0.25, abs=0.01)
+    assert "station 4.0" in info["text"]
+    assert c.info_at(5.0, 1.9) is None
+
+
+def test_export_schedule_matches_core(win, tmp_path):
+    # Source: shared/contract.md (`swathe schedule` output); kinematics.schedule is the reference.
+    from kinematics.planner import plan_route
+    from kinematics.schedule import build_schedule, schedule_to_csv, schedule_to_dict
+
+    route = win.doc.route()
+    plan = plan_route(route, win.doc.project.chassis)
+    ref = build_schedule(route.name, list(plan.segments), win.doc.project.chassis, dt_s=0.1)
+    assert win.export_schedule(tmp_path / "s.csv")
+    assert (tmp_path / "s.csv").read_text() == schedule_to_csv(ref)
+    assert win.export_schedule(tmp_path / "s.json")
+    assert json.loads((tmp_path / "s.json").read_text()) == json.loads(
+        dumps(schedule_to_dict(ref)))
+
+
+def test_export_matches_cli(win, tmp_path):
+    # Source: shared/contract.md (`swathe schedule PROJECT --route NAME --format csv -o FILE`).
+    from app.cli import main
+
+    assert win.export_schedule(tmp_path / "gui.csv")
+    code = main(["schedule", str(win.doc.path), "--route", win.doc.route().name,
+                 "--format", "csv", "-o", str(tmp_path / "cli.csv")])
+    assert code == 0
+    assert (tmp_path / "gui.csv").read_text() == (tmp_path / "cli.csv").read_text()
+
+
+def test_save_as_and_reopen_nothing_lost(win, make_window, qtbot, tmp_path):
+    # Source: shared/contract.md (round trip keeps every key).
+    drag(qtbot, win.canvas, (11.0, 0.6), (9.0, 1.0))
+    win.doc.set_waypoint_heading(0, 1, 30.0)
+    assert win.save_to(tmp_path / "saved.swathe.json")
+    assert not win.doc.dirty and not win.isWindowModified()
+    other = make_window(tmp_path / "saved.swathe.json")
+    assert other.doc.project.routes == win.doc.project.routes
+    assert other.doc.project.chassis == win.doc.project.chassis
+    assert other.doc.project.extra == win.doc.project.extra
+    assert str((tmp_path / "saved.swathe.json").resolve()) in other.recent_files()
+
+
+def test_broken_file_shows_one_message_and_keeps_document(win, tmp_path):
+    # Source: shared/contract.md (bad input: one message naming file and place).
+    bad = tmp_path / "broken.swathe.json"
+    bad.write_text('{"swathe_project": 1,\n  "floorplan": "corridor.floor.json",\n'
+                   '  "chassis": {"drive": "hovercraft"}}')
+    win.doc.move_waypoint(0, 0, 1.5, 0.6)
+    before = win.doc.project
+    assert not win.open_project_file(bad)
+    assert win.doc.project is before and win.doc.dirty
+    text = win.error_box.text()
+    assert "broken.swathe.json" in text and "chassis.drive" in text
+    assert "Traceback" not in text
+    win.error_box.close()
+    not_json = tmp_path / "notjson.swathe.json"
+    not_json.write_text("{\n  nope")
+    assert not win.open_project_file(not_json)
+    assert "line 2" in win.error_box.text()
+    assert win.doc.project is before
+
+
+def test_dxf_import_in_background(win, qtbot, tmp_path):
+    # Source: ezdxf documentation (new(), modelspace().add_lwpolyline); DXF $INSUNITS 6 = m.
+    import ezdxf
+
+    d = ezdxf.new()
+    d.header["$INSUNITS"] = 6
+    msp = d.modelspace()
+    d.layers.add("A-WALL")
+    d.layers.add("FURN")
+    # An open outline on a wall layer is a wall line (shared/contract.md, DXF import).
+    msp.add_lwpolyline([(0, 0), (8, 0), (8, 5), (0, 5)], close=False,
+                       dxfattribs={"layer": "A-WALL"})
+    msp.add_lwpolyline([(3, 2), (4, 2), (4, 3), (3, 3)], close=True,
+                       dxfattribs={"layer": "FURN"})
+    path = tmp_path / "room.dxf"
+    d.saveas(path)
+    opts = {"layers": {"walls": ["A-WALL"], "obstacles": ["FURN"], "doors": []}}
+    with qtbot.waitSignal(win.taskFinished, timeout=10_000):
+        assert win.open_floorplan_file(path, opts)
+    fp = win.doc.project.floorplan
+    assert len(fp.obstacles) == 1 and len(fp.walls) == 1
+    assert win.doc.undo_stack.undoText().startswith("Use floor plan")
+    ref = win.doc.project.floorplan_ref
+    assert isinstance(ref, dict) and ref["layers"]["obstacles"] == ["FURN"]
+    # A broken DXF gives a message and keeps the floor plan.
+    junk = tmp_path / "junk.dxf"
+    junk.write_text("0\nSECTION\n2\nNOPE\n")
+    with qtbot.waitSignal(win.taskFinished, timeout=10_000):
+        win.open_floorplan_file(junk, {})
+    assert win.doc.project.floorplan is fp
+    assert "junk.dxf" in win.error_box.text()
+
+
+def test_drop_a_floor_plan_file(win, qtbot, tmp_path):
+    # Source: Qt QDropEvent documentation (file URLs in the mime data).
+    fp = {"swathe_floorplan": 1, "name": "dropped room",
+          "walls": [{"points": [[0, 0], [6, 0], [6, 4], [0, 4], [0, 0]], "thickness_m": 0.1}]}
+    path = tmp_path / "room.floor.json"
+    path.write_text(json.dumps(fp))
+    mime = QMimeData()
+    mime.setUrls([QUrl.fromLocalFile(str(path))])
+    ev = QDropEvent(QPointF(50, 50), Qt.DropAction.CopyAction, mime, Qt.MouseButton.LeftButton,
+                    Qt.KeyboardModifier.NoModifier)
+    with qtbot.waitSignal(win.taskFinished, timeout=10_000):
+        win.dropEvent(ev)
+    assert win.doc.project.floorplan.name == "dropped room"
+
+
+def test_recover_autosave_after_crash(make_window, tmp_path, qtbot):
+    # Source: common practice (work since the last save survives a crash).
+    project = write_project(tmp_path)
+    first = make_window(project)
+    first.doc.add_waypoint(1, 3, Waypoint(11.6, 1.4))
+    first.autosaver.save_now()
+    edited = first.doc.project.routes
+    # Crash: the window is never closed cleanly, so the autosave stays on disk.
+    second = make_window()
+    asked = []
+    assert second.offer_recovery(ask=lambda e: asked.append(e) or True)
+    assert asked[0].original_path == project
+    assert second.doc.project.routes == edited
+    assert second.doc.dirty and second.doc.path == project
+
+
+def test_about_box_carries_the_caution(win):
+    # Source: project brief (the About box carries the safety caution).
+    from kinematics.report_text import CAUTION as SAFETY_CAUTION
+
+    box = win.show_about()
+    assert "ISO 3691-4" in box.text() and SAFETY_CAUTION in box.text()
+    box.close()
