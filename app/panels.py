@@ -61,7 +61,7 @@ from .render import (
     violation_label,
     violations_of,
 )
-from .workers import CancelToken, Job, run_in_background
+from .workers import Cancelled, CancelToken, Job, run_in_background
 
 MESSAGE_STYLE = ("QLabel { color: #5A1E00; background: #FFF1E0; border: 1px solid #D55E00; "
                  "border-radius: 3px; padding: 4px; font-weight: bold; }")
@@ -632,89 +632,74 @@ def compute_sizing(project: Any, route_name: str, token: CancelToken,
     Returns
     -------
     dict
-        ``{"route", "widest", "longest", "doors"}`` as :mod:`kinematics.sizing` gives them
-        (``to_dict()`` where they have one), for display and for the report.
+        :func:`kinematics.sizing.sizing_dict` (``widest``, ``longest``, ``doors``) plus
+        ``route``: what the check JSON's ``sizing`` holds, for display and for the report.
     """
     from kinematics import sizing
     from kinematics.clearance import ObstacleIndex
     from kinematics.planner import plan_route
 
     route = project.route(route_name)
+    token.report(0.0, "planning the route")
     plan = plan_route(route, project.chassis)
-    token.report(0.02, "building the obstacle index")
+    token.report(0.01, "building the obstacle index")
     index = ObstacleIndex(project.floorplan)
-    steps = (("widest", "widest_footprint", "widest footprint that clears"),
-             ("longest", "longest_footprint", "longest footprint that clears"),
-             ("doors", "door_widths_needed", "door widths this chassis needs"))
-    out: dict[str, Any] = {"route": route_name}
-    for k, (key, fname, words) in enumerate(steps):
-        token.raise_if_cancelled()
-        lo, hi = k / len(steps), (k + 1) / len(steps)
+    token.raise_if_cancelled()
 
-        def progress(f: float, *_a: Any, lo: float = lo, hi: float = hi,
-                     words: str = words) -> None:
-            token.report(lo + (hi - lo) * max(0.0, min(1.0, float(f))), words)
+    def progress(f: float) -> None:
+        f = max(0.0, min(1.0, float(f)))
+        what = ("widest footprint that clears" if f < 0.4 else
+                "longest footprint that clears" if f < 0.8 else "door widths needed")
+        token.report(0.01 + 0.99 * f, what)
 
-        token.report(lo, words)
-        fn = getattr(sizing, fname)
-        kw: dict[str, Any] = {"progress": progress, "cancel": token}
-        if tolerance_m is not None:
-            kw["tolerance_m"] = tolerance_m
-        res = fn(plan, project.chassis, index, **kw)
-        token.raise_if_cancelled()
-        out[key] = _plain(res)
+    kw: dict[str, Any] = {"progress": progress, "cancel": token}
+    if tolerance_m is not None:
+        kw["tolerance_m"] = tolerance_m
+    try:
+        out = sizing.sizing_dict(plan, project.chassis, index, **kw)
+    except sizing.SizingCancelled:
+        raise Cancelled() from None
+    out = dict(out)
+    out["route"] = route_name
     token.report(1.0, "done")
     return out
 
 
-def _plain(res: Any) -> Any:
-    if hasattr(res, "to_dict"):
-        return res.to_dict()
-    if isinstance(res, (list, tuple)):
-        return [_plain(r) for r in res]
-    if dataclasses.is_dataclass(res) and not isinstance(res, type):
-        return dataclasses.asdict(res)
-    return res
-
-
 def sizing_lines(answers: dict) -> list[str]:
-    """Readable lines for the sizing answers (the panel and the report share them)."""
+    """Readable lines for the sizing answers (the panel and the report share them).
+
+    ``answers`` is the check JSON's ``sizing`` object (:func:`kinematics.sizing.sizing_dict`).
+    """
     lines = []
-
-    def num(d: Any, *keys: str) -> float | None:
-        if isinstance(d, (int, float)):
-            return float(d)
-        if isinstance(d, dict):
-            for k in keys:
-                if isinstance(d.get(k), (int, float)):
-                    return float(d[k])
-        return None
-
-    w = answers.get("widest")
-    v = num(w, "width_m", "max_width_m", "value_m")
-    if v is not None:
-        lines.append(f"Widest footprint that clears: {v:.3f} m")
-    elif w is not None:
-        lines.append(f"Widest footprint that clears: {w}")
-    ln = answers.get("longest")
-    v = num(ln, "length_m", "max_length_m", "value_m")
-    if v is not None:
-        lines.append(f"Longest footprint that clears: {v:.3f} m")
-    elif ln is not None:
-        lines.append(f"Longest footprint that clears: {ln}")
-    doors = answers.get("doors")
-    if isinstance(doors, dict):
-        doors = doors.get("doors", [doors])
-    for d in doors or []:
-        if isinstance(d, dict):
-            need = num(d, "width_needed_m", "needed_width_m", "required_width_m", "width_m")
-            have = num(d, "width_m", "door_width_m")
-            label = d.get("label", "door")
-            if need is not None:
-                tail = f" (is {have:.3f} m)" if have is not None and have != need else ""
-                lines.append(f"Door {label} needs {need:.3f} m{tail}")
-            else:
-                lines.append(f"Door {label}: {d}")
+    for key, words in (("widest", "Widest footprint that clears"),
+                       ("longest", "Longest footprint that clears")):
+        d = answers.get(key)
+        if not isinstance(d, dict):
+            continue
+        cur = d.get("current_m")
+        now = f" (now {cur:.3f} m)" if isinstance(cur, (int, float)) else ""
+        mx = d.get("max_m")
+        if mx is None:
+            lines.append(f"{words}: none \u2014 even a sliver of this outline is in the way"
+                         + now)
+        elif d.get("bounded", True) is False:
+            lines.append(f"{words}: at least {mx:.3f} m (the search stopped there){now}")
+        else:
+            lines.append(f"{words}: {mx:.3f} m{now}")
+    doors = answers.get("doors") or []
+    for d in doors:
+        if not isinstance(d, dict):
+            continue
+        label = d.get("label") or f"door {d.get('door', '?')}"
+        need = d.get("width_needed_m")
+        have = d.get("width_m")
+        is_ = f" (is {have:.3f} m)" if isinstance(have, (int, float)) else ""
+        if need is None:
+            lines.append(f"Door {label}: widening it alone does not clear{is_}")
+        else:
+            lines.append(f"Door {label} needs {need:.3f} m{is_}")
+    if not doors and ("widest" in answers or "longest" in answers):
+        lines.append("No door on this route.")
     return lines
 
 

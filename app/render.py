@@ -378,15 +378,25 @@ class _Labels:
 
     def place(self, p: QPainter, anchor: QPointF, text: str, f: QFont, offset: float,
               ink: str = INK, fill: QColor | None = None, border: str | None = None,
-              force: bool = False) -> QRectF | None:
+              force: bool = False, along: tuple[float, float] | None = None
+              ) -> QRectF | None:
+        """Place ``text`` near ``anchor``; ``along`` (a unit pixel vector) first tries the
+        two spots beyond the anchor in that direction and its opposite (a door's label goes
+        past its jambs, off the route that passes through the opening)."""
         fm = QFontMetricsF(f)
         w = fm.horizontalAdvance(text) + 8
         h = fm.height() + 2
         ax, ay = anchor.x(), anchor.y()
         o3 = offset * 0.3
-        cands = [(offset, -h - o3), (offset, o3), (-w - offset, -h - o3), (-w - offset, o3),
-                 (-w / 2, -h - offset * 1.6), (-w / 2, offset * 1.6),
-                 (offset * 2.5, -h / 2), (-w - offset * 2.5, -h / 2)]
+        cands = []
+        if along is not None:
+            ux, uy = along
+            reach = offset + abs(ux) * w / 2 + abs(uy) * h / 2
+            for sgn in (1.0, -1.0):
+                cands.append((sgn * ux * reach - w / 2, sgn * uy * reach - h / 2))
+        cands += [(offset, -h - o3), (offset, o3), (-w - offset, -h - o3), (-w - offset, o3),
+                  (-w / 2, -h - offset * 1.6), (-w / 2, offset * 1.6),
+                  (offset * 2.5, -h / 2), (-w - offset * 2.5, -h / 2)]
         chosen = None
         for dx, dy in cands:
             r = QRectF(ax + dx, ay + dy, w, h)
@@ -660,10 +670,10 @@ def _draw_doors(p: QPainter, view: _View, fp: Any, checks: dict, u: float, label
         if passed:
             text += f", clearance {clear_by_label[d.label] * 1000:.0f} mm"
         # Doors a route passes are always labelled; others only where there is room.
-        pending.append((not passed, view.pt(*d.midpoint), text))
-    for not_passed, mid, text in sorted(pending, key=lambda t: t[0]):
-        labels.place(p, mid, text, f if not not_passed else font(10 * u), 10 * u,
-                     ink="#003A5C", border=BLUE, force=not not_passed)
+        pending.append((not passed, view.pt(*d.midpoint), text, (dx / n, dy / n), n / 2))
+    for not_passed, mid, text, along, half in sorted(pending, key=lambda t: t[0]):
+        labels.place(p, mid, text, f if not not_passed else font(10 * u), half + 6 * u,
+                     ink="#003A5C", border=BLUE, force=not not_passed, along=along)
 
 
 def _draw_outlines(p: QPainter, view: _View, footprint: Sequence, segments: Sequence,

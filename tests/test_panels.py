@@ -179,8 +179,12 @@ def test_sizing_job_runs_and_reports_progress(doc, qtbot):
             token.report(k / 5, "step")
             time.sleep(0.01)
         seen.append(name)
-        return {"route": name, "widest": {"width_m": 0.75}, "longest": {"length_m": 1.5},
-                "doors": [{"label": "D-1", "width_needed_m": 0.71, "width_m": 1.0}]}
+        return {"route": name,
+                "widest": {"dimension": "width", "current_m": 0.6, "max_m": 0.75,
+                           "scale": 1.25, "bounded": True},
+                "longest": {"dimension": "length", "current_m": 0.9, "max_m": 1.5,
+                            "scale": 1.67, "bounded": True},
+                "doors": [{"label": "D-1", "door": 0, "width_needed_m": 0.71, "width_m": 1.0}]}
 
     panel.sizing_compute = fake
     with qtbot.waitSignal(panel.sizingFinished, timeout=5000):
