@@ -59,6 +59,8 @@ ROUTE_COLOURS = (BLUE, PURPLE, ORANGE, BLACK, GREEN)
 VIOLATION_WORDS = {"collision": "overlap", "clearance": "short of margin",
                    "turn_radius": "radius short", "infeasible": "no connection",
                    "waypoint_blocked": "waypoint blocked"}
+#: How many violation labels (the worst first) are drawn even where they must overlap.
+FORCED_VIOLATION_LABELS = 8
 #: Marker shape per violation kind (drawn by :func:`marker_path`).
 VIOLATION_SHAPES = {"collision": "cross", "clearance": "triangle", "turn_radius": "square",
                     "infeasible": "star", "waypoint_blocked": "diamond"}
@@ -409,7 +411,9 @@ class _Labels:
         if chosen is None:
             if not force:
                 return None
-            chosen = QRectF(ax + cands[0][0], ay + cands[0][1], w, h)
+            inside = [QRectF(ax + dx, ay + dy, w, h) for dx, dy in cands
+                      if self.bounds.contains(QRectF(ax + dx, ay + dy, w, h))]
+            chosen = inside[0] if inside else QRectF(ax + cands[0][0], ay + cands[0][1], w, h)
         self.taken.append(chosen)
         if border:
             # A leader from the anchor to the label's nearest point ties them together.
@@ -431,12 +435,33 @@ class _Labels:
 
 
 # -- the scene ------------------------------------------------------------------------------
-def _scene_bounds(project: Any, plans: dict, bands: dict) -> tuple[float, float, float, float]:
+def _scene_bounds(project: Any, plans: dict, bands: dict, focus: str | None = None
+                  ) -> tuple[float, float, float, float]:
+    """What the picture must show: the whole plan, or around one route (``focus``)."""
     xs: list[float] = []
     ys: list[float] = []
     fp = project.floorplan
     b = fp.bounds()
-    if b != (0.0, 0.0, 0.0, 0.0) or fp.walls or fp.obstacles or fp.doors:
+    has_plan = b != (0.0, 0.0, 0.0, 0.0) or bool(fp.walls or fp.obstacles or fp.doors)
+    if focus is not None:
+        fx = [w.x for r in project.routes if r.name == focus for w in r.waypoints]
+        fy = [w.y for r in project.routes if r.name == focus for w in r.waypoints]
+        g = bands.get(focus)
+        if g is not None and not g.is_empty:
+            fx += [g.bounds[0], g.bounds[2]]
+            fy += [g.bounds[1], g.bounds[3]]
+        if fx:
+            # The route and a few metres of its surroundings, within the plan.
+            x0, x1, y0, y1 = min(fx), max(fx), min(fy), max(fy)
+            pad = max(2.5, 0.3 * max(x1 - x0, y1 - y0))
+            box = [x0 - pad, y0 - pad, x1 + pad, y1 + pad]
+            if has_plan:
+                box = [max(box[0], b[0]), max(box[1], b[1]), min(box[2], b[2]),
+                       min(box[3], b[3])]
+                box = [min(box[0], x0), min(box[1], y0), max(box[2], x1), max(box[3], y1)]
+            m = 0.03 * max(box[2] - box[0], box[3] - box[1], 1.0)
+            return (box[0] - m, box[1] - m, box[2] + m, box[3] + m)
+    if has_plan:
         xs += [b[0], b[2]]
         ys += [b[1], b[3]]
     for r in project.routes:
@@ -537,7 +562,7 @@ def _draw(p: QPainter, project: Any, plans: dict, checks: dict, route_name: str 
             except Exception:  # noqa: BLE001 - a picture without a band is still a picture
                 bands[name] = None
     # The plan fits above a strip kept for the scale bar and axes cue, which never cover it.
-    view = _View(_scene_bounds(project, plans, bands),
+    view = _View(_scene_bounds(project, plans, bands, route_name),
                  plan_rect.adjusted(0, 0, 0, -46 * u))
     labels = _Labels(plan_rect)
 
@@ -549,7 +574,7 @@ def _draw(p: QPainter, project: Any, plans: dict, checks: dict, route_name: str 
     p.setClipRect(plan_rect)
 
     _draw_grid(p, view, plan_rect, u)
-    _draw_floorplan(p, view, project.floorplan, u)
+    _draw_floorplan(p, view, project.floorplan, u, labels)
     # Swept bands first, so paths, outlines and markers sit on top of them.
     p.setPen(Qt.PenStyle.NoPen)
     p.setBrush(QBrush(QColor(*BAND_RGBA)))
@@ -564,8 +589,10 @@ def _draw(p: QPainter, project: Any, plans: dict, checks: dict, route_name: str 
             _draw_outlines(p, view, chassis.footprint, plan.segments, u)
             _draw_path(p, view, plan.segments, colour, u)
         _draw_waypoints(p, view, r, colour, u, labels)
-    _draw_doors(p, view, project.floorplan, checks, u, labels, f_label)
+    door_pending = _draw_doors(p, view, project.floorplan, checks, u)
+    # Violation labels before door labels: a user must see what is wrong first.
     marks = _draw_violations(p, view, checks, u, labels, f_label)
+    _door_labels(p, door_pending, u, labels, f_label)
     _draw_scale_and_axes(p, view, plan_rect, u, f_small)
     p.restore()
 
@@ -603,7 +630,8 @@ def _draw_grid(p: QPainter, view: _View, rect: QRectF, u: float) -> None:
         y += step
 
 
-def _draw_floorplan(p: QPainter, view: _View, fp: Any, u: float) -> None:
+def _draw_floorplan(p: QPainter, view: _View, fp: Any, u: float,
+                    labels: _Labels | None = None) -> None:
     from kinematics.floorplan import solids
 
     walls = [s.geometry for s in solids(fp) if s.kind == "wall"]
@@ -635,6 +663,10 @@ def _draw_floorplan(p: QPainter, view: _View, fp: Any, u: float) -> None:
             continue
         r = QRectF(0, 0, fm.horizontalAdvance(s.label) + 6, fm.height())
         r.moveCenter(view.pt(c.x, c.y))
+        if labels is not None:
+            if not labels.bounds.contains(r):
+                continue  # half a word at the picture's edge reads worse than none
+            labels.block(r)
         p.setPen(Qt.PenStyle.NoPen)
         p.setBrush(QBrush(qcolor("#FFFFFF", 210)))
         p.drawRect(r)
@@ -642,8 +674,8 @@ def _draw_floorplan(p: QPainter, view: _View, fp: Any, u: float) -> None:
         p.drawText(r, Qt.AlignmentFlag.AlignCenter, s.label)
 
 
-def _draw_doors(p: QPainter, view: _View, fp: Any, checks: dict, u: float, labels: _Labels,
-                f: QFont) -> None:
+def _draw_doors(p: QPainter, view: _View, fp: Any, checks: dict, u: float) -> list:
+    """Draw the door openings; returns their labels for :func:`_door_labels`."""
     clear_by_label: dict[str, float] = {}
     for chk in checks.values():
         for d in door_results(chk):
@@ -671,6 +703,10 @@ def _draw_doors(p: QPainter, view: _View, fp: Any, checks: dict, u: float, label
             text += f", clearance {clear_by_label[d.label] * 1000:.0f} mm"
         # Doors a route passes are always labelled; others only where there is room.
         pending.append((not passed, view.pt(*d.midpoint), text, (dx / n, dy / n), n / 2))
+    return pending
+
+
+def _door_labels(p: QPainter, pending: list, u: float, labels: _Labels, f: QFont) -> None:
     for not_passed, mid, text, along, half in sorted(pending, key=lambda t: t[0]):
         labels.place(p, mid, text, f if not not_passed else font(10 * u), half + 6 * u,
                      ink="#003A5C", border=BLUE, force=not not_passed, along=along)
@@ -752,9 +788,11 @@ def _draw_violations(p: QPainter, view: _View, checks: dict, u: float, labels: _
                   key=lambda v: -(getattr(v, "amount_m", 0.0) or 0.0))
     for v in allv:
         labels.block(QRectF(view.pt(v.x, v.y).x() - r, view.pt(v.x, v.y).y() - r, 2 * r, 2 * r))
-    for v in allv:
+    for k, v in enumerate(allv):
+        # The worst few are always labelled; the rest where there is room (the results
+        # panel and the report's table list every one).
         labels.place(p, view.pt(v.x, v.y), violation_label(v), f, r + 3 * u, ink="#4A1A00",
-                     border=VERMILLION)
+                     border=VERMILLION, force=k < FORCED_VIOLATION_LABELS)
     return marks
 
 
@@ -1000,7 +1038,7 @@ def _ticks(lo: float, hi: float, n: int = 6) -> list[float]:
 
 
 def _draw_axes_box(p: QPainter, rect: QRectF, xr: tuple[float, float], yr: tuple[float, float],
-                   xlabel: str, ylabel: str, u: float):
+                   xlabel: str, ylabel: str, u: float, yticks: int = 5):
     f = font(11 * u)
     p.setFont(f)
     fm = QFontMetricsF(f)
@@ -1021,7 +1059,7 @@ def _draw_axes_box(p: QPainter, rect: QRectF, xr: tuple[float, float], yr: tuple
         p.setPen(QColor(INK))
         s = f"{t:g}"
         p.drawText(QPointF(x - fm.horizontalAdvance(s) / 2, rect.bottom() + fm.height()), s)
-    for t in _ticks(*yr, n=5):
+    for t in _ticks(*yr, n=yticks):
         y = Y(t)
         p.setPen(pen("#ECECEC", 1.0))
         p.drawLine(QPointF(rect.left(), y), QPointF(rect.right(), y))
@@ -1034,8 +1072,9 @@ def _draw_axes_box(p: QPainter, rect: QRectF, xr: tuple[float, float], yr: tuple
     p.save()
     p.translate(rect.left() - 48 * u, rect.center().y())
     p.rotate(-90)
-    p.drawText(QRectF(-rect.height() / 2, -fm.height(), rect.height(), fm.height() + 2),
-               Qt.AlignmentFlag.AlignCenter, ylabel)
+    p.drawText(QRectF(-rect.height() / 2 - 20 * u, -fm.height(), rect.height() + 40 * u,
+                      fm.height() + 2), Qt.AlignmentFlag.AlignCenter,
+               fm.elidedText(ylabel, Qt.TextElideMode.ElideRight, rect.height() + 40 * u))
     p.restore()
     return X, Y
 
@@ -1058,7 +1097,7 @@ def _limit_line(p: QPainter, rect: QRectF, y: float, text: str, u: float,
 
 
 def draw_plots(p: QPainter, rect: QRectF, schedule: Any, x_axis: str = "time",
-               title: str | None = None) -> None:
+               title: str | None = None, scale: float | None = None) -> None:
     """Speed and every wheel's rate against time or distance, with the limits dashed.
 
     Data from :func:`kinematics.schedule.schedule_series`. The speed panel also shows each
@@ -1067,7 +1106,8 @@ def draw_plots(p: QPainter, rect: QRectF, schedule: Any, x_axis: str = "time",
     """
     from kinematics.schedule import schedule_series
 
-    u = max(0.45, min(rect.width() / 1200.0, rect.height() / 700.0))
+    u = scale if scale is not None else max(0.45, min(rect.width() / 1200.0,
+                                                     rect.height() / 700.0))
     p.setRenderHint(QPainter.RenderHint.Antialiasing, True)
     p.fillRect(rect, QColor("#FFFFFF"))
     s = schedule_series(schedule)
@@ -1081,7 +1121,7 @@ def draw_plots(p: QPainter, rect: QRectF, schedule: Any, x_axis: str = "time",
                    Qt.AlignmentFlag.AlignVCenter, title)
         top += 30 * u
     left_pad, right_pad = 70 * u, 150 * u
-    gap = 52 * u
+    gap = 44 * u
     ph = (rect.bottom() - top - 2 * gap) / 2
     r1 = QRectF(rect.left() + left_pad, top + 10 * u, rect.width() - left_pad - right_pad, ph)
     r2 = QRectF(r1.left(), r1.bottom() + gap, r1.width(), ph)
@@ -1095,8 +1135,10 @@ def draw_plots(p: QPainter, rect: QRectF, schedule: Any, x_axis: str = "time",
     v = s["v_mps"]
     vmax = lim["max_speed_mps"]
     cap = lim["speed_cap_mps"]
-    top_v = max(float(np.nanmax(v)) if v.size else 0.0, vmax or 0.0) * 1.15 or 1.0
-    X, Y = _draw_axes_box(p, r1, xr, (0.0, top_v), xlabel, "speed (m/s)", u)
+    # Headroom above the largest value keeps the limit labels inside the panel.
+    top_v = max(float(np.nanmax(v)) if v.size else 0.0, vmax or 0.0) * 1.35 or 1.0
+    yt = max(2, min(5, int(ph / (28 * u))))
+    X, Y = _draw_axes_box(p, r1, xr, (0.0, top_v), xlabel, "speed (m/s)", u, yt)
     p.save()
     p.setClipRect(r1)
     # Per-segment speed cap (dotted), broken between segments.
@@ -1137,9 +1179,9 @@ def draw_plots(p: QPainter, rect: QRectF, schedule: Any, x_axis: str = "time",
     rates = s["rate_radps"]
     allr = np.concatenate([np.abs(a) for a in rates.values()]) if rates else np.zeros(1)
     wmax = lim["max_wheel_rate_radps"]
-    hi = max(float(np.nanmax(allr)) if allr.size else 0.0, wmax or 0.0) * 1.15 or 1.0
+    hi = max(float(np.nanmax(allr)) if allr.size else 0.0, wmax or 0.0) * 1.35 or 1.0
     lo = -hi if any(np.nanmin(a) < -1e-9 for a in rates.values()) else 0.0
-    X2, Y2 = _draw_axes_box(p, r2, xr, (lo, hi), xlabel, "wheel rate (rad/s)", u)
+    X2, Y2 = _draw_axes_box(p, r2, xr, (lo, hi), xlabel, "wheel rate (rad/s)", u, yt)
     p.save()
     p.setClipRect(r2)
     for k, a in enumerate(rates.values()):

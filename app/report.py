@@ -40,6 +40,7 @@ from .render import (
     compute_results,
     door_results,
     draw_marker,
+    draw_plots,
     ensure_app,
     font,
     image_png_bytes,
@@ -238,15 +239,17 @@ def draw_report(p: QPainter, size: tuple[float, float], project: Any, plans: dic
     y += _heading(p, m, y, cw, f"Violations ({len(allv)})", u)
     if allv:
         shown = allv[:MAX_VIOLATION_ROWS]
-        rows = [[VIOLATION_WORDS.get(v.kind, v.kind), name,
-                 "" if getattr(v, "segment", None) is None else v.segment,
-                 f"{v.station_m:.2f}",
-                 "" if getattr(v, "amount_m", None) is None else f"{v.amount_m * 1000:.0f}",
-                 v.message] for name, v in shown]
-        y += _table(p, QRectF(m, y, cw, 0), ["Kind", "Route", "Seg.", "Station (m)",
-                                             "Amount (mm)", "Message"], rows,
-                    [1.6, 1.4, 0.5, 0.9, 0.9, 4.2], u,
-                    right=[False, False, True, True, True, False],
+        one = len(checks) == 1  # one route: no route column, more room for the message
+        rows = [[VIOLATION_WORDS.get(v.kind, v.kind)] + ([] if one else [name])
+                + ["" if getattr(v, "segment", None) is None else v.segment,
+                   f"{v.station_m:.2f}",
+                   "" if getattr(v, "amount_m", None) is None else f"{v.amount_m * 1000:.0f}",
+                   v.message] for name, v in shown]
+        heads = ["Kind"] + ([] if one else ["Route"]) + ["Seg.", "Station (m)", "Amount (mm)",
+                                                         "Message"]
+        widths_v = [1.6] + ([] if one else [1.4]) + [0.5, 1.1, 1.2, 4.6 if one else 3.6]
+        y += _table(p, QRectF(m, y, cw, 0), heads, rows, widths_v, u,
+                    right=[False] + ([] if one else [False]) + [True, True, True, False],
                     icons=[v.kind for _n, v in shown])
         if len(allv) > len(shown):
             y += _paragraph(p, QRectF(m, y + 2 * u, cw, 30 * u),
@@ -272,8 +275,8 @@ def draw_report(p: QPainter, size: tuple[float, float], project: Any, plans: dic
                           "" if c is None else f"{c * 1000:.0f}"])
     if drows:
         ly += _table(p, QRectF(m, ly, col_w, 0), ["Door", "Route", "Width (m)",
-                                                  "Least clear. (mm)"],
-                     drows[:10], [1.1, 1.4, 0.9, 1.2], u, right=[False, False, True, True])
+                                                  "Clearance (mm)"],
+                     drows[:10], [1.0, 1.5, 1.0, 1.4], u, right=[False, False, True, True])
         if len(drows) > 10:
             ly += _paragraph(p, QRectF(m, ly + 2 * u, col_w, 30 * u),
                              f"\u2026 and {len(drows) - 10} more.", 15 * u, FAINT_INK)
@@ -317,6 +320,8 @@ def draw_report(p: QPainter, size: tuple[float, float], project: Any, plans: dic
     top = max(ly, ry) + 10 * u
     if box.top() < top:  # a long table pushes the box down rather than overlapping it
         box.moveTop(min(top, H - box.height() - 4 * u))
+    _plots_in_gap(p, QRectF(m, top + 6 * u, cw, box.top() - top - 24 * u), project, plans,
+                  checks, route_name, u)
     p.setPen(pen(INK, 1.5 * u))
     p.setBrush(QBrush(QColor("#FFF8E6")))
     p.drawRect(box)
@@ -327,6 +332,29 @@ def draw_report(p: QPainter, size: tuple[float, float], project: Any, plans: dic
     p.setFont(fcau)
     p.drawText(QRectF(box.left() + 14 * u, box.top() + 40 * u, cw - 28 * u, need + 8 * u),
                flags, CAUTION)
+
+
+def _plots_in_gap(p: QPainter, rect: QRectF, project: Any, plans: dict, checks: dict,
+                  route_name: str | None, u: float) -> None:
+    """Speed and wheel rates of the route (the first with violations) where there is room."""
+    if rect.height() < 300 * u:
+        return
+    names = [route_name] if route_name is not None else (
+        [n for n, c in checks.items() if violations_of(c)] + list(plans))
+    for name in names:
+        plan = plans.get(name)
+        if plan is None or not plan.segments:
+            continue
+        try:
+            from kinematics.schedule import build_schedule
+
+            sched = build_schedule(name, list(plan.segments), project.chassis)
+        except (SwatheInputError, ValueError):
+            continue
+        h = min(rect.height(), 520 * u)
+        draw_plots(p, QRectF(rect.left(), rect.top(), rect.width(), h), sched,
+                   title=f"Speed and wheel rates: {name}", scale=1.1 * u)
+        return
 
 
 def report_bytes(project: Any, fmt: str, route_name: str | None = None, sizing: Any = None,
