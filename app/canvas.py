@@ -400,6 +400,12 @@ class PlanCanvas(QWidget):
             xs, ys = [0.0, 10.0], [0.0, 10.0]
         self.view.setRange(xRange=(min(xs), max(xs)), yRange=(min(ys), max(ys)), padding=0.04)
 
+    def center_on(self, x: float, y: float, span_m: float = 5.0) -> None:
+        """Centre the view on plan point ``(x, y)``, zooming in to about ``span_m`` if wider."""
+        (x0, x1), (y0, y1) = self.view.viewRange()
+        half = min(max(x1 - x0, y1 - y0), span_m) / 2.0
+        self.view.setRange(xRange=(x - half, x + half), yRange=(y - half, y + half), padding=0)
+
     # -- drawing ----------------------------------------------------------------------------
     def refresh_plan(self) -> None:
         fp = self.doc.project.floorplan

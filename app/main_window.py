@@ -17,7 +17,7 @@ from collections.abc import Callable
 from pathlib import Path
 from typing import Any
 
-from PySide6.QtCore import QObject, QRunnable, QSettings, Qt, QThreadPool, QTimer, Signal
+from PySide6.QtCore import QSettings, Qt, QTimer, Signal
 from PySide6.QtGui import QAction, QActionGroup, QKeySequence
 from PySide6.QtWidgets import (
     QApplication,
@@ -33,7 +33,6 @@ from PySide6.QtWidgets import (
     QLabel,
     QMainWindow,
     QMessageBox,
-    QProgressDialog,
     QToolBar,
     QVBoxLayout,
     QWidget,
@@ -63,31 +62,6 @@ def _version() -> str:
         return version("swathe")
     except Exception:  # noqa: BLE001 - a source checkout without metadata still runs
         return "0.1"
-
-
-class _TaskSignals(QObject):
-    done = Signal(object)
-    failed = Signal(object)
-
-
-class _Task(QRunnable):
-    """Runs ``fn`` on the thread pool and reports back through queued signals."""
-
-    def __init__(self, fn: Callable[[], Any]) -> None:
-        super().__init__()
-        self.fn = fn
-        self.signals = _TaskSignals()
-        self.cancelled = False
-
-    def run(self) -> None:
-        try:
-            out = self.fn()
-        except BaseException as exc:  # noqa: BLE001 - reported to the GUI thread
-            if not self.cancelled:
-                self.signals.failed.emit(exc)
-            return
-        if not self.cancelled:
-            self.signals.done.emit(out)
 
 
 class DxfImportDialog(QDialog):
@@ -168,8 +142,7 @@ class MainWindow(QMainWindow):
         self.autosaver = Autosaver(self.doc, directory=autosave_dir)
         self.error_box: QMessageBox | None = None
         self.about_box: QMessageBox | None = None
-        self._task: _Task | None = None
-        self._progress: QProgressDialog | None = None
+        self._task: Any = None  # the running background job, if any
         self.first_shown_at: float | None = None
         self._last_hover_shown = ""
         self.setAcceptDrops(True)
@@ -195,6 +168,8 @@ class MainWindow(QMainWindow):
         self.canvas.message.connect(lambda m: self.statusBar().showMessage(m, 6000))
         self.canvas.selectionChanged.connect(self._selection_changed)
         self.canvas.modeChanged.connect(self._mode_changed)
+        if self.results_panel is not None and hasattr(self.results_panel, "zoomRequested"):
+            self.results_panel.zoomRequested.connect(self.canvas.center_on)
         self._refresh_route_bar()
         self._refresh_summary()
         self._update_title()
@@ -610,63 +585,57 @@ class MainWindow(QMainWindow):
                                          f"{len(fp.obstacles)} obstacles, {len(fp.doors)} doors",
                                          8000)
 
-        def failed(exc: BaseException) -> None:
-            if isinstance(exc, SwatheInputError):
-                self.show_input_error(exc, "import the floor plan")
-            else:
-                self.show_error("Swathe could not import the floor plan",
-                                f"{p}: {type(exc).__name__}: {exc}")
+        def failed(text: str) -> None:
+            if str(p) not in text:
+                text = f"{p}: {text}"
+            self.show_error("Swathe could not import the floor plan",
+                            f"{text}\n\nNothing was changed in the open project.")
 
         if not background:
+            from .workers import error_text
+
             try:
                 done(load())
             except Exception as exc:  # noqa: BLE001 - every failure becomes one dialog
-                failed(exc)
+                failed(error_text(exc))
                 return False
             return True
         self.run_task(f"Reading {p.name}...", load, done, failed)
         return True
 
     def run_task(self, label: str, fn: Callable[[], Any], done: Callable[[Any], None],
-                 failed: Callable[[BaseException], None]) -> None:
-        """Run ``fn`` on the thread pool behind a progress dialog whose Cancel drops it."""
-        if self._task is not None:
-            self._task.cancelled = True
-        task = _Task(fn)
-        progress = QProgressDialog(label, "Cancel", 0, 0, self)
-        progress.setWindowTitle("Swathe")
-        progress.setWindowModality(Qt.WindowModality.WindowModal)
-        progress.setMinimumDuration(300)
+                 failed: Callable[[str], None]) -> None:
+        """Run ``fn`` off the GUI thread behind a progress dialog; Cancel drops its result."""
+        from .workers import ProgressDialog, run_in_background
 
-        def finish() -> None:
-            progress.reset()
-            progress.deleteLater()
-            if self._task is task:
-                self._task = None
-                self._progress = None
+        dlg = ProgressDialog(label, self)
+        dlg.setRange(0, 0)  # the importers report no fractions: a busy bar
+
+        # The job may finish before anything can be connected to it after it starts, so
+        # every ending goes through the callbacks, which are connected before the start.
+        def end() -> None:
+            dlg.reset()
+            dlg.close()
+            dlg.deleteLater()
+            self._task = None
             self.taskFinished.emit()
 
         def ok(out: Any) -> None:
-            finish()
-            if not task.cancelled:
-                done(out)
+            end()
+            done(out)
 
-        def bad(exc: BaseException) -> None:
-            finish()
-            if not task.cancelled:
-                failed(exc)
+        def bad(text: str) -> None:
+            end()
+            failed(text)
 
-        def cancel() -> None:
-            task.cancelled = True
+        def cancelled() -> None:
+            end()
             self.statusBar().showMessage("Cancelled; the open project is unchanged.", 5000)
-            finish()
 
-        task.signals.done.connect(ok)
-        task.signals.failed.connect(bad)
-        progress.canceled.connect(cancel)
-        self._task = task
-        self._progress = progress
-        QThreadPool.globalInstance().start(task)
+        job = run_in_background(lambda _token: fn(), done_cb=ok, error_cb=bad,
+                                cancelled_cb=cancelled, parent=self)
+        dlg.canceled.connect(job.cancel)
+        self._task = job
 
     def save_to(self, path: str | Path | None = None) -> bool:
         try:

@@ -364,3 +364,27 @@ def test_about_box_carries_the_caution(win):
     box = win.show_about()
     assert "ISO 3691-4" in box.text() and SAFETY_CAUTION in box.text()
     box.close()
+
+
+def test_background_load_cancel_keeps_project(win, qtbot):
+    # Source: common practice (Cancel on a long load leaves the document as it was).
+    import threading
+
+    from app.workers import ProgressDialog
+    from kinematics.floorplan import FloorPlan
+
+    gate = threading.Event()
+    before = win.doc.project.floorplan
+
+    def slow():
+        gate.wait(5.0)
+        return FloorPlan(name="arrived too late")
+
+    win.run_task("Reading a large drawing...", slow,
+                 lambda fp: win.doc.set_floorplan(fp, None), lambda text: None)
+    dlg = win.findChildren(ProgressDialog)[-1]
+    with qtbot.waitSignal(win.taskFinished, timeout=10_000):
+        dlg.cancel()
+        gate.set()
+    assert win.doc.project.floorplan is before
+    assert win.doc.undo_stack.count() == 0
