@@ -738,14 +738,25 @@ class ResultsPanel(QWidget):
         lay.addWidget(self.detail)
 
         lay.addWidget(QLabel("Violations (click one to show it on the plan)"))
-        self.violations = _table(["Kind", "Seg.", "Station (m)", "Amount (mm)", "Message"])
+        self.violations = _table(["Kind", "Seg.", "At (m)", "Amount (mm)"])
+        for col, tip in enumerate(("What is wrong (the marker on the plan has this shape)",
+                                   "Segment of the planned route",
+                                   "Distance along the route where it starts",
+                                   "Overlap depth, missing clearance or missing radius")):
+            self.violations.horizontalHeaderItem(col).setToolTip(tip)
         self.violations.cellClicked.connect(self._violation_clicked)
         self.violations.currentCellChanged.connect(
             lambda r, _c, _pr, _pc: self._violation_clicked(r, 0))
         hdr = self.violations.horizontalHeader()
-        for col in range(4):
+        for col in range(3):
             hdr.setSectionResizeMode(col, QHeaderView.ResizeMode.ResizeToContents)
         lay.addWidget(self.violations, 3)
+        # The selected violation's full message, wrapped, where a narrow dock can show it.
+        self.violation_message = QLabel()
+        self.violation_message.setWordWrap(True)
+        self.violation_message.setTextInteractionFlags(
+            Qt.TextInteractionFlag.TextSelectableByMouse)
+        lay.addWidget(self.violation_message)
 
         lay.addWidget(QLabel("Doors passed"))
         self.doors = _table(["Door", "Width (m)", "Least clearance (mm)"])
@@ -800,6 +811,7 @@ class ResultsPanel(QWidget):
         name = self._route_name()
         self._violation_rows = []
         self.violations.setRowCount(0)
+        self.violation_message.clear()
         self.doors.setRowCount(0)
         if name is None:
             self.verdict.setText("No route")
@@ -842,10 +854,12 @@ class ResultsPanel(QWidget):
             amt = getattr(v, "amount_m", None)
             self.violations.setItem(r, 3, _item("" if amt is None else f"{amt * 1000:.0f}",
                                                 True))
-            msg = _item(v.message)
-            msg.setToolTip(v.message)
-            self.violations.setItem(r, 4, msg)
+            for col in range(4):
+                self.violations.item(r, col).setToolTip(v.message)
         self._violation_rows = vs
+        self.violation_message.setText(vs[0].message if len(vs) == 1 else
+                                       (f"{len(vs)} violations; click one to read it." if vs
+                                        else ""))
         widths = {d.label: d.width_m for d in self.doc.project.floorplan.doors}
         doors = door_results(chk)
         self.doors.setRowCount(len(doors))
@@ -861,6 +875,7 @@ class ResultsPanel(QWidget):
     def _violation_clicked(self, row: int, _col: int) -> None:
         if 0 <= row < len(self._violation_rows):
             v = self._violation_rows[row]
+            self.violation_message.setText(f"{row + 1}. {v.message}")
             self.zoomRequested.emit(float(v.x), float(v.y))
 
     # -- sizing ------------------------------------------------------------------------------

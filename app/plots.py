@@ -21,7 +21,7 @@ from PySide6.QtWidgets import QButtonGroup, QHBoxLayout, QLabel, QRadioButton, Q
 
 from .render import BLUE, FAINT_INK, LIMIT_WORDS, VERMILLION, WHEEL_COLOURS, WHEEL_STYLES
 
-HEADROOM = 1.5  # y range above the largest value: room for the legend and limit labels
+HEADROOM = 1.65  # y range above the largest value: room for the legend and limit labels
 
 
 def _limit_line(plot: pg.PlotItem, y: float, text: str) -> pg.InfiniteLine:
@@ -94,10 +94,15 @@ class PlotsPanel(QWidget):
                 plot.getAxis(ax).setPen(pg.mkPen("#555555"))
                 plot.getAxis(ax).setTextPen(pg.mkPen("#222222"))
         self.speed_legend = self.speed_plot.addLegend(offset=(8, 4), labelTextColor="#222222",
-                                                      brush=(255, 255, 255, 220), colCount=4)
+                                                      brush=(255, 255, 255, 90), colCount=4)
         self.rate_legend = self.rate_plot.addLegend(offset=(8, 4), labelTextColor="#222222",
-                                                    brush=(255, 255, 255, 220), colCount=4)
+                                                    brush=(255, 255, 255, 90), colCount=4)
+        # Legends at the top centre, in the headroom above the curves and left of the limit
+        # labels, so they cover no data.
+        for legend in (self.speed_legend, self.rate_legend):
+            legend.anchor(itemPos=(0.5, 0.0), parentPos=(0.5, 0.0), offset=(0, 2))
         lay.addWidget(self.graphics, 1)
+        self.side_by_side = False
 
         self._timer = QTimer(self)
         self._timer.setSingleShot(True)
@@ -107,6 +112,22 @@ class PlotsPanel(QWidget):
             getattr(doc, sig).connect(self._timer.start)
         doc.currentRouteChanged.connect(lambda _i: self._timer.start())
         self.refresh()
+
+    def resizeEvent(self, ev) -> None:  # noqa: N802 - Qt's name
+        super().resizeEvent(ev)
+        # A wide, short dock (under the plan) shows the plots side by side, else stacked.
+        self.set_side_by_side(self.width() > 2.6 * max(self.height(), 1))
+
+    def set_side_by_side(self, side: bool) -> None:
+        if side == self.side_by_side:
+            return
+        self.side_by_side = side
+        layout = self.graphics.ci
+        layout.removeItem(self.rate_plot)
+        if side:
+            layout.addItem(self.rate_plot, row=0, col=1)
+        else:
+            layout.addItem(self.rate_plot, row=1, col=0)
 
     def _axis_toggled(self, _checked: bool) -> None:
         self.set_x_axis("time" if self.by_time.isChecked() else "distance")
