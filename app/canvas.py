@@ -424,15 +424,17 @@ class PlanCanvas(QWidget):
         jx = [p[0] for d in fp.doors for p in (d.a, d.b)]
         jy = [p[1] for d in fp.doors for p in (d.a, d.b)]
         self.jambs_item.setData(jx, jy)
-        named = [(d.midpoint, d.label, "door") for d in fp.doors if d.label]
+        named = [(d.midpoint, d.label, "door", 0.0) for d in fp.doors if d.label]
         for i, o in enumerate(fp.obstacles):
             if o.label:
                 g = [s.geometry for s in sol if s.kind == "obstacle" and s.index == i]
                 if g:
                     c = g[0].representative_point()
-                    named.append(((c.x, c.y), o.label, "obstacle"))
+                    x0, y0, x1, y1 = g[0].bounds
+                    named.append(((c.x, c.y), o.label, "obstacle", x1 - x0))
         labels = self._labels(self.plan_labels, len(named), "#111111", None, (0.5, 0.5))
-        for t, (pos, text, kind) in zip(labels, named):
+        self._obstacle_labels = []
+        for t, (pos, text, kind, size_m) in zip(labels, named):
             if kind == "door":
                 t.setColor(QColor("#7A4A00"))
                 t.fill = pg.mkBrush(QColor(255, 255, 255, 200))
@@ -443,6 +445,15 @@ class PlanCanvas(QWidget):
                 t.setAnchor((0.5, 0.5))
             t.setText(text)
             t.setPos(*pos)
+            if kind == "obstacle":
+                self._obstacle_labels.append((t, size_m, t.boundingRect().width()))
+        self._fit_obstacle_labels()
+
+    def _fit_obstacle_labels(self) -> None:
+        """Name an obstacle only where its name fits across it on screen (no pile-ups)."""
+        px = self.px_m()
+        for t, size_m, text_px in getattr(self, "_obstacle_labels", []):
+            t.setVisible(size_m / px >= 0.9 * text_px)
 
     def _project_replaced(self) -> None:
         self.selected = -1
@@ -595,10 +606,21 @@ class PlanCanvas(QWidget):
         shown = vs[:MAX_LABELS]
         labels = self._labels(self.violation_labels, len(shown), "#5A1E00",
                               "#FFFFFFDD", (-0.12, -0.1))
+        px = self.px_m()
+        placed: list[tuple[float, float, float, float]] = []
         for t, v in zip(labels, shown):
             word = VIOLATION_WORDS.get(v.kind, v.kind)
             t.setText(f"{word} {v.amount_m * 1000:.0f} mm" if v.kind != "infeasible" else word)
             t.setPos(v.x, v.y)
+            # Skip a label that would cover one already placed; its marker stays, and the
+            # results panel lists it.
+            w_m, h_m = t.boundingRect().width() * px, t.boundingRect().height() * px
+            box = (v.x, v.y - h_m, v.x + w_m, v.y)
+            free = all(box[2] <= b[0] or box[0] >= b[2] or box[3] <= b[1] or box[1] >= b[3]
+                       for b in placed)
+            t.setVisible(free)
+            if free:
+                placed.append(box)
 
     def _range_changed(self, *_args) -> None:
         w = self.view.viewRange()[0]
@@ -608,6 +630,7 @@ class PlanCanvas(QWidget):
             self.scale_bar.text.setText(f"{size:g} m")
             self.scale_bar.updateBar()
         self._draw_handles()
+        self._fit_obstacle_labels()
 
     # -- hit testing ------------------------------------------------------------------------
     def hit(self, x: float, y: float) -> tuple[str, int] | None:
