@@ -63,6 +63,26 @@ def parse_json(text: str, file: str = "<text>") -> Any:
         raise FileReadError(file, "", "JSON nested too deeply") from None
 
 
+def _final_mode(p: Path) -> int:
+    """Mode the new file gets: the old file's, else what a plain create would give (umask)."""
+    try:
+        return os.stat(p).st_mode & 0o7777
+    except OSError:
+        return 0o666 & ~_umask()
+
+
+def _umask() -> int:
+    # Read without changing it: os.umask() would briefly alter it for every thread.
+    try:
+        with open("/proc/self/status", encoding="ascii") as fh:
+            for line in fh:
+                if line.startswith("Umask:"):
+                    return int(line.split()[1], 8)
+    except (OSError, ValueError):
+        pass
+    return 0o022
+
+
 def atomic_write_text(path: str | os.PathLike[str], text: str) -> None:
     """Write ``text`` to ``path`` atomically: a temporary file beside it, then a rename.
 
@@ -76,6 +96,7 @@ def atomic_write_text(path: str | os.PathLike[str], text: str) -> None:
             fh.write(text)
             fh.flush()
             os.fsync(fh.fileno())
+        os.chmod(tmp, _final_mode(p))  # mkstemp makes 0600; keep the file's usual mode
         os.replace(tmp, p)
     except BaseException:
         try:
@@ -95,6 +116,7 @@ def atomic_write_bytes(path: str | os.PathLike[str], data: bytes) -> None:
             fh.write(data)
             fh.flush()
             os.fsync(fh.fileno())
+        os.chmod(tmp, _final_mode(p))
         os.replace(tmp, p)
     except BaseException:
         try:
