@@ -26,7 +26,14 @@ import pyqtgraph as pg
 import shapely
 from PySide6.QtCore import QPoint, QPointF, Qt, Signal
 from PySide6.QtGui import QAction, QBrush, QColor, QKeySequence, QPainterPath, QPen
-from PySide6.QtWidgets import QGraphicsPathItem, QInputDialog, QMenu, QVBoxLayout, QWidget
+from PySide6.QtWidgets import (
+    QGraphicsItem,
+    QGraphicsPathItem,
+    QInputDialog,
+    QMenu,
+    QVBoxLayout,
+    QWidget,
+)
 
 from kinematics.floorplan import solids
 from kinematics.project import Waypoint
@@ -74,28 +81,32 @@ def _brush(colour: str, alpha: int = 255) -> QBrush:
     return QBrush(c)
 
 
-def polygons_path(geoms: Sequence) -> QPainterPath:
-    """A painter path of shapely polygons (holes included, odd-even fill)."""
-    path = QPainterPath()
-    path.setFillRule(Qt.FillRule.OddEvenFill)
+def _rings_path(rings: Sequence[np.ndarray]) -> QPainterPath:
+    """One painter path of closed rings, built in one vectorised call (no per-vertex Python)."""
+    rings = [r for r in rings if len(r) >= 3]
+    if not rings:
+        return QPainterPath()
+    xy = np.vstack(rings)
+    connect = np.ones(len(xy), dtype=np.int32)
+    ends = np.cumsum([len(r) for r in rings]) - 1
+    connect[ends] = 0
+    return pg.arrayToQPath(xy[:, 0], xy[:, 1], connect=connect)
 
-    def ring(coords: np.ndarray) -> None:
-        if len(coords) < 3:
-            return
-        path.moveTo(float(coords[0, 0]), float(coords[0, 1]))
-        for x, y in coords[1:]:
-            path.lineTo(float(x), float(y))
-        path.closeSubpath()
 
+def polygons_path(geoms: Sequence, fill_rule: Qt.FillRule = Qt.FillRule.OddEvenFill
+                  ) -> QPainterPath:
+    """A painter path of shapely polygons (holes included)."""
+    rings: list[np.ndarray] = []
     for g in geoms:
         if g is None or g.is_empty:
             continue
         for part in getattr(g, "geoms", [g]):
             if part.geom_type != "Polygon":
                 continue
-            ring(np.asarray(part.exterior.coords))
-            for hole in part.interiors:
-                ring(np.asarray(hole.coords))
+            rings.append(np.asarray(part.exterior.coords))
+            rings.extend(np.asarray(h.coords) for h in part.interiors)
+    path = _rings_path(rings)
+    path.setFillRule(fill_rule)
     return path
 
 
@@ -152,18 +163,13 @@ def footprint_outlines(footprint: Sequence[tuple[float, float]], poses: np.ndarr
                        ) -> QPainterPath:
     """The footprint outline placed at each pose ``(x, y, heading_rad)``, one path."""
     fp = np.asarray(footprint, dtype=float)
-    path = QPainterPath()
     if len(poses) == 0:
-        return path
+        return QPainterPath()
+    fp = np.vstack([fp, fp[:1]])  # closed ring
     c, s = np.cos(poses[:, 2])[:, None], np.sin(poses[:, 2])[:, None]
     X = poses[:, 0:1] + c * fp[None, :, 0] - s * fp[None, :, 1]
     Y = poses[:, 1:2] + s * fp[None, :, 0] + c * fp[None, :, 1]
-    for xr, yr in zip(X, Y):
-        path.moveTo(float(xr[0]), float(yr[0]))
-        for x, y in zip(xr[1:], yr[1:]):
-            path.lineTo(float(x), float(y))
-        path.closeSubpath()
-    return path
+    return _rings_path(list(np.stack([X, Y], axis=-1)))
 
 
 def _nice_length(target: float) -> float:
@@ -238,6 +244,9 @@ class PlanCanvas(QWidget):
             ax = pi.getAxis(side)
             ax.setPen(_pen("#555555"))
             ax.setTextPen(_pen("#222222"))
+            # Axes and grid change only with the view range; caching their pixels makes a
+            # repaint during a drag several times cheaper.
+            ax.setCacheMode(QGraphicsItem.CacheMode.DeviceCoordinateCache)
         pi.setLabel("bottom", "x", units="m")
         pi.setLabel("left", "y", units="m")
         lay = QVBoxLayout(self)
@@ -254,7 +263,7 @@ class PlanCanvas(QWidget):
         self.view.sigRangeChanged.connect(self._range_changed)
         self.plot.scene().sigMouseMoved.connect(self._mouse_moved)
         doc.floorplanChanged.connect(self.refresh_plan)
-        doc.resultsChanged.connect(self.refresh_routes)
+        doc.edited.connect(self.refresh_routes)
         doc.currentRouteChanged.connect(self._current_changed)
         doc.projectReplaced.connect(self._project_replaced)
 
@@ -286,6 +295,8 @@ class PlanCanvas(QWidget):
         self.obstacles_item.setBrush(QBrush(QColor(OBSTACLE_FILL), Qt.BrushStyle.Dense4Pattern))
         self.obstacles_item.setZValue(0)
         add(self.obstacles_item)
+        for it in (self.walls_item, self.obstacles_item):
+            it.setCacheMode(QGraphicsItem.CacheMode.DeviceCoordinateCache)
         self.doors_item = pg.PlotDataItem(pen=pg.mkPen(ORANGE, width=4), connect="finite")
         self.doors_item.setZValue(1)
         add(self.doors_item)
@@ -459,6 +470,7 @@ class PlanCanvas(QWidget):
         self.selected = -1
         self._pending = None
         self._drag = None
+        self.refresh_routes()
         self.fit()
 
     def _current_changed(self, _i: int) -> None:
@@ -584,16 +596,15 @@ class PlanCanvas(QWidget):
         checked = getattr(chk, "pieces", ()) or ()
         old = self._sweep_cache
         new: dict = {}
-        pieces = []
+        path = QPainterPath()
         for k, seg in enumerate(segs):
-            g = old.get(seg)
-            if g is None:
+            piece = old.get(seg)
+            if piece is None:
                 raw = checked[k] if len(checked) == len(segs) else swept_segment(fp, seg)
-                g = shapely.orient_polygons(raw)
-            new[seg] = g
-            pieces.append(g)
+                piece = polygons_path([shapely.orient_polygons(raw)])
+            new[seg] = piece
+            path.addPath(piece)
         self._sweep_cache = new
-        path = polygons_path(pieces)
         path.setFillRule(Qt.FillRule.WindingFill)
         return path
 

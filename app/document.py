@@ -22,7 +22,7 @@ import sys
 from pathlib import Path
 from typing import Any
 
-from PySide6.QtCore import QObject, Signal
+from PySide6.QtCore import QObject, QTimer, Signal
 from PySide6.QtGui import QUndoCommand, QUndoStack
 
 from kinematics.errors import SwatheInputError
@@ -88,6 +88,7 @@ class _Edit(QUndoCommand):
         self._what = what
         self._current = current
         self.merge_key = merge_key
+        self._pushed = False
 
     def id(self) -> int:  # noqa: A003 - Qt's name
         return _MERGE_ID if self.merge_key is not None else -1
@@ -100,7 +101,11 @@ class _Edit(QUndoCommand):
         return True
 
     def redo(self) -> None:
-        self._doc._apply(self._after, self._what, self._current[1])
+        # The first run of a drag step is "live": the canvas redraws at once, the panels a few
+        # times a second (see Document._apply). A later redo from the history is not live.
+        live = self.merge_key is not None and not self._pushed
+        self._pushed = True
+        self._doc._apply(self._after, self._what, self._current[1], live)
 
     def undo(self) -> None:
         self._doc._apply(self._before, self._what, self._current[0])
@@ -143,7 +148,11 @@ class Document(QObject):
     resultsChanged = Signal()
     currentRouteChanged = Signal(int)
     fileStateChanged = Signal()
-    edited = Signal()  # after every edit, undo or redo (autosave listens)
+    # After every edit, undo or redo, at once (the canvas and autosave listen). During a drag
+    # resultsChanged follows at most every LIVE_RESULTS_MS, so the panels and plots do not
+    # hold back the canvas; the last drag step always gets its resultsChanged.
+    edited = Signal()
+    LIVE_RESULTS_MS = 150
 
     def __init__(self, project: Project | None = None, parent: QObject | None = None) -> None:
         super().__init__(parent)
@@ -159,6 +168,10 @@ class Document(QObject):
         self._errors: dict[str, str] = {}
         self._index: tuple[FloorPlan, Any] | None = None
         self.schedule_dt_s = 0.1
+        self._results_timer = QTimer(self)
+        self._results_timer.setSingleShot(True)
+        self._results_timer.setInterval(self.LIVE_RESULTS_MS)
+        self._results_timer.timeout.connect(self.resultsChanged)
 
     def _clean_changed(self, _clean: bool) -> None:
         self.fileStateChanged.emit()
@@ -306,7 +319,8 @@ class Document(QObject):
         return sched
 
     # -- applying a new tree ----------------------------------------------------------------
-    def _apply(self, project: Project, what: frozenset[str], current: int) -> None:
+    def _apply(self, project: Project, what: frozenset[str], current: int,
+               live: bool = False) -> None:
         self._project = project
         live = {r.name for r in project.routes}
         for cache in (self._plans, self._checks, self._schedules, self._checkers, self._errors):
@@ -319,8 +333,13 @@ class Document(QObject):
         if "routes" in what:
             self.routesChanged.emit()
         self.set_current_route(current)
-        self.resultsChanged.emit()
         self.edited.emit()
+        if live:
+            if not self._results_timer.isActive():
+                self._results_timer.start()
+        else:
+            self._results_timer.stop()
+            self.resultsChanged.emit()
 
     def _push(self, text: str, after: Project, what: str | set[str], current: int | None = None,
               merge_key: tuple | None = None) -> None:
@@ -455,6 +474,7 @@ class Document(QObject):
         self.undo_stack.setClean()
         self._forced_dirty = dirty
         self._current = 0 if project.routes else -1
+        self._results_timer.stop()
         self.projectReplaced.emit()
         self.floorplanChanged.emit()
         self.chassisChanged.emit()

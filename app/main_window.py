@@ -429,19 +429,24 @@ class MainWindow(QMainWindow):
     def _refresh_route_bar(self, *_args) -> None:
         names = self.doc.route_names()
         self.route_combo.blockSignals(True)
-        self.route_combo.clear()
-        self.route_combo.addItems(names)
-        self.route_combo.setCurrentIndex(self.doc.current_route)
+        # Refill only when the names changed: a drag emits routesChanged on every step.
+        if names != [self.route_combo.itemText(k) for k in range(self.route_combo.count())]:
+            self.route_combo.clear()
+            self.route_combo.addItems(names)
+        if self.route_combo.currentIndex() != self.doc.current_route:
+            self.route_combo.setCurrentIndex(self.doc.current_route)
         self.route_combo.blockSignals(False)
         r = self.doc.route()
         for w in (self.radius_spin, self.reverse_check, self.act_route_rename,
                   self.act_route_remove, self.act_export):
             w.setEnabled(r is not None)
         if r is not None:
-            self.radius_spin.blockSignals(True)
-            self.radius_spin.setValue(r.turn_radius_m)
-            self.radius_spin.blockSignals(False)
-            self.reverse_check.setChecked(r.reverse)
+            if self.radius_spin.value() != r.turn_radius_m:
+                self.radius_spin.blockSignals(True)
+                self.radius_spin.setValue(r.turn_radius_m)
+                self.radius_spin.blockSignals(False)
+            if self.reverse_check.isChecked() != r.reverse:
+                self.reverse_check.setChecked(r.reverse)
         self._selection_changed(self.canvas.selected)
 
     def new_route(self, name: str | None = None) -> None:

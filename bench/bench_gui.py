@@ -1,0 +1,142 @@
+"""Workbench responsiveness: startup to a painted window, and one drag step on the demo.
+
+- Startup: a fresh process from launch to the first paint of the workbench on the bundled demo,
+  against a bare QMainWindow started the same way in the same run (the Qt floor).
+- Drag: one waypoint move as a drag produces it (Document edit -> replan -> incremental recheck
+  -> canvas, panels and plots redraw -> viewport repaint), median and worst over the moves,
+  against a repaint of the same view with no edit. Target: one 60 Hz frame, 16.7 ms.
+"""
+
+from __future__ import annotations
+
+import math
+import os
+import statistics
+import subprocess
+import sys
+import tempfile
+import time
+from pathlib import Path
+
+ROOT = Path(__file__).resolve().parents[1]
+FRAME_MS = 1000.0 / 60.0
+
+_CHILD_BARE = r"""
+import sys, time
+from PySide6.QtCore import QEvent, QObject
+from PySide6.QtWidgets import QApplication, QLabel, QMainWindow
+app = QApplication(sys.argv[:1])
+w = QMainWindow(); w.setCentralWidget(QLabel("bare")); w.resize(1400, 900)
+class F(QObject):
+    def eventFilter(self, o, e):
+        if e.type() == QEvent.Type.Paint:
+            print(f"PAINTED {time.time():.6f}", flush=True); app.quit()
+        return False
+f = F(); w.centralWidget().installEventFilter(f)
+w.show(); app.exec()
+"""
+
+_CHILD_WORKBENCH = r"""
+import sys, time
+from pathlib import Path
+sys.path.insert(0, sys.argv[1])
+from PySide6.QtCore import QEvent, QObject, QSettings
+from PySide6.QtWidgets import QApplication
+app = QApplication(sys.argv[:1])
+from app.main_window import DEMO_PROJECT, MainWindow
+tmp = Path(sys.argv[2])
+w = MainWindow(settings=QSettings(str(tmp / "s.ini"), QSettings.Format.IniFormat),
+               autosave_dir=tmp / "autosave")
+w.resize(1400, 900)
+w.open_project_file(DEMO_PROJECT)
+class F(QObject):
+    def eventFilter(self, o, e):
+        if e.type() == QEvent.Type.Paint:
+            print(f"PAINTED {time.time():.6f}", flush=True); app.quit()
+        return False
+f = F(); w.canvas.plot.viewport().installEventFilter(f)
+w.show(); app.exec()
+"""
+
+
+def _startup_s(code: str, tmp: str) -> float:
+    env = dict(os.environ, QT_QPA_PLATFORM=os.environ.get("QT_QPA_PLATFORM", "offscreen"))
+    t0 = time.time()
+    out = subprocess.run([sys.executable, "-c", code, str(ROOT), tmp], capture_output=True,
+                         text=True, env=env, timeout=120)
+    for line in out.stdout.splitlines():
+        if line.startswith("PAINTED "):
+            return float(line.split()[1]) - t0
+    raise RuntimeError(f"no first paint: {out.stderr.strip()[-400:]}")
+
+
+def _drag_ms(moves: int) -> tuple[list[float], list[float]]:
+    os.environ.setdefault("QT_QPA_PLATFORM", "offscreen")
+    sys.path.insert(0, str(ROOT))
+    from PySide6.QtCore import QSettings
+    from PySide6.QtWidgets import QApplication
+
+    app = QApplication.instance() or QApplication(sys.argv[:1])
+    from app.document import new_drag_token
+    from app.main_window import DEMO_PROJECT, MainWindow
+
+    tmp = Path(tempfile.mkdtemp(prefix="swathe-bench-"))
+    w = MainWindow(settings=QSettings(str(tmp / "s.ini"), QSettings.Format.IniFormat),
+                   autosave_dir=tmp / "autosave")
+    w.resize(1400, 900)
+    w.open_project_file(DEMO_PROJECT)
+    w.show()
+    app.processEvents()
+    doc = w.doc
+    # The demo route that ends in the sluice room: its last leg passes a narrow door.
+    names = doc.route_names()
+    ri = names.index("corridor-to-sluice") if "corridor-to-sluice" in names else 0
+    doc.set_current_route(ri)
+    wi = len(doc.route().waypoints) - 1
+    x0, y0 = doc.route().waypoints[wi].x, doc.route().waypoints[wi].y
+    vp = w.canvas.plot.viewport()
+    app.processEvents()
+    vp.repaint()
+
+    base = []
+    for _ in range(max(10, moves // 2)):
+        t = time.perf_counter()
+        vp.repaint()
+        app.processEvents()
+        base.append((time.perf_counter() - t) * 1000.0)
+    token = new_drag_token()
+    times = []
+    for k in range(moves):
+        a = 2.0 * math.pi * k / moves
+        t = time.perf_counter()
+        doc.move_waypoint(ri, wi, round(x0 + 0.3 * math.cos(a), 4),
+                          round(y0 + 0.3 * math.sin(a), 4), drag=token)
+        vp.repaint()
+        app.processEvents()
+        times.append((time.perf_counter() - t) * 1000.0)
+    doc.undo_stack.setClean()
+    w.close()
+    return times, base
+
+
+def run(quick: bool) -> list[dict]:
+    """Startup and drag figures with same-run baselines (see the module docstring)."""
+    reps = 1 if quick else 3
+    tmp = tempfile.mkdtemp(prefix="swathe-bench-")
+    bare = statistics.median(_startup_s(_CHILD_BARE, tmp) for _ in range(reps))
+    bench = statistics.median(_startup_s(_CHILD_WORKBENCH, tmp) for _ in range(reps))
+    times, base = _drag_ms(20 if quick else 50)
+    med, worst, bmed = statistics.median(times), max(times), statistics.median(base)
+    return [
+        {"name": "gui startup to first paint (demo)", "value": bench, "unit": "s",
+         "baseline": bare, "ratio": bench / bare, "target": 1.5},
+        {"name": "gui drag step median (replan+recheck+redraw)", "value": med, "unit": "ms",
+         "baseline": bmed, "ratio": med / bmed if bmed > 0 else None, "target": FRAME_MS},
+        {"name": "gui drag step worst", "value": worst, "unit": "ms", "baseline": bmed,
+         "ratio": worst / bmed if bmed > 0 else None, "target": FRAME_MS},
+    ]
+
+
+if __name__ == "__main__":
+    for row in run(quick="--quick" in sys.argv):
+        print(row)
