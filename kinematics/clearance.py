@@ -427,7 +427,10 @@ class RouteChecker:
             w = int(np.argmin(dist))
         pl = placed[w]
         if dist[w] > 0.0:
-            px, py = shapely.shortest_line(pl, solid).coords[0]
+            # The outline points nearest the solid (a whole side when it runs parallel).
+            ring = shapely.get_coordinates(shapely.segmentize(pl.exterior, 0.02))[:-1]
+            d_pts = shapely.distance(shapely.points(ring), solid)
+            px, py = ring[d_pts <= d_pts.min() + self.tolerance_m].mean(axis=0)
         else:
             ov = pl.intersection(solid)
             px, py = ov.centroid.x, ov.centroid.y
