@@ -38,7 +38,7 @@ from .sweep import (
     placed_footprints,
     prepare_footprint,
     sub_segment,
-    swept_segment,
+    swept_parts,
     travel_m,
 )
 
@@ -48,6 +48,11 @@ DOOR_BOX_M = 1.0
 DOOR_BOX_ALONG_M = 0.5
 #: Placements sampled to name the footprint part nearest a solid.
 _PART_SAMPLES = 48
+#: Segments whose poses, lengths and turns agree to this (metres, radians) share cached
+#: results. A planner rebuilds every segment from the previous end pose, so segments after a
+#: moved waypoint come back equal only to rounding; the swept region of such a twin differs by
+#: ~1e-9 m, far inside the slack the sweep keeps below its tolerance.
+CACHE_QUANTUM = 1e-9
 
 CAUTION = ("Planning aid only, not a safety certification: verify on site and keep the "
            "clearances that ISO 3691-4, ANSI/ITSDF B56.5 and local fire and building codes "
@@ -180,14 +185,20 @@ class RouteCheck:
     tolerance_m: float
     margin_m: float
     segments: tuple[Segment, ...] = ()
-    pieces: tuple[BaseGeometry, ...] = ()
     sizing: dict | None = None
+    _parts: tuple[Any, ...] = field(default=(), repr=False)
     _swept: BaseGeometry | None = field(default=None, repr=False)
+
+    @property
+    def pieces(self) -> tuple[BaseGeometry, ...]:
+        """One swept region per segment (each made on first use and kept with the segment's
+        cached result)."""
+        return tuple(p.union for p in self._parts)
 
     @property
     def swept(self) -> BaseGeometry | None:
         """The union of the swept pieces (computed on first use)."""
-        if self._swept is None and self.pieces:
+        if self._swept is None and self._parts:
             self._swept = shapely.union_all(np.array(self.pieces, dtype=object))
         return self._swept
 
@@ -221,15 +232,40 @@ class _Hit:
     part: str
 
 
+class _Parts:
+    """A segment's swept region as polygons whose union it is; the union is made on demand
+    (distances and predicates need only the parts)."""
+
+    __slots__ = ("parts", "_union")
+
+    def __init__(self, parts: np.ndarray) -> None:
+        self.parts = parts
+        self._union: BaseGeometry | None = None
+
+    @property
+    def union(self) -> BaseGeometry:
+        if self._union is None:
+            self._union = (self.parts[0] if len(self.parts) == 1
+                           else shapely.union_all(self.parts))
+        return self._union
+
+    def distance(self, solid: BaseGeometry) -> float:
+        return float(np.min(shapely.distance(self.parts, solid)))
+
+
 @dataclass(frozen=True)
 class _SegmentResult:
-    piece: BaseGeometry
+    swept: _Parts
     clearance_m: float  # inf when the plan has no solids
     solid: int | None
     x: float
     y: float
     hits: tuple[_Hit, ...]
     doors: tuple[tuple[int, float], ...]
+
+    @property
+    def piece(self) -> BaseGeometry:
+        return self.swept.union
 
 
 # -- geometry helpers -----------------------------------------------------------------------
@@ -318,17 +354,28 @@ class RouteChecker:
         self.tolerance_m = float(tolerance_m)
         self.index = index
         self.cache_size = int(cache_size)
-        self._cache: OrderedDict[Segment, _SegmentResult] = OrderedDict()
+        self._cache: OrderedDict[tuple, _SegmentResult] = OrderedDict()
+        self._near: dict[tuple, float] = {}
         self.swept_count = 0  # segments swept (not taken from the cache), for tests
 
     # -- per segment ----------------------------------------------------------------------
+    @staticmethod
+    def cache_key(seg: Segment) -> tuple:
+        """The segment's values on a 1e-9 grid (see ``CACHE_QUANTUM``)."""
+        q = 1.0 / CACHE_QUANTUM
+        c = None if seg.course_rad is None else round(seg.course_rad * q)
+        x, y, th = seg.start
+        return (seg.kind, seg.direction, round(x * q), round(y * q), round(th * q),
+                round(seg.length_m * q), round(seg.turn_rad * q), c)
+
     def segment_result(self, seg: Segment) -> _SegmentResult:
-        hit = self._cache.get(seg)
+        key = self.cache_key(seg)
+        hit = self._cache.get(key)
         if hit is not None:
-            self._cache.move_to_end(seg)
+            self._cache.move_to_end(key)
             return hit
         res = self._compute(seg)
-        self._cache[seg] = res
+        self._cache[key] = res
         if len(self._cache) > self.cache_size:
             self._cache.popitem(last=False)
         return res
@@ -336,56 +383,73 @@ class RouteChecker:
     def _compute(self, seg: Segment) -> _SegmentResult:
         self.swept_count += 1
         fp, idx, margin = self.footprint, self.index, self.margin_m
-        piece = swept_segment(fp, seg, self.tolerance_m)
-        near = idx.within(piece, margin)
+        sw = _Parts(swept_parts(fp, seg, self.tolerance_m))
+        parts = sw.parts
         hits: list[_Hit] = []
-        best, best_j, best_xy = math.inf, None, (math.nan, math.nan)
-        for j in near.tolist():
-            solid = idx.geometries[j]
-            c = _signed_clearance(piece, solid)
-            if c < best:
-                best, best_j = c, j
-            if c < margin:
-                hits.append(self._hit(seg, piece, j, c))
-        if best_j is None:
-            j, d = idx.nearest(piece)
-            best, best_j = d, j
+        best, best_j = math.inf, None
+        if len(idx):
+            near = np.unique(idx.tree.query(parts, predicate="dwithin", distance=margin)[1]
+                             if margin > 0.0 else
+                             idx.tree.query(parts, predicate="intersects")[1])
+            for j in near.tolist():
+                solid = idx.geometries[j]
+                c = sw.distance(solid)
+                if c <= 0.0:
+                    c = -overlap_depth(sw.union, solid)
+                if c < best:
+                    best, best_j = c, j
+                if c < margin:
+                    hits.append(self._hit(seg, sw, j, c))
+            if best_j is None:
+                ii, dd = idx.tree.query_nearest(parts, return_distance=True, all_matches=False)
+                k = int(np.argmin(dd))
+                best, best_j = float(dd[k]), int(ii[1][k])
+        best_xy = (math.nan, math.nan)
         if best_j is not None:
-            best_xy = self._where(piece, idx.geometries[best_j], best <= 0.0)
+            best_xy = self._where(sw, idx.geometries[best_j], best <= 0.0)
         doors = []
         if len(idx.doors):
-            for k in idx.door_tree.query(piece, predicate="intersects").tolist():
+            crossed = np.unique(idx.door_tree.query(parts, predicate="intersects")[1])
+            for k in crossed.tolist():
                 box = idx.door_boxes[k]
-                local = piece.intersection(box)
-                near_box = idx.within(box, 0.0)
+                local = _Parts(shapely.intersection(parts, box))
+                local.parts = local.parts[~shapely.is_empty(local.parts)]
                 c = math.inf
-                for j in near_box.tolist():
-                    c = min(c, _signed_clearance(local, idx.geometries[j]))
+                for j in idx.within(box, 0.0).tolist():
+                    solid = idx.geometries[j]
+                    d = local.distance(solid)
+                    c = min(c, d if d > 0.0 else -overlap_depth(local.union, solid))
                 doors.append((k, c))
-        return _SegmentResult(piece, best, best_j, best_xy[0], best_xy[1], tuple(hits),
+        return _SegmentResult(sw, best, best_j, best_xy[0], best_xy[1], tuple(hits),
                               tuple(doors))
 
     @staticmethod
-    def _where(piece: BaseGeometry, solid: BaseGeometry, overlap: bool) -> tuple[float, float]:
-        """A point of the swept piece nearest the solid, or inside the overlap."""
+    def _where(sw: _Parts | BaseGeometry, solid: BaseGeometry, overlap: bool
+               ) -> tuple[float, float]:
+        """A point of the swept region nearest the solid, or inside the overlap."""
+        if isinstance(sw, _Parts):
+            parts = sw.parts
+        else:
+            parts = np.array([sw], dtype=object)
         if overlap:
-            inter = piece.intersection(solid)
+            inter = shapely.union_all(shapely.intersection(parts, solid))
             if not inter.is_empty:
                 p = inter.representative_point()
                 return float(p.x), float(p.y)
-        line = shapely.shortest_line(piece, solid)
+        k = int(np.argmin(shapely.distance(parts, solid)))
+        line = shapely.shortest_line(parts[k], solid)
         x, y = line.coords[0]
         return float(x), float(y)
 
     def _violates(self, seg: Segment, j: int, collision: bool, f: float) -> bool:
         solid = self.index.geometries[j]
-        g = (placed_footprints(self.footprint, [seg.start])[0] if f <= 0.0
-             else swept_segment(self.footprint, sub_segment(seg, f), self.tolerance_m))
+        g = (placed_footprints(self.footprint, [seg.start]) if f <= 0.0
+             else swept_parts(self.footprint, sub_segment(seg, f), self.tolerance_m))
         if collision:
-            return bool(shapely.intersects(g, solid))
-        return float(shapely.distance(g, solid)) < self.margin_m
+            return bool(np.any(shapely.intersects(g, solid)))
+        return float(np.min(shapely.distance(g, solid))) < self.margin_m
 
-    def _hit(self, seg: Segment, piece: BaseGeometry, j: int, c: float) -> _Hit:
+    def _hit(self, seg: Segment, piece: _Parts, j: int, c: float) -> _Hit:
         fp, solid = self.footprint, self.index.geometries[j]
         collision = c <= 0.0
         travel = travel_m(fp, seg)
@@ -414,9 +478,9 @@ class RouteChecker:
                     lo = mid
                 steps += 1
         f_start = hi
-        start_geom = (placed[0] if f_start <= 0.0
-                      else swept_segment(fp, sub_segment(seg, f_start), self.tolerance_m))
-        if collision and not shapely.intersects(start_geom, solid):
+        start_geom = _Parts(placed[:1] if f_start <= 0.0
+                            else swept_parts(fp, sub_segment(seg, f_start), self.tolerance_m))
+        if collision and not np.any(shapely.intersects(start_geom.parts, solid)):
             start_geom = piece
         x, y = self._where(start_geom, solid, collision)
         # The part: the footprint point nearest (or deepest in) the solid at the worst placement.
@@ -498,13 +562,21 @@ class RouteChecker:
             p.min_clearance_m) else None, p.door, p.segment, p.station_m, p.width_m)
             for p in door_list]
         return RouteCheck(name, not violations, min_c, at, violations, door_list,
-                          self.tolerance_m, self.margin_m, segs,
-                          tuple(r.piece for r in results))
+                          self.tolerance_m, self.margin_m, segs, None,
+                          tuple(r.swept for r in results))
 
     def _station_near(self, seg: Segment, x: float, y: float) -> float:
         """Station along ``seg`` (m from its start) of the placement nearest ``(x, y)``."""
         if seg.length_m <= 0.0:
             return 0.0
+        key = (self.cache_key(seg), x, y)
+        if key not in self._near:
+            if len(self._near) > self.cache_size:
+                self._near.clear()
+            self._near[key] = self._station_near_now(seg, x, y)
+        return self._near[key]
+
+    def _station_near_now(self, seg: Segment, x: float, y: float) -> float:
         n = int(min(400, max(16, math.ceil(travel_m(self.footprint, seg) / 0.01))))
         fr = np.linspace(0.0, 1.0, n + 1)
         placed = placed_footprints(self.footprint, seg.poses_at_fraction(fr))

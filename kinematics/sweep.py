@@ -341,7 +341,7 @@ def segment_parts(footprint: FootprintLike, seg: Segment,
         return _polys(parts, False), 0.0
     end = seg.end
     if seg.turn_rad != 0.0 and abs(seg.turn_rad) * r_far > 1e-12:
-        if seg.length_m == 0.0:
+        if seg.length_m <= 1e-12:
             parts = rotation_parts(placed0, seg.start[:2], seg.turn_rad, tol)
             return _polys(parts, False), 0.0
         m, dev = _holonomic_chunks(seg, tol)
@@ -358,6 +358,28 @@ def segment_parts(footprint: FootprintLike, seg: Segment,
         return np.asarray(geoms, dtype=object), dev
     v = (end[0] - seg.start[0], end[1] - seg.start[1])
     return _polys(translation_parts(placed0, v, convex), convex), 0.0
+
+
+def swept_parts(footprint: FootprintLike, seg: Segment,
+                tolerance_m: float = DEFAULT_TOLERANCE_M) -> NDArray[np.object_]:
+    """Polygons whose union is :func:`swept_segment` (valid, non-empty), without the union.
+
+    Distances and predicates against the union are the minimum / any over the parts, so a
+    checker can skip the union, which costs more than the parts.
+    """
+    if not tolerance_m > 0.0:
+        raise ValueError("tolerance_m must be > 0")
+    geoms, dev = segment_parts(footprint, seg, tolerance_m)
+    geoms = geoms[~shapely.is_empty(geoms)]
+    bad = ~shapely.is_valid(geoms)
+    if bad.any():
+        geoms = geoms.copy()
+        geoms[bad] = shapely.make_valid(geoms[bad])
+    if dev > 0.0:
+        geoms = shapely.buffer(geoms, dev / math.cos(math.pi / (4 * _QUAD_SEGS)),
+                               quad_segs=_QUAD_SEGS)
+        geoms = geoms[~shapely.is_empty(geoms)]
+    return geoms
 
 
 def swept_segment(footprint: FootprintLike, seg: Segment,

@@ -1,0 +1,140 @@
+"""Swept-footprint check speed: building size, a naive reference, interactive recheck.
+
+(a) Check of a 40-waypoint, ~150 m route on generated floor plans of 100 and 20,000 obstacle
+    edges with the same clutter near the route: the ratio of times shows the cost does not
+    grow with the building (target < 1.5).
+(b) The swept check against a naive reference measured in the same run: footprints placed
+    every 1 cm along the same route, unioned, distance to every solid (target >= 20x faster).
+(c) Replan + recheck after moving one waypoint on a 5,000-edge plan with a warm
+    :class:`kinematics.clearance.RouteChecker` (median, target < 8 ms).
+"""
+
+from __future__ import annotations
+
+import math
+import statistics
+import sys
+import time
+from pathlib import Path
+
+import numpy as np
+import shapely
+
+if __name__ == "__main__":
+    sys.path.insert(0, str(Path(__file__).resolve().parent.parent))
+
+from kinematics.clearance import ObstacleIndex, RouteChecker  # noqa: E402
+from kinematics.floorplan import FloorPlan, Obstacle  # noqa: E402
+from kinematics.planner import plan_route  # noqa: E402
+from kinematics.project import Chassis, Route, Waypoint  # noqa: E402
+from kinematics.segments import path_length, poses_along  # noqa: E402
+from kinematics.sweep import placed_footprints  # noqa: E402
+
+CHASSIS = Chassis(name="bench tug", footprint=((-0.3, -0.3), (0.6, -0.3), (0.6, 0.3),
+                                               (-0.3, 0.3)), margin_m=0.05, track_m=0.5)
+
+
+def _waypoints(n: int = 40) -> list[Waypoint]:
+    """A meander through an open hall: legs of about 3.8 m, gentle turns."""
+    pts = []
+    for k in range(n):
+        x = 3.8 * k
+        y = 2.0 * math.sin(0.7 * k)
+        pts.append(Waypoint(x, y))
+    return pts
+
+
+def _square(cx: float, cy: float, s: float, label: str = "") -> Obstacle:
+    return Obstacle(((cx - s, cy - s), (cx + s, cy - s), (cx + s, cy + s), (cx - s, cy + s)),
+                    label)
+
+
+def _floorplan(edges: int, seed: int = 1) -> FloorPlan:
+    """25 racks near the route (the same in every plan), the rest far away in the building."""
+    rng = np.random.default_rng(seed)
+    near = []
+    for k in range(25):
+        x = 3.8 * (k * 39 / 24) + 1.9
+        side = 1 if k % 2 else -1
+        near.append(_square(x, 2.0 * math.sin(0.7 * (x / 3.8)) + side * 1.6, 0.3, f"rack {k}"))
+    far = []
+    n_far = max(0, edges // 4 - len(near))
+    side = math.sqrt(n_far) if n_far else 1.0
+    for k in range(n_far):
+        i, j = divmod(k, int(math.ceil(side)))
+        # A grid of shelving bays in the rest of the building, below the hall.
+        far.append(_square(-200 + 3.0 * i + rng.uniform(-0.5, 0.5),
+                           -20 - 3.0 * j + rng.uniform(-0.5, 0.5), 0.4))
+    return FloorPlan(f"generated, {edges} edges", (), tuple(near + far), ())
+
+
+def _best(fn, repeats: int) -> float:
+    best = math.inf
+    for _ in range(repeats):
+        t0 = time.perf_counter()
+        fn()
+        best = min(best, time.perf_counter() - t0)
+    return best
+
+
+def _naive_clearance(segs, index: ObstacleIndex, step_m: float = 0.01) -> float:
+    total = path_length(segs)
+    poses = poses_along(segs, np.arange(0.0, total + step_m, step_m))
+    union = shapely.union_all(placed_footprints(CHASSIS.footprint, poses))
+    return float(np.min(shapely.distance(union, index.geometries)))
+
+
+def run(quick: bool) -> list[dict]:
+    rows: list[dict] = []
+    route = Route("bench", tuple(_waypoints(40)), turn_radius_m=1.0)
+    plan = plan_route(route, CHASSIS)
+    length = plan.length_m
+    repeats = 2 if quick else 5
+
+    # (a) building size.
+    times = {}
+    for edges in (100, 20000):
+        idx = ObstacleIndex(_floorplan(edges))
+        times[edges] = _best(lambda idx=idx: RouteChecker(CHASSIS, idx).check(plan), repeats)
+    rows.append({"name": f"check {length:.0f} m route, 100-edge plan", "value":
+                 times[100] * 1000, "unit": "ms", "baseline": None, "ratio": None,
+                 "target": None})
+    rows.append({"name": "check, 20000-edge vs 100-edge plan", "value": times[20000] * 1000,
+                 "unit": "ms", "baseline": times[100] * 1000,
+                 "ratio": times[20000] / times[100], "target": "< 1.5"})
+
+    # (b) naive reference: 1 cm placements, union, distance (shorter route in quick mode).
+    idx = ObstacleIndex(_floorplan(100))
+    sub = Route("bench", tuple(_waypoints(10 if quick else 40)), turn_radius_m=1.0)
+    sub_plan = plan_route(sub, CHASSIS)
+    t_swept = _best(lambda: RouteChecker(CHASSIS, idx).check(sub_plan), repeats)
+    t_naive = _best(lambda: _naive_clearance(sub_plan.segments, idx), 1)
+    rows.append({"name": f"swept check vs 1 cm union ({sub_plan.length_m:.0f} m)",
+                 "value": t_swept * 1000, "unit": "ms", "baseline": t_naive * 1000,
+                 "ratio": t_naive / t_swept, "target": ">= 20"})
+
+    # (c) replan + recheck after moving one waypoint, warm checker, 5,000-edge plan.
+    idx = ObstacleIndex(_floorplan(5000))
+    checker = RouteChecker(CHASSIS, idx)
+    checker.check(plan)
+    wps = list(route.waypoints)
+    rng = np.random.default_rng(7)
+    samples = []
+    for _ in range(15 if quick else 60):
+        k = int(rng.integers(5, 35))
+        moved = list(wps)
+        w = wps[k]
+        moved[k] = Waypoint(w.x + rng.uniform(-0.3, 0.3), w.y + rng.uniform(-0.3, 0.3))
+        r2 = Route("bench", tuple(moved), turn_radius_m=1.0)
+        t0 = time.perf_counter()
+        checker.check(plan_route(r2, CHASSIS), "bench")
+        samples.append(time.perf_counter() - t0)
+    rows.append({"name": "replan + recheck after moving a waypoint", "value":
+                 statistics.median(samples) * 1000, "unit": "ms", "baseline": None,
+                 "ratio": None, "target": "< 8 ms"})
+    return rows
+
+
+if __name__ == "__main__":
+    for row in run(quick="--quick" in sys.argv):
+        print(row)
