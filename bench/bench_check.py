@@ -89,13 +89,15 @@ def run(quick: bool) -> list[dict]:
     route = Route("bench", tuple(_waypoints(40)), turn_radius_m=1.0)
     plan = plan_route(route, CHASSIS)
     length = plan.length_m
-    repeats = 2 if quick else 5
+    repeats = 5 if quick else 15
 
-    # (a) building size.
-    times = {}
-    for edges in (100, 20000):
-        idx = ObstacleIndex(_floorplan(edges))
-        times[edges] = _best(lambda idx=idx: RouteChecker(CHASSIS, idx).check(plan), repeats)
+    # (a) building size; the two plans are timed in turn so load on the machine hits both.
+    indexes = {edges: ObstacleIndex(_floorplan(edges)) for edges in (100, 20000)}
+    times = {edges: math.inf for edges in indexes}
+    for _ in range(repeats):
+        for edges, idx in indexes.items():
+            times[edges] = min(times[edges],
+                               _best(lambda idx=idx: RouteChecker(CHASSIS, idx).check(plan), 1))
     rows.append({"name": f"check {length:.0f} m route, 100-edge plan", "value":
                  times[100] * 1000, "unit": "ms", "baseline": None, "ratio": None,
                  "target": None})
@@ -119,19 +121,26 @@ def run(quick: bool) -> list[dict]:
     checker.check(plan)
     wps = list(route.waypoints)
     rng = np.random.default_rng(7)
-    samples = []
-    for _ in range(15 if quick else 60):
+    samples, checks = [], []
+    for _ in range(30 if quick else 100):
         k = int(rng.integers(5, 35))
         moved = list(wps)
         w = wps[k]
         moved[k] = Waypoint(w.x + rng.uniform(-0.3, 0.3), w.y + rng.uniform(-0.3, 0.3))
         r2 = Route("bench", tuple(moved), turn_radius_m=1.0)
         t0 = time.perf_counter()
-        checker.check(plan_route(r2, CHASSIS), "bench")
-        samples.append(time.perf_counter() - t0)
+        p2 = plan_route(r2, CHASSIS)
+        t1 = time.perf_counter()
+        checker.check(p2, "bench")
+        t2 = time.perf_counter()
+        samples.append(t2 - t0)
+        checks.append(t2 - t1)
     rows.append({"name": "replan + recheck after moving a waypoint", "value":
                  statistics.median(samples) * 1000, "unit": "ms", "baseline": None,
                  "ratio": None, "target": "< 8 ms"})
+    rows.append({"name": "  of which recheck (warm checker)", "value":
+                 statistics.median(checks) * 1000, "unit": "ms", "baseline": None,
+                 "ratio": None, "target": None})
     return rows
 
 
