@@ -67,10 +67,17 @@ VIOLATION_SHAPES = {"collision": "cross", "clearance": "triangle", "turn_radius"
 
 
 def ensure_app() -> QGuiApplication:
-    """The running Qt application, or a new ``QGuiApplication`` (enough for painting)."""
+    """The running Qt application, or a new one.
+
+    A ``QApplication`` rather than a bare ``QGuiApplication``: painting needs only the latter,
+    but a process that renders first and opens widgets later (the tests, a script that renders
+    and then shows the window) would abort on the wrong application type.
+    """
     app = QGuiApplication.instance()
     if app is None:
-        app = QGuiApplication([])
+        from PySide6.QtWidgets import QApplication
+
+        app = QApplication([])
     return app  # type: ignore[return-value]
 
 

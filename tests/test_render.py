@@ -140,7 +140,8 @@ def test_plot_png(qapp, tmp_path):
 
 
 def test_render_without_a_widget_application(tmp_path):
-    """``render_project_png`` makes its own QGuiApplication when none runs (CLI use)."""
+    """``render_project_png`` makes its own application when none runs (CLI use), and one on
+    which widgets can still be created afterwards (a script that renders, then opens a window)."""
     proj = small_project(blocked=False)
     pj = tmp_path / "room.swathe.json"
     save_project(proj, pj, inline_floorplan=True)
@@ -148,12 +149,12 @@ def test_render_without_a_widget_application(tmp_path):
     code = ("import sys; from kinematics.project import load_project; "
             "from app.render import render_project_png; "
             f"render_project_png(load_project({str(pj)!r}), {str(out)!r}, size=(640, 400)); "
-            "from PySide6.QtWidgets import QApplication; "
-            "from PySide6.QtGui import QGuiApplication; "
-            "assert not isinstance(QGuiApplication.instance(), QApplication)")
+            "from PySide6.QtWidgets import QLabel; "
+            "w = QLabel('after render'); w.show(); print('widget ok')")
     env = dict(os.environ, QT_QPA_PLATFORM="offscreen", PYTHONPATH=str(ROOT))
     res = subprocess.run([sys.executable, "-c", code], env=env, capture_output=True,
                          text=True, timeout=120, cwd=tmp_path)
     assert res.returncode == 0, res.stderr
+    assert "widget ok" in res.stdout
     img = QImage(str(out))
     assert (img.width(), img.height()) == (640, 400)
