@@ -105,7 +105,8 @@ def cmd_check(args: argparse.Namespace) -> int:
     checks = []
     for route in _selected_routes(project, args.route):
         plan = plan_route(route, project.chassis)
-        chk = check_route(plan, project.chassis, index, tolerance_m=tol, route_name=route.name)
+        chk = check_route(plan, project.chassis, index, tolerance_m=tol, route_name=route.name,
+                          route=route)
         if args.sizing:
             from kinematics.sizing import attach_sizing
 

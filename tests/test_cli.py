@@ -168,3 +168,17 @@ def test_console_script_runs_in_a_subprocess(tmp_path):
                        capture_output=True, text=True, cwd=Path(__file__).resolve().parents[1])
     assert r.returncode == 0, r.stderr
     assert json.loads(r.stdout)["routes"][0]["name"] == "clear"
+
+
+def test_waypoint_inside_an_obstacle_is_reported(tmp_path, capsys):
+    # Source: shared/contract.md, violation kind `waypoint_blocked`; the parked cart in FLOOR
+    # covers x 6.0..6.4, y 1.3..1.95, so a waypoint at (6.2, 1.6) is inside it.
+    route = {"name": "into-cart", "waypoints": [[1, 1.0, 0], [6.2, 1.6], [11, 1.0]],
+             "turn_radius_m": 0.0}
+    p = write_project(tmp_path, [route])
+    code, out, err = run(["check", p, "--json"], capsys)
+    assert code == 1, err
+    kinds = [v for v in json.loads(out)["routes"][0]["violations"]
+             if v["kind"] == "waypoint_blocked"]
+    assert kinds and "waypoint" in kinds[0]["message"]
+    assert kinds[0]["x"] == pytest.approx(6.2, abs=0.01)
