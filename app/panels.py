@@ -793,6 +793,10 @@ class ResultsPanel(QWidget):
         for sig in ("resultsChanged", "projectReplaced"):
             getattr(doc, sig).connect(self.refresh)
         doc.currentRouteChanged.connect(lambda _i: self.refresh())
+        # The document throttles resultsChanged during drags; whether the sizing answers
+        # still hold is cheap to tell, so say it at once on every edit.
+        for sig in ("chassisChanged", "routesChanged", "floorplanChanged"):
+            getattr(doc, sig).connect(self._refresh_sizing_label)
         self._violation_rows: list[Any] = []
         self.refresh()
 
