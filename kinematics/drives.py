@@ -241,11 +241,18 @@ class DifferentialDrive(DriveModel):
 
 
 class BicycleDrive(DriveModel):
-    """One steered and driven front wheel, reference point at the rear axle midpoint."""
+    """Kinematic bicycle: a driven rear wheel at the reference point, a steered front wheel.
+
+    ``drive`` is the rear wheel on the reference point (rate v / r, never steered); ``steer``
+    is the front wheel ``wheelbase_m`` ahead, with its steer angle and its own rolling rate
+    v / (r cos(delta)), because the front axle runs on a larger circle (Rajamani, *Vehicle
+    Dynamics and Control*, 2nd ed., sec. 2.2). A tricycle tug whose front wheel both steers
+    and drives reads the ``steer`` entry for its traction motor.
+    """
 
     name = "bicycle"
     wheel_names = ("drive", "steer")
-    steered_wheels = ("drive", "steer")
+    steered_wheels = ("steer",)
     holonomic = False
     can_pivot = False
 
@@ -259,23 +266,22 @@ class BicycleDrive(DriveModel):
 
     def inverse(self, vx, vy, omega, hold_angles=None) -> WheelCommands:
         vx, omega = np.broadcast_arrays(np.asarray(vx, float), np.asarray(omega, float))
-        hold = (hold_angles or {}).get("drive", (hold_angles or {}).get("steer", 0.0))
+        hold = (hold_angles or {}).get("steer", 0.0)
         # Front contact point at (L, 0): velocity (vx, omega * L).
         rate, ang = _steered_wheel(vx, omega * self.wheelbase_m, self.wheel_radius_m, hold)
-        return WheelCommands({"drive": rate, "steer": rate.copy()},
-                             {"drive": ang, "steer": ang.copy()})
+        rear = vx / self.wheel_radius_m
+        return WheelCommands({"drive": np.array(rear, dtype=float), "steer": rate},
+                             {"steer": ang})
 
     def forward(self, commands: WheelCommands):
-        rows, rhs = [], []
         r = self.wheel_radius_m
-        for n in self.wheel_names:
-            a = np.asarray(commands.angle_rad[n], float)
-            roll, lat = _rolling_rows(self.wheelbase_m, 0.0, a)
-            rows += [roll, lat]
-            rhs += [r * np.asarray(commands.rate_radps[n], float), np.zeros_like(a)]
-        # The free rear wheel at the reference point does not slip sideways: vy = 0.
-        rows.append(np.array([0.0, 1.0, 0.0]))
-        rhs.append(0.0)
+        a = np.asarray(commands.angle_rad["steer"], float)
+        rear = np.asarray(commands.rate_radps["drive"], float)
+        roll_f, lat_f = _rolling_rows(self.wheelbase_m, 0.0, a)
+        roll_r, lat_r = _rolling_rows(0.0, 0.0, np.zeros_like(a))
+        rows = [roll_f, lat_f, roll_r, lat_r]
+        rhs = [r * np.asarray(commands.rate_radps["steer"], float), np.zeros_like(a),
+               r * rear, np.zeros_like(a)]
         return _least_squares(rows, rhs)
 
 

@@ -86,17 +86,20 @@ def test_bicycle_radius_and_yaw_rate():
     # reference at the rear axle): R = L / tan(delta), yaw rate = v tan(delta) / L.
     omega = v * math.tan(delta) / L
     cmd = d.inverse(v, 0.0, omega)
-    assert float(cmd.angle_rad["drive"]) == pytest.approx(delta)
     assert float(cmd.angle_rad["steer"]) == pytest.approx(delta)
-    # Front wheel speed v / cos(delta): the front axle is farther from the turn centre.
-    assert float(cmd.rate_radps["drive"]) == pytest.approx(v / math.cos(delta) / r)
+    assert "drive" not in cmd.angle_rad  # the rear wheel is not steered
+    # Rear wheel on the reference point rolls at v; the front wheel at v / cos(delta), the
+    # front axle being farther from the turn centre (Rajamani sec. 2.2, same model).
+    assert float(cmd.rate_radps["drive"]) == pytest.approx(v / r)
+    assert float(cmd.rate_radps["steer"]) == pytest.approx(v / math.cos(delta) / r)
     assert d.min_turn_radius_m == pytest.approx(L / math.tan(math.radians(40.0)))
     vx, vy, om = d.forward(cmd)
     assert (float(vx), float(vy), float(om)) == pytest.approx((v, 0.0, omega))
     # Reverse on the same steer: the yaw rate changes sign, rates are negative, angle kept.
     rev = d.inverse(-v, 0.0, -omega)
-    assert float(rev.angle_rad["drive"]) == pytest.approx(delta)
-    assert float(rev.rate_radps["drive"]) == pytest.approx(-v / math.cos(delta) / r)
+    assert float(rev.angle_rad["steer"]) == pytest.approx(delta)
+    assert float(rev.rate_radps["steer"]) == pytest.approx(-v / math.cos(delta) / r)
+    assert float(rev.rate_radps["drive"]) == pytest.approx(-v / r)
 
 
 def test_bicycle_min_radius_respects_chassis_minimum():
