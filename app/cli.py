@@ -64,6 +64,11 @@ def build_parser() -> argparse.ArgumentParser:
                                        "violations, without a screen")
     common(sp)
     sp.add_argument("-o", "--output", metavar="FILE.png", required=True)
+    sp.add_argument("--plots", metavar="PLOTS.png",
+                    help="also write the speed and wheel-rate plots of the route (--route, "
+                         "else the first route) with the limits drawn")
+    sp.add_argument("--plots-against", choices=("time", "distance"), default="time",
+                    help="x axis of --plots (default time)")
     sp.add_argument("--width", type=int, default=1600, help="image width in pixels")
     sp.add_argument("--height", type=int, default=1000, help="image height in pixels")
     return p
@@ -159,8 +164,22 @@ def cmd_render(args: argparse.Namespace) -> int:
     os.environ.setdefault("QT_QPA_PLATFORM", "offscreen")
     from app.render import render_project_png
 
+    if args.plots:
+        _check_output_path(args.plots)
     render_project_png(project, args.output, route_name=args.route,
                        size=(args.width, args.height))
+    if args.plots:
+        from app.render import render_plot_png
+        from kinematics.planner import plan_route
+        from kinematics.schedule import build_schedule
+
+        if not project.routes:
+            raise SwatheInputError(args.project, "routes", "no route to plot")
+        route = project.route(args.route) if args.route else project.routes[0]
+        plan = plan_route(route, project.chassis)
+        sched = build_schedule(route.name, list(plan.segments), project.chassis)
+        render_plot_png(sched, args.plots, size=(args.width, max(args.height * 7 // 10, 150)),
+                        x_axis=args.plots_against)
     return EXIT_OK
 
 

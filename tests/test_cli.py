@@ -105,6 +105,11 @@ def test_render_writes_png(tmp_path, capsys):
     code, _, err = run(["render", p, "-o", png], capsys)
     assert code == 0, err
     assert png.read_bytes()[:8] == b"\x89PNG\r\n\x1a\n"
+    plots = tmp_path / "plots.png"
+    code, _, err = run(["render", p, "-o", png, "--route", "clear", "--plots", plots,
+                        "--plots-against", "distance"], capsys)
+    assert code == 0, err
+    assert plots.read_bytes()[:8] == b"\x89PNG\r\n\x1a\n"
 
 
 BAD_CASES = [
