@@ -27,6 +27,10 @@ sweeping its edges, and no decomposition is needed.
   (circular) motion between the same two poses by a pure translation of at most
   ``rho * phi**2 / 8`` (the linear-interpolation error bound ``u(1-u)/2 max|g''|`` applied to
   ``g(u) = exp(i u phi)``), so each chunk is swept as a rotation and then grown by that bound.
+  Where the body turns so little that its farthest vertex moves by at most a quarter of the
+  tolerance (``r_far |phi|``), the line is swept as a translation of the start placement grown
+  by ``r_far |phi|``: the circular stand-in's centre would lie so far away that rounding in
+  its coordinates exceeds the tolerance.
 """
 
 from __future__ import annotations
@@ -51,6 +55,9 @@ MAX_CHUNK_RAD = math.pi / 2.0
 _ARC_SHARE = 0.95
 #: Buffer segments per quarter circle when growing holonomic chunks.
 _QUAD_SEGS = 4
+#: A holonomic line whose farthest vertex turns by at most this share of the tolerance is
+#: swept as a translation grown by that turn.
+_TINY_TURN_SHARE = 0.25
 
 @dataclass(frozen=True, eq=False)
 class Footprint:
@@ -339,7 +346,18 @@ def segment_parts(footprint: FootprintLike, seg: Segment,
     if seg.kind == "arc" and seg.curvature != 0.0:
         parts = rotation_parts(placed0, seg.arc_centre(), seg.turn_rad, tol)
         return _polys(parts, False), 0.0
+    if seg.kind == "line" and seg.course_rad is None and seg.turn_rad == 0.0:
+        d = seg.direction * seg.length_m
+        v = (d * math.cos(seg.start[2]), d * math.sin(seg.start[2]))
+        return _polys(translation_parts(placed0, v, convex), convex), 0.0
     end = seg.end
+    v = (end[0] - seg.start[0], end[1] - seg.start[1])
+    if 0.0 < abs(seg.turn_rad) * r_far <= _TINY_TURN_SHARE * tol and seg.length_m > 1e-12:
+        # A body turning this little stays within r_far * |turn| of its start orientation
+        # translated along the line; the circular stand-in would pivot about a centre so far
+        # away that its coordinates lose more than the tolerance to rounding.
+        return _polys(translation_parts(placed0, v, convex), convex), \
+            abs(seg.turn_rad) * r_far
     if seg.turn_rad != 0.0 and abs(seg.turn_rad) * r_far > 1e-12:
         if seg.length_m <= 1e-12:
             parts = rotation_parts(placed0, seg.start[:2], seg.turn_rad, tol)
@@ -356,7 +374,6 @@ def segment_parts(footprint: FootprintLike, seg: Segment,
             geoms.extend(_polys(rotation_parts(placed[k], q, poses[k + 1, 2] - poses[k, 2],
                                                rot_tol), False))
         return np.asarray(geoms, dtype=object), dev
-    v = (end[0] - seg.start[0], end[1] - seg.start[1])
     return _polys(translation_parts(placed0, v, convex), convex), 0.0
 
 
