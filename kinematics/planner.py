@@ -39,7 +39,8 @@ Waypoint indices in issues and ``chosen_headings`` are those of the route as giv
 from __future__ import annotations
 
 import math
-from collections.abc import Sequence
+from collections import OrderedDict
+from collections.abc import Callable, Sequence
 from dataclasses import dataclass, field
 
 import numpy as np
@@ -67,6 +68,10 @@ ALIGN_TOL_RAD = 1e-12
 SMALLEST_FILLET_M = 1e-6
 #: Relative slack of the turn radius check (rounding of ``length / turn``).
 RADIUS_REL_TOL = 1e-9
+#: A piece's end within this (metres, radians) of the pose it was laid to reach restarts the
+#: next piece from that pose (rounding only; see ``_Builder.anchor``).
+ANCHOR_TOL_M = 1e-9
+ANCHOR_TOL_RAD = 1e-9
 
 ISSUE_KINDS = ("infeasible", "turn_radius")
 _STEERED = ("bicycle", "ackermann")
@@ -175,14 +180,91 @@ def _turn_to(frm: float, to: float) -> float:
     return math.remainder(to - frm, 2.0 * math.pi)
 
 
+def end_pose(seg: Segment) -> Pose:
+    """End pose of ``seg`` in closed form with scalar math.
+
+    The same exponential map as :meth:`Segment.end` (:func:`kinematics.motion.propagate`),
+    without numpy's per-call cost, which dominated planning: equal to it to rounding.
+    """
+    x, y, h = seg.start
+    turn, length = seg.turn_rad, seg.length_m
+    if seg.kind == "pivot":
+        return (x, y, h + turn)
+    if seg.kind == "line":
+        if seg.course_rad is not None or turn != 0.0:
+            c = seg.course
+            return (x + length * math.cos(c), y + length * math.sin(c), h + turn)
+        d = seg.direction * length
+        return (x + d * math.cos(h), y + d * math.sin(h), h)
+    if length == 0.0:
+        return (x, y, h)
+    # Body-frame displacement of a constant twist (direction, 0, turn / length) over the
+    # length: direction * length * (sin(phi) / phi, (1 - cos(phi)) / phi), series near 0.
+    if abs(turn) < 1e-4:
+        p2 = turn * turn
+        sc = 1.0 - p2 / 6.0 + p2 * p2 / 120.0
+        cc = turn / 2.0 - turn * p2 / 24.0 + turn * p2 * p2 / 720.0
+    else:
+        sc, cc = math.sin(turn) / turn, (1.0 - math.cos(turn)) / turn
+    d = seg.direction * length
+    bx, by = d * sc, d * cc
+    c, s = math.cos(h), math.sin(h)
+    return (x + c * bx - s * by, y + s * bx + c * by, h + turn)
+
+
+class PieceCache:
+    """Least-recently-used store of planned pieces, keyed by every value they depend on.
+
+    A piece (a line, a corner turn, a Dubins / Reeds-Shepp connection) is a pure function of
+    its start pose and its own parameters, and the planner starts each piece at a pose
+    computed from the waypoints alone (see :meth:`_Builder.anchor`). So after one waypoint
+    moves only the pieces next to it miss; the rest come back as the very same objects,
+    bit for bit, which also keeps :class:`kinematics.clearance.RouteChecker`'s cache warm.
+    """
+
+    def __init__(self, size: int = 20000) -> None:
+        self.size = int(size)
+        self._d: OrderedDict[tuple, tuple] = OrderedDict()
+        self.misses = 0
+
+    def lookup(self, key: tuple) -> tuple | None:
+        """The value stored under ``key`` (now the most recently used), or ``None``."""
+        hit = self._d.get(key)
+        if hit is not None:
+            self._d.move_to_end(key)
+        return hit
+
+    def put(self, key: tuple, val: tuple) -> None:
+        self._d[key] = val
+        if len(self._d) > self.size:
+            self._d.popitem(last=False)
+
+    def get(self, key: tuple, make: Callable[[], tuple]) -> tuple:
+        """The value under ``key``, made by ``make()`` and stored if missing."""
+        hit = self.lookup(key)
+        if hit is None:
+            self.misses += 1
+            hit = make()
+            self.put(key, hit)
+        return hit
+
+    def clear(self) -> None:
+        self._d.clear()
+
+    def __len__(self) -> int:
+        return len(self._d)
+
+
 class _Builder:
     """Collects segments, issues, notes and chosen headings while a route is built.
 
     ``spin_radius_m`` says how several headings given at one point are met: 0 with pivots on
-    the spot, > 0 with Dubins / Reeds-Shepp loops back to the same point.
+    the spot, > 0 with Dubins / Reeds-Shepp loops back to the same point. ``cache`` (a
+    :class:`PieceCache`) lets unchanged pieces be reused; results are the same without it.
     """
 
-    def __init__(self, route: Route, start: Pose, spin_radius_m: float = 0.0) -> None:
+    def __init__(self, route: Route, start: Pose, spin_radius_m: float = 0.0,
+                 cache: PieceCache | None = None) -> None:
         self.route = route
         self.segs: list[Segment] = []
         self.issues: list[PlanIssue] = []
@@ -190,30 +272,94 @@ class _Builder:
         self.chosen: dict[int, float] = {}
         self.start = start
         self.spin_radius_m = spin_radius_m
+        self.cache = cache
+        self._pose: Pose = start
 
     @property
     def pose(self) -> Pose:
-        return self.segs[-1].end if self.segs else self.start
+        return self._pose
+
+    def _piece(self, key: tuple, make: Callable[[], Sequence[Segment]]) -> None:
+        """Append the segments ``make()`` returns for the current pose, through the cache."""
+        if self.cache is None:
+            segs = tuple(make())
+            end = end_pose(segs[-1]) if segs else self._pose
+        else:
+            segs, end = self.cache.get((*key, self._pose), lambda: self._made(make))
+        self.segs.extend(segs)
+        self._pose = end
+
+    def _made(self, make: Callable[[], Sequence[Segment]]) -> tuple:
+        segs = tuple(make())
+        return segs, (end_pose(segs[-1]) if segs else self._pose)
 
     def add(self, seg: Segment | None) -> int | None:
         if seg is None:
             return None
         self.segs.append(seg)
+        self._pose = end_pose(seg)
         return len(self.segs) - 1
+
+    def anchor(self, pose: Sequence[float]) -> None:
+        """Restart from ``pose``, the point the last piece was laid to reach, computed from the
+        waypoints alone.
+
+        The end of the last piece agrees with it to rounding; starting from the computed pose
+        instead keeps that rounding from running on into every later segment, so pieces away
+        from an edit come back bit for bit. The heading keeps the turn count the route has
+        accumulated (only its value modulo a full turn is taken from ``pose``). Where the two
+        disagree by more than rounding the actual end is kept.
+        """
+        x, y, h = float(pose[0]), float(pose[1]), float(pose[2])
+        cx, cy, ch = self._pose
+        if abs(cx - x) > ANCHOR_TOL_M or abs(cy - y) > ANCHOR_TOL_M:
+            return
+        hh = h + 2.0 * math.pi * round((ch - h) / (2.0 * math.pi))
+        if abs(hh - ch) <= ANCHOR_TOL_RAD:
+            self._pose = (x, y, hh)
+
+    def line(self, length_m: float, direction: int = 1) -> None:
+        pose = self._pose
+        self._piece(("line", float(length_m), int(direction)),
+                    lambda: (line(pose, length_m, direction),))
+
+    def corner(self, deflection_rad: float, radius_m: float) -> int | None:
+        """The turn at a corner (see :func:`kinematics.fillet.corner_segment`); its index."""
+        pose = self._pose
+        n = len(self.segs)
+        self._piece(("corner", float(deflection_rad), float(radius_m)),
+                    lambda: tuple(s for s in (corner_segment(pose, deflection_rad,
+                                                             radius_m),) if s is not None))
+        return n if len(self.segs) > n else None
 
     def turn(self, to_heading: float) -> int | None:
         """Pivot from the current heading to ``to_heading`` the short way (none if aligned)."""
         t = _turn_to(self.pose[2], to_heading)
-        return self.add(pivot(self.pose, t) if abs(t) >= STRAIGHT_TOL_RAD else None)
+        if abs(t) < STRAIGHT_TOL_RAD:
+            return None
+        pose = self._pose
+        self._piece(("pivot", t), lambda: (pivot(pose, t),))
+        return len(self.segs) - 1
 
     def straight(self, length_m: float, direction: int = 1) -> None:
         if length_m > ZERO_LENGTH_M:
-            self.add(line(self.pose, length_m, direction))
+            self.line(length_m, direction)
+
+    def holonomic(self, goal_xy: Sequence[float], turn_rad: float) -> None:
+        """A straight move to ``goal_xy``, the body turning by ``turn_rad`` on the way."""
+        pose = self._pose
+        goal = (float(goal_xy[0]), float(goal_xy[1]))
+        self._piece(("holonomic", goal, float(turn_rad)),
+                    lambda: (holonomic_line(pose, goal, turn_rad),))
 
     def connect(self, goal: Pose, radius_m: float, reverse: bool) -> None:
         """Shortest bounded-curvature path from the current pose to ``goal``."""
         mod = reeds_shepp if reverse else dubins
-        self.segs.extend(mod.path_segments(self.pose, goal, radius_m))
+        pose = self._pose
+        goal = (float(goal[0]), float(goal[1]), float(goal[2]))
+        self._piece(("connect", goal, float(radius_m), bool(reverse)),
+                    lambda: mod.path_segments(pose, goal, radius_m))
+        self.anchor(goal)
 
     def spin(self, xy: Sequence[float], headings: Sequence[float]) -> None:
         """Meet each heading in turn at the point ``xy`` where the route now is."""
@@ -223,6 +369,7 @@ class _Builder:
                              self.route.reverse)
             else:
                 self.turn(h)
+                self.anchor((float(xy[0]), float(xy[1]), h))
 
     def issue(self, kind: str, message: str, waypoint: int | None, segment: int | None,
               xy: Sequence[float], amount_m: float) -> None:
@@ -304,7 +451,9 @@ def _plan_pivoting(pts: _Points, b: _Builder, reverse: bool) -> None:
             if abs(_turn_to(b.pose[2], back)) < abs(_turn_to(b.pose[2], target)) - 1e-12:
                 target, direction = back, -1
         b.turn(target)
+        b.anchor((pts.xy[i, 0], pts.xy[i, 1], target))
         b.straight(float(leg[i]), direction)
+        b.anchor((pts.xy[i + 1, 0], pts.xy[i + 1, 1], target))
         b.spin(pts.xy[i + 1], pts.headings[i + 1])
 
 
@@ -315,7 +464,8 @@ def _plan_holonomic(pts: _Points, b: _Builder) -> None:
     for i in range(1, n):
         given = pts.arrive(i)
         turn = 0.0 if given is None else _turn_to(b.pose[2], given)
-        b.add(holonomic_line(b.pose, pts.xy[i], turn))
+        b.holonomic(pts.xy[i], turn)
+        b.anchor((pts.xy[i, 0], pts.xy[i, 1], b.pose[2] if given is None else given))
         b.spin(pts.xy[i], pts.headings[i][1:])
         if given is None and i < n - 1:
             b.chosen[pts.index[i]] = _wrap_deg(b.pose[2])
@@ -355,17 +505,37 @@ def _plan_steered(pts: _Points, b: _Builder, radius_m: float, reverse: bool) -> 
             b.chosen[pts.index[k]] = _wrap_deg(chosen[k])
     if len(poses) < 2:
         return
-    # All legs in one vectorised call; each leg's pieces are then laid from the actual end of
-    # the previous one, so the joints stay continuous.
+    # All legs not yet in the cache in one vectorised call; each leg's pieces are then laid
+    # from the pose it starts at (see ``_Builder.anchor``).
     p = np.array(poses, dtype=float)
-    if reverse:
-        batch = reeds_shepp.shortest(p[:-1], p[1:], radius_m)
-        letters = [reeds_shepp.LETTERS[w] for w in batch.word]
-    else:
-        batch = dubins.shortest(p[:-1], p[1:], radius_m)
-        letters = [dubins.WORDS[w] for w in batch.word]
+    keys = [("word", poses[i], poses[i + 1], float(radius_m), bool(reverse))
+            for i in range(len(poses) - 1)]
+    words: dict[tuple, tuple] = {}
+    if b.cache is not None:
+        for k in keys:
+            hit = b.cache.lookup(k)
+            if hit is not None:
+                words[k] = hit
+    todo = [i for i in range(len(keys)) if keys[i] not in words]
+    if todo:
+        sel = np.array(todo)
+        if reverse:
+            batch = reeds_shepp.shortest(p[sel], p[sel + 1], radius_m)
+            letters = [reeds_shepp.LETTERS[w] for w in batch.word]
+        else:
+            batch = dubins.shortest(p[sel], p[sel + 1], radius_m)
+            letters = [dubins.WORDS[w] for w in batch.word]
+        for j, i in enumerate(todo):
+            words[keys[i]] = (letters[j], tuple(float(v) for v in batch.params[j]))
+            if b.cache is not None:
+                b.cache.put(keys[i], words[keys[i]])
     for i in range(len(poses) - 1):
-        b.segs.extend(dubins.pieces_to_segments(b.pose, letters[i], batch.params[i], radius_m))
+        word, params = words[keys[i]]
+        pose = b.pose
+        b._piece(("pieces", word, params, float(radius_m)),
+                 lambda pose=pose, word=word, params=params:
+                 dubins.pieces_to_segments(pose, word, params, radius_m))
+        b.anchor(poses[i + 1])
 
 
 def _fillet_radii(pts: _Points, b: _Builder, radius_m: float, route: Route
@@ -432,6 +602,8 @@ def _plan_filleted(pts: _Points, b: _Builder, radius_m: float, route: Route) -> 
         on_leg1 = not pose[i + 1] or abs(_turn_to(h_in[i + 1], head[i])) < ALIGN_TOL_RAD
         if on_leg0 and on_leg1:
             b.straight(float(leg[i] - t0 - t1))
+            b.anchor((float(xy[i + 1, 0] - t1 * u[0]), float(xy[i + 1, 1] - t1 * u[1]),
+                      float(head[i])))
         else:
             goal_h = h_in[i + 1] if pose[i + 1] else float(head[i])
             b.connect((float(xy[i + 1, 0] - t1 * u[0]), float(xy[i + 1, 1] - t1 * u[1]),
@@ -439,7 +611,10 @@ def _plan_filleted(pts: _Points, b: _Builder, radius_m: float, route: Route) -> 
         if pose[i + 1]:
             b.spin(xy[i + 1], pts.headings[i + 1][1:])
             continue
-        seg = b.add(corner_segment(b.pose, float(defl[i]), float(radii[i])))
+        seg = b.corner(float(defl[i]), float(radii[i]))
+        v = (math.cos(head[i + 1]), math.sin(head[i + 1]))
+        b.anchor((float(xy[i + 1, 0] + t[i] * v[0]), float(xy[i + 1, 1] + t[i] * v[1]),
+                  float(head[i + 1])))
         if i in failed:
             reason, amount = failed[i]
             w = pts.index[i + 1]
@@ -461,7 +636,7 @@ def _check_radii(b: _Builder, min_r: float, can_pivot: bool, drive: str) -> None
 
 
 # -- public ---------------------------------------------------------------------------------
-def plan_route(route: Route, chassis: Chassis) -> RoutePlan:
+def plan_route(route: Route, chassis: Chassis, cache: PieceCache | None = None) -> RoutePlan:
     """Drivable segments for ``route`` as ``chassis`` can follow them.
 
     Parameters
@@ -471,6 +646,9 @@ def plan_route(route: Route, chassis: Chassis) -> RoutePlan:
         extra key ``allow_smaller_radius`` lets crowded fillets shrink.
     chassis : Chassis
         Its drive decides the kind of path (see the module docstring).
+    cache : PieceCache, optional
+        Pieces kept from earlier calls (see :class:`RoutePlanner`); the plan is the same
+        with or without it.
 
     Returns
     -------
@@ -498,7 +676,7 @@ def plan_route(route: Route, chassis: Chassis) -> RoutePlan:
     if h0 is None:
         h0 = math.atan2(*(pts.xy[1] - pts.xy[0])[::-1]) if n > 1 else 0.0
     start = (float(pts.xy[0, 0]), float(pts.xy[0, 1]), float(h0))
-    b = _Builder(route, start)
+    b = _Builder(route, start, cache=cache)
     b.notes.extend(notes)
     radius = 0.0 if holonomic else _radius(route, min_r, pts, b, drive)
     b.spin_radius_m = 0.0 if can_pivot else radius
@@ -520,6 +698,36 @@ def plan_route(route: Route, chassis: Chassis) -> RoutePlan:
     _check_radii(b, min_r, can_pivot, drive)
     return RoutePlan(route.name, drive, tuple(b.segs), tuple(b.issues), dict(b.chosen),
                      tuple(b.notes), float(radius), start)
+
+
+class RoutePlanner:
+    """:func:`plan_route` with a :class:`PieceCache` kept between calls.
+
+    For a window that replans on every step of a drag: moving one waypoint changes only the
+    pieces next to it, and every other piece is taken from the cache. Plans are identical to
+    :func:`plan_route`'s.
+
+    Parameters
+    ----------
+    cache_size : int
+        Pieces kept (least recently used dropped first).
+
+    Examples
+    --------
+    >>> from kinematics.project import Waypoint
+    >>> planner = RoutePlanner()
+    >>> r = Route("r", (Waypoint(0, 0), Waypoint(4, 0), Waypoint(4, 3)), 1.0)
+    >>> c = Chassis(drive="differential", track_m=0.5)
+    >>> planner.plan(r, c) == plan_route(r, c)
+    True
+    """
+
+    def __init__(self, cache_size: int = 20000) -> None:
+        self.cache = PieceCache(cache_size)
+
+    def plan(self, route: Route, chassis: Chassis) -> RoutePlan:
+        """The plan of ``route`` for ``chassis`` (see :func:`plan_route`)."""
+        return plan_route(route, chassis, cache=self.cache)
 
 
 def plan_project(project: Project) -> list[RoutePlan]:
