@@ -253,15 +253,26 @@ class _Parts:
         return float(np.min(shapely.distance(self.parts, solid)))
 
 
-@dataclass(frozen=True)
 class _SegmentResult:
-    swept: _Parts
-    clearance_m: float  # inf when the plan has no solids
-    solid: int | None
-    x: float
-    y: float
-    hits: tuple[_Hit, ...]
-    doors: tuple[tuple[int, float], ...]
+    """One segment's swept region, its hits within the margin and its doors.
+
+    ``near`` is the least clearance and its solid among the solids within the margin, or
+    ``None`` when there are none; then the clearance to the nearest solid farther away is only
+    measured when the route's least clearance needs it (``RouteChecker._clearance``), and
+    ``lower_m`` bounds it from below meanwhile.
+    """
+
+    __slots__ = ("swept", "hits", "doors", "near", "lower_m", "far", "xy")
+
+    def __init__(self, swept: _Parts, near: tuple[float, int] | None, lower_m: float,
+                 hits: tuple[_Hit, ...], doors: tuple[tuple[int, float], ...]) -> None:
+        self.swept = swept
+        self.near = near
+        self.lower_m = lower_m
+        self.hits = hits
+        self.doors = doors
+        self.far: tuple[float, int | None] | None = None
+        self.xy: tuple[float, float] | None = None
 
     @property
     def piece(self) -> BaseGeometry:
@@ -356,6 +367,7 @@ class RouteChecker:
         self.cache_size = int(cache_size)
         self._cache: OrderedDict[tuple, _SegmentResult] = OrderedDict()
         self._near: dict[tuple, float] = {}
+        self._keys: dict[int, tuple[Segment, tuple]] = {}
         self.swept_count = 0  # segments swept (not taken from the cache), for tests
 
     # -- per segment ----------------------------------------------------------------------
@@ -369,7 +381,16 @@ class RouteChecker:
                 round(seg.length_m * q), round(seg.turn_rad * q), c)
 
     def segment_result(self, seg: Segment) -> _SegmentResult:
-        key = self.cache_key(seg)
+        # A planner that reuses unchanged segments hands back the same objects: their key is
+        # remembered by identity (the entry holds the segment, so its id is not reused).
+        known = self._keys.get(id(seg))
+        if known is not None and known[0] is seg:
+            key = known[1]
+        else:
+            key = self.cache_key(seg)
+            if len(self._keys) > 2 * self.cache_size:
+                self._keys.clear()
+            self._keys[id(seg)] = (seg, key)
         hit = self._cache.get(key)
         if hit is not None:
             self._cache.move_to_end(key)
@@ -387,6 +408,7 @@ class RouteChecker:
         parts = sw.parts
         hits: list[_Hit] = []
         best, best_j = math.inf, None
+        lower = math.inf
         if len(idx):
             near = np.unique(idx.tree.query(parts, predicate="dwithin", distance=margin)[1]
                              if margin > 0.0 else
@@ -400,13 +422,14 @@ class RouteChecker:
                     best, best_j = c, j
                 if c < margin:
                     hits.append(self._hit(seg, sw, j, c))
+            lower = best
             if best_j is None:
-                ii, dd = idx.tree.query_nearest(parts, return_distance=True, all_matches=False)
-                k = int(np.argmin(dd))
-                best, best_j = float(dd[k]), int(ii[1][k])
-        best_xy = (math.nan, math.nan)
-        if best_j is not None:
-            best_xy = self._where(sw, idx.geometries[best_j], best <= 0.0)
+                # Nothing within the margin: the distance from the parts' bounding box to the
+                # nearest solid bounds the clearance from below until it is needed.
+                b = shapely.bounds(parts)
+                box = shapely.box(b[:, 0].min(), b[:, 1].min(), b[:, 2].max(), b[:, 3].max())
+                _, dd = idx.tree.query_nearest(box, return_distance=True, all_matches=False)
+                lower = max(margin, float(dd[0]))
         doors = []
         if len(idx.doors):
             crossed = np.unique(idx.door_tree.query(parts, predicate="intersects")[1])
@@ -420,8 +443,46 @@ class RouteChecker:
                     d = local.distance(solid)
                     c = min(c, d if d > 0.0 else -overlap_depth(local.union, solid))
                 doors.append((k, c))
-        return _SegmentResult(sw, best, best_j, best_xy[0], best_xy[1], tuple(hits),
-                              tuple(doors))
+        near = None if best_j is None else (best, best_j)
+        return _SegmentResult(sw, near, lower, tuple(hits), tuple(doors))
+
+    def _clearance(self, res: _SegmentResult) -> tuple[float, int | None]:
+        """Least clearance of a segment's swept region and the solid (``inf, None``: none)."""
+        if res.near is not None:
+            return res.near
+        if res.far is None:
+            if not len(self.index):
+                res.far = (math.inf, None)
+            else:
+                ii, dd = self.index.tree.query_nearest(res.swept.parts, return_distance=True,
+                                                       all_matches=False)
+                k = int(np.argmin(dd))
+                res.far = (float(dd[k]), int(ii[1][k]))
+        return res.far
+
+    def _least(self, results: list[_SegmentResult]) -> int:
+        """Index of the first segment with the least clearance.
+
+        Segments are measured in order of their lower bounds, stopping once a bound exceeds
+        the least clearance found, so the answer is that of measuring every segment.
+        """
+        order = np.argsort([r.lower_m for r in results], kind="stable")
+        best, best_i = math.inf, None
+        for i in order.tolist():
+            r = results[i]
+            if r.lower_m > best:
+                break
+            c = self._clearance(r)[0]
+            if c < best or (c == best and (best_i is None or i < best_i)):
+                best, best_i = c, i
+        return int(order[0]) if best_i is None else best_i
+
+    def _where_least(self, res: _SegmentResult) -> tuple[float, float]:
+        if res.xy is None:
+            c, j = self._clearance(res)
+            res.xy = ((math.nan, math.nan) if j is None else
+                      self._where(res.swept, self.index.geometries[j], c <= 0.0))
+        return res.xy
 
     @staticmethod
     def _where(sw: _Parts | BaseGeometry, solid: BaseGeometry, overlap: bool
@@ -541,12 +602,13 @@ class RouteChecker:
         # Least clearance over the route.
         min_c, at = None, None
         if len(idx) and results:
-            i = int(np.argmin([r.clearance_m for r in results]))
-            r = results[i]
-            min_c = float(r.clearance_m)
-            st = float(stations[i]) + self._station_near(segs[i], r.x, r.y)
-            at = {"x": r.x, "y": r.y, "station_m": st, "segment": i,
-                  "solid": idx.solids[r.solid].name if r.solid is not None else ""}
+            i = self._least(results)
+            c, j = self._clearance(results[i])
+            x, y = self._where_least(results[i])
+            min_c = float(c)
+            st = float(stations[i]) + self._station_near(segs[i], x, y)
+            at = {"x": x, "y": y, "station_m": st, "segment": i,
+                  "solid": idx.solids[j].name if j is not None else ""}
         doors: dict[int, DoorPass] = {}
         for i, r in enumerate(results):
             for k, c in r.doors:
