@@ -110,27 +110,35 @@ def polygons_path(geoms: Sequence, fill_rule: Qt.FillRule = Qt.FillRule.OddEvenF
     return path
 
 
-def sample_segments(segments: Sequence[Segment], step_m: float = 0.05
+def sample_segments(segments: Sequence[Segment], step_m: float = 0.05,
+                    cache: dict | None = None
                     ) -> tuple[np.ndarray, np.ndarray, np.ndarray, np.ndarray]:
     """Poses along a path for drawing and hover: ``(xy, station_m, seg_index, direction)``.
 
     Lines get their two ends, arcs a point every ``step_m`` (at most every 3 degrees);
-    pivots one point.
+    pivots one point. ``cache`` (a dict the caller keeps) holds each segment's points by
+    segment value, so a drag samples only the segments that moved.
     """
     xy, st, idx, dirs = [], [], [], []
     s0 = 0.0
     for i, seg in enumerate(segments):
-        if seg.kind == "arc":
-            n = max(2, int(math.ceil(max(seg.length_m / step_m,
-                                         abs(seg.turn_rad) / math.radians(3.0)))) + 1)
-        elif seg.kind == "line":
-            n = max(2, int(math.ceil(seg.length_m / 0.5)) + 1)
-        else:
-            n = 1
-        f = np.linspace(0.0, 1.0, n)
-        p = seg.poses_at_fraction(f)
-        xy.append(p[:, :2])
-        st.append(s0 + f * seg.length_m)
+        hit = cache.get((seg, step_m)) if cache is not None else None
+        if hit is None:
+            if seg.kind == "arc":
+                n = max(2, int(math.ceil(max(seg.length_m / step_m,
+                                             abs(seg.turn_rad) / math.radians(3.0)))) + 1)
+            elif seg.kind == "line":
+                n = max(2, int(math.ceil(seg.length_m / 0.5)) + 1)
+            else:
+                n = 1
+            f = np.linspace(0.0, 1.0, n)
+            hit = (seg.poses_at_fraction(f)[:, :2], f * seg.length_m)
+            if cache is not None:
+                cache[(seg, step_m)] = hit
+        pts, ds = hit
+        n = len(pts)
+        xy.append(pts)
+        st.append(s0 + ds)
         idx.append(np.full(n, i))
         dirs.append(np.full(n, seg.direction))
         s0 += seg.length_m
@@ -143,20 +151,13 @@ def sample_segments(segments: Sequence[Segment], step_m: float = 0.05
 def _broken_line(xy: np.ndarray, dirs: np.ndarray, idx: np.ndarray, want: int
                  ) -> tuple[np.ndarray, np.ndarray]:
     """x, y arrays with NaN breaks keeping only the pieces travelled in direction ``want``."""
-    xs: list[float] = []
-    ys: list[float] = []
-    prev = None
-    for k in range(len(xy)):
-        if dirs[k] != want:
-            if prev is not None:
-                xs.append(np.nan)
-                ys.append(np.nan)
-                prev = None
-            continue
-        xs.append(xy[k, 0])
-        ys.append(xy[k, 1])
-        prev = idx[k]
-    return np.asarray(xs, dtype=float), np.asarray(ys, dtype=float)
+    on = np.asarray(dirs) == want
+    # A break (NaN) stands where a run travelled in ``want`` gives way to the other direction.
+    brk = np.zeros(len(on), dtype=bool)
+    brk[1:] = ~on[1:] & on[:-1]
+    keep = on | brk
+    pts = np.where(on[:, None], np.asarray(xy, dtype=float).reshape(-1, 2), np.nan)[keep]
+    return pts[:, 0].copy(), pts[:, 1].copy()
 
 
 def footprint_outlines(footprint: Sequence[tuple[float, float]], poses: np.ndarray
@@ -185,6 +186,19 @@ def _nice_length(target: float) -> float:
 
 def _ignore_click(ev) -> None:
     ev.ignore()
+
+
+def _set_text(item: pg.TextItem, text: str) -> None:
+    """Set a label's text only when it changed (each set re-lays out its rich text)."""
+    if getattr(item, "_swathe_text", None) != text:
+        item.setText(text)
+        item._swathe_text = text
+
+
+_WAYPOINT_BRUSH = pg.mkBrush("w")
+_SELECTED_BRUSH = pg.mkBrush(ORANGE)
+_FIXED_BRUSH = pg.mkBrush(PURPLE)  # a heading the user fixed
+_FREE_BRUSH = pg.mkBrush(QColor(255, 255, 255, 230))  # the planner's choice, to grab
 
 
 class PlanViewBox(pg.ViewBox):
@@ -233,6 +247,8 @@ class PlanCanvas(QWidget):
         self.last_hover: dict | None = None
         self._sweep_cache: dict = {}
         self._sweep_cache_key: object = None
+        self._sample_cache: dict = {}
+        self._drawn: dict = {}  # what some items show now, to skip redrawing the same
 
         self.view = PlanViewBox(self)
         self.plot = pg.PlotWidget(viewBox=self.view, background="w")
@@ -295,6 +311,7 @@ class PlanCanvas(QWidget):
         self.obstacles_item.setBrush(QBrush(QColor(OBSTACLE_FILL), Qt.BrushStyle.Dense4Pattern))
         self.obstacles_item.setZValue(0)
         add(self.obstacles_item)
+        # The floor plan does not change during a drag: its items repaint from cached pixels.
         for it in (self.walls_item, self.obstacles_item):
             it.setCacheMode(QGraphicsItem.CacheMode.DeviceCoordinateCache)
         self.doors_item = pg.PlotDataItem(pen=pg.mkPen(ORANGE, width=4), connect="finite")
@@ -304,12 +321,15 @@ class PlanCanvas(QWidget):
                                              brush=pg.mkBrush(ORANGE))
         self.jambs_item.setZValue(1)
         add(self.jambs_item)
+        for it in (self.doors_item, self.jambs_item):
+            it.setCacheMode(QGraphicsItem.CacheMode.DeviceCoordinateCache)
         self.plan_labels: list[pg.TextItem] = []
 
         self.others_item = pg.PlotDataItem(pen=pg.mkPen("#8C8C8C", width=1.5,
                                                         style=Qt.PenStyle.DashDotLine),
                                            connect="finite")
         self.others_item.setZValue(2)
+        self.others_item.setCacheMode(QGraphicsItem.CacheMode.DeviceCoordinateCache)
         add(self.others_item)
         self.outlines_item = QGraphicsPathItem()
         self.outlines_item.setPen(_pen(GREEN, 1.0))
@@ -479,24 +499,19 @@ class PlanCanvas(QWidget):
         self.refresh_routes()
 
     def refresh_routes(self) -> None:
-        """Redraw every route, the current one with its band, outlines and violations."""
+        """Redraw every route, the current one with its band, outlines and violations.
+
+        Called on every drag step, so each part is redrawn only when what it shows changed
+        (the other routes, labels, violations), and unchanged segments come from caches.
+        """
         doc = self.doc
         cur = doc.route()
-        # Other routes: faint dash-dot paths so the user sees what else shares the floor.
-        ox, oy = [], []
-        for i, r in enumerate(doc.project.routes):
-            if i == doc.current_route:
-                continue
-            plan = doc.plan(r.name)
-            if plan is None or not plan.segments:
-                pts = np.array([[w.x, w.y] for w in r.waypoints])
-            else:
-                pts = sample_segments(plan.segments, 0.15)[0]
-            ox += list(pts[:, 0]) + [np.nan]
-            oy += list(pts[:, 1]) + [np.nan]
-        self.others_item.setData(np.asarray(ox, float), np.asarray(oy, float))
-        self.pending_item.setData([self._pending[0]] if self._pending else [],
-                                  [self._pending[1]] if self._pending else [])
+        self._draw_other_routes()
+        pending = self._pending
+        if pending != self._drawn.get("pending"):
+            self._drawn["pending"] = pending
+            self.pending_item.setData([pending[0]] if pending else [],
+                                      [pending[1]] if pending else [])
         if cur is None:
             for it in (self.path_fwd, self.path_rev, self.chords_item, self.waypoints_item,
                        self.handles_item, self.handles_line, self.violations_item):
@@ -506,26 +521,52 @@ class PlanCanvas(QWidget):
             self._labels(self.wp_labels, 0, BLACK, None, (0, 0))
             self._labels(self.violation_labels, 0, BLACK, None, (0, 0))
             self._samples = sample_segments([])
+            self._drawn.pop("violations", None)
             return
         plan = doc.plan(cur.name)
         segs = list(plan.segments) if plan is not None else []
-        self._samples = sample_segments(segs)
+        self._samples = sample_segments(segs, cache=self._sample_cache)
+        if len(self._sample_cache) > 4 * len(segs) + 64:  # forget segments dragged away
+            live = {(g, 0.05) for g in segs}
+            self._sample_cache = {k: v for k, v in self._sample_cache.items() if k in live}
         xy, _st, idx, dirs = self._samples
         self.path_fwd.setData(*_broken_line(xy, dirs, idx, 1))
         self.path_rev.setData(*_broken_line(xy, dirs, idx, -1))
         wx = np.array([w.x for w in cur.waypoints])
         wy = np.array([w.y for w in cur.waypoints])
         self.chords_item.setData(wx, wy)
-        brushes = [pg.mkBrush(ORANGE if i == self.selected else "w") for i in range(len(wx))]
-        sizes = [16 if i == self.selected else 13 for i in range(len(wx))]
-        self.waypoints_item.setData(wx, wy, brush=brushes, size=sizes)
+        sel = np.arange(len(wx)) == self.selected
+        self.waypoints_item.setData(wx, wy, brush=[_SELECTED_BRUSH if s else _WAYPOINT_BRUSH
+                                                   for s in sel],
+                                    size=np.where(sel, 16, 13))
         labels = self._labels(self.wp_labels, len(wx), BLACK, None, (-0.35, 1.15))
         for k, t in enumerate(labels):
-            t.setText(str(k + 1))
+            _set_text(t, str(k + 1))
             t.setPos(wx[k], wy[k])
         self._draw_handles()
         self._draw_band_and_outlines(segs)
         self._draw_violations(cur.name)
+
+    def _draw_other_routes(self) -> None:
+        """Other routes: faint dash-dot paths so the user sees what else shares the floor."""
+        doc = self.doc
+        others = [(r, doc.plan(r.name)) for i, r in enumerate(doc.project.routes)
+                  if i != doc.current_route]
+        # The key holds the objects themselves: compared by identity, never a reused id().
+        key = [x for pair in others for x in pair]
+        was = self._drawn.get("others")
+        if was is not None and len(was) == len(key) and all(a is b for a, b in zip(was, key)):
+            return  # dragging the current route leaves the others as they are
+        self._drawn["others"] = key
+        ox, oy = [], []
+        for r, plan in others:
+            if plan is None or not plan.segments:
+                pts = np.array([[w.x, w.y] for w in r.waypoints])
+            else:
+                pts = sample_segments(plan.segments, 0.15)[0]
+            ox += list(pts[:, 0]) + [np.nan]
+            oy += list(pts[:, 1]) + [np.nan]
+        self.others_item.setData(np.asarray(ox, float), np.asarray(oy, float))
 
     def _draw_handles(self) -> None:
         cur = self.doc.route()
@@ -541,11 +582,14 @@ class PlanCanvas(QWidget):
             ex, ey = w.x + L * math.cos(h), w.y + L * math.sin(h)
             hx.append(ex)
             hy.append(ey)
-            brushes.append(pg.mkBrush(PURPLE) if w.heading_deg is not None
-                           else pg.mkBrush(QColor(255, 255, 255, 230)))
+            brushes.append(_FIXED_BRUSH if w.heading_deg is not None else _FREE_BRUSH)
             if w.heading_deg is not None:
                 lx += [w.x, ex, np.nan]
                 ly += [w.y, ey, np.nan]
+        key = (hx, hy, lx, ly, [b is _FIXED_BRUSH for b in brushes])
+        if key == self._drawn.get("handles"):
+            return
+        self._drawn["handles"] = key
         self.handles_item.setData(hx, hy, brush=brushes)
         self.handles_line.setData(np.asarray(lx, float), np.asarray(ly, float))
 
@@ -591,15 +635,19 @@ class PlanCanvas(QWidget):
         if self._sweep_cache_key != fp:
             self._sweep_cache = {}
             self._sweep_cache_key = fp
-        cur = self.doc.route()
-        chk = self.doc.check(cur.name) if cur is not None else None
-        checked = getattr(chk, "pieces", ()) or ()
         old = self._sweep_cache
         new: dict = {}
         path = QPainterPath()
+        checked = None
         for k, seg in enumerate(segs):
             piece = old.get(seg)
             if piece is None:
+                if checked is None:
+                    # The check swept these segments already; ask it only on a cache miss
+                    # (its pieces are unioned on request).
+                    cur = self.doc.route()
+                    chk = self.doc.check(cur.name) if cur is not None else None
+                    checked = getattr(chk, "pieces", ()) or ()
                 raw = checked[k] if len(checked) == len(segs) else swept_segment(fp, seg)
                 piece = polygons_path([shapely.orient_polygons(raw)])
             new[seg] = piece
@@ -611,6 +659,12 @@ class PlanCanvas(QWidget):
     def _draw_violations(self, name: str) -> None:
         chk = self.doc.check(name)
         vs = list(getattr(chk, "violations", []) or []) if chk is not None else []
+        # A drag step that leaves the violations as they were (the usual case) and the same
+        # zoom redraws nothing here.
+        key = (tuple((v.kind, v.x, v.y, v.amount_m) for v in vs), self.px_m())
+        if key == self._drawn.get("violations"):
+            return
+        self._drawn["violations"] = key
         spots = [{"pos": (v.x, v.y), "symbol": VIOLATION_SYMBOLS.get(v.kind, "o"),
                   "data": k} for k, v in enumerate(vs)]
         self.violations_item.setData(spots)
@@ -621,7 +675,8 @@ class PlanCanvas(QWidget):
         placed: list[tuple[float, float, float, float]] = []
         for t, v in zip(labels, shown):
             word = VIOLATION_WORDS.get(v.kind, v.kind)
-            t.setText(f"{word} {v.amount_m * 1000:.0f} mm" if v.kind != "infeasible" else word)
+            _set_text(t, f"{word} {v.amount_m * 1000:.0f} mm" if v.kind != "infeasible"
+                      else word)
             t.setPos(v.x, v.y)
             # Skip a label that would cover one already placed; its marker stays, and the
             # results panel lists it.
@@ -786,6 +841,7 @@ class PlanCanvas(QWidget):
             self.doc.set_waypoint_heading(self.doc.current_route, i, round(h, 2), drag=token)
         if ev.isFinish():
             self._drag = None
+            self.doc.finish_drag()
         return True
 
     def delete_selected(self) -> None:

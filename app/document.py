@@ -149,8 +149,10 @@ class Document(QObject):
     currentRouteChanged = Signal(int)
     fileStateChanged = Signal()
     # After every edit, undo or redo, at once (the canvas and autosave listen). During a drag
-    # resultsChanged follows at most every LIVE_RESULTS_MS, so the panels and plots do not
-    # hold back the canvas; the last drag step always gets its resultsChanged.
+    # resultsChanged waits until the pointer has rested LIVE_RESULTS_MS or the drag ends
+    # (finish_drag), so the panels, plots and schedule (tens of milliseconds each) never
+    # hold back the canvas inside a 60 Hz frame; the last drag step always gets its
+    # resultsChanged.
     edited = Signal()
     LIVE_RESULTS_MS = 150
 
@@ -322,9 +324,9 @@ class Document(QObject):
     def _apply(self, project: Project, what: frozenset[str], current: int,
                live: bool = False) -> None:
         self._project = project
-        live = {r.name for r in project.routes}
+        names = {r.name for r in project.routes}
         for cache in (self._plans, self._checks, self._schedules, self._checkers, self._errors):
-            for k in [k for k in cache if k not in live]:
+            for k in [k for k in cache if k not in names]:
                 del cache[k]
         if "floorplan" in what:
             self.floorplanChanged.emit()
@@ -335,9 +337,19 @@ class Document(QObject):
         self.set_current_route(current)
         self.edited.emit()
         if live:
-            if not self._results_timer.isActive():
-                self._results_timer.start()
+            self._results_timer.start()  # restarts: the panels follow once the drag rests
         else:
+            self._results_timer.stop()
+            self.resultsChanged.emit()
+
+    @property
+    def results_pending(self) -> bool:
+        """True while a drag's resultsChanged is being held back (see :meth:`finish_drag`)."""
+        return self._results_timer.isActive()
+
+    def finish_drag(self) -> None:
+        """The drag ended: send the held-back resultsChanged now rather than after a rest."""
+        if self._results_timer.isActive():
             self._results_timer.stop()
             self.resultsChanged.emit()
 

@@ -96,6 +96,32 @@ def test_drag_moves_merge_into_one_step(doc):
     assert doc.project.routes[1].waypoints[1].x == 5.0
 
 
+def test_drag_holds_panel_results_until_release_and_plain_edits_do_not(doc, qtbot):
+    # Source: Qt QTimer documentation (start() on an active timer restarts it), which is how
+    # the panels' refresh waits for the drag to rest; common practice: a one-shot edit shows
+    # its results at once.
+    from app.document import new_drag_token
+
+    seen: list[int] = []
+    doc.resultsChanged.connect(lambda: seen.append(len(seen)))
+    token = new_drag_token()
+    for k in range(5):
+        doc.move_waypoint(1, 1, 5.0 + 0.05 * k, 1.0, drag=token)
+    assert seen == [] and doc.results_pending
+    doc.finish_drag()
+    assert len(seen) == 1 and not doc.results_pending
+    doc.finish_drag()  # nothing held back any more: no second signal
+    assert len(seen) == 1
+    # A drag that stops without a release still gets its results once it has rested.
+    doc.move_waypoint(1, 1, 4.0, 1.0, drag=new_drag_token())
+    qtbot.waitUntil(lambda: len(seen) == 2, timeout=2000)
+    # A plain edit (not a drag step) and undo report their results straight away.
+    doc.move_waypoint(1, 1, 4.5, 1.0)
+    assert len(seen) == 3 and not doc.results_pending
+    doc.undo_stack.undo()
+    assert len(seen) == 4
+
+
 def test_delete_refuses_below_two_waypoints(doc):
     # Source: kinematics.project.route_from_dict (a route file needs at least 2 waypoints).
     assert doc.delete_waypoint(1, 1)
