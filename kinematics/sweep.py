@@ -352,7 +352,7 @@ def segment_parts(footprint: FootprintLike, seg: Segment,
         return _polys(translation_parts(placed0, v, convex), convex), 0.0
     end = seg.end
     v = (end[0] - seg.start[0], end[1] - seg.start[1])
-    if 0.0 < abs(seg.turn_rad) * r_far <= _TINY_TURN_SHARE * tol and seg.length_m > 1e-12:
+    if 1e-12 < abs(seg.turn_rad) * r_far <= _TINY_TURN_SHARE * tol and seg.length_m > 1e-12:
         # A body turning this little stays within r_far * |turn| of its start orientation
         # translated along the line; the circular stand-in would pivot about a centre so far
         # away that its coordinates lose more than the tolerance to rounding.

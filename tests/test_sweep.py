@@ -121,6 +121,9 @@ def test_reverse_arc_sweeps_backwards():
     arc((0.0, 0.0, 0.0), 0.05, 3.0),
     pivot((1.0, 1.0, 0.5), 4.0),
     holonomic_line((0.0, 0.0, 0.0), (2.0, 1.0), 1.0),
+    # Barely turning: a circular stand-in would pivot about a centre ~1e9 m away.
+    holonomic_line((0.0, 0.0, 1.0), (0.0, 2.0), 1e-9),
+    holonomic_line((0.0, 0.0, 1.0), (1.5, 0.5), 1e-6),
 ])
 def test_contains_dense_placements_and_is_tight(footprint, seg):
     # Source: shapely.covers / shapely.STRtree.query_nearest on densely placed footprints
