@@ -139,7 +139,8 @@ def run_in_background(fn: Callable[[CancelToken], Any], *,
                       error_cb: Callable[[str], None] | None = None,
                       cancelled_cb: Callable[[], None] | None = None,
                       parent: QObject | None = None,
-                      pool: QThreadPool | None = None) -> Job:
+                      pool: QThreadPool | None = None,
+                      before_start: Callable[[Job], None] | None = None) -> Job:
     """Run ``fn(token)`` on the thread pool; callbacks run on the GUI thread.
 
     Parameters
@@ -160,6 +161,9 @@ def run_in_background(fn: Callable[[CancelToken], Any], *,
         Owner of the returned :class:`Job` (the job is also kept alive until it finishes).
     pool : QThreadPool, optional
         Default: the global pool.
+    before_start : callable, optional
+        Called with the :class:`Job` before ``fn`` starts: connect anything else to the job
+        here, since a quick ``fn`` can finish before the caller gets the job back.
 
     Returns
     -------
@@ -179,6 +183,8 @@ def run_in_background(fn: Callable[[CancelToken], Any], *,
     job.token._progress = job.progress.emit
     _live_jobs.add(job)
     job.finished.connect(lambda: _live_jobs.discard(job), q)
+    if before_start is not None:
+        before_start(job)
     (pool or QThreadPool.globalInstance()).start(_Runner(fn, job))
     return job
 
@@ -199,11 +205,18 @@ class ProgressDialog(QProgressDialog):
         self.job: Job | None = None
 
     def attach(self, job: Job) -> None:
+        """Follow ``job``: its progress, Cancel, and closing when it ends.
+
+        Attach before the job starts (:meth:`run` does): a job that already finished is
+        closed for at once, but its progress signals are gone.
+        """
         self.job = job
         self.canceled.connect(job.cancel)
         job.progress.connect(self._progress)
         job.finished.connect(self._finish)
         self.setValue(0)
+        if not job.running:
+            self._finish()
 
     def _progress(self, fraction: float, text: str) -> None:
         self.setValue(int(max(0.0, min(1.0, fraction)) * 1000))
@@ -217,9 +230,14 @@ class ProgressDialog(QProgressDialog):
     @classmethod
     def run(cls, parent: QWidget | None, title: str, fn: Callable[[CancelToken], Any],
             done_cb: Callable[[Any], None] | None = None,
-            error_cb: Callable[[str], None] | None = None) -> ProgressDialog:
-        """Start ``fn`` in the background and show a dialog with its progress and Cancel."""
+            error_cb: Callable[[str], None] | None = None,
+            pool: QThreadPool | None = None) -> ProgressDialog:
+        """Start ``fn`` in the background and show a dialog with its progress and Cancel.
+
+        The dialog is attached before ``fn`` starts, so even a job that ends at once closes
+        it (it would otherwise pop up after the minimum duration and stay).
+        """
         dlg = cls(title, parent)
-        job = run_in_background(fn, done_cb=done_cb, error_cb=error_cb, parent=dlg)
-        dlg.attach(job)
+        run_in_background(fn, done_cb=done_cb, error_cb=error_cb, parent=dlg, pool=pool,
+                          before_start=dlg.attach)
         return dlg

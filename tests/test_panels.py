@@ -276,6 +276,53 @@ def test_worker_result_and_errors_come_back_as_one_line(qapp, qtbot):
     assert "\n" not in error_text(RuntimeError("one\ntwo"))
 
 
+class _AtOncePool:
+    """A thread pool stand-in that runs the job inside ``start()``: the fastest job there is."""
+
+    def start(self, runnable) -> None:
+        runnable.run()
+
+
+def test_progress_dialog_closes_for_a_job_that_ends_at_once(qapp, qtbot):
+    # Source: Qt QProgressDialog documentation (the dialog shows itself after
+    # minimumDuration unless reset; setValue(maximum) with autoReset resets it).
+    from app.workers import ProgressDialog
+
+    got = []
+    dlg = ProgressDialog.run(None, "Quick job", lambda tok: 7, done_cb=got.append,
+                             pool=_AtOncePool())
+    qtbot.waitUntil(lambda: got == [7], timeout=3000)
+    qtbot.wait(dlg.minimumDuration() + 150)  # past the moment it would pop up
+    assert not dlg.isVisible()
+    assert dlg.job is not None and not dlg.job.running
+    dlg.deleteLater()
+
+
+def test_progress_dialog_follows_a_real_job_and_cancel_stops_it(qapp, qtbot):
+    # Source: Qt QProgressDialog::canceled documentation (the Cancel button emits canceled).
+    from app.workers import ProgressDialog
+
+    go = threading.Event()
+
+    def slow(tok):
+        tok.report(0.5, "half way")
+        go.wait(5.0)
+        tok.raise_if_cancelled()
+        return 1
+
+    dlg = ProgressDialog.run(None, "Slow job", slow)
+    qtbot.waitUntil(lambda: dlg.value() == 500, timeout=3000)
+    assert dlg.labelText() == "half way"
+    from PySide6.QtWidgets import QPushButton
+
+    [b for b in dlg.findChildren(QPushButton) if b.text() == "Cancel"][0].click()
+    go.set()
+    qtbot.waitUntil(lambda: not dlg.job.running, timeout=3000)
+    assert dlg.job.token.cancelled and dlg.job.result is None
+    assert not dlg.isVisible()
+    dlg.deleteLater()
+
+
 # -- schedule table ----------------------------------------------------------------------------
 def test_schedule_table_exports_equal_the_core(doc, qtbot, tmp_path):
     from kinematics.jsonio import dumps
