@@ -201,6 +201,13 @@ class MainWindow(QMainWindow):
         self.act_export = self._act("&Export schedule...", self._menu_export,
                                     QKeySequence("Ctrl+E"),
                                     "Write the wheel-rate schedule of the current route")
+        self.act_report = self._act("Export &report (PDF or PNG)...", self._menu_report,
+                                    QKeySequence("Ctrl+Shift+E"),
+                                    "A one-page report of every route, with the sizing "
+                                    "answers found for the current one")
+        self.act_picture = self._act("Export plan &picture (PNG)...", self._menu_picture, None,
+                                     "A picture of the plan, the routes, their swept bands "
+                                     "and what is in the way")
         self.act_quit = self._act("&Quit", self.close, K.Quit)
         self.act_undo = self.doc.undo_stack.createUndoAction(self, "&Undo")
         self.act_undo.setShortcut(K.Undo)
@@ -240,6 +247,8 @@ class MainWindow(QMainWindow):
             f.addAction(a)
         f.addSeparator()
         f.addAction(self.act_export)
+        f.addAction(self.act_report)
+        f.addAction(self.act_picture)
         f.addSeparator()
         f.addAction(self.act_quit)
         e = mb.addMenu("&Edit")
@@ -676,6 +685,82 @@ class MainWindow(QMainWindow):
             return False
         self.statusBar().showMessage(f"Schedule of {r.name!r} written to {p}", 6000)
         return True
+
+    def current_sizing(self) -> dict | None:
+        """The results panel's sizing answers if they still hold for what is open."""
+        panel = self.results_panel
+        return panel.current_sizing() if hasattr(panel, "current_sizing") else None
+
+    def export_report(self, path: str | Path) -> bool:
+        """Write the one-page report (PDF or PNG by the suffix) of every route.
+
+        The sizing answers the results panel holds for the current route go into the report
+        (answers made stale by an edit do not).
+        """
+        from .report import export_report
+
+        p = Path(path)
+        QApplication.setOverrideCursor(Qt.CursorShape.WaitCursor)
+        try:
+            export_report(self.doc.project, p, sizing=self.current_sizing())
+        except SwatheInputError as exc:
+            self.show_error("Swathe could not write the report", exc.message)
+            return False
+        except OSError as exc:
+            self.show_error("Swathe could not write the report", f"{p}: {exc.strerror or exc}")
+            return False
+        finally:
+            QApplication.restoreOverrideCursor()
+        self.statusBar().showMessage(f"Report written to {p}", 6000)
+        return True
+
+    def export_picture(self, path: str | Path) -> bool:
+        """Write the plan picture as ``swathe render PROJECT -o FILE.png`` does."""
+        from .render import render_project_png
+
+        p = Path(path)
+        if p.suffix.lower() != ".png":
+            self.show_error("Swathe could not write the picture",
+                            f"{p}: expected a file name ending in .png")
+            return False
+        QApplication.setOverrideCursor(Qt.CursorShape.WaitCursor)
+        try:
+            render_project_png(self.doc.project, p)
+        except SwatheInputError as exc:
+            self.show_error("Swathe could not write the picture", exc.message)
+            return False
+        except OSError as exc:
+            self.show_error("Swathe could not write the picture", f"{p}: {exc.strerror or exc}")
+            return False
+        finally:
+            QApplication.restoreOverrideCursor()
+        self.statusBar().showMessage(f"Picture written to {p}", 6000)
+        return True
+
+    def _export_base(self) -> Path:
+        name = self.doc.path.name if self.doc.path else "untitled.swathe.json"
+        for end in (".swathe.json", ".json"):
+            if name.endswith(end):
+                name = name[: -len(end)]
+                break
+        return Path(self._start_dir()) / name
+
+    def _menu_report(self) -> None:
+        path, chosen = QFileDialog.getSaveFileName(
+            self, "Export report", str(self._export_base()) + ".report.pdf",
+            "PDF (*.pdf);;PNG picture of the page (*.png)")
+        if path:
+            if Path(path).suffix.lower() not in (".pdf", ".png"):
+                path += ".png" if chosen.startswith("PNG") else ".pdf"
+            self.export_report(path)
+
+    def _menu_picture(self) -> None:
+        path, _ = QFileDialog.getSaveFileName(self, "Export plan picture",
+                                              str(self._export_base()) + ".png", "PNG (*.png)")
+        if path:
+            if Path(path).suffix.lower() != ".png":
+                path += ".png"
+            self.export_picture(path)
 
     def _start_dir(self) -> str:
         return str(self.doc.path.parent) if self.doc.path else str(Path.home())

@@ -433,3 +433,65 @@ def test_drag_repaints_match_a_full_repaint_and_panels_follow_on_release(make_wi
     # Antialiased edges may differ by a few levels between a partial and a full paint.
     differ = (abs(shown - fresh).max(axis=2) > 40).sum()
     assert differ <= 0.0005 * shown.shape[0] * shown.shape[1]
+
+
+def _file_action(win, text_start: str):
+    file_menu = [a.menu() for a in win.menuBar().actions() if a.text() == "&File"][0]
+    return [a for a in file_menu.actions() if a.text().startswith(text_start)][0]
+
+
+def test_file_menu_exports_report_with_the_panels_sizing(win, qtbot, tmp_path, monkeypatch):
+    # Source: ISO 32000-1:2008 clause 7.5.2 (a PDF begins "%PDF-1."); PNG specification
+    # (ISO/IEC 15948) section 5.2 (the 8-byte signature).
+    from PySide6.QtWidgets import QFileDialog
+
+    import app.report
+
+    panel = win.results_panel
+    answers = {"route": win.doc.route().name,
+               "widest": {"dimension": "width", "current_m": 0.6, "max_m": 0.75,
+                          "scale": 1.25, "bounded": True},
+               "doors": [{"label": "D-1", "door": 0, "width_needed_m": 0.71, "width_m": 2.0}]}
+    panel.sizing_compute = lambda project, name, token: answers
+    with qtbot.waitSignal(panel.sizingFinished, timeout=5000):
+        panel.start_sizing()
+    calls = []
+    real = app.report.export_report
+
+    def recording(project, path, route_name=None, sizing=None):
+        calls.append(sizing)
+        real(project, path, route_name=route_name, sizing=sizing)
+
+    monkeypatch.setattr(app.report, "export_report", recording)
+    out = tmp_path / "page"
+    monkeypatch.setattr(QFileDialog, "getSaveFileName",
+                        staticmethod(lambda *a, **k: (str(out), "PDF (*.pdf)")))
+    _file_action(win, "Export &report").trigger()
+    assert (tmp_path / "page.pdf").read_bytes().startswith(b"%PDF-1.")
+    assert calls == [answers]
+    # An edit makes the answers stale: the next report goes without them.
+    win.doc.move_waypoint(0, 1, 10.5, 0.6)
+    assert win.export_report(tmp_path / "page.png")
+    assert (tmp_path / "page.png").read_bytes()[:8] == b"\x89PNG\r\n\x1a\n"
+    assert calls[-1] is None
+    assert not win.export_report(tmp_path / "page.txt")
+    assert "page.txt" in win.error_box.text()
+    win.error_box.close()
+
+
+def test_file_menu_exports_the_plan_picture_as_the_cli_renders_it(win, tmp_path, monkeypatch):
+    # Source: shared/contract.md (`swathe render PROJECT -o FILE.png`): the window's picture
+    # is the same picture, pixel for pixel.
+    from PySide6.QtGui import QImage
+    from PySide6.QtWidgets import QFileDialog
+
+    from app.cli import main
+
+    out = tmp_path / "plan.png"
+    monkeypatch.setattr(QFileDialog, "getSaveFileName",
+                        staticmethod(lambda *a, **k: (str(out), "PNG (*.png)")))
+    _file_action(win, "Export plan &picture").trigger()
+    assert main(["render", str(win.doc.path), "-o", str(tmp_path / "cli.png")]) == 0
+    a, b = QImage(str(out)), QImage(str(tmp_path / "cli.png"))
+    assert not a.isNull() and a.size() == b.size()
+    assert a == b
