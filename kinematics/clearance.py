@@ -13,8 +13,11 @@ shape, or the overlap's largest inscribed circle's diameter, whichever is larger
 Violations are grouped into contiguous stretches per solid; the station where a stretch
 starts is found by bisection on the swept region of the segment's first part (monotone in
 its length), to within the tolerance along the path of the farthest footprint vertex.
-:class:`RouteChecker` keeps the result of every unchanged segment (segments are hashable
-values), so the interactive canvas re-sweeps only what moved.
+:class:`RouteChecker` keeps the result of every unchanged segment (keyed by its exact
+values, so a warm checker answers bit for bit as a fresh one), so the interactive canvas
+re-sweeps only what moved. A segment with no solid within the margin measures its distance
+to the nearest solid only when the bounding box of its swept region comes nearer a solid than
+the route's least clearance found so far.
 """
 
 from __future__ import annotations
@@ -48,11 +51,6 @@ DOOR_BOX_M = 1.0
 DOOR_BOX_ALONG_M = 0.5
 #: Placements sampled to name the footprint part nearest a solid.
 _PART_SAMPLES = 48
-#: Segments whose poses, lengths and turns agree to this (metres, radians) share cached
-#: results. A planner rebuilds every segment from the previous end pose, so segments after a
-#: moved waypoint come back equal only to rounding; the swept region of such a twin differs by
-#: ~1e-9 m, far inside the slack the sweep keeps below its tolerance.
-CACHE_QUANTUM = 1e-9
 
 CAUTION = ("Planning aid only, not a safety certification: verify on site and keep the "
            "clearances that ISO 3691-4, ANSI/ITSDF B56.5 and local fire and building codes "
@@ -367,30 +365,20 @@ class RouteChecker:
         self.cache_size = int(cache_size)
         self._cache: OrderedDict[tuple, _SegmentResult] = OrderedDict()
         self._near: dict[tuple, float] = {}
-        self._keys: dict[int, tuple[Segment, tuple]] = {}
         self.swept_count = 0  # segments swept (not taken from the cache), for tests
 
     # -- per segment ----------------------------------------------------------------------
     @staticmethod
     def cache_key(seg: Segment) -> tuple:
-        """The segment's values on a 1e-9 grid (see ``CACHE_QUANTUM``)."""
-        q = 1.0 / CACHE_QUANTUM
-        c = None if seg.course_rad is None else round(seg.course_rad * q)
+        """The segment's values, exactly: a result is reused only for the very same segment,
+        so a warm checker answers bit for bit as a fresh one. The planner starts every piece
+        from a pose computed from the waypoints (:meth:`kinematics.planner._Builder.anchor`),
+        so segments away from an edit come back exactly equal."""
         x, y, th = seg.start
-        return (seg.kind, seg.direction, round(x * q), round(y * q), round(th * q),
-                round(seg.length_m * q), round(seg.turn_rad * q), c)
+        return (seg.kind, seg.direction, x, y, th, seg.length_m, seg.turn_rad, seg.course_rad)
 
     def segment_result(self, seg: Segment) -> _SegmentResult:
-        # A planner that reuses unchanged segments hands back the same objects: their key is
-        # remembered by identity (the entry holds the segment, so its id is not reused).
-        known = self._keys.get(id(seg))
-        if known is not None and known[0] is seg:
-            key = known[1]
-        else:
-            key = self.cache_key(seg)
-            if len(self._keys) > 2 * self.cache_size:
-                self._keys.clear()
-            self._keys[id(seg)] = (seg, key)
+        key = self.cache_key(seg)
         hit = self._cache.get(key)
         if hit is not None:
             self._cache.move_to_end(key)

@@ -253,3 +253,32 @@ def test_incremental_recheck_equals_full_check():
     full = check_route(plan2, CHASSIS, idx, route_name="r")
     assert json.loads(dumps(inc.to_dict())) == json.loads(dumps(full.to_dict()))
     assert first.to_dict() != full.to_dict()
+
+
+_NUDGE = st.tuples(st.integers(1, 5), st.floats(-0.4, 0.4), st.floats(-0.4, 0.4))
+
+
+@settings(max_examples=25, deadline=None)
+@given(moves=st.lists(_NUDGE, min_size=1, max_size=5), radius=st.sampled_from([0.0, 1.0]))
+def test_warm_planner_and_checker_give_the_fresh_check_after_every_move(moves, radius):
+    from kinematics.planner import RoutePlanner
+
+    # Source: common practice - caches must not change the answer: after each move of one
+    # waypoint, the check JSON of the warm RoutePlanner + RouteChecker equals that of a
+    # fresh plan_route + check_route, with collisions, thin clearances and a door in play.
+    fp = FloorPlan(walls=(Wall(((-1, 1.1), (20, 1.1)), 0.1), Wall(((-1, -1.1), (20, -1.1)), 0.1)),
+                   obstacles=(Obstacle(((6, 0.3), (6.4, 0.3), (6.4, 0.9), (6, 0.9)), "bin"),
+                              Obstacle(((11, -0.9), (11.5, -0.9), (11.5, -0.5), (11, -0.5)),
+                                       "cart")),
+                   doors=(Door((9.0, -1.05), (9.0, 1.05), "D-9"),))
+    idx = ObstacleIndex(fp)
+    wps = [Waypoint(0, 0), Waypoint(3, 0.2), Waypoint(6, -0.2), Waypoint(9, 0.1),
+           Waypoint(12, -0.2), Waypoint(15, 0.2), Waypoint(18, 0.0)]
+    planner, checker = RoutePlanner(), RouteChecker(CHASSIS, idx)
+    for step, (k, dx, dy) in enumerate([(0, 0.0, 0.0), *moves]):
+        wps[k] = Waypoint(wps[k].x + dx, wps[k].y + dy)
+        route = Route("r", tuple(wps), turn_radius_m=radius)
+        warm = checker.check(planner.plan(route, CHASSIS), "r", route=route)
+        fresh = check_route(plan_route(route, CHASSIS), CHASSIS, idx, route_name="r",
+                            route=route)
+        assert dumps(warm.to_dict()) == dumps(fresh.to_dict()), step

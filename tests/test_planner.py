@@ -390,3 +390,71 @@ def test_plan_project_plans_every_route_in_order():
     assert [p.name for p in plans] == ["a", "b"]
     assert [p.length_m for p in plans] == pytest.approx([1.0, 2.0])
     assert path_length(plans[1].segments) == pytest.approx(2.0)
+
+
+# -- incremental planning -------------------------------------------------------------------
+@st.composite
+def edit_sequences(draw):
+    """A sketched route and a few edits of one waypoint each: moved a little, moved far, or
+    given / cleared a heading, as a drag or a heading edit in the window makes them."""
+    wps = draw(waypoint_lists())
+    if len(wps) < 2:
+        wps = [*wps, _wp(wps[0].x + 2.0, wps[0].y)]
+    edits = []
+    for _ in range(draw(st.integers(1, 6))):
+        k = draw(st.integers(0, len(wps) - 1))
+        kind = draw(st.sampled_from(["nudge", "nudge", "far", "heading"]))
+        if kind == "nudge":
+            edits.append((k, draw(st.floats(-0.3, 0.3)), draw(st.floats(-0.3, 0.3)), "keep"))
+        elif kind == "far":
+            edits.append((k, draw(st.floats(-3, 3)), draw(st.floats(-3, 3)), "keep"))
+        else:
+            edits.append((k, 0.0, 0.0, draw(st.none() | st.floats(-180, 180))))
+    return wps, edits
+
+
+def _apply(wps, edit):
+    k, dx, dy, h = edit
+    w = wps[k]
+    out = list(wps)
+    out[k] = Waypoint(w.x + dx, w.y + dy, w.heading_deg if h == "keep" else h)
+    return out
+
+
+@pytest.mark.parametrize("drive", list(CHASSIS))
+@settings(max_examples=30, deadline=None)
+@given(seq=edit_sequences(), radius=st.sampled_from([0.0, 0.5, 1.0]), reverse=st.booleans())
+def test_cached_planner_gives_the_fresh_plan_after_every_edit(drive, seq, radius, reverse):
+    from kinematics.jsonio import dumps
+    from kinematics.planner import RoutePlanner
+
+    # Source: common practice - a cache must not change the answer: every plan the warm
+    # RoutePlanner returns equals, segment for segment and in its JSON to the last bit, the
+    # plan made from scratch by plan_route.
+    chassis = CHASSIS[drive]
+    wps, edits = seq
+    planner = RoutePlanner()
+    for step in [None, *edits]:
+        if step is not None:
+            wps = _apply(wps, step)
+        route = Route("r", tuple(wps), radius, reverse)
+        cached, fresh = planner.plan(route, chassis), plan_route(route, chassis)
+        assert cached == fresh
+        assert dumps(cached.to_dict()) == dumps(fresh.to_dict())
+
+
+def test_moving_one_waypoint_reuses_the_pieces_away_from_it():
+    from kinematics.planner import RoutePlanner
+
+    wps = [_wp(3.8 * k, 2.0 * math.sin(0.7 * k)) for k in range(30)]
+    planner = RoutePlanner()
+    before = planner.plan(Route("r", tuple(wps), 1.0), CHASSIS["differential"])
+    misses = planner.cache.misses
+    wps[15] = _wp(wps[15].x + 0.2, wps[15].y - 0.1)
+    after = planner.plan(Route("r", tuple(wps), 1.0), CHASSIS["differential"])
+    # Source: common plane geometry - a fillet depends on its corner and the two neighbouring
+    # points, so moving point 15 changes the arcs at 14, 15, 16 and the four lines between
+    # corners 13 and 17; every other segment is the same object as before.
+    assert planner.cache.misses - misses == 7
+    same = sum(any(a is b for b in before.segments) for a in after.segments)
+    assert same == len(after.segments) - 7
