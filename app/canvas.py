@@ -464,6 +464,10 @@ class PlanCanvas(QWidget):
                     x0, y0, x1, y1 = g[0].bounds
                     named.append(((c.x, c.y), o.label, "obstacle", x1 - x0))
         labels = self._labels(self.plan_labels, len(named), "#111111", None, (0.5, 0.5))
+        for t in labels:
+            # Names of the plan sit under the routes: a waypoint is never hidden by a door's
+            # name.
+            t.setZValue(1.5)
         self._obstacle_labels = []
         for t, (pos, text, kind, size_m) in zip(labels, named):
             if kind == "door":
@@ -935,7 +939,9 @@ class PlanCanvas(QWidget):
         poses = poses_along(plan.segments, cand)
         j = int(np.argmin(np.hypot(poses[:, 0] - x, poses[:, 1] - y)))
         s, pose = float(cand[j]), poses[j]
-        parts = [f"{cur.name}: station {s:.2f} m", f"segment {seg_i + 1} ({seg.kind}"
+        # Segments are numbered from 0 here as in the check's messages, the results list, the
+        # schedule table and the files; waypoints are numbered from 1 everywhere.
+        parts = [f"{cur.name}: station {s:.2f} m", f"segment {seg_i} ({seg.kind}"
                  + (", reverse)" if seg.direction < 0 else ")")]
         clear = self.clearance_at(pose)
         if clear is not None:

@@ -408,7 +408,9 @@ class MainWindow(QMainWindow):
         n = len(chk.violations)
         state = "all clear" if chk.clear else f"{n} problem{'s' if n != 1 else ''}"
         mc = chk.min_clearance_m
-        near = f"least clearance {mc * 1000:.0f} mm" if mc is not None else "nothing solid"
+        from .panels import clearance_words
+
+        near = clearance_words(mc) if mc is not None else "nothing solid"
         self.summary_label.setText(f"{r.name}: {length:.1f} m, {state}, {near}  ")
 
     def _selection_changed(self, i: int) -> None:

@@ -75,12 +75,22 @@ USES = {
     "mecanum": {"wheelbase_m", "track_m"},
     "swerve": {"wheelbase_m", "track_m"},
 }
+#: The drive's name in the list (short, so a narrow dock shows it whole) and what it means
+#: (the item's tooltip).
 DRIVE_WORDS = {
-    "differential": "differential (also tracked, skid-steer)",
-    "bicycle": "bicycle (one steered wheel)",
-    "ackermann": "ackermann (car-like, four wheels)",
-    "mecanum": "mecanum (rollers at 45 degrees)",
-    "swerve": "swerve (every module steers)",
+    "differential": "differential / skid-steer",
+    "bicycle": "bicycle",
+    "ackermann": "ackermann (car-like)",
+    "mecanum": "mecanum",
+    "swerve": "swerve",
+}
+DRIVE_TIPS = {
+    "differential": "Two driven wheels (or tracks) side by side, steered by their speed "
+                    "difference; also tracked and skid-steer carts",
+    "bicycle": "One steered wheel ahead of a driven rear axle",
+    "ackermann": "Car-like: four wheels, the front pair steered",
+    "mecanum": "Four mecanum wheels with rollers at 45 degrees: moves sideways too",
+    "swerve": "Every wheel module steers and drives: moves in any direction",
 }
 
 #: (key, label with unit, minimum, maximum, decimals, step, optional)
@@ -388,6 +398,10 @@ class ChassisPanel(QWidget):
         self.drive = QComboBox()
         for d in DRIVES:
             self.drive.addItem(DRIVE_WORDS[d], d)
+            self.drive.setItemData(self.drive.count() - 1, DRIVE_TIPS[d],
+                                   Qt.ItemDataRole.ToolTipRole)
+        self.drive.currentIndexChanged.connect(
+            lambda i: self.drive.setToolTip(DRIVE_TIPS.get(self.drive.itemData(i), "")))
         self.drive.activated.connect(self._apply)
         self.drive.setSizeAdjustPolicy(
             QComboBox.SizeAdjustPolicy.AdjustToMinimumContentsLengthWithIcon)
@@ -703,6 +717,14 @@ def sizing_lines(answers: dict) -> list[str]:
     return lines
 
 
+def clearance_words(min_clearance_m: float) -> str:
+    """The least clearance in words; a negative one is an overlap and says so."""
+    mm = min_clearance_m * 1000.0
+    if round(mm) < 0:
+        return f"overlaps by {-mm:.0f}\u00a0mm"
+    return f"least clearance {max(mm, 0.0):.0f}\u00a0mm"  # never "-0 mm"
+
+
 class ResultsPanel(QWidget):
     """The current route's check: violations, doors, least clearance and sizing answers.
 
@@ -740,7 +762,8 @@ class ResultsPanel(QWidget):
         lay.addWidget(QLabel("Violations (click one to show it on the plan)"))
         self.violations = _table(["Kind", "Seg.", "At (m)", "Amount (mm)"])
         for col, tip in enumerate(("What is wrong (the marker on the plan has this shape)",
-                                   "Segment of the planned route",
+                                   "Segment of the planned route, numbered from 0 as in "
+                                   "the Schedule table and the exported files",
                                    "Distance along the route where it starts",
                                    "Overlap depth, missing clearance or missing radius")):
             self.violations.horizontalHeaderItem(col).setToolTip(tip)
@@ -834,8 +857,8 @@ class ResultsPanel(QWidget):
             return
         vs = violations_of(chk)
         mc = getattr(chk, "min_clearance_m", None)
-        mc_text = (f"least clearance {mc * 1000:.0f} mm" if mc is not None
-                   and math.isfinite(mc) else "nothing nearby")
+        mc_text = (clearance_words(mc) if mc is not None and math.isfinite(mc)
+                   else "nothing nearby")
         if getattr(chk, "clear", False) and not vs:
             self.verdict.setText(f"\u2713 CLEAR \u2014 {mc_text}")
             self.verdict.setStyleSheet("color: #004E7A;")

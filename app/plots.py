@@ -22,6 +22,7 @@ from PySide6.QtWidgets import QButtonGroup, QHBoxLayout, QLabel, QRadioButton, Q
 from .render import BLUE, FAINT_INK, LIMIT_WORDS, VERMILLION, WHEEL_COLOURS, WHEEL_STYLES
 
 HEADROOM = 1.65  # y range above the largest value: room for the legend and limit labels
+NEG_FOOTROOM = 1.75  # below the most negative rate: room for the lower limit's label
 
 
 def _limit_line(plot: pg.PlotItem, y: float, text: str) -> pg.InfiniteLine:
@@ -193,7 +194,15 @@ class PlotsPanel(QWidget):
         hi = max([float(np.nanmax(np.abs(a))) for a in rates.values() if a.size]
                  + [wmax or 0.0]) or 1.0
         neg = any(np.nanmin(a) < -1e-9 for a in rates.values() if a.size)
-        self.rate_plot.setYRange(-hi * HEADROOM if neg else 0.0, hi * HEADROOM, padding=0)
+        if neg:
+            # Same share of headroom above the top limit as the speed plot has (its legend and
+            # label live there), and just room for the lower limit's label below.
+            lo = -hi * NEG_FOOTROOM
+            share = (HEADROOM - 1.0) / HEADROOM
+            top = (hi - share * lo) / (1.0 - share)
+            self.rate_plot.setYRange(lo, top, padding=0)
+        else:
+            self.rate_plot.setYRange(0.0, hi * HEADROOM, padding=0)
         if xs.size:
             self.speed_plot.setXRange(float(xs.min()), float(xs.max()), padding=0.01)
 

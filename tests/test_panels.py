@@ -375,3 +375,13 @@ def test_plots_show_series_and_named_limits(doc, qtbot):
     wheels = [c.name() for c in panel.rate_plot.listDataItems()]
     assert wheels == ["left", "right"]
     assert math.isclose(float(np.max(s["v_mps"])), float(np.max(y)))
+
+
+def test_negative_least_clearance_is_told_as_an_overlap():
+    # Source: shared/contract.md (min_clearance_m is negative where the footprint overlaps);
+    # common practice: say "overlap" rather than a negative distance.
+    from app.panels import clearance_words
+
+    assert clearance_words(-0.098) == "overlaps by 98\u00a0mm"
+    assert clearance_words(0.3) == "least clearance 300\u00a0mm"
+    assert clearance_words(-0.0004) == "least clearance 0\u00a0mm"
