@@ -29,31 +29,61 @@ from kinematics.errors import SwatheInputError
 from kinematics.floorplan import FloorPlan
 from kinematics.project import Chassis, Project, Route, Waypoint, load_project, save_project
 
+_LEAK_PROBE_CALLS = 64  # void calls measured; a leaking binding loses one reference each
+
+
+def _refcount_field(obj: object) -> ctypes.c_ssize_t | None:
+    """``obj``'s reference count field, or ``None`` where it cannot be found for sure."""
+    if hasattr(sys, "getobjects"):  # a trace-refs build puts list links before the count
+        return None
+    field = ctypes.c_ssize_t.from_address(id(obj))
+    # The two readings differ by getrefcount's own argument and any reference the
+    # interpreter holds on its stack meanwhile; anything else here (a pointer) is far off.
+    return field if abs(field.value - (sys.getrefcount(obj) - 1)) <= 16 else None
+
 
 def guard_none_refcount() -> bool:
     """Keep ``None`` alive under Qt bindings that drop a reference per void call.
 
     PySide6 6.12.0 on CPython 3.11 returns ``None`` from every C++ method returning ``void``
     without taking a reference, so each call lowers ``None``'s count by one; after a few
-    thousand calls (a second of dragging) the interpreter aborts with "none_dealloc". CPython
-    3.12 made ``None`` immortal, so only older interpreters need this. The guard measures one
-    void call and, if it leaks, raises ``None``'s count far beyond any session's calls.
-    ``None`` is a static object that is never freed, so a larger count is harmless.
+    thousand calls (a second of dragging) the interpreter aborts with "none_dealloc".
+    pyproject.toml excludes that release, but an environment that already has it (a system
+    package, an older lock file) would still crash, so the window keeps this guard.
+
+    It does nothing on CPython 3.12 and later (``None`` is immortal there), on other
+    interpreters, and on any binding that does not leak: it measures
+    ``_LEAK_PROBE_CALLS`` void calls with the garbage collector paused and acts only if
+    ``None`` lost at least one reference per call. It then raises the counts of ``None``,
+    ``True`` and ``False`` (the same bindings drop those returned by Python overrides of
+    C++ virtuals) far beyond any session's calls, after checking it writes the count field
+    itself. These are static objects that are never freed, so a larger count is harmless.
     Returns True when the guard was applied.
     """
     if sys.implementation.name != "cpython" or sys.version_info >= (3, 12):
         return False
+    import gc
+
     from PySide6.QtCore import QPointF
 
     p = QPointF()
-    before = sys.getrefcount(None)
-    p.setX(1.0)
-    if sys.getrefcount(None) >= before:
+    was_enabled = gc.isenabled()
+    gc.disable()
+    try:
+        before = sys.getrefcount(None)
+        for _ in range(_LEAK_PROBE_CALLS):
+            p.setX(1.0)
+        lost = before - sys.getrefcount(None)
+    finally:
+        if was_enabled:
+            gc.enable()
+    if lost < _LEAK_PROBE_CALLS:
         return False
-    # The same bindings also drop references to True and False returned by Python overrides
-    # of C++ virtuals (event handlers), so those two singletons get the same reserve.
-    for singleton in (None, True, False):
-        ctypes.c_ssize_t.from_address(id(singleton)).value += 1 << 40
+    fields = [_refcount_field(obj) for obj in (None, True, False)]
+    if any(f is None for f in fields):
+        return False
+    for f in fields:
+        f.value += 1 << 40
     return True
 
 
