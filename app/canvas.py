@@ -188,6 +188,27 @@ def _ignore_click(ev) -> None:
     ev.ignore()
 
 
+class _Polyline(QGraphicsPathItem):
+    """A polyline (NaN breaks it) as one path item; ``setData(x, y)`` like a plot curve."""
+
+    def __init__(self, pen: QPen) -> None:
+        super().__init__()
+        self.setPen(pen)
+        self.setBrush(QBrush(Qt.BrushStyle.NoBrush))
+
+    def setData(self, x, y) -> None:  # noqa: N802 - the plot items' name
+        x = np.asarray(x, dtype=float)
+        y = np.asarray(y, dtype=float)
+        self.setPath(pg.arrayToQPath(x, y, connect="finite") if len(x) else QPainterPath())
+
+    def getData(self) -> tuple[np.ndarray, np.ndarray]:  # noqa: N802 - the plot items' name
+        """The polyline's points (breaks left out)."""
+        path = self.path()
+        pts = [path.elementAt(k) for k in range(path.elementCount())]
+        return (np.array([e.x for e in pts], dtype=float),
+                np.array([e.y for e in pts], dtype=float))
+
+
 def _set_text(item: pg.TextItem, text: str) -> None:
     """Set a label's text only when it changed (each set re-lays out its rich text)."""
     if getattr(item, "_swathe_text", None) != text:
@@ -335,17 +356,17 @@ class PlanCanvas(QWidget):
         self.outlines_item.setPen(_pen(GREEN, 1.0))
         self.outlines_item.setZValue(3)
         add(self.outlines_item)
-        self.path_fwd = pg.PlotDataItem(pen=pg.mkPen(BLUE, width=2.5), connect="finite")
-        self.path_rev = pg.PlotDataItem(pen=pg.mkPen(BLUE, width=2.5, style=Qt.PenStyle.DashLine),
-                                        connect="finite")
+        # The current route's lines change on every drag step: plain path items, which Qt
+        # updates and paints without the per-item Python work of a plot curve.
+        self.path_fwd = _Polyline(_pen(BLUE, 2.5))
+        self.path_rev = _Polyline(_pen(BLUE, 2.5, Qt.PenStyle.DashLine))
         for it in (self.path_fwd, self.path_rev):
             it.setZValue(4)
             add(it)
-        self.chords_item = pg.PlotDataItem(pen=pg.mkPen("#777777", width=1,
-                                                        style=Qt.PenStyle.DotLine))
+        self.chords_item = _Polyline(_pen("#777777", 1.0, Qt.PenStyle.DotLine))
         self.chords_item.setZValue(3.5)
         add(self.chords_item)
-        self.handles_line = pg.PlotDataItem(pen=pg.mkPen(PURPLE, width=2), connect="finite")
+        self.handles_line = _Polyline(_pen(PURPLE, 2.0))
         self.handles_line.setZValue(6)
         add(self.handles_line)
         self.handles_item = pg.ScatterPlotItem(symbol="d", size=13, pen=pg.mkPen(BLACK, width=1),

@@ -199,6 +199,7 @@ class Document(QObject):
         self._checkers: dict[str, tuple[Chassis, FloorPlan, Any]] = {}
         self._errors: dict[str, str] = {}
         self._index: tuple[FloorPlan, Any] | None = None
+        self._route_planner: Any = None
         self.schedule_dt_s = 0.1
         self._results_timer = QTimer(self)
         self._results_timer.setSingleShot(True)
@@ -279,11 +280,9 @@ class Document(QObject):
         hit = self._plans.get(name)
         if hit is not None and hit[0] == route and hit[1] is chassis:
             return hit[2]
-        from kinematics.planner import plan_route
-
         self._errors.pop(name, None)
         try:
-            plan = plan_route(route, chassis)
+            plan = self._planner().plan(route, chassis)
         except SwatheInputError as exc:
             self._errors[name] = exc.message
             plan = None
@@ -292,6 +291,16 @@ class Document(QObject):
             plan = None
         self._plans[name] = (route, chassis, plan)
         return plan
+
+    def _planner(self) -> Any:
+        """One :class:`kinematics.planner.RoutePlanner` for the document: a drag step replans
+        only the pieces next to the moved waypoint and hands the rest back as the same
+        objects, which the incremental checker and the canvas then find in their caches."""
+        if self._route_planner is None:
+            from kinematics.planner import RoutePlanner
+
+            self._route_planner = RoutePlanner()
+        return self._route_planner
 
     def _checker(self, name: str) -> Any:
         chassis, fp = self._project.chassis, self._project.floorplan
@@ -512,6 +521,7 @@ class Document(QObject):
         self._checkers.clear()
         self._errors.clear()
         self._index = None
+        self._route_planner = None  # a new project starts with an empty piece cache
         self.undo_stack.clear()
         self.undo_stack.setClean()
         self._forced_dirty = dirty
