@@ -43,6 +43,7 @@ from .sweep import (
     sub_segment,
     swept_parts,
     travel_m,
+    union_parts,
 )
 
 #: Half-depth (across the door line) and extra length (beyond each jamb) of the box in which
@@ -197,7 +198,7 @@ class RouteCheck:
     def swept(self) -> BaseGeometry | None:
         """The union of the swept pieces (computed on first use)."""
         if self._swept is None and self._parts:
-            self._swept = shapely.union_all(np.array(self.pieces, dtype=object))
+            self._swept = union_parts(np.array(self.pieces, dtype=object))
         return self._swept
 
     def to_dict(self) -> dict:
@@ -243,8 +244,7 @@ class _Parts:
     @property
     def union(self) -> BaseGeometry:
         if self._union is None:
-            self._union = (self.parts[0] if len(self.parts) == 1
-                           else shapely.union_all(self.parts))
+            self._union = union_parts(self.parts)
         return self._union
 
     def distance(self, solid: BaseGeometry) -> float:

@@ -53,6 +53,8 @@ DEFAULT_TOLERANCE_M = 0.002
 MAX_CHUNK_RAD = math.pi / 2.0
 #: Share of the tolerance spent on drawing arcs; the rest is slack for rounding.
 _ARC_SHARE = 0.95
+#: Grid of the fallback union (see :func:`union_parts`), metres.
+UNION_GRID_M = 1e-9
 #: Buffer segments per quarter circle when growing holonomic chunks.
 _QUAD_SEGS = 4
 #: A holonomic line whose farthest vertex turns by at most this share of the tolerance is
@@ -295,7 +297,15 @@ def _polys(parts: list[NDArray[np.float64]], hull_first: bool) -> NDArray[np.obj
     return np.asarray(geoms, dtype=object)
 
 
-def _union(geoms: NDArray[np.object_]) -> BaseGeometry:
+def union_parts(geoms: NDArray[np.object_]) -> BaseGeometry:
+    """The union of swept parts, made robustly, containing every part.
+
+    GEOS's floating-point union (seen with GEOS 3.14) can drop a piece of a part where many
+    nearly coincident edges meet: 3 cm in cases random tests found. The union is therefore
+    made on a ``UNION_GRID_M`` grid (snap rounding, which does not lose area) and grown by two
+    grid steps with mitred corners, so it still contains every part and exceeds the exact
+    union by far less than the slack the sweep keeps below its tolerance.
+    """
     geoms = geoms[~shapely.is_empty(geoms)]
     bad = ~shapely.is_valid(geoms)
     if bad.any():
@@ -303,7 +313,8 @@ def _union(geoms: NDArray[np.object_]) -> BaseGeometry:
         geoms[bad] = shapely.make_valid(geoms[bad])
     if len(geoms) == 1:
         return geoms[0]
-    return shapely.union_all(geoms)
+    out = shapely.union_all(geoms, grid_size=UNION_GRID_M)
+    return shapely.buffer(out, 2.0 * UNION_GRID_M, join_style="mitre")
 
 
 def _holonomic_chunks(seg: Segment, tol: float) -> tuple[int, float]:
@@ -429,7 +440,7 @@ def swept_segment(footprint: FootprintLike, seg: Segment,
     if not tolerance_m > 0.0:
         raise ValueError("tolerance_m must be > 0")
     geoms, dev = segment_parts(footprint, seg, tolerance_m)
-    out = _union(geoms)
+    out = union_parts(geoms)
     if dev > 0.0:
         # Buffer draws its round joins inscribed; enlarging the radius by 1/cos of the half
         # step keeps the whole disc of radius ``dev`` inside.
