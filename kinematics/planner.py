@@ -274,6 +274,7 @@ class _Builder:
         self.spin_radius_m = spin_radius_m
         self.cache = cache
         self._pose: Pose = start
+        self._anchored = 0
 
     @property
     def pose(self) -> Pose:
@@ -308,8 +309,12 @@ class _Builder:
         instead keeps that rounding from running on into every later segment, so pieces away
         from an edit come back bit for bit. The heading keeps the turn count the route has
         accumulated (only its value modulo a full turn is taken from ``pose``). Where the two
-        disagree by more than rounding the actual end is kept.
+        disagree by more than rounding, or no segment was laid since the last anchor (the pose
+        would move with no segment to move it, e.g. off the route's start), the pose is kept.
         """
+        if len(self.segs) == self._anchored:
+            return
+        self._anchored = len(self.segs)
         x, y, h = float(pose[0]), float(pose[1]), float(pose[2])
         cx, cy, ch = self._pose
         if abs(cx - x) > ANCHOR_TOL_M or abs(cy - y) > ANCHOR_TOL_M:
