@@ -18,6 +18,10 @@ values, so a warm checker answers bit for bit as a fresh one), so the interactiv
 re-sweeps only what moved. A segment with no solid within the margin measures its distance
 to the nearest solid only when the bounding box of its swept region comes nearer a solid than
 the route's least clearance found so far.
+
+Messages count waypoints from 1 as the window and the rendered picture do ("waypoint 3" is the
+route's third); ``segment`` fields and the segment numbers in messages are 0-based indices
+into the plan's segments, as in ``plan --json``.
 """
 
 from __future__ import annotations
@@ -691,7 +695,7 @@ class RouteChecker:
                     s_k = float(st[int(np.argmin(np.hypot(poses[:, 0] - wx,
                                                           poses[:, 1] - wy)))])
                 out.append(Violation("waypoint_blocked", self._seg_at(stations, s_k), s_k,
-                                     wx, wy, depth, f"waypoint {k} at ({wx:.2f}, {wy:.2f}) "
+                                     wx, wy, depth, f"waypoint {k + 1} at ({wx:.2f}, {wy:.2f}) "
                                      f"lies inside {solid.name}", solid.name))
                 continue
             if not segs:
@@ -708,7 +712,7 @@ class RouteChecker:
                 name = idx.solids[wj].name
                 out.append(Violation("waypoint_blocked", self._seg_at(stations, float(st[m])),
                                      float(st[m]), wx, wy, worst,
-                                     f"waypoint {k} at ({wx:.2f}, {wy:.2f}): the footprint "
+                                     f"waypoint {k + 1} at ({wx:.2f}, {wy:.2f}): the footprint "
                                      f"placed there overlaps {name} by {worst * 1000:.0f} mm",
                                      name))
         return out

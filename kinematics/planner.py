@@ -33,7 +33,9 @@ headings each is met in turn on the spot, with pivots where the drive may pivot 
 Dubins / Reeds-Shepp loops back to the point where it may not. Every segment is built from
 the end pose of the one before, so joints are continuous to rounding, and the route ends at
 the last waypoint.
-Waypoint indices in issues and ``chosen_headings`` are those of the route as given.
+Waypoint indices in issues (``waypoint``) and ``chosen_headings`` are 0-based indices into
+the route's waypoints as given; messages and notes, which people read beside the window and
+the rendered picture, count waypoints from 1 ("waypoint 3" is the third, index 2).
 """
 
 from __future__ import annotations
@@ -88,7 +90,7 @@ class PlanIssue:
     kind : {"infeasible", "turn_radius"}
     message : str
     waypoint : int or None
-        Index of the waypoint in the route as given.
+        0-based index of the waypoint in the route as given (the message counts from 1).
     segment : int or None
         Index of the segment drawn there.
     x, y : float
@@ -421,8 +423,8 @@ def _distinct_points(route: Route, notes: list[str]) -> _Points:
     xy, headings, index = [], [], []
     for g in groups:
         if len(g) > 1:
-            dropped = ", ".join(str(i) for i in g[1:])
-            notes.append(f"waypoint(s) {dropped} repeat waypoint {g[0]} and were merged")
+            dropped = ", ".join(str(i + 1) for i in g[1:])
+            notes.append(f"waypoint(s) {dropped} repeat waypoint {g[0] + 1} and were merged")
         xy.append((wps[g[0]].x, wps[g[0]].y))
         headings.append([math.radians(wps[i].heading_deg) for i in g
                          if wps[i].heading_deg is not None])
@@ -562,7 +564,7 @@ def _fillet_radii(pts: _Points, b: _Builder, radius_m: float, route: Route
                                   else "no room for any fillet", radius_m)
                 shrunk[k] = 0.0
             else:
-                b.notes.append(f"fillet at waypoint {pts.index[k + 1]} drawn with radius "
+                b.notes.append(f"fillet at waypoint {pts.index[k + 1] + 1} drawn with radius "
                                f"{shrunk[k]:.4g} m (route asks {radius_m:.4g} m): the legs "
                                "are too short")
         return shrunk, failed
@@ -575,7 +577,7 @@ def _fillet_radii(pts: _Points, b: _Builder, radius_m: float, route: Route
             failed[k] = (_REVERSAL, radius_m)
         else:
             failed[k] = (f"fillets of radius {radius_m:.4g} m do not fit on the leg from "
-                         f"waypoint {pts.index[worst.leg]} to {pts.index[worst.leg + 1]}: "
+                         f"waypoint {pts.index[worst.leg] + 1} to {pts.index[worst.leg + 1] + 1}: "
                          f"it is {worst.leg_m:.4g} m, they need {worst.need_m:.4g} m",
                          worst.short_m)
         radii[k] = 0.0
@@ -623,7 +625,7 @@ def _plan_filleted(pts: _Points, b: _Builder, radius_m: float, route: Route) -> 
         if i in failed:
             reason, amount = failed[i]
             w = pts.index[i + 1]
-            b.issue("infeasible", f"waypoint {w}: {reason}; drawn as a pivot on the spot",
+            b.issue("infeasible", f"waypoint {w + 1}: {reason}; drawn as a pivot on the spot",
                     w, seg, xy[i + 1], amount)
 
 

@@ -133,7 +133,8 @@ def test_plan_issues_and_blocked_waypoints_are_reported():
     plan = plan_route(route, CHASSIS)
     chk = check_route(plan, CHASSIS, idx, route_name="r", route=route)
     blocked = [v for v in chk.violations if v.kind == "waypoint_blocked"]
-    assert len(blocked) == 1 and "waypoint 1" in blocked[0].message
+    # The second waypoint (index 1) is inside; messages count waypoints from 1.
+    assert len(blocked) == 1 and "waypoint 2" in blocked[0].message
     assert "rack" in blocked[0].message
 
     class Issue:

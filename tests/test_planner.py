@@ -174,6 +174,8 @@ def test_differential_pivots_are_signed_smallest_turns():
     line = shapely.LineString([(w.x, w.y) for w in wps])
     assert plan.length_m == pytest.approx(line.length)
     assert any("merged" in n for n in plan.notes)
+    # Messages count waypoints from 1: the fifth waypoint (index 4) repeats the fourth.
+    assert "waypoint(s) 5 repeat waypoint 4 and were merged" in plan.notes
 
 
 def test_differential_reversal_is_a_half_turn_pivot():
@@ -214,12 +216,16 @@ def test_differential_crowded_fillets_are_infeasible_with_the_waypoint():
     assert (iss.kind, iss.waypoint, iss.amount_m) == ("infeasible", 1, pytest.approx(1.0))
     assert plan.segments[iss.segment].kind == "pivot"
     assert (iss.x, iss.y) == (4.0, 0.0)
+    # The JSON field is the 0-based index; the message names the second waypoint from 1.
+    assert iss.message.startswith("waypoint 2: ") and "from waypoint 2 to 3" in iss.message
     # Allowed to shrink: both fillets take half the leg, R = 0.5 each, and no issue.
     plan2 = plan_route(Route("r", wps, 1.0, extra={"allow_smaller_radius": True}),
                        CHASSIS["differential"])
     assert plan2.issues == ()
     assert [s.radius_m for s in plan2.segments if s.kind == "arc"] == pytest.approx([0.5, 0.5])
     assert any("radius 0.5" in n for n in plan2.notes)
+    assert any(n.startswith("fillet at waypoint 2 ") for n in plan2.notes)
+    assert any(n.startswith("fillet at waypoint 3 ") for n in plan2.notes)
 
 
 def test_differential_reversal_with_radius_is_infeasible_pivot():
