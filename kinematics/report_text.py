@@ -1,4 +1,8 @@
-"""Plain-text summaries of planned routes for the terminal (``swathe plan`` without --json)."""
+"""Plain-text summaries of planned routes for the terminal (``swathe plan`` without --json).
+
+Waypoints are counted from 1 here, as in the window and the rendered picture; segments are
+numbered from 0, as their indices in ``plan --json``.
+"""
 
 from __future__ import annotations
 
@@ -30,7 +34,8 @@ def _segment_line(i: int, seg: Any) -> str:
 
 
 def format_plan_text(plans: Sequence[Any], project: Any = None) -> str:
-    """A readable listing of every planned route: segments, issues and chosen headings."""
+    """A readable listing of every planned route: segments, issues, chosen headings and the
+    planner's notes."""
     out: list[str] = []
     if project is not None:
         c = project.chassis
@@ -42,7 +47,9 @@ def format_plan_text(plans: Sequence[Any], project: Any = None) -> str:
         for i, seg in enumerate(pl.segments):
             out.append(_segment_line(i, seg))
         for wi, h in sorted(getattr(pl, "chosen_headings", {}).items()):
-            out.append(f"  note: heading at waypoint {wi} chosen as {h:.1f} deg")
+            out.append(f"  note: heading at waypoint {wi + 1} chosen as {h:.1f} deg")
+        for note in getattr(pl, "notes", ()):
+            out.append(f"  note: {note}")
         for issue in getattr(pl, "issues", ()):
             out.append(f"  {issue.kind.upper()}: {issue.message}")
     out.append("")

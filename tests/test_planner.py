@@ -464,3 +464,18 @@ def test_moving_one_waypoint_reuses_the_pieces_away_from_it():
     assert planner.cache.misses - misses == 7
     same = sum(any(a is b for b in before.segments) for a in after.segments)
     assert same == len(after.segments) - 7
+
+
+def test_plan_text_lists_notes_and_counts_waypoints_from_one():
+    from kinematics.report_text import format_plan_text
+
+    wps = (_wp(0, 0), _wp(4, 0), _wp(4, 0), _wp(4, 1), _wp(0, 1))
+    plan = plan_route(Route("r", wps, 1.0, extra={"allow_smaller_radius": True}),
+                      CHASSIS["differential"])
+    text = format_plan_text([plan])
+    # Source: contract.md `swathe plan` text listing; the route's notes are printed, and
+    # waypoints are numbered from 1 as in the window (the last of five is "waypoint 5").
+    for note in plan.notes:
+        assert f"note: {note}" in text
+    assert "waypoint(s) 3 repeat waypoint 2" in text
+    assert "heading at waypoint 5 chosen as 180.0 deg" in text
