@@ -24,11 +24,14 @@ from collections.abc import Sequence
 import numpy as np
 import pyqtgraph as pg
 import shapely
-from PySide6.QtCore import QPoint, QPointF, Qt, Signal
-from PySide6.QtGui import QAction, QBrush, QColor, QKeySequence, QPainterPath, QPen
+from pyqtgraph.graphicsItems.ScatterPlotItem import Symbols
+from PySide6.QtCore import QPoint, QPointF, QRectF, Qt, Signal
+from PySide6.QtGui import QAction, QBrush, QColor, QKeySequence, QPainterPath, QPen, QTransform
 from PySide6.QtWidgets import (
     QGraphicsItem,
     QGraphicsPathItem,
+    QGraphicsRectItem,
+    QGraphicsSimpleTextItem,
     QInputDialog,
     QMenu,
     QVBoxLayout,
@@ -184,10 +187,6 @@ def _nice_length(target: float) -> float:
     return 10**e
 
 
-def _ignore_click(ev) -> None:
-    ev.ignore()
-
-
 class _Polyline(QGraphicsPathItem):
     """A polyline (NaN breaks it) as one path item; ``setData(x, y)`` like a plot curve."""
 
@@ -209,11 +208,132 @@ class _Polyline(QGraphicsPathItem):
                 np.array([e.y for e in pts], dtype=float))
 
 
-def _set_text(item: pg.TextItem, text: str) -> None:
-    """Set a label's text only when it changed (each set re-lays out its rich text)."""
-    if getattr(item, "_swathe_text", None) != text:
-        item.setText(text)
-        item._swathe_text = text
+def _set_text(item: _Label, text: str) -> None:
+    """Set a label's text only when it changed."""
+    item.setText(text)
+
+
+_NO_PEN = QPen(Qt.PenStyle.NoPen)
+_NO_BRUSH = QBrush(Qt.BrushStyle.NoBrush)
+_IGNORES_VIEW = QGraphicsItem.GraphicsItemFlag.ItemIgnoresTransformations
+
+
+def _symbol_path(symbol: str, size_px: float) -> QPainterPath:
+    """pyqtgraph's marker ``symbol`` (unit size, screen orientation) scaled to ``size_px``."""
+    key = (symbol, size_px)
+    path = _SYMBOL_PATHS.get(key)
+    if path is None:
+        path = QTransform.fromScale(size_px, size_px).map(Symbols[symbol])
+        _SYMBOL_PATHS[key] = path
+    return path
+
+
+_SYMBOL_PATHS: dict[tuple[str, float], QPainterPath] = {}
+
+
+class _Markers(QGraphicsItem):
+    """Markers of a constant pixel size at plan points, like a scatter plot but painted by Qt.
+
+    Each marker is a child path item that ignores the view's scaling, so Qt places, bounds
+    and paints it without Python; a drag moves only the markers whose point changed.
+    ``setData(x, y, symbol=, brush=, size=)`` takes one value or one per point.
+    """
+
+    def __init__(self, symbol: str, size: float, pen: QPen, brush: QBrush | None) -> None:
+        super().__init__()
+        self.setFlag(QGraphicsItem.GraphicsItemFlag.ItemHasNoContents)
+        self.setAcceptedMouseButtons(Qt.MouseButton.NoButton)
+        self._symbol, self._size = symbol, float(size)
+        pen = QPen(pen)
+        pen.setCosmetic(True)
+        self._pen = pen
+        self._brush = brush if brush is not None else _NO_BRUSH
+        self._items: list[QGraphicsPathItem] = []
+        self.data: list[tuple[float, float]] = []  # the points shown, in plan metres
+
+    def boundingRect(self) -> QRectF:  # noqa: N802 - Qt's name
+        return QRectF()
+
+    def paint(self, *_args) -> None:
+        pass
+
+    def setData(self, x, y, symbol=None, brush=None, size=None) -> None:  # noqa: N802
+        n = len(x)
+
+        def each(v, default):
+            if v is None:
+                return [default] * n
+            if isinstance(v, (str, QBrush, int, float)):
+                return [v] * n
+            return list(v)
+
+        syms, brushes = each(symbol, self._symbol), each(brush, self._brush)
+        sizes = each(size, self._size)
+        while len(self._items) < n:
+            it = QGraphicsPathItem(self)
+            it.setFlag(_IGNORES_VIEW)
+            it.setAcceptedMouseButtons(Qt.MouseButton.NoButton)
+            it.setPen(self._pen)
+            self._items.append(it)
+        for k, it in enumerate(self._items):
+            if k >= n:
+                it.setVisible(False)
+                continue
+            it.setPos(float(x[k]), float(y[k]))
+            it.setPath(_symbol_path(syms[k], float(sizes[k])))
+            it.setBrush(brushes[k] if brushes[k] is not None else _NO_BRUSH)
+            it.setVisible(True)
+        self.data = [(float(x[k]), float(y[k])) for k in range(n)]
+
+
+class _Label(QGraphicsRectItem):
+    """A text label of constant pixel size at a plan point, on an optional filled box.
+
+    ``anchor`` says which point of the box sits on the plan point: (0, 0) its top-left,
+    (1, 1) its bottom-right. Plain text painted by Qt (no rich-text layout, no Python paint).
+    """
+
+    PAD_PX = 4.0  # space between the text and the edge of its box
+
+    def __init__(self, colour: str, fill: QBrush | None, anchor: tuple[float, float]) -> None:
+        super().__init__()
+        self.setFlag(_IGNORES_VIEW)
+        self.setAcceptedMouseButtons(Qt.MouseButton.NoButton)
+        self.setPen(_NO_PEN)
+        self.setBrush(fill if fill is not None else _NO_BRUSH)
+        self.text_item = QGraphicsSimpleTextItem(self)
+        self.text_item.setPen(_NO_PEN)
+        self.text_item.setBrush(QColor(colour))
+        self._anchor = (float(anchor[0]), float(anchor[1]))
+        self._text: str | None = None
+
+    def text(self) -> str:
+        return self._text or ""
+
+    def setText(self, text: str) -> None:  # noqa: N802 - Qt's name
+        if text != self._text:
+            self._text = text
+            self.text_item.setText(text)
+            self._layout()
+
+    def setColor(self, colour: QColor) -> None:  # noqa: N802 - pyqtgraph's name
+        self.text_item.setBrush(QColor(colour))
+
+    def setFill(self, brush: QBrush | None) -> None:  # noqa: N802
+        self.setBrush(brush if brush is not None else _NO_BRUSH)
+
+    def setAnchor(self, anchor: tuple[float, float]) -> None:  # noqa: N802 - pyqtgraph's name
+        a = (float(anchor[0]), float(anchor[1]))
+        if a != self._anchor:
+            self._anchor = a
+            self._layout()
+
+    def _layout(self) -> None:
+        r = self.text_item.boundingRect()
+        w, h = r.width() + 2 * self.PAD_PX, r.height() + 2 * self.PAD_PX
+        x, y = -self._anchor[0] * w, -self._anchor[1] * h
+        self.setRect(QRectF(x, y, w, h))
+        self.text_item.setPos(x + self.PAD_PX, y + self.PAD_PX)
 
 
 _WAYPOINT_BRUSH = pg.mkBrush("w")
@@ -335,20 +455,16 @@ class PlanCanvas(QWidget):
         # The floor plan does not change during a drag: its items repaint from cached pixels.
         for it in (self.walls_item, self.obstacles_item):
             it.setCacheMode(QGraphicsItem.CacheMode.DeviceCoordinateCache)
-        self.doors_item = pg.PlotDataItem(pen=pg.mkPen(ORANGE, width=4), connect="finite")
+        self.doors_item = _Polyline(_pen(ORANGE, 4.0))
         self.doors_item.setZValue(1)
         add(self.doors_item)
-        self.jambs_item = pg.ScatterPlotItem(symbol="o", size=6, pen=pg.mkPen(BLACK),
-                                             brush=pg.mkBrush(ORANGE))
+        self.doors_item.setCacheMode(QGraphicsItem.CacheMode.DeviceCoordinateCache)
+        self.jambs_item = _Markers("o", 6, _pen(BLACK), _brush(ORANGE))
         self.jambs_item.setZValue(1)
-        add(self.jambs_item)
-        for it in (self.doors_item, self.jambs_item):
-            it.setCacheMode(QGraphicsItem.CacheMode.DeviceCoordinateCache)
-        self.plan_labels: list[pg.TextItem] = []
+        add(self.jambs_item, ignoreBounds=True)
+        self.plan_labels: list[_Label] = []
 
-        self.others_item = pg.PlotDataItem(pen=pg.mkPen("#8C8C8C", width=1.5,
-                                                        style=Qt.PenStyle.DashDotLine),
-                                           connect="finite")
+        self.others_item = _Polyline(_pen("#8C8C8C", 1.5, Qt.PenStyle.DashDotLine))
         self.others_item.setZValue(2)
         self.others_item.setCacheMode(QGraphicsItem.CacheMode.DeviceCoordinateCache)
         add(self.others_item)
@@ -369,42 +485,32 @@ class PlanCanvas(QWidget):
         self.handles_line = _Polyline(_pen(PURPLE, 2.0))
         self.handles_line.setZValue(6)
         add(self.handles_line)
-        self.handles_item = pg.ScatterPlotItem(symbol="d", size=13, pen=pg.mkPen(BLACK, width=1),
-                                               brush=pg.mkBrush(PURPLE))
+        # Markers and labels keep their pixel size at any zoom; they are plain Qt items
+        # (see _Markers, _Label), which a drag moves without per-paint Python.
+        self.handles_item = _Markers("d", 13, _pen(BLACK, 1.0), _brush(PURPLE))
         self.handles_item.setZValue(7)
-        add(self.handles_item)
-        self.waypoints_item = pg.ScatterPlotItem(symbol="o", size=13,
-                                                 pen=pg.mkPen(BLACK, width=1.5),
-                                                 brush=pg.mkBrush("w"))
+        add(self.handles_item, ignoreBounds=True)
+        self.waypoints_item = _Markers("o", 13, _pen(BLACK, 1.5), _brush("#FFFFFF"))
         self.waypoints_item.setZValue(8)
-        add(self.waypoints_item)
-        self.pending_item = pg.ScatterPlotItem(symbol="o", size=13,
-                                               pen=pg.mkPen(BLUE, width=2), brush=None)
+        add(self.waypoints_item, ignoreBounds=True)
+        self.pending_item = _Markers("o", 13, _pen(BLUE, 2.0), None)
         self.pending_item.setZValue(8)
-        add(self.pending_item)
-        self.wp_labels: list[pg.TextItem] = []
-        self.violations_item = pg.ScatterPlotItem(size=16, pen=pg.mkPen(BLACK, width=1.5),
-                                                  brush=pg.mkBrush(VERMILLION))
+        add(self.pending_item, ignoreBounds=True)
+        self.wp_labels: list[_Label] = []
+        self.violations_item = _Markers("o", 16, _pen(BLACK, 1.5), _brush(VERMILLION))
         self.violations_item.setZValue(9)
-        add(self.violations_item)
-        self.violation_labels: list[pg.TextItem] = []
-        self.hover_item = pg.ScatterPlotItem(symbol="o", size=16, pen=pg.mkPen(BLACK, width=2),
-                                             brush=None)
+        add(self.violations_item, ignoreBounds=True)
+        self.violation_labels: list[_Label] = []
+        self.hover_item = _Markers("o", 16, _pen(BLACK, 2.0), None)
         self.hover_item.setZValue(10)
-        add(self.hover_item)
+        add(self.hover_item, ignoreBounds=True)
 
-        # Clicks belong to the canvas's gestures, not to pyqtgraph's per-point click signals.
-        for it in (self.jambs_item, self.handles_item, self.waypoints_item, self.pending_item,
-                   self.violations_item, self.hover_item):
-            it.mouseClickEvent = _ignore_click
-
-    def _labels(self, pool: list[pg.TextItem], n: int, colour: str, fill: str | None,
-                anchor: tuple[float, float]) -> list[pg.TextItem]:
+    def _labels(self, pool: list[_Label], n: int, colour: str, fill: str | None,
+                anchor: tuple[float, float]) -> list[_Label]:
         while len(pool) < n:
-            t = pg.TextItem("", color=colour, anchor=anchor,
-                            fill=pg.mkBrush(QColor(fill)) if fill else None)
+            t = _Label(colour, QBrush(QColor(fill)) if fill else None, anchor)
             t.setZValue(11)
-            self.plot.addItem(t)
+            self.plot.addItem(t, ignoreBounds=True)
             pool.append(t)
         for k, t in enumerate(pool):
             t.setVisible(k < n)
@@ -493,11 +599,11 @@ class PlanCanvas(QWidget):
         for t, (pos, text, kind, size_m) in zip(labels, named):
             if kind == "door":
                 t.setColor(QColor("#7A4A00"))
-                t.fill = pg.mkBrush(QColor(255, 255, 255, 200))
+                t.setFill(_brush("#FFFFFF", 200))
                 t.setAnchor((0.5, -0.3))
             else:
                 t.setColor(QColor("#111111"))
-                t.fill = pg.mkBrush(QColor(255, 255, 255, 170))
+                t.setFill(_brush("#FFFFFF", 170))
                 t.setAnchor((0.5, 0.5))
             t.setText(text)
             t.setPos(*pos)
@@ -690,9 +796,8 @@ class PlanCanvas(QWidget):
         if key == self._drawn.get("violations"):
             return
         self._drawn["violations"] = key
-        spots = [{"pos": (v.x, v.y), "symbol": VIOLATION_SYMBOLS.get(v.kind, "o"),
-                  "data": k} for k, v in enumerate(vs)]
-        self.violations_item.setData(spots)
+        self.violations_item.setData([v.x for v in vs], [v.y for v in vs],
+                                     symbol=[VIOLATION_SYMBOLS.get(v.kind, "o") for v in vs])
         shown = vs[:MAX_LABELS]
         labels = self._labels(self.violation_labels, len(shown), "#5A1E00",
                               "#FFFFFFDD", (-0.12, -0.1))
