@@ -260,20 +260,20 @@ class _SegmentResult:
 
     ``near`` is the least clearance and its solid among the solids within the margin, or
     ``None`` when there are none; then the clearance to the nearest solid farther away is only
-    measured when the route's least clearance needs it (``RouteChecker._clearance``), and
-    ``lower_m`` bounds it from below meanwhile.
+    measured when the route's least clearance needs it (``RouteChecker._least``) and kept in
+    ``far``; until then its clearance is known to exceed ``lower_m``.
     """
 
-    __slots__ = ("swept", "hits", "doors", "near", "lower_m", "far", "xy")
+    __slots__ = ("swept", "hits", "doors", "near", "far", "lower_m", "xy")
 
-    def __init__(self, swept: _Parts, near: tuple[float, int] | None, lower_m: float,
+    def __init__(self, swept: _Parts, near: tuple[float, int] | None,
                  hits: tuple[_Hit, ...], doors: tuple[tuple[int, float], ...]) -> None:
         self.swept = swept
         self.near = near
-        self.lower_m = lower_m
         self.hits = hits
         self.doors = doors
         self.far: tuple[float, int | None] | None = None
+        self.lower_m = -math.inf
         self.xy: tuple[float, float] | None = None
 
     @property
@@ -400,7 +400,6 @@ class RouteChecker:
         parts = sw.parts
         hits: list[_Hit] = []
         best, best_j = math.inf, None
-        lower = math.inf
         if len(idx):
             near = np.unique(idx.tree.query(parts, predicate="dwithin", distance=margin)[1]
                              if margin > 0.0 else
@@ -414,14 +413,6 @@ class RouteChecker:
                     best, best_j = c, j
                 if c < margin:
                     hits.append(self._hit(seg, sw, j, c))
-            lower = best
-            if best_j is None:
-                # Nothing within the margin: the distance from the parts' bounding box to the
-                # nearest solid bounds the clearance from below until it is needed.
-                b = shapely.bounds(parts)
-                box = shapely.box(b[:, 0].min(), b[:, 1].min(), b[:, 2].max(), b[:, 3].max())
-                _, dd = idx.tree.query_nearest(box, return_distance=True, all_matches=False)
-                lower = max(margin, float(dd[0]))
         doors = []
         if len(idx.doors):
             crossed = np.unique(idx.door_tree.query(parts, predicate="intersects")[1])
@@ -436,7 +427,7 @@ class RouteChecker:
                     c = min(c, d if d > 0.0 else -overlap_depth(local.union, solid))
                 doors.append((k, c))
         near = None if best_j is None else (best, best_j)
-        return _SegmentResult(sw, near, lower, tuple(hits), tuple(doors))
+        return _SegmentResult(sw, near, tuple(hits), tuple(doors))
 
     def _clearance(self, res: _SegmentResult) -> tuple[float, int | None]:
         """Least clearance of a segment's swept region and the solid (``inf, None``: none)."""
@@ -455,19 +446,31 @@ class RouteChecker:
     def _least(self, results: list[_SegmentResult]) -> int:
         """Index of the first segment with the least clearance.
 
-        Segments are measured in order of their lower bounds, stopping once a bound exceeds
-        the least clearance found, so the answer is that of measuring every segment.
+        Segments whose clearance is known (a solid within the margin, or measured in an
+        earlier check) go first. A segment not yet measured is measured only if some solid
+        lies within the least clearance so far of its swept region's bounding box (which
+        contains the region, so it is at least as near any solid); otherwise its clearance
+        exceeds that least one. The answer is that of measuring every segment.
         """
-        order = np.argsort([r.lower_m for r in results], kind="stable")
+        known = [i for i, r in enumerate(results) if r.near is not None or r.far is not None]
+        rest = [i for i, r in enumerate(results) if r.near is None and r.far is None]
         best, best_i = math.inf, None
-        for i in order.tolist():
+        for i in known + rest:
             r = results[i]
-            if r.lower_m > best:
-                break
+            if r.near is None and r.far is None and best_i is not None:
+                # Nothing lies within the margin of this one, so it is farther than that.
+                if max(r.lower_m, self.margin_m) >= best:
+                    continue
+                b = shapely.bounds(r.swept.parts)
+                box = shapely.box(b[:, 0].min(), b[:, 1].min(), b[:, 2].max(), b[:, 3].max())
+                if not len(self.index.tree.query_nearest(box, max_distance=best,
+                                                         all_matches=False)):
+                    r.lower_m = best
+                    continue
             c = self._clearance(r)[0]
             if c < best or (c == best and (best_i is None or i < best_i)):
                 best, best_i = c, i
-        return int(order[0]) if best_i is None else best_i
+        return 0 if best_i is None else best_i
 
     def _where_least(self, res: _SegmentResult) -> tuple[float, float]:
         if res.xy is None:

@@ -473,7 +473,7 @@ def test_plan_text_lists_notes_and_counts_waypoints_from_one():
     plan = plan_route(Route("r", wps, 1.0, extra={"allow_smaller_radius": True}),
                       CHASSIS["differential"])
     text = format_plan_text([plan])
-    # Source: contract.md `swathe plan` text listing; the route's notes are printed, and
+    # Source: common practice - the text listing shows the RoutePlan.notes verbatim, and
     # waypoints are numbered from 1 as in the window (the last of five is "waypoint 5").
     for note in plan.notes:
         assert f"note: {note}" in text
