@@ -25,7 +25,7 @@ import numpy as np
 import pyqtgraph as pg
 import shapely
 from pyqtgraph.graphicsItems.ScatterPlotItem import Symbols
-from PySide6.QtCore import QPoint, QPointF, QRectF, Qt, Signal
+from PySide6.QtCore import QEvent, QPoint, QPointF, QRectF, Qt, QTimer, Signal
 from PySide6.QtGui import QAction, QBrush, QColor, QKeySequence, QPainterPath, QPen, QTransform
 from PySide6.QtWidgets import (
     QGraphicsItem,
@@ -371,6 +371,9 @@ class PlanCanvas(QWidget):
     message = Signal(str)
     selectionChanged = Signal(int)
     modeChanged = Signal(str)
+    # Once, soon after the plan was first painted: work that the first picture can do
+    # without (the other routes, the window's bottom panels) starts then.
+    firstPainted = Signal()
 
     def __init__(self, doc: Document, parent: QWidget | None = None) -> None:
         super().__init__(parent)
@@ -390,6 +393,7 @@ class PlanCanvas(QWidget):
         self._sweep_cache_key: object = None
         self._sample_cache: dict = {}
         self._drawn: dict = {}  # what some items show now, to skip redrawing the same
+        self.painted = False  # the viewport has painted once (see firstPainted)
 
         self.view = PlanViewBox(self)
         self.plot = pg.PlotWidget(viewBox=self.view, background="w")
@@ -430,9 +434,21 @@ class PlanCanvas(QWidget):
         self._delete_action.setShortcutContext(Qt.ShortcutContext.WidgetWithChildrenShortcut)
         self._delete_action.triggered.connect(self.delete_selected)
         self.addAction(self._delete_action)
+        self.plot.viewport().installEventFilter(self)
         self.refresh_plan()
         self.refresh_routes()
         self.fit()
+
+    def eventFilter(self, obj, ev) -> bool:  # noqa: N802 - Qt's name
+        if ev.type() == QEvent.Type.Paint and obj is self.plot.viewport() and not self.painted:
+            self.painted = True
+            obj.removeEventFilter(self)
+            QTimer.singleShot(0, self._after_first_paint)
+        return False
+
+    def _after_first_paint(self) -> None:
+        self._draw_other_routes()
+        self.firstPainted.emit()
 
     # -- items ------------------------------------------------------------------------------
     def _build_items(self) -> None:
@@ -681,6 +697,12 @@ class PlanCanvas(QWidget):
     def _draw_other_routes(self) -> None:
         """Other routes: faint dash-dot paths so the user sees what else shares the floor."""
         doc = self.doc
+        if not self.painted:
+            # The first picture shows the route being edited; the others are planned and
+            # drawn right after it (see _after_first_paint).
+            self.others_item.setData([], [])
+            self._drawn.pop("others", None)
+            return
         others = [(r, doc.plan(r.name)) for i, r in enumerate(doc.project.routes)
                   if i != doc.current_route]
         # The key holds the objects themselves: compared by identity, never a reused id().

@@ -343,23 +343,44 @@ class MainWindow(QMainWindow):
                    Qt.DockWidgetArea.BottomDockWidgetArea)
         self.chassis_panel = self._panel("panels", "ChassisPanel")
         self.results_panel = self._panel("panels", "ResultsPanel")
-        self.plots_panel = self._panel("plots", "PlotsPanel")
-        self.schedule_table = self._panel("panels", "ScheduleTable")
         self.chassis_dock = self._dock("Chassis", "chassis", self.chassis_panel or _placeholder(
             "The chassis editor is not available in this build."), L)
         self.results_dock = self._dock("Check results", "results", self.results_panel
                                        or _placeholder("The results list is not available in "
                                                        "this build."), R)
-        self.plots_dock = self._dock("Speed and wheel rates", "plots", self.plots_panel
-                                     or _placeholder("Plots are not available in this build."), B)
-        self.schedule_dock = self._dock("Schedule", "schedule", self.schedule_table
-                                        or _placeholder("The schedule table is not available "
-                                                        "in this build."), B)
+        # The plots and the schedule (a pyqtgraph layout, a schedule per route: a good part of
+        # the startup) are built once the plan has been shown, or when first asked for.
+        self._later_panels: dict[str, QWidget | None] | None = None
+        self.plots_dock = self._dock("Speed and wheel rates", "plots", QWidget(), B)
+        self.schedule_dock = self._dock("Schedule", "schedule", QWidget(), B)
         self.tabifyDockWidget(self.plots_dock, self.schedule_dock)
         self.plots_dock.raise_()
         self.resizeDocks([self.chassis_dock, self.results_dock], [300, 320],
                          Qt.Orientation.Horizontal)
         self.resizeDocks([self.plots_dock], [240], Qt.Orientation.Vertical)
+        self.canvas.firstPainted.connect(self._build_later_panels)
+
+    def _build_later_panels(self) -> dict[str, QWidget | None]:
+        """Build the plots and schedule panels (once) and put them in their docks."""
+        if self._later_panels is None:
+            plots = self._panel("plots", "PlotsPanel")
+            table = self._panel("panels", "ScheduleTable")
+            self._later_panels = {"plots": plots, "schedule": table}
+            self.plots_dock.setWidget(plots or _placeholder(
+                "Plots are not available in this build."))
+            self.schedule_dock.setWidget(table or _placeholder(
+                "The schedule table is not available in this build."))
+        return self._later_panels
+
+    @property
+    def plots_panel(self) -> QWidget | None:
+        """The speed and wheel-rate plots (built on first use)."""
+        return self._build_later_panels()["plots"]
+
+    @property
+    def schedule_table(self) -> QWidget | None:
+        """The schedule table (built on first use)."""
+        return self._build_later_panels()["schedule"]
 
     def _build_status(self) -> None:
         sb = self.statusBar()
