@@ -38,7 +38,8 @@ from shapely.geometry import LineString, Point
 from shapely.geometry.base import BaseGeometry
 
 from .floorplan import FloorPlan, Solid, check_footprint, solids
-from .segments import Segment, poses_along, segment_stations
+from .motion import sinc_terms
+from .segments import Segment, segment_stations
 from .sweep import (
     DEFAULT_TOLERANCE_M,
     Footprint,
@@ -680,30 +681,38 @@ class RouteChecker:
             return []
         out = []
         idx = self.index
-        total = float(stations[-1]) if len(segs) else 0.0
+        xy = np.array([(float(w.x if hasattr(w, "x") else w[0]),
+                        float(w.y if hasattr(w, "y") else w[1])) for w in waypoints])
+        # Bulk queries with a hair of slack pick the few waypoints worth a closer look; each
+        # of those is then judged one by one exactly as a lone query would.
+        maybe_inside = np.zeros(len(xy), dtype=bool)
+        maybe_inside[idx.tree.query(shapely.points(xy), predicate="dwithin",
+                                    distance=_SLACK_M)[0]] = True
+        maybe_hit = np.zeros(len(xy), dtype=bool)
         if segs:
+            total = float(stations[-1])
             n = max(2, int(math.ceil(total / 0.02)) + 1)
             st = np.linspace(0.0, total, n)
-            poses = poses_along(segs, st)
-        for k, w in enumerate(waypoints):
-            wx = float(w.x if hasattr(w, "x") else w[0])
-            wy = float(w.y if hasattr(w, "y") else w[1])
+            poses = poses_on_stations(segs, stations, st)
+            near = _nearest_rows(poses[:, :2], xy)
+            placed_all = placed_footprints(self.footprint, np.c_[xy, poses[near, 2]])
+            maybe_hit[idx.tree.query(placed_all, predicate="dwithin",
+                                     distance=_SLACK_M)[0]] = True
+        for k in np.flatnonzero(maybe_inside | maybe_hit).tolist():
+            wx, wy = float(xy[k, 0]), float(xy[k, 1])
             pt = Point(wx, wy)
             inside = idx.within(pt, 0.0)
             if len(inside):
                 solid = idx.solids[int(inside[0])]
                 depth = float(shapely.distance(pt, solid.geometry.boundary))
-                s_k = 0.0
-                if segs:
-                    s_k = float(st[int(np.argmin(np.hypot(poses[:, 0] - wx,
-                                                          poses[:, 1] - wy)))])
+                s_k = float(st[near[k]]) if segs else 0.0
                 out.append(Violation("waypoint_blocked", self._seg_at(stations, s_k), s_k,
                                      wx, wy, depth, f"waypoint {k + 1} at ({wx:.2f}, {wy:.2f}) "
                                      f"lies inside {solid.name}", solid.name))
                 continue
             if not segs:
                 continue
-            m = int(np.argmin(np.hypot(poses[:, 0] - wx, poses[:, 1] - wy)))
+            m = int(near[k])
             pose = (wx, wy, float(poses[m, 2]))
             placed = placed_footprints(self.footprint, [pose])[0]
             worst, wj = 0.0, None
@@ -724,6 +733,103 @@ class RouteChecker:
     def _seg_at(stations: np.ndarray, s: float) -> int:
         n = len(stations) - 1
         return int(np.clip(np.searchsorted(stations, s, side="right") - 1, 0, max(n - 1, 0)))
+
+
+#: Slack of the bulk queries that pick waypoints for a closer look, metres.
+_SLACK_M = 1e-6
+
+
+def _nearest_rows(points: np.ndarray, targets: np.ndarray, block: int = 64) -> np.ndarray:
+    """For each target ``(x, y)`` the index of the first nearest row of ``points``, by
+    ``np.hypot``: what ``np.argmin(np.hypot(px - x, py - y))`` gives, without measuring to
+    every point.
+
+    Points go in blocks of consecutive rows; only blocks whose bounding box comes as near a
+    target as the nearest far corner of any block are measured, in row order.
+    """
+    n = len(points)
+    nb = -(-n // block)
+    padded = np.concatenate([points, np.repeat(points[-1:], nb * block - n, axis=0)])
+    boxes = padded.reshape(nb, block, 2)
+    lo, hi = boxes.min(axis=1), boxes.max(axis=1)
+    tx, ty = targets[:, 0, None], targets[:, 1, None]
+    lb = np.hypot(np.maximum(0.0, np.maximum(lo[None, :, 0] - tx, tx - hi[None, :, 0])),
+                  np.maximum(0.0, np.maximum(lo[None, :, 1] - ty, ty - hi[None, :, 1])))
+    ub = np.hypot(np.maximum(np.abs(tx - lo[None, :, 0]), np.abs(tx - hi[None, :, 0])),
+                  np.maximum(np.abs(ty - lo[None, :, 1]), np.abs(ty - hi[None, :, 1]))
+                  ).min(axis=1)
+    out = np.empty(len(targets), dtype=int)
+    within = np.arange(block)
+    for k in range(len(targets)):
+        # A little slack so rounding in the bounds never drops the block holding the nearest.
+        cand = np.flatnonzero(lb[k] <= ub[k] * (1.0 + 1e-9) + 1e-12)
+        rows = (cand[:, None] * block + within).ravel()
+        rows = rows[rows < n]
+        d = np.hypot(points[rows, 0] - targets[k, 0], points[rows, 1] - targets[k, 1])
+        out[k] = rows[int(np.argmin(d))]
+    return out
+
+
+def poses_on_stations(segs: Sequence[Segment], edges: np.ndarray, st: np.ndarray
+                      ) -> np.ndarray:
+    """:func:`kinematics.segments.poses_along` in one pass over all stations.
+
+    The same closed forms with the same floating-point operations, per station instead of
+    per segment (so the result is the same to the last bit; a test compares them).
+
+    Parameters
+    ----------
+    segs : sequence of Segment
+    edges : ndarray, shape (n + 1,)
+        :func:`kinematics.segments.segment_stations` of ``segs``.
+    st : ndarray
+        Route stations, metres.
+    """
+    n = len(segs)
+    i = np.clip(np.searchsorted(edges, st, side="right") - 1, 0, n - 1)
+    start = np.array([sg.start for sg in segs], dtype=float)
+    length = np.array([sg.length_m for sg in segs], dtype=float)
+    turn = np.array([sg.turn_rad for sg in segs], dtype=float)
+    # 0: exponential map (lines, arcs), 1: turn on the spot, 2: holonomic line, 3: no length.
+    mode = np.array([1 if sg.kind == "pivot" else
+                     2 if sg.kind == "line" and (sg.course_rad is not None or
+                                                 sg.turn_rad != 0.0) else
+                     3 if sg.length_m == 0.0 else 0 for sg in segs])
+    omega = np.array([sg.turn_rad / sg.length_m if sg.kind == "arc" and sg.length_m > 0.0
+                      else 0.0 for sg in segs])
+    vx = np.array([float(sg.direction) for sg in segs])
+    # Per segment as Segment.poses_at_fraction evaluates them (a 0-d numpy cos / sin of the
+    # start heading in the exponential map, math.cos / sin of the course on holonomic lines).
+    cth = np.array([float(np.cos(np.asarray(sg.start, dtype=float)[..., 2])) for sg in segs])
+    sth = np.array([float(np.sin(np.asarray(sg.start, dtype=float)[..., 2])) for sg in segs])
+    cc = np.array([math.cos(sg.course) if m == 2 else 0.0 for sg, m in zip(segs, mode)])
+    sc = np.array([math.sin(sg.course) if m == 2 else 0.0 for sg, m in zip(segs, mode)])
+    x0, y0, th0 = start[i, 0], start[i, 1], start[i, 2]
+    L, md = length[i], mode[i]
+    with np.errstate(divide="ignore", invalid="ignore"):
+        f = np.where(L > 0.0, (st - edges[i]) / np.where(L > 0.0, L, 1.0), 1.0)
+    t = f * L
+    phi = omega[i] * t
+    S, C = sinc_terms(phi)
+    vxi = vx[i]
+    vy = np.zeros_like(t)
+    bx = t * (S * vxi - C * vy)
+    by = t * (C * vxi + S * vy)
+    c, s = cth[i], sth[i]
+    out = np.empty((len(st), 3))
+    out[:, 0] = x0 + c * bx - s * by
+    out[:, 1] = y0 + s * bx + c * by
+    out[:, 2] = th0 + phi
+    h = md == 2
+    out[h, 0] = x0[h] + t[h] * cc[i[h]]
+    out[h, 1] = y0[h] + t[h] * sc[i[h]]
+    out[h, 2] = th0[h] + f[h] * turn[i[h]]
+    p = md == 1
+    out[p, 0], out[p, 1] = x0[p], y0[p]
+    out[p, 2] = th0[p] + 1.0 * turn[i[p]]
+    z = md == 3
+    out[z] = start[i[z]]
+    return out
 
 
 def check_route(plan_or_segments: Any, chassis: Any, index: ObstacleIndex,

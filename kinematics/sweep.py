@@ -130,6 +130,15 @@ def _place(ring: NDArray[np.float64], poses: NDArray[np.float64]) -> NDArray[np.
     return np.stack([x, y], axis=-1)
 
 
+def _place_one(ring: NDArray[np.float64], pose: Sequence[float]) -> NDArray[np.float64]:
+    """Footprint vertices at one pose, shape ``(N, 2)`` (the same map as :func:`_place`)."""
+    c, s = math.cos(pose[2]), math.sin(pose[2])
+    out = np.empty_like(ring)
+    out[:, 0] = pose[0] + c * ring[:, 0] - s * ring[:, 1]
+    out[:, 1] = pose[1] + s * ring[:, 0] + c * ring[:, 1]
+    return out
+
+
 def placed_footprints(footprint: FootprintLike, poses: ArrayLike) -> NDArray[np.object_]:
     """The footprint placed at each pose, as an array of shapely polygons.
 
@@ -349,8 +358,7 @@ def segment_parts(footprint: FootprintLike, seg: Segment,
     fp = prepare_footprint(footprint)
     ring, convex, r_far = fp.ring, fp.convex, fp.r_far_m
     tol = _ARC_SHARE * float(tolerance_m)
-    start = np.array([seg.start])
-    placed0 = _place(ring, start)[0]
+    placed0 = _place_one(ring, seg.start)
     if seg.kind == "pivot":
         parts = rotation_parts(placed0, seg.start[:2], seg.turn_rad, tol)
         return _polys(parts, False), 0.0

@@ -216,3 +216,4 @@ def test_footprint_is_made_counter_clockwise():
     fp = prepare_footprint(RECT[::-1])
     assert Polygon(fp.ring).exterior.is_ccw
     assert fp.convex and not prepare_footprint(ELL).convex
+
