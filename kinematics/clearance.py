@@ -370,6 +370,7 @@ class RouteChecker:
         self.cache_size = int(cache_size)
         self._cache: OrderedDict[tuple, _SegmentResult] = OrderedDict()
         self._near: dict[tuple, float] = {}
+        self._rows: dict[Segment, tuple[float, ...]] = {}
         self.swept_count = 0  # segments swept (not taken from the cache), for tests
 
     # -- per segment ----------------------------------------------------------------------
@@ -693,7 +694,9 @@ class RouteChecker:
             total = float(stations[-1])
             n = max(2, int(math.ceil(total / 0.02)) + 1)
             st = np.linspace(0.0, total, n)
-            poses = poses_on_stations(segs, stations, st)
+            if len(self._rows) > 4 * self.cache_size:
+                self._rows.clear()
+            poses = poses_on_stations(segs, stations, st, self._rows)
             near = _nearest_rows(poses[:, :2], xy)
             placed_all = placed_footprints(self.footprint, np.c_[xy, poses[near, 2]])
             maybe_hit[idx.tree.query(placed_all, predicate="dwithin",
@@ -770,8 +773,23 @@ def _nearest_rows(points: np.ndarray, targets: np.ndarray, block: int = 64) -> n
     return out
 
 
-def poses_on_stations(segs: Sequence[Segment], edges: np.ndarray, st: np.ndarray
-                      ) -> np.ndarray:
+def _station_row(sg: Segment) -> tuple[float, ...]:
+    """What :func:`poses_on_stations` needs of one segment, evaluated as
+    :meth:`Segment.poses_at_fraction` evaluates it (a 0-d numpy cos / sin of the start heading
+    in the exponential map, ``math.cos`` / ``sin`` of the course on holonomic lines)."""
+    # 0: exponential map (lines, arcs), 1: turn on the spot, 2: holonomic line, 3: no length.
+    mode = (1 if sg.kind == "pivot" else
+            2 if sg.kind == "line" and (sg.course_rad is not None or sg.turn_rad != 0.0) else
+            3 if sg.length_m == 0.0 else 0)
+    omega = sg.turn_rad / sg.length_m if sg.kind == "arc" and sg.length_m > 0.0 else 0.0
+    th = np.asarray(sg.start, dtype=float)[..., 2]
+    cc, sc = (math.cos(sg.course), math.sin(sg.course)) if mode == 2 else (0.0, 0.0)
+    return (*sg.start, sg.length_m, sg.turn_rad, mode, omega, float(sg.direction),
+            float(np.cos(th)), float(np.sin(th)), cc, sc)
+
+
+def poses_on_stations(segs: Sequence[Segment], edges: np.ndarray, st: np.ndarray,
+                      cache: dict | None = None) -> np.ndarray:
     """:func:`kinematics.segments.poses_along` in one pass over all stations.
 
     The same closed forms with the same floating-point operations, per station instead of
@@ -784,26 +802,16 @@ def poses_on_stations(segs: Sequence[Segment], edges: np.ndarray, st: np.ndarray
         :func:`kinematics.segments.segment_stations` of ``segs``.
     st : ndarray
         Route stations, metres.
+    cache : dict, optional
+        Per-segment values kept between calls (keyed by segment).
     """
     n = len(segs)
     i = np.clip(np.searchsorted(edges, st, side="right") - 1, 0, n - 1)
-    start = np.array([sg.start for sg in segs], dtype=float)
-    length = np.array([sg.length_m for sg in segs], dtype=float)
-    turn = np.array([sg.turn_rad for sg in segs], dtype=float)
-    # 0: exponential map (lines, arcs), 1: turn on the spot, 2: holonomic line, 3: no length.
-    mode = np.array([1 if sg.kind == "pivot" else
-                     2 if sg.kind == "line" and (sg.course_rad is not None or
-                                                 sg.turn_rad != 0.0) else
-                     3 if sg.length_m == 0.0 else 0 for sg in segs])
-    omega = np.array([sg.turn_rad / sg.length_m if sg.kind == "arc" and sg.length_m > 0.0
-                      else 0.0 for sg in segs])
-    vx = np.array([float(sg.direction) for sg in segs])
-    # Per segment as Segment.poses_at_fraction evaluates them (a 0-d numpy cos / sin of the
-    # start heading in the exponential map, math.cos / sin of the course on holonomic lines).
-    cth = np.array([float(np.cos(np.asarray(sg.start, dtype=float)[..., 2])) for sg in segs])
-    sth = np.array([float(np.sin(np.asarray(sg.start, dtype=float)[..., 2])) for sg in segs])
-    cc = np.array([math.cos(sg.course) if m == 2 else 0.0 for sg, m in zip(segs, mode)])
-    sc = np.array([math.sin(sg.course) if m == 2 else 0.0 for sg, m in zip(segs, mode)])
+    rows = np.array([_station_row(sg) if cache is None else cache.get(sg) or
+                     cache.setdefault(sg, _station_row(sg)) for sg in segs], dtype=float)
+    start, length, turn = rows[:, 0:3], rows[:, 3], rows[:, 4]
+    mode, omega, vx = rows[:, 5].astype(int), rows[:, 6], rows[:, 7]
+    cth, sth, cc, sc = rows[:, 8], rows[:, 9], rows[:, 10], rows[:, 11]
     x0, y0, th0 = start[i, 0], start[i, 1], start[i, 2]
     L, md = length[i], mode[i]
     with np.errstate(divide="ignore", invalid="ignore"):
