@@ -30,9 +30,12 @@ minimum (a note says so). A differential chassis with a minimum radius cannot pi
 planned with fillets and any pivot left in its route is a ``turn_radius`` issue too.
 Consecutive duplicate waypoints are merged (a note says so); where they give different
 headings each is met in turn on the spot, with pivots where the drive may pivot and with
-Dubins / Reeds-Shepp loops back to the point where it may not. Every segment is built from
-the end pose of the one before, so joints are continuous to rounding, and the route ends at
-the last waypoint.
+Dubins / Reeds-Shepp loops back to the point where it may not. Each piece (a line, a corner
+turn, a Dubins / Reeds-Shepp connection) starts at the pose it was laid to reach, computed
+from the waypoints alone, where the previous piece's end agrees with that pose to rounding;
+so joints are continuous to rounding, the route ends at the last waypoint, and moving one
+waypoint leaves every piece away from it exactly as it was. :class:`RoutePlanner` keeps those
+pieces between calls (its plans equal :func:`plan_route`'s) for a window replanning on drags.
 Waypoint indices in issues (``waypoint``) and ``chosen_headings`` are 0-based indices into
 the route's waypoints as given; messages and notes, which people read beside the window and
 the rendered picture, count waypoints from 1 ("waypoint 3" is the third, index 2).
