@@ -20,7 +20,7 @@ from __future__ import annotations
 import math
 from collections.abc import Sequence
 from dataclasses import dataclass
-from typing import ClassVar
+from typing import Any, ClassVar
 
 import numpy as np
 from numpy.typing import ArrayLike, NDArray
@@ -347,8 +347,15 @@ def batch_segments(batch: DubinsBatch, starts: ArrayLike, i: int) -> list[Segmen
     list of Segment
         As :func:`path_segments` returns for that pair.
     """
+    return word_segments(batch, starts, i, WORDS)
+
+
+def word_segments(batch: Any, starts: ArrayLike, i: int,
+                  names: Sequence[str]) -> list[Segment]:
+    """Segments of pair ``i`` of any word batch (Dubins or Reeds-Shepp), whose word indices
+    point into ``names`` and whose ``params`` are signed piece lengths in metres."""
     p0 = np.atleast_2d(np.asarray(starts, dtype=float))
-    return pieces_to_segments(p0[i], WORDS[int(batch.word[i])], batch.params[i],
+    return pieces_to_segments(p0[i], names[int(batch.word[i])], batch.params[i],
                               float(batch.radius_m[i]))
 
 

@@ -33,7 +33,7 @@ from typing import ClassVar
 import numpy as np
 from numpy.typing import ArrayLike, NDArray
 
-from .dubins import _check_inputs, normalised_goal, pieces_to_segments, same_pose
+from .dubins import _check_inputs, normalised_goal, same_pose, word_segments
 from .segments import Segment
 
 PI = math.pi
@@ -514,9 +514,7 @@ def batch_segments(batch: ReedsSheppBatch, starts: ArrayLike, i: int) -> list[Se
     list of Segment
         As :func:`path_segments` returns for that pair.
     """
-    p0 = np.atleast_2d(np.asarray(starts, dtype=float))
-    return pieces_to_segments(p0[i], LETTERS[int(batch.word[i])], batch.params[i],
-                              float(batch.radius_m[i]))
+    return word_segments(batch, starts, i, LETTERS)
 
 
 def path_segments(start: Sequence[float], goal: Sequence[float],
