@@ -37,17 +37,19 @@ from PySide6.QtGui import (
 
 from kinematics.report_text import CAUTION
 
-# -- palette (Okabe & Ito 2008) -------------------------------------------------------------
-BLACK = "#000000"
-ORANGE = "#E69F00"
-SKY = "#56B4E9"
-GREEN = "#009E73"
-YELLOW = "#F0E442"
-BLUE = "#0072B2"
-VERMILLION = "#D55E00"
-PURPLE = "#CC79A7"
-WALL_FILL = "#4D4D4D"
-OBSTACLE_FILL = "#A6A6A6"
+from .palette import (  # noqa: F401 - re-exported for the report and tests
+    BLACK,
+    BLUE,
+    GREEN,
+    OBSTACLE_FILL,
+    ORANGE,
+    PURPLE,
+    SKY,
+    VERMILLION,
+    WALL_FILL,
+    YELLOW,
+)
+
 INK = "#1A1A1A"
 FAINT_INK = "#5C5C5C"
 #: The swept band: sky blue, translucent so walls and outlines show through it.
