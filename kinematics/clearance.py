@@ -19,6 +19,16 @@ re-sweeps only what moved. A segment with no solid within the margin measures it
 to the nearest solid only when the bounding box of its swept region comes nearer a solid than
 the route's least clearance found so far.
 
+``waypoint_blocked`` places the footprint at each waypoint with the heading of the route pose
+nearest it among grid poses that each segment lays out on its own stations (every 2 cm or
+finer, both ends included; the first nearest in route order). The grid is per segment rather
+than along the whole route so that an unchanged segment keeps it when the route's length
+changes elsewhere: the search and the verdicts are then kept by values and a warm checker
+gives exactly a fresh one's answer. The reported station is the segment's start station plus
+the grid pose's local station; the overlap found is that of a real placement on the path, so a
+reported block is never spurious (a tighter placement between grid poses may be missed, as
+with any sampled grid).
+
 Messages count waypoints from 1 as the window and the rendered picture do ("waypoint 3" is the
 route's third); ``segment`` fields and the segment numbers in messages are 0-based indices
 into the plan's segments, as in ``plan --json``.
@@ -370,7 +380,9 @@ class RouteChecker:
         self.cache_size = int(cache_size)
         self._cache: OrderedDict[tuple, _SegmentResult] = OrderedDict()
         self._near: dict[tuple, float] = {}
-        self._rows: dict[Segment, tuple[float, ...]] = {}
+        self._grids: dict[tuple, tuple[np.ndarray, np.ndarray, tuple]] = {}
+        self._wp_near: dict[tuple, tuple[float, int]] = {}
+        self._wp_judged: dict[tuple, tuple | None] = {}
         self.swept_count = 0  # segments swept (not taken from the cache), for tests
 
     # -- per segment ----------------------------------------------------------------------
@@ -676,60 +688,146 @@ class RouteChecker:
             out.append(Violation(kind, i0, st, h0.x, h0.y, float(amount), msg, solid))
         return out
 
+    def _segment_grid(self, seg: Segment) -> tuple[np.ndarray, np.ndarray, tuple]:
+        """The segment's own station grid (every :data:`_GRID_M` or finer, both ends included;
+        a segment of no length has the one pose at its end), its poses, and their bounding box.
+        Local to the segment, so an unchanged segment keeps it however the route around it
+        changes."""
+        key = self.cache_key(seg)
+        got = self._grids.get(key)
+        if got is None:
+            L = float(seg.length_m)
+            if L > 0.0:
+                local = np.linspace(0.0, L, max(1, int(math.ceil(L / _GRID_M))) + 1)
+            else:
+                local = np.zeros(1)
+            poses = poses_on_stations((seg,), np.array([0.0, L]), local)
+            lo, hi = poses[:, :2].min(axis=0), poses[:, :2].max(axis=0)
+            got = (local, poses, (float(lo[0]), float(lo[1]), float(hi[0]), float(hi[1])))
+            if len(self._grids) > 4 * self.cache_size:
+                self._grids.clear()
+            self._grids[key] = got
+        return got
+
+    def _nearest_placement(self, keys: list[tuple], grids: list[tuple], wx: float, wy: float,
+                           lb: np.ndarray, ub: float) -> tuple[int, int]:
+        """Segment and grid row of the first nearest grid pose to ``(wx, wy)`` in route order
+        (first segment, then first row among equal ``np.hypot`` distances). Segments whose
+        box is farther than the nearest far box corner cannot hold it and are skipped; each
+        segment's own answer is kept by its value and the waypoint's coordinates."""
+        best, best_i, best_r = math.inf, 0, 0
+        for i in np.flatnonzero(lb <= ub * (1.0 + 1e-9) + 1e-12).tolist():
+            key = (keys[i], wx, wy)
+            got = self._wp_near.get(key)
+            if got is None:
+                poses = grids[i][1]
+                d = np.hypot(poses[:, 0] - wx, poses[:, 1] - wy)
+                r = int(np.argmin(d))
+                got = (float(d[r]), r)
+                if len(self._wp_near) > 4 * self.cache_size:
+                    self._wp_near.clear()
+                self._wp_near[key] = got
+            if got[0] < best:
+                best, best_i, best_r = got[0], i, got[1]
+        return best_i, best_r
+
+    def _judge_waypoints(self, xy: np.ndarray, heading: list[float | None]
+                         ) -> list[tuple | None]:
+        """For each waypoint ``(x, y)`` with the heading of its placement (``None``: no route):
+        ``None`` if clear, ``("inside", solid, depth)`` or ``("overlap", solid, depth)``.
+        Kept by those three values; the new ones are judged together."""
+        idx = self.index
+        keys = [(float(x), float(y), h) for (x, y), h in zip(xy.tolist(), heading)]
+        todo = [k for k, key in enumerate(keys) if key not in self._wp_judged]
+        if todo:
+            sub = xy[todo]
+            # Bulk queries with a hair of slack pick the few waypoints worth a closer look;
+            # each of those is then judged one by one exactly as a lone query would.
+            look = np.zeros(len(todo), dtype=bool)
+            look[idx.tree.query(shapely.points(sub), predicate="dwithin",
+                                distance=_SLACK_M)[0]] = True
+            placed_rows = [j for j, k in enumerate(todo) if heading[k] is not None]
+            placed_all = None
+            if placed_rows:
+                placed_all = placed_footprints(
+                    self.footprint, np.array([(*sub[j], heading[todo[j]]) for j in placed_rows]))
+                look[np.asarray(placed_rows)[idx.tree.query(
+                    placed_all, predicate="dwithin", distance=_SLACK_M)[0]]] = True
+            where = {j: n for n, j in enumerate(placed_rows)}
+            if len(self._wp_judged) > 4 * self.cache_size:
+                self._wp_judged.clear()
+            for j, k in enumerate(todo):
+                verdict = None
+                if look[j]:
+                    wx, wy = keys[k][0], keys[k][1]
+                    pt = Point(wx, wy)
+                    inside = idx.within(pt, 0.0)
+                    if len(inside):
+                        si = int(inside[0])
+                        verdict = ("inside", si, float(shapely.distance(
+                            pt, idx.solids[si].geometry.boundary)))
+                    elif placed_all is not None and j in where:
+                        placed = placed_all[where[j]]
+                        worst, wj = 0.0, None
+                        for q in idx.within(placed, 0.0).tolist():
+                            d = overlap_depth(placed, idx.geometries[q])
+                            if d > worst:
+                                worst, wj = d, q
+                        if wj is not None:
+                            verdict = ("overlap", wj, worst)
+                self._wp_judged[keys[k]] = verdict
+        return [self._wp_judged[key] for key in keys]
+
     def _waypoint_violations(self, segs: tuple[Segment, ...], stations: np.ndarray,
                              waypoints: Sequence[Any] | None) -> list[Violation]:
+        """``waypoint_blocked``: a waypoint inside a solid, or the footprint placed at it with
+        the heading of the route's nearest grid pose overlapping one.
+
+        Each segment carries its own grid (:meth:`_segment_grid`); the nearest grid pose of
+        the route is the first nearest in route order. Both the search and the verdict are
+        kept by values (the segment's, the waypoint's, the heading), so a warm checker gives
+        exactly what a fresh one gives while only moved waypoints and segments are looked at
+        again.
+        """
         if not waypoints or not len(self.index):
             return []
-        out = []
         idx = self.index
         xy = np.array([(float(w.x if hasattr(w, "x") else w[0]),
                         float(w.y if hasattr(w, "y") else w[1])) for w in waypoints])
-        # Bulk queries with a hair of slack pick the few waypoints worth a closer look; each
-        # of those is then judged one by one exactly as a lone query would.
-        maybe_inside = np.zeros(len(xy), dtype=bool)
-        maybe_inside[idx.tree.query(shapely.points(xy), predicate="dwithin",
-                                    distance=_SLACK_M)[0]] = True
-        maybe_hit = np.zeros(len(xy), dtype=bool)
+        seg_of = [0] * len(xy)
+        st_of = [0.0] * len(xy)
+        heading: list[float | None] = [None] * len(xy)
         if segs:
-            total = float(stations[-1])
-            n = max(2, int(math.ceil(total / 0.02)) + 1)
-            st = np.linspace(0.0, total, n)
-            if len(self._rows) > 4 * self.cache_size:
-                self._rows.clear()
-            poses = poses_on_stations(segs, stations, st, self._rows)
-            near = _nearest_rows(poses[:, :2], xy)
-            placed_all = placed_footprints(self.footprint, np.c_[xy, poses[near, 2]])
-            maybe_hit[idx.tree.query(placed_all, predicate="dwithin",
-                                     distance=_SLACK_M)[0]] = True
-        for k in np.flatnonzero(maybe_inside | maybe_hit).tolist():
+            keys = [self.cache_key(s) for s in segs]
+            grids = [self._segment_grid(s) for s in segs]
+            boxes = np.array([g[2] for g in grids])
+            tx, ty = xy[:, 0, None], xy[:, 1, None]
+            lo_x, lo_y, hi_x, hi_y = boxes[None, :, 0], boxes[None, :, 1], boxes[None, :, 2], \
+                boxes[None, :, 3]
+            lb = np.hypot(np.maximum(0.0, np.maximum(lo_x - tx, tx - hi_x)),
+                          np.maximum(0.0, np.maximum(lo_y - ty, ty - hi_y)))
+            ub = np.hypot(np.maximum(np.abs(tx - lo_x), np.abs(tx - hi_x)),
+                          np.maximum(np.abs(ty - lo_y), np.abs(ty - hi_y))).min(axis=1)
+            for k in range(len(xy)):
+                i, r = self._nearest_placement(keys, grids, float(xy[k, 0]),
+                                               float(xy[k, 1]), lb[k], float(ub[k]))
+                seg_of[k] = i
+                st_of[k] = float(stations[i]) + float(grids[i][0][r])
+                heading[k] = float(grids[i][1][r, 2])
+        out = []
+        for k, verdict in enumerate(self._judge_waypoints(xy, heading)):
+            if verdict is None:
+                continue
+            what, j, depth = verdict
             wx, wy = float(xy[k, 0]), float(xy[k, 1])
-            pt = Point(wx, wy)
-            inside = idx.within(pt, 0.0)
-            if len(inside):
-                solid = idx.solids[int(inside[0])]
-                depth = float(shapely.distance(pt, solid.geometry.boundary))
-                s_k = float(st[near[k]]) if segs else 0.0
-                out.append(Violation("waypoint_blocked", self._seg_at(stations, s_k), s_k,
-                                     wx, wy, depth, f"waypoint {k + 1} at ({wx:.2f}, {wy:.2f}) "
-                                     f"lies inside {solid.name}", solid.name))
-                continue
-            if not segs:
-                continue
-            m = int(near[k])
-            pose = (wx, wy, float(poses[m, 2]))
-            placed = placed_footprints(self.footprint, [pose])[0]
-            worst, wj = 0.0, None
-            for j in idx.within(placed, 0.0).tolist():
-                d = overlap_depth(placed, idx.geometries[j])
-                if d > worst:
-                    worst, wj = d, j
-            if wj is not None:
-                name = idx.solids[wj].name
-                out.append(Violation("waypoint_blocked", self._seg_at(stations, float(st[m])),
-                                     float(st[m]), wx, wy, worst,
-                                     f"waypoint {k + 1} at ({wx:.2f}, {wy:.2f}): the footprint "
-                                     f"placed there overlaps {name} by {worst * 1000:.0f} mm",
-                                     name))
+            name = idx.solids[j].name
+            if what == "inside":
+                msg = f"waypoint {k + 1} at ({wx:.2f}, {wy:.2f}) lies inside {name}"
+            else:
+                msg = (f"waypoint {k + 1} at ({wx:.2f}, {wy:.2f}): the footprint placed there "
+                       f"overlaps {name} by {depth * 1000:.0f} mm")
+            out.append(Violation("waypoint_blocked", seg_of[k], st_of[k], wx, wy, depth, msg,
+                                 name))
         return out
 
     @staticmethod
@@ -740,6 +838,8 @@ class RouteChecker:
 
 #: Slack of the bulk queries that pick waypoints for a closer look, metres.
 _SLACK_M = 1e-6
+#: Greatest step of each segment's own station grid for waypoint placements, metres.
+_GRID_M = 0.02
 
 
 def _nearest_rows(points: np.ndarray, targets: np.ndarray, block: int = 64) -> np.ndarray:

@@ -321,3 +321,77 @@ def test_nearest_rows_is_the_first_argmin_of_hypot():
         # Source: numpy.argmin over numpy.hypot distances (first index among equal minima).
         ref = [int(np.argmin(np.hypot(pts[:, 0] - x, pts[:, 1] - y))) for x, y in targets]
         assert _nearest_rows(pts, targets).tolist() == ref
+
+
+def _blocked_reference(segs, idx, waypoints):
+    """waypoint_blocked by brute force: every segment's own 2 cm grid posed by poses_along,
+    the first nearest grid pose by hypot over the whole route, every solid measured."""
+    from kinematics.clearance import overlap_depth
+    from kinematics.segments import poses_along, segment_stations
+
+    edges = segment_stations(segs)
+    seg_i, stations, poses = [], [], []
+    for i, sg in enumerate(segs):
+        L = sg.length_m
+        local = np.linspace(0.0, L, max(1, math.ceil(L / 0.02)) + 1) if L > 0 else np.zeros(1)
+        seg_i += [i] * len(local)
+        stations += (float(edges[i]) + local).tolist()
+        poses.append(poses_along([sg], local))
+    poses = np.concatenate(poses)
+    out = []
+    for k, w in enumerate(waypoints):
+        r = int(np.argmin(np.hypot(poses[:, 0] - w.x, poses[:, 1] - w.y)))
+        pt = shapely.Point(w.x, w.y)
+        inside = [j for j, g in enumerate(idx.geometries) if g.intersects(pt)]
+        if inside:
+            j = inside[0]
+            depth = float(pt.distance(idx.geometries[j].boundary))
+        else:
+            placed = placed_footprints(CHASSIS.footprint, [(w.x, w.y, poses[r, 2])])[0]
+            depths = [overlap_depth(placed, g) for g in idx.geometries]
+            j = int(np.argmax(depths))
+            depth = depths[j]
+            if depth <= 0.0:
+                continue
+        out.append((k, seg_i[r], stations[r], depth, idx.solids[j].name))
+    return out
+
+
+_MOVE = st.tuples(st.integers(0, 6), st.floats(-0.8, 0.8), st.floats(-0.8, 0.8),
+                  st.booleans())
+
+
+@settings(max_examples=25, deadline=None)
+@given(moves=st.lists(_MOVE, min_size=1, max_size=6), radius=st.sampled_from([0.0, 1.0]))
+def test_warm_waypoint_checks_equal_fresh_ones_after_random_moves(moves, radius):
+    from kinematics.planner import RoutePlanner
+
+    # Source: common practice - keeping waypoint verdicts between checks must not change
+    # them: after every move (some onto or next to the bin, lengthening or shortening the
+    # route) the warm checker's waypoint_blocked list equals a fresh checker's, and both
+    # equal a brute-force reference (numpy.argmin of numpy.hypot over each segment's own
+    # grid posed by kinematics.segments.poses_along; shapely.intersects on every solid).
+    bin_ = Obstacle(((6, 0.3), (6.4, 0.3), (6.4, 0.9), (6, 0.9)), "bin")
+    fp = FloorPlan(walls=(Wall(((-1, 1.3), (20, 1.3)), 0.1), Wall(((-1, -1.3), (20, -1.3)), 0.1)),
+                   obstacles=(bin_, Obstacle(((11, -0.9), (11.5, -0.9), (11.5, -0.5),
+                                              (11, -0.5)), "cart")))
+    idx = ObstacleIndex(fp)
+    wps = [Waypoint(0, 0), Waypoint(3, 0.2), Waypoint(6.2, 0.6), Waypoint(9, 0.1),
+           Waypoint(12, -0.2), Waypoint(15, 0.2), Waypoint(18, 0.0)]
+    planner, checker = RoutePlanner(), RouteChecker(CHASSIS, idx)
+    for step, (k, dx, dy, onto_bin) in enumerate([(0, 0.0, 0.0, False), *moves]):
+        w = wps[k]
+        wps[k] = Waypoint(6.2 + dx / 8, 0.6 + dy / 2) if onto_bin else Waypoint(w.x + dx,
+                                                                                  w.y + dy)
+        route = Route("r", tuple(wps), turn_radius_m=radius)
+        plan = planner.plan(route, CHASSIS)
+        warm = [v for v in checker.check(plan, "r", route=route).violations
+                if v.kind == "waypoint_blocked"]
+        fresh = [v for v in check_route(plan_route(route, CHASSIS), CHASSIS, idx,
+                                        route_name="r", route=route).violations
+                 if v.kind == "waypoint_blocked"]
+        assert [v.to_dict() for v in warm] == [v.to_dict() for v in fresh], step
+        ref = _blocked_reference(plan.segments, idx, wps)
+        got = sorted((int(v.message.split()[1]) - 1, v.segment, v.station_m, v.amount_m,
+                      v.solid) for v in warm)
+        assert got == ref, step
