@@ -168,8 +168,6 @@ class MainWindow(QMainWindow):
         self.canvas.message.connect(lambda m: self.statusBar().showMessage(m, 6000))
         self.canvas.selectionChanged.connect(self._selection_changed)
         self.canvas.modeChanged.connect(self._mode_changed)
-        if self.results_panel is not None and hasattr(self.results_panel, "zoomRequested"):
-            self.results_panel.zoomRequested.connect(self.canvas.center_on)
         self._refresh_route_bar()
         self._refresh_summary()
         self._update_title()
@@ -341,16 +339,13 @@ class MainWindow(QMainWindow):
     def _build_docks(self) -> None:
         L, R, B = (Qt.DockWidgetArea.LeftDockWidgetArea, Qt.DockWidgetArea.RightDockWidgetArea,
                    Qt.DockWidgetArea.BottomDockWidgetArea)
-        self.chassis_panel = self._panel("panels", "ChassisPanel")
-        self.results_panel = self._panel("panels", "ResultsPanel")
-        self.chassis_dock = self._dock("Chassis", "chassis", self.chassis_panel or _placeholder(
-            "The chassis editor is not available in this build."), L)
-        self.results_dock = self._dock("Check results", "results", self.results_panel
-                                       or _placeholder("The results list is not available in "
-                                                       "this build."), R)
-        # The plots and the schedule (a pyqtgraph layout, a schedule per route: a good part of
-        # the startup) are built once the plan has been shown, or when first asked for.
+        # Every panel (the chassis editor and results list compile app.panels and app.render;
+        # the plots are a pyqtgraph layout with a schedule per route: together a good part of
+        # the startup) is built in the event-loop pass right after the plan is first shown, or
+        # when first asked for; until then the docks hold empty widgets of their final size.
         self._later_panels: dict[str, QWidget | None] | None = None
+        self.chassis_dock = self._dock("Chassis", "chassis", QWidget(), L)
+        self.results_dock = self._dock("Check results", "results", QWidget(), R)
         self.plots_dock = self._dock("Speed and wheel rates", "plots", QWidget(), B)
         self.schedule_dock = self._dock("Schedule", "schedule", QWidget(), B)
         self.tabifyDockWidget(self.plots_dock, self.schedule_dock)
@@ -361,16 +356,35 @@ class MainWindow(QMainWindow):
         self.canvas.firstPainted.connect(self._build_later_panels)
 
     def _build_later_panels(self) -> dict[str, QWidget | None]:
-        """Build the plots and schedule panels (once) and put them in their docks."""
+        """Build the side panels (once) and put them in their docks."""
         if self._later_panels is None:
+            chassis = self._panel("panels", "ChassisPanel")
+            results = self._panel("panels", "ResultsPanel")
             plots = self._panel("plots", "PlotsPanel")
             table = self._panel("panels", "ScheduleTable")
-            self._later_panels = {"plots": plots, "schedule": table}
+            self._later_panels = {"chassis": chassis, "results": results, "plots": plots,
+                                  "schedule": table}
+            self.chassis_dock.setWidget(chassis or _placeholder(
+                "The chassis editor is not available in this build."))
+            self.results_dock.setWidget(results or _placeholder(
+                "The results list is not available in this build."))
+            if results is not None and hasattr(results, "zoomRequested"):
+                results.zoomRequested.connect(self.canvas.center_on)
             self.plots_dock.setWidget(plots or _placeholder(
                 "Plots are not available in this build."))
             self.schedule_dock.setWidget(table or _placeholder(
                 "The schedule table is not available in this build."))
         return self._later_panels
+
+    @property
+    def chassis_panel(self) -> QWidget | None:
+        """The chassis editor (built on first use)."""
+        return self._build_later_panels()["chassis"]
+
+    @property
+    def results_panel(self) -> QWidget | None:
+        """The check results list (built on first use)."""
+        return self._build_later_panels()["results"]
 
     @property
     def plots_panel(self) -> QWidget | None:
