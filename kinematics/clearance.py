@@ -701,35 +701,13 @@ class RouteChecker:
                 local = np.linspace(0.0, L, max(1, int(math.ceil(L / _GRID_M))) + 1)
             else:
                 local = np.zeros(1)
-            poses = poses_on_stations((seg,), np.array([0.0, L]), local)
+            poses = _grid_poses(seg, local)
             lo, hi = poses[:, :2].min(axis=0), poses[:, :2].max(axis=0)
             got = (local, poses, (float(lo[0]), float(lo[1]), float(hi[0]), float(hi[1])))
             if len(self._grids) > 4 * self.cache_size:
                 self._grids.clear()
             self._grids[key] = got
         return got
-
-    def _nearest_placement(self, keys: list[tuple], grids: list[tuple], wx: float, wy: float,
-                           lb: np.ndarray, ub: float) -> tuple[int, int]:
-        """Segment and grid row of the first nearest grid pose to ``(wx, wy)`` in route order
-        (first segment, then first row among equal ``np.hypot`` distances). Segments whose
-        box is farther than the nearest far box corner cannot hold it and are skipped; each
-        segment's own answer is kept by its value and the waypoint's coordinates."""
-        best, best_i, best_r = math.inf, 0, 0
-        for i in np.flatnonzero(lb <= ub * (1.0 + 1e-9) + 1e-12).tolist():
-            key = (keys[i], wx, wy)
-            got = self._wp_near.get(key)
-            if got is None:
-                poses = grids[i][1]
-                d = np.hypot(poses[:, 0] - wx, poses[:, 1] - wy)
-                r = int(np.argmin(d))
-                got = (float(d[r]), r)
-                if len(self._wp_near) > 4 * self.cache_size:
-                    self._wp_near.clear()
-                self._wp_near[key] = got
-            if got[0] < best:
-                best, best_i, best_r = got[0], i, got[1]
-        return best_i, best_r
 
     def _judge_waypoints(self, xy: np.ndarray, heading: list[float | None]
                          ) -> list[tuple | None]:
@@ -808,9 +786,30 @@ class RouteChecker:
                           np.maximum(0.0, np.maximum(lo_y - ty, ty - hi_y)))
             ub = np.hypot(np.maximum(np.abs(tx - lo_x), np.abs(tx - hi_x)),
                           np.maximum(np.abs(ty - lo_y), np.abs(ty - hi_y))).min(axis=1)
-            for k in range(len(xy)):
-                i, r = self._nearest_placement(keys, grids, float(xy[k, 0]),
-                                               float(xy[k, 1]), lb[k], float(ub[k]))
+            # A segment whose box is farther than the nearest far box corner cannot hold the
+            # nearest grid pose (a little slack so rounding never drops the one that does).
+            ks, iis = np.nonzero(lb <= ub[:, None] * (1.0 + 1e-9) + 1e-12)
+            best = [math.inf] * len(xy)
+            found = [(0, 0)] * len(xy)
+            near = self._wp_near
+            if len(near) > 4 * self.cache_size:
+                near.clear()
+            pts = xy.tolist()
+            # Pairs come in waypoint order, then segment order: a strict < keeps the first
+            # nearest in route order (first segment, then first row among equal distances).
+            for k, i in zip(ks.tolist(), iis.tolist()):
+                wx, wy = pts[k]
+                key = (keys[i], wx, wy)
+                got = near.get(key)
+                if got is None:
+                    poses = grids[i][1]
+                    d = np.hypot(poses[:, 0] - wx, poses[:, 1] - wy)
+                    r = int(np.argmin(d))
+                    got = near[key] = (float(d[r]), r)
+                if got[0] < best[k]:
+                    best[k] = got[0]
+                    found[k] = (i, got[1])
+            for k, (i, r) in enumerate(found):
                 seg_of[k] = i
                 st_of[k] = float(stations[i]) + float(grids[i][0][r])
                 heading[k] = float(grids[i][1][r, 2])
@@ -886,6 +885,35 @@ def _station_row(sg: Segment) -> tuple[float, ...]:
     cc, sc = (math.cos(sg.course), math.sin(sg.course)) if mode == 2 else (0.0, 0.0)
     return (*sg.start, sg.length_m, sg.turn_rad, mode, omega, float(sg.direction),
             float(np.cos(th)), float(np.sin(th)), cc, sc)
+
+
+def _grid_poses(sg: Segment, local: np.ndarray) -> np.ndarray:
+    """:func:`poses_on_stations` of one segment at its local stations ``local`` (edges
+    ``[0, length]``), with the same floating-point operations, without the look-ups."""
+    x0, y0, th0, L, turn, mode, omega, vx, c, s, cc, sc = _station_row(sg)
+    out = np.empty((len(local), 3))
+    if mode == 3:
+        out[:] = (x0, y0, th0)
+        return out
+    f = (local - 0.0) / L if L > 0.0 else np.ones(len(local))
+    t = f * L
+    if mode == 1:
+        out[:, 0], out[:, 1] = x0, y0
+        out[:, 2] = th0 + 1.0 * turn
+    elif mode == 2:
+        out[:, 0] = x0 + t * cc
+        out[:, 1] = y0 + t * sc
+        out[:, 2] = th0 + f * turn
+    else:
+        phi = omega * t
+        S, C = sinc_terms(phi)
+        vy = np.zeros_like(t)
+        bx = t * (S * vx - C * vy)
+        by = t * (C * vx + S * vy)
+        out[:, 0] = x0 + c * bx - s * by
+        out[:, 1] = y0 + s * bx + c * by
+        out[:, 2] = th0 + phi
+    return out
 
 
 def poses_on_stations(segs: Sequence[Segment], edges: np.ndarray, st: np.ndarray,
