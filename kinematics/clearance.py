@@ -906,8 +906,9 @@ def _grid_poses(sg: Segment, local: np.ndarray) -> np.ndarray:
         out[:, 2] = th0 + f * turn
     else:
         phi = omega * t
-        S, C = sinc_terms(phi)
-        vy = np.zeros_like(t)
+        # On a line phi is 0 everywhere, where sinc_terms gives exactly 1 and 0.
+        S, C = sinc_terms(phi) if omega != 0.0 else (1.0, 0.0)
+        vy = 0.0
         bx = t * (S * vx - C * vy)
         by = t * (C * vx + S * vy)
         out[:, 0] = x0 + c * bx - s * by
