@@ -98,6 +98,14 @@ def new_drag_token() -> int:
     return next(_drag_tokens)
 
 
+def clearance_words(min_clearance_m: float) -> str:
+    """The least clearance in words; a negative one is an overlap and says so."""
+    mm = min_clearance_m * 1000.0
+    if round(mm) < 0:
+        return f"overlaps by {-mm:.0f}\u00a0mm"
+    return f"least clearance {max(mm, 0.0):.0f}\u00a0mm"  # never "-0 mm"
+
+
 def empty_project() -> Project:
     """A new project: no floor plan, the default chassis (with a track) and no routes."""
     chassis = Chassis(name="new chassis", drive="differential", track_m=0.5,

@@ -44,7 +44,7 @@ from kinematics.report_text import CAUTION as SAFETY_CAUTION
 
 from .autosave import AutosaveEntry, Autosaver, discard, pending_autosaves, recover_into
 from .canvas import PlanCanvas
-from .document import Document
+from .document import Document, clearance_words
 
 SAMPLES = Path(__file__).resolve().parents[1] / "sample_floorplans"
 DEMO_PROJECT = SAMPLES / "demo.swathe.json"
@@ -443,8 +443,6 @@ class MainWindow(QMainWindow):
         n = len(chk.violations)
         state = "all clear" if chk.clear else f"{n} problem{'s' if n != 1 else ''}"
         mc = chk.min_clearance_m
-        from .panels import clearance_words
-
         near = clearance_words(mc) if mc is not None else "nothing solid"
         self.summary_label.setText(f"{r.name}: {length:.1f} m, {state}, {near}  ")
 

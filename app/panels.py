@@ -48,6 +48,7 @@ from PySide6.QtWidgets import (
 from kinematics.errors import SwatheInputError
 from kinematics.project import DRIVES, Chassis, chassis_from_dict
 
+from .document import clearance_words
 from .render import (
     BAND_RGBA,
     BLUE,
@@ -715,14 +716,6 @@ def sizing_lines(answers: dict) -> list[str]:
     if not doors and ("widest" in answers or "longest" in answers):
         lines.append("No door on this route.")
     return lines
-
-
-def clearance_words(min_clearance_m: float) -> str:
-    """The least clearance in words; a negative one is an overlap and says so."""
-    mm = min_clearance_m * 1000.0
-    if round(mm) < 0:
-        return f"overlaps by {-mm:.0f}\u00a0mm"
-    return f"least clearance {max(mm, 0.0):.0f}\u00a0mm"  # never "-0 mm"
 
 
 class ResultsPanel(QWidget):
