@@ -38,7 +38,6 @@ from PySide6.QtWidgets import (
     QWidget,
 )
 
-from kinematics.floorplan import solids
 from kinematics.project import Waypoint
 from kinematics.segments import Segment
 
@@ -583,13 +582,15 @@ class PlanCanvas(QWidget):
     # -- drawing ----------------------------------------------------------------------------
     def refresh_plan(self) -> None:
         fp = self.doc.project.floorplan
-        sol = solids(fp)
+        # The checker's index of the same plan: its solids and tree, not a second build.
+        index = self.doc.obstacle_index()
+        sol = index.solids
         walls = [s.geometry for s in sol if s.kind == "wall"]
         obst = [s.geometry for s in sol if s.kind == "obstacle"]
         self.walls_item.setPath(polygons_path(walls))
         self.obstacles_item.setPath(polygons_path(obst))
         self._solid_geoms = [s.geometry for s in sol]
-        self._solids_tree = shapely.STRtree(self._solid_geoms) if sol else None
+        self._solids_tree = index.tree if sol else None
         dx, dy = [], []
         for d in fp.doors:
             dx += [d.a[0], d.b[0], np.nan]
