@@ -42,18 +42,18 @@ from kinematics.project import Waypoint
 from kinematics.segments import Segment
 
 from .document import Document, new_drag_token
-
-# Okabe-Ito palette (Okabe & Ito 2008, "Color Universal Design").
-BLACK = "#000000"
-ORANGE = "#E69F00"
-SKY = "#56B4E9"
-GREEN = "#009E73"
-YELLOW = "#F0E442"
-BLUE = "#0072B2"
-VERMILLION = "#D55E00"
-PURPLE = "#CC79A7"
-WALL_FILL = "#4D4D4D"
-OBSTACLE_FILL = "#A6A6A6"
+from .palette import (  # noqa: F401 - the whole set, as other views import it from here
+    BLACK,
+    BLUE,
+    GREEN,
+    OBSTACLE_FILL,
+    ORANGE,
+    PURPLE,
+    SKY,
+    VERMILLION,
+    WALL_FILL,
+    YELLOW,
+)
 
 # Marker shape per violation kind (pyqtgraph symbol names) and the word shown beside it.
 VIOLATION_SYMBOLS = {"collision": "x", "clearance": "t", "turn_radius": "s",

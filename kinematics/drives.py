@@ -334,6 +334,14 @@ class AckermannDrive(DriveModel):
         return _least_squares(rows, rhs)
 
 
+def corner_positions(wheelbase_m: float, track_m: float) -> dict[str, tuple[float, float]]:
+    """Body-frame contact points of four wheels at the corners of wheelbase x track, about
+    the centre of the wheel rectangle (the mecanum and swerve reference point)."""
+    lx, ly = 0.5 * wheelbase_m, 0.5 * track_m
+    return {"front_left": (lx, ly), "front_right": (lx, -ly),
+            "rear_left": (-lx, ly), "rear_right": (-lx, -ly)}
+
+
 class MecanumDrive(DriveModel):
     """Four mecanum wheels with 45 degree rollers at the corners of wheelbase x track."""
 
@@ -351,9 +359,7 @@ class MecanumDrive(DriveModel):
         self.wheelbase_m = float(wheelbase_m)
         self.track_m = float(track_m)
         self.min_turn_radius_m = float(min_turn_radius_m)
-        lx, ly = 0.5 * self.wheelbase_m, 0.5 * self.track_m
-        self.positions = {"front_left": (lx, ly), "front_right": (lx, -ly),
-                          "rear_left": (-lx, ly), "rear_right": (-lx, -ly)}
+        self.positions = corner_positions(self.wheelbase_m, self.track_m)
         # u = H @ (vx, vy, omega): Lynch & Park sec. 13.2, rows reordered to WHEELS4.
         self.H = np.array([[1.0, self.TAN_GAMMA[n], x * self.TAN_GAMMA[n] - y]
                            for n, (x, y) in self.positions.items()]) / self.wheel_radius_m
@@ -390,9 +396,7 @@ class SwerveDrive(DriveModel):
         self.wheelbase_m = float(wheelbase_m)
         self.track_m = float(track_m)
         self.min_turn_radius_m = float(min_turn_radius_m)
-        lx, ly = 0.5 * self.wheelbase_m, 0.5 * self.track_m
-        self.positions = {"front_left": (lx, ly), "front_right": (lx, -ly),
-                          "rear_left": (-lx, ly), "rear_right": (-lx, -ly)}
+        self.positions = corner_positions(self.wheelbase_m, self.track_m)
 
     def inverse(self, vx, vy, omega, hold_angles=None) -> WheelCommands:
         vx, vy, omega = np.broadcast_arrays(*(np.asarray(a, float) for a in (vx, vy, omega)))
