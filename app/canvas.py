@@ -97,17 +97,24 @@ def _rings_path(rings: Sequence[np.ndarray]) -> QPainterPath:
 
 def polygons_path(geoms: Sequence, fill_rule: Qt.FillRule = Qt.FillRule.OddEvenFill
                   ) -> QPainterPath:
-    """A painter path of shapely polygons (holes included)."""
-    rings: list[np.ndarray] = []
-    for g in geoms:
-        if g is None or g.is_empty:
-            continue
-        for part in getattr(g, "geoms", [g]):
-            if part.geom_type != "Polygon":
-                continue
-            rings.append(np.asarray(part.exterior.coords))
-            rings.extend(np.asarray(h.coords) for h in part.interiors)
-    path = _rings_path(rings)
+    """A painter path of shapely polygons (holes included; multi-part geometries exploded,
+    anything not a polygon skipped), built with shapely's array functions, no per-polygon
+    Python."""
+    arr = np.asarray(list(geoms), dtype=object).ravel()
+    if arr.size:
+        arr = arr[~shapely.is_missing(arr)]
+    if arr.size:
+        arr = shapely.get_parts(shapely.get_parts(arr))  # collections of multi-parts too
+        arr = arr[(shapely.get_type_id(arr) == 3) & ~shapely.is_empty(arr)]
+    if not arr.size:
+        path = QPainterPath()
+        path.setFillRule(fill_rule)
+        return path
+    xy, ring = shapely.get_coordinates(shapely.get_rings(arr), return_index=True)
+    connect = np.ones(len(xy), dtype=np.int32)
+    connect[np.flatnonzero(np.diff(ring))] = 0
+    connect[-1] = 0
+    path = pg.arrayToQPath(xy[:, 0], xy[:, 1], connect=connect)
     path.setFillRule(fill_rule)
     return path
 
@@ -783,7 +790,7 @@ class PlanCanvas(QWidget):
         fills their union once without computing it; pieces of unchanged segments come from
         a cache, so a drag re-sweeps only the segments that moved.
         """
-        from kinematics.sweep import swept_segment
+        from kinematics.sweep import swept_parts
 
         fp = self.doc.project.chassis.footprint
         if self._sweep_cache_key != fp:
@@ -797,13 +804,13 @@ class PlanCanvas(QWidget):
             piece = old.get(seg)
             if piece is None:
                 if checked is None:
-                    # The check swept these segments already; ask it only on a cache miss
-                    # (its pieces are unioned on request).
+                    # The check swept these segments already; ask it only on a cache miss.
+                    # Its parts are filled as they are: their union is never made here.
                     cur = self.doc.route()
                     chk = self.doc.check(cur.name) if cur is not None else None
-                    checked = getattr(chk, "pieces", ()) or ()
-                raw = checked[k] if len(checked) == len(segs) else swept_segment(fp, seg)
-                piece = polygons_path([shapely.orient_polygons(raw)])
+                    checked = getattr(chk, "piece_parts", ()) or ()
+                raw = checked[k] if len(checked) == len(segs) else swept_parts(fp, seg)
+                piece = polygons_path(shapely.orient_polygons(raw))
             new[seg] = piece
             path.addPath(piece)
         self._sweep_cache = new

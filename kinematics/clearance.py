@@ -44,6 +44,7 @@ from typing import Any
 
 import numpy as np
 import shapely
+from numpy.typing import NDArray
 from shapely.geometry import LineString, Point
 from shapely.geometry.base import BaseGeometry
 
@@ -208,6 +209,12 @@ class RouteCheck:
         """One swept region per segment (each made on first use and kept with the segment's
         cached result)."""
         return tuple(p.union for p in self._parts)
+
+    @property
+    def piece_parts(self) -> tuple[NDArray[np.object_], ...]:
+        """Per segment, the polygons whose union is its swept piece (no union made): what a
+        view filling them with a non-zero winding rule needs."""
+        return tuple(p.parts for p in self._parts)
 
     @property
     def swept(self) -> BaseGeometry | None:

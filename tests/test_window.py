@@ -495,3 +495,32 @@ def test_file_menu_exports_the_plan_picture_as_the_cli_renders_it(win, tmp_path,
     a, b = QImage(str(out)), QImage(str(tmp_path / "cli.png"))
     assert not a.isNull() and a.size() == b.size()
     assert a == b
+
+
+def test_band_fills_exactly_the_checked_swept_region(make_window):
+    # Source: Qt QPainterPath::contains and Qt::WindingFill documentation (a point is inside
+    # where the winding number is non-zero), against shapely's union of the same parts: the
+    # band is drawn from the unmerged per-segment parts, never unioned, so the fill rule must
+    # reproduce the union. Points within 3 mm of the union's outline are left out (the union
+    # is made on a 1 mm grid and grown by 2 mm).
+    import numpy as np
+    import shapely
+
+    w = make_window(DEMO)
+    doc, c = w.doc, w.canvas
+    for name in doc.route_names():
+        doc.set_current_route(doc.route_names().index(name))
+        QApplication.processEvents()
+        union = doc.check(name).swept
+        path = c.band_item.path()
+        assert path.fillRule() == Qt.FillRule.WindingFill
+        x0, y0, x1, y1 = union.bounds
+        rng = np.random.default_rng(7)
+        pts = rng.uniform((x0 - 0.2, y0 - 0.2), (x1 + 0.2, y1 + 0.2), size=(1500, 2))
+        geoms = shapely.points(pts)
+        far = shapely.distance(geoms, union.boundary) > 0.003
+        inside = shapely.contains(union, geoms)
+        drawn = np.array([path.contains(QPointF(*p)) for p in pts])
+        assert far.sum() > 1000
+        assert inside[far].any() and (~inside[far]).any()
+        assert (drawn[far] == inside[far]).all(), name
