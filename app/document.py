@@ -16,6 +16,7 @@ from __future__ import annotations
 
 import ctypes
 import dataclasses
+import gc
 import itertools
 import os
 import sys
@@ -212,7 +213,8 @@ class Document(QObject):
         self._results_timer = QTimer(self)
         self._results_timer.setSingleShot(True)
         self._results_timer.setInterval(self.LIVE_RESULTS_MS)
-        self._results_timer.timeout.connect(self.resultsChanged)
+        self._results_timer.timeout.connect(self._drag_rested)
+        self._gc_held = False
 
     def _clean_changed(self, _clean: bool) -> None:
         self.fileStateChanged.emit()
@@ -382,12 +384,35 @@ class Document(QObject):
         if "routes" in what:
             self.routesChanged.emit()
         self.set_current_route(current)
+        if live:
+            self._hold_collector()
         self.edited.emit()
         if live:
             self._results_timer.start()  # restarts: the panels follow once the drag rests
         else:
             self._results_timer.stop()
+            self._release_collector()
             self.resultsChanged.emit()
+
+    # Python's cyclic garbage collector scans every tracked object in a full collection:
+    # 15-40 ms with the window's objects, twice a frame, arriving every hundred or so drag
+    # steps (measured with gc.callbacks, bench/bench_gui.py). Reference counting still frees
+    # everything acyclic, so the collector is held off while drag steps come in (at most
+    # LIVE_RESULTS_MS apart) and let go when the drag ends or rests; the cycles a drag leaves
+    # are collected then, while nobody waits on a frame.
+    def _hold_collector(self) -> None:
+        if not self._gc_held and gc.isenabled():
+            gc.disable()
+            self._gc_held = True
+
+    def _release_collector(self) -> None:
+        if self._gc_held:
+            self._gc_held = False
+            gc.enable()
+
+    def _drag_rested(self) -> None:
+        self._release_collector()
+        self.resultsChanged.emit()
 
     @property
     def results_pending(self) -> bool:
@@ -398,7 +423,9 @@ class Document(QObject):
         """The drag ended: send the held-back resultsChanged now rather than after a rest."""
         if self._results_timer.isActive():
             self._results_timer.stop()
+            self._release_collector()
             self.resultsChanged.emit()
+        self._release_collector()
 
     def _push(self, text: str, after: Project, what: str | set[str], current: int | None = None,
               merge_key: tuple | None = None) -> None:

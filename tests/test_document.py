@@ -122,6 +122,37 @@ def test_drag_holds_panel_results_until_release_and_plain_edits_do_not(doc, qtbo
     assert len(seen) == 4
 
 
+def test_drag_holds_the_garbage_collector_off_until_it_ends_or_rests(doc, qtbot):
+    # Source: Python gc module documentation (gc.disable / gc.enable / gc.isenabled; a full
+    # collection examines every tracked object). A drag step must not wait on one, so the
+    # collector is off during a drag, back on at release or rest, and never switched on when
+    # the caller had switched it off.
+    import gc
+
+    from app.document import new_drag_token
+
+    assert gc.isenabled()
+    try:
+        token = new_drag_token()
+        doc.move_waypoint(1, 1, 5.0, 1.0, drag=token)
+        assert not gc.isenabled()
+        doc.move_waypoint(1, 1, 5.1, 1.0, drag=token)
+        assert not gc.isenabled()
+        doc.finish_drag()
+        assert gc.isenabled()
+        doc.move_waypoint(1, 1, 5.2, 1.0, drag=new_drag_token())
+        assert not gc.isenabled()
+        qtbot.waitUntil(gc.isenabled, timeout=2000)  # rested: no release came
+        doc.move_waypoint(1, 1, 5.3, 1.0)  # a plain edit leaves it on
+        assert gc.isenabled()
+        gc.disable()
+        doc.move_waypoint(1, 1, 5.4, 1.0, drag=new_drag_token())
+        doc.finish_drag()
+        assert not gc.isenabled()
+    finally:
+        gc.enable()
+
+
 def test_delete_refuses_below_two_waypoints(doc):
     # Source: kinematics.project.route_from_dict (a route file needs at least 2 waypoints).
     assert doc.delete_waypoint(1, 1)
