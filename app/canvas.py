@@ -292,6 +292,21 @@ class _Markers(QGraphicsItem):
         self.data = [(float(x[k]), float(y[k])) for k in range(n)]
 
 
+#: Where a violation's label may sit, in order of preference, as the anchor of its box on the
+#: marker: right and below, left and below, right and above, left and above (clear of a
+#: marker of MARKER_PX).
+MARKER_PX = 16
+_LABEL_PLACES = ((-0.12, -0.1), (1.12, -0.1), (-0.12, 1.1), (1.12, 1.1))
+
+
+def _plan_box(label: _Label, px: float) -> tuple[float, float, float, float]:
+    """The plan box ``(x0, y0, x1, y1)`` a constant-pixel label covers at ``px`` metres per
+    pixel (screen y runs down, plan y up)."""
+    r = label.rect()
+    x, y = label.pos().x(), label.pos().y()
+    return (x + r.left() * px, y - r.bottom() * px, x + r.right() * px, y - r.top() * px)
+
+
 class _Label(QGraphicsRectItem):
     """A text label of constant pixel size at a plan point, on an optional filled box.
 
@@ -519,7 +534,8 @@ class PlanCanvas(QWidget):
         self.pending_item.setZValue(8)
         add(self.pending_item, ignoreBounds=True)
         self.wp_labels: list[_Label] = []
-        self.violations_item = _Markers("o", 16, _pen(BLACK, 1.5), _brush(VERMILLION))
+        self.violations_item = _Markers("o", MARKER_PX, _pen(BLACK, 1.5),
+                                        _brush(VERMILLION))
         self.violations_item.setZValue(9)
         add(self.violations_item, ignoreBounds=True)
         self.violation_labels: list[_Label] = []
@@ -830,23 +846,30 @@ class PlanCanvas(QWidget):
                                      symbol=[VIOLATION_SYMBOLS.get(v.kind, "o") for v in vs])
         shown = vs[:MAX_LABELS]
         labels = self._labels(self.violation_labels, len(shown), "#5A1E00",
-                              "#FFFFFFDD", (-0.12, -0.1))
+                              "#FFFFFFDD", _LABEL_PLACES[0])
         px = self.px_m()
-        placed: list[tuple[float, float, float, float]] = []
+        # What a label must not cover, as plan boxes (x0, y0, x1, y1): every violation marker,
+        # the names of doors and obstacles shown, and the labels already placed.
+        half = 0.5 * MARKER_PX * px
+        taken = [(v.x - half, v.y - half, v.x + half, v.y + half) for v in vs]
+        taken += [_plan_box(t, px) for t in self.plan_labels if t.isVisible()]
         for t, v in zip(labels, shown):
             word = VIOLATION_WORDS.get(v.kind, v.kind)
             _set_text(t, f"{word} {v.amount_m * 1000:.0f} mm" if v.kind != "infeasible"
                       else word)
             t.setPos(v.x, v.y)
-            # Skip a label that would cover one already placed; its marker stays, and the
-            # results panel lists it.
-            w_m, h_m = t.boundingRect().width() * px, t.boundingRect().height() * px
-            box = (v.x, v.y - h_m, v.x + w_m, v.y)
-            free = all(box[2] <= b[0] or box[0] >= b[2] or box[3] <= b[1] or box[1] >= b[3]
-                       for b in placed)
-            t.setVisible(free)
-            if free:
-                placed.append(box)
+            # The first of four places round the marker that covers nothing above; a label with
+            # no free place is hidden (its marker stays, and the results panel lists it).
+            for anchor in _LABEL_PLACES:
+                t.setAnchor(anchor)
+                box = _plan_box(t, px)
+                if all(box[2] <= o[0] or box[0] >= o[2] or box[3] <= o[1] or box[1] >= o[3]
+                       for o in taken):
+                    t.setVisible(True)
+                    taken.append(box)
+                    break
+            else:
+                t.setVisible(False)
 
     def _range_changed(self, *_args) -> None:
         w = self.view.viewRange()[0]
@@ -857,6 +880,9 @@ class PlanCanvas(QWidget):
             self.scale_bar.updateBar()
         self._draw_handles()
         self._fit_obstacle_labels()
+        cur = self.doc.route()
+        if cur is not None and "violations" in self._drawn:
+            self._draw_violations(cur.name)  # labels placed anew at a new zoom only
 
     # -- hit testing ------------------------------------------------------------------------
     def hit(self, x: float, y: float) -> tuple[str, int] | None:

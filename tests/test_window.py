@@ -524,3 +524,35 @@ def test_band_fills_exactly_the_checked_swept_region(make_window):
         assert far.sum() > 1000
         assert inside[far].any() and (~inside[far]).any()
         assert (drawn[far] == inside[far]).all(), name
+
+
+def test_violation_labels_cover_no_marker_name_or_other_label(make_window):
+    # Common practice in map labelling: a label never covers another label or a marker; it
+    # tries the places round its point in turn. Checked on the demo's sluice door, where two
+    # violations sit either side of the door's name, at the fitted view and zoomed in.
+    from app.canvas import MARKER_PX, _plan_box
+
+    w = make_window(DEMO)
+    doc, c = w.doc, w.canvas
+    doc.set_current_route(doc.route_names().index("corridor-to-sluice"))
+    QApplication.processEvents()
+    vs = doc.check("corridor-to-sluice").violations
+    assert len(vs) >= 2
+
+    def overlaps(a, b):
+        return not (a[2] <= b[0] or a[0] >= b[2] or a[3] <= b[1] or a[1] >= b[3])
+
+    for zoom in (None, 3.0):
+        if zoom is not None:
+            c.center_on(vs[0].x, vs[0].y, span_m=zoom)
+            QApplication.processEvents()
+        px = c.px_m()
+        shown = [_plan_box(t, px) for t in c.violation_labels if t.isVisible()]
+        names = [_plan_box(t, px) for t in c.plan_labels if t.isVisible()]
+        half = 0.5 * MARKER_PX * px
+        marks = [(v.x - half, v.y - half, v.x + half, v.y + half) for v in vs]
+        for i, a in enumerate(shown):
+            assert not any(overlaps(a, b) for b in names + marks)
+            assert not any(overlaps(a, b) for b in shown[i + 1:])
+        if zoom is not None:
+            assert len(shown) == len(vs)  # room for every label once zoomed in
