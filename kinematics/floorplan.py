@@ -213,7 +213,7 @@ def floorplan_from_dict(d: Any, file: str, place: str = "", source: str = "") ->
             raise r.fail(dp, "expected two different jamb points a and b")
         doors.append(Door(a, b, r.text(dr.get("label", ""), join(dp, "label"))))
     known = {"swathe_floorplan", "name", "walls", "obstacles", "doors"}
-    extra = {k: v for k, v in d.items() if k not in known}
+    extra = r.extras(d, known, place)
     return FloorPlan(name, tuple(walls), tuple(obstacles), tuple(doors), source or file, extra)
 
 

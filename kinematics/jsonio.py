@@ -50,10 +50,27 @@ def _where_constant(text: str) -> str:
     return ""
 
 
-def parse_json(text: str, file: str = "<text>") -> Any:
-    """Parse JSON text; errors name ``file`` and the line and column."""
+def _int_or_inf(literal: str) -> int | float:
+    """An integer literal; one beyond any float's range reads as infinity, so it meets the
+    same "expected a finite number" as ``1e999`` does (RFC 8259 section 6 lets a parser limit
+    the range of numbers), never an overflow deep inside a computation."""
+    if len(literal) > 400:  # surely beyond; spares int() a long conversion
+        return -math.inf if literal.startswith("-") else math.inf
+    n = int(literal)
     try:
-        return json.loads(text, parse_constant=_refuse_constant)
+        float(n)
+    except OverflowError:
+        return -math.inf if n < 0 else math.inf
+    return n
+
+
+def parse_json(text: str, file: str = "<text>") -> Any:
+    """Parse JSON text; errors name ``file`` and the line and column.
+
+    Numbers beyond a float's range read as infinity (Python's own reading of ``1e999``), for
+    the readers of each file to refuse with the key path (:mod:`kinematics.validate`)."""
+    try:
+        return json.loads(text, parse_constant=_refuse_constant, parse_int=_int_or_inf)
     except json.JSONDecodeError as exc:
         raise FileReadError(file, f"line {exc.lineno}, column {exc.colno}",
                             f"invalid JSON ({exc.msg})") from None

@@ -132,7 +132,7 @@ def chassis_from_dict(d: Any, file: str, place: str = "chassis") -> Chassis:
         raise r.fail(join(place, "track_m"), "missing; a differential chassis needs track_m")
     name = r.text(d.get("name", "chassis"), join(place, "name"))
     known = {"name", "drive", "footprint", "max_steer_deg", *_POSITIVE, *_NON_NEGATIVE}
-    extra = {k: v for k, v in d.items() if k not in known}
+    extra = r.extras(d, known, place)
     defaults = Chassis()
     return Chassis(
         name=name, drive=drive, footprint=footprint,
@@ -193,8 +193,7 @@ def route_from_dict(d: Any, file: str, place: str) -> Route:
         wps.append(Waypoint(x, y, h))
     radius = r.opt_number(d, "turn_radius_m", place, 0.0, non_negative=True)
     reverse = r.boolean(d.get("reverse", False), join(place, "reverse"))
-    extra = {k: v for k, v in d.items()
-             if k not in {"name", "waypoints", "turn_radius_m", "reverse"}}
+    extra = r.extras(d, {"name", "waypoints", "turn_radius_m", "reverse"}, place)
     return Route(name, tuple(wps), float(radius or 0.0), reverse, extra)
 
 
@@ -267,8 +266,7 @@ def project_from_dict(d: Any, file: str, base_dir: Path | None = None) -> Projec
         if rt.name in seen:
             raise r.fail(join(join("routes", i), "name"), f"route name {rt.name!r} is used twice")
         seen.add(rt.name)
-    extra = {k: v for k, v in d.items()
-             if k not in {"swathe_project", "floorplan", "chassis", "routes"}}
+    extra = r.extras(d, {"swathe_project", "floorplan", "chassis", "routes"}, "")
     return Project(fp, chassis, routes, copy.deepcopy(ref), None, extra)
 
 

@@ -76,6 +76,25 @@ class Reader:
             raise self.fail(place, f"expected at most {maximum:g}, got {v:g}")
         return v
 
+    def extras(self, d: dict, known: set[str] | frozenset[str], place: str) -> dict:
+        """The keys of ``d`` this version does not read (kept for a newer writer), refused if
+        any number inside is not finite: it could never be written back as JSON."""
+
+        def walk(v: Any, where: str) -> None:
+            if isinstance(v, float) and not math.isfinite(v):
+                raise self.fail(where, "expected a finite number, got NaN or infinity")
+            if isinstance(v, dict):
+                for k, x in v.items():
+                    walk(x, join(where, str(k)))
+            elif isinstance(v, list):
+                for i, x in enumerate(v):
+                    walk(x, join(where, i))
+
+        out = {k: v for k, v in d.items() if k not in known}
+        for k, v in out.items():
+            walk(v, join(place, k))
+        return out
+
     def opt_number(self, d: dict, key: str, place: str, default: float | None = None,
                    **kw: Any) -> float | None:
         if key not in d or d[key] is None:

@@ -112,6 +112,43 @@ def test_huge_number_that_overflows_to_infinity_names_the_key(tmp_path):
     assert e.place == "chassis.track_m" and "finite" in e.message
 
 
+def test_integer_beyond_any_float_names_the_key(tmp_path):
+    # Source: RFC 8259 section 6 (an implementation may limit the range of numbers); IEEE 754
+    # binary64 ends near 1.8e308, so a 400-digit integer cannot be a size (it once overflowed
+    # deep inside the planner).
+    text = json.dumps(PROJECT).replace('"track_m": 0.5', '"track_m": 1' + "0" * 400)
+    _p, e = _error(tmp_path, text, kind=ValidationError)
+    assert e.place == "chassis.track_m" and "finite" in e.message
+
+
+@pytest.mark.parametrize("where, place", [
+    ((), "x_note"), (("chassis",), "chassis.x_note"),
+    (("routes", 0), "routes[0].x_note"),
+])
+def test_non_finite_number_in_a_kept_unknown_key_is_refused_at_load(tmp_path, where, place):
+    # Source: RFC 8259 section 6 (no NaN or infinity in JSON): an unknown key is kept to be
+    # written back, and infinity could not be, so it is refused where it is read, by its path.
+    proj = copy.deepcopy(PROJECT)
+    node = proj
+    for k in where:
+        node = node[k]
+    node["x_note"] = {"list": [1, 2, 12345]}
+    text = json.dumps(proj).replace("12345", "1e999")
+    _p, e = _error(tmp_path, text, kind=ValidationError)
+    assert e.place == place + ".list[2]" and "finite" in e.message
+
+
+def test_non_finite_number_in_a_floor_plan_unknown_key_names_that_file(tmp_path):
+    # Source: RFC 8259 section 6, as above.
+    floor = {**FLOOR, "x_north_deg": 12345}
+    p = _write(tmp_path, PROJECT, floor)
+    fp_file = p.parent / "level.floor.json"
+    fp_file.write_text(fp_file.read_text().replace("12345", "-1e999"))
+    with pytest.raises(ValidationError) as err:
+        load_project(p)
+    assert err.value.file == str(fp_file) and err.value.place == "x_north_deg"
+
+
 def test_not_utf8_and_missing_project(tmp_path):
     p = tmp_path / "bin.swathe.json"
     p.write_bytes(b'{"swathe_project": 1, "name": "\xff\xfe"}')
