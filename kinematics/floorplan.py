@@ -19,7 +19,7 @@ from shapely.validation import explain_validity
 
 from .errors import GeometryError
 from .jsonio import read_json, write_json
-from .validate import Reader, join
+from .validate import MAX_BODY_M, Reader, join
 
 FORMAT_VERSION = 1
 Point = tuple[float, float]
@@ -188,7 +188,8 @@ def floorplan_from_dict(d: Any, file: str, place: str = "", source: str = "") ->
         wp = join(join(place, "walls"), i)
         w = r.obj(w, wp)
         pts = r.points(r.get(w, "points", wp), join(wp, "points"), 2)
-        t = r.number(w.get("thickness_m", 0.1), join(wp, "thickness_m"), positive=True)
+        t = r.number(w.get("thickness_m", 0.1), join(wp, "thickness_m"), positive=True,
+                     maximum=MAX_BODY_M)
         if len(_dedupe(pts)) < 2:
             raise r.fail(join(wp, "points"), "expected a wall line of non-zero length")
         walls.append(Wall(pts, t))

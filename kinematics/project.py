@@ -14,7 +14,7 @@ from typing import Any
 from .errors import FileReadError, SwatheInputError, ValidationError
 from .floorplan import FloorPlan, check_footprint, floorplan_from_dict, floorplan_to_dict
 from .jsonio import read_json, write_json
-from .validate import Reader, join
+from .validate import MAX_BODY_M, MAX_COORD_M, MAX_ROUTE_SPAN_M, Reader, join
 
 FORMAT_VERSION = 1
 DRIVES = ("differential", "bicycle", "ackermann", "mecanum", "swerve")
@@ -116,13 +116,15 @@ def chassis_from_dict(d: Any, file: str, place: str = "chassis") -> Chassis:
         raise r.fail(join(place, "drive"), f"unknown drive {drive_raw!r}; expected one of "
                      + ", ".join(DRIVES) + " (or tracked, skid-steer)")
     fp_place = join(place, "footprint")
-    footprint = r.points(r.get(d, "footprint", place), fp_place, 3)
+    footprint = r.points(r.get(d, "footprint", place), fp_place, 3, MAX_BODY_M)
     check_footprint(footprint, file, fp_place)
     vals: dict[str, Any] = {}
     for key in _POSITIVE:
-        vals[key] = r.opt_number(d, key, place, None, positive=True)
+        vals[key] = r.opt_number(d, key, place, None, positive=True,
+                                 maximum=MAX_BODY_M if key.endswith("_m") else None)
     for key in _NON_NEGATIVE:
-        vals[key] = r.opt_number(d, key, place, None, non_negative=True)
+        vals[key] = r.opt_number(d, key, place, None, non_negative=True,
+                                 maximum=MAX_BODY_M if key.endswith("_m") else None)
     steer = r.opt_number(d, "max_steer_deg", place, None, positive=True, maximum=89.0)
     for key in REQUIRED[drive]:
         v = steer if key == "max_steer_deg" else vals[key]
@@ -187,11 +189,17 @@ def route_from_dict(d: Any, file: str, place: str) -> Route:
         p = join(wp_place, i)
         if not isinstance(w, list) or len(w) not in (2, 3):
             raise r.fail(p, "expected a waypoint [x, y] or [x, y, heading_deg]")
-        x = r.number(w[0], join(p, 0))
-        y = r.number(w[1], join(p, 1))
+        x = r.number(w[0], join(p, 0), minimum=-MAX_COORD_M, maximum=MAX_COORD_M)
+        y = r.number(w[1], join(p, 1), minimum=-MAX_COORD_M, maximum=MAX_COORD_M)
         h = None if len(w) == 2 or w[2] is None else r.number(w[2], join(p, 2))
         wps.append(Waypoint(x, y, h))
-    radius = r.opt_number(d, "turn_radius_m", place, 0.0, non_negative=True)
+    xs, ys = [w.x for w in wps], [w.y for w in wps]
+    if max(max(xs) - min(xs), max(ys) - min(ys)) > MAX_ROUTE_SPAN_M:
+        far = max(range(len(wps)), key=lambda i: max(abs(xs[i] - xs[0]), abs(ys[i] - ys[0])))
+        raise r.fail(join(wp_place, far), f"waypoints spread over more than "
+                     f"{MAX_ROUTE_SPAN_M / 1000:g} km; expected metres on a floor plan")
+    radius = r.opt_number(d, "turn_radius_m", place, 0.0, non_negative=True,
+                          maximum=MAX_ROUTE_SPAN_M)
     reverse = r.boolean(d.get("reverse", False), join(place, "reverse"))
     extra = r.extras(d, {"name", "waypoints", "turn_radius_m", "reverse"}, place)
     return Route(name, tuple(wps), float(radius or 0.0), reverse, extra)

@@ -13,6 +13,16 @@ from .errors import ValidationError
 
 _MISSING = object()
 
+#: Largest plan coordinate read, metres (1000 km: any site grid's easting; far beyond a
+#: building, yet far from where float geometry loses millimetres). Common practice.
+MAX_COORD_M = 1.0e6
+#: Largest chassis dimension or footprint coordinate read, metres. Common practice: the
+#: largest yard and airport tugs are a few tens of metres long.
+MAX_BODY_M = 100.0
+#: Largest extent of one route's waypoints, metres (a building route is far shorter; the
+#: checks sample every route at centimetre steps). Common practice.
+MAX_ROUTE_SPAN_M = 1.0e4
+
 
 def join(place: str, key: str | int) -> str:
     """Key path ``place`` extended by a key or list index."""
@@ -118,14 +128,18 @@ class Reader:
             raise self.fail(place, f"expected at least {min_len} entries, got {len(value)}")
         return value
 
-    def point(self, value: Any, place: str) -> tuple[float, float]:
+    def point(self, value: Any, place: str, limit_m: float = MAX_COORD_M
+              ) -> tuple[float, float]:
+        """A point ``[x, y]`` in metres, each coordinate within ``limit_m`` of zero."""
         if not isinstance(value, list) or len(value) != 2:
             raise self.fail(place, "expected a point [x, y] in metres")
-        return (self.number(value[0], join(place, 0)), self.number(value[1], join(place, 1)))
+        return (self.number(value[0], join(place, 0), minimum=-limit_m, maximum=limit_m),
+                self.number(value[1], join(place, 1), minimum=-limit_m, maximum=limit_m))
 
-    def points(self, value: Any, place: str, min_len: int) -> tuple[tuple[float, float], ...]:
+    def points(self, value: Any, place: str, min_len: int, limit_m: float = MAX_COORD_M
+               ) -> tuple[tuple[float, float], ...]:
         items = self.lst(value, place, min_len)
-        return tuple(self.point(p, join(place, i)) for i, p in enumerate(items))
+        return tuple(self.point(p, join(place, i), limit_m) for i, p in enumerate(items))
 
     def version(self, d: dict, key: str, supported: int) -> int:
         v = self.get(d, key, "")

@@ -192,6 +192,15 @@ def test_not_utf8_and_missing_project(tmp_path):
     (("swathe_project",), "1", "swathe_project", "whole number"),
     (("swathe_project",), 0, "swathe_project", "version"),
     (("floorplan",), 12, "floorplan", "file name"),
+    # Common practice: sizes and coordinates far beyond any building or vehicle are refused
+    # where they are read (1e300 once overflowed inside the sweep; 1e12 asked for 364 TiB).
+    (("chassis", "footprint", 2, 0), 1e300, "chassis.footprint[2][0]", "at most 100"),
+    (("chassis", "track_m"), 1e6, "chassis.track_m", "at most 100"),
+    (("chassis", "margin_m"), 1e300, "chassis.margin_m", "at most 100"),
+    (("routes", 0, "waypoints", 1, 0), 1e12, "routes[0].waypoints[1][0]", "at most 1e+06"),
+    (("routes", 0, "waypoints", 1, 1), -1e300, "routes[0].waypoints[1][1]", "at least -1e+06"),
+    (("routes", 0, "waypoints", 1), [2e4, 1.0], "routes[0].waypoints[1]", "more than 10 km"),
+    (("routes", 0, "turn_radius_m"), 1e300, "routes[0].turn_radius_m", "at most 10000"),
 ])
 def test_bad_values_name_file_and_key_path(tmp_path, path, value, place, words):
     p, e = _error(tmp_path, _with(path, value))
@@ -244,6 +253,10 @@ def test_missing_floor_plan_file(tmp_path):
     (("walls",), "none", "walls"),
     (("swathe_floorplan",), 3, "swathe_floorplan"),
     (("swathe_floorplan",), ..., "swathe_floorplan"),
+    # Common practice: far beyond any building (1e300 once failed inside GEOS's buffer).
+    (("walls", 0, "points", 1, 1), -1e300, "walls[0].points[1][1]"),
+    (("walls", 0, "thickness_m"), 1e300, "walls[0].thickness_m"),
+    (("doors", 0, "a", 0), 5e6, "doors[0].a[0]"),
 ])
 def test_errors_in_the_floor_plan_file_name_that_file(tmp_path, path, value, place):
     _p, e = _error(tmp_path, PROJECT, floor=_with(path, value, FLOOR), kind=ValidationError)

@@ -479,3 +479,18 @@ def test_plan_text_lists_notes_and_counts_waypoints_from_one():
         assert f"note: {note}" in text
     assert "waypoint(s) 3 repeat waypoint 2" in text
     assert "heading at waypoint 5 chosen as 180.0 deg" in text
+
+
+def test_a_route_spread_over_more_than_ten_km_is_refused_not_sampled():
+    # Common practice: no building route spans 10 km, and the checks sample every route at
+    # centimetre steps, so a route sketched or built in code that far apart is an input error
+    # naming the waypoint, as the file reader says it.
+    from kinematics.errors import SwatheInputError
+    from kinematics.project import Chassis, Route, Waypoint
+
+    far = Route("far", (Waypoint(0.0, 0.0), Waypoint(5.0, 0.0), Waypoint(5.0, 2.0e4)))
+    with pytest.raises(SwatheInputError) as err:
+        plan_route(far, Chassis(track_m=0.5))
+    assert "waypoints[2]" in err.value.message and "10 km" in err.value.message
+    near = Route("near", (Waypoint(0.0, 0.0), Waypoint(9.0e3, 0.0)))
+    assert plan_route(near, Chassis(track_m=0.5)).segments
