@@ -169,10 +169,12 @@ def test_other_bad_input(tmp_path, capsys):
 
 def test_console_script_runs_in_a_subprocess(tmp_path):
     p = write_project(tmp_path, [CLEAR])
-    r = subprocess.run([sys.executable, "-m", "app.cli", "plan", str(p), "--json"],
-                       capture_output=True, text=True, cwd=Path(__file__).resolve().parents[1])
-    assert r.returncode == 0, r.stderr
-    assert json.loads(r.stdout)["routes"][0]["name"] == "clear"
+    for module in ("app.cli", "app"):  # python -m app is the same command
+        r = subprocess.run([sys.executable, "-m", module, "plan", str(p), "--json"],
+                           capture_output=True, text=True,
+                           cwd=Path(__file__).resolve().parents[1])
+        assert r.returncode == 0, r.stderr
+        assert json.loads(r.stdout)["routes"][0]["name"] == "clear"
 
 
 def test_waypoint_inside_an_obstacle_is_reported(tmp_path, capsys):
