@@ -231,6 +231,14 @@ def test_hover_reports_station_and_clearance(win, qtbot):
     # The bare footprint at y 0.3..0.9 against the bottom wall face at y = 0.05.
     assert info["clearance_m"] == pytest.approx(0.25, abs=0.01)
     assert "station 4.0" in info["text"]
+    # Source: constant-acceleration kinematics, v^2 = 2 a s: at 0.5 m/s^2 the 1.0 m/s cap is
+    # reached 1 m after the start, so at station 4 m on the straight the cart cruises at it;
+    # a rolling wheel turns at v / r (rolling without slipping), 1.0 / 0.1 = 10 rad/s on both
+    # sides of a differential drive going straight.
+    assert info["speed_mps"] == pytest.approx(1.0, abs=1e-6)
+    assert info["wheels"] == {"left": pytest.approx(10.0, abs=1e-6),
+                              "right": pytest.approx(10.0, abs=1e-6)}
+    assert "speed 1.00 m/s" in info["text"] and "left +10.0 rad/s" in info["text"]
     assert c.info_at(5.0, 1.9) is None
 
 
