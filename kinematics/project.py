@@ -14,7 +14,15 @@ from typing import Any
 from .errors import FileReadError, SwatheInputError, ValidationError
 from .floorplan import FloorPlan, check_footprint, floorplan_from_dict, floorplan_to_dict
 from .jsonio import read_json, write_json
-from .validate import MAX_BODY_M, MAX_COORD_M, MAX_ROUTE_SPAN_M, Reader, join
+from .validate import (
+    MAX_BODY_M,
+    MAX_COORD_M,
+    MAX_ROUTE_SPAN_M,
+    MIN_BODY_M,
+    MIN_STEER_DEG,
+    Reader,
+    join,
+)
 
 FORMAT_VERSION = 1
 DRIVES = ("differential", "bicycle", "ackermann", "mecanum", "swerve")
@@ -120,12 +128,15 @@ def chassis_from_dict(d: Any, file: str, place: str = "chassis") -> Chassis:
     check_footprint(footprint, file, fp_place)
     vals: dict[str, Any] = {}
     for key in _POSITIVE:
+        size = key.endswith("_m")
         vals[key] = r.opt_number(d, key, place, None, positive=True,
-                                 maximum=MAX_BODY_M if key.endswith("_m") else None)
+                                 minimum=MIN_BODY_M if size else None,
+                                 maximum=MAX_BODY_M if size else None)
     for key in _NON_NEGATIVE:
         vals[key] = r.opt_number(d, key, place, None, non_negative=True,
                                  maximum=MAX_BODY_M if key.endswith("_m") else None)
-    steer = r.opt_number(d, "max_steer_deg", place, None, positive=True, maximum=89.0)
+    steer = r.opt_number(d, "max_steer_deg", place, None, positive=True,
+                         minimum=MIN_STEER_DEG, maximum=89.0)
     for key in REQUIRED[drive]:
         v = steer if key == "max_steer_deg" else vals[key]
         if v is None:
@@ -191,7 +202,8 @@ def route_from_dict(d: Any, file: str, place: str) -> Route:
             raise r.fail(p, "expected a waypoint [x, y] or [x, y, heading_deg]")
         x = r.number(w[0], join(p, 0), minimum=-MAX_COORD_M, maximum=MAX_COORD_M)
         y = r.number(w[1], join(p, 1), minimum=-MAX_COORD_M, maximum=MAX_COORD_M)
-        h = None if len(w) == 2 or w[2] is None else r.number(w[2], join(p, 2))
+        h = None if len(w) == 2 or w[2] is None else r.number(w[2], join(p, 2),
+                                                               minimum=-360.0, maximum=360.0)
         wps.append(Waypoint(x, y, h))
     xs, ys = [w.x for w in wps], [w.y for w in wps]
     if max(max(xs) - min(xs), max(ys) - min(ys)) > MAX_ROUTE_SPAN_M:

@@ -19,6 +19,12 @@ MAX_COORD_M = 1.0e6
 #: Largest chassis dimension or footprint coordinate read, metres. Common practice: the
 #: largest yard and airport tugs are a few tens of metres long.
 MAX_BODY_M = 100.0
+#: Smallest chassis dimension read, metres (1 mm: nothing rolls on a smaller wheel; smaller
+#: numbers, down to denormals, overflowed the wheel-rate algebra). Common practice.
+MIN_BODY_M = 1.0e-3
+#: Smallest steer limit read, degrees: below it a steered chassis could not turn inside a
+#: building (wheelbase / tan(1 deg) is 57 wheelbases). Common practice.
+MIN_STEER_DEG = 1.0
 #: Largest extent of one route's waypoints, metres (a building route is far shorter; the
 #: checks sample every route at centimetre steps). Common practice.
 MAX_ROUTE_SPAN_M = 1.0e4

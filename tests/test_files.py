@@ -201,6 +201,10 @@ def test_not_utf8_and_missing_project(tmp_path):
     (("routes", 0, "waypoints", 1, 1), -1e300, "routes[0].waypoints[1][1]", "at least -1e+06"),
     (("routes", 0, "waypoints", 1), [2e4, 1.0], "routes[0].waypoints[1]", "more than 10 km"),
     (("routes", 0, "turn_radius_m"), 1e300, "routes[0].turn_radius_m", "at most 10000"),
+    (("chassis", "wheel_radius_m"), 5e-324, "chassis.wheel_radius_m", "at least 0.001"),
+    (("chassis", "track_m"), 1e-9, "chassis.track_m", "at least 0.001"),
+    (("routes", 0, "waypoints", 2, 2), 1e300, "routes[0].waypoints[2][2]", "at most 360"),
+    (("routes", 0, "waypoints", 2, 2), -400, "routes[0].waypoints[2][2]", "at least -360"),
 ])
 def test_bad_values_name_file_and_key_path(tmp_path, path, value, place, words):
     p, e = _error(tmp_path, _with(path, value))
@@ -217,6 +221,15 @@ def test_every_drive_names_its_missing_dimension(tmp_path):
             del chassis[key]
             _p, e = _error(tmp_path, _with(("chassis",), chassis), kind=ValidationError)
             assert e.place == f"chassis.{key}" and drive in e.expected
+
+
+@pytest.mark.parametrize("steer", [1e-12, 5e-324, 0.5])
+def test_steer_limit_too_small_to_turn_in_a_building_is_refused(tmp_path, steer):
+    # Common practice: below 1 degree a steered chassis turns on a radius of more than 57
+    # wheelbases (wheelbase / tan(steer)); a 1e-12 degree limit once divided by zero.
+    chassis = {**CHASSIS, "drive": "bicycle", "wheelbase_m": 0.8, "max_steer_deg": steer}
+    _p, e = _error(tmp_path, _with(("chassis",), chassis), kind=ValidationError)
+    assert e.place == "chassis.max_steer_deg" and "at least 1" in e.expected
 
 
 def test_bow_tie_footprint_is_a_geometry_error(tmp_path):
