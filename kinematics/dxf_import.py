@@ -44,6 +44,7 @@ import numpy as np
 
 from .errors import FileReadError, ValidationError
 from .floorplan import Door, FloorPlan, Obstacle, Wall
+from .validate import MAX_COORD_M
 
 SAGITTA_M = 0.005
 """Largest distance between an arc and the chords that replace it, in plan metres."""
@@ -493,6 +494,10 @@ def import_dxf(path: str | Path, layers: dict[str, list[str]] | None = None,
         if not np.all(np.isfinite(pts)):
             raise FileReadError(file, f"{sh.dxftype} handle {sh.handle}",
                                 "expected finite coordinates")
+        if np.abs(pts).max() > MAX_COORD_M:
+            raise FileReadError(file, f"{sh.dxftype} handle {sh.handle} on layer {sh.layer!r}",
+                                f"lies more than {MAX_COORD_M / 1000:g} km from the origin; "
+                                "move the drawing near the origin (or check its units)")
         used.setdefault(sh.layer, role)
         clean = _dedupe_points(pts, tol)
         if role == "doors":

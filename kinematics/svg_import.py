@@ -45,6 +45,7 @@ import numpy as np
 from .dxf_import import MAX_CHORDS, chord_count
 from .errors import FileReadError, ValidationError
 from .floorplan import Door, FloorPlan, Obstacle, Wall
+from .validate import MAX_COORD_M
 
 TOLERANCE_M = 0.005
 """Largest distance between a curve and the chords that replace it, in plan metres."""
@@ -665,6 +666,10 @@ def import_svg(path: str | Path, metres_per_unit: float = 0.01) -> FloorPlan:
         pts = to_plan(f.points)
         if not all(math.isfinite(v) for q in pts for v in q):
             raise FileReadError(file, f.label or "", "coordinates out of range")
+        if max(abs(v) for q in pts for v in q) > MAX_COORD_M:
+            raise FileReadError(file, f.label or "", f"lies more than {MAX_COORD_M / 1000:g} "
+                                "km from the origin; move the drawing near the origin (or "
+                                "check metres_per_unit)")
         if f.marker == "door":
             if f.two_point and len(pts) == 2:
                 doors.append(Door(pts[0], pts[1], f.label or f"door {len(doors) + 1}"))

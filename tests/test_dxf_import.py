@@ -109,6 +109,22 @@ def test_layer_not_in_the_drawing_is_named(tmp_path):
     assert "WALLZ" in err.value.message and "WALLS" in err.value.message
 
 
+@pytest.mark.parametrize("offset_mm", [2.0e9, 1.0e300])
+def test_drawing_far_from_the_origin_is_refused_with_the_entity(tmp_path, offset_mm):
+    # Common practice: a floor plan drawn in site coordinates (2000 km off here) or broken
+    # (1e300) must be moved near the origin; once 1e300 walls silently vanished from the
+    # check. Units 4 (millimetres): ezdxf documentation of $INSUNITS.
+    doc = _doc()
+    line = doc.modelspace().add_line((offset_mm, 0), (offset_mm + 5000, 0),
+                                     dxfattribs={"layer": "WALLS"})
+    with pytest.raises(FileReadError) as err:
+        import_dxf(_save(doc, tmp_path))
+    assert line.dxf.handle in err.value.place and "1000 km" in err.value.message
+    doc2 = _doc()
+    doc2.modelspace().add_line((9.0e8, 0), (9.0e8 + 5000, 0), dxfattribs={"layer": "WALLS"})
+    assert import_dxf(_save(doc2, tmp_path, "near.dxf")).walls  # 900 km off still reads
+
+
 def test_no_geometry_on_the_chosen_layers_is_an_error(tmp_path):
     doc = _doc()
     doc.modelspace().add_line((0, 0), (100, 0), dxfattribs={"layer": "WALLS"})

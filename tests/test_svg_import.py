@@ -329,3 +329,18 @@ def test_not_svg_and_missing(tmp_path):
         import_svg(p)
     with pytest.raises(FileReadError, match="not found"):
         import_svg(tmp_path / "absent.svg")
+
+
+def test_drawing_far_from_the_origin_is_refused(tmp_path):
+    # Common practice, as for DXF: a plan must lie near the origin (here 2000 km off at the
+    # default 0.01 m per unit); 900 km off still reads.
+    from kinematics.errors import FileReadError
+
+    p = _svg(tmp_path, '<rect id="far-block" x="2e8" y="100" width="200" height="50"/>',
+             'viewBox="0 0 1000 500"')
+    with pytest.raises(FileReadError) as err:
+        import_svg(p)
+    assert "far-block" in err.value.place and "1000 km" in err.value.message
+    p = _svg(tmp_path, '<rect x="9e7" y="100" width="200" height="50"/>',
+             'viewBox="0 0 1000 500"', name="near.svg")
+    assert import_svg(p).obstacles
