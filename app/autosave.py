@@ -13,6 +13,7 @@ from __future__ import annotations
 import dataclasses
 import hashlib
 import os
+import platform
 from dataclasses import dataclass
 from datetime import datetime
 from pathlib import Path
@@ -35,6 +36,8 @@ class AutosaveEntry:
     file: Path
     original_path: Path | None
     saved_at: datetime
+    pid: int | None = None
+    host: str = ""
 
     def describe(self) -> str:
         what = self.original_path.name if self.original_path else "an untitled project"
@@ -58,17 +61,44 @@ def _read_header(file: Path) -> AutosaveEntry | None:
         d = parse_json(file.read_text(encoding="utf-8"), str(file))
         h = d[HEADER]
         orig = Path(h["original_path"]) if h.get("original_path") else None
-        return AutosaveEntry(file, orig, datetime.fromisoformat(h["saved_at"]))
+        pid = h.get("pid")
+        return AutosaveEntry(file, orig, datetime.fromisoformat(h["saved_at"]),
+                             pid if isinstance(pid, int) and not isinstance(pid, bool) else None,
+                             str(h.get("host") or ""))
     except Exception:  # noqa: BLE001 - a half-written or foreign file is simply not offered
         return None
 
 
+def _host() -> str:
+    return platform.node()
+
+
+def _running_elsewhere(entry: AutosaveEntry) -> bool:
+    """True if the autosave belongs to another Swathe still running on this machine (its
+    work is not lost; offering it would fork it). Asked only on POSIX, where signal 0 tests a
+    process without touching it (POSIX kill(2)); a reused process id merely postpones the
+    offer to a later start."""
+    if entry.pid is None or entry.pid == os.getpid() or entry.host != _host() \
+            or os.name != "posix":
+        return False
+    try:
+        os.kill(entry.pid, 0)
+    except ProcessLookupError:
+        return False
+    except PermissionError:
+        return True  # alive, another user's
+    except OSError:
+        return False
+    return True
+
+
 def pending_autosaves(directory: Path | None = None) -> list[AutosaveEntry]:
-    """Autosaves left on disk, newest first."""
+    """Autosaves a crash left on disk, newest first (not those of a Swathe still running)."""
     directory = Path(directory) if directory is not None else default_directory()
     if not directory.is_dir():
         return []
-    found = [e for f in directory.glob("*" + SUFFIX) if (e := _read_header(f)) is not None]
+    found = [e for f in directory.glob("*" + SUFFIX)
+             if (e := _read_header(f)) is not None and not _running_elsewhere(e)]
     return sorted(found, key=lambda e: e.saved_at, reverse=True)
 
 
@@ -145,6 +175,7 @@ class Autosaver(QObject):
         d = project_to_dict(p, inline_floorplan=True)
         d[HEADER] = {"original_path": str(p.path) if p.path else None,
                      "saved_at": datetime.now().isoformat(timespec="seconds"),
+                     "pid": os.getpid(), "host": _host(),
                      "floorplan_ref": p.floorplan_ref if isinstance(p.floorplan_ref,
                                                                     (str, dict)) else None}
         self.directory.mkdir(parents=True, exist_ok=True)

@@ -897,35 +897,48 @@ class MainWindow(QMainWindow):
             QTimer.singleShot(0, lambda: self.open_any(p))
 
     # -- recovery and life cycle ------------------------------------------------------------
-    def offer_recovery(self, ask: Callable[[AutosaveEntry], bool] | None = None) -> bool:
-        """Offer the newest autosave a crash left; True if its work was recovered."""
+    def offer_recovery(self, ask: Callable[[AutosaveEntry], bool] | None = None,
+                       choose: Callable[[list[AutosaveEntry]], AutosaveEntry | None]
+                       | None = None) -> bool:
+        """Offer the autosaves a crash left; True if one was recovered.
+
+        ``choose`` picks one of the entries (newest first) or ``None``; by default the
+        recovery dialog asks the user, who may also delete some or keep them all for later.
+        ``ask`` is the older form: a yes or no for the newest. Entries not recovered stay on
+        disk unless the user deleted them.
+        """
         entries = pending_autosaves(self.autosaver.directory)
         if not entries:
             return False
-        entry = entries[0]
+        if choose is None and ask is not None:
+            def choose(es: list[AutosaveEntry]) -> AutosaveEntry | None:
+                return es[0] if ask(es[0]) else None
+        if choose is None:
+            from .recovery import RecoveryDialog
 
-        def default_ask(e: AutosaveEntry) -> bool:
-            ans = QMessageBox.question(
-                self, "Recover unsaved work",
-                f"Recover unsaved work from {e.saved_at:%Y-%m-%d %H:%M:%S}?\n\n"
-                f"Project: {e.original_path or 'untitled'}\n\nIf you choose No, the "
-                "autosaved copy is deleted.")
-            return ans == QMessageBox.StandardButton.Yes
+            def choose(es: list[AutosaveEntry]) -> AutosaveEntry | None:
+                dlg = RecoveryDialog(es, self)
+                dlg.exec()
+                return dlg.chosen
 
-        if (ask or default_ask)(entry):
-            try:
-                recover_into(self.doc, entry)
-            except SwatheInputError as exc:
-                self.show_input_error(exc, "recover the autosave")
-                discard(entry)
-                return False
-            for older in entries[1:]:
-                discard(older)
-            self.canvas.fit()
-            return True
-        for e in entries:
-            discard(e)
-        return False
+        entry = choose(entries)
+        if entry is None:
+            return False
+        try:
+            recover_into(self.doc, entry)
+        except SwatheInputError as exc:
+            self.show_input_error(exc, "recover the autosave")
+            return False
+        # The recovered work is autosaved again under this session; an untitled project's
+        # old copy (named after the crashed process) is then no longer needed.
+        try:
+            written = self.autosaver.save_now()
+        except OSError:
+            written = entry.file
+        if written != entry.file:
+            discard(entry)
+        self.canvas.fit()
+        return True
 
     def showEvent(self, ev) -> None:  # noqa: N802 - Qt's name
         super().showEvent(ev)

@@ -564,3 +564,89 @@ def test_violation_labels_cover_no_marker_name_or_other_label(make_window):
             assert not any(overlaps(a, b) for b in shown[i + 1:])
         if zoom is not None:
             assert len(shown) == len(vs)  # room for every label once zoomed in
+
+
+def _two_crashed_autosaves(tmp_path):
+    """Two projects left unsaved by a crash, the second autosaved a second later."""
+    import time as _time
+
+    from app.autosave import Autosaver
+    from app.document import Document
+
+    store = tmp_path / "autosave"
+    made = []
+    for k in range(2):
+        folder = tmp_path / f"p{k}"
+        folder.mkdir()
+        doc = Document()
+        doc.open_project(write_project(folder))
+        doc.move_waypoint(1, 1, 6.0 + k, 0.8)
+        Autosaver(doc, directory=store, interval_ms=600_000).save_now()
+        made.append((doc.path, doc.project.routes))
+        if k == 0:
+            _time.sleep(1.05)  # saved_at has whole seconds
+    return store, made
+
+
+def test_recovery_lists_every_autosave_and_keeps_what_is_not_chosen(make_window, tmp_path):
+    # Source: common practice (no crash-saved work is deleted without being asked; the user
+    # picks which work to bring back).
+    from app.autosave import pending_autosaves
+    from app.recovery import RecoveryDialog
+
+    store, made = _two_crashed_autosaves(tmp_path)
+    entries = pending_autosaves(store)
+    assert [e.original_path for e in entries] == [made[1][0], made[0][0]]  # newest first
+    dlg = RecoveryDialog(entries)
+    assert dlg.list.count() == 2 and dlg.list.currentRow() == 0
+    assert made[1][0].name in dlg.list.item(0).text()
+    dlg.list.setCurrentRow(1)
+    dlg.recover_button.click()
+    assert dlg.chosen == entries[1]
+    w = make_window()
+    w.autosaver.directory = store
+    # Keep for later: nothing recovered, nothing deleted.
+    assert not w.offer_recovery(choose=lambda es: None)
+    assert len(pending_autosaves(store)) == 2
+    # Recover the older one: it opens as unsaved work; the other stays on disk.
+    assert w.offer_recovery(choose=lambda es: es[1])
+    assert w.doc.path == made[0][0] and w.doc.project.routes == made[0][1] and w.doc.dirty
+    assert {e.original_path for e in pending_autosaves(store)} == {made[0][0], made[1][0]}
+
+
+def test_recovery_dialog_deletes_only_the_confirmed_one(tmp_path):
+    # Source: common practice (destructive actions ask first).
+    from app.autosave import pending_autosaves
+    from app.recovery import RecoveryDialog
+
+    store, made = _two_crashed_autosaves(tmp_path)
+    answers = [False, True]
+    dlg = RecoveryDialog(pending_autosaves(store), confirm=lambda e: answers.pop(0))
+    dlg.delete_button.click()  # declined
+    assert len(pending_autosaves(store)) == 2 and dlg.list.count() == 2
+    dlg.delete_button.click()  # confirmed: the selected (newest) goes
+    left = pending_autosaves(store)
+    assert [e.original_path for e in left] == [made[0][0]] and dlg.list.count() == 1
+
+
+@pytest.mark.skipif(os.name != "posix", reason="liveness is asked with POSIX kill(pid, 0)")
+def test_autosave_of_a_swathe_still_running_is_not_offered(tmp_path):
+    # Source: POSIX kill(2): signal 0 checks that a process exists without signalling it.
+    import platform
+    import subprocess
+    import sys
+
+    from app.autosave import HEADER, pending_autosaves
+
+    store, _made = _two_crashed_autosaves(tmp_path)
+    other = subprocess.Popen([sys.executable, "-c", "import time; time.sleep(60)"])
+    try:
+        f = pending_autosaves(store)[0].file
+        d = json.loads(f.read_text())
+        d[HEADER]["pid"], d[HEADER]["host"] = other.pid, platform.node()
+        f.write_text(json.dumps(d))
+        assert f not in [e.file for e in pending_autosaves(store)]
+    finally:
+        other.kill()
+        other.wait()
+    assert f in [e.file for e in pending_autosaves(store)]  # its process has gone
