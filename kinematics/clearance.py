@@ -848,39 +848,8 @@ _SLACK_M = 1e-6
 _GRID_M = 0.02
 
 
-def _nearest_rows(points: np.ndarray, targets: np.ndarray, block: int = 64) -> np.ndarray:
-    """For each target ``(x, y)`` the index of the first nearest row of ``points``, by
-    ``np.hypot``: what ``np.argmin(np.hypot(px - x, py - y))`` gives, without measuring to
-    every point.
-
-    Points go in blocks of consecutive rows; only blocks whose bounding box comes as near a
-    target as the nearest far corner of any block are measured, in row order.
-    """
-    n = len(points)
-    nb = -(-n // block)
-    padded = np.concatenate([points, np.repeat(points[-1:], nb * block - n, axis=0)])
-    boxes = padded.reshape(nb, block, 2)
-    lo, hi = boxes.min(axis=1), boxes.max(axis=1)
-    tx, ty = targets[:, 0, None], targets[:, 1, None]
-    lb = np.hypot(np.maximum(0.0, np.maximum(lo[None, :, 0] - tx, tx - hi[None, :, 0])),
-                  np.maximum(0.0, np.maximum(lo[None, :, 1] - ty, ty - hi[None, :, 1])))
-    ub = np.hypot(np.maximum(np.abs(tx - lo[None, :, 0]), np.abs(tx - hi[None, :, 0])),
-                  np.maximum(np.abs(ty - lo[None, :, 1]), np.abs(ty - hi[None, :, 1]))
-                  ).min(axis=1)
-    out = np.empty(len(targets), dtype=int)
-    within = np.arange(block)
-    for k in range(len(targets)):
-        # A little slack so rounding in the bounds never drops the block holding the nearest.
-        cand = np.flatnonzero(lb[k] <= ub[k] * (1.0 + 1e-9) + 1e-12)
-        rows = (cand[:, None] * block + within).ravel()
-        rows = rows[rows < n]
-        d = np.hypot(points[rows, 0] - targets[k, 0], points[rows, 1] - targets[k, 1])
-        out[k] = rows[int(np.argmin(d))]
-    return out
-
-
 def _station_row(sg: Segment) -> tuple[float, ...]:
-    """What :func:`poses_on_stations` needs of one segment, evaluated as
+    """What :func:`_grid_poses` needs of one segment, evaluated as
     :meth:`Segment.poses_at_fraction` evaluates it (a 0-d numpy cos / sin of the start heading
     in the exponential map, ``math.cos`` / ``sin`` of the course on holonomic lines)."""
     # 0: exponential map (lines, arcs), 1: turn on the spot, 2: holonomic line, 3: no length.
@@ -895,8 +864,9 @@ def _station_row(sg: Segment) -> tuple[float, ...]:
 
 
 def _grid_poses(sg: Segment, local: np.ndarray) -> np.ndarray:
-    """:func:`poses_on_stations` of one segment at its local stations ``local`` (edges
-    ``[0, length]``), with the same floating-point operations, without the look-ups."""
+    """:func:`kinematics.segments.poses_along` of one segment at its local stations ``local``
+    (edges ``[0, length]``), with the same floating-point operations (the same to the last
+    bit; a test compares them) and no per-station look-up of the segment."""
     x0, y0, th0, L, turn, mode, omega, vx, c, s, cc, sc = _station_row(sg)
     out = np.empty((len(local), 3))
     if mode == 3:
@@ -921,58 +891,6 @@ def _grid_poses(sg: Segment, local: np.ndarray) -> np.ndarray:
         out[:, 0] = x0 + c * bx - s * by
         out[:, 1] = y0 + s * bx + c * by
         out[:, 2] = th0 + phi
-    return out
-
-
-def poses_on_stations(segs: Sequence[Segment], edges: np.ndarray, st: np.ndarray,
-                      cache: dict | None = None) -> np.ndarray:
-    """:func:`kinematics.segments.poses_along` in one pass over all stations.
-
-    The same closed forms with the same floating-point operations, per station instead of
-    per segment (so the result is the same to the last bit; a test compares them).
-
-    Parameters
-    ----------
-    segs : sequence of Segment
-    edges : ndarray, shape (n + 1,)
-        :func:`kinematics.segments.segment_stations` of ``segs``.
-    st : ndarray
-        Route stations, metres.
-    cache : dict, optional
-        Per-segment values kept between calls (keyed by segment).
-    """
-    n = len(segs)
-    i = np.clip(np.searchsorted(edges, st, side="right") - 1, 0, n - 1)
-    rows = np.array([_station_row(sg) if cache is None else cache.get(sg) or
-                     cache.setdefault(sg, _station_row(sg)) for sg in segs], dtype=float)
-    start, length, turn = rows[:, 0:3], rows[:, 3], rows[:, 4]
-    mode, omega, vx = rows[:, 5].astype(int), rows[:, 6], rows[:, 7]
-    cth, sth, cc, sc = rows[:, 8], rows[:, 9], rows[:, 10], rows[:, 11]
-    x0, y0, th0 = start[i, 0], start[i, 1], start[i, 2]
-    L, md = length[i], mode[i]
-    with np.errstate(divide="ignore", invalid="ignore"):
-        f = np.where(L > 0.0, (st - edges[i]) / np.where(L > 0.0, L, 1.0), 1.0)
-    t = f * L
-    phi = omega[i] * t
-    S, C = sinc_terms(phi)
-    vxi = vx[i]
-    vy = np.zeros_like(t)
-    bx = t * (S * vxi - C * vy)
-    by = t * (C * vxi + S * vy)
-    c, s = cth[i], sth[i]
-    out = np.empty((len(st), 3))
-    out[:, 0] = x0 + c * bx - s * by
-    out[:, 1] = y0 + s * bx + c * by
-    out[:, 2] = th0 + phi
-    h = md == 2
-    out[h, 0] = x0[h] + t[h] * cc[i[h]]
-    out[h, 1] = y0[h] + t[h] * sc[i[h]]
-    out[h, 2] = th0[h] + f[h] * turn[i[h]]
-    p = md == 1
-    out[p, 0], out[p, 1] = x0[p], y0[p]
-    out[p, 2] = th0[p] + 1.0 * turn[i[p]]
-    z = md == 3
-    out[z] = start[i[z]]
     return out
 
 

@@ -286,14 +286,15 @@ def test_warm_planner_and_checker_give_the_fresh_check_after_every_move(moves, r
 
 
 @pytest.mark.parametrize("drive", ["differential", "bicycle", "mecanum"])
-def test_poses_on_stations_is_poses_along_to_the_last_bit(drive):
-    from kinematics.clearance import poses_on_stations
-    from kinematics.segments import poses_along, segment_stations
+def test_segment_grid_poses_are_poses_along_to_the_last_bit(drive):
+    from kinematics.clearance import _grid_poses
+    from kinematics.segments import poses_along
 
     chassis = {"differential": Chassis(drive="differential", track_m=0.5),
                "bicycle": Chassis(drive="bicycle", wheelbase_m=1.0, max_steer_deg=40.0),
                "mecanum": Chassis(drive="mecanum", wheelbase_m=0.5, track_m=0.5)}[drive]
     rng = np.random.default_rng(3)
+    kinds = set()
     for trial in range(20):
         pts = np.cumsum(rng.uniform(-3, 3, (8, 2)), axis=0)
         heads = [None if rng.random() < 0.6 else float(rng.uniform(-180, 180)) for _ in pts]
@@ -301,27 +302,14 @@ def test_poses_on_stations_is_poses_along_to_the_last_bit(drive):
             pts[3] = pts[2]  # a repeat: turns on the spot
         route = Route("r", tuple(Waypoint(*p, h) for p, h in zip(pts, heads)),
                       turn_radius_m=float(rng.choice([0.0, 0.7])), reverse=bool(trial % 2))
-        segs = plan_route(route, chassis).segments
-        edges = segment_stations(segs)
-        st = np.linspace(0.0, float(edges[-1]), 997)
-        # Source: kinematics.segments.poses_along, the per-segment reference it replaces.
-        assert np.array_equal(poses_on_stations(segs, edges, st), poses_along(segs, st))
-
-
-def test_nearest_rows_is_the_first_argmin_of_hypot():
-    from kinematics.clearance import _nearest_rows
-
-    rng = np.random.default_rng(5)
-    for trial in range(30):
-        n = int(rng.integers(1, 700))
-        pts = np.cumsum(rng.uniform(-0.05, 0.05, (n, 2)), axis=0)
-        if trial % 3 == 0:
-            pts[n // 2:] = pts[: n - n // 2]  # the path passes the same places twice: ties
-        targets = np.r_[rng.uniform(-2, 2, (25, 2)), pts[rng.integers(0, n, 5)]]
-        # Source: numpy.argmin over numpy.hypot distances (first index among equal minima).
-        ref = [int(np.argmin(np.hypot(pts[:, 0] - x, pts[:, 1] - y))) for x, y in targets]
-        assert _nearest_rows(pts, targets).tolist() == ref
-
+        for seg in plan_route(route, chassis).segments:
+            kinds.add(seg.kind)
+            L = seg.length_m
+            local = (np.linspace(0.0, L, max(1, int(np.ceil(L / 0.02))) + 1) if L > 0.0
+                     else np.zeros(1))
+            # Source: kinematics.segments.poses_along, the per-segment reference it replaces.
+            assert np.array_equal(_grid_poses(seg, local), poses_along([seg], local))
+    assert {"line", "arc"} <= kinds or drive == "mecanum"
 
 def _blocked_reference(segs, idx, waypoints):
     """waypoint_blocked by brute force: every segment's own 2 cm grid posed by poses_along,
