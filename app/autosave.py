@@ -40,8 +40,11 @@ class AutosaveEntry:
     host: str = ""
 
     def describe(self) -> str:
-        what = self.original_path.name if self.original_path else "an untitled project"
-        return f"{what}, saved {self.saved_at:%Y-%m-%d %H:%M:%S}"
+        """Two lines for people: the project (or "untitled") and when it was autosaved,
+        then its folder."""
+        name = self.original_path.name if self.original_path else "untitled project"
+        where = str(self.original_path.parent) if self.original_path else "never saved"
+        return f"{name} \u2014 autosaved {self.saved_at:%Y-%m-%d %H:%M:%S}\n    {where}"
 
 
 def default_directory() -> Path:

@@ -421,11 +421,10 @@ class Document(QObject):
 
     def finish_drag(self) -> None:
         """The drag ended: send the held-back resultsChanged now rather than after a rest."""
+        self._release_collector()
         if self._results_timer.isActive():
             self._results_timer.stop()
-            self._release_collector()
             self.resultsChanged.emit()
-        self._release_collector()
 
     def _push(self, text: str, after: Project, what: str | set[str], current: int | None = None,
               merge_key: tuple | None = None) -> None:

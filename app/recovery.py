@@ -26,13 +26,6 @@ from PySide6.QtWidgets import (
 from .autosave import AutosaveEntry, discard
 
 
-def entry_text(e: AutosaveEntry) -> str:
-    """Two lines: the project (or "untitled") and when it was autosaved, then its folder."""
-    name = e.original_path.name if e.original_path else "untitled project"
-    where = str(e.original_path.parent) if e.original_path else "never saved"
-    return f"{name} \u2014 autosaved {e.saved_at:%Y-%m-%d %H:%M:%S}\n    {where}"
-
-
 class RecoveryDialog(QDialog):
     """Choose an autosave to recover; ``chosen`` holds it after *Recover*."""
 
@@ -73,7 +66,7 @@ class RecoveryDialog(QDialog):
     def _fill(self) -> None:
         self.list.clear()
         for e in self.entries:
-            it = QListWidgetItem(entry_text(e))
+            it = QListWidgetItem(e.describe())
             it.setData(Qt.ItemDataRole.UserRole, str(e.file))
             it.setToolTip(str(e.original_path or e.file))
             self.list.addItem(it)
@@ -95,7 +88,7 @@ class RecoveryDialog(QDialog):
     def _ask_delete(self, e: AutosaveEntry) -> bool:
         ans = QMessageBox.question(
             self, "Delete autosaved work",
-            f"Delete the unsaved work of {entry_text(e).splitlines()[0]}?\n\n"
+            f"Delete the unsaved work of {e.describe().splitlines()[0]}?\n\n"
             "This cannot be undone.")
         return ans == QMessageBox.StandardButton.Yes
 
