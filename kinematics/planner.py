@@ -64,7 +64,7 @@ from .fillet import (
 )
 from .project import DRIVE_ALIASES, Chassis, Project, Route
 from .segments import Segment, holonomic_line, line, path_length, pivot
-from .validate import MAX_ROUTE_SPAN_M
+from .validate import MAX_ROUTE_SPAN_M, too_spread
 
 #: Consecutive waypoints closer than this (metres) are the same point.
 DUPLICATE_TOL_M = 1e-6
@@ -417,11 +417,10 @@ def _distinct_points(route: Route, notes: list[str]) -> _Points:
         if not all(math.isfinite(float(v)) for v in vals):
             raise ValidationError(route.name, f"waypoints[{i}]",
                                   "finite x, y and heading_deg (no NaN or infinity)")
-    xs, ys = [w.x for w in wps], [w.y for w in wps]
-    if max(max(xs) - min(xs), max(ys) - min(ys)) > MAX_ROUTE_SPAN_M:
-        # The file reader refuses such routes too; this guards routes built in code or
-        # sketched on the canvas far from the plan.
-        far = max(range(len(wps)), key=lambda i: max(abs(xs[i] - xs[0]), abs(ys[i] - ys[0])))
+    # The file reader refuses such routes too; this guards routes built in code or sketched
+    # on the canvas far from the plan.
+    far = too_spread([(w.x, w.y) for w in wps])
+    if far is not None:
         raise ValidationError(route.name, f"waypoints[{far}]",
                               f"waypoints within {MAX_ROUTE_SPAN_M / 1000:g} km of each "
                               f"other (metres on a floor plan)")

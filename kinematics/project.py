@@ -22,6 +22,7 @@ from .validate import (
     MIN_STEER_DEG,
     Reader,
     join,
+    too_spread,
 )
 
 FORMAT_VERSION = 1
@@ -205,9 +206,8 @@ def route_from_dict(d: Any, file: str, place: str) -> Route:
         h = None if len(w) == 2 or w[2] is None else r.number(w[2], join(p, 2),
                                                                minimum=-360.0, maximum=360.0)
         wps.append(Waypoint(x, y, h))
-    xs, ys = [w.x for w in wps], [w.y for w in wps]
-    if max(max(xs) - min(xs), max(ys) - min(ys)) > MAX_ROUTE_SPAN_M:
-        far = max(range(len(wps)), key=lambda i: max(abs(xs[i] - xs[0]), abs(ys[i] - ys[0])))
+    far = too_spread([(w.x, w.y) for w in wps])
+    if far is not None:
         raise r.fail(join(wp_place, far), f"waypoints spread over more than "
                      f"{MAX_ROUTE_SPAN_M / 1000:g} km; expected metres on a floor plan")
     radius = r.opt_number(d, "turn_radius_m", place, 0.0, non_negative=True,

@@ -30,6 +30,18 @@ MIN_STEER_DEG = 1.0
 MAX_ROUTE_SPAN_M = 1.0e4
 
 
+def too_spread(points: list[tuple[float, float]]) -> int | None:
+    """Index of the point farthest from the first when ``points`` spread over more than
+    :data:`MAX_ROUTE_SPAN_M` in x or y (``None`` when they do not): the waypoint to name."""
+    if not points:
+        return None
+    xs, ys = [p[0] for p in points], [p[1] for p in points]
+    if max(max(xs) - min(xs), max(ys) - min(ys)) <= MAX_ROUTE_SPAN_M:
+        return None
+    return max(range(len(points)),
+               key=lambda i: max(abs(xs[i] - xs[0]), abs(ys[i] - ys[0])))
+
+
 def join(place: str, key: str | int) -> str:
     """Key path ``place`` extended by a key or list index."""
     if isinstance(key, int):
