@@ -9,7 +9,6 @@ from __future__ import annotations
 
 from collections.abc import Callable
 
-from PySide6.QtCore import Qt
 from PySide6.QtWidgets import (
     QAbstractItemView,
     QDialog,
@@ -67,7 +66,6 @@ class RecoveryDialog(QDialog):
         self.list.clear()
         for e in self.entries:
             it = QListWidgetItem(e.describe())
-            it.setData(Qt.ItemDataRole.UserRole, str(e.file))
             it.setToolTip(str(e.original_path or e.file))
             self.list.addItem(it)
         if self.entries:
