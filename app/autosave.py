@@ -20,8 +20,8 @@ from pathlib import Path
 
 from PySide6.QtCore import QObject, QStandardPaths, QTimer
 
-from kinematics.jsonio import parse_json, write_json
-from kinematics.project import project_from_dict, project_to_dict
+from kinematics.files.jsonio import parse_json, write_json
+from kinematics.files.project import project_from_dict, project_to_dict
 
 from .document import Document
 

@@ -38,8 +38,8 @@ from PySide6.QtWidgets import (
     QWidget,
 )
 
-from kinematics.project import Waypoint
-from kinematics.segments import Segment
+from kinematics.files.project import Waypoint
+from kinematics.motion.segments import Segment
 
 from .document import Document, new_drag_token
 from .palette import (  # noqa: F401 - the whole set, as other views import it from here
@@ -789,7 +789,7 @@ class PlanCanvas(QWidget):
         else:
             self.band_item.setPath(QPainterPath())
         if self.outline_spacing_m and segs:
-            from kinematics.segments import path_length, poses_along
+            from kinematics.motion.segments import path_length, poses_along
 
             total = path_length(segs)
             n = int(total // self.outline_spacing_m)
@@ -806,7 +806,7 @@ class PlanCanvas(QWidget):
         fills their union once without computing it; pieces of unchanged segments come from
         a cache, so a drag re-sweeps only the segments that moved.
         """
-        from kinematics.sweep import swept_parts
+        from kinematics.check.sweep import swept_parts
 
         fp = self.doc.project.chassis.footprint
         if self._sweep_cache_key != fp:
@@ -982,7 +982,7 @@ class PlanCanvas(QWidget):
                 self.pending_item.setData([x], [y])
                 self.message.emit("First point of a new route; click again for the second.")
                 return
-            from kinematics.project import Route
+            from kinematics.files.project import Route
 
             first = self._pending
             self._pending = None
@@ -1116,7 +1116,7 @@ class PlanCanvas(QWidget):
         # Refine to the nearest station on the segment around the nearest sample.
         lo, hi = max(0, k - 1), min(len(xy) - 1, k + 1)
         cand = np.linspace(st[lo], st[hi], 21)
-        from kinematics.segments import poses_along
+        from kinematics.motion.segments import poses_along
 
         poses = poses_along(plan.segments, cand)
         j = int(np.argmin(np.hypot(poses[:, 0] - x, poses[:, 1] - y)))
@@ -1156,7 +1156,7 @@ class PlanCanvas(QWidget):
         sched = self.doc.schedule(name)
         if sched is None:
             return None, []
-        from kinematics.schedule import schedule_series
+        from kinematics.timing.schedule import schedule_series
 
         series = schedule_series(sched)
         st = np.asarray(series["station_m"], float)

@@ -81,26 +81,26 @@ def _selected_routes(project, name: str | None):
 
 
 def cmd_plan(args: argparse.Namespace) -> int:
-    from kinematics.jsonio import dumps
-    from kinematics.planner import plan_route
-    from kinematics.project import load_project
+    from kinematics.files.jsonio import dumps
+    from kinematics.files.project import load_project
+    from kinematics.plan.planner import plan_route
 
     project = load_project(args.project)
     plans = [plan_route(r, project.chassis) for r in _selected_routes(project, args.route)]
     if args.json:
         sys.stdout.write(dumps({"routes": [pl.to_dict() for pl in plans]}))
         return EXIT_OK
-    from kinematics.report_text import format_plan_text
+    from kinematics.analysis.report_text import format_plan_text
 
     sys.stdout.write(format_plan_text(plans, project))
     return EXIT_OK
 
 
 def cmd_check(args: argparse.Namespace) -> int:
-    from kinematics.clearance import ObstacleIndex, check_route, format_check_text
-    from kinematics.jsonio import dumps
-    from kinematics.planner import plan_route
-    from kinematics.project import load_project
+    from kinematics.check.clearance import ObstacleIndex, check_route, format_check_text
+    from kinematics.files.jsonio import dumps
+    from kinematics.files.project import load_project
+    from kinematics.plan.planner import plan_route
 
     if not (args.tolerance_mm > 0) or args.tolerance_mm != args.tolerance_mm:
         raise SwatheInputError("command line", "--tolerance-mm", "expected a positive number")
@@ -113,7 +113,7 @@ def cmd_check(args: argparse.Namespace) -> int:
         chk = check_route(plan, project.chassis, index, tolerance_m=tol, route_name=route.name,
                           route=route)
         if args.sizing:
-            from kinematics.sizing import attach_sizing
+            from kinematics.check.sizing import attach_sizing
 
             chk = attach_sizing(chk, plan, project, index, tolerance_m=tol)
         checks.append(chk)
@@ -125,10 +125,10 @@ def cmd_check(args: argparse.Namespace) -> int:
 
 
 def cmd_schedule(args: argparse.Namespace) -> int:
-    from kinematics.jsonio import atomic_write_text, dumps
-    from kinematics.planner import plan_route
-    from kinematics.project import load_project
-    from kinematics.schedule import build_schedule, schedule_to_csv, schedule_to_dict
+    from kinematics.files.jsonio import atomic_write_text, dumps
+    from kinematics.files.project import load_project
+    from kinematics.plan.planner import plan_route
+    from kinematics.timing.schedule import build_schedule, schedule_to_csv, schedule_to_dict
 
     if not (args.dt > 0) or args.dt > 60:
         raise SwatheInputError("command line", "--dt", "expected a time step between 0 and 60 s")
@@ -152,7 +152,7 @@ def _check_output_path(path: str) -> None:
 
 
 def cmd_render(args: argparse.Namespace) -> int:
-    from kinematics.project import load_project
+    from kinematics.files.project import load_project
 
     if args.width < 200 or args.height < 150 or args.width > 10000 or args.height > 10000:
         raise SwatheInputError("command line", "--width/--height",
@@ -170,8 +170,8 @@ def cmd_render(args: argparse.Namespace) -> int:
                        size=(args.width, args.height))
     if args.plots:
         from app.render import render_plot_png
-        from kinematics.planner import plan_route
-        from kinematics.schedule import build_schedule
+        from kinematics.plan.planner import plan_route
+        from kinematics.timing.schedule import build_schedule
 
         if not project.routes:
             raise SwatheInputError(args.project, "routes", "no route to plot")

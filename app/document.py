@@ -1,7 +1,7 @@
 """The workbench document: one project, its undo history and the latest results per route.
 
 The :class:`Document` is the single source of truth of the window. The project is a tree of
-frozen dataclasses (:mod:`kinematics.project`); every edit builds a new tree with
+frozen dataclasses (:mod:`kinematics.files.project`); every edit builds a new tree with
 ``dataclasses.replace`` and goes through one :class:`QUndoCommand` that holds the trees before
 and after, so undo and redo are exact and cheap. Views subscribe to the signals and edit only
 through the methods here.
@@ -27,8 +27,8 @@ from PySide6.QtCore import QObject, QTimer, Signal
 from PySide6.QtGui import QUndoCommand, QUndoStack
 
 from kinematics.errors import SwatheInputError
-from kinematics.floorplan import FloorPlan
-from kinematics.project import Chassis, Project, Route, Waypoint, load_project, save_project
+from kinematics.files.floorplan import FloorPlan
+from kinematics.files.project import Chassis, Project, Route, Waypoint, load_project, save_project
 
 _LEAK_PROBE_CALLS = 64  # void calls measured; a leaking binding loses one reference each
 
@@ -89,7 +89,7 @@ def guard_none_refcount() -> bool:
 
 
 GUARDED = guard_none_refcount()
-MIN_WAYPOINTS = 2  # a route file needs two waypoints (kinematics.project.route_from_dict)
+MIN_WAYPOINTS = 2  # a route file needs two waypoints (kinematics.files.project.route_from_dict)
 _MERGE_ID = 0x5357  # one id for every mergeable drag command; mergeWith compares the keys
 _drag_tokens = itertools.count(1)
 
@@ -274,7 +274,7 @@ class Document(QObject):
 
     def obstacle_index(self) -> Any:
         """The spatial index of the floor plan's solids, built once per floor plan."""
-        from kinematics.clearance import ObstacleIndex
+        from kinematics.check.clearance import ObstacleIndex
 
         fp = self._project.floorplan
         if self._index is None or self._index[0] is not fp:
@@ -282,7 +282,7 @@ class Document(QObject):
         return self._index[1]
 
     def plan(self, name: str) -> Any:
-        """The :class:`kinematics.planner.RoutePlan` of route ``name``, or ``None``."""
+        """The :class:`kinematics.plan.planner.RoutePlan` of route ``name``, or ``None``."""
         route = self._route_by_name(name)
         if route is None:
             return None
@@ -303,11 +303,11 @@ class Document(QObject):
         return plan
 
     def _planner(self) -> Any:
-        """One :class:`kinematics.planner.RoutePlanner` for the document: a drag step replans
+        """One :class:`kinematics.plan.planner.RoutePlanner` for the document: a drag step replans
         only the pieces next to the moved waypoint and hands the rest back as the same
         objects, which the incremental checker and the canvas then find in their caches."""
         if self._route_planner is None:
-            from kinematics.planner import RoutePlanner
+            from kinematics.plan.planner import RoutePlanner
 
             self._route_planner = RoutePlanner()
         return self._route_planner
@@ -318,7 +318,7 @@ class Document(QObject):
         if hit is not None and hit[0] is chassis and hit[1] is fp:
             return hit[2]
         try:
-            from kinematics.clearance import RouteChecker
+            from kinematics.check.clearance import RouteChecker
         except ImportError:
             return None
         checker = RouteChecker(chassis, self.obstacle_index())
@@ -326,7 +326,7 @@ class Document(QObject):
         return checker
 
     def check(self, name: str) -> Any:
-        """The :class:`kinematics.clearance.RouteCheck` of route ``name``, or ``None``."""
+        """The :class:`kinematics.check.clearance.RouteCheck` of route ``name``, or ``None``."""
         plan = self.plan(name)
         if plan is None:
             return None
@@ -340,7 +340,7 @@ class Document(QObject):
             if checker is not None:
                 chk = checker.check(plan, route_name=name, route=route)
             else:
-                from kinematics.clearance import check_route
+                from kinematics.check.clearance import check_route
 
                 chk = check_route(plan, self._project.chassis, self.obstacle_index(),
                                   route_name=name, route=route)
@@ -351,14 +351,14 @@ class Document(QObject):
         return chk
 
     def schedule(self, name: str) -> Any:
-        """The :class:`kinematics.schedule.Schedule` of route ``name``, or ``None``."""
+        """The :class:`kinematics.timing.schedule.Schedule` of route ``name``, or ``None``."""
         plan = self.plan(name)
         if plan is None or not plan.segments:
             return None
         hit = self._schedules.get(name)
         if hit is not None and hit[0] is plan:
             return hit[1]
-        from kinematics.schedule import build_schedule
+        from kinematics.timing.schedule import build_schedule
 
         try:
             sched = build_schedule(name, list(plan.segments), self._project.chassis,

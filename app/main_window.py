@@ -38,9 +38,9 @@ from PySide6.QtWidgets import (
     QWidget,
 )
 
+from kinematics.analysis.report_text import CAUTION as SAFETY_CAUTION
 from kinematics.errors import SwatheInputError
-from kinematics.project import Route, Waypoint
-from kinematics.report_text import CAUTION as SAFETY_CAUTION
+from kinematics.files.project import Route, Waypoint
 
 from .autosave import AutosaveEntry, Autosaver, discard, pending_autosaves, recover_into
 from .canvas import PlanCanvas
@@ -69,7 +69,7 @@ class DxfImportDialog(QDialog):
 
     def __init__(self, path: Path, layers: list[str], parent: QWidget | None = None) -> None:
         super().__init__(parent)
-        from kinematics.dxf_import import guess_role
+        from kinematics.files.dxf_import import guess_role
 
         self.setWindowTitle(f"Import {path.name}")
         lay = QVBoxLayout(self)
@@ -101,7 +101,7 @@ class DxfImportDialog(QDialog):
         lay.addWidget(buttons)
 
     def options(self) -> dict[str, Any]:
-        """Keyword options for :func:`kinematics.floorplan.load_floorplan`."""
+        """Keyword options for :func:`kinematics.files.loader.load_floorplan`."""
         roles: dict[str, list[str]] = {"walls": [], "obstacles": [], "doors": []}
         for name, cb in self.combos.items():
             if cb.currentText() in roles:
@@ -437,7 +437,7 @@ class MainWindow(QMainWindow):
             self.summary_label.setText(f"{r.name}: not checked")
             return
         plan = self.doc.plan(r.name)
-        from kinematics.segments import path_length
+        from kinematics.motion.segments import path_length
 
         length = path_length(plan.segments) if plan is not None else 0.0
         n = len(chk.violations)
@@ -599,7 +599,7 @@ class MainWindow(QMainWindow):
             options = {}
             if suffix == ".dxf":
                 try:
-                    from kinematics.dxf_import import dxf_layers
+                    from kinematics.files.dxf_import import dxf_layers
 
                     layers = dxf_layers(p)
                 except SwatheInputError as exc:
@@ -622,7 +622,7 @@ class MainWindow(QMainWindow):
             ref = str(p)
 
         def load():
-            from kinematics.floorplan import load_floorplan
+            from kinematics.files.loader import load_floorplan
 
             return load_floorplan(p, **options)
 
@@ -698,8 +698,8 @@ class MainWindow(QMainWindow):
 
     def export_schedule(self, path: str | Path, fmt: str | None = None) -> bool:
         """Write the current route's schedule as CSV or JSON (by ``fmt`` or the suffix)."""
-        from kinematics.jsonio import atomic_write_text, dumps
-        from kinematics.schedule import schedule_to_csv, schedule_to_dict
+        from kinematics.files.jsonio import atomic_write_text, dumps
+        from kinematics.timing.schedule import schedule_to_csv, schedule_to_dict
 
         r = self.doc.route()
         if r is None:

@@ -46,7 +46,7 @@ from PySide6.QtWidgets import (
 )
 
 from kinematics.errors import SwatheInputError
-from kinematics.project import DRIVES, Chassis, chassis_from_dict
+from kinematics.files.project import DRIVES, Chassis, chassis_from_dict
 
 from .document import clearance_words
 from .render import (
@@ -213,7 +213,7 @@ def chassis_from_form(values: dict, footprint_rows: list[tuple[str, str]],
             continue  # a dimension this drive does not use may stay empty
         d[key] = float(v)
     c = chassis_from_dict(d, "chassis panel", "chassis")
-    from kinematics.drives import drive_for
+    from kinematics.motion.drives import drive_for
 
     drive_for(c, "chassis panel")
     return dataclasses.replace(c, extra=dict(extra or {}))
@@ -647,12 +647,12 @@ def compute_sizing(project: Any, route_name: str, token: CancelToken,
     Returns
     -------
     dict
-        :func:`kinematics.sizing.sizing_dict` (``widest``, ``longest``, ``doors``) plus
+        :func:`kinematics.check.sizing.sizing_dict` (``widest``, ``longest``, ``doors``) plus
         ``route``: what the check JSON's ``sizing`` holds, for display and for the report.
     """
-    from kinematics import sizing
-    from kinematics.clearance import ObstacleIndex
-    from kinematics.planner import plan_route
+    from kinematics.check import sizing
+    from kinematics.check.clearance import ObstacleIndex
+    from kinematics.plan.planner import plan_route
 
     route = project.route(route_name)
     token.report(0.0, "planning the route")
@@ -683,7 +683,7 @@ def compute_sizing(project: Any, route_name: str, token: CancelToken,
 def sizing_lines(answers: dict) -> list[str]:
     """Readable lines for the sizing answers (the panel and the report share them).
 
-    ``answers`` is the check JSON's ``sizing`` object (:func:`kinematics.sizing.sizing_dict`).
+    ``answers`` is the check JSON's ``sizing`` object (:func:`kinematics.check.sizing.sizing_dict`).
     """
     lines = []
     for key, words in (("widest", "Widest footprint that clears"),
@@ -1015,7 +1015,7 @@ class ScheduleTable(QWidget):
         return self.doc.schedule(r.name) if r is not None else None
 
     def refresh(self) -> None:
-        from kinematics.schedule import SEGMENT_COLUMNS, csv_columns
+        from kinematics.timing.schedule import SEGMENT_COLUMNS, csv_columns
 
         r = self.doc.route()
         s = self.schedule()
@@ -1057,9 +1057,9 @@ class ScheduleTable(QWidget):
             self.message.hide()
 
     def export_csv(self, path: str | Path) -> None:
-        """Write the schedule as :func:`kinematics.schedule.schedule_to_csv` does, atomically."""
-        from kinematics.jsonio import atomic_write_text
-        from kinematics.schedule import schedule_to_csv
+        """Write the schedule as :func:`~kinematics.timing.schedule.schedule_to_csv`, atomically."""
+        from kinematics.files.jsonio import atomic_write_text
+        from kinematics.timing.schedule import schedule_to_csv
 
         s = self.schedule()
         if s is None:
@@ -1068,8 +1068,8 @@ class ScheduleTable(QWidget):
 
     def export_json(self, path: str | Path) -> None:
         """Write the schedule as ``swathe schedule --format json`` does, atomically."""
-        from kinematics.jsonio import atomic_write_text, dumps
-        from kinematics.schedule import schedule_to_dict
+        from kinematics.files.jsonio import atomic_write_text, dumps
+        from kinematics.timing.schedule import schedule_to_dict
 
         s = self.schedule()
         if s is None:
@@ -1100,7 +1100,7 @@ def _schedule_rows(s: Any) -> list[dict]:
     import csv
     import io
 
-    from kinematics.schedule import schedule_to_csv
+    from kinematics.timing.schedule import schedule_to_csv
 
     reader = csv.DictReader(io.StringIO(schedule_to_csv(s)))
     out = []

@@ -4,7 +4,7 @@ Two linked pyqtgraph plots: the speed of the reference point, and every wheel's 
 limit of the chassis is a dashed horizontal line labelled with its name (max speed, max wheel
 rate), and each segment's own speed cap is drawn dotted and named by the limit that sets it
 (lateral-accel cap, yaw-rate cap, max wheel rate), so a user sees at a glance which limit
-binds where. Data from :func:`kinematics.schedule.schedule_series`.
+binds where. Data from :func:`kinematics.timing.schedule.schedule_series`.
 
 Wheels differ by line style as well as colour (Okabe-Ito palette, Okabe & Ito 2008).
 """
@@ -161,7 +161,7 @@ class PlotsPanel(QWidget):
             self.status.setText("No route." if r is None else
                                 f"{r.name}: no schedule" + (f" \u2014 {err}" if err else ""))
             return
-        from kinematics.schedule import schedule_series
+        from kinematics.timing.schedule import schedule_series
 
         series = schedule_series(s)
         xs = series["t_s"] if self.x_axis == "time" else series["station_m"]

@@ -35,7 +35,7 @@ from PySide6.QtGui import (
     QPolygonF,
 )
 
-from kinematics.report_text import CAUTION
+from kinematics.analysis.report_text import CAUTION
 
 from .palette import (  # noqa: F401 - re-exported for the report and tests
     BLACK,
@@ -139,7 +139,7 @@ def compute_results(project: Any, route_name: str | None = None,
         the route could not be checked) and the one-line reason where something failed.
     """
     from kinematics.errors import SwatheInputError
-    from kinematics.planner import plan_route
+    from kinematics.plan.planner import plan_route
 
     routes = [project.route(route_name)] if route_name is not None else list(project.routes)
     plans: dict[str, Any] = {}
@@ -155,7 +155,7 @@ def compute_results(project: Any, route_name: str | None = None,
             errors[r.name] = getattr(exc, "message", None) or f"route {r.name!r}: {exc}"
             continue
         try:
-            from kinematics.clearance import ObstacleIndex, check_route
+            from kinematics.check.clearance import ObstacleIndex, check_route
 
             if index is None:
                 index = ObstacleIndex(project.floorplan)
@@ -177,7 +177,7 @@ def swept_geometry(footprint: Sequence[tuple[float, float]], segments: Sequence[
     """The swept area of a route as one shapely geometry (``None`` if it cannot be had).
 
     Taken from the check when it carries it (``check.swept``), else from
-    :func:`kinematics.sweep.swept_route`.
+    :func:`kinematics.check.sweep.swept_route`.
     """
     import shapely
 
@@ -186,7 +186,7 @@ def swept_geometry(footprint: Sequence[tuple[float, float]], segments: Sequence[
         if not segments:
             return None
         try:
-            from kinematics.sweep import swept_route
+            from kinematics.check.sweep import swept_route
         except ImportError:
             return None
         geom = swept_route(footprint, list(segments))
@@ -271,7 +271,7 @@ def sample_path(segments: Sequence[Any], step_rad: float = math.radians(3.0)
 
 def outline_poses(segments: Sequence[Any], count: int = 8) -> np.ndarray:
     """Poses for footprint outlines: the start, the end and ``count`` in between."""
-    from kinematics.segments import path_length, poses_along
+    from kinematics.motion.segments import path_length, poses_along
 
     if not segments:
         return np.zeros((0, 3))
@@ -641,7 +641,7 @@ def _draw_grid(p: QPainter, view: _View, rect: QRectF, u: float) -> None:
 
 def _draw_floorplan(p: QPainter, view: _View, fp: Any, u: float,
                     labels: _Labels | None = None) -> None:
-    from kinematics.floorplan import solids
+    from kinematics.files.floorplan import solids
 
     walls = [s.geometry for s in solids(fp) if s.kind == "wall"]
     obstacles = [s for s in solids(fp) if s.kind == "obstacle"]
@@ -1017,10 +1017,10 @@ def render_project_png(project: Any, path: str | Path, route_name: str | None = 
                        size: tuple[int, int] = (1600, 1000)) -> None:
     """Write the picture of ``project`` as a PNG file, atomically.
 
-    Plans every route (or only ``route_name``) with :func:`kinematics.planner.plan_route`,
-    checks it with :mod:`kinematics.clearance`, and draws it with :func:`render_scene`.
+    Plans every route (or only ``route_name``) with :func:`kinematics.plan.planner.plan_route`,
+    checks it with :mod:`kinematics.check.clearance`, and draws it with :func:`render_scene`.
     """
-    from kinematics.jsonio import atomic_write_bytes
+    from kinematics.files.jsonio import atomic_write_bytes
 
     img = render_project_image(project, route_name, size)
     atomic_write_bytes(path, image_png_bytes(img))
@@ -1109,11 +1109,11 @@ def draw_plots(p: QPainter, rect: QRectF, schedule: Any, x_axis: str = "time",
                title: str | None = None, scale: float | None = None) -> None:
     """Speed and every wheel's rate against time or distance, with the limits dashed.
 
-    Data from :func:`kinematics.schedule.schedule_series`. The speed panel also shows each
+    Data from :func:`kinematics.timing.schedule.schedule_series`. The speed panel also shows each
     segment's speed cap (dotted) named by the limit that sets it, so the binding limit is
     read off at a glance.
     """
-    from kinematics.schedule import schedule_series
+    from kinematics.timing.schedule import schedule_series
 
     u = scale if scale is not None else max(0.45, min(rect.width() / 1200.0,
                                                      rect.height() / 700.0))
@@ -1254,7 +1254,7 @@ def render_plot_png(schedule: Any, path: str | Path, size: tuple[int, int] = (12
 
     Parameters
     ----------
-    schedule : kinematics.schedule.Schedule
+    schedule : kinematics.timing.schedule.Schedule
     path : str or Path
     size : (int, int)
         Pixels.
@@ -1262,6 +1262,6 @@ def render_plot_png(schedule: Any, path: str | Path, size: tuple[int, int] = (12
     title : str, optional
         Default: the route name.
     """
-    from kinematics.jsonio import atomic_write_bytes
+    from kinematics.files.jsonio import atomic_write_bytes
 
     atomic_write_bytes(path, image_png_bytes(render_plot_image(schedule, size, x_axis, title)))

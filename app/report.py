@@ -5,7 +5,7 @@ same drawing for both: the plan picture from :func:`app.render.render_scene`, th
 a violations table, the door-by-door clearances, a chassis summary (drive, dimensions,
 footprint, limits), the sizing answers where they were computed, and the safety caution in
 full. The file is written atomically (encoded in memory, then
-:func:`kinematics.jsonio.atomic_write_bytes`).
+:func:`kinematics.files.jsonio.atomic_write_bytes`).
 """
 
 from __future__ import annotations
@@ -28,8 +28,8 @@ from PySide6.QtGui import (
     QPdfWriter,
 )
 
+from kinematics.analysis.report_text import CAUTION
 from kinematics.errors import SwatheInputError
-from kinematics.report_text import CAUTION
 
 from .render import (
     BLUE,
@@ -346,7 +346,7 @@ def _plots_in_gap(p: QPainter, rect: QRectF, project: Any, plans: dict, checks: 
         if plan is None or not plan.segments:
             continue
         try:
-            from kinematics.schedule import build_schedule
+            from kinematics.timing.schedule import build_schedule
 
             sched = build_schedule(name, list(plan.segments), project.chassis)
         except (SwatheInputError, ValueError):
@@ -415,7 +415,7 @@ def export_report(project: Any, path: str | Path, route_name: str | None = None,
     SwatheInputError
         An unknown suffix or a missing folder.
     """
-    from kinematics.jsonio import atomic_write_bytes
+    from kinematics.files.jsonio import atomic_write_bytes
 
     p = Path(path)
     fmt = p.suffix.lower().lstrip(".")

@@ -6,7 +6,8 @@
 (b) The swept check against a naive reference measured in the same run: footprints placed
     every 1 cm along the same route, unioned, distance to every solid (target >= 20x faster).
 (c) Replan + recheck after moving one waypoint on a 5,000-edge plan with a
-    :class:`kinematics.planner.RoutePlanner` and a warm :class:`kinematics.clearance.RouteChecker`
+    :class:`kinematics.plan.planner.RoutePlanner` and a warm
+    :class:`~kinematics.check.clearance.RouteChecker`
     (median, target < 8 ms); baseline: the full plan and check of the same moved route from
     scratch, timed in turn with it (ratio = full / incremental).
 """
@@ -25,12 +26,12 @@ import shapely
 if __name__ == "__main__":
     sys.path.insert(0, str(Path(__file__).resolve().parent.parent))
 
-from kinematics.clearance import ObstacleIndex, RouteChecker  # noqa: E402
-from kinematics.floorplan import FloorPlan, Obstacle  # noqa: E402
-from kinematics.planner import RoutePlanner, plan_route  # noqa: E402
-from kinematics.project import Chassis, Route, Waypoint  # noqa: E402
-from kinematics.segments import path_length, poses_along  # noqa: E402
-from kinematics.sweep import placed_footprints  # noqa: E402
+from kinematics.check.clearance import ObstacleIndex, RouteChecker  # noqa: E402
+from kinematics.check.sweep import placed_footprints  # noqa: E402
+from kinematics.files.floorplan import FloorPlan, Obstacle  # noqa: E402
+from kinematics.files.project import Chassis, Route, Waypoint  # noqa: E402
+from kinematics.motion.segments import path_length, poses_along  # noqa: E402
+from kinematics.plan.planner import RoutePlanner, plan_route  # noqa: E402
 
 CHASSIS = Chassis(name="bench tug", footprint=((-0.3, -0.3), (0.6, -0.3), (0.6, 0.3),
                                                (-0.3, 0.3)), margin_m=0.05, track_m=0.5)

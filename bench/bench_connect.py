@@ -1,7 +1,8 @@
 """Connection throughput: Dubins and Reeds-Shepp shortest paths per second.
 
 Swathe connects a whole batch of random pose pairs in one vectorised call
-(:func:`kinematics.dubins.shortest`, :func:`kinematics.reeds_shepp.shortest`). The baseline
+(:func:`~kinematics.plan.dubins.shortest`, :func:`~kinematics.plan.reeds_shepp.shortest`).
+The baseline
 is OMPL's ``DubinsStateSpace`` / ``ReedsSheppStateSpace`` ``distance`` called from Python one
 pair per call, timed on the same pairs in the same run (baseline ``None`` without OMPL).
 Target: Swathe's batch throughput at least OMPL's.
@@ -18,7 +19,7 @@ import numpy as np
 if __name__ == "__main__":
     sys.path.insert(0, str(Path(__file__).resolve().parent.parent))
 
-from kinematics import dubins, reeds_shepp  # noqa: E402
+from kinematics.plan import dubins, reeds_shepp
 
 RADIUS_M = 1.0
 

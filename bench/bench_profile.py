@@ -16,11 +16,11 @@ import numpy as np
 
 sys.path.insert(0, str(Path(__file__).resolve().parent.parent))
 
-from kinematics import segments as S  # noqa: E402
-from kinematics.drives import drive_for  # noqa: E402
-from kinematics.profile import Limits, speed_profile  # noqa: E402
-from kinematics.project import Chassis  # noqa: E402
-from kinematics.schedule import build_schedule  # noqa: E402
+from kinematics.files.project import Chassis  # noqa: E402
+from kinematics.motion import segments as S  # noqa: E402
+from kinematics.motion.drives import drive_for  # noqa: E402
+from kinematics.timing.profile import Limits, speed_profile  # noqa: E402
+from kinematics.timing.schedule import build_schedule  # noqa: E402
 
 CHASSIS = Chassis(drive="differential", wheel_radius_m=0.1, track_m=0.5, max_speed_mps=1.2,
                   max_accel_mps2=0.5, max_decel_mps2=0.8, max_wheel_rate_radps=11.0,

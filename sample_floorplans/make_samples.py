@@ -16,7 +16,7 @@ from pathlib import Path
 HERE = Path(__file__).resolve().parent
 sys.path.insert(0, str(HERE.parent))
 
-from kinematics.floorplan import (  # noqa: E402
+from kinematics.files.floorplan import (  # noqa: E402
     Door,
     FloorPlan,
     Obstacle,
@@ -24,7 +24,7 @@ from kinematics.floorplan import (  # noqa: E402
     floorplan_to_dict,
     solids,
 )
-from kinematics.jsonio import write_json  # noqa: E402
+from kinematics.files.jsonio import write_json  # noqa: E402
 
 INTERIOR_M = 0.15  # partition thickness, common practice (100-150 mm stud walls)
 EXTERIOR_M = 0.3

@@ -12,19 +12,19 @@ from hypothesis import given, settings
 from hypothesis import strategies as st
 from shapely.geometry import Polygon
 
-from kinematics.clearance import (
+from kinematics.check.clearance import (
     CAUTION,
     ObstacleIndex,
     RouteChecker,
     check_route,
     format_check_text,
 )
-from kinematics.floorplan import Door, FloorPlan, Obstacle, Wall
-from kinematics.jsonio import dumps
-from kinematics.planner import plan_route
-from kinematics.project import Chassis, Route, Waypoint
-from kinematics.segments import arc, holonomic_line, line, pivot
-from kinematics.sweep import placed_footprints, travel_m
+from kinematics.check.sweep import placed_footprints, travel_m
+from kinematics.files.floorplan import Door, FloorPlan, Obstacle, Wall
+from kinematics.files.jsonio import dumps
+from kinematics.files.project import Chassis, Route, Waypoint
+from kinematics.motion.segments import arc, holonomic_line, line, pivot
+from kinematics.plan.planner import plan_route
 
 TOL = 0.002
 RECT = ((-0.3, -0.3), (0.6, -0.3), (0.6, 0.3), (-0.3, 0.3))
@@ -262,7 +262,7 @@ _NUDGE = st.tuples(st.integers(1, 5), st.floats(-0.4, 0.4), st.floats(-0.4, 0.4)
 @settings(max_examples=25, deadline=None)
 @given(moves=st.lists(_NUDGE, min_size=1, max_size=5), radius=st.sampled_from([0.0, 1.0]))
 def test_warm_planner_and_checker_give_the_fresh_check_after_every_move(moves, radius):
-    from kinematics.planner import RoutePlanner
+    from kinematics.plan.planner import RoutePlanner
 
     # Source: common practice - caches must not change the answer: after each move of one
     # waypoint, the check JSON of the warm RoutePlanner + RouteChecker equals that of a
@@ -287,8 +287,8 @@ def test_warm_planner_and_checker_give_the_fresh_check_after_every_move(moves, r
 
 @pytest.mark.parametrize("drive", ["differential", "bicycle", "mecanum"])
 def test_segment_grid_poses_are_poses_along_to_the_last_bit(drive):
-    from kinematics.clearance import _grid_poses
-    from kinematics.segments import poses_along
+    from kinematics.check.clearance import _grid_poses
+    from kinematics.motion.segments import poses_along
 
     chassis = {"differential": Chassis(drive="differential", track_m=0.5),
                "bicycle": Chassis(drive="bicycle", wheelbase_m=1.0, max_steer_deg=40.0),
@@ -307,15 +307,15 @@ def test_segment_grid_poses_are_poses_along_to_the_last_bit(drive):
             L = seg.length_m
             local = (np.linspace(0.0, L, max(1, int(np.ceil(L / 0.02))) + 1) if L > 0.0
                      else np.zeros(1))
-            # Source: kinematics.segments.poses_along, the per-segment reference it replaces.
+            # Source: kinematics.motion.segments.poses_along, the per-segment reference it replaces.
             assert np.array_equal(_grid_poses(seg, local), poses_along([seg], local))
     assert {"line", "arc"} <= kinds or drive == "mecanum"
 
 def _blocked_reference(segs, idx, waypoints):
     """waypoint_blocked by brute force: every segment's own 2 cm grid posed by poses_along,
     the first nearest grid pose by hypot over the whole route, every solid measured."""
-    from kinematics.clearance import overlap_depth
-    from kinematics.segments import poses_along, segment_stations
+    from kinematics.check.clearance import overlap_depth
+    from kinematics.motion.segments import poses_along, segment_stations
 
     edges = segment_stations(segs)
     seg_i, stations, poses = [], [], []
@@ -352,13 +352,13 @@ _MOVE = st.tuples(st.integers(0, 6), st.floats(-0.8, 0.8), st.floats(-0.8, 0.8),
 @settings(max_examples=25, deadline=None)
 @given(moves=st.lists(_MOVE, min_size=1, max_size=6), radius=st.sampled_from([0.0, 1.0]))
 def test_warm_waypoint_checks_equal_fresh_ones_after_random_moves(moves, radius):
-    from kinematics.planner import RoutePlanner
+    from kinematics.plan.planner import RoutePlanner
 
     # Source: common practice - keeping waypoint verdicts between checks must not change
     # them: after every move (some onto or next to the bin, lengthening or shortening the
     # route) the warm checker's waypoint_blocked list equals a fresh checker's, and both
     # equal a brute-force reference (numpy.argmin of numpy.hypot over each segment's own
-    # grid posed by kinematics.segments.poses_along; shapely.intersects on every solid).
+    # grid posed by kinematics.motion.segments.poses_along; shapely.intersects on every solid).
     bin_ = Obstacle(((6, 0.3), (6.4, 0.3), (6.4, 0.9), (6, 0.9)), "bin")
     fp = FloorPlan(walls=(Wall(((-1, 1.3), (20, 1.3)), 0.1), Wall(((-1, -1.3), (20, -1.3)), 0.1)),
                    obstacles=(bin_, Obstacle(((11, -0.9), (11.5, -0.9), (11.5, -0.5),

@@ -11,7 +11,7 @@ import pytest
 os.environ.setdefault("QT_QPA_PLATFORM", "offscreen")
 
 from kinematics.errors import SwatheInputError  # noqa: E402
-from kinematics.project import Route, Waypoint, load_project  # noqa: E402
+from kinematics.files.project import Route, Waypoint, load_project  # noqa: E402
 
 CHASSIS = {"name": "test tug", "drive": "differential",
            "footprint": [[-0.3, -0.3], [0.6, -0.3], [0.6, 0.3], [-0.3, 0.3]],
@@ -154,7 +154,7 @@ def test_drag_holds_the_garbage_collector_off_until_it_ends_or_rests(doc, qtbot)
 
 
 def test_delete_refuses_below_two_waypoints(doc):
-    # Source: kinematics.project.route_from_dict (a route file needs at least 2 waypoints).
+    # Source: kinematics.files.project.route_from_dict (a route file needs at least 2 waypoints).
     assert doc.delete_waypoint(1, 1)
     assert len(doc.project.routes[1].waypoints) == 2
     assert not doc.delete_waypoint(1, 0)

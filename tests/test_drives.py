@@ -9,7 +9,9 @@ import pytest
 from hypothesis import given, settings
 from hypothesis import strategies as st
 
-from kinematics.drives import (
+from kinematics.errors import ValidationError
+from kinematics.files.project import Chassis
+from kinematics.motion.drives import (
     AckermannDrive,
     BicycleDrive,
     DifferentialDrive,
@@ -18,8 +20,6 @@ from kinematics.drives import (
     WheelCommands,
     drive_for,
 )
-from kinematics.errors import ValidationError
-from kinematics.project import Chassis
 
 CHASSIS = {
     "differential": Chassis(drive="differential", wheel_radius_m=0.1, track_m=0.5),

@@ -10,9 +10,9 @@ import pytest
 from hypothesis import assume, given, settings
 from hypothesis import strategies as st
 
-from kinematics import dubins
 from kinematics.errors import ValidationError
-from kinematics.segments import joint_gaps, path_length
+from kinematics.motion.segments import joint_gaps, path_length
+from kinematics.plan import dubins
 
 
 def _random_pairs(seed: int, n: int, span: float = 6.0):
@@ -48,7 +48,7 @@ def _ompl_lengths(space_cls, a, b, r):
 def _assert_drivable(segs, start, goal, radius, length, forward_only):
     """Continuity, end at the goal, radius, total length: what the planner relies on."""
     if segs:
-        # Source: kinematics.segments.joint_gaps definition (zero for a continuous path).
+        # Source: kinematics.motion.segments.joint_gaps definition (zero for a continuous path).
         assert np.all(joint_gaps(segs) < 1e-9)
         assert segs[0].start == pytest.approx(tuple(start), abs=1e-12)
         e = segs[-1].end
@@ -65,7 +65,7 @@ def _assert_drivable(segs, start, goal, radius, length, forward_only):
             assert s.radius_m == pytest.approx(radius, rel=1e-12)
         if forward_only:
             assert s.direction == 1
-    # Source: kinematics.segments.path_length (sum of pieces) against the reported length.
+    # Source: kinematics.motion.segments.path_length (sum of pieces) against the reported length.
     assert path_length(segs) == pytest.approx(length, abs=1e-9)
 
 

@@ -16,9 +16,11 @@ import shapely
 from ezdxf.math import bulge_to_arc
 from shapely.geometry import LineString, Point, Polygon
 
-from kinematics.dxf_import import SAGITTA_M, chord_count, dxf_layers, guess_role, import_dxf
 from kinematics.errors import FileReadError, SwatheInputError, ValidationError
-from kinematics.floorplan import load_floorplan, solids
+from kinematics.files.curves import chord_count
+from kinematics.files.dxf_import import SAGITTA_M, dxf_layers, guess_role, import_dxf
+from kinematics.files.floorplan import solids
+from kinematics.files.loader import load_floorplan
 
 
 def _doc(units: int = 4, layers: tuple[str, ...] = ("WALLS", "FIXTURES", "DOORS")):

@@ -16,18 +16,18 @@ import pytest
 from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
 
-from kinematics.dxf_import import import_dxf
 from kinematics.errors import FileReadError, GeometryError, SwatheInputError, ValidationError
-from kinematics.floorplan import (
+from kinematics.files.dxf_import import import_dxf
+from kinematics.files.floorplan import (
     Door,
     FloorPlan,
     Obstacle,
     Wall,
     floorplan_to_dict,
-    load_floorplan,
     save_floorplan,
 )
-from kinematics.project import (
+from kinematics.files.loader import load_floorplan
+from kinematics.files.project import (
     DRIVES,
     REQUIRED,
     Chassis,
@@ -38,7 +38,7 @@ from kinematics.project import (
     project_to_dict,
     save_project,
 )
-from kinematics.svg_import import import_svg
+from kinematics.files.svg_import import import_svg
 
 FLOOR = {"swathe_floorplan": 1, "name": "test level",
          "walls": [{"points": [[0, 0], [20, 0], [20, 8]], "thickness_m": 0.15}],

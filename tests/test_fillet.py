@@ -10,14 +10,14 @@ import shapely
 from hypothesis import assume, given, settings
 from hypothesis import strategies as st
 
-from kinematics.fillet import (
+from kinematics.motion.segments import joint_gaps, path_length
+from kinematics.plan.fillet import (
     deflections,
     fillet_segments,
     fit_radii,
     layout_fillets,
     tangent_lengths,
 )
-from kinematics.segments import joint_gaps, path_length
 
 coord = st.floats(-20.0, 20.0, allow_nan=False, allow_infinity=False)
 polylines = st.lists(st.tuples(coord, coord), min_size=2, max_size=8)
@@ -58,7 +58,7 @@ def test_fillet_length_equals_legs_minus_tangents_plus_arcs(pts, radius):
     expected = legs - np.sum(2 * radius * np.tan(a[turning] / 2)) + np.sum(radius * a[turning])
     assert path_length(segs) == pytest.approx(expected, rel=1e-9, abs=1e-9)
     assert lay.length_m == pytest.approx(expected, rel=1e-9, abs=1e-9)
-    # Source: definition of a continuous path (kinematics.segments.joint_gaps is zero).
+    # Source: definition of a continuous path (kinematics.motion.segments.joint_gaps is zero).
     if len(segs) > 1:
         assert np.all(joint_gaps(segs) < 1e-9)
     end = segs[-1].end

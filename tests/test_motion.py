@@ -9,7 +9,7 @@ import pytest
 from hypothesis import given
 from hypothesis import strategies as st
 
-from kinematics.motion import propagate, sinc_terms, unicycle_rhs, wrap_angle
+from kinematics.motion.se2 import propagate, sinc_terms, unicycle_rhs, wrap_angle
 
 solve_ivp = pytest.importorskip("scipy.integrate").solve_ivp
 

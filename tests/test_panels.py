@@ -18,8 +18,8 @@ from app.document import Document  # noqa: E402
 from app.panels import PRESETS, ChassisPanel, ResultsPanel, ScheduleTable  # noqa: E402
 from app.workers import Cancelled, error_text, run_in_background  # noqa: E402
 from kinematics.errors import GeometryError  # noqa: E402
-from kinematics.floorplan import Door, FloorPlan, Obstacle, Wall  # noqa: E402
-from kinematics.project import Chassis, Project, Route, Waypoint  # noqa: E402
+from kinematics.files.floorplan import Door, FloorPlan, Obstacle, Wall  # noqa: E402
+from kinematics.files.project import Chassis, Project, Route, Waypoint  # noqa: E402
 
 
 def small_project() -> Project:
@@ -138,8 +138,8 @@ def test_drive_change_and_preset(doc, qtbot):
 
 
 def test_presets_are_valid_chassis():
-    from kinematics.drives import drive_for
-    from kinematics.project import chassis_from_dict, chassis_to_dict
+    from kinematics.files.project import chassis_from_dict, chassis_to_dict
+    from kinematics.motion.drives import drive_for
 
     for name, c in PRESETS.items():
         # Round trip through the project file's reader: every preset is a chassis the file
@@ -150,7 +150,7 @@ def test_presets_are_valid_chassis():
 
 # -- results ----------------------------------------------------------------------------------
 def test_results_list_matches_check_and_click_zooms(doc, qtbot):
-    pytest.importorskip("kinematics.clearance")
+    pytest.importorskip("kinematics.check.clearance")
     panel = ResultsPanel(doc)
     qtbot.addWidget(panel)
     doc.set_current_route(0)
@@ -222,7 +222,7 @@ def test_sizing_job_can_be_cancelled(doc, qtbot):
 
 
 def test_real_sizing_answers_and_cancel(doc, qtbot):
-    pytest.importorskip("kinematics.sizing")
+    pytest.importorskip("kinematics.check.sizing")
     from app.panels import compute_sizing
     from app.workers import CancelToken
 
@@ -325,9 +325,9 @@ def test_progress_dialog_follows_a_real_job_and_cancel_stops_it(qapp, qtbot):
 
 # -- schedule table ----------------------------------------------------------------------------
 def test_schedule_table_exports_equal_the_core(doc, qtbot, tmp_path):
-    from kinematics.jsonio import dumps
-    from kinematics.planner import plan_route
-    from kinematics.schedule import (
+    from kinematics.files.jsonio import dumps
+    from kinematics.plan.planner import plan_route
+    from kinematics.timing.schedule import (
         build_schedule,
         csv_columns,
         schedule_to_csv,
@@ -354,7 +354,7 @@ def test_schedule_table_exports_equal_the_core(doc, qtbot, tmp_path):
 # -- plots --------------------------------------------------------------------------------------
 def test_plots_show_series_and_named_limits(doc, qtbot):
     from app.plots import PlotsPanel
-    from kinematics.schedule import schedule_series
+    from kinematics.timing.schedule import schedule_series
 
     panel = PlotsPanel(doc)
     qtbot.addWidget(panel)

@@ -12,10 +12,10 @@ from hypothesis import given, settings
 from hypothesis import strategies as st
 
 from kinematics.errors import ValidationError
-from kinematics.floorplan import FloorPlan
-from kinematics.planner import PlanIssue, RoutePlan, plan_project, plan_route
-from kinematics.project import Chassis, Project, Route, Waypoint
-from kinematics.segments import joint_gaps, path_length
+from kinematics.files.floorplan import FloorPlan
+from kinematics.files.project import Chassis, Project, Route, Waypoint
+from kinematics.motion.segments import joint_gaps, path_length
+from kinematics.plan.planner import PlanIssue, RoutePlan, plan_project, plan_route
 
 CHASSIS = {
     "differential": Chassis(drive="differential", track_m=0.5),
@@ -103,7 +103,7 @@ def _assert_route_invariants(plan: RoutePlan, wps, chassis: Chassis, route: Rout
     assert _finite(plan)
     json.dumps(plan.to_dict(), allow_nan=False)
     segs = plan.segments
-    # Source: kinematics.segments.joint_gaps definition (zero gaps for a continuous path).
+    # Source: kinematics.motion.segments.joint_gaps definition (zero gaps for a continuous path).
     if len(segs) > 1:
         assert np.all(joint_gaps(segs) < 1e-9)
     poses = _poses(plan)
@@ -236,7 +236,7 @@ def test_differential_reversal_with_radius_is_infeasible_pivot():
 
 
 def test_differential_heading_with_radius_uses_dubins_between_poses():
-    from kinematics import dubins
+    from kinematics.plan import dubins
 
     wps = (_wp(0, 0), _wp(5, 0, 90), _wp(5, 6))
     plan = plan_route(Route("r", wps, 1.0), CHASSIS["differential"])
@@ -431,8 +431,8 @@ def _apply(wps, edit):
 @settings(max_examples=30, deadline=None)
 @given(seq=edit_sequences(), radius=st.sampled_from([0.0, 0.5, 1.0]), reverse=st.booleans())
 def test_cached_planner_gives_the_fresh_plan_after_every_edit(drive, seq, radius, reverse):
-    from kinematics.jsonio import dumps
-    from kinematics.planner import RoutePlanner
+    from kinematics.files.jsonio import dumps
+    from kinematics.plan.planner import RoutePlanner
 
     # Source: common practice - a cache must not change the answer: every plan the warm
     # RoutePlanner returns equals, segment for segment and in its JSON to the last bit, the
@@ -450,7 +450,7 @@ def test_cached_planner_gives_the_fresh_plan_after_every_edit(drive, seq, radius
 
 
 def test_moving_one_waypoint_reuses_the_pieces_away_from_it():
-    from kinematics.planner import RoutePlanner
+    from kinematics.plan.planner import RoutePlanner
 
     wps = [_wp(3.8 * k, 2.0 * math.sin(0.7 * k)) for k in range(30)]
     planner = RoutePlanner()
@@ -467,7 +467,7 @@ def test_moving_one_waypoint_reuses_the_pieces_away_from_it():
 
 
 def test_plan_text_lists_notes_and_counts_waypoints_from_one():
-    from kinematics.report_text import format_plan_text
+    from kinematics.analysis.report_text import format_plan_text
 
     wps = (_wp(0, 0), _wp(4, 0), _wp(4, 0), _wp(4, 1), _wp(0, 1))
     plan = plan_route(Route("r", wps, 1.0, extra={"allow_smaller_radius": True}),
@@ -486,7 +486,7 @@ def test_a_route_spread_over_more_than_ten_km_is_refused_not_sampled():
     # centimetre steps, so a route sketched or built in code that far apart is an input error
     # naming the waypoint, as the file reader says it.
     from kinematics.errors import SwatheInputError
-    from kinematics.project import Chassis, Route, Waypoint
+    from kinematics.files.project import Chassis, Route, Waypoint
 
     far = Route("far", (Waypoint(0.0, 0.0), Waypoint(5.0, 0.0), Waypoint(5.0, 2.0e4)))
     with pytest.raises(SwatheInputError) as err:

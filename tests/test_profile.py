@@ -8,10 +8,10 @@ import numpy as np
 import pytest
 from scipy.integrate import quad
 
-from kinematics import segments as S
-from kinematics.drives import DifferentialDrive, drive_for
-from kinematics.profile import Limits, profile_for, speed_profile, trapezoid_duration
-from kinematics.project import Chassis
+from kinematics.files.project import Chassis
+from kinematics.motion import segments as S
+from kinematics.motion.drives import DifferentialDrive, drive_for
+from kinematics.timing.profile import Limits, profile_for, speed_profile, trapezoid_duration
 
 CHASSIS = {
     "differential": Chassis(drive="differential", wheel_radius_m=0.1, track_m=0.5,

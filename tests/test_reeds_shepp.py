@@ -10,10 +10,10 @@ import pytest
 from hypothesis import assume, given, settings
 from hypothesis import strategies as st
 
-from kinematics import dubins
-from kinematics import reeds_shepp as rs
 from kinematics.errors import ValidationError
-from kinematics.segments import joint_gaps, path_length
+from kinematics.motion.segments import joint_gaps, path_length
+from kinematics.plan import dubins
+from kinematics.plan import reeds_shepp as rs
 
 
 def _random_pairs(seed: int, n: int, span: float = 6.0):
@@ -49,7 +49,7 @@ def _ompl_lengths(a, b, r):
 
 def _assert_drivable(segs, start, goal, radius, length):
     if segs:
-        # Source: kinematics.segments.joint_gaps definition (zero for a continuous path).
+        # Source: kinematics.motion.segments.joint_gaps definition (zero for a continuous path).
         assert np.all(joint_gaps(segs) < 1e-9)
         assert segs[0].start == pytest.approx(tuple(start), abs=1e-12)
         e = segs[-1].end
@@ -67,7 +67,7 @@ def _assert_drivable(segs, start, goal, radius, length):
     # Source: Reeds & Shepp (1990), Theorem 1: a shortest path has at most two cusps.
     dirs = [s.direction for s in segs]
     assert sum(1 for p, q in zip(dirs, dirs[1:]) if p != q) <= 2
-    # Source: kinematics.segments.path_length (sum of pieces) against the reported length.
+    # Source: kinematics.motion.segments.path_length (sum of pieces) against the reported length.
     assert path_length(segs) == pytest.approx(length, abs=1e-9)
 
 

@@ -17,8 +17,8 @@ import pytest  # noqa: E402
 from PySide6.QtGui import QColor, QImage  # noqa: E402
 
 from app import render  # noqa: E402
-from kinematics.floorplan import Door, FloorPlan, Obstacle, Wall  # noqa: E402
-from kinematics.project import Chassis, Project, Route, Waypoint, save_project  # noqa: E402
+from kinematics.files.floorplan import Door, FloorPlan, Obstacle, Wall  # noqa: E402
+from kinematics.files.project import Chassis, Project, Route, Waypoint, save_project  # noqa: E402
 
 ROOT = Path(__file__).resolve().parents[1]
 
@@ -91,7 +91,7 @@ def test_true_scale(qapp):
 
 
 def test_violation_markers_where_the_check_says(qapp):
-    pytest.importorskip("kinematics.clearance")
+    pytest.importorskip("kinematics.check.clearance")
     proj = small_project(blocked=True)
     plans, checks, errors = render.compute_results(proj)
     assert not errors, errors
@@ -110,7 +110,7 @@ def test_violation_markers_where_the_check_says(qapp):
 
 
 def test_verdict_words(qapp):
-    pytest.importorskip("kinematics.clearance")
+    pytest.importorskip("kinematics.check.clearance")
     plans, checks, errors = render.compute_results(small_project(blocked=True))
     text, ok = render.verdict_text(checks, errors)
     n = sum(len(render.violations_of(c)) for c in checks.values())
@@ -121,8 +121,8 @@ def test_verdict_words(qapp):
 
 
 def test_plot_png(qapp, tmp_path):
-    from kinematics.planner import plan_route
-    from kinematics.schedule import build_schedule
+    from kinematics.plan.planner import plan_route
+    from kinematics.timing.schedule import build_schedule
 
     proj = small_project(blocked=False)
     r = proj.routes[0]
@@ -146,7 +146,7 @@ def test_render_without_a_widget_application(tmp_path):
     pj = tmp_path / "room.swathe.json"
     save_project(proj, pj, inline_floorplan=True)
     out = tmp_path / "cli.png"
-    code = ("import sys; from kinematics.project import load_project; "
+    code = ("import sys; from kinematics.files.project import load_project; "
             "from app.render import render_project_png; "
             f"render_project_png(load_project({str(pj)!r}), {str(out)!r}, size=(640, 400)); "
             "from PySide6.QtWidgets import QLabel; "

@@ -11,10 +11,10 @@ import pytest  # noqa: E402
 from PySide6.QtGui import QImage  # noqa: E402
 
 from app.report import PAGE_PX, chassis_lines, export_report, report_bytes  # noqa: E402
+from kinematics.analysis.report_text import CAUTION  # noqa: E402
 from kinematics.errors import SwatheInputError  # noqa: E402
-from kinematics.floorplan import Door, FloorPlan, Obstacle, Wall  # noqa: E402
-from kinematics.project import Chassis, Project, Route, Waypoint  # noqa: E402
-from kinematics.report_text import CAUTION  # noqa: E402
+from kinematics.files.floorplan import Door, FloorPlan, Obstacle, Wall  # noqa: E402
+from kinematics.files.project import Chassis, Project, Route, Waypoint  # noqa: E402
 
 
 def small_project() -> Project:

@@ -13,9 +13,10 @@ import pytest
 import shapely
 from shapely.geometry import Point
 
-from kinematics.floorplan import load_floorplan, solids
-from kinematics.planner import plan_route
-from kinematics.project import DRIVES, load_project
+from kinematics.files.floorplan import solids
+from kinematics.files.loader import load_floorplan
+from kinematics.files.project import DRIVES, load_project
+from kinematics.plan.planner import plan_route
 
 SAMPLES = Path(__file__).resolve().parent.parent / "sample_floorplans"
 PROJECTS = sorted(SAMPLES.glob("*.swathe.json"))

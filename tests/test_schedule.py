@@ -12,11 +12,16 @@ import pytest
 from scipy.integrate import solve_ivp
 from test_profile import CHASSIS, random_route
 
-from kinematics import segments as S
-from kinematics.drives import WheelCommands, drive_for
 from kinematics.errors import ValidationError
-from kinematics.jsonio import dumps
-from kinematics.schedule import build_schedule, schedule_series, schedule_to_csv, schedule_to_dict
+from kinematics.files.jsonio import dumps
+from kinematics.motion import segments as S
+from kinematics.motion.drives import WheelCommands, drive_for
+from kinematics.timing.schedule import (
+    build_schedule,
+    schedule_series,
+    schedule_to_csv,
+    schedule_to_dict,
+)
 
 
 def _line_arc_line(start=(0.0, 0.0, 0.0), R=1.5, turn=math.pi / 2, direction=1):

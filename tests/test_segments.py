@@ -9,7 +9,7 @@ import pytest
 from hypothesis import assume, given
 from hypothesis import strategies as st
 
-from kinematics import segments as sg
+from kinematics.motion import segments as sg
 
 finite = dict(allow_nan=False, allow_infinity=False)
 

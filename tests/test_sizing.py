@@ -6,11 +6,8 @@ import math
 
 import pytest
 
-from kinematics.clearance import ObstacleIndex, check_route
-from kinematics.floorplan import Door, FloorPlan, Wall
-from kinematics.project import Chassis, Project
-from kinematics.segments import line, pivot
-from kinematics.sizing import (
+from kinematics.check.clearance import ObstacleIndex, check_route
+from kinematics.check.sizing import (
     RESOLUTION_M,
     SizingCancelled,
     attach_sizing,
@@ -18,6 +15,9 @@ from kinematics.sizing import (
     longest_footprint,
     widest_footprint,
 )
+from kinematics.files.floorplan import Door, FloorPlan, Wall
+from kinematics.files.project import Chassis, Project
+from kinematics.motion.segments import line, pivot
 
 TOL = 0.002
 MARGIN = 0.05

@@ -11,8 +11,8 @@ import shapely
 from shapely.geometry import LineString, Point, Polygon
 
 from kinematics.errors import FileReadError
-from kinematics.floorplan import load_floorplan
-from kinematics.svg_import import TOLERANCE_M, import_svg, parse_path, parse_transform
+from kinematics.files.loader import load_floorplan
+from kinematics.files.svg_import import TOLERANCE_M, import_svg, parse_path, parse_transform
 
 NS = 'xmlns="http://www.w3.org/2000/svg" xmlns:xlink="http://www.w3.org/1999/xlink"'
 

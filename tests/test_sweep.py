@@ -12,14 +12,14 @@ from hypothesis import strategies as st
 from shapely import affinity
 from shapely.geometry import Point, Polygon
 
-from kinematics.segments import arc, holonomic_line, line, pivot
-from kinematics.sweep import (
+from kinematics.check.sweep import (
     placed_footprints,
     prepare_footprint,
     swept_route,
     swept_segment,
     travel_m,
 )
+from kinematics.motion.segments import arc, holonomic_line, line, pivot
 
 TOL = 0.002
 RECT = [(-0.3, -0.3), (0.6, -0.3), (0.6, 0.3), (-0.3, 0.3)]

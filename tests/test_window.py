@@ -16,8 +16,8 @@ from PySide6.QtGui import QDropEvent, QMouseEvent  # noqa: E402
 from PySide6.QtWidgets import QApplication  # noqa: E402
 from test_document import write_project  # noqa: E402
 
-from kinematics.jsonio import dumps  # noqa: E402
-from kinematics.project import Waypoint, load_project  # noqa: E402
+from kinematics.files.jsonio import dumps  # noqa: E402
+from kinematics.files.project import Waypoint, load_project  # noqa: E402
 
 REPO = Path(__file__).resolve().parents[1]
 DEMO = REPO / "sample_floorplans" / "demo.swathe.json"
@@ -243,9 +243,9 @@ def test_hover_reports_station_and_clearance(win, qtbot):
 
 
 def test_export_schedule_matches_core(win, tmp_path):
-    # Source: shared/contract.md (`swathe schedule` output); kinematics.schedule is the reference.
-    from kinematics.planner import plan_route
-    from kinematics.schedule import build_schedule, schedule_to_csv, schedule_to_dict
+    # Source: shared/contract.md (`swathe schedule` output); the core schedule is the reference.
+    from kinematics.plan.planner import plan_route
+    from kinematics.timing.schedule import build_schedule, schedule_to_csv, schedule_to_dict
 
     route = win.doc.route()
     plan = plan_route(route, win.doc.project.chassis)
@@ -367,7 +367,7 @@ def test_recover_autosave_after_crash(make_window, tmp_path, qtbot):
 
 def test_about_box_carries_the_caution(win):
     # Source: project brief (the About box carries the safety caution).
-    from kinematics.report_text import CAUTION as SAFETY_CAUTION
+    from kinematics.analysis.report_text import CAUTION as SAFETY_CAUTION
 
     box = win.show_about()
     assert "ISO 3691-4" in box.text() and SAFETY_CAUTION in box.text()
@@ -379,7 +379,7 @@ def test_background_load_cancel_keeps_project(win, qtbot):
     import threading
 
     from app.workers import ProgressDialog
-    from kinematics.floorplan import FloorPlan
+    from kinematics.files.floorplan import FloorPlan
 
     gate = threading.Event()
     before = win.doc.project.floorplan

@@ -1,6 +1,6 @@
 """Clearance of a swept footprint from walls and obstacles: the verdict behind ``swathe check``.
 
-Every segment's swept region (:mod:`kinematics.sweep`) contains the true region the bare
+Every segment's swept region (:mod:`kinematics.check.sweep`) contains the true region the bare
 footprint sweeps and exceeds it by at most the tolerance, so the Euclidean distance from that
 region to a solid lies in ``[true - tol, true]``: a reported clearance is never larger than
 the true one and at most the tolerance smaller. Solids sit in one ``shapely.STRtree`` built
@@ -48,10 +48,7 @@ from numpy.typing import NDArray
 from shapely.geometry import LineString, Point
 from shapely.geometry.base import BaseGeometry
 
-from .floorplan import FloorPlan, Solid, check_footprint, solids
-from .motion import sinc_terms
-from .segments import Segment, segment_stations
-from .sweep import (
+from kinematics.check.sweep import (
     DEFAULT_TOLERANCE_M,
     Footprint,
     placed_footprints,
@@ -61,6 +58,9 @@ from .sweep import (
     travel_m,
     union_parts,
 )
+from kinematics.files.floorplan import FloorPlan, Solid, check_footprint, solids
+from kinematics.motion.se2 import sinc_terms
+from kinematics.motion.segments import Segment, segment_stations
 
 #: Half-depth (across the door line) and extra length (beyond each jamb) of the box in which
 #: a door's clearance is measured, metres.
@@ -397,7 +397,7 @@ class RouteChecker:
     def cache_key(seg: Segment) -> tuple:
         """The segment's values, exactly: a result is reused only for the very same segment,
         so a warm checker answers bit for bit as a fresh one. The planner starts every piece
-        from a pose computed from the waypoints (:meth:`kinematics.planner._Builder.anchor`),
+        from a pose computed from the waypoints (:meth:`kinematics.plan.planner._Builder.anchor`),
         so segments away from an edit come back exactly equal."""
         x, y, th = seg.start
         return (seg.kind, seg.direction, x, y, th, seg.length_m, seg.turn_rad, seg.course_rad)
@@ -864,7 +864,7 @@ def _station_row(sg: Segment) -> tuple[float, ...]:
 
 
 def _grid_poses(sg: Segment, local: np.ndarray) -> np.ndarray:
-    """:func:`kinematics.segments.poses_along` of one segment at its local stations ``local``
+    """:func:`kinematics.motion.segments.poses_along` of one segment at its local stations ``local``
     (edges ``[0, length]``), with the same floating-point operations (the same to the last
     bit; a test compares them) and no per-station look-up of the segment."""
     x0, y0, th0, L, turn, mode, omega, vx, c, s, cc, sc = _station_row(sg)
@@ -920,9 +920,9 @@ def check_route(plan_or_segments: Any, chassis: Any, index: ObstacleIndex,
 
     Examples
     --------
-    >>> from kinematics.floorplan import FloorPlan, Obstacle
-    >>> from kinematics.project import Chassis
-    >>> from kinematics.segments import line
+    >>> from kinematics.files.floorplan import FloorPlan, Obstacle
+    >>> from kinematics.files.project import Chassis
+    >>> from kinematics.motion.segments import line
     >>> fp = FloorPlan(obstacles=(Obstacle(((0, 1), (4, 1), (4, 2), (0, 2))),))
     >>> c = check_route([line((0, 0, 0), 3.0)], Chassis(), ObstacleIndex(fp))
     >>> c.clear, round(c.min_clearance_m, 3)

@@ -49,7 +49,7 @@ from dataclasses import dataclass, field
 import numpy as np
 from numpy.typing import ArrayLike, NDArray
 
-from .errors import ValidationError
+from kinematics.errors import ValidationError
 
 _HALF_PI = 0.5 * math.pi
 # A contact point slower than this (m/s) has no defined rolling direction.
@@ -177,7 +177,7 @@ class DriveModel:
 
         Every wheel's own rate must stay within ``max_wheel_rate_radps``; on an arc the outer
         wheel reaches the limit first. ``kappa`` is d(heading)/d(signed distance) as in
-        :attr:`kinematics.segments.Segment.curvature`; the limit is the same both ways.
+        :attr:`kinematics.motion.segments.Segment.curvature`; the limit is the same both ways.
         """
         kappa = np.asarray(kappa, dtype=float)
         d = float(direction)
@@ -435,7 +435,7 @@ def _need(chassis, key: str, file: str) -> float:
 
 
 def drive_for(chassis, file: str = "<chassis>") -> DriveModel:
-    """The drive model of a :class:`kinematics.project.Chassis`.
+    """The drive model of a :class:`kinematics.files.project.Chassis`.
 
     Parameters
     ----------
@@ -453,7 +453,7 @@ def drive_for(chassis, file: str = "<chassis>") -> DriveModel:
 
     Examples
     --------
-    >>> from kinematics.project import Chassis
+    >>> from kinematics.files.project import Chassis
     >>> d = drive_for(Chassis(drive="bicycle", wheelbase_m=1.0, max_steer_deg=45.0))
     >>> round(d.min_turn_radius_m, 6), d.can_pivot
     (1.0, False)

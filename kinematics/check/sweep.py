@@ -45,7 +45,7 @@ from numpy.typing import ArrayLike, NDArray
 from shapely.geometry import Polygon
 from shapely.geometry.base import BaseGeometry
 
-from .segments import Segment
+from kinematics.motion.segments import Segment
 
 #: Default bound on how far the swept region may exceed the true one, metres.
 DEFAULT_TOLERANCE_M = 0.002
@@ -439,7 +439,7 @@ def swept_segment(footprint: FootprintLike, seg: Segment,
 
     Examples
     --------
-    >>> from kinematics.segments import line
+    >>> from kinematics.motion.segments import line
     >>> g = swept_segment([(-0.5, -0.5), (0.5, -0.5), (0.5, 0.5), (-0.5, 0.5)],
     ...                   line((0, 0, 0), 2.0))
     >>> round(g.area, 9)

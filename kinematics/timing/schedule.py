@@ -1,7 +1,7 @@
 """Wheel-rate schedules: per-segment wheel rates and steer angles, and timed samples.
 
-A schedule joins the time-optimal speed profile (:mod:`kinematics.profile`) with the drive's
-inverse kinematics (:mod:`kinematics.drives`). For each segment it gives the timing, the
+A schedule joins the time-optimal speed profile (:mod:`kinematics.timing.profile`) with the drive's
+inverse kinematics (:mod:`kinematics.motion.drives`). For each segment it gives the timing, the
 speeds and the rate of every wheel (and the angle of every steered wheel) at the segment's
 cruise speed; for a holonomic line that turns the body, the wheels are given at the middle of
 the line, where the body is halfway through its turn. Samples every ``dt_s`` give pose, speed
@@ -26,10 +26,10 @@ from dataclasses import dataclass
 import numpy as np
 from numpy.typing import NDArray
 
-from .drives import DriveModel, drive_for
-from .errors import ValidationError
-from .profile import Limits, SpeedProfile, speed_profile
-from .segments import Segment
+from kinematics.errors import ValidationError
+from kinematics.motion.drives import DriveModel, drive_for
+from kinematics.motion.segments import Segment
+from kinematics.timing.profile import Limits, SpeedProfile, speed_profile
 
 SEGMENT_COLUMNS = ("index", "kind", "t0_s", "duration_s", "length_m", "v_start_mps",
                    "v_cruise_mps", "v_end_mps", "yaw_rate_dps", "turn_deg", "radius_m",

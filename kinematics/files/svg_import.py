@@ -42,10 +42,10 @@ from xml.etree.ElementTree import Element, ParseError
 
 import numpy as np
 
-from .dxf_import import MAX_CHORDS, chord_count
-from .errors import FileReadError, ValidationError
-from .floorplan import Door, FloorPlan, Obstacle, Wall
-from .validate import MAX_COORD_M
+from kinematics.errors import FileReadError, ValidationError
+from kinematics.files.curves import MAX_CHORDS, chord_count
+from kinematics.files.floorplan import Door, FloorPlan, Obstacle, Wall
+from kinematics.files.validate import MAX_COORD_M
 
 TOLERANCE_M = 0.005
 """Largest distance between a curve and the chords that replace it, in plan metres."""
@@ -603,7 +603,7 @@ def _read_root(p: Path) -> Element:
 
 
 def import_svg(path: str | Path, metres_per_unit: float = 0.01) -> FloorPlan:
-    """Read an SVG drawing as a :class:`~kinematics.floorplan.FloorPlan` in metres.
+    """Read an SVG drawing as a :class:`~kinematics.files.floorplan.FloorPlan` in metres.
 
     Parameters
     ----------

@@ -17,9 +17,9 @@ import shapely
 from shapely.geometry import LinearRing, LineString, Polygon
 from shapely.validation import explain_validity
 
-from .errors import GeometryError
-from .jsonio import read_json, write_json
-from .validate import MAX_BODY_M, Reader, join
+from kinematics.errors import GeometryError
+from kinematics.files.jsonio import write_json
+from kinematics.files.validate import MAX_BODY_M, Reader, join
 
 FORMAT_VERSION = 1
 Point = tuple[float, float]
@@ -229,25 +229,6 @@ def floorplan_to_dict(fp: FloorPlan) -> dict:
     for k, v in fp.extra.items():
         d.setdefault(k, v)
     return d
-
-
-def load_floorplan(path: str | Path, **import_options: Any) -> FloorPlan:
-    """Read a floor plan: ``*.floor.json`` natively, ``*.dxf`` and ``*.svg`` by import.
-
-    ``import_options`` go to the importer (``layers``, ``units``, ``wall_thickness_m`` for
-    DXF; ``metres_per_unit`` for SVG).
-    """
-    p = Path(path)
-    suffix = p.suffix.lower()
-    if suffix == ".dxf":
-        from .dxf_import import import_dxf
-
-        return import_dxf(p, **import_options)
-    if suffix == ".svg":
-        from .svg_import import import_svg
-
-        return import_svg(p, **import_options)
-    return floorplan_from_dict(read_json(p), str(p), "", str(p))
 
 
 def save_floorplan(fp: FloorPlan, path: str | Path) -> None:

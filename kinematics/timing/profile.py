@@ -6,7 +6,8 @@ Each segment is one piece of constant curvature, so every limit gives one speed 
 - ``max_wheel_rate_radps`` on every wheel's own rate from the drive's inverse kinematics
   (on an arc the outer wheel reaches it first; on a holonomic line that turns the body the
   worst body-frame course along the line is taken, found exactly from the extremes of
-  ``A cos(phi) + B sin(phi) + C``, see :meth:`kinematics.drives.DriveModel.critical_course_angles`);
+  ``A cos(phi) + B sin(phi) + C``, see
+  :meth:`~kinematics.motion.drives.DriveModel.critical_course_angles`);
 - ``max_lateral_accel_mps2`` on arcs: ``v^2 / R <= a_lat``;
 - ``max_yaw_rate_dps`` on arcs (``v / R``), on holonomic lines that turn (``v |turn| / L``)
   and on pivots.
@@ -37,8 +38,8 @@ from dataclasses import dataclass
 import numpy as np
 from numpy.typing import ArrayLike, NDArray
 
-from .drives import DriveModel, drive_for
-from .segments import Segment, segment_stations
+from kinematics.motion.drives import DriveModel, drive_for
+from kinematics.motion.segments import Segment, segment_stations
 
 # Directions of travel differing by more than this (rad) at a joint make a cusp.
 _CUSP_RAD = 1e-6
@@ -57,7 +58,7 @@ class Limits:
 
     @classmethod
     def from_chassis(cls, chassis) -> Limits:
-        """The limits of a :class:`kinematics.project.Chassis` (decel = accel unless given)."""
+        """The limits of a :class:`~kinematics.files.project.Chassis` (decel defaults to accel)."""
         decel = chassis.max_decel_mps2 if chassis.max_decel_mps2 is not None \
             else chassis.max_accel_mps2
         yaw = None if chassis.max_yaw_rate_dps is None else math.radians(chassis.max_yaw_rate_dps)
@@ -341,8 +342,8 @@ def speed_profile(segments: Sequence[Segment], drive: DriveModel,
 
     Examples
     --------
-    >>> from kinematics.drives import DifferentialDrive
-    >>> from kinematics.segments import line
+    >>> from kinematics.motion.drives import DifferentialDrive
+    >>> from kinematics.motion.segments import line
     >>> p = speed_profile([line((0, 0, 0), 5.0)], DifferentialDrive(0.1, 0.5),
     ...                   Limits(1.0, 0.5, 0.5))
     >>> round(p.total_time_s, 9)  # 5 m at 1 m/s after ramps of 0.5 m/s^2: d/v + v/a

@@ -9,7 +9,7 @@ from __future__ import annotations
 import math
 from typing import Any
 
-from .errors import ValidationError
+from kinematics.errors import ValidationError
 
 _MISSING = object()
 

@@ -27,7 +27,7 @@ from dataclasses import dataclass
 import numpy as np
 from numpy.typing import ArrayLike, NDArray
 
-from .segments import Segment, arc, line, pivot
+from kinematics.motion.segments import Segment, arc, line, pivot
 
 #: Deflections closer than this to a half turn are reversals: no fillet can turn them.
 REVERSAL_TOL_RAD = 1e-9

@@ -2,7 +2,7 @@
 each door be.
 
 All three answers come from bisection on the real swept-footprint check
-(:mod:`kinematics.clearance`), whose clearance is monotone in the quantity searched:
+(:mod:`kinematics.check.clearance`), whose clearance is monotone in the quantity searched:
 
 - scaling the footprint about its reference point in ``y`` (width) or ``x`` (length) by a
   larger factor only grows every placement (for a footprint containing its reference point
@@ -29,9 +29,9 @@ import shapely
 from shapely.geometry import LineString
 from shapely.geometry.base import BaseGeometry
 
-from .clearance import DOOR_BOX_M, ObstacleIndex, RouteCheck, overlap_depth
-from .segments import Segment
-from .sweep import DEFAULT_TOLERANCE_M, prepare_footprint, swept_segment
+from kinematics.check.clearance import DOOR_BOX_M, ObstacleIndex, RouteCheck, overlap_depth
+from kinematics.check.sweep import DEFAULT_TOLERANCE_M, prepare_footprint, swept_segment
+from kinematics.motion.segments import Segment
 
 #: Stop bisecting when the bracket is this narrow, metres.
 RESOLUTION_M = 0.001

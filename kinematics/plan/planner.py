@@ -6,7 +6,8 @@ The path a chassis can follow between the user's waypoints depends on its drive:
   pivots on the spot, each the signed smallest turn. A heading given at a waypoint is met with a
   pivot there. With ``reverse`` on, a leg is driven backwards where that needs the smaller pivot.
 - ``differential`` with ``turn_radius_m`` R > 0: each corner without a heading is a tangent arc
-  of radius R inside the corner (line-arc-line, :mod:`kinematics.fillet`), so the route cuts the
+  of radius R inside the corner (line-arc-line, :mod:`~kinematics.plan.fillet`), so the route cuts
+  the
   corner. A waypoint with a heading is passed exactly with that heading: the legs on either
   side become a Dubins connection (Reeds-Shepp with ``reverse`` on) between the pose where the
   neighbouring fillet ends and the waypoint's pose. Where two fillets do not fit on one leg, or
@@ -24,7 +25,7 @@ The path a chassis can follow between the user's waypoints depends on its drive:
 - ``mecanum``, ``swerve``: straight lines between waypoints; the body heading is held, or turns
   linearly with distance the shorter way round to meet the next waypoint's given heading.
 
-``turn_radius_m`` below the chassis minimum (from :func:`kinematics.drives.drive_for`) is
+``turn_radius_m`` below the chassis minimum (from :func:`kinematics.motion.drives.drive_for`) is
 raised to the minimum with a ``turn_radius`` issue; 0 means "not set" and quietly takes the
 minimum (a note says so). A differential chassis with a minimum radius cannot pivot, so it is
 planned with fillets and any pivot left in its route is a ``turn_radius`` issue too.
@@ -50,10 +51,13 @@ from dataclasses import dataclass, field
 
 import numpy as np
 
-from . import dubins, reeds_shepp
-from .drives import drive_for
-from .errors import ValidationError
-from .fillet import (
+from kinematics.errors import ValidationError
+from kinematics.files.project import DRIVE_ALIASES, Chassis, Project, Route
+from kinematics.files.validate import MAX_ROUTE_SPAN_M, too_spread
+from kinematics.motion.drives import drive_for
+from kinematics.motion.segments import Segment, holonomic_line, line, path_length, pivot
+from kinematics.plan import dubins, reeds_shepp
+from kinematics.plan.fillet import (
     STRAIGHT_TOL_RAD,
     ZERO_LENGTH_M,
     corner_segment,
@@ -62,9 +66,6 @@ from .fillet import (
     layout_fillets,
     leg_geometry,
 )
-from .project import DRIVE_ALIASES, Chassis, Project, Route
-from .segments import Segment, holonomic_line, line, path_length, pivot
-from .validate import MAX_ROUTE_SPAN_M, too_spread
 
 #: Consecutive waypoints closer than this (metres) are the same point.
 DUPLICATE_TOL_M = 1e-6
@@ -189,7 +190,7 @@ def _turn_to(frm: float, to: float) -> float:
 def end_pose(seg: Segment) -> Pose:
     """End pose of ``seg`` in closed form with scalar math.
 
-    The same exponential map as :meth:`Segment.end` (:func:`kinematics.motion.propagate`),
+    The same exponential map as :meth:`Segment.end` (:func:`kinematics.motion.se2.propagate`),
     without numpy's per-call cost, which dominated planning: equal to it to rounding.
     """
     x, y, h = seg.start
@@ -225,7 +226,7 @@ class PieceCache:
     its start pose and its own parameters, and the planner starts each piece at a pose
     computed from the waypoints alone (see :meth:`_Builder.anchor`). So after one waypoint
     moves only the pieces next to it miss; the rest come back as the very same objects,
-    bit for bit, which also keeps :class:`kinematics.clearance.RouteChecker`'s cache warm.
+    bit for bit, which also keeps :class:`kinematics.check.clearance.RouteChecker`'s cache warm.
     """
 
     def __init__(self, size: int = 20000) -> None:
@@ -335,7 +336,7 @@ class _Builder:
                     lambda: (line(pose, length_m, direction),))
 
     def corner(self, deflection_rad: float, radius_m: float) -> int | None:
-        """The turn at a corner (see :func:`kinematics.fillet.corner_segment`); its index."""
+        """The turn at a corner (see :func:`kinematics.plan.fillet.corner_segment`); its index."""
         pose = self._pose
         n = len(self.segs)
         self._piece(("corner", float(deflection_rad), float(radius_m)),
@@ -680,7 +681,7 @@ def plan_route(route: Route, chassis: Chassis, cache: PieceCache | None = None) 
 
     Examples
     --------
-    >>> from kinematics.project import Waypoint
+    >>> from kinematics.files.project import Waypoint
     >>> r = Route("r", (Waypoint(0, 0), Waypoint(4, 0), Waypoint(4, 3)), 0.0)
     >>> pl = plan_route(r, Chassis(drive="differential", track_m=0.5))  # pivots at corners
     >>> [(s.kind, round(s.length_m, 3), round(math.degrees(s.turn_rad))) for s in pl.segments]
@@ -732,7 +733,7 @@ class RoutePlanner:
 
     Examples
     --------
-    >>> from kinematics.project import Waypoint
+    >>> from kinematics.files.project import Waypoint
     >>> planner = RoutePlanner()
     >>> r = Route("r", (Waypoint(0, 0), Waypoint(4, 0), Waypoint(4, 3)), 1.0)
     >>> c = Chassis(drive="differential", track_m=0.5)

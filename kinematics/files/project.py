@@ -11,10 +11,15 @@ from dataclasses import dataclass, field
 from pathlib import Path
 from typing import Any
 
-from .errors import FileReadError, SwatheInputError, ValidationError
-from .floorplan import FloorPlan, check_footprint, floorplan_from_dict, floorplan_to_dict
-from .jsonio import read_json, write_json
-from .validate import (
+from kinematics.errors import FileReadError, SwatheInputError, ValidationError
+from kinematics.files.floorplan import (
+    FloorPlan,
+    check_footprint,
+    floorplan_from_dict,
+    floorplan_to_dict,
+)
+from kinematics.files.jsonio import read_json, write_json
+from kinematics.files.validate import (
     MAX_BODY_M,
     MAX_COORD_M,
     MAX_ROUTE_SPAN_M,
@@ -226,7 +231,7 @@ def route_to_dict(rt: Route) -> dict:
 
 
 def _load_floorplan_ref(ref: Any, file: str, base_dir: Path) -> FloorPlan:
-    from .floorplan import load_floorplan
+    from kinematics.files.loader import load_floorplan
 
     r = Reader(file)
     if isinstance(ref, str):

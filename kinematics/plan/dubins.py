@@ -25,8 +25,8 @@ from typing import Any, ClassVar
 import numpy as np
 from numpy.typing import ArrayLike, NDArray
 
-from .errors import ValidationError
-from .segments import Segment, arc, line
+from kinematics.errors import ValidationError
+from kinematics.motion.segments import Segment, arc, line
 
 TWO_PI = 2.0 * math.pi
 

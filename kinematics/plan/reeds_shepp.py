@@ -33,8 +33,8 @@ from typing import ClassVar
 import numpy as np
 from numpy.typing import ArrayLike, NDArray
 
-from .dubins import _check_inputs, normalised_goal, same_pose, word_segments
-from .segments import Segment
+from kinematics.motion.segments import Segment
+from kinematics.plan.dubins import _check_inputs, normalised_goal, same_pose, word_segments
 
 PI = math.pi
 TWO_PI = 2.0 * math.pi

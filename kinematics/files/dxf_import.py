@@ -22,8 +22,8 @@ What is read, from model space only:
   obstacle layer; every other layer (``wall`` or not) is read as walls, so an unlayered
   drawing still gives solid geometry.
 - On a wall or obstacle layer a closed outline (closed polyline, circle, or a polyline
-  whose last point is its first) is a solid :class:`~kinematics.floorplan.Obstacle`; an
-  open one is a :class:`~kinematics.floorplan.Wall` of ``wall_thickness_m``.
+  whose last point is its first) is a solid :class:`~kinematics.files.floorplan.Obstacle`; an
+  open one is a :class:`~kinematics.files.floorplan.Wall` of ``wall_thickness_m``.
 - On a door layer a LINE (or a two-point open polyline) is a door opening between its
   ends; other door-layer geometry (swing arcs, leaves) is skipped. A door is labelled by
   the nearest TEXT or MTEXT on a door layer within 1 m of its midpoint, else ``door N``.
@@ -42,9 +42,10 @@ from pathlib import Path
 
 import numpy as np
 
-from .errors import FileReadError, ValidationError
-from .floorplan import Door, FloorPlan, Obstacle, Wall
-from .validate import MAX_COORD_M
+from kinematics.errors import FileReadError, ValidationError
+from kinematics.files.curves import arc_points
+from kinematics.files.floorplan import Door, FloorPlan, Obstacle, Wall
+from kinematics.files.validate import MAX_COORD_M
 
 SAGITTA_M = 0.005
 """Largest distance between an arc and the chords that replace it, in plan metres."""
@@ -64,10 +65,6 @@ ROLES = ("walls", "obstacles", "doors")
 _OBSTACLE_WORDS = ("obstacle", "fixture", "furniture", "rack")
 _MAX_BLOCK_DEPTH = 32
 _LABEL_RADIUS_M = 1.0
-MAX_CHORDS = 100_000
-"""More chords than this for one curve means a nonsense radius; the file is refused."""
-
-
 def guess_role(layer: str) -> str:
     """The role a layer plays when no ``layers`` mapping is given.
 
@@ -188,39 +185,6 @@ def _units_m(doc, units: str | None, file: str) -> tuple[float, str]:
 
 
 # -- flattening -------------------------------------------------------------------------------
-def chord_count(radius: float, sweep_rad: float, sagitta: float) -> int:
-    """Chords needed so an arc of ``radius`` sweeping ``sweep_rad`` deviates by <= ``sagitta``.
-
-    A chord spanning ``dtheta`` has sagitta ``r (1 - cos(dtheta / 2))`` (circle geometry),
-    so ``dtheta <= 2 acos(1 - s / r)``.
-
-    Examples
-    --------
-    >>> chord_count(1.0, math.pi, 0.005)  # half circle of 1 m to 5 mm
-    16
-    """
-    sweep = abs(sweep_rad)
-    if radius <= 0 or sweep == 0:
-        return 1
-    if not (math.isfinite(radius) and math.isfinite(sweep) and sweep <= 4.0 * math.pi):
-        raise ValueError(f"an arc of radius {radius:g} and sweep {sweep:g} rad is not usable")
-    if sagitta >= radius:
-        return max(1, math.ceil(sweep / math.pi))
-    step = 2.0 * math.acos(1.0 - sagitta / radius)
-    n = sweep / step
-    if not n < MAX_CHORDS:
-        raise ValueError(f"an arc of radius {radius:g} is too large to flatten")
-    return max(1, math.ceil(n - 1e-12))
-
-
-def arc_points(centre: tuple[float, float], radius: float, start_rad: float, sweep_rad: float,
-               sagitta: float) -> np.ndarray:
-    """Points on a circular arc (counter-clockwise for positive sweep), ends included."""
-    n = chord_count(radius, sweep_rad, sagitta)
-    t = start_rad + sweep_rad * np.linspace(0.0, 1.0, n + 1)
-    return np.column_stack([centre[0] + radius * np.cos(t), centre[1] + radius * np.sin(t)])
-
-
 def bulge_points(p0: tuple[float, float], p1: tuple[float, float], bulge: float,
                  sagitta: float) -> np.ndarray:
     """Points from ``p0`` to ``p1`` (both included) along a polyline segment with ``bulge``.
@@ -426,7 +390,7 @@ def _dedupe_points(pts: np.ndarray, tol: float) -> list[tuple[float, float]]:
 
 def import_dxf(path: str | Path, layers: dict[str, list[str]] | None = None,
                units: str | None = None, wall_thickness_m: float = 0.1) -> FloorPlan:
-    """Read a DXF drawing as a :class:`~kinematics.floorplan.FloorPlan` in metres.
+    """Read a DXF drawing as a :class:`~kinematics.files.floorplan.FloorPlan` in metres.
 
     Parameters
     ----------

@@ -2,7 +2,7 @@
 
 A planned route is a list of :class:`Segment`. Every segment knows its start pose, its length,
 its signed heading change and its direction of travel, and from those alone gives the pose at
-any station in closed form (:func:`kinematics.motion.propagate`), vectorised over stations.
+any station in closed form (:func:`kinematics.motion.se2.propagate`), vectorised over stations.
 
 Conventions (see ``shared/contract.md``): plan frame x right, y up; headings counter-clockwise
 from +x, radians inside the core and degrees in files. ``direction`` is +1 forward, -1 reverse.
@@ -25,7 +25,7 @@ from dataclasses import dataclass, field
 import numpy as np
 from numpy.typing import ArrayLike, NDArray
 
-from .motion import propagate
+from kinematics.motion.se2 import propagate
 
 KINDS = ("line", "arc", "pivot")
 

@@ -10,7 +10,7 @@ import tempfile
 from pathlib import Path
 from typing import Any
 
-from .errors import FileReadError
+from kinematics.errors import FileReadError
 
 
 def read_json(path: str | os.PathLike[str]) -> Any:
@@ -68,7 +68,7 @@ def parse_json(text: str, file: str = "<text>") -> Any:
     """Parse JSON text; errors name ``file`` and the line and column.
 
     Numbers beyond a float's range read as infinity (Python's own reading of ``1e999``), for
-    the readers of each file to refuse with the key path (:mod:`kinematics.validate`)."""
+    the readers of each file to refuse with the key path (:mod:`kinematics.files.validate`)."""
     try:
         return json.loads(text, parse_constant=_refuse_constant, parse_int=_int_or_inf)
     except json.JSONDecodeError as exc:
