@@ -262,6 +262,8 @@ def sample_path(segments: Sequence[Any], step_rad: float = math.radians(3.0)
             continue
         if seg.kind == "arc":
             n = max(2, int(math.ceil(abs(seg.turn_rad) / step_rad)) + 1)
+        elif seg.kind == "clothoid":
+            n = max(2, int(math.ceil(seg.length_m * seg.max_abs_curvature / step_rad)) + 2)
         else:
             n = 2
         p = seg.poses_at_fraction(np.linspace(0.0, 1.0, n))

@@ -197,6 +197,8 @@ def end_pose(seg: Segment) -> Pose:
     turn, length = seg.turn_rad, seg.length_m
     if seg.kind == "pivot":
         return (x, y, h + turn)
+    if seg.kind == "clothoid":
+        return seg.end
     if seg.kind == "line":
         if seg.course_rad is not None or turn != 0.0:
             c = seg.course
@@ -644,11 +646,13 @@ def _plan_filleted(pts: _Points, b: _Builder, radius_m: float, route: Route) -> 
 def _check_radii(b: _Builder, min_r: float, can_pivot: bool, drive: str) -> None:
     """A ``turn_radius`` issue for every arc tighter than the chassis turns, and pivots."""
     for i, s in enumerate(b.segs):
-        if s.kind == "arc" and s.radius_m is not None and \
-                s.radius_m < min_r * (1.0 - RADIUS_REL_TOL):
-            b.issue("turn_radius", f"segment {i}: arc of radius {s.radius_m:.4g} m is tighter "
+        r = s.min_radius_m
+        if s.kind in ("arc", "clothoid") and r is not None and \
+                r < min_r * (1.0 - RADIUS_REL_TOL):
+            what = "arc of radius" if s.kind == "arc" else "clothoid reaching radius"
+            b.issue("turn_radius", f"segment {i}: {what} {r:.4g} m is tighter "
                     f"than the {drive} chassis turns ({min_r:.4g} m)", None, i, s.start,
-                    min_r - s.radius_m)
+                    min_r - r)
         elif s.kind == "pivot" and not can_pivot:
             b.issue("turn_radius", f"segment {i}: pivot on the spot, but the {drive} chassis "
                     f"turns no tighter than {min_r:.4g} m", None, i, s.start, min_r)
