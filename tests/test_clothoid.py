@@ -104,6 +104,7 @@ def test_clothoid_sweep_is_conservative_against_dense_union(start, k0, k1, lengt
     # scipy.integrate.quad above), the dense-pose oracle the issue names; the sweep must
     # contain it and exceed it by at most the 2 mm tolerance.
     import shapely
+
     from kinematics.check.sweep import placed_footprints, swept_segment
 
     fp = [(-0.3, -0.25), (0.6, -0.25), (0.6, 0.25), (0.1, 0.1), (-0.3, 0.25)]  # not convex

@@ -1,4 +1,5 @@
-"""The region a footprint sweeps along line, arc, clothoid and pivot segments, within a stated tolerance.
+"""The region a footprint sweeps along line, arc, clothoid and pivot segments, within a
+stated tolerance.
 
 A rigid body that moves continuously from placement ``P0`` to ``P1`` sweeps exactly
 ``P0 ∪ P1 ∪ (the region swept by its boundary)``: a point covered at some instant and not at

@@ -60,6 +60,22 @@ class Route:
     turn_radius_m: float = 0.0
     reverse: bool = False
     extra: dict = field(default_factory=dict, compare=False)
+    #: ``"clothoid"``, ``"none"``, or ``None`` where the file does not say (see
+    #: :func:`route_transitions`).
+    transitions: str | None = None
+
+
+TRANSITIONS = ("clothoid", "none")
+
+
+def route_transitions(route: Route, chassis: Chassis) -> str:
+    """The transitions a route is planned with: its own ``transitions`` where given, else
+    ``"clothoid"`` if the chassis gives one of the rate limits that need them
+    (:data:`TRANSITION_LIMITS`) and ``"none"`` otherwise, so older files keep their meaning."""
+    if route.transitions is not None:
+        return route.transitions
+    return "clothoid" if any(getattr(chassis, k) is not None for k in TRANSITION_LIMITS) \
+        else "none"
 
 
 @dataclass(frozen=True)
@@ -83,6 +99,9 @@ class Chassis:
     max_yaw_rate_dps: float | None = None
     effective_track_factor: float = 1.0
     extra: dict = field(default_factory=dict, compare=False)
+    max_steer_rate_dps: float | None = None
+    max_wheel_accel_radps2: float | None = None
+    max_yaw_accel_dps2: float | None = None
 
 
 @dataclass(frozen=True)
@@ -118,6 +137,13 @@ _POSITIVE = ("wheel_radius_m", "track_m", "wheelbase_m", "max_speed_mps", "max_a
              "max_decel_mps2", "max_wheel_rate_radps", "max_lateral_accel_mps2",
              "max_yaw_rate_dps", "effective_track_factor")
 _NON_NEGATIVE = ("margin_m", "min_turn_radius_m")
+#: The rate-of-change limits (optional) and the range each is read in. Below the least a
+#: transition curve would be longer than any building (common practice); above the largest
+#: the number cannot be a drive's (a steering motor turning 20 turns a second, a wheel
+#: gaining 10 000 rad/s each second).
+TRANSITION_LIMITS = {"max_steer_rate_dps": (0.1, 7200.0),
+                     "max_wheel_accel_radps2": (0.01, 10000.0),
+                     "max_yaw_accel_dps2": (0.1, 100000.0)}
 
 
 def chassis_from_dict(d: Any, file: str, place: str = "chassis") -> Chassis:
@@ -149,8 +175,11 @@ def chassis_from_dict(d: Any, file: str, place: str = "chassis") -> Chassis:
             raise r.fail(join(place, key), f"missing; a {drive} chassis needs {key}")
     if drive == "differential" and vals["track_m"] is None:
         raise r.fail(join(place, "track_m"), "missing; a differential chassis needs track_m")
+    for key, (lo, hi) in TRANSITION_LIMITS.items():
+        vals[key] = r.opt_number(d, key, place, None, positive=True, minimum=lo, maximum=hi)
     name = r.text(d.get("name", "chassis"), join(place, "name"))
-    known = {"name", "drive", "footprint", "max_steer_deg", *_POSITIVE, *_NON_NEGATIVE}
+    known = {"name", "drive", "footprint", "max_steer_deg", *_POSITIVE, *_NON_NEGATIVE,
+             *TRANSITION_LIMITS}
     extra = r.extras(d, known, place)
     defaults = Chassis()
     return Chassis(
@@ -167,6 +196,7 @@ def chassis_from_dict(d: Any, file: str, place: str = "chassis") -> Chassis:
         max_yaw_rate_dps=vals["max_yaw_rate_dps"],
         effective_track_factor=vals["effective_track_factor"] or 1.0,
         extra=extra,
+        **{k: vals[k] for k in TRANSITION_LIMITS},
     )
 
 
@@ -183,6 +213,10 @@ def chassis_to_dict(c: Chassis) -> dict:
     d["max_accel_mps2"] = c.max_accel_mps2
     for key in ("max_decel_mps2", "max_wheel_rate_radps", "max_lateral_accel_mps2",
                 "max_yaw_rate_dps"):
+        v = getattr(c, key)
+        if v is not None:
+            d[key] = v
+    for key in TRANSITION_LIMITS:
         v = getattr(c, key)
         if v is not None:
             d[key] = v
@@ -218,13 +252,22 @@ def route_from_dict(d: Any, file: str, place: str) -> Route:
     radius = r.opt_number(d, "turn_radius_m", place, 0.0, non_negative=True,
                           maximum=MAX_ROUTE_SPAN_M)
     reverse = r.boolean(d.get("reverse", False), join(place, "reverse"))
-    extra = r.extras(d, {"name", "waypoints", "turn_radius_m", "reverse"}, place)
-    return Route(name, tuple(wps), float(radius or 0.0), reverse, extra)
+    transitions = None
+    if d.get("transitions") is not None:
+        transitions = r.text(d["transitions"], join(place, "transitions"))
+        if transitions not in TRANSITIONS:
+            raise r.fail(join(place, "transitions"), f"expected \"clothoid\" or \"none\", "
+                         f"got {transitions!r}")
+    extra = r.extras(d, {"name", "waypoints", "turn_radius_m", "reverse", "transitions"},
+                     place)
+    return Route(name, tuple(wps), float(radius or 0.0), reverse, extra, transitions)
 
 
 def route_to_dict(rt: Route) -> dict:
     d: dict[str, Any] = {"name": rt.name, "waypoints": [w.to_list() for w in rt.waypoints],
                          "turn_radius_m": rt.turn_radius_m, "reverse": rt.reverse}
+    if rt.transitions is not None:
+        d["transitions"] = rt.transitions
     for k, v in rt.extra.items():
         d.setdefault(k, v)
     return d
@@ -323,4 +366,5 @@ def save_project(p: Project, path: str | Path, inline_floorplan: bool = False) -
 
 __all__ = ["Waypoint", "Route", "Chassis", "Project", "load_project", "save_project",
            "project_from_dict", "project_to_dict", "chassis_from_dict", "chassis_to_dict",
-           "route_from_dict", "route_to_dict", "SwatheInputError", "DRIVES"]
+           "route_from_dict", "route_to_dict", "SwatheInputError", "DRIVES",
+           "TRANSITIONS", "TRANSITION_LIMITS", "route_transitions"]
