@@ -58,7 +58,11 @@ def build_parser() -> argparse.ArgumentParser:
     sp.add_argument("-o", "--output", metavar="FILE", help="write to FILE (atomically) "
                                                             "instead of standard output")
     sp.add_argument("--dt", type=float, default=0.1, metavar="SECONDS",
-                    help="time step of the samples (default 0.1 s)")
+                    help="time step of the samples, CSV and JSON (default 0.1 s)")
+    sp.add_argument("--samples", action="store_true",
+                    help="CSV: one row per time step (pose, speed, yaw rate, curvature, each "
+                         "wheel's rate and angle) after '#' lines naming chassis, limits and "
+                         "units, instead of one row per segment")
 
     sp = sub.add_parser("render", help="a PNG picture of plan, route, swept area and "
                                        "violations, without a screen")
@@ -128,7 +132,12 @@ def cmd_schedule(args: argparse.Namespace) -> int:
     from kinematics.files.jsonio import atomic_write_text, dumps
     from kinematics.files.project import load_project
     from kinematics.plan.planner import plan_route
-    from kinematics.timing.schedule import build_schedule, schedule_to_csv, schedule_to_dict
+    from kinematics.timing.schedule import (
+        build_schedule,
+        samples_to_csv,
+        schedule_to_csv,
+        schedule_to_dict,
+    )
 
     if not (args.dt > 0) or args.dt > 60:
         raise SwatheInputError("command line", "--dt", "expected a time step between 0 and 60 s")
@@ -136,7 +145,10 @@ def cmd_schedule(args: argparse.Namespace) -> int:
     route = project.route(args.route)
     plan = plan_route(route, project.chassis)
     sched = build_schedule(route.name, list(plan.segments), project.chassis, dt_s=args.dt)
-    text = schedule_to_csv(sched) if args.format == "csv" else dumps(schedule_to_dict(sched))
+    if args.format == "csv":
+        text = samples_to_csv(sched) if args.samples else schedule_to_csv(sched)
+    else:
+        text = dumps(schedule_to_dict(sched))
     if args.output:
         _check_output_path(args.output)
         atomic_write_text(args.output, text)
