@@ -17,6 +17,7 @@ import shapely
 from shapely.geometry import LineString
 from shapely.geometry.base import BaseGeometry
 
+from kinematics.check.zones import ZoneIndex
 from kinematics.files.floorplan import FloorPlan, Solid, solids
 
 #: Half-depth (across the door line) and extra length (beyond each jamb) of the box in which
@@ -45,6 +46,7 @@ class ObstacleIndex:
         self.door_lines = np.array([LineString([d.a, d.b]) for d in self.doors], dtype=object)
         self.door_boxes = np.array([door_box(d.a, d.b) for d in self.doors], dtype=object)
         self.door_tree = shapely.STRtree(self.door_lines)
+        self.zones = ZoneIndex(tuple(floorplan.zones))
 
     def __len__(self) -> int:
         return len(self.solids)

@@ -17,6 +17,7 @@ from kinematics.files.floorplan import (
     check_footprint,
     floorplan_from_dict,
     floorplan_to_dict,
+    zone_layers_from,
 )
 from kinematics.files.jsonio import read_json, write_json
 from kinematics.files.validate import (
@@ -52,14 +53,31 @@ class Waypoint:
 
 
 @dataclass(frozen=True)
+class Stop:
+    """The chassis comes to rest at waypoint ``waypoint`` (0-based) and waits ``dwell_s``."""
+
+    waypoint: int
+    dwell_s: float
+
+    def to_dict(self) -> dict:
+        return {"waypoint": self.waypoint, "dwell_s": self.dwell_s}
+
+
+#: Longest dwell read at one stop, s (a day). Common practice.
+MAX_DWELL_S = 86400.0
+
+
+@dataclass(frozen=True)
 class Route:
-    """A named route: waypoints, the radius it turns with, and whether it may reverse."""
+    """A named route: waypoints, the radius it turns with, whether it may reverse, and the
+    waypoints where it stops and waits (``stops``, in waypoint order)."""
 
     name: str
     waypoints: tuple[Waypoint, ...]
     turn_radius_m: float = 0.0
     reverse: bool = False
     extra: dict = field(default_factory=dict, compare=False)
+    stops: tuple[Stop, ...] = ()
 
 
 @dataclass(frozen=True)
@@ -218,13 +236,33 @@ def route_from_dict(d: Any, file: str, place: str) -> Route:
     radius = r.opt_number(d, "turn_radius_m", place, 0.0, non_negative=True,
                           maximum=MAX_ROUTE_SPAN_M)
     reverse = r.boolean(d.get("reverse", False), join(place, "reverse"))
-    extra = r.extras(d, {"name", "waypoints", "turn_radius_m", "reverse"}, place)
-    return Route(name, tuple(wps), float(radius or 0.0), reverse, extra)
+    stops = _stops_from(r, d.get("stops", []), join(place, "stops"), len(wps))
+    extra = r.extras(d, {"name", "waypoints", "turn_radius_m", "reverse", "stops"}, place)
+    return Route(name, tuple(wps), float(radius or 0.0), reverse, extra, stops)
+
+
+def _stops_from(r: Reader, value: Any, place: str, n_waypoints: int) -> tuple[Stop, ...]:
+    out: list[Stop] = []
+    for i, s in enumerate(r.lst(value, place)):
+        sp = join(place, i)
+        s = r.obj(s, sp)
+        w = r.get(s, "waypoint", sp)
+        if isinstance(w, bool) or not isinstance(w, int) or not 0 <= w < n_waypoints:
+            raise r.fail(join(sp, "waypoint"), f"expected a waypoint index 0..{n_waypoints - 1}"
+                         f" (0 is the first waypoint), got {w!r}")
+        dwell = r.number(r.get(s, "dwell_s", sp), join(sp, "dwell_s"), non_negative=True,
+                         maximum=MAX_DWELL_S)
+        if any(o.waypoint == w for o in out):
+            raise r.fail(join(sp, "waypoint"), f"waypoint {w} already has a stop")
+        out.append(Stop(w, dwell))
+    return tuple(sorted(out, key=lambda s: s.waypoint))
 
 
 def route_to_dict(rt: Route) -> dict:
     d: dict[str, Any] = {"name": rt.name, "waypoints": [w.to_list() for w in rt.waypoints],
                          "turn_radius_m": rt.turn_radius_m, "reverse": rt.reverse}
+    if rt.stops:
+        d["stops"] = [s.to_dict() for s in rt.stops]
     for k, v in rt.extra.items():
         d.setdefault(k, v)
     return d
@@ -264,7 +302,9 @@ def _load_floorplan_ref(ref: Any, file: str, base_dir: Path) -> FloorPlan:
             if "wall_thickness_m" in ref:
                 opts["wall_thickness_m"] = r.number(ref["wall_thickness_m"],
                                                     "floorplan.wall_thickness_m", positive=True)
-        elif target.suffix.lower() == ".svg":
+        if "zones" in ref and target.suffix.lower() in (".dxf", ".svg"):
+            opts["zones"] = zone_layers_from(ref["zones"], file, "floorplan.zones")
+        if target.suffix.lower() == ".svg":
             if "metres_per_unit" in ref:
                 opts["metres_per_unit"] = r.number(ref["metres_per_unit"],
                                                    "floorplan.metres_per_unit", positive=True)
@@ -321,6 +361,6 @@ def save_project(p: Project, path: str | Path, inline_floorplan: bool = False) -
     write_json(path, project_to_dict(p, inline_floorplan))
 
 
-__all__ = ["Waypoint", "Route", "Chassis", "Project", "load_project", "save_project",
+__all__ = ["Waypoint", "Stop", "Route", "Chassis", "Project", "load_project", "save_project",
            "project_from_dict", "project_to_dict", "chassis_from_dict", "chassis_to_dict",
            "route_from_dict", "route_to_dict", "SwatheInputError", "DRIVES"]
