@@ -59,6 +59,8 @@ from kinematics.check.sweep import (
     union_parts,
 )
 from kinematics.files.floorplan import FloorPlan, Solid, check_footprint, solids
+from kinematics.files.jsonio import collector_held
+from kinematics.motion.arrays import unique_sorted
 from kinematics.motion.se2 import sinc_terms
 from kinematics.motion.segments import Segment, segment_stations
 
@@ -87,10 +89,11 @@ class ObstacleIndex:
 
     def __init__(self, floorplan: FloorPlan) -> None:
         self.floorplan = floorplan
-        self.solids: list[Solid] = solids(floorplan)
-        self.geometries = np.array([s.geometry for s in self.solids], dtype=object)
-        shapely.prepare(self.geometries)
-        self.tree = shapely.STRtree(self.geometries)
+        with collector_held():  # thousands of new objects, none in a cycle
+            self.solids: list[Solid] = solids(floorplan)
+            self.geometries = np.array([s.geometry for s in self.solids], dtype=object)
+            shapely.prepare(self.geometries)
+            self.tree = shapely.STRtree(self.geometries)
         self.doors = tuple(floorplan.doors)
         self.door_lines = np.array([LineString([d.a, d.b]) for d in self.doors], dtype=object)
         self.door_boxes = np.array([_door_box(d.a, d.b) for d in self.doors], dtype=object)
@@ -422,7 +425,7 @@ class RouteChecker:
         hits: list[_Hit] = []
         best, best_j = math.inf, None
         if len(idx):
-            near = np.unique(idx.tree.query(parts, predicate="dwithin", distance=margin)[1]
+            near = unique_sorted(idx.tree.query(parts, predicate="dwithin", distance=margin)[1]
                              if margin > 0.0 else
                              idx.tree.query(parts, predicate="intersects")[1])
             for j in near.tolist():
@@ -436,7 +439,7 @@ class RouteChecker:
                     hits.append(self._hit(seg, sw, j, c))
         doors = []
         if len(idx.doors):
-            crossed = np.unique(idx.door_tree.query(parts, predicate="intersects")[1])
+            crossed = unique_sorted(idx.door_tree.query(parts, predicate="intersects")[1])
             for k in crossed.tolist():
                 box = idx.door_boxes[k]
                 local = _Parts(shapely.intersection(parts, box))
