@@ -29,6 +29,7 @@ from kinematics.check.segment_parts import SegmentResult, SweptParts, cache_key
 from kinematics.check.sweep import Footprint, placed_footprints, swept_parts, travel_m
 from kinematics.check.violations import Hit, locate_hit
 from kinematics.check.zones import wrong_way
+from kinematics.motion.arrays import unique_sorted
 from kinematics.motion.segments import Segment
 
 
@@ -45,9 +46,9 @@ def sweep_segment(fp: Footprint, index: ObstacleIndex, margin: float, tol: float
     rule = zones.margin_rule(parts, margin) if len(zones.margin) else None
     reach = margin if rule is None else rule.reach_m
     if len(idx):
-        near = np.unique(idx.tree.query(parts, predicate="dwithin", distance=reach)[1]
-                         if reach > 0.0 else
-                         idx.tree.query(parts, predicate="intersects")[1])
+        near = unique_sorted(idx.tree.query(parts, predicate="dwithin", distance=reach)[1]
+                             if reach > 0.0 else
+                             idx.tree.query(parts, predicate="intersects")[1])
         for j in near.tolist():
             solid = idx.geometries[j]
             c = sw.distance(solid)
@@ -67,7 +68,7 @@ def sweep_segment(fp: Footprint, index: ObstacleIndex, margin: float, tol: float
         keep_out.append(locate_hit(fp, zones.keep_out, 0.0, tol, seg, sw, k, min(c, 0.0)))
     doors = []
     if len(idx.doors):
-        crossed = np.unique(idx.door_tree.query(parts, predicate="intersects")[1])
+        crossed = unique_sorted(idx.door_tree.query(parts, predicate="intersects")[1])
         for k in crossed.tolist():
             box = idx.door_boxes[k]
             local = SweptParts(shapely.intersection(parts, box))
