@@ -108,7 +108,8 @@ def cmd_plan(args: argparse.Namespace) -> int:
 
 
 def cmd_check(args: argparse.Namespace) -> int:
-    from kinematics.check.clearance import ObstacleIndex, check_route, format_check_text
+    from kinematics.analysis.report_text import format_check_text
+    from kinematics.check.clearance import ObstacleIndex, check_route
     from kinematics.files.jsonio import dumps
     from kinematics.files.project import load_project
     from kinematics.plan.planner import plan_route

@@ -26,6 +26,7 @@ from typing import Any
 from PySide6.QtCore import QObject, QTimer, Signal
 from PySide6.QtGui import QUndoCommand, QUndoStack
 
+from kinematics.analysis.results import clearance_words  # noqa: F401 - the window imports it here
 from kinematics.errors import SwatheInputError
 from kinematics.files.floorplan import FloorPlan
 from kinematics.files.project import Chassis, Project, Route, Waypoint, load_project, save_project
@@ -97,14 +98,6 @@ _drag_tokens = itertools.count(1)
 def new_drag_token() -> int:
     """A fresh key for one mouse drag: moves with the same key merge into one undo step."""
     return next(_drag_tokens)
-
-
-def clearance_words(min_clearance_m: float) -> str:
-    """The least clearance in words; a negative one is an overlap and says so."""
-    mm = min_clearance_m * 1000.0
-    if round(mm) < 0:
-        return f"overlaps by {-mm:.0f}\u00a0mm"
-    return f"least clearance {max(mm, 0.0):.0f}\u00a0mm"  # never "-0 mm"
 
 
 def empty_project() -> Project:
