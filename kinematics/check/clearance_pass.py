@@ -28,6 +28,7 @@ from kinematics.check.obstacles import ObstacleIndex
 from kinematics.check.segment_parts import SegmentResult, SweptParts, cache_key
 from kinematics.check.sweep import Footprint, placed_footprints, swept_parts, travel_m
 from kinematics.check.violations import Hit, locate_hit
+from kinematics.motion.arrays import unique_sorted
 from kinematics.motion.segments import Segment
 
 
@@ -40,7 +41,7 @@ def sweep_segment(fp: Footprint, index: ObstacleIndex, margin: float, tol: float
     hits: list[Hit] = []
     best, best_j = math.inf, None
     if len(idx):
-        near = np.unique(idx.tree.query(parts, predicate="dwithin", distance=margin)[1]
+        near = unique_sorted(idx.tree.query(parts, predicate="dwithin", distance=margin)[1]
                          if margin > 0.0 else
                          idx.tree.query(parts, predicate="intersects")[1])
         for j in near.tolist():
@@ -54,7 +55,7 @@ def sweep_segment(fp: Footprint, index: ObstacleIndex, margin: float, tol: float
                 hits.append(locate_hit(fp, idx, margin, tol, seg, sw, j, c))
     doors = []
     if len(idx.doors):
-        crossed = np.unique(idx.door_tree.query(parts, predicate="intersects")[1])
+        crossed = unique_sorted(idx.door_tree.query(parts, predicate="intersects")[1])
         for k in crossed.tolist():
             box = idx.door_boxes[k]
             local = SweptParts(shapely.intersection(parts, box))

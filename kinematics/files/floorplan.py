@@ -10,16 +10,19 @@ from __future__ import annotations
 
 import math
 from dataclasses import dataclass, field
+from functools import cached_property
 from pathlib import Path
 from typing import Any
 
+import numpy as np
 import shapely
 from shapely.geometry import LinearRing, LineString, Polygon
+from shapely.geometry.base import BaseGeometry
 from shapely.validation import explain_validity
 
 from kinematics.errors import GeometryError
 from kinematics.files.jsonio import write_json
-from kinematics.files.validate import MAX_BODY_M, Reader, join
+from kinematics.files.validate import MAX_BODY_M, Reader, join, point_lists, raise_bad_point
 
 FORMAT_VERSION = 1
 Point = tuple[float, float]
@@ -36,6 +39,11 @@ class Wall:
     def closed(self) -> bool:
         return len(self.points) > 2 and self.points[0] == self.points[-1]
 
+    @cached_property
+    def polygon(self) -> Polygon | None:
+        """The wall's solid (:func:`wall_polygon`), made once per wall value."""
+        return wall_polygon(self)
+
 
 @dataclass(frozen=True)
 class Obstacle:
@@ -43,6 +51,12 @@ class Obstacle:
 
     points: tuple[Point, ...]
     label: str = ""
+
+    @cached_property
+    def polygon(self) -> BaseGeometry | None:
+        """The obstacle's solid (:func:`obstacle_polygon`), made once per obstacle (the
+        reader fills it while it validates, so a loaded plan never builds it twice)."""
+        return obstacle_polygon(self)
 
 
 @dataclass(frozen=True)
@@ -154,12 +168,16 @@ def solids(fp: FloorPlan) -> list[Solid]:
     """Every wall and obstacle of ``fp`` as a shapely polygon with its origin."""
     out: list[Solid] = []
     for i, w in enumerate(fp.walls):
-        g = wall_polygon(w)
+        g = w.polygon
         if g is not None:
             out.append(Solid(g, "wall", i, ""))
     for i, o in enumerate(fp.obstacles):
-        g = obstacle_polygon(o)
-        if g is not None:
+        g = o.polygon
+        if g is None:
+            continue
+        if isinstance(g, Polygon):
+            out.append(Solid(g, "obstacle", i, o.label))
+        else:
             for part in getattr(g, "geoms", [g]):
                 if isinstance(part, Polygon) and part.area > 0:
                     out.append(Solid(part, "obstacle", i, o.label))
@@ -193,17 +211,8 @@ def floorplan_from_dict(d: Any, file: str, place: str = "", source: str = "") ->
         if len(_dedupe(pts)) < 2:
             raise r.fail(join(wp, "points"), "expected a wall line of non-zero length")
         walls.append(Wall(pts, t))
-    obstacles = []
-    for i, o in enumerate(r.lst(d.get("obstacles", []), join(place, "obstacles"))):
-        op = join(join(place, "obstacles"), i)
-        o = r.obj(o, op)
-        pts = r.points(r.get(o, "points", op), join(op, "points"), 3)
-        label = r.text(o.get("label", ""), join(op, "label"))
-        ob = Obstacle(pts, label)
-        poly = obstacle_polygon(ob)
-        if poly is None:
-            raise r.fail(join(op, "points"), "expected a polygon with non-zero area")
-        obstacles.append(ob)
+    obstacles = _read_obstacles(r, r.lst(d.get("obstacles", []), join(place, "obstacles")),
+                                join(place, "obstacles"))
     doors = []
     for i, dr in enumerate(r.lst(d.get("doors", []), join(place, "doors"))):
         dp = join(join(place, "doors"), i)
@@ -216,6 +225,117 @@ def floorplan_from_dict(d: Any, file: str, place: str = "", source: str = "") ->
     known = {"swathe_floorplan", "name", "walls", "obstacles", "doors"}
     extra = r.extras(d, known, place)
     return FloorPlan(name, tuple(walls), tuple(obstacles), tuple(doors), source or file, extra)
+
+
+class _Places:
+    """``places[k]`` is the key path of obstacle ``k``'s points, made only when asked."""
+
+    def __init__(self, place: str) -> None:
+        self.place = place
+
+    def __getitem__(self, k: int) -> str:
+        return join(join(self.place, k), "points")
+
+
+def _read_obstacles(r: Reader, items: list, place: str) -> list[Obstacle]:
+    """The obstacles of a floor-plan file, read and checked with array operations.
+
+    Each obstacle's polygon is built once here (:func:`obstacle_polygons`) and kept on the
+    obstacle for the solids. A mistake is reported as a one-by-one read in file order reports
+    it: the first obstacle whose structure, points, label or area is wrong, in that order
+    within an obstacle.
+    """
+    pts_lists: list[list] = []
+    labels: list[str] = []
+    pending: Exception | None = None
+    label_error = False
+    for i, o in enumerate(items):
+        # The common case in two type tests; anything else is read by the Reader, which
+        # names the place of the mistake.
+        pts = o.get("points") if type(o) is dict else None
+        label = o.get("label", "") if pts is not None else None
+        if type(pts) is list and len(pts) >= 3 and type(label) is str:
+            pts_lists.append(pts)
+            labels.append(label)
+            continue
+        op = join(place, i)
+        try:
+            o = r.obj(o, op)
+            pts = r.lst(r.get(o, "points", op), join(op, "points"), 3)
+        except Exception as exc:  # noqa: BLE001 - re-raised below, after earlier obstacles
+            pending = exc
+            break
+        pts_lists.append(pts)
+        try:
+            labels.append(r.text(o.get("label", ""), join(op, "label")))
+        except Exception as exc:  # noqa: BLE001 - its points come first, then this
+            pending, label_error = exc, True
+            break
+    places = _Places(place)
+    coords, offsets, bad = point_lists(r, pts_lists, places)
+    n_ok = len(offsets) - 1
+    polys = obstacle_polygons(coords, offsets)
+    # An obstacle whose label is wrong is reported for that before its area.
+    for k, poly in enumerate(polys[:n_ok - 1] if label_error and bad is None else polys):
+        if poly is None:
+            raise r.fail(places[k], "expected a polygon with non-zero area")
+    if bad is not None:
+        raise_bad_point(r, pts_lists[bad], places[bad])
+    if pending is not None:
+        raise pending
+    rows = list(map(tuple, coords.tolist()))
+    offs = offsets.tolist()
+    out = []
+    for a, b, label, poly in zip(offs, offs[1:], labels, polys):
+        ob = Obstacle(tuple(rows[a:b]), label)
+        ob.__dict__["polygon"] = poly  # the cached_property's slot: built once
+        out.append(ob)
+    return out
+
+
+def obstacle_polygons(coords: np.ndarray, offsets: np.ndarray) -> list[BaseGeometry | None]:
+    """:func:`obstacle_polygon` of many outlines at once: outline ``k`` is
+    ``coords[offsets[k]:offsets[k + 1]]``. The same polygons (the same vertices) as one by one:
+    repeated points dropped, a closing point dropped, repaired where the outline crosses
+    itself, ``None`` below three points or without area."""
+    n = len(offsets) - 1
+    out: list[BaseGeometry | None] = [None] * n
+    if n == 0 or len(coords) == 0:
+        return out
+    counts = np.diff(offsets)
+    owner = np.repeat(np.arange(n), counts)
+    keep = np.ones(len(coords), dtype=bool)
+    keep[1:] = ~((coords[1:] == coords[:-1]).all(axis=1) & (owner[1:] == owner[:-1]))
+    # The last kept row of each outline; dropped when it repeats the first (a closed outline).
+    rows = np.where(keep, np.arange(len(coords)), -1)
+    nonempty = counts > 0
+    starts = offsets[:-1][nonempty]
+    last = np.maximum.reduceat(rows, starts)
+    first = starts
+    n_kept = np.add.reduceat(keep.astype(np.int64), starts)
+    closing = (n_kept >= 2) & (coords[last] == coords[first]).all(axis=1)
+    keep[last[closing]] = False
+    n_kept = n_kept - closing
+    ids = np.flatnonzero(nonempty)
+    full = np.zeros(n, dtype=np.int64)
+    full[ids] = n_kept
+    make = np.flatnonzero(full >= 3)
+    if not len(make):
+        return out
+    sel = keep & (full[owner] >= 3)
+    # Consecutive ring numbers for the outlines that have one.
+    ring_of = np.full(n, -1, dtype=np.int64)
+    ring_of[make] = np.arange(len(make))
+    rings = shapely.linearrings(coords[sel], indices=ring_of[owner[sel]])
+    polys = shapely.polygons(rings)
+    valid = shapely.is_valid(polys)
+    for j in np.flatnonzero(~valid).tolist():
+        polys[j] = shapely.make_valid(polys[j])
+    ok = ~shapely.is_empty(polys) & (shapely.area(polys) > 0)
+    for j, k in enumerate(make.tolist()):
+        if ok[j]:
+            out[k] = polys[j]
+    return out
 
 
 def floorplan_to_dict(fp: FloorPlan) -> dict:

@@ -21,7 +21,7 @@ from kinematics.files.floorplan import (
     floorplan_from_dict,
     floorplan_to_dict,
 )
-from kinematics.files.jsonio import read_json, write_json
+from kinematics.files.jsonio import collector_held, read_json, write_json
 from kinematics.files.validate import (
     MAX_BODY_M,
     MAX_COORD_M,
@@ -444,8 +444,9 @@ def project_from_dict(d: Any, file: str, base_dir: Path | None = None) -> Projec
 def load_project(path: str | Path) -> Project:
     """Read and check a ``*.swathe.json`` project and the floor plan it names."""
     p = Path(path)
-    d = read_json(p)
-    proj = project_from_dict(d, str(p), p.parent)
+    with collector_held():
+        d = read_json(p)
+        proj = project_from_dict(d, str(p), p.parent)
     return dataclasses.replace(proj, path=p)
 
 

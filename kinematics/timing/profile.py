@@ -38,6 +38,7 @@ from dataclasses import dataclass
 import numpy as np
 from numpy.typing import ArrayLike, NDArray
 
+from kinematics.motion.arrays import unique_sorted
 from kinematics.motion.drives import DriveModel, drive_for
 from kinematics.motion.segments import Segment, segment_stations
 
@@ -206,7 +207,7 @@ class SpeedProfile:
         t3 = np.where(self.decel > 0, (self.rate_cruise - self.rate_end) / self.decel, 0.0)
         ends = self.t0_s + self.duration_s
         pts = np.concatenate([self.t0_s, self.t0_s + t1, ends - t3, ends])
-        pts = np.unique(np.clip(pts, 0.0, self.total_time_s))
+        pts = unique_sorted(np.clip(pts, 0.0, self.total_time_s))
         # Round-off makes near-copies of one time (a ramp ending on a joint); keep one.
         keep = np.concatenate([[True], np.diff(pts) > 1e-9])[:pts.size]
         return pts[keep]
