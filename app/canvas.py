@@ -38,6 +38,7 @@ from PySide6.QtWidgets import (
     QWidget,
 )
 
+from kinematics.analysis.results import VIOLATION_WORDS, violation_label  # noqa: F401
 from kinematics.files.project import Waypoint
 from kinematics.motion.segments import Segment
 
@@ -55,12 +56,10 @@ from .palette import (  # noqa: F401 - the whole set, as other views import it f
     YELLOW,
 )
 
-# Marker shape per violation kind (pyqtgraph symbol names) and the word shown beside it.
+# Marker shape per violation kind (pyqtgraph symbol names); the words beside them are the
+# analysis's (kinematics.analysis.results.VIOLATION_WORDS).
 VIOLATION_SYMBOLS = {"collision": "x", "clearance": "t", "turn_radius": "s",
                      "infeasible": "star", "waypoint_blocked": "d"}
-VIOLATION_WORDS = {"collision": "overlap", "clearance": "short of margin",
-                   "turn_radius": "radius short", "infeasible": "no connection",
-                   "waypoint_blocked": "blocked"}
 
 HIT_PX = 9.0  # how close (pixels) a press must be to grab a waypoint or handle
 HANDLE_PX = 42.0  # length of a heading handle on screen
@@ -854,9 +853,7 @@ class PlanCanvas(QWidget):
         taken = [(v.x - half, v.y - half, v.x + half, v.y + half) for v in vs]
         taken += [_plan_box(t, px) for t in self.plan_labels if t.isVisible()]
         for t, v in zip(labels, shown):
-            word = VIOLATION_WORDS.get(v.kind, v.kind)
-            _set_text(t, f"{word} {v.amount_m * 1000:.0f} mm" if v.kind != "infeasible"
-                      else word)
+            _set_text(t, violation_label(v))
             t.setPos(v.x, v.y)
             # The first of four places round the marker that covers nothing above; a label with
             # no free place is hidden (its marker stays, and the results panel lists it).

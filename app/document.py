@@ -26,6 +26,7 @@ from typing import Any
 from PySide6.QtCore import QObject, QTimer, Signal
 from PySide6.QtGui import QUndoCommand, QUndoStack
 
+from kinematics.analysis.results import clearance_words  # noqa: F401 - the window imports it here
 from kinematics.errors import SwatheInputError
 from kinematics.files.floorplan import FloorPlan
 from kinematics.files.project import Chassis, Project, Route, Waypoint, load_project, save_project
@@ -97,14 +98,6 @@ _drag_tokens = itertools.count(1)
 def new_drag_token() -> int:
     """A fresh key for one mouse drag: moves with the same key merge into one undo step."""
     return next(_drag_tokens)
-
-
-def clearance_words(min_clearance_m: float) -> str:
-    """The least clearance in words; a negative one is an overlap and says so."""
-    mm = min_clearance_m * 1000.0
-    if round(mm) < 0:
-        return f"overlaps by {-mm:.0f}\u00a0mm"
-    return f"least clearance {max(mm, 0.0):.0f}\u00a0mm"  # never "-0 mm"
 
 
 def empty_project() -> Project:
@@ -452,8 +445,10 @@ class Document(QObject):
         wps.insert(index, wp)
         text = (f"Add waypoint {index + 1}" if index == len(wps) - 1
                 else f"Insert waypoint {index + 1}")
-        self._push(text, self._with_route(route_i, dataclasses.replace(rt, waypoints=tuple(wps))),
-                   "routes")
+        stops = tuple(dataclasses.replace(s, waypoint=s.waypoint + 1) if s.waypoint >= index
+                      else s for s in rt.stops)
+        self._push(text, self._with_route(route_i, dataclasses.replace(
+            rt, waypoints=tuple(wps), stops=stops)), "routes")
 
     def move_waypoint(self, route_i: int, index: int, x: float, y: float,
                       drag: int | None = None) -> None:
@@ -473,9 +468,12 @@ class Document(QObject):
             return False
         wps = list(rt.waypoints)
         del wps[index]
+        # A stop at the deleted waypoint goes with it; later ones keep their waypoints.
+        stops = tuple(dataclasses.replace(s, waypoint=s.waypoint - (s.waypoint > index))
+                      for s in rt.stops if s.waypoint != index)
         self._push(f"Delete waypoint {index + 1}",
-                   self._with_route(route_i, dataclasses.replace(rt, waypoints=tuple(wps))),
-                   "routes")
+                   self._with_route(route_i, dataclasses.replace(
+                       rt, waypoints=tuple(wps), stops=stops)), "routes")
         return True
 
     def set_waypoint_heading(self, route_i: int, index: int, heading_deg: float | None,

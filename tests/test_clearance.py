@@ -12,12 +12,12 @@ from hypothesis import given, settings
 from hypothesis import strategies as st
 from shapely.geometry import Polygon
 
+from kinematics.analysis.report_text import CHECK_CAUTION as CAUTION
+from kinematics.analysis.report_text import format_check_text
 from kinematics.check.clearance import (
-    CAUTION,
     ObstacleIndex,
     RouteChecker,
     check_route,
-    format_check_text,
 )
 from kinematics.check.sweep import placed_footprints, travel_m
 from kinematics.files.floorplan import Door, FloorPlan, Obstacle, Wall

@@ -1,4 +1,4 @@
-"""Plain-text summaries of planned routes for the terminal (``swathe plan`` without --json).
+"""Plain-text summaries for the terminal: ``swathe plan`` and ``swathe check`` without --json.
 
 Waypoints are counted from 1 here, as in the window and the rendered picture; segments are
 numbered from 0, as their indices in ``plan --json``.
@@ -14,6 +14,10 @@ CAUTION = ("Swathe is a planning aid, not a safety certification. Verify every r
            "keep the clearances that the applicable machine-safety standards (for example "
            "ISO 3691-4 and ANSI/ITSDF B56.5) and local fire and building codes require, and "
            "defer to licensed practice.")
+#: The short caution under ``swathe check``'s text report.
+CHECK_CAUTION = ("Planning aid only, not a safety certification: verify on site and keep the "
+                 "clearances that ISO 3691-4, ANSI/ITSDF B56.5 and local fire and building "
+                 "codes require.")
 
 
 def _segment_line(i: int, seg: Any) -> str:
@@ -58,3 +62,50 @@ def format_plan_text(plans: Sequence[Any], project: Any = None) -> str:
     out.append("")
     out.append(CAUTION)
     return "\n".join(out) + "\n"
+
+
+def format_check_text(checks: Sequence[Any]) -> str:
+    """A readable report of route checks for the terminal (``swathe check`` without --json)."""
+    out: list[str] = []
+    for c in checks:
+        if c.min_clearance_m is None:
+            least = "no walls or obstacles to measure"
+        else:
+            least = f"least clearance {c.min_clearance_m * 1000:.0f} mm"
+            if c.min_clearance_at:
+                a = c.min_clearance_at
+                least += (f" at station {a['station_m']:.2f} m ({a['x']:.2f}, {a['y']:.2f})"
+                          + (f" to {a['solid']}" if a.get("solid") else ""))
+        state = "CLEAR" if c.clear else f"{len(c.violations)} problem(s)"
+        out.append(f"Route {c.name!r}: {state}; {least}; margin {c.margin_m * 1000:.0f} mm, "
+                   f"tolerance {c.tolerance_m * 1000:.1f} mm")
+        for v in c.violations:
+            seg = "-" if v.segment is None else str(v.segment)
+            out.append(f"  {v.kind:<16} seg {seg:>3}  station {v.station_m:8.2f} m  "
+                       f"({v.x:.2f}, {v.y:.2f})  {v.amount_m * 1000:6.0f} mm  {v.message}")
+        for p in c.doors:
+            cl = "-" if p.min_clearance_m is None else f"{p.min_clearance_m * 1000:.0f} mm"
+            out.append(f"  door {p.label!r} ({p.width_m:.3f} m wide) at station "
+                       f"{p.station_m:.2f} m: least clearance {cl}")
+        if c.sizing:
+            for line_ in _sizing_lines(c.sizing):
+                out.append("  " + line_)
+        out.append("")
+    out.append(CHECK_CAUTION)
+    return "\n".join(out) + "\n"
+
+
+def _sizing_lines(sizing: dict) -> list[str]:
+    lines = []
+    for key in ("widest", "longest"):
+        s = sizing.get(key)
+        if s:
+            best = s.get("max_m")
+            best_txt = "none clears" if best is None else f"{best:.3f} m"
+            lines.append(f"{key} footprint that clears: {best_txt} "
+                         f"(now {s.get('current_m', 0.0):.3f} m)")
+    for d in sizing.get("doors", []) or []:
+        need = d.get("width_needed_m")
+        need_txt = "-" if need is None else f"{need:.3f} m"
+        lines.append(f"door {d.get('label')!r} needs {need_txt} (now {d.get('width_m'):.3f} m)")
+    return lines

@@ -12,7 +12,8 @@ A check is four pieces, each in its own module:
   violation per stretch of segments near the same solid;
 - :mod:`~kinematics.check.waypoints`: ``waypoint_blocked``.
 
-This module puts them together and writes the terminal report. The answers
+This module puts them together (the terminal report is
+:func:`kinematics.analysis.report_text.format_check_text`). The answers
 (:mod:`~kinematics.check.results`) and the shared contact geometry
 (:mod:`~kinematics.check.contact`) are re-exported here, where callers have always found them.
 """
@@ -37,18 +38,14 @@ from kinematics.check.obstacles import DOOR_BOX_ALONG_M, DOOR_BOX_M, ObstacleInd
 from kinematics.check.results import DoorPass, RouteCheck, Violation
 from kinematics.check.segment_parts import SegmentCache, SegmentResult, cache_key
 from kinematics.check.sweep import DEFAULT_TOLERANCE_M, Footprint, prepare_footprint
-from kinematics.check.violations import stretches
+from kinematics.check.violations import stretches, zone_stretches
 from kinematics.check.waypoints import WaypointCheck, grid_poses
 from kinematics.files.floorplan import check_footprint
 from kinematics.motion.segments import Segment, segment_stations
 
-__all__ = ["CAUTION", "DOOR_BOX_ALONG_M", "DOOR_BOX_M", "DoorPass", "ObstacleIndex",
-           "RouteCheck", "RouteChecker", "Violation", "check_route", "format_check_text",
-           "grid_poses", "overlap_depth", "part_name"]
-
-CAUTION = ("Planning aid only, not a safety certification: verify on site and keep the "
-           "clearances that ISO 3691-4, ANSI/ITSDF B56.5 and local fire and building codes "
-           "require.")
+__all__ = ["DOOR_BOX_ALONG_M", "DOOR_BOX_M", "DoorPass", "ObstacleIndex", "RouteCheck",
+           "RouteChecker", "Violation", "check_route", "grid_poses", "overlap_depth",
+           "part_name"]
 
 
 class RouteChecker:
@@ -137,6 +134,7 @@ class RouteChecker:
                                         float(iss.amount_m), iss.message))
         violations += self.waypoints.violations(segs, stations, waypoints)
         violations += stretches(results, stations, idx, self.margin_m)
+        violations += zone_stretches(results, stations, idx.zones)
         violations.sort(key=lambda v: (v.station_m, v.kind))
         # Least clearance over the route.
         min_c, at = None, None
@@ -209,51 +207,3 @@ def check_route(plan_or_segments: Any, chassis: Any, index: ObstacleIndex,
     checker = RouteChecker(chassis, index, tolerance_m)
     return checker.check(plan_or_segments, route_name=route_name, route=route,
                          waypoints=waypoints)
-
-
-# -- text report ----------------------------------------------------------------------------
-def format_check_text(checks: Sequence[RouteCheck]) -> str:
-    """A readable report of route checks for the terminal (``swathe check`` without --json)."""
-    out: list[str] = []
-    for c in checks:
-        if c.min_clearance_m is None:
-            least = "no walls or obstacles to measure"
-        else:
-            least = f"least clearance {c.min_clearance_m * 1000:.0f} mm"
-            if c.min_clearance_at:
-                a = c.min_clearance_at
-                least += (f" at station {a['station_m']:.2f} m ({a['x']:.2f}, {a['y']:.2f})"
-                          + (f" to {a['solid']}" if a.get("solid") else ""))
-        state = "CLEAR" if c.clear else f"{len(c.violations)} problem(s)"
-        out.append(f"Route {c.name!r}: {state}; {least}; margin {c.margin_m * 1000:.0f} mm, "
-                   f"tolerance {c.tolerance_m * 1000:.1f} mm")
-        for v in c.violations:
-            seg = "-" if v.segment is None else str(v.segment)
-            out.append(f"  {v.kind:<16} seg {seg:>3}  station {v.station_m:8.2f} m  "
-                       f"({v.x:.2f}, {v.y:.2f})  {v.amount_m * 1000:6.0f} mm  {v.message}")
-        for p in c.doors:
-            cl = "-" if p.min_clearance_m is None else f"{p.min_clearance_m * 1000:.0f} mm"
-            out.append(f"  door {p.label!r} ({p.width_m:.3f} m wide) at station "
-                       f"{p.station_m:.2f} m: least clearance {cl}")
-        if c.sizing:
-            for line_ in _sizing_lines(c.sizing):
-                out.append("  " + line_)
-        out.append("")
-    out.append(CAUTION)
-    return "\n".join(out) + "\n"
-
-
-def _sizing_lines(sizing: dict) -> list[str]:
-    lines = []
-    for key in ("widest", "longest"):
-        s = sizing.get(key)
-        if s:
-            best = s.get("max_m")
-            best_txt = "none clears" if best is None else f"{best:.3f} m"
-            lines.append(f"{key} footprint that clears: {best_txt} "
-                         f"(now {s.get('current_m', 0.0):.3f} m)")
-    for d in sizing.get("doors", []) or []:
-        need = d.get("width_needed_m")
-        need_txt = "-" if need is None else f"{need:.3f} m"
-        lines.append(f"door {d.get('label')!r} needs {need_txt} (now {d.get('width_m'):.3f} m)")
-    return lines

@@ -38,6 +38,7 @@ from dataclasses import dataclass, field
 import numpy as np
 from numpy.typing import ArrayLike, NDArray
 
+from kinematics.motion.arrays import unique_sorted
 from kinematics.motion.se2 import propagate
 
 KINDS = ("line", "arc", "pivot", "clothoid")
@@ -347,7 +348,7 @@ def poses_along(segments: Sequence[Segment], stations: ArrayLike) -> NDArray[np.
         return out
     edges = segment_stations(segments)
     idx = np.clip(np.searchsorted(edges, st, side="right") - 1, 0, len(segments) - 1)
-    for i in np.unique(idx):
+    for i in unique_sorted(idx):
         m = idx == i
         out[m] = segments[i].poses_at(st[m] - edges[i])
     return out

@@ -57,7 +57,6 @@ from kinematics.files.project import DRIVE_ALIASES, Chassis, Project, Route, rou
 from kinematics.files.validate import MAX_ROUTE_SPAN_M, too_spread
 from kinematics.motion.drives import drive_for
 from kinematics.motion.segments import Segment, holonomic_line, line, path_length, pivot
-from kinematics.plan import dubins, reeds_shepp
 from kinematics.plan.fillet import (
     STRAIGHT_TOL_RAD,
     ZERO_LENGTH_M,
@@ -379,6 +378,8 @@ class _Builder:
 
     def connect(self, goal: Pose, radius_m: float, reverse: bool) -> None:
         """Shortest bounded-curvature path from the current pose to ``goal``."""
+        from kinematics.plan import dubins, reeds_shepp
+
         mod = reeds_shepp if reverse else dubins
         pose = self._pose
         goal = (float(goal[0]), float(goal[1]), float(goal[2]))
@@ -548,6 +549,9 @@ def _plan_steered(pts: _Points, b: _Builder, radius_m: float, reverse: bool) -> 
             hit = b.cache.lookup(k)
             if hit is not None:
                 words[k] = hit
+    # Imported here: a route of pivots and fillets (most) never needs them at start-up.
+    from kinematics.plan import dubins, reeds_shepp
+
     todo = [i for i in range(len(keys)) if keys[i] not in words]
     if todo:
         sel = np.array(todo)

@@ -62,6 +62,7 @@ from dataclasses import dataclass
 import numpy as np
 from numpy.typing import ArrayLike, NDArray
 
+from kinematics.motion.arrays import unique_sorted
 from kinematics.motion.drives import DriveModel, drive_for
 from kinematics.motion.segments import Segment, segment_stations
 from kinematics.plan.transitions import wheel_rate_bounds
@@ -258,7 +259,7 @@ class SpeedProfile:
         ends = self.t0_s + self.duration_s
         holds = self.t0_s - (self.hold_s if self.hold_s is not None else 0.0)
         pts = np.concatenate([self.t0_s, self.t0_s + t1, ends - t3, ends, holds])
-        pts = np.unique(np.clip(pts, 0.0, self.total_time_s))
+        pts = unique_sorted(np.clip(pts, 0.0, self.total_time_s))
         # Round-off makes near-copies of one time (a ramp ending on a joint); keep one.
         keep = np.concatenate([[True], np.diff(pts) > 1e-9])[:pts.size]
         return pts[keep]

@@ -31,6 +31,7 @@ import numpy as np
 from numpy.typing import NDArray
 
 from kinematics.errors import ValidationError
+from kinematics.motion.arrays import unique_sorted
 from kinematics.motion.drives import DriveModel, drive_for
 from kinematics.motion.segments import Segment
 from kinematics.timing.profile import Limits, SpeedProfile, speed_profile
@@ -102,7 +103,7 @@ def sample_times(profile: SpeedProfile, dt_s: float) -> NDArray[np.float64]:
     total = profile.total_time_s
     grid = np.arange(0.0, total + 0.5 * dt_s, dt_s)
     grid = grid[grid < total - SAMPLE_MERGE_S]
-    times = np.unique(np.concatenate([grid, profile.breakpoints_s(), [total]]))
+    times = unique_sorted(np.concatenate([grid, profile.breakpoints_s(), [total]]))
     keep = np.ones(times.size, dtype=bool)
     last = -np.inf
     for k, t in enumerate(times):
@@ -138,7 +139,7 @@ def _sample_plan(profile: SpeedProfile, dt_s: float) -> tuple[NDArray, NDArray]:
 
 def _poses(profile: SpeedProfile, idx: NDArray, progress: NDArray) -> NDArray[np.float64]:
     out = np.zeros((idx.size, 3))
-    for i in np.unique(idx):
+    for i in unique_sorted(idx):
         m = idx == i
         seg = profile.segments[i]
         amount = profile.amount[i]
