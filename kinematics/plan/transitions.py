@@ -236,8 +236,9 @@ def cc_connect(start: Sequence[float], goal: Sequence[float], radius_m: float, s
     The CC version of the Dubins turn-line-turn family (Fraichard & Scheuer 2004, sec. V): the
     line's direction ``theta`` fixes both deflections, and the one equation left (the line
     from the first turn's end to the second turn's start points along ``theta``) is solved by
-    scanning ``theta`` and bisecting each sign change. The turn-turn-turn words are not
-    tried; where only they would join the poses the caller keeps the plain Dubins path.
+    scanning ``theta`` and refining each sign change (bisection, then false position). The
+    turn-turn-turn words are not tried; where only they would join the poses the caller keeps
+    the plain Dubins path.
 
     Public: the route finder smooths found paths with it.
     """
@@ -253,15 +254,24 @@ def cc_connect(start: Sequence[float], goal: Sequence[float], radius_m: float, s
                 continue
             lo = th[br].copy()
             hi = lo + 2.0 * math.pi / _SCAN
-            flo = cr[br]
-            for _ in range(60):
-                mid = 0.5 * (lo + hi)
+            flo, fhi = cr[br], cr[nxt[br]]
+            # Bisection to a bracket of about 2e-6 rad, then false position (the gap is
+            # smooth there, so each step squares the error).
+            for it in range(16):
+                if it < 12:
+                    mid = 0.5 * (lo + hi)
+                else:
+                    with np.errstate(divide="ignore", invalid="ignore"):
+                        mid = np.where(fhi != flo, lo - flo * (hi - lo) / (fhi - flo),
+                                       0.5 * (lo + hi))
+                    mid = np.clip(mid, np.minimum(lo, hi), np.maximum(lo, hi))
                 _, _, fm, _ = _csc_gap(mid, start, goal, s1, s2, radius_m, sigma)
                 left = np.sign(fm) == np.sign(flo)
                 lo = np.where(left, mid, lo)
                 flo = np.where(left, fm, flo)
                 hi = np.where(left, hi, mid)
-            root = 0.5 * (lo + hi)
+                fhi = np.where(left, fhi, fm)
+            root = np.where(np.abs(flo) <= np.abs(fhi), lo, hi)
             r1, r2, cr_r, dot_r = _csc_gap(root, start, goal, s1, s2, radius_m, sigma)
             for j in range(root.size):
                 if abs(cr_r[j]) > 1e-9 or dot_r[j] < -1e-9:
