@@ -131,3 +131,21 @@ def test_cli_commands_import_neither_qt_nor_numpy_ma(command):
                          cwd=root, env={**__import__("os").environ, "PYTHONPATH": str(root)})
     assert out.returncode == 0, out.stderr
     assert out.stdout.strip() == "[]"
+
+
+def test_dubins_pairs_answer_alike_alone_and_in_blocks():
+    # Source: project rule (a warm planner, which connects only the moved legs, gives the
+    # fresh plan bit for bit), across the block boundaries of dubins.shortest.
+    from kinematics.plan import dubins
+
+    rng = np.random.default_rng(11)
+    n = 2 * dubins._BLOCK + 7
+    a = np.c_[rng.uniform(-10, 10, (n, 2)), rng.uniform(-np.pi, np.pi, n)]
+    b = np.c_[rng.uniform(-10, 10, (n, 2)), rng.uniform(-np.pi, np.pi, n)]
+    b[::5, :2] = a[::5, :2] + rng.uniform(-1.5, 1.5, (len(a[::5]), 2))  # CCC words too
+    whole = dubins.shortest(a, b, 0.8)
+    assert {int(w) for w in whole.word} == set(range(6))
+    for i in (0, 1, dubins._BLOCK - 1, dubins._BLOCK, n - 1):
+        one = dubins.shortest(a[i], b[i], 0.8)
+        assert one.length_m[0] == whole.length_m[i] and one.word[0] == whole.word[i]
+        assert np.array_equal(one.params[0], whole.params[i])
