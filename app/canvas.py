@@ -132,7 +132,7 @@ def sample_segments(segments: Sequence[Segment], step_m: float = 0.05,
     for i, seg in enumerate(segments):
         hit = cache.get((seg, step_m)) if cache is not None else None
         if hit is None:
-            if seg.kind == "arc":
+            if seg.kind in ("arc", "clothoid"):
                 n = max(2, int(math.ceil(max(seg.length_m / step_m,
                                              abs(seg.turn_rad) / math.radians(3.0)))) + 1)
             elif seg.kind == "line":

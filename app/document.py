@@ -445,8 +445,10 @@ class Document(QObject):
         wps.insert(index, wp)
         text = (f"Add waypoint {index + 1}" if index == len(wps) - 1
                 else f"Insert waypoint {index + 1}")
-        self._push(text, self._with_route(route_i, dataclasses.replace(rt, waypoints=tuple(wps))),
-                   "routes")
+        stops = tuple(dataclasses.replace(s, waypoint=s.waypoint + 1) if s.waypoint >= index
+                      else s for s in rt.stops)
+        self._push(text, self._with_route(route_i, dataclasses.replace(
+            rt, waypoints=tuple(wps), stops=stops)), "routes")
 
     def move_waypoint(self, route_i: int, index: int, x: float, y: float,
                       drag: int | None = None) -> None:
@@ -466,9 +468,12 @@ class Document(QObject):
             return False
         wps = list(rt.waypoints)
         del wps[index]
+        # A stop at the deleted waypoint goes with it; later ones keep their waypoints.
+        stops = tuple(dataclasses.replace(s, waypoint=s.waypoint - (s.waypoint > index))
+                      for s in rt.stops if s.waypoint != index)
         self._push(f"Delete waypoint {index + 1}",
-                   self._with_route(route_i, dataclasses.replace(rt, waypoints=tuple(wps))),
-                   "routes")
+                   self._with_route(route_i, dataclasses.replace(
+                       rt, waypoints=tuple(wps), stops=stops)), "routes")
         return True
 
     def set_waypoint_heading(self, route_i: int, index: int, heading_deg: float | None,

@@ -224,7 +224,7 @@ class PlotsPanel(QWidget):
                 continue
             bx += [x0, x1, math.nan]
             by += [float(c[0]), float(c[0]), math.nan]
-            key = s.profile.binding[int(i)]
+            key = s.profile.cap_binding[int(i)]
             word = LIMIT_WORDS.get(key, key)
             self.cap_labels.append(word)
             t = pg.TextItem(word, color=FAINT_INK, anchor=(0.5, 1.0))

@@ -29,6 +29,9 @@ def _segment_line(i: int, seg: Any) -> str:
     elif seg.kind == "arc":
         what = (f"arc   {seg.length_m:8.3f} m  R {seg.radius_m:.3f} m  "
                 f"turn {math.degrees(seg.turn_rad):+7.1f} deg")
+    elif seg.kind == "clothoid":
+        what = (f"spiral{seg.length_m:8.3f} m  k {seg.kappa0:+.3f}->{seg.kappa1:+.3f} /m  "
+                f"turn {math.degrees(seg.turn_rad):+7.1f} deg")
     else:
         what = f"line  {seg.length_m:8.3f} m"
         if seg.turn_rad:

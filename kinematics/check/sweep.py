@@ -1,4 +1,5 @@
-"""The region a footprint sweeps along line, arc and pivot segments, within a stated tolerance.
+"""The region a footprint sweeps along line, arc, clothoid and pivot segments, within a
+stated tolerance.
 
 A rigid body that moves continuously from placement ``P0`` to ``P1`` sweeps exactly
 ``P0 ∪ P1 ∪ (the region swept by its boundary)``: a point covered at some instant and not at
@@ -22,6 +23,17 @@ sweeping its edges, and no decomposition is needed.
   errors push the region outward, so the result CONTAINS the true swept region and exceeds
   it by at most the tolerance; ``h`` is chosen from the tolerance and the farthest vertex.
   Rotations are cut into chunks of at most 90 degrees so each piece stays a simple polygon.
+- A **clothoid** (curvature linear in distance, sharpness ``sigma``) is cut into chunks of
+  length ``l``; over each chunk the true motion is compared with the arc of the chunk's mean
+  curvature from the chunk's true start pose (same length, same heading change). Their
+  headings differ by ``sigma (u^2 - l u) / 2``, at most ``sigma l^2 / 8``, and so their
+  reference points by at most the integral of that, ``sigma l^3 / 12`` (``|e^{ia} - e^{ib}|
+  <= |a - b|``); a footprint point at distance ``r <= r_far`` from the reference point is
+  therefore within ``dev = sigma l^3 / 12 + r_far sigma l^2 / 8`` of its stand-in place. Each
+  chunk is swept as that arc (a rotation, above) and every part grown by ``dev``, with ``l``
+  chosen so ``dev`` is at most a quarter of the tolerance; the excess stays within the
+  tolerance as for holonomic lines below. A chunk whose mean curvature is almost 0 uses the
+  straight translation as its stand-in, with the arc's own deviation from it added to ``dev``.
 - A **holonomic line that turns the body** (mecanum, swerve) translates at a constant rate
   while the heading turns linearly. Over a short chunk it differs from the constant-twist
   (circular) motion between the same two poses by a pure translation of at most
@@ -347,6 +359,50 @@ def _rigid_centre(a: Sequence[float], b: Sequence[float]) -> NDArray[np.float64]
     return np.linalg.solve(m, rhs)
 
 
+def clothoid_chunks(seg: Segment, r_far: float, tol: float) -> tuple[int, float]:
+    """Chunks of a clothoid and the stand-in deviation ``dev`` of each (module docstring)."""
+    sigma = abs(seg.sharpness)
+    ell = seg.length_m
+    m = 1
+    while True:
+        le = ell / m
+        dev = sigma * le ** 3 / 12.0 + r_far * sigma * le * le / 8.0
+        if dev <= 0.25 * tol or m > 100000:
+            return m, dev
+        m = max(m + 1, math.ceil(m * math.sqrt(dev / (0.25 * tol))))
+
+
+#: A clothoid chunk with mean |curvature| below this (1/m) is swept as a translation.
+_STRAIGHT_CHUNK_PER_M = 1e-6
+
+
+def _clothoid_parts(ring: NDArray[np.float64], convex: bool, r_far: float, seg: Segment,
+                    tol: float) -> tuple[NDArray[np.object_], float]:
+    m, dev = clothoid_chunks(seg, r_far, tol)
+    le = seg.length_m / m
+    st = np.linspace(0.0, seg.length_m, m + 1)
+    poses = seg.poses_at(st)
+    kap = seg.curvature_at(0.5 * (st[:-1] + st[1:]))
+    # Straight stand-ins deviate from the arc of their chunk by |k| l^2 / 2 + r_far |k| l.
+    straight_dev = _STRAIGHT_CHUNK_PER_M * (le * le / 2.0 + r_far * le)
+    dev_all = dev + (straight_dev if np.any(np.abs(kap) < _STRAIGHT_CHUNK_PER_M) else 0.0)
+    rot_tol = tol - dev_all - dev_all / math.cos(math.pi / (4 * _QUAD_SEGS))
+    d = seg.direction
+    geoms: list = []
+    for k in range(m):
+        placed = _place_one(ring, poses[k])
+        if abs(kap[k]) < _STRAIGHT_CHUNK_PER_M:
+            th = poses[k, 2]
+            v = (d * le * math.cos(th), d * le * math.sin(th))
+            geoms.extend(_polys(translation_parts(placed, v, convex), convex))
+            continue
+        r = 1.0 / kap[k]
+        x0, y0, th0 = poses[k]
+        centre = (x0 - r * math.sin(th0), y0 + r * math.cos(th0))
+        geoms.extend(_polys(rotation_parts(placed, centre, d * le * kap[k], rot_tol), False))
+    return np.asarray(geoms, dtype=object), dev_all
+
+
 def segment_parts(footprint: FootprintLike, seg: Segment,
                   tolerance_m: float = DEFAULT_TOLERANCE_M
                   ) -> tuple[NDArray[np.object_], float]:
@@ -359,6 +415,8 @@ def segment_parts(footprint: FootprintLike, seg: Segment,
     ring, convex, r_far = fp.ring, fp.convex, fp.r_far_m
     tol = _ARC_SHARE * float(tolerance_m)
     placed0 = _place_one(ring, seg.start)
+    if seg.kind == "clothoid":
+        return _clothoid_parts(ring, convex, r_far, seg, tol)
     if seg.kind == "pivot":
         parts = rotation_parts(placed0, seg.start[:2], seg.turn_rad, tol)
         return _polys(parts, False), 0.0
@@ -470,6 +528,10 @@ def sub_segment(seg: Segment, fraction: float) -> Segment:
     f = float(min(max(fraction, 0.0), 1.0))
     if seg.kind == "pivot":
         return replace(seg, turn_rad=seg.turn_rad * f)
+    if seg.kind == "clothoid":
+        k1 = seg.kappa0 + (seg.kappa1 - seg.kappa0) * f
+        return replace(seg, length_m=seg.length_m * f, kappa1=k1,
+                       turn_rad=seg.direction * seg.length_m * f * 0.5 * (seg.kappa0 + k1))
     return replace(seg, length_m=seg.length_m * f, turn_rad=seg.turn_rad * f)
 
 
@@ -481,6 +543,8 @@ def farthest_radius(footprint: FootprintLike) -> float:
 def travel_m(footprint: FootprintLike, seg: Segment) -> float:
     """An upper bound on how far any footprint point moves along ``seg``, metres."""
     r_far = prepare_footprint(footprint).r_far_m
+    if seg.kind == "clothoid":
+        return seg.length_m * (1.0 + r_far * seg.max_abs_curvature)
     if seg.kind == "arc" and seg.curvature != 0.0:
         return (abs(1.0 / seg.curvature) + r_far) * abs(seg.turn_rad)
     return seg.length_m + r_far * abs(seg.turn_rad)

@@ -269,6 +269,8 @@ def grid_poses(sg: Segment, local: np.ndarray) -> np.ndarray:
     """:func:`kinematics.motion.segments.poses_along` of one segment at its local stations ``local``
     (edges ``[0, length]``), with the same floating-point operations (the same to the last
     bit; a test compares them) and no per-station look-up of the segment."""
+    if sg.kind == "clothoid":
+        return sg.poses_at(local)
     x0, y0, th0, L, turn, mode, omega, vx, c, s, cc, sc = _station_row(sg)
     out = np.empty((len(local), 3))
     if mode == 3:
