@@ -197,7 +197,7 @@ class Document(QObject):
         self.undo_stack.cleanChanged.connect(self._clean_changed)
         self._plans: dict[str, tuple[Route, Chassis, Any]] = {}
         self._checks: dict[str, tuple[Any, FloorPlan, Any]] = {}
-        self._schedules: dict[str, tuple[Any, Any]] = {}
+        self._schedules: dict[str, tuple[Any, Any, Any]] = {}
         self._checkers: dict[str, tuple[Chassis, FloorPlan, Any]] = {}
         self._errors: dict[str, str] = {}
         self._index: tuple[FloorPlan, Any] | None = None
@@ -349,17 +349,19 @@ class Document(QObject):
         if plan is None or not plan.segments:
             return None
         hit = self._schedules.get(name)
-        if hit is not None and hit[0] is plan:
+        if hit is not None and hit[0] is plan and hit[2] is self._project.floorplan:
             return hit[1]
         from kinematics.timing.schedule import build_schedule
 
         try:
             sched = build_schedule(name, list(plan.segments), self._project.chassis,
-                                   dt_s=self.schedule_dt_s)
+                                   dt_s=self.schedule_dt_s,
+                                   zones=self._project.floorplan.zones,
+                                   route=self._route_by_name(name))
         except SwatheInputError as exc:
             self._errors[name] = exc.message
             sched = None
-        self._schedules[name] = (plan, sched)
+        self._schedules[name] = (plan, sched, self._project.floorplan)
         return sched
 
     # -- applying a new tree ----------------------------------------------------------------

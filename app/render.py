@@ -916,7 +916,8 @@ WHEEL_STYLES = (Qt.PenStyle.SolidLine, Qt.PenStyle.DashLine, Qt.PenStyle.DotLine
                 Qt.PenStyle.DashDotLine)
 WHEEL_COLOURS = (BLUE, ORANGE, PURPLE, GREEN)
 #: Words for the limit that binds, by the profile's key.
-LIMIT_WORDS = {"max_speed_mps": "max speed", "max_wheel_rate_radps": "max wheel rate",
+LIMIT_WORDS = {"max_speed_mps": "max speed", "slow_zone": "slow zone",
+               "max_wheel_rate_radps": "max wheel rate",
                "max_lateral_accel_mps2": "lateral-accel cap", "max_yaw_rate_dps": "yaw-rate cap",
                "max_wheel_accel_radps2": "wheel-accel cap", "max_yaw_accel_dps2": "yaw-accel cap",
                "max_steer_rate_dps": "steer-rate cap"}

@@ -31,10 +31,13 @@ import numpy as np
 from numpy.typing import NDArray
 
 from kinematics.errors import ValidationError
+from kinematics.files.floorplan import Zone
+from kinematics.files.project import Route
 from kinematics.motion.arrays import unique_sorted
 from kinematics.motion.drives import DriveModel, drive_for
 from kinematics.motion.segments import Segment
 from kinematics.timing.profile import Limits, SpeedProfile, speed_profile
+from kinematics.timing.zones import SLOW_ZONE, RoutePieces, StopAt, split_route
 
 SEGMENT_COLUMNS = ("index", "kind", "t0_s", "duration_s", "length_m", "v_start_mps",
                    "v_cruise_mps", "v_end_mps", "yaw_rate_dps", "turn_deg", "radius_m",
@@ -71,10 +74,29 @@ class Schedule:
     samples: Samples
     dt_s: float
     chassis: object = None
+    pieces: RoutePieces | None = None  # slow zones and stops: how the plan was cut
 
     @property
     def segments(self) -> tuple[Segment, ...]:
         return self.profile.segments
+
+    @property
+    def stops(self) -> tuple[StopAt, ...]:
+        return () if self.pieces is None else self.pieces.stops
+
+    def stop_rows(self) -> list[dict]:
+        """Each stop with where it is and when the chassis arrives (``t_s``)."""
+        out = []
+        p = self.profile
+        for st in self.stops:
+            k = int(np.searchsorted(p.station0_m, st.station_m - 1e-9, side="left"))
+            if k < len(p.segments):
+                hold = 0.0 if p.hold_s is None else float(p.hold_s[k])
+                t = float(p.t0_s[k]) - hold
+            else:
+                t = p.total_time_s
+            out.append(st.to_dict() | {"t_s": t})
+        return out
 
 
 def _segment_unit_twists(profile: SpeedProfile) -> NDArray[np.float64]:
@@ -149,7 +171,8 @@ def _poses(profile: SpeedProfile, idx: NDArray, progress: NDArray) -> NDArray[np
 
 
 def build_schedule(route_name: str, segments: Sequence[Segment], chassis,
-                   dt_s: float = 0.1) -> Schedule:
+                   dt_s: float = 0.1, zones: Sequence[Zone] = (),
+                   route: Route | None = None) -> Schedule:
     """The wheel-rate schedule of a planned route.
 
     Parameters
@@ -161,6 +184,10 @@ def build_schedule(route_name: str, segments: Sequence[Segment], chassis,
         Drive type, dimensions and limits.
     dt_s : float
         Sample interval, s (samples also fall on joints and ends of speed ramps).
+    zones : sequence of Zone
+        The floor plan's zones; ``slow`` ones cap the speed (:mod:`kinematics.timing.zones`).
+    route : Route, optional
+        Its ``stops``: the chassis rests there and waits.
 
     Returns
     -------
@@ -174,7 +201,16 @@ def build_schedule(route_name: str, segments: Sequence[Segment], chassis,
     if not (isinstance(dt_s, (int, float)) and math.isfinite(dt_s) and dt_s > 0):
         raise ValidationError("<schedule>", "dt_s", f"a positive time step in s, got {dt_s!r}")
     drive = drive_for(chassis)
-    prof = speed_profile(segments, drive, Limits.from_chassis(chassis))
+    pieces = None
+    stops = tuple(getattr(route, "stops", ()) or ())
+    if stops or any(z.kind == "slow" for z in zones):
+        pieces = split_route(segments, chassis.footprint, zones,
+                             route.waypoints if route is not None else (), stops)
+        prof = speed_profile(pieces.pieces, drive, Limits.from_chassis(chassis),
+                             caps=[None if c is None else (c, SLOW_ZONE) for c in pieces.cap],
+                             rest_before=pieces.rest_before, dwell_s=pieces.dwell_s)
+    else:
+        prof = speed_profile(segments, drive, Limits.from_chassis(chassis))
     n = len(prof.segments)
 
     unit = _segment_unit_twists(prof)
@@ -209,7 +245,7 @@ def build_schedule(route_name: str, segments: Sequence[Segment], chassis,
     return Schedule(route_name, drive, prof,
                     {k: np.asarray(cruise_cmd.rate_radps[k]) for k in drive.wheel_names},
                     {k: np.asarray(unit_cmd.angle_rad[k]) for k in drive.steered_wheels},
-                    samples, float(dt_s), chassis)
+                    samples, float(dt_s), chassis, pieces)
 
 
 def _steer_in_holds(prof: SpeedProfile, drive: DriveModel, idx: NDArray, tau: NDArray,
@@ -281,12 +317,20 @@ def schedule_to_dict(s: Schedule) -> dict:
             row["curvature_start_per_m"] = seg.kappa0
             row["curvature_end_per_m"] = seg.kappa1
         row["wheels"] = _wheels(s.drive, s.cruise_rate_radps, s.cruise_angle_rad, i)
+        if s.pieces is not None:
+            row["plan_segment"] = s.pieces.plan_segment[i]
+            if s.pieces.zone[i]:
+                row["slow_zone"] = s.pieces.zone[i]
         segs.append(row)
     sm = s.samples
     curv = sample_curvature(s)
     samples = []
     for k in range(sm.t_s.size):
-        samples.append({
+        if s.pieces is not None:
+            samples.append({"plan_segment": s.pieces.plan_segment[int(sm.segment[k])]})
+        else:
+            samples.append({})
+        samples[-1].update({
             "t_s": float(sm.t_s[k]), "segment": int(sm.segment[k]),
             "station_m": float(sm.station_m[k]), "x": float(sm.x[k]), "y": float(sm.y[k]),
             "heading_deg": math.degrees(float(sm.heading_rad[k])), "v_mps": float(sm.v_mps[k]),
@@ -295,7 +339,7 @@ def schedule_to_dict(s: Schedule) -> dict:
             "curvature_per_m": float(curv[k]),
             "wheels": _wheels(s.drive, sm.rate_radps, sm.angle_rad, k),
         })
-    return {
+    out = {
         "meta": schedule_meta(s),
         "route": s.route,
         "drive": s.drive.name,
@@ -313,6 +357,9 @@ def schedule_to_dict(s: Schedule) -> dict:
         "segments": segs,
         "samples": samples,
     }
+    if s.pieces is not None:
+        out["stops"] = s.stop_rows()
+    return out
 
 
 def sample_curvature(s: Schedule) -> NDArray[np.float64]:
