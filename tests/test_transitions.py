@@ -141,7 +141,7 @@ def _schedule(name, transitions=None, dt=0.02):
     return plan, build_schedule("r20", plan.segments, c, dt_s=dt), c
 
 
-@pytest.mark.parametrize("name", ["differential", "bicycle", "ackermann"])
+@pytest.mark.parametrize("name", list(DRIVES3))
 def test_rates_and_steer_angles_change_within_their_limits(name):
     # Source: the continuity check - max |wheel-rate change| between samples <=
     # max_wheel_accel_radps2 * dt * 1.01, steer angle change <= max_steer_rate_dps * dt * 1.01.
@@ -154,6 +154,9 @@ def test_rates_and_steer_angles_change_within_their_limits(name):
         assert np.all(np.abs(np.diff(r)) <= c.max_wheel_accel_radps2 * dt * 1.01 + 1e-12), w
     for w, a in sm.angle_rad.items():
         lim = math.radians(c.max_steer_rate_dps)
+        # A module angle is kept in (-90, 90] deg with the rate's sign carrying the rest, so a
+        # half-turn flip (where the rate passes through 0) is no steering: unwrap it.
+        a = np.unwrap(a, period=math.pi)
         assert np.all(np.abs(np.diff(a)) <= lim * dt * 1.01 + 1e-12), w
     yaw_acc = np.abs(np.diff(sm.omega_radps)) / dt
     assert yaw_acc.max() <= math.radians(c.max_yaw_accel_dps2) * 1.01 + 1e-9
@@ -363,3 +366,28 @@ def test_doorway_clearance_with_and_without_transitions():
         assert truth - 0.002 <= chk.min_clearance_m <= truth + 0.0005
         got[tr] = chk.min_clearance_m
     assert got["clothoid"] - got["none"] == pytest.approx(0.0233, abs=0.002)
+
+
+@pytest.mark.parametrize("name", ["mecanum", "swerve"])
+def test_turning_holonomic_lines_keep_wheel_and_steer_rates(name):
+    # Source: the continuity check on lines whose body turns (the body-frame course
+    # changes with distance, so the wheel rates change even at constant speed).
+    from kinematics.plan.planner import plan_route
+    from kinematics.timing.schedule import build_schedule
+
+    c = DRIVES3[name]
+    wps = (Waypoint(0, 0, 0), Waypoint(8, 0, 90), Waypoint(8, 6, 180), Waypoint(2, 9, -60))
+    plan = plan_route(Route("turning", wps, 0.0), c)
+    assert any(s.kind == "line" and s.turn_rad != 0.0 for s in plan.segments)
+    sm = build_schedule("turning", plan.segments, c, dt_s=0.02).samples
+    dt = np.diff(sm.t_s)
+    assert np.all(dt > 0.0)
+    for w, r in sm.rate_radps.items():
+        # A swerve module's signed rate flips with its angle's half turn (the angle is kept in
+        # (-90, 90] deg); its rolling speed is what the wheel motor must change.
+        r = np.abs(r) if name == "swerve" else r
+        assert np.all(np.abs(np.diff(r)) <= c.max_wheel_accel_radps2 * dt * 1.01 + 1e-12), w
+    for w, a in sm.angle_rad.items():
+        a = np.unwrap(a, period=math.pi)
+        assert np.all(np.abs(np.diff(a)) <= math.radians(c.max_steer_rate_dps) * dt * 1.01
+                      + 1e-12), w

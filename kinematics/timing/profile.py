@@ -35,6 +35,9 @@ bounded over the piece (:func:`kinematics.plan.transitions.wheel_rate_bounds`):
   same split (all to ``kappa a`` on arcs); in a pivot it caps the yaw acceleration itself.
 - ``max_steer_rate_dps`` (bicycle, Ackermann): a steered wheel's angle changes at
   ``v sigma |d angle / d kappa|``, capping the speed on clothoids.
+- On a mecanum or swerve line whose body turns, the body-frame course changes with distance,
+  so the wheel rates (and swerve module angles) change at constant speed too: the same split
+  caps the speed there.
 - Where the curvature steps at a joint (a plain line/arc joint, transitions off) and a limit
   watches it (``max_wheel_accel_radps2`` or ``max_yaw_accel_dps2``: the rates would jump;
   ``max_steer_rate_dps``: the steer angle would), the chassis comes to rest there; where the
@@ -74,6 +77,9 @@ _STEP_PER_M = 1e-9
 _STEER_STEP_RAD = 1e-9
 #: Share of each rate-of-change limit left to speeding up and slowing down on a clothoid.
 ACCEL_SHARE = 0.5
+#: Slack on a derivative bounded by differences over a grid (its largest value may fall
+#: between grid points; 129 points over at most a half turn, common practice).
+_GRID_SLACK = 1.05
 
 
 @dataclass(frozen=True)
@@ -372,6 +378,8 @@ def _transition_caps(drive: DriveModel, seg: Segment, lim: Limits) -> dict[str, 
     """Speed caps on a clothoid from the rate-of-change limits (module docstring)."""
     sigma = abs(seg.sharpness)
     caps: dict[str, float] = {}
+    if _turning_line(seg):
+        return _turning_line_caps(drive, seg, lim)
     if seg.kind != "clothoid" or sigma == 0.0:
         return caps
     if lim.max_wheel_accel_radps2 is not None:
@@ -389,10 +397,45 @@ def _transition_caps(drive: DriveModel, seg: Segment, lim: Limits) -> dict[str, 
     return caps
 
 
+def _turning_line(seg: Segment) -> bool:
+    return seg.kind == "line" and seg.turn_rad != 0.0 and seg.length_m > 0.0
+
+
+def _turning_line_caps(drive: DriveModel, seg: Segment, lim: Limits) -> dict[str, float]:
+    """Speed caps on a holonomic line whose body turns: the body-frame course ``phi`` changes
+    at ``v |turn| / L``, so a wheel's rate ``v rho(phi)`` changes at ``a rho + v^2 rho'(phi)
+    |turn| / L`` and a steered module's angle at ``v A'(phi) |turn| / L`` (both bounded over
+    the line on a grid of courses, the angles unwrapped over their half-turn flips)."""
+    caps: dict[str, float] = {}
+    w = seg.turn_rad / seg.length_m
+    phi0 = seg.course - seg.start[2]
+    phi = np.linspace(phi0, phi0 - seg.turn_rad, 129)
+    one = np.ones_like(phi)
+    cmd = drive.inverse(np.cos(phi), np.sin(phi), w * one)
+    dphi = float(phi[1] - phi[0]) if phi.size > 1 else 1.0
+    per_turn = abs(w)  # d phi / d s
+    if lim.max_wheel_accel_radps2 is not None:
+        rates = cmd.rates(drive.wheel_names)
+        if drive.steered_wheels:  # a module's rate changes sign where its angle flips
+            rates = np.abs(rates)
+        g = float(np.max(np.abs(np.diff(rates, axis=0)))) / abs(dphi) * _GRID_SLACK
+        if g > 0.0:
+            caps["max_wheel_accel_radps2"] = math.sqrt(
+                (1.0 - ACCEL_SHARE) * lim.max_wheel_accel_radps2 / (g * per_turn))
+    if lim.max_steer_rate_radps is not None and drive.steered_wheels:
+        g = max(float(np.max(np.abs(np.diff(np.unwrap(np.asarray(cmd.angle_rad[k]),
+                                                            period=math.pi)))))
+                for k in drive.steered_wheels) / abs(dphi) * _GRID_SLACK
+        if g > 0.0:
+            caps["max_steer_rate_dps"] = lim.max_steer_rate_radps / (g * per_turn)
+    return caps
+
+
 def _travel_accel(drive: DriveModel, seg: Segment, lim: Limits) -> tuple[float, float, str, str]:
     """Acceleration and deceleration limits on a line, arc or clothoid, and the keys that set
-    them (module docstring: a clothoid leaves ``ACCEL_SHARE`` of each rate limit to them)."""
-    share = ACCEL_SHARE if seg.kind == "clothoid" else 1.0
+    them (module docstring: a clothoid, or a line whose body turns, leaves ``ACCEL_SHARE`` of
+    each rate limit to them)."""
+    share = ACCEL_SHARE if seg.kind == "clothoid" or _turning_line(seg) else 1.0
     acc, dec = lim.max_accel_mps2, lim.max_decel_mps2
     akey, dkey = "max_accel_mps2", "max_decel_mps2"
     if seg.length_m <= 0.0:
@@ -454,20 +497,22 @@ def _end_curvature(seg: Segment, end: bool) -> float:
     return seg.curvature
 
 
+def joint_angles(drive: DriveModel, seg: Segment, end: bool) -> dict:
+    """Steered-wheel angles (rad) at the start or end of a line, arc or clothoid, from its
+    direction of travel and curvature (a wheel at rest points where it must go)."""
+    k = _end_curvature(seg, end)
+    if seg.kind == "line" and (seg.course_rad is not None or seg.turn_rad != 0.0):
+        phi = seg.course - (seg.start[2] + (seg.turn_rad if end else 0.0))
+        return drive.inverse(np.cos(phi), np.sin(phi), k).angle_rad
+    d = float(seg.direction)
+    return drive.inverse(d, 0.0, d * k).angle_rad
+
+
 def _steer_step(drive: DriveModel, a: Segment, b: Segment) -> float:
     """Largest steered-wheel angle change (rad) across the joint of ``a`` and ``b``."""
     if not drive.steered_wheels or a.kind == "pivot" or b.kind == "pivot":
         return 0.0
-
-    def angles(seg: Segment, end: bool) -> dict:
-        k = _end_curvature(seg, end)
-        if seg.kind == "line" and (seg.course_rad is not None or seg.turn_rad != 0.0):
-            phi = seg.course - (seg.start[2] + (seg.turn_rad if end else 0.0))
-            return drive.inverse(np.cos(phi), np.sin(phi), k).angle_rad
-        d = float(seg.direction)
-        return drive.inverse(d, 0.0, d * k).angle_rad
-
-    ea, sb = angles(a, True), angles(b, False)
+    ea, sb = joint_angles(drive, a, True), joint_angles(drive, b, False)
     return max(abs(float(ea[w]) - float(sb[w])) for w in drive.steered_wheels)
 
 

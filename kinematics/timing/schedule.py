@@ -36,7 +36,7 @@ from kinematics.files.project import Route
 from kinematics.motion.arrays import unique_sorted
 from kinematics.motion.drives import DriveModel, drive_for
 from kinematics.motion.segments import Segment
-from kinematics.timing.profile import Limits, SpeedProfile, speed_profile
+from kinematics.timing.profile import Limits, SpeedProfile, joint_angles, speed_profile
 from kinematics.timing.zones import SLOW_ZONE, RoutePieces, StopAt, split_route
 
 SEGMENT_COLUMNS = ("index", "kind", "t0_s", "duration_s", "length_m", "v_start_mps",
@@ -261,10 +261,7 @@ def _steer_in_holds(prof: SpeedProfile, drive: DriveModel, idx: NDArray, tau: ND
         a, b = prof.segments[i - 1], prof.segments[i]
         m = (idx == i) & (tau < 0.0)
         f = np.clip(1.0 + tau[m] / h, 0.0, 1.0)
-        ka = a.kappa1 if a.kind == "clothoid" else a.curvature
-        kb = b.kappa0 if b.kind == "clothoid" else b.curvature
-        ea = drive.inverse(float(a.direction), 0.0, a.direction * ka).angle_rad
-        sb = drive.inverse(float(b.direction), 0.0, b.direction * kb).angle_rad
+        ea, sb = joint_angles(drive, a, True), joint_angles(drive, b, False)
         for w in drive.steered_wheels:
             angles[w][m] = float(ea[w]) + f * (float(sb[w]) - float(ea[w]))
 
