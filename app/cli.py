@@ -86,9 +86,15 @@ def cmd_plan(args: argparse.Namespace) -> int:
     from kinematics.plan.planner import plan_route
 
     project = load_project(args.project)
-    plans = [plan_route(r, project.chassis) for r in _selected_routes(project, args.route)]
+    routes = _selected_routes(project, args.route)
+    plans = [plan_route(r, project.chassis_for(r)) for r in routes]
     if args.json:
-        sys.stdout.write(dumps({"routes": [pl.to_dict() for pl in plans]}))
+        out = []
+        for r, pl in zip(routes, plans):
+            d = pl.to_dict()
+            d["chassis"] = project.chassis_for(r).name
+            out.append(d)
+        sys.stdout.write(dumps({"routes": out}))
         return EXIT_OK
     from kinematics.analysis.report_text import format_plan_text
 
@@ -98,7 +104,8 @@ def cmd_plan(args: argparse.Namespace) -> int:
 
 def cmd_check(args: argparse.Namespace) -> int:
     from kinematics.analysis.report_text import format_check_text
-    from kinematics.check.clearance import ObstacleIndex, check_route
+    from kinematics.analysis.results import check_with_vehicle
+    from kinematics.check.clearance import ObstacleIndex
     from kinematics.files.jsonio import dumps
     from kinematics.files.project import load_project
     from kinematics.plan.planner import plan_route
@@ -110,13 +117,16 @@ def cmd_check(args: argparse.Namespace) -> int:
     tol = args.tolerance_mm / 1000.0
     checks = []
     for route in _selected_routes(project, args.route):
-        plan = plan_route(route, project.chassis)
-        chk = check_route(plan, project.chassis, index, tolerance_m=tol, route_name=route.name,
-                          route=route)
+        chassis = project.chassis_for(route)
+        plan = plan_route(route, chassis)
+        chk = check_with_vehicle(plan, chassis, index, route=route, tolerance_m=tol)
         if args.sizing:
+            import dataclasses
+
             from kinematics.check.sizing import attach_sizing
 
-            chk = attach_sizing(chk, plan, project, index, tolerance_m=tol)
+            chk = attach_sizing(chk, plan, dataclasses.replace(project, chassis=chassis), index,
+                                tolerance_m=tol)
         checks.append(chk)
     if args.json:
         sys.stdout.write(dumps({"routes": [c.to_dict() for c in checks]}))
@@ -135,8 +145,9 @@ def cmd_schedule(args: argparse.Namespace) -> int:
         raise SwatheInputError("command line", "--dt", "expected a time step between 0 and 60 s")
     project = load_project(args.project)
     route = project.route(args.route)
-    plan = plan_route(route, project.chassis)
-    sched = build_schedule(route.name, list(plan.segments), project.chassis, dt_s=args.dt)
+    chassis = project.chassis_for(route)
+    plan = plan_route(route, chassis)
+    sched = build_schedule(route.name, list(plan.segments), chassis, dt_s=args.dt)
     text = schedule_to_csv(sched) if args.format == "csv" else dumps(schedule_to_dict(sched))
     if args.output:
         _check_output_path(args.output)
@@ -177,8 +188,8 @@ def cmd_render(args: argparse.Namespace) -> int:
         if not project.routes:
             raise SwatheInputError(args.project, "routes", "no route to plot")
         route = project.route(args.route) if args.route else project.routes[0]
-        plan = plan_route(route, project.chassis)
-        sched = build_schedule(route.name, list(plan.segments), project.chassis)
+        plan = plan_route(route, project.chassis_for(route))
+        sched = build_schedule(route.name, list(plan.segments), project.chassis_for(route))
         render_plot_png(sched, args.plots, size=(args.width, max(args.height * 7 // 10, 150)),
                         x_axis=args.plots_against)
     return EXIT_OK
