@@ -301,7 +301,10 @@ def _plots_in_gap(p: QPainter, rect: QRectF, project: Any, plans: dict, checks: 
 
             sched = build_schedule(name, list(plan.segments),
                                    project.chassis_for(name) if hasattr(project, "chassis_for")
-                                   else project.chassis)
+                                   else project.chassis,
+                                   zones=project.floorplan.zones,
+                                   route=next((r for r in project.routes if r.name == name),
+                                              None))
         except (SwatheInputError, ValueError):
             continue
         h = min(rect.height(), 520 * u)

@@ -79,8 +79,8 @@ def _bounds(m: TugMotion, hitches: Sequence[Hitch], r_far: Sequence[float]
     rate ``W``, and ``M``, a bound of any footprint point's path's second derivative, true or
     stand-in (see the module text)."""
     V = m.speed_bound()
-    W = abs(m.w)
-    Wd = 0.0
+    W = m.turn_bound()
+    Wd = abs(m.wd)
     A = W * V if m.fixed is None else 0.0  # |d/dp velocity| of the tug's reference point
     out = []
     first = True
