@@ -38,6 +38,7 @@ from PySide6.QtWidgets import (
     QWidget,
 )
 
+from kinematics.analysis.results import VIOLATION_WORDS, violation_label  # noqa: F401
 from kinematics.files.project import Waypoint
 from kinematics.motion.segments import Segment
 
@@ -54,13 +55,12 @@ from .palette import (  # noqa: F401 - the whole set, as other views import it f
     WALL_FILL,
     YELLOW,
 )
+from .zone_paint import ZONE_STYLE, zone_brush
 
-# Marker shape per violation kind (pyqtgraph symbol names) and the word shown beside it.
+# Marker shape per violation kind (pyqtgraph symbol names); the words beside them are the
+# analysis's (kinematics.analysis.results.VIOLATION_WORDS).
 VIOLATION_SYMBOLS = {"collision": "x", "clearance": "t", "turn_radius": "s",
                      "infeasible": "star", "waypoint_blocked": "d"}
-VIOLATION_WORDS = {"collision": "overlap", "clearance": "short of margin",
-                   "turn_radius": "radius short", "infeasible": "no connection",
-                   "waypoint_blocked": "blocked"}
 
 HIT_PX = 9.0  # how close (pixels) a press must be to grab a waypoint or handle
 HANDLE_PX = 42.0  # length of a heading handle on screen
@@ -133,7 +133,7 @@ def sample_segments(segments: Sequence[Segment], step_m: float = 0.05,
     for i, seg in enumerate(segments):
         hit = cache.get((seg, step_m)) if cache is not None else None
         if hit is None:
-            if seg.kind == "arc":
+            if seg.kind in ("arc", "clothoid"):
                 n = max(2, int(math.ceil(max(seg.length_m / step_m,
                                              abs(seg.turn_rad) / math.radians(3.0)))) + 1)
             elif seg.kind == "line":
@@ -492,6 +492,17 @@ class PlanCanvas(QWidget):
         # The floor plan does not change during a drag: its items repaint from cached pixels.
         for it in (self.walls_item, self.obstacles_item):
             it.setCacheMode(QGraphicsItem.CacheMode.DeviceCoordinateCache)
+        # Zones under the solids: a faint fill per kind and the kind's outline style (the
+        # picture adds hatching; here patterns would scale with the zoom).
+        self.zone_items = {}
+        for kind in ZONE_STYLE:
+            fill, _hatch, zpen = zone_brush(kind, alpha=55)
+            it = QGraphicsPathItem()
+            it.setPen(zpen)
+            it.setBrush(fill)
+            it.setZValue(-6)
+            add(it)
+            self.zone_items[kind] = it
         self.doors_item = _Polyline(_pen(ORANGE, 4.0))
         self.doors_item.setZValue(1)
         add(self.doors_item)
@@ -612,6 +623,9 @@ class PlanCanvas(QWidget):
         obst = [s.geometry for s in sol if s.kind == "obstacle"]
         self.walls_item.setPath(polygons_path(walls))
         self.obstacles_item.setPath(polygons_path(obst))
+        zk = index.zones
+        for kind, it in self.zone_items.items():
+            it.setPath(polygons_path(list(getattr(zk, kind).geometries)))
         self._solid_geoms = [s.geometry for s in sol]
         self._solids_tree = index.tree if sol else None
         dx, dy = [], []
@@ -854,9 +868,7 @@ class PlanCanvas(QWidget):
         taken = [(v.x - half, v.y - half, v.x + half, v.y + half) for v in vs]
         taken += [_plan_box(t, px) for t in self.plan_labels if t.isVisible()]
         for t, v in zip(labels, shown):
-            word = VIOLATION_WORDS.get(v.kind, v.kind)
-            _set_text(t, f"{word} {v.amount_m * 1000:.0f} mm" if v.kind != "infeasible"
-                      else word)
+            _set_text(t, violation_label(v))
             t.setPos(v.x, v.y)
             # The first of four places round the marker that covers nothing above; a label with
             # no free place is hidden (its marker stays, and the results panel lists it).
@@ -1125,6 +1137,13 @@ class PlanCanvas(QWidget):
         # schedule table and the files; waypoints are numbered from 1 everywhere.
         parts = [f"{cur.name}: station {s:.2f} m", f"segment {seg_i} ({seg.kind}"
                  + (", reverse)" if seg.direction < 0 else ")")]
+        local = min(max(s - float(sum(g.length_m for g in plan.segments[:seg_i])), 0.0),
+                    seg.length_m)
+        kappa = float(seg.curvature_at(local)) if seg.kind in ("arc", "clothoid") else 0.0
+        if kappa != 0.0:
+            parts.append(f"curvature {kappa:+.3f} /m (R {1.0 / abs(kappa):.2f} m)")
+        elif seg.kind in ("line", "clothoid"):
+            parts.append("curvature 0 /m")
         clear = self.clearance_at(pose)
         if clear is not None:
             parts.append(f"clearance {clear * 1000:.0f} mm")
@@ -1134,7 +1153,8 @@ class PlanCanvas(QWidget):
         if wheels:
             parts.append("wheels " + ", ".join(f"{n} {r:+.1f} rad/s" for n, r in wheels))
         return {"x": float(pose[0]), "y": float(pose[1]), "station_m": s, "segment": seg_i,
-                "clearance_m": clear, "speed_mps": speed, "wheels": dict(wheels),
+                "curvature_per_m": kappa, "clearance_m": clear, "speed_mps": speed,
+                "wheels": dict(wheels),
                 "text": "; ".join(parts)}
 
     def clearance_at(self, pose: Sequence[float]) -> float | None:

@@ -40,7 +40,7 @@ from PySide6.QtWidgets import (
 
 from kinematics.analysis.report_text import CAUTION as SAFETY_CAUTION
 from kinematics.errors import SwatheInputError
-from kinematics.files.project import Route, Waypoint
+from kinematics.files.project import Route, Waypoint, route_transitions
 
 from .autosave import AutosaveEntry, Autosaver, discard, pending_autosaves, recover_into
 from .canvas import PlanCanvas
@@ -51,6 +51,8 @@ DEMO_PROJECT = SAMPLES / "demo.swathe.json"
 PROJECT_FILTER = "Swathe projects (*.swathe.json);;JSON (*.json);;All files (*)"
 FLOOR_FILTER = ("Floor plans (*.floor.json *.dxf *.svg);;Swathe floor plan (*.floor.json);;"
                 "DXF drawing (*.dxf);;SVG drawing (*.svg);;All files (*)")
+OPEN_FILTER = ("Swathe projects (*.swathe.json);;Floor plans, for a new project "
+               "(*.floor.json *.dxf *.svg);;JSON (*.json);;All files (*)")
 MAX_RECENT = 8
 ROLES = ("ignore", "walls", "obstacles", "doors")
 
@@ -161,6 +163,7 @@ class MainWindow(QMainWindow):
         d.routesChanged.connect(self._refresh_route_bar)
         d.currentRouteChanged.connect(self._refresh_route_bar)
         d.projectReplaced.connect(self._refresh_route_bar)
+        d.chassisChanged.connect(self._refresh_route_bar)  # the transitions default follows it
         d.resultsChanged.connect(self._refresh_summary)
         d.currentRouteChanged.connect(lambda _i: self._refresh_summary())
         self.canvas.cursorMoved.connect(self._cursor)
@@ -191,6 +194,10 @@ class MainWindow(QMainWindow):
         K = QKeySequence.StandardKey
         self.act_new = self._act("&New project", self._menu_new, K.New)
         self.act_open = self._act("&Open project...", self._menu_open, K.Open)
+        self.act_new_from_plan = self._act("New project from floor p&lan...",
+                                           self._menu_new_from_plan, None,
+                                           "Start a new project on a floor plan "
+                                           "(*.floor.json, DXF or SVG)")
         self.act_open_plan = self._act("Open &floor plan...", self._menu_open_plan,
                                        QKeySequence("Ctrl+Shift+O"),
                                        "Use a floor plan (*.floor.json, DXF or SVG)")
@@ -237,7 +244,7 @@ class MainWindow(QMainWindow):
     def _build_menus(self) -> None:
         mb = self.menuBar()
         f = mb.addMenu("&File")
-        for a in (self.act_new, self.act_open, self.act_open_plan):
+        for a in (self.act_new, self.act_new_from_plan, self.act_open, self.act_open_plan):
             f.addAction(a)
         self.recent_menu = f.addMenu("Open &recent")
         f.addSeparator()
@@ -318,6 +325,13 @@ class MainWindow(QMainWindow):
         self.reverse_check.setToolTip("Allow reversing where the drive can reverse")
         self.reverse_check.clicked.connect(self._reverse_edited)
         bar.addWidget(self.reverse_check)
+        self.transitions_check = QCheckBox("Transition curves")
+        self.transitions_check.setToolTip(
+            "Ease into and out of every turn with clothoids, so curvature, wheel rates and "
+            "steer angles change smoothly (route key transitions; unset, it is on when the "
+            "chassis gives a wheel-accel, yaw-accel or steer-rate limit)")
+        self.transitions_check.clicked.connect(self._transitions_edited)
+        bar.addWidget(self.transitions_check)
         self.addToolBar(bar)
 
     def _dock(self, title: str, name: str, widget: QWidget,
@@ -481,8 +495,8 @@ class MainWindow(QMainWindow):
             self.route_combo.setCurrentIndex(self.doc.current_route)
         self.route_combo.blockSignals(False)
         r = self.doc.route()
-        for w in (self.radius_spin, self.reverse_check, self.act_route_rename,
-                  self.act_route_remove, self.act_export):
+        for w in (self.radius_spin, self.reverse_check, self.transitions_check,
+                  self.act_route_rename, self.act_route_remove, self.act_export):
             w.setEnabled(r is not None)
         if r is not None:
             if self.radius_spin.value() != r.turn_radius_m:
@@ -491,6 +505,9 @@ class MainWindow(QMainWindow):
                 self.radius_spin.blockSignals(False)
             if self.reverse_check.isChecked() != r.reverse:
                 self.reverse_check.setChecked(r.reverse)
+            cc = route_transitions(r, self.doc.project.chassis) == "clothoid"
+            if self.transitions_check.isChecked() != cc:
+                self.transitions_check.setChecked(cc)
         self._selection_changed(self.canvas.selected)
 
     def new_route(self, name: str | None = None) -> None:
@@ -528,6 +545,12 @@ class MainWindow(QMainWindow):
         v = round(self.radius_spin.value(), 4)
         if r is not None and v != r.turn_radius_m:
             self.doc.set_route(self.doc.current_route, dataclasses.replace(r, turn_radius_m=v))
+
+    def _transitions_edited(self, on: bool) -> None:
+        r = self.doc.route()
+        want = "clothoid" if on else "none"
+        if r is not None and r.transitions != want:
+            self.doc.set_route(self.doc.current_route, dataclasses.replace(r, transitions=want))
 
     def _reverse_edited(self, on: bool) -> None:
         r = self.doc.route()
@@ -574,8 +597,34 @@ class MainWindow(QMainWindow):
             return self._menu_save()
         return ans == QMessageBox.StandardButton.Discard
 
+    @staticmethod
+    def is_floorplan_path(path: str | Path) -> bool:
+        """A floor-plan file (native, DXF or SVG) rather than a project."""
+        p = Path(path)
+        return p.name.lower().endswith(".floor.json") or p.suffix.lower() in (".dxf", ".svg")
+
+    def ask_new_from_plan(self, path: Path) -> bool:
+        """Asked when Open project is given a floor plan: start a new project on it?"""
+        ans = QMessageBox.question(
+            self, "Open a floor plan",
+            f"{path.name} is a floor plan, not a project.\n\nStart a new project on it?",
+            QMessageBox.StandardButton.Yes | QMessageBox.StandardButton.Cancel)
+        return ans == QMessageBox.StandardButton.Yes
+
+    def new_project_from_floorplan(self, path: str | Path, options: dict[str, Any] | None = None,
+                                   background: bool = True) -> bool:
+        """A new project (default chassis, no routes) on the floor plan at ``path``."""
+        self.doc.new_project()
+        return self.open_floorplan_file(path, options, background)
+
     def open_project_file(self, path: str | Path) -> bool:
-        """Open a project; a bad file shows one message and keeps the current document."""
+        """Open a project; a bad file shows one message and keeps the current document.
+
+        Given a floor plan instead, offers a new project on it."""
+        if self.is_floorplan_path(path):
+            if not self.ask_new_from_plan(Path(path)):
+                return False
+            return self.new_project_from_floorplan(path)
         try:
             self.doc.open_project(path)
         except SwatheInputError as exc:
@@ -808,9 +857,17 @@ class MainWindow(QMainWindow):
         if not self.confirm_discard():
             return
         path, _ = QFileDialog.getOpenFileName(self, "Open project", self._start_dir(),
-                                              PROJECT_FILTER)
+                                              OPEN_FILTER)
         if path:
             self.open_project_file(path)
+
+    def _menu_new_from_plan(self) -> None:
+        if not self.confirm_discard():
+            return
+        path, _ = QFileDialog.getOpenFileName(self, "New project from floor plan",
+                                              self._start_dir(), FLOOR_FILTER)
+        if path:
+            self.new_project_from_floorplan(path)
 
     def _menu_open_plan(self) -> None:
         path, _ = QFileDialog.getOpenFileName(self, "Open floor plan", self._start_dir(),

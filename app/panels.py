@@ -45,6 +45,14 @@ from PySide6.QtWidgets import (
     QWidget,
 )
 
+from kinematics.analysis.results import (
+    VIOLATION_WORDS,
+    door_results,
+    sizing_answers,
+    sizing_lines,
+    violation_label,
+    violations_of,
+)
 from kinematics.errors import SwatheInputError
 from kinematics.files.project import DRIVES, Chassis, chassis_from_dict
 
@@ -55,12 +63,8 @@ from .render import (
     FAINT_INK,
     INK,
     VERMILLION,
-    VIOLATION_WORDS,
-    door_results,
     draw_marker,
     pen,
-    violation_label,
-    violations_of,
 )
 from .workers import Cancelled, CancelToken, Job, run_in_background
 
@@ -111,6 +115,9 @@ LIMIT_FIELDS = (
     ("max_wheel_rate_radps", "Max wheel rate (rad/s)", 0.0, 1000.0, 1, 0.5, True),
     ("max_lateral_accel_mps2", "Max lateral accel (m/s\u00b2)", 0.0, 50.0, 2, 0.05, True),
     ("max_yaw_rate_dps", "Max yaw rate (deg/s)", 0.0, 3600.0, 1, 5.0, True),
+    ("max_wheel_accel_radps2", "Max wheel accel (rad/s\u00b2)", 0.0, 10000.0, 1, 0.5, True),
+    ("max_yaw_accel_dps2", "Max yaw accel (deg/s\u00b2)", 0.0, 100000.0, 1, 5.0, True),
+    ("max_steer_rate_dps", "Max steer rate (deg/s)", 0.0, 7200.0, 1, 5.0, True),
 )
 FIELD_LABELS = {k: lab for k, lab, *_ in DIMENSION_FIELDS + LIMIT_FIELDS}
 FIELD_TIPS = {
@@ -125,6 +132,11 @@ FIELD_TIPS = {
     "max_wheel_rate_radps": "none: no wheel-rate limit",
     "max_lateral_accel_mps2": "Caps the speed on arcs (v\u00b2 / R); none: no cap",
     "max_yaw_rate_dps": "Caps turning speed on arcs and pivots; none: no cap",
+    "max_wheel_accel_radps2": "How fast any wheel's rate may change; with it routes get "
+                              "transition curves (clothoids) unless a route says none",
+    "max_yaw_accel_dps2": "How fast the yaw rate may change (turn-in and pivots); none: no cap",
+    "max_steer_rate_dps": "Bicycle and Ackermann: how fast the steered wheels may turn; none: "
+                          "instantaneous",
 }
 FIELD_LABELS.update({"footprint": "Footprint", "drive": "Drive", "name": "Name"})
 
@@ -535,8 +547,10 @@ class ChassisPanel(QWidget):
 
     def candidate(self) -> Chassis:
         """The chassis the form describes (raises :class:`SwatheInputError` if invalid)."""
-        return chassis_from_form(self.form_values(), self.footprint_rows(),
-                                 self.doc.project.chassis.extra)
+        c = chassis_from_form(self.form_values(), self.footprint_rows(),
+                              self.doc.project.chassis.extra)
+        # The form edits the tug; the trailers it tows are kept.
+        return dataclasses.replace(c, trailers=self.doc.project.chassis.trailers)
 
     def _apply(self, *_args) -> None:
         if self._loading:
@@ -642,80 +656,16 @@ def _table(headers: list[str]) -> QTableWidget:
 
 def compute_sizing(project: Any, route_name: str, token: CancelToken,
                    tolerance_m: float | None = None) -> dict:
-    """The sizing answers for one route (runs in the background).
-
-    Returns
-    -------
-    dict
-        :func:`kinematics.check.sizing.sizing_dict` (``widest``, ``longest``, ``doors``) plus
-        ``route``: what the check JSON's ``sizing`` holds, for display and for the report.
+    """The sizing answers for one route, in the background: the core's
+    :func:`kinematics.analysis.results.sizing_answers` reporting to and cancelled by ``token``.
     """
-    from kinematics.check import sizing
-    from kinematics.check.clearance import ObstacleIndex
-    from kinematics.plan.planner import plan_route
+    from kinematics.check.sizing import SizingCancelled
 
-    route = project.route(route_name)
-    token.report(0.0, "planning the route")
-    plan = plan_route(route, project.chassis)
-    token.report(0.01, "building the obstacle index")
-    index = ObstacleIndex(project.floorplan)
-    token.raise_if_cancelled()
-
-    def progress(f: float) -> None:
-        f = max(0.0, min(1.0, float(f)))
-        what = ("widest footprint that clears" if f < 0.4 else
-                "longest footprint that clears" if f < 0.8 else "door widths needed")
-        token.report(0.01 + 0.99 * f, what)
-
-    kw: dict[str, Any] = {"progress": progress, "cancel": token}
-    if tolerance_m is not None:
-        kw["tolerance_m"] = tolerance_m
     try:
-        out = sizing.sizing_dict(plan, project.chassis, index, **kw)
-    except sizing.SizingCancelled:
+        return sizing_answers(project, route_name, progress=token.report, cancel=token,
+                              tolerance_m=tolerance_m)
+    except SizingCancelled:
         raise Cancelled() from None
-    out = dict(out)
-    out["route"] = route_name
-    token.report(1.0, "done")
-    return out
-
-
-def sizing_lines(answers: dict) -> list[str]:
-    """Readable lines for the sizing answers (the panel and the report share them).
-
-    ``answers`` is the check JSON's ``sizing`` object (:func:`kinematics.check.sizing.sizing_dict`).
-    """
-    lines = []
-    for key, words in (("widest", "Widest footprint that clears"),
-                       ("longest", "Longest footprint that clears")):
-        d = answers.get(key)
-        if not isinstance(d, dict):
-            continue
-        cur = d.get("current_m")
-        now = f" (now {cur:.3f} m)" if isinstance(cur, (int, float)) else ""
-        mx = d.get("max_m")
-        if mx is None:
-            lines.append(f"{words}: none \u2014 even a sliver of this outline is in the way"
-                         + now)
-        elif d.get("bounded", True) is False:
-            lines.append(f"{words}: at least {mx:.3f} m (the search stopped there){now}")
-        else:
-            lines.append(f"{words}: {mx:.3f} m{now}")
-    doors = answers.get("doors") or []
-    for d in doors:
-        if not isinstance(d, dict):
-            continue
-        label = d.get("label") or f"door {d.get('door', '?')}"
-        need = d.get("width_needed_m")
-        have = d.get("width_m")
-        is_ = f" (is {have:.3f} m)" if isinstance(have, (int, float)) else ""
-        if need is None:
-            lines.append(f"Door {label}: widening it alone does not clear{is_}")
-        else:
-            lines.append(f"Door {label} needs {need:.3f} m{is_}")
-    if not doors and ("widest" in answers or "longest" in answers):
-        lines.append("No door on this route.")
-    return lines
 
 
 class ResultsPanel(QWidget):

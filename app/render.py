@@ -16,7 +16,6 @@ from __future__ import annotations
 
 import math
 from collections.abc import Sequence
-from dataclasses import dataclass
 from pathlib import Path
 from typing import Any
 
@@ -36,6 +35,17 @@ from PySide6.QtGui import (
 )
 
 from kinematics.analysis.report_text import CAUTION
+from kinematics.analysis.results import (  # noqa: F401 - re-exported for older callers
+    VIOLATION_WORDS,
+    RouteResult,
+    compute_results,
+    door_clearances,
+    door_results,
+    project_title,
+    verdict_text,
+    violation_label,
+    violations_of,
+)
 
 from .palette import (  # noqa: F401 - re-exported for the report and tests
     BLACK,
@@ -49,6 +59,7 @@ from .palette import (  # noqa: F401 - re-exported for the report and tests
     WALL_FILL,
     YELLOW,
 )
+from .zone_paint import ZONE_STYLE, ZONE_WORDS, draw_zone_sample, draw_zones, zone_caption
 
 INK = "#1A1A1A"
 FAINT_INK = "#5C5C5C"
@@ -57,15 +68,12 @@ BAND_RGBA = (86, 180, 233, 110)
 #: Route path colours in turn (one per route), all dark enough on white.
 ROUTE_COLOURS = (BLUE, PURPLE, ORANGE, BLACK, GREEN)
 
-#: Word shown beside each violation kind's marker, and in legends.
-VIOLATION_WORDS = {"collision": "overlap", "clearance": "short of margin",
-                   "turn_radius": "radius short", "infeasible": "no connection",
-                   "waypoint_blocked": "waypoint blocked"}
 #: How many violation labels (the worst first) are drawn even where they must overlap.
 FORCED_VIOLATION_LABELS = 8
 #: Marker shape per violation kind (drawn by :func:`marker_path`).
 VIOLATION_SHAPES = {"collision": "cross", "clearance": "triangle", "turn_radius": "square",
-                    "infeasible": "star", "waypoint_blocked": "diamond"}
+                    "infeasible": "star", "waypoint_blocked": "diamond", "keep_out": "hexagon",
+                    "wrong_way": "chevron"}
 
 
 def ensure_app() -> QGuiApplication:
@@ -117,61 +125,6 @@ def nice_length(target: float) -> float:
     return 10 ** e
 
 
-# -- results --------------------------------------------------------------------------------
-@dataclass
-class RouteResult:
-    """What the picture and the report need of one route."""
-
-    name: str
-    plan: Any = None
-    check: Any = None
-    error: str | None = None
-
-
-def compute_results(project: Any, route_name: str | None = None,
-                    tolerance_m: float | None = None) -> tuple[dict, dict, dict]:
-    """Plan and check every route (or just ``route_name``).
-
-    Returns
-    -------
-    plans, checks, errors : dict
-        By route name: the ``RoutePlan`` (or ``None``), the ``RouteCheck`` (or ``None`` when
-        the route could not be checked) and the one-line reason where something failed.
-    """
-    from kinematics.errors import SwatheInputError
-    from kinematics.plan.planner import plan_route
-
-    routes = [project.route(route_name)] if route_name is not None else list(project.routes)
-    plans: dict[str, Any] = {}
-    checks: dict[str, Any] = {}
-    errors: dict[str, str] = {}
-    index = None
-    for r in routes:
-        try:
-            plans[r.name] = plan_route(r, project.chassis)
-        except (SwatheInputError, ValueError) as exc:
-            plans[r.name] = None
-            checks[r.name] = None
-            errors[r.name] = getattr(exc, "message", None) or f"route {r.name!r}: {exc}"
-            continue
-        try:
-            from kinematics.check.clearance import ObstacleIndex, check_route
-
-            if index is None:
-                index = ObstacleIndex(project.floorplan)
-            kw = {"route_name": r.name}
-            if tolerance_m is not None:
-                kw["tolerance_m"] = tolerance_m
-            checks[r.name] = check_route(plans[r.name], project.chassis, index, **kw)
-        except ImportError:
-            checks[r.name] = None
-            errors[r.name] = "the clearance check is not available in this build"
-        except (SwatheInputError, ValueError) as exc:
-            checks[r.name] = None
-            errors[r.name] = getattr(exc, "message", None) or f"route {r.name!r}: {exc}"
-    return plans, checks, errors
-
-
 def swept_geometry(footprint: Sequence[tuple[float, float]], segments: Sequence[Any],
                    check: Any = None) -> Any:
     """The swept area of a route as one shapely geometry (``None`` if it cannot be had).
@@ -197,61 +150,6 @@ def swept_geometry(footprint: Sequence[tuple[float, float]], segments: Sequence[
     return getattr(geom, "geometry", geom)
 
 
-def violations_of(check: Any) -> list[Any]:
-    return list(getattr(check, "violations", None) or []) if check is not None else []
-
-
-def door_results(check: Any) -> list[dict]:
-    """The doors a check reports, as ``{"label", "min_clearance_m", ...}`` dicts."""
-    if check is None:
-        return []
-    out = []
-    for d in getattr(check, "doors", None) or []:
-        if isinstance(d, dict):
-            out.append(dict(d))
-        elif hasattr(d, "to_dict"):
-            out.append(d.to_dict())
-        else:
-            out.append({"label": getattr(d, "label", ""),
-                        "min_clearance_m": getattr(d, "min_clearance_m", None)})
-    return out
-
-
-def verdict_text(checks: dict, errors: dict | None = None) -> tuple[str, bool | None]:
-    """One line for the title, and ``True`` clear / ``False`` not / ``None`` unknown."""
-    errors = errors or {}
-    known = [c for c in checks.values() if c is not None]
-    if not checks:
-        return "NO ROUTES", None
-    if not known:
-        return "NOT CHECKED", None
-    n = sum(len(violations_of(c)) for c in known)
-    mins = [c.min_clearance_m for c in known
-            if getattr(c, "min_clearance_m", None) is not None
-            and math.isfinite(c.min_clearance_m)]
-    tail = f", min clearance {min(mins):.3f} m" if mins else ""
-    unchecked = len(checks) - len(known)
-    extra = f" ({unchecked} route{'s' if unchecked != 1 else ''} not checked)" if unchecked else ""
-    clear = all(getattr(c, "clear", False) for c in known) and n == 0
-    if clear and not unchecked:
-        return f"CLEAR{tail}", True
-    if clear:
-        return f"CLEAR{tail}{extra}", None
-    return f"{n} VIOLATION{'S' if n != 1 else ''}{tail}{extra}", False
-
-
-def project_title(project: Any) -> str:
-    """A name for the project: its file name without the suffixes, else the plan's name."""
-    path = getattr(project, "path", None)
-    if path is not None:
-        name = Path(path).name
-        for suffix in (".swathe.json", ".json"):
-            if name.endswith(suffix):
-                return name[: -len(suffix)]
-        return name
-    return project.floorplan.name or "untitled project"
-
-
 # -- geometry helpers -----------------------------------------------------------------------
 def sample_path(segments: Sequence[Any], step_rad: float = math.radians(3.0)
                 ) -> list[tuple[np.ndarray, int, int]]:
@@ -262,6 +160,8 @@ def sample_path(segments: Sequence[Any], step_rad: float = math.radians(3.0)
             continue
         if seg.kind == "arc":
             n = max(2, int(math.ceil(abs(seg.turn_rad) / step_rad)) + 1)
+        elif seg.kind == "clothoid":
+            n = max(2, int(math.ceil(seg.length_m * seg.max_abs_curvature / step_rad)) + 2)
         else:
             n = 2
         p = seg.poses_at_fraction(np.linspace(0.0, 1.0, n))
@@ -321,6 +221,15 @@ def marker_path(shape: str, centre: QPointF, r: float) -> QPainterPath:
     elif shape == "diamond":
         path.addPolygon(QPolygonF([QPointF(x, y - r), QPointF(x + r, y), QPointF(x, y + r),
                                    QPointF(x - r, y)]))
+    elif shape == "hexagon":
+        path.addPolygon(QPolygonF([QPointF(x + r * math.cos(k * math.pi / 3),
+                                           y + r * math.sin(k * math.pi / 3))
+                                   for k in range(6)]))
+    elif shape == "chevron":
+        w = r * 0.45
+        path.addPolygon(QPolygonF([QPointF(x - r, y - r), QPointF(x - r + w, y - r),
+                                   QPointF(x + r, y), QPointF(x - r + w, y + r),
+                                   QPointF(x - r, y + r), QPointF(x + r - w - w * 0.5, y)]))
     else:
         path.addEllipse(centre, r, r)
     path.closeSubpath()
@@ -331,14 +240,6 @@ def draw_marker(p: QPainter, kind: str, centre: QPointF, r: float) -> None:
     p.setPen(pen(BLACK, max(1.0, r * 0.16)))
     p.setBrush(QBrush(QColor(VERMILLION)))
     p.drawPath(marker_path(VIOLATION_SHAPES.get(kind, "circle"), centre, r))
-
-
-def violation_label(v: Any) -> str:
-    word = VIOLATION_WORDS.get(v.kind, v.kind)
-    amount = getattr(v, "amount_m", None)
-    if v.kind == "infeasible" or amount is None or not math.isfinite(amount):
-        return word
-    return f"{word} {amount * 1000:.0f} mm"
 
 
 class _View:
@@ -583,7 +484,9 @@ def _draw(p: QPainter, project: Any, plans: dict, checks: dict, route_name: str 
     p.setClipRect(plan_rect)
 
     _draw_grid(p, view, plan_rect, u)
+    draw_zones(p, project.floorplan.zones, view.pt, view.scale, u)
     _draw_floorplan(p, view, project.floorplan, u, labels)
+    _zone_captions(p, view, project.floorplan.zones, u, labels)
     # Swept bands first, so paths, outlines and markers sit on top of them.
     p.setPen(Qt.PenStyle.NoPen)
     p.setBrush(QBrush(QColor(*BAND_RGBA)))
@@ -609,7 +512,7 @@ def _draw(p: QPainter, project: Any, plans: dict, checks: dict, route_name: str 
         _draw_title(p, project, plans, checks, route_name, errors, W, title_h, u, f_title,
                     f_sub)
     _draw_legend(p, QRectF(W - legend_w - m, plan_rect.top(), legend_w, plan_rect.height()),
-                 routes, checks, u, f_label, f_small)
+                 routes, checks, u, f_label, f_small, project.floorplan.zones)
     if footer:
         p.setPen(QColor(FAINT_INK))
         p.setFont(font(10.5 * u))
@@ -685,13 +588,7 @@ def _draw_floorplan(p: QPainter, view: _View, fp: Any, u: float,
 
 def _draw_doors(p: QPainter, view: _View, fp: Any, checks: dict, u: float) -> list:
     """Draw the door openings; returns their labels for :func:`_door_labels`."""
-    clear_by_label: dict[str, float] = {}
-    for chk in checks.values():
-        for d in door_results(chk):
-            v = d.get("min_clearance_m")
-            lab = d.get("label", "")
-            if v is not None:
-                clear_by_label[lab] = min(v, clear_by_label.get(lab, math.inf))
+    clear_by_label = door_clearances(checks)
     pending: list[tuple[bool, QPointF, str]] = []
     for d in fp.doors:
         a, b = view.pt(*d.a), view.pt(*d.b)
@@ -890,9 +787,43 @@ def _draw_title(p: QPainter, project: Any, plans: dict, checks: dict, route_name
                fms.elidedText(sub, Qt.TextElideMode.ElideRight, left.width()))
 
 
-def _legend_rows(routes: Sequence[Any], checks: dict) -> list[tuple[str, str, Any]]:
+def _zone_captions(p: QPainter, view: _View, zones: Sequence[Any], u: float,
+                   labels: _Labels) -> None:
+    """Each zone's label and number inside it, where it fits and nothing is there yet."""
+    from shapely.geometry import Polygon
+
+    f = font(10.5 * u)
+    fm = QFontMetricsF(f)
+    p.setFont(f)
+    for z in zones:
+        poly = Polygon(z.points)
+        if not poly.is_valid or poly.area <= 0:
+            continue
+        text = zone_caption(z)
+        c = poly.representative_point()
+        # Near the zone's top edge, where a route through its middle leaves it readable.
+        top = view.pt(c.x, poly.bounds[3])
+        r = QRectF(0, 0, fm.horizontalAdvance(text) + 6, fm.height())
+        r.moveCenter(QPointF(top.x(), top.y() + 4 * u + fm.height() / 2))
+        if not view.pt(c.x, poly.bounds[1]).y() - top.y() > 2 * fm.height():
+            r.moveCenter(view.pt(c.x, c.y))
+        if not labels.bounds.contains(r):
+            continue
+        labels.block(r)
+        p.setPen(Qt.PenStyle.NoPen)
+        p.setBrush(QBrush(qcolor("#FFFFFF", 215)))
+        p.drawRect(r)
+        p.setPen(QColor(ZONE_STYLE[z.kind][0]).darker(140))
+        p.drawText(r, Qt.AlignmentFlag.AlignCenter, text)
+
+
+def _legend_rows(routes: Sequence[Any], checks: dict, zones: Sequence[Any] = ()
+                 ) -> list[tuple[str, str, Any]]:
     rows: list[tuple[str, str, Any]] = [("wall", "wall", None), ("obstacle", "obstacle", None),
                                         ("door", "door opening (width, clearance)", None)]
+    for kind in ZONE_STYLE:
+        if any(z.kind == kind for z in zones):
+            rows.append(("zone", ZONE_WORDS[kind], kind))
     for k, r in enumerate(routes):
         rows.append(("path", f"route {r.name}", ROUTE_COLOURS[k % len(ROUTE_COLOURS)]))
     rows += [("reverse", "driven in reverse", None), ("pivot", "turn on the spot", None),
@@ -904,14 +835,16 @@ def _legend_rows(routes: Sequence[Any], checks: dict) -> list[tuple[str, str, An
             if v.kind not in kinds:
                 kinds.append(v.kind)
     for kind in VIOLATION_SHAPES:
+        if kind in ("keep_out", "wrong_way") and kind not in kinds:
+            continue  # zone rules: listed when a route breaks one
         rows.append(("violation", VIOLATION_WORDS[kind] + ("" if kind in kinds else
                                                            " (none)"), kind))
     return rows
 
 
 def _draw_legend(p: QPainter, rect: QRectF, routes: Sequence[Any], checks: dict, u: float,
-                 f: QFont, f_small: QFont) -> None:
-    rows = _legend_rows(routes, checks)
+                 f: QFont, f_small: QFont, zones: Sequence[Any] = ()) -> None:
+    rows = _legend_rows(routes, checks, zones)
     row_h = 25 * u
     head_h = 28 * u
     needed = head_h + row_h * len(rows) + 10 * u
@@ -942,6 +875,8 @@ def _draw_legend(p: QPainter, rect: QRectF, routes: Sequence[Any], checks: dict,
             p.drawRect(sample)
             p.setBrush(QBrush(QColor("#6E6E6E"), Qt.BrushStyle.BDiagPattern))
             p.drawRect(sample)
+        elif kind == "zone":
+            draw_zone_sample(p, arg, sample)
         elif kind == "door":
             p.setPen(pen(BLUE, 2.2 * u, Qt.PenStyle.DotLine))
             p.drawLine(QPointF(x0, cy), QPointF(x0 + sw, cy))
@@ -1032,8 +967,11 @@ WHEEL_STYLES = (Qt.PenStyle.SolidLine, Qt.PenStyle.DashLine, Qt.PenStyle.DotLine
                 Qt.PenStyle.DashDotLine)
 WHEEL_COLOURS = (BLUE, ORANGE, PURPLE, GREEN)
 #: Words for the limit that binds, by the profile's key.
-LIMIT_WORDS = {"max_speed_mps": "max speed", "max_wheel_rate_radps": "max wheel rate",
-               "max_lateral_accel_mps2": "lateral-accel cap", "max_yaw_rate_dps": "yaw-rate cap"}
+LIMIT_WORDS = {"max_speed_mps": "max speed", "slow_zone": "slow zone",
+               "max_wheel_rate_radps": "max wheel rate",
+               "max_lateral_accel_mps2": "lateral-accel cap", "max_yaw_rate_dps": "yaw-rate cap",
+               "max_wheel_accel_radps2": "wheel-accel cap", "max_yaw_accel_dps2": "yaw-accel cap",
+               "max_steer_rate_dps": "steer-rate cap"}
 
 
 def _ticks(lo: float, hi: float, n: int = 6) -> list[float]:
@@ -1155,6 +1093,7 @@ def draw_plots(p: QPainter, rect: QRectF, schedule: Any, x_axis: str = "time",
     p.setPen(pen(FAINT_INK, 1.3 * u, Qt.PenStyle.DotLine))
     prof = schedule.profile
     caps_drawn: list[tuple[float, float, float, str]] = []
+    last_seg = -2
     for i in np.unique(seg):
         m = seg == i
         c = cap[m]
@@ -1165,7 +1104,14 @@ def draw_plots(p: QPainter, rect: QRectF, schedule: Any, x_axis: str = "time",
         if vmax is not None and cy >= vmax * 0.999:
             continue  # the max-speed line already says it
         p.drawLine(QPointF(X(x0), Y(min(cy, top_v))), QPointF(X(x1), Y(min(cy, top_v))))
-        caps_drawn.append((x0, x1, cy, LIMIT_WORDS.get(prof.binding[int(i)], prof.binding[int(i)])))
+        word = LIMIT_WORDS.get(prof.cap_binding[int(i)], prof.cap_binding[int(i)])
+        last = caps_drawn[-1] if caps_drawn else None
+        if last is not None and last[3] == word and abs(last[2] - cy) <= 1e-6 * max(1.0, cy) \
+                and last_seg == int(i) - 1:
+            caps_drawn[-1] = (last[0], x1, cy, word)  # one label for a run with one cap
+        else:
+            caps_drawn.append((x0, x1, cy, word))
+        last_seg = int(i)
     p.setPen(pen(BLUE, 2.2 * u))
     p.drawPolyline(QPolygonF([QPointF(X(a), Y(b)) for a, b in zip(xs, v)]))
     if vmax is not None:

@@ -11,7 +11,6 @@ full. The file is written atomically (encoded in memory, then
 from __future__ import annotations
 
 import datetime as _dt
-import math
 from collections.abc import Sequence
 from pathlib import Path
 from typing import Any
@@ -29,6 +28,17 @@ from PySide6.QtGui import (
 )
 
 from kinematics.analysis.report_text import CAUTION
+from kinematics.analysis.results import (  # noqa: F401 - chassis_lines re-exported
+    VIOLATION_WORDS,
+    chassis_lines,
+    compute_results,
+    door_results,
+    plot_route_names,
+    project_title,
+    report_sizing_lines,
+    verdict_text,
+    violations_of,
+)
 from kinematics.errors import SwatheInputError
 
 from .render import (
@@ -36,26 +46,19 @@ from .render import (
     FAINT_INK,
     INK,
     VERMILLION,
-    VIOLATION_WORDS,
-    compute_results,
-    door_results,
     draw_marker,
     draw_plots,
     ensure_app,
     font,
     image_png_bytes,
     pen,
-    project_title,
     render_scene,
-    verdict_text,
-    violations_of,
 )
 
 DPI = 150
 #: A4 at 150 dots per inch, in pixels (ISO 216: 210 x 297 mm).
 PAGE_PX = (round(210 / 25.4 * DPI), round(297 / 25.4 * DPI))
 MAX_VIOLATION_ROWS = 10
-MPS2 = "m/s\u00b2"
 
 
 def _table(p: QPainter, rect: QRectF, headers: Sequence[str], rows: Sequence[Sequence[Any]],
@@ -126,64 +129,6 @@ def _paragraph(p: QPainter, rect: QRectF, text: str, px: float, colour: str = IN
     br = p.boundingRect(rect, int(flags), text)
     p.drawText(rect, int(flags), text)
     return br.height()
-
-
-def _fmt(v: Any, unit: str = "", digits: int = 3) -> str:
-    if v is None:
-        return "none"
-    if isinstance(v, float) and not math.isfinite(v):
-        return "\u2014"
-    return f"{v:.{digits}f}{(' ' + unit) if unit else ''}"
-
-
-def chassis_lines(c: Any) -> list[tuple[str, str]]:
-    """(label, value) rows describing a chassis for the report."""
-    fp = c.footprint
-    xs = [q[0] for q in fp]
-    ys = [q[1] for q in fp]
-    rows = [("Name", c.name), ("Drive", c.drive),
-            ("Footprint", f"{max(xs) - min(xs):.3f} m long x {max(ys) - min(ys):.3f} m wide, "
-                          f"{len(fp)} corners; x {min(xs):.3f}..{max(xs):.3f} m, "
-                          f"y {min(ys):.3f}..{max(ys):.3f} m"),
-            ("Margin", _fmt(c.margin_m, "m")),
-            ("Wheel radius", _fmt(c.wheel_radius_m, "m"))]
-    for key, label, unit in (("track_m", "Track", "m"), ("wheelbase_m", "Wheelbase", "m"),
-                             ("max_steer_deg", "Max steer", "deg")):
-        v = getattr(c, key)
-        if v is not None:
-            rows.append((label, _fmt(v, unit, 3 if unit == "m" else 1)))
-    if c.min_turn_radius_m:
-        rows.append(("Min turn radius", _fmt(c.min_turn_radius_m, "m")))
-    lim = [f"speed {_fmt(c.max_speed_mps, 'm/s', 2)}",
-           f"accel {_fmt(c.max_accel_mps2, MPS2, 2)}"]
-    if c.max_decel_mps2 is not None:
-        lim.append(f"decel {_fmt(c.max_decel_mps2, MPS2, 2)}")
-    if c.max_wheel_rate_radps is not None:
-        lim.append(f"wheel rate {_fmt(c.max_wheel_rate_radps, 'rad/s', 1)}")
-    if c.max_lateral_accel_mps2 is not None:
-        lim.append(f"lateral accel {_fmt(c.max_lateral_accel_mps2, MPS2, 2)}")
-    if c.max_yaw_rate_dps is not None:
-        lim.append(f"yaw rate {_fmt(c.max_yaw_rate_dps, 'deg/s', 0)}")
-    rows.append(("Limits", ", ".join(lim)))
-    return rows
-
-
-def _sizing_of(checks: dict, sizing: Any) -> list[str]:
-    from .panels import sizing_lines
-
-    if sizing:
-        if isinstance(sizing, dict) and "route" in sizing:
-            return [f"Route {sizing['route']}:"] + sizing_lines(sizing)
-        return sizing_lines(sizing)
-    lines: list[str] = []
-    for name, chk in checks.items():
-        s = getattr(chk, "sizing", None) if chk is not None else None
-        if s:
-            d = s.to_dict() if hasattr(s, "to_dict") else s
-            got = sizing_lines(d if isinstance(d, dict) else {})
-            if got:
-                lines += [f"Route {name}:"] + got
-    return lines
 
 
 def draw_report(p: QPainter, size: tuple[float, float], project: Any, plans: dict,
@@ -284,7 +229,7 @@ def draw_report(p: QPainter, size: tuple[float, float], project: Any, plans: dic
         ly += _paragraph(p, QRectF(m, ly, col_w, 30 * u), "No door is passed.", 17 * u)
     ly += 14 * u
     ly += _heading(p, m, ly, col_w, "What would fit", u)
-    lines = _sizing_of(checks, sizing)
+    lines = report_sizing_lines(checks, sizing)
     text = "\n".join(lines) if lines else ("Not computed for this report (the results panel's "
                                            "\u201cFind the sizes that fit\u201d, or "
                                            "`swathe check --sizing`).")
@@ -297,7 +242,15 @@ def draw_report(p: QPainter, size: tuple[float, float], project: Any, plans: dic
     f = font(16.5 * u)
     fb = font(16.5 * u, True)
     lab_w = 150 * u
-    for label, value in chassis_lines(project.chassis):
+    rows = chassis_lines(project.chassis)
+    if len(getattr(project, "fleet", ())) > 1 or any(
+            getattr(r, "chassis", None) for r in project.routes):
+        # A fleet: the routes with their vehicles first, then the default chassis.
+        from kinematics.analysis.results import route_vehicle_lines
+
+        rows = [(f"Route {name}", who) for name, who in route_vehicle_lines(
+            project, set(checks) or None)] + rows
+    for label, value in rows:
         p.setFont(fb)
         p.setPen(QColor(INK))
         p.drawText(QRectF(rx, ry, lab_w, 40 * u), Qt.AlignmentFlag.AlignLeft
@@ -339,16 +292,19 @@ def _plots_in_gap(p: QPainter, rect: QRectF, project: Any, plans: dict, checks: 
     """Speed and wheel rates of the route (the first with violations) where there is room."""
     if rect.height() < 300 * u:
         return
-    names = [route_name] if route_name is not None else (
-        [n for n, c in checks.items() if violations_of(c)] + list(plans))
-    for name in names:
+    for name in plot_route_names(plans, checks, route_name):
         plan = plans.get(name)
         if plan is None or not plan.segments:
             continue
         try:
             from kinematics.timing.schedule import build_schedule
 
-            sched = build_schedule(name, list(plan.segments), project.chassis)
+            sched = build_schedule(name, list(plan.segments),
+                                   project.chassis_for(name) if hasattr(project, "chassis_for")
+                                   else project.chassis,
+                                   zones=project.floorplan.zones,
+                                   route=next((r for r in project.routes if r.name == name),
+                                              None))
         except (SwatheInputError, ValueError):
             continue
         h = min(rect.height(), 520 * u)

@@ -12,12 +12,12 @@ from hypothesis import given, settings
 from hypothesis import strategies as st
 from shapely.geometry import Polygon
 
+from kinematics.analysis.report_text import CHECK_CAUTION as CAUTION
+from kinematics.analysis.report_text import format_check_text
 from kinematics.check.clearance import (
-    CAUTION,
     ObstacleIndex,
     RouteChecker,
     check_route,
-    format_check_text,
 )
 from kinematics.check.sweep import placed_footprints, travel_m
 from kinematics.files.floorplan import Door, FloorPlan, Obstacle, Wall
@@ -287,7 +287,7 @@ def test_warm_planner_and_checker_give_the_fresh_check_after_every_move(moves, r
 
 @pytest.mark.parametrize("drive", ["differential", "bicycle", "mecanum"])
 def test_segment_grid_poses_are_poses_along_to_the_last_bit(drive):
-    from kinematics.check.clearance import _grid_poses
+    from kinematics.check.clearance import grid_poses
     from kinematics.motion.segments import poses_along
 
     chassis = {"differential": Chassis(drive="differential", track_m=0.5),
@@ -308,7 +308,7 @@ def test_segment_grid_poses_are_poses_along_to_the_last_bit(drive):
             local = (np.linspace(0.0, L, max(1, int(np.ceil(L / 0.02))) + 1) if L > 0.0
                      else np.zeros(1))
             # Source: kinematics.motion.segments.poses_along, the per-segment reference it replaces.
-            assert np.array_equal(_grid_poses(seg, local), poses_along([seg], local))
+            assert np.array_equal(grid_poses(seg, local), poses_along([seg], local))
     assert {"line", "arc"} <= kinds or drive == "mecanum"
 
 def _blocked_reference(segs, idx, waypoints):

@@ -29,7 +29,9 @@ import shapely
 from shapely.geometry import LineString
 from shapely.geometry.base import BaseGeometry
 
-from kinematics.check.clearance import DOOR_BOX_M, ObstacleIndex, RouteCheck, overlap_depth
+from kinematics.check.contact import overlap_depth
+from kinematics.check.obstacles import DOOR_BOX_M, ObstacleIndex
+from kinematics.check.results import RouteCheck
 from kinematics.check.sweep import DEFAULT_TOLERANCE_M, prepare_footprint, swept_segment
 from kinematics.motion.segments import Segment
 

@@ -3,12 +3,14 @@
 from __future__ import annotations
 
 import errno
+import gc
 import json
 import math
 import os
 import re
 import stat
-import tempfile
+from collections.abc import Iterator
+from contextlib import contextmanager
 from pathlib import Path
 from typing import Any
 
@@ -75,6 +77,24 @@ def read_input_bytes(path: str | os.PathLike[str], kind: str = "file") -> bytes:
             return fh.read(MAX_INPUT_BYTES + 1)
     except OSError as exc:
         raise FileReadError(one_line(os.fspath(path), 300), "", os_reason(exc)) from None
+
+
+@contextmanager
+def collector_held() -> Iterator[None]:
+    """Hold off Python's cyclic garbage collector while a file is read and its model built.
+
+    A big floor plan makes hundreds of thousands of lists and tuples, none in a cycle; each
+    burst of allocations would start a collection that walks all of them (about half the
+    load time of a 20,000-edge plan). Reference counting still frees everything; the
+    collector runs again as before once the block ends (nested blocks are fine).
+    """
+    was = gc.isenabled()
+    gc.disable()
+    try:
+        yield
+    finally:
+        if was:
+            gc.enable()
 
 
 def read_json(path: str | os.PathLike[str]) -> Any:
@@ -198,6 +218,8 @@ def _sweep_stale(directory: Path, p: Path) -> None:
 def _atomic_write(path: str | os.PathLike[str], data: bytes) -> None:
     p = Path(path)
     directory = p.parent if str(p.parent) else Path(".")
+    import tempfile  # only saves need it
+
     _sweep_stale(directory, p)
     fd, tmp = tempfile.mkstemp(prefix=f"{_temp_prefix(p)}pid{os.getpid()}.", suffix=".tmp",
                                dir=directory)

@@ -17,7 +17,10 @@ What is read:
   to centre form, SVG 1.1 appendix F.6.5) by chords of sagitta at most
   :data:`TOLERANCE_M`; Bezier curves by uniform parameter steps chosen from the bound
   ``h**2 / 8 * max|B''|`` on the error of linear interpolation, so the polyline stays within
-  the same 5 mm. The bound is applied in plan metres after every transform.
+  the same 1 mm. The bound is applied in plan metres after every transform. Chords lie
+  inside the curve, so an outline holding curves is then grown by the tolerance (a solid
+  outward, a wall on both faces: its thickness plus 2 mm): the flattened solid contains the
+  true one and exceeds it by at most 2 mm, and a clearance is never read larger.
 - Units: one SVG user unit (of the root ``viewBox`` when there is one) is
   ``metres_per_unit`` metres (default 0.01, a drawing in centimetres). The SVG y axis
   points down; it is flipped so plan y points up: ``y_plan = (bottom - y) * metres_per_unit``
@@ -30,6 +33,10 @@ What is read:
   such as swing arcs, are skipped); ``wall`` in ``id``/``class`` forces a wall (a closed
   shape then becomes a closed wall line). A wall is as thick as its ``stroke-width``, else
   0.1 m.
+- Zones: ``zones=[ZoneLayer(...)]`` (in a project: ``"zones": [{"layer", "kind", ...}]``)
+  turns every closed shape whose ``id`` or Inkscape layer label (``inkscape:label``), or
+  that of a group it sits in, is a named layer into a zone of that kind; open shapes there
+  are skipped.
 """
 
 from __future__ import annotations
@@ -44,12 +51,20 @@ from xml.etree.ElementTree import Element, ParseError
 import numpy as np
 
 from kinematics.errors import FileReadError, ValidationError
-from kinematics.files.curves import MAX_CHORDS, chord_count
-from kinematics.files.floorplan import Door, FloorPlan, Obstacle, Wall
+from kinematics.files.curves import (
+    FLATTEN_TOLERANCE_M,
+    MAX_CHORDS,
+    chord_count,
+    grow_outline,
+    grown_thickness,
+)
+from kinematics.files.floorplan import Door, FloorPlan, Obstacle, Wall, Zone, ZoneLayer
 from kinematics.files.jsonio import one_line, read_input_bytes
 from kinematics.files.validate import MAX_COORD_M
 
-TOLERANCE_M = 0.005
+_INKSCAPE_LABEL = "{http://www.inkscape.org/namespaces/inkscape}label"
+
+TOLERANCE_M = FLATTEN_TOLERANCE_M
 """Largest distance between a curve and the chords that replace it, in plan metres."""
 
 DEFAULT_WALL_THICKNESS_M = 0.1
@@ -494,6 +509,8 @@ class _Found:
     label: str
     thickness_units: float | None  # inherited stroke width, root user units
     two_point: bool
+    names: tuple[str, ...] = ()  # ids and layer labels of the element and its groups
+    curved: bool = False  # chords inside a curve: grow by the tolerance in the plan
     where: str = ""  # the element, for messages
 
 
@@ -508,8 +525,11 @@ class _Walker:
         self.using: set[int] = set()
 
     def walk(self, el: Element, ctm: np.ndarray, marker: str | None, depth: int,
-             via_use: bool = False, stroke: float | None = None) -> None:
+             via_use: bool = False, stroke: float | None = None,
+             names: tuple[str, ...] = ()) -> None:
         tag = _local(el.tag)
+        names = names + tuple(n.lower() for n in (el.get("id"), el.get(_INKSCAPE_LABEL))
+                              if n)
         self.count += 1
         number = self.count
         if self.count > _MAX_ELEMENTS:
@@ -537,11 +557,11 @@ class _Walker:
                 if tag == "svg":
                     m = m @ _matrix(1, 0, 0, 1, _length(el, "x"), _length(el, "y"))
                 for child in el:
-                    self.walk(child, m, mk, depth + 1, stroke=stroke)
+                    self.walk(child, m, mk, depth + 1, stroke=stroke, names=names)
                 return
             if tag == "svg":
                 for child in el:
-                    self.walk(child, m, mk, depth + 1, stroke=stroke)
+                    self.walk(child, m, mk, depth + 1, stroke=stroke, names=names)
                 return
             if tag == "use":
                 href = el.get("href") or el.get("{http://www.w3.org/1999/xlink}href") or ""
@@ -553,7 +573,8 @@ class _Walker:
                 m = m @ _matrix(1, 0, 0, 1, _length(el, "x"), _length(el, "y"))
                 self.using.add(id(target))
                 try:
-                    self.walk(target, m, mk, depth + 1, via_use=True, stroke=stroke)
+                    self.walk(target, m, mk, depth + 1, via_use=True, stroke=stroke,
+                              names=names)
                 finally:
                     self.using.discard(id(target))
                 return
@@ -570,6 +591,9 @@ class _Walker:
         label = el.get("id", "")
         two = tag == "line" or (tag in ("polyline", "path") and len(shapes) == 1
                                 and len(shapes[0][0]) == 2)
+        curved = (tag in ("circle", "ellipse")
+                  or (tag == "path" and re.search(r"[CcSsQqTtAa]", el.get("d", "")) is not None)
+                  or (tag == "rect" and any(len(q) > 5 for q, _ in shapes)))
         for pts, closed in shapes:
             world = pts @ m[:2, :2].T + m[:2, 2]
             if not np.all(np.isfinite(world)):
@@ -580,7 +604,7 @@ class _Walker:
                 raise FileReadError(self.file, _describe(el, tag, number),
                                     f"the drawing holds more than {MAX_POINTS} points once "
                                     "its curves are flattened")
-            self.found.append(_Found(world, closed, mk, label, thickness, two,
+            self.found.append(_Found(world, closed, mk, label, thickness, two, names, curved,
                                      _describe(el, tag, number)))
 
 
@@ -670,7 +694,8 @@ def _read_root(p: Path) -> Element:
     return root
 
 
-def import_svg(path: str | Path, metres_per_unit: float = 0.01) -> FloorPlan:
+def import_svg(path: str | Path, metres_per_unit: float = 0.01,
+               zones: tuple[ZoneLayer, ...] = ()) -> FloorPlan:
     """Read an SVG drawing as a :class:`~kinematics.files.floorplan.FloorPlan` in metres.
 
     Parameters
@@ -679,6 +704,8 @@ def import_svg(path: str | Path, metres_per_unit: float = 0.01) -> FloorPlan:
         The SVG file.
     metres_per_unit : float
         Metres per SVG user unit (default 0.01: the drawing is in centimetres).
+    zones : tuple of ZoneLayer
+        Group or element ids (or Inkscape layer labels) whose closed shapes are zones.
 
     Returns
     -------
@@ -722,6 +749,8 @@ def import_svg(path: str | Path, metres_per_unit: float = 0.01) -> FloorPlan:
     walls: list[Wall] = []
     obstacles: list[Obstacle] = []
     doors: list[Door] = []
+    zone_list: list[Zone] = []
+    zone_of = {z.layer.lower(): z for z in zones}
 
     def to_plan(pts: np.ndarray) -> tuple[tuple[float, float], ...]:
         x = (pts[:, 0] - left) * metres_per_unit
@@ -746,6 +775,12 @@ def import_svg(path: str | Path, metres_per_unit: float = 0.01) -> FloorPlan:
                 doors.append(Door(pts[0], pts[1], f.label or f"door {len(doors) + 1}"))
             continue
         closed = f.closed or (len(pts) > 3 and pts[0] == pts[-1])
+        rule = next((zone_of[n] for n in reversed(f.names) if n in zone_of), None)
+        if rule is not None:
+            ring = pts[:-1] if len(pts) > 1 and pts[0] == pts[-1] else pts
+            if closed and len(ring) >= 3:
+                zone_list.append(rule.zone(ring))
+            continue
         if f.marker == "wall" or not closed:
             if len(pts) < 2:
                 continue
@@ -753,14 +788,19 @@ def import_svg(path: str | Path, metres_per_unit: float = 0.01) -> FloorPlan:
                 pts = pts + (pts[0],)
             t = (f.thickness_units * metres_per_unit if f.thickness_units
                  else DEFAULT_WALL_THICKNESS_M)
+            if f.curved:
+                t = grown_thickness(t, TOLERANCE_M)
             walls.append(Wall(pts, t))
         else:
             ring = pts[:-1] if pts[0] == pts[-1] else pts
+            if len(ring) >= 3 and f.curved:
+                ring = tuple(tuple(q) for q in grow_outline(np.array(ring), TOLERANCE_M).tolist())
             if len(ring) >= 3:
                 obstacles.append(Obstacle(ring, f.label))
     name = root.findtext("{http://www.w3.org/2000/svg}title") or root.findtext("title") or p.stem
     return FloorPlan(name.strip() or p.stem, tuple(walls), tuple(obstacles), tuple(doors),
-                     file, {"svg_import": {"metres_per_unit": metres_per_unit}})
+                     file, {"svg_import": {"metres_per_unit": metres_per_unit}},
+                     tuple(zone_list))
 
 
 __all__ = ["import_svg", "parse_path", "parse_transform", "arc_points", "bezier_points"]

@@ -1,0 +1,128 @@
+"""Per-segment results of a route check, kept by the segment's exact values.
+
+A segment's swept region is held as the polygons whose union it is (:class:`SweptParts`; the
+union is made only when asked for: distances and predicates need only the parts). Its
+:class:`SegmentResult` adds the solids within the margin (as hits), the doors it crosses and
+its least clearance. :class:`SegmentCache` keeps these results (least recently used dropped
+first) keyed by the segment's values, so a warm checker answers bit for bit as a fresh one and
+the interactive canvas re-sweeps only what moved. The planner starts every piece from a pose
+computed from the waypoints (:meth:`kinematics.plan.planner._Builder.anchor`), so segments
+away from an edit come back exactly equal.
+"""
+
+from __future__ import annotations
+
+import math
+from collections import OrderedDict
+from collections.abc import Callable
+from dataclasses import dataclass
+
+import numpy as np
+import shapely
+from shapely.geometry.base import BaseGeometry
+
+from kinematics.check.sweep import union_parts
+from kinematics.motion.segments import Segment
+
+
+@dataclass(frozen=True)
+class Hit:
+    """One solid closer than the margin to one segment's swept piece."""
+
+    solid: int
+    clearance_m: float
+    collision: bool
+    start_local_m: float
+    x: float
+    y: float
+    part: str
+    margin_m: float | None = None  # the margin this hit falls short of (None: the chassis's)
+    zone: str = ""                 # the margin zone that set it
+
+
+class SweptParts:
+    """A segment's swept region as polygons whose union it is; the union is made on demand."""
+
+    __slots__ = ("parts", "_union")
+
+    def __init__(self, parts: np.ndarray) -> None:
+        self.parts = parts
+        self._union: BaseGeometry | None = None
+
+    @property
+    def union(self) -> BaseGeometry:
+        if self._union is None:
+            self._union = union_parts(self.parts)
+        return self._union
+
+    def distance(self, solid: BaseGeometry) -> float:
+        """Least distance from any part to ``solid`` (0 where one touches or overlaps it)."""
+        return float(np.min(shapely.distance(self.parts, solid)))
+
+
+class SegmentResult:
+    """One segment's swept region, its hits within the margin and its doors.
+
+    ``near`` is the least clearance and its solid among the solids within the margin, or
+    ``None`` when there are none; then the clearance to the nearest solid farther away is only
+    measured when the route's least clearance needs it
+    (:func:`kinematics.check.clearance_pass.least_segment`) and kept in ``far``; until then its
+    clearance is known to exceed ``lower_m``. ``xy`` keeps where that least clearance is.
+    """
+
+    __slots__ = ("swept", "hits", "doors", "near", "far", "lower_m", "xy", "keep_out",
+                 "wrong_way")
+
+    def __init__(self, swept: SweptParts, near: tuple[float, int] | None,
+                 hits: tuple[Hit, ...], doors: tuple[tuple[int, float], ...],
+                 keep_out: tuple[Hit, ...] = (), wrong_way: tuple = ()) -> None:
+        self.swept = swept
+        self.near = near
+        self.hits = hits
+        self.doors = doors
+        self.keep_out = keep_out    # hits whose ``solid`` indexes the keep-out zones
+        self.wrong_way = wrong_way  # kinematics.check.zones.WrongWay stretches
+        self.far: tuple[float, int | None] | None = None
+        self.lower_m = -math.inf
+        self.xy: tuple[float, float] | None = None
+
+    @property
+    def piece(self) -> BaseGeometry:
+        return self.swept.union
+
+
+def cache_key(seg: Segment) -> tuple:
+    """The segment's values, exactly: a result is reused only for the very same segment."""
+    x, y, th = seg.start
+    return (seg.kind, seg.direction, x, y, th, seg.length_m, seg.turn_rad, seg.course_rad)
+
+
+class SegmentCache:
+    """Segment results by :func:`cache_key`, made by ``compute`` on a miss.
+
+    Parameters
+    ----------
+    compute : callable
+        Makes the result of a segment not seen before.
+    cache_size : int
+        Results kept (least recently used dropped first).
+    """
+
+    def __init__(self, compute: Callable[[Segment], SegmentResult], cache_size: int) -> None:
+        self.compute = compute
+        self.cache_size = int(cache_size)
+        self._results: OrderedDict[tuple, SegmentResult] = OrderedDict()
+        self.computed = 0  # results made (not taken from the cache), for tests
+
+    def result(self, seg: Segment) -> SegmentResult:
+        key = cache_key(seg)
+        hit = self._results.get(key)
+        if hit is not None:
+            self._results.move_to_end(key)
+            return hit
+        self.computed += 1
+        res = self.compute(seg)
+        self._results[key] = res
+        if len(self._results) > self.cache_size:
+            self._results.popitem(last=False)
+        return res

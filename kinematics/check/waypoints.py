@@ -1,0 +1,298 @@
+"""``waypoint_blocked``: a waypoint inside a solid, or the footprint placed at it overlapping one.
+
+The footprint is placed at each waypoint with the heading of the route pose nearest it among
+grid poses that each segment lays out on its own stations (every :data:`GRID_M` or finer,
+both ends included; the first nearest in route order). The grid is per segment rather than
+along the whole route so that an unchanged segment keeps it when the route's length changes
+elsewhere: the search and the verdicts are then kept by values and a warm checker gives
+exactly a fresh one's answer. The reported station is the segment's start station plus the
+grid pose's local station; the overlap found is that of a real placement on the path, so a
+reported block is never spurious (a tighter placement between grid poses may be missed, as
+with any sampled grid).
+"""
+
+from __future__ import annotations
+
+import math
+from collections.abc import Sequence
+from typing import Any
+
+import numpy as np
+import shapely
+from shapely.geometry import Point
+
+from kinematics.check.contact import overlap_depth
+from kinematics.check.obstacles import ObstacleIndex
+from kinematics.check.results import Violation
+from kinematics.check.segment_parts import cache_key
+from kinematics.check.sweep import Footprint, placed_footprints
+from kinematics.motion.se2 import sinc_terms
+from kinematics.motion.segments import Segment
+
+#: Slack of the bulk queries that pick waypoints for a closer look, metres.
+SLACK_M = 1e-6
+#: Greatest step of each segment's own station grid for waypoint placements, metres.
+GRID_M = 0.02
+
+
+class WaypointCheck:
+    """Judges a route's waypoints, keeping grids, nearest poses and verdicts by values.
+
+    Parameters
+    ----------
+    footprint : Footprint
+    index : ObstacleIndex
+    cache_size : int
+        Each kept table is cleared when it grows past four times this.
+    """
+
+    def __init__(self, footprint: Footprint, index: ObstacleIndex, cache_size: int) -> None:
+        self.footprint = footprint
+        self.index = index
+        self.cache_size = int(cache_size)
+        self._grids: dict[tuple, tuple[np.ndarray, np.ndarray, tuple]] = {}
+        self._wp_near: dict[tuple, tuple[float, int]] = {}
+        self._wp_judged: dict[tuple, tuple | None] = {}
+
+    def segment_grid(self, seg: Segment) -> tuple[np.ndarray, np.ndarray, tuple]:
+        """The segment's own station grid (every :data:`GRID_M` or finer, both ends included;
+        a segment of no length has the one pose at its end), its poses, and their bounding box.
+        Local to the segment, so an unchanged segment keeps it however the route around it
+        changes."""
+        key = cache_key(seg)
+        got = self._grids.get(key)
+        if got is None:
+            L = float(seg.length_m)
+            if L > 0.0:
+                local = np.linspace(0.0, L, max(1, int(math.ceil(L / GRID_M))) + 1)
+            else:
+                local = np.zeros(1)
+            poses = grid_poses(seg, local)
+            lo, hi = poses[:, :2].min(axis=0), poses[:, :2].max(axis=0)
+            got = (local, poses, (float(lo[0]), float(lo[1]), float(hi[0]), float(hi[1])))
+            if len(self._grids) > 4 * self.cache_size:
+                self._grids.clear()
+            self._grids[key] = got
+        return got
+
+    def judge(self, xy: np.ndarray, heading: list[float | None]) -> list[tuple | None]:
+        """For each waypoint ``(x, y)`` with the heading of its placement (``None``: no route):
+        ``None`` if clear, ``("inside", solid, depth)`` or ``("overlap", solid, depth)``.
+        Kept by those three values; the new ones are judged together."""
+        idx = self.index
+        keys = [(float(x), float(y), h) for (x, y), h in zip(xy.tolist(), heading)]
+        todo = [k for k, key in enumerate(keys) if key not in self._wp_judged]
+        if todo:
+            sub = xy[todo]
+            # Bulk queries with a hair of slack pick the few waypoints worth a closer look;
+            # each of those is then judged one by one exactly as a lone query would.
+            look = np.zeros(len(todo), dtype=bool)
+            look[idx.tree.query(shapely.points(sub), predicate="dwithin",
+                                distance=SLACK_M)[0]] = True
+            placed_rows = [j for j, k in enumerate(todo) if heading[k] is not None]
+            placed_all = None
+            if placed_rows:
+                placed_all = placed_footprints(
+                    self.footprint, np.array([(*sub[j], heading[todo[j]]) for j in placed_rows]))
+                look[np.asarray(placed_rows)[idx.tree.query(
+                    placed_all, predicate="dwithin", distance=SLACK_M)[0]]] = True
+            where = {j: n for n, j in enumerate(placed_rows)}
+            if len(self._wp_judged) > 4 * self.cache_size:
+                self._wp_judged.clear()
+            for j, k in enumerate(todo):
+                verdict = None
+                if look[j]:
+                    wx, wy = keys[k][0], keys[k][1]
+                    pt = Point(wx, wy)
+                    inside = idx.within(pt, 0.0)
+                    if len(inside):
+                        si = int(inside[0])
+                        verdict = ("inside", si, float(shapely.distance(
+                            pt, idx.solids[si].geometry.boundary)))
+                    elif placed_all is not None and j in where:
+                        placed = placed_all[where[j]]
+                        worst, wj = 0.0, None
+                        for q in idx.within(placed, 0.0).tolist():
+                            d = overlap_depth(placed, idx.geometries[q])
+                            if d > worst:
+                                worst, wj = d, q
+                        if wj is not None:
+                            verdict = ("overlap", wj, worst)
+                self._wp_judged[keys[k]] = verdict
+        return [self._wp_judged[key] for key in keys]
+
+    def violations(self, segs: tuple[Segment, ...], stations: np.ndarray,
+                   waypoints: Sequence[Any] | None) -> list[Violation]:
+        """``waypoint_blocked``: a waypoint inside a solid, or the footprint placed at it with
+        the heading of the route's nearest grid pose overlapping one.
+
+        Each segment carries its own grid (:meth:`segment_grid`); the nearest grid pose of
+        the route is the first nearest in route order. Both the search and the verdict are
+        kept by values (the segment's, the waypoint's, the heading), so a warm checker gives
+        exactly what a fresh one gives while only moved waypoints and segments are looked at
+        again.
+        """
+        if not waypoints or not len(self.index):
+            return []
+        idx = self.index
+        xy = np.array([(float(w.x if hasattr(w, "x") else w[0]),
+                        float(w.y if hasattr(w, "y") else w[1])) for w in waypoints])
+        seg_of = [0] * len(xy)
+        st_of = [0.0] * len(xy)
+        heading: list[float | None] = [None] * len(xy)
+        if segs:
+            keys = [cache_key(s) for s in segs]
+            grids = [self.segment_grid(s) for s in segs]
+            boxes = np.array([g[2] for g in grids])
+            ks, iis = candidate_pairs(xy, boxes)
+            best = [math.inf] * len(xy)
+            found = [(0, 0)] * len(xy)
+            near = self._wp_near
+            if len(near) > 4 * self.cache_size:
+                near.clear()
+            pts = xy.tolist()
+            # Pairs come in waypoint order, then segment order: a strict < keeps the first
+            # nearest in route order (first segment, then first row among equal distances).
+            for k, i in zip(ks.tolist(), iis.tolist()):
+                wx, wy = pts[k]
+                key = (keys[i], wx, wy)
+                got = near.get(key)
+                if got is None:
+                    poses = grids[i][1]
+                    d = np.hypot(poses[:, 0] - wx, poses[:, 1] - wy)
+                    r = int(np.argmin(d))
+                    got = near[key] = (float(d[r]), r)
+                if got[0] < best[k]:
+                    best[k] = got[0]
+                    found[k] = (i, got[1])
+            for k, (i, r) in enumerate(found):
+                seg_of[k] = i
+                st_of[k] = float(stations[i]) + float(grids[i][0][r])
+                heading[k] = float(grids[i][1][r, 2])
+        out = []
+        for k, verdict in enumerate(self.judge(xy, heading)):
+            if verdict is None:
+                continue
+            what, j, depth = verdict
+            wx, wy = float(xy[k, 0]), float(xy[k, 1])
+            name = idx.solids[j].name
+            if what == "inside":
+                msg = f"waypoint {k + 1} at ({wx:.2f}, {wy:.2f}) lies inside {name}"
+            else:
+                msg = (f"waypoint {k + 1} at ({wx:.2f}, {wy:.2f}): the footprint placed there "
+                       f"overlaps {name} by {depth * 1000:.0f} mm")
+            out.append(Violation("waypoint_blocked", seg_of[k], st_of[k], wx, wy, depth, msg,
+                                 name))
+        return out
+
+
+#: Waypoints x segments up to which the candidates come from one dense table; beyond, from
+#: a tree of the segments' boxes (the same pairs, memory linear in the route).
+DENSE_PAIRS = 40_000
+
+
+def _bounds(tx: np.ndarray, ty: np.ndarray, b: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+    """Least and greatest distance from points ``(tx, ty)`` to boxes ``b`` (rows of
+    ``xmin, ymin, xmax, ymax``), elementwise (broadcasting)."""
+    lo_x, lo_y, hi_x, hi_y = b[..., 0], b[..., 1], b[..., 2], b[..., 3]
+    lb = np.hypot(np.maximum(0.0, np.maximum(lo_x - tx, tx - hi_x)),
+                  np.maximum(0.0, np.maximum(lo_y - ty, ty - hi_y)))
+    ub = np.hypot(np.maximum(np.abs(tx - lo_x), np.abs(tx - hi_x)),
+                  np.maximum(np.abs(ty - lo_y), np.abs(ty - hi_y)))
+    return lb, ub
+
+
+def candidate_pairs(xy: np.ndarray, boxes: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+    """Pairs ``(waypoint k, segment i)``, in waypoint order then segment order, of the
+    segments whose grid box may hold waypoint ``k``'s nearest grid pose: those whose box is
+    no farther than the nearest far box corner (a little slack so rounding never drops the
+    one that does).
+
+    A small route compares every waypoint with every box. A long one asks an STRtree of the
+    boxes, first for boxes near each waypoint (an upper bound on its nearest far corner),
+    then for the boxes within that bound; the bounds of those pairs are computed with the
+    same operations, so the pairs are exactly the dense table's, in O(n log n) time and
+    memory linear in the route.
+    """
+    n, m = len(xy), len(boxes)
+    if n * m <= DENSE_PAIRS:
+        lb, ub = _bounds(xy[:, 0, None], xy[:, 1, None], boxes[None, :, :])
+        ub = ub.min(axis=1)
+        return np.nonzero(lb <= ub[:, None] * (1.0 + 1e-9) + 1e-12)
+    tree = shapely.STRtree(shapely.box(boxes[:, 0], boxes[:, 1], boxes[:, 2], boxes[:, 3]))
+    x, y = xy[:, 0], xy[:, 1]
+    # An upper bound on each waypoint's least far corner: any box's far corner will do;
+    # take the boxes whose envelope meets a square about the waypoint, growing it until
+    # every waypoint has one.
+    upper = np.full(n, np.inf)
+    todo = np.arange(n)
+    half = 0.0
+    while len(todo):
+        q = shapely.box(x[todo] - half, y[todo] - half, x[todo] + half, y[todo] + half)
+        kk, ii = tree.query(q)
+        if len(kk):
+            k = todo[kk]
+            _, ub = _bounds(x[k], y[k], boxes[ii])
+            np.minimum.at(upper, k, ub)
+        todo = todo[~np.isfinite(upper[todo])]
+        half = 1.0 if half == 0.0 else 2.0 * half
+    # Every box within the bound (its envelope meets the square of that half-size), then
+    # the dense table's test on those pairs only.
+    reach = upper * (1.0 + 1e-9) + 1e-12
+    reach = reach * (1.0 + 1e-9) + 1e-9  # never narrower than the test below
+    kk, ii = tree.query(shapely.box(x - reach, y - reach, x + reach, y + reach))
+    lb, ub = _bounds(x[kk], y[kk], boxes[ii])
+    least = np.full(n, np.inf)
+    np.minimum.at(least, kk, ub)
+    keep = lb <= least[kk] * (1.0 + 1e-9) + 1e-12
+    kk, ii = kk[keep], ii[keep]
+    order = np.lexsort((ii, kk))
+    return kk[order], ii[order]
+
+
+def _station_row(sg: Segment) -> tuple[float, ...]:
+    """What :func:`grid_poses` needs of one segment, evaluated as
+    :meth:`Segment.poses_at_fraction` evaluates it (a 0-d numpy cos / sin of the start heading
+    in the exponential map, ``math.cos`` / ``sin`` of the course on holonomic lines)."""
+    # 0: exponential map (lines, arcs), 1: turn on the spot, 2: holonomic line, 3: no length.
+    mode = (1 if sg.kind == "pivot" else
+            2 if sg.kind == "line" and (sg.course_rad is not None or sg.turn_rad != 0.0) else
+            3 if sg.length_m == 0.0 else 0)
+    omega = sg.turn_rad / sg.length_m if sg.kind == "arc" and sg.length_m > 0.0 else 0.0
+    th = np.asarray(sg.start, dtype=float)[..., 2]
+    cc, sc = (math.cos(sg.course), math.sin(sg.course)) if mode == 2 else (0.0, 0.0)
+    return (*sg.start, sg.length_m, sg.turn_rad, mode, omega, float(sg.direction),
+            float(np.cos(th)), float(np.sin(th)), cc, sc)
+
+
+def grid_poses(sg: Segment, local: np.ndarray) -> np.ndarray:
+    """:func:`kinematics.motion.segments.poses_along` of one segment at its local stations ``local``
+    (edges ``[0, length]``), with the same floating-point operations (the same to the last
+    bit; a test compares them) and no per-station look-up of the segment."""
+    if sg.kind == "clothoid":
+        return sg.poses_at(local)
+    x0, y0, th0, L, turn, mode, omega, vx, c, s, cc, sc = _station_row(sg)
+    out = np.empty((len(local), 3))
+    if mode == 3:
+        out[:] = (x0, y0, th0)
+        return out
+    f = (local - 0.0) / L if L > 0.0 else np.ones(len(local))
+    t = f * L
+    if mode == 1:
+        out[:, 0], out[:, 1] = x0, y0
+        out[:, 2] = th0 + 1.0 * turn
+    elif mode == 2:
+        out[:, 0] = x0 + t * cc
+        out[:, 1] = y0 + t * sc
+        out[:, 2] = th0 + f * turn
+    else:
+        phi = omega * t
+        # On a line phi is 0 everywhere, where sinc_terms gives exactly 1 and 0.
+        S, C = sinc_terms(phi) if omega != 0.0 else (1.0, 0.0)
+        vy = 0.0
+        bx = t * (S * vx - C * vy)
+        by = t * (C * vx + S * vy)
+        out[:, 0] = x0 + c * bx - s * by
+        out[:, 1] = y0 + s * bx + c * by
+        out[:, 2] = th0 + phi
+    return out
