@@ -138,3 +138,34 @@ def test_open_project_on_a_floor_plan_offers_a_new_project(qtbot, tmp_path, monk
                                                   w.menuBar().actions()[0].menu().actions()]
     w.doc.undo_stack.setClean()
     w.close()
+
+
+def test_rebased_checker_answers_as_a_fresh_one_after_wall_edits():
+    # Common practice: an incremental result must equal the full recomputation.
+    from kinematics.check.clearance import ObstacleIndex, RouteChecker
+    from kinematics.files.floorplan import Obstacle
+    from kinematics.plan.planner import plan_route
+
+    ch = Chassis(track_m=0.5)
+    fp = FloorPlan(obstacles=tuple(Obstacle(((x, 1.0), (x + 0.5, 1.0), (x + 0.5, 1.5),
+                                             (x, 1.5)), f"bay {x}") for x in range(0, 12, 2)))
+    fp = pe.add_wall(fp, ((0, -0.6), (6, -0.6)), 0.1)
+    fp = pe.add_wall(fp, ((6.5, -0.6), (12, -0.6)), 0.1)
+    fp = pe.add_wall(fp, ((0, 9), (12, 9)), 0.1)
+    route = Route("r", (Waypoint(0.5, 0), Waypoint(3, 0.3), Waypoint(6, 0), Waypoint(9, 0.3),
+                        Waypoint(11.5, 0)), 1.0)
+    plan = plan_route(route, ch)
+    checker = RouteChecker(ch, ObstacleIndex(fp))
+    checker.check(plan, route=route)
+    swept = []
+    for w, v, to in ((2, 1, (12, 8.5)), (0, 1, (6, -0.3)), (1, 0, (6.5, -0.25)),
+                     (0, 1, (6, -0.6))):
+        fp = pe.move_vertex(fp, "wall", w, v, to)
+        idx = ObstacleIndex(fp)
+        checker = checker.rebased(idx)
+        got = checker.check(plan, route=route).to_dict()
+        want = RouteChecker(ch, idx).check(plan, route=route).to_dict()
+        assert got == want
+        swept.append(checker.swept_count)
+    # The far wall's edit re-sweeps nothing; the near ones only some segments.
+    assert swept[0] == 0 and 0 < swept[1] < len(plan.segments)
