@@ -50,6 +50,10 @@ def build_parser() -> argparse.ArgumentParser:
     sp.add_argument("--sizing", action="store_true",
                     help="also answer: widest and longest footprint that clears, and the door "
                          "widths the chassis needs (slower)")
+    sp.add_argument("--traffic", action="store_true",
+                    help="also list where two routes' swept bands overlap (conflict areas) "
+                         "and, where two routes meet head-on in a corridor, whether they can "
+                         "pass side by side")
 
     sp = sub.add_parser("schedule", help="segment-wise wheel-rate schedule of one route")
     common(sp, route_required=True)
@@ -135,6 +139,7 @@ def cmd_check(args: argparse.Namespace) -> int:
     tol = args.tolerance_mm / 1000.0
     checks = []
     stops: dict[str, list] = {}
+    vehicles: list = []
     for route in _selected_routes(project, args.route):
         chassis = project.chassis_for(route)
         plan = plan_route(route, chassis)
@@ -148,6 +153,12 @@ def cmd_check(args: argparse.Namespace) -> int:
             chk = attach_sizing(chk, plan, dataclasses.replace(project, chassis=chassis), index,
                                 tolerance_m=tol)
         checks.append(chk)
+        vehicles.append(chassis)
+    report = None
+    if args.traffic:
+        from kinematics.check.traffic import band_of, traffic
+
+        report = traffic([band_of(c, v) for c, v in zip(checks, vehicles)], index)
     if args.json:
         out = []
         for c in checks:
@@ -155,9 +166,20 @@ def cmd_check(args: argparse.Namespace) -> int:
             if stops.get(c.name):
                 d["stops"] = [s.to_dict() for s in stops[c.name]]
             out.append(d)
-        sys.stdout.write(dumps({"routes": out}))
+        doc: dict = {"routes": out}
+        if report is not None:
+            doc["traffic"] = report
+        sys.stdout.write(dumps(doc))
     else:
-        sys.stdout.write(format_check_text(checks, stops))
+        text = format_check_text(checks, stops)
+        if report is not None:
+            from kinematics.analysis.report_text import CHECK_CAUTION
+            from kinematics.check.traffic import format_traffic_text
+
+            # The traffic section above the caution, which stays the last line.
+            text = text.replace(CHECK_CAUTION, format_traffic_text(report) + "\n"
+                                + CHECK_CAUTION)
+        sys.stdout.write(text)
     return EXIT_OK if all(c.clear for c in checks) else EXIT_VIOLATION
 
 

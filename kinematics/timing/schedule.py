@@ -473,7 +473,7 @@ def schedule_meta(s: Schedule) -> dict:
                   "heading_deg": "deg, counter-clockwise from +x", "v_mps": "m/s",
                   "yaw_rate_dps": "deg/s", "curvature_per_m": "1/m",
                   "rate_radps": "rad/s, signed", "angle_deg": "deg, body frame"},
-        "columns": sample_columns(s.drive),
+        "columns": sample_columns(s.drive) + trailer_sample_columns(s),
         "note": "t_s strictly increasing; rows every dt_s and at joints and ramp ends",
     }
 
@@ -496,7 +496,7 @@ def samples_to_csv(s: Schedule) -> str:
     buf.write("# units: " + "; ".join(f"{k} {v}" for k, v in meta["units"].items()) + "\n")
     buf.write("# columns: " + ", ".join(meta["columns"]) + "\n")
     w = csv.writer(buf, lineterminator="\n")
-    w.writerow(sample_columns(s.drive))
+    w.writerow(sample_columns(s.drive) + trailer_sample_columns(s))
     sm = s.samples
     curv = sample_curvature(s)
     for k in range(sm.t_s.size):
@@ -507,6 +507,7 @@ def samples_to_csv(s: Schedule) -> str:
         cells += [_cell(float(sm.rate_radps[n][k])) for n in s.drive.wheel_names]
         cells += [_cell(math.degrees(float(sm.angle_rad[n][k])))
                   for n in s.drive.steered_wheels]
+        cells += [_cell(v) for v in trailer_sample_cells(s, k)]
         w.writerow(cells)
     return buf.getvalue()
 
