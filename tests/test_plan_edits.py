@@ -169,3 +169,21 @@ def test_rebased_checker_answers_as_a_fresh_one_after_wall_edits():
         swept.append(checker.swept_count)
     # The far wall's edit re-sweeps nothing; the near ones only some segments.
     assert swept[0] == 0 and 0 < swept[1] < len(plan.segments)
+
+
+def test_hover_names_walls_obstacles_doors_and_zones_as_messages_do():
+    # Common practice: the name on screen is the name in the message ("wall 1").
+    from app.plan_tools import element_at
+    from kinematics.check.clearance import ObstacleIndex
+
+    fp = pe.add_wall(FloorPlan(), ((0, 0), (4, 0)), 0.2)
+    fp = pe.add_wall(fp, ((5, 0), (9, 0)), 0.2)
+    fp = pe.add_door(fp, (4, 0), (5, 0), "D-7")
+    fp = pe.add_circle(fp, (2, 3), 0.3, "pillar")
+    fp = pe.add_zone(fp, Zone("slow", ((6, 2), (8, 2), (8, 4), (6, 4)), "ward", speed_mps=0.5))
+    idx = ObstacleIndex(fp)
+    assert element_at(idx, 7.0, 0.05, 0.05)["name"] == "wall 1"
+    assert element_at(idx, 2.0, 3.31, 0.05)["name"] == "obstacle 0 (pillar)"
+    assert element_at(idx, 4.5, 0.0, 0.05)["text"] == "door D-7 (1.000 m wide)"
+    assert element_at(idx, 7.0, 3.0, 0.05)["text"] == "zone 0 (ward): slow, 0.5 m/s"
+    assert element_at(idx, 5.0, 6.0, 0.05) is None
