@@ -58,7 +58,11 @@ def build_parser() -> argparse.ArgumentParser:
     sp.add_argument("-o", "--output", metavar="FILE", help="write to FILE (atomically) "
                                                             "instead of standard output")
     sp.add_argument("--dt", type=float, default=0.1, metavar="SECONDS",
-                    help="time step of the samples (default 0.1 s)")
+                    help="time step of the samples, CSV and JSON (default 0.1 s)")
+    sp.add_argument("--samples", action="store_true",
+                    help="CSV: one row per time step (pose, speed, yaw rate, curvature, each "
+                         "wheel's rate and angle) after '#' lines naming chassis, limits and "
+                         "units, instead of one row per segment")
 
     sp = sub.add_parser("render", help="a PNG picture of plan, route, swept area and "
                                        "violations, without a screen")
@@ -92,14 +96,22 @@ def _selected_routes(project, name: str | None):
 
 
 def cmd_plan(args: argparse.Namespace) -> int:
+    from kinematics.analysis.report_text import route_stops
     from kinematics.files.jsonio import dumps
     from kinematics.files.project import load_project
     from kinematics.plan.planner import plan_route
 
     project = load_project(args.project)
-    plans = [plan_route(r, project.chassis) for r in _selected_routes(project, args.route)]
+    routes = _selected_routes(project, args.route)
+    plans = [plan_route(r, project.chassis) for r in routes]
     if args.json:
-        sys.stdout.write(dumps({"routes": [pl.to_dict() for pl in plans]}))
+        out = []
+        for pl, r in zip(plans, routes):
+            d = pl.to_dict()
+            if r.stops:
+                d["stops"] = [s.to_dict() for s in route_stops(pl, r)]
+            out.append(d)
+        sys.stdout.write(dumps({"routes": out}))
         return EXIT_OK
     from kinematics.analysis.report_text import format_plan_text
 
@@ -108,7 +120,7 @@ def cmd_plan(args: argparse.Namespace) -> int:
 
 
 def cmd_check(args: argparse.Namespace) -> int:
-    from kinematics.analysis.report_text import format_check_text
+    from kinematics.analysis.report_text import format_check_text, route_stops
     from kinematics.check.clearance import ObstacleIndex, check_route
     from kinematics.files.jsonio import dumps
     from kinematics.files.project import load_project
@@ -120,8 +132,10 @@ def cmd_check(args: argparse.Namespace) -> int:
     index = ObstacleIndex(project.floorplan)
     tol = args.tolerance_mm / 1000.0
     checks = []
+    stops: dict[str, list] = {}
     for route in _selected_routes(project, args.route):
         plan = plan_route(route, project.chassis)
+        stops[route.name] = route_stops(plan, route)
         chk = check_route(plan, project.chassis, index, tolerance_m=tol, route_name=route.name,
                           route=route)
         if args.sizing:
@@ -130,9 +144,15 @@ def cmd_check(args: argparse.Namespace) -> int:
             chk = attach_sizing(chk, plan, project, index, tolerance_m=tol)
         checks.append(chk)
     if args.json:
-        sys.stdout.write(dumps({"routes": [c.to_dict() for c in checks]}))
+        out = []
+        for c in checks:
+            d = c.to_dict()
+            if stops.get(c.name):
+                d["stops"] = [s.to_dict() for s in stops[c.name]]
+            out.append(d)
+        sys.stdout.write(dumps({"routes": out}))
     else:
-        sys.stdout.write(format_check_text(checks))
+        sys.stdout.write(format_check_text(checks, stops))
     return EXIT_OK if all(c.clear for c in checks) else EXIT_VIOLATION
 
 
@@ -140,15 +160,24 @@ def cmd_schedule(args: argparse.Namespace) -> int:
     from kinematics.files.jsonio import atomic_write_text, dumps
     from kinematics.files.project import load_project
     from kinematics.plan.planner import plan_route
-    from kinematics.timing.schedule import build_schedule, schedule_to_csv, schedule_to_dict
+    from kinematics.timing.schedule import (
+        build_schedule,
+        samples_to_csv,
+        schedule_to_csv,
+        schedule_to_dict,
+    )
 
     if not (args.dt > 0) or args.dt > 60:
         raise SwatheInputError("command line", "--dt", "expected a time step between 0 and 60 s")
     project = load_project(args.project)
     route = project.route(args.route)
     plan = plan_route(route, project.chassis)
-    sched = build_schedule(route.name, list(plan.segments), project.chassis, dt_s=args.dt)
-    text = schedule_to_csv(sched) if args.format == "csv" else dumps(schedule_to_dict(sched))
+    sched = build_schedule(route.name, list(plan.segments), project.chassis, dt_s=args.dt,
+                           zones=project.floorplan.zones, route=route)
+    if args.format == "csv":
+        text = samples_to_csv(sched) if args.samples else schedule_to_csv(sched)
+    else:
+        text = dumps(schedule_to_dict(sched))
     if args.output:
         _check_output_path(args.output)
         atomic_write_text(args.output, text)
@@ -189,7 +218,8 @@ def cmd_render(args: argparse.Namespace) -> int:
             raise SwatheInputError(args.project, "routes", "no route to plot")
         route = project.route(args.route) if args.route else project.routes[0]
         plan = plan_route(route, project.chassis)
-        sched = build_schedule(route.name, list(plan.segments), project.chassis)
+        sched = build_schedule(route.name, list(plan.segments), project.chassis,
+                               zones=project.floorplan.zones, route=route)
         render_plot_png(sched, args.plots, size=(args.width, max(args.height * 7 // 10, 150)),
                         x_axis=args.plots_against)
     return EXIT_OK

@@ -197,7 +197,7 @@ class Document(QObject):
         self.undo_stack.cleanChanged.connect(self._clean_changed)
         self._plans: dict[str, tuple[Route, Chassis, Any]] = {}
         self._checks: dict[str, tuple[Any, FloorPlan, Any]] = {}
-        self._schedules: dict[str, tuple[Any, Any]] = {}
+        self._schedules: dict[str, tuple[Any, Any, Any]] = {}
         self._checkers: dict[str, tuple[Chassis, FloorPlan, Any]] = {}
         self._errors: dict[str, str] = {}
         self._index: tuple[FloorPlan, Any] | None = None
@@ -349,17 +349,19 @@ class Document(QObject):
         if plan is None or not plan.segments:
             return None
         hit = self._schedules.get(name)
-        if hit is not None and hit[0] is plan:
+        if hit is not None and hit[0] is plan and hit[2] is self._project.floorplan:
             return hit[1]
         from kinematics.timing.schedule import build_schedule
 
         try:
             sched = build_schedule(name, list(plan.segments), self._project.chassis,
-                                   dt_s=self.schedule_dt_s)
+                                   dt_s=self.schedule_dt_s,
+                                   zones=self._project.floorplan.zones,
+                                   route=self._route_by_name(name))
         except SwatheInputError as exc:
             self._errors[name] = exc.message
             sched = None
-        self._schedules[name] = (plan, sched)
+        self._schedules[name] = (plan, sched, self._project.floorplan)
         return sched
 
     # -- applying a new tree ----------------------------------------------------------------
@@ -445,8 +447,10 @@ class Document(QObject):
         wps.insert(index, wp)
         text = (f"Add waypoint {index + 1}" if index == len(wps) - 1
                 else f"Insert waypoint {index + 1}")
-        self._push(text, self._with_route(route_i, dataclasses.replace(rt, waypoints=tuple(wps))),
-                   "routes")
+        stops = tuple(dataclasses.replace(s, waypoint=s.waypoint + 1) if s.waypoint >= index
+                      else s for s in rt.stops)
+        self._push(text, self._with_route(route_i, dataclasses.replace(
+            rt, waypoints=tuple(wps), stops=stops)), "routes")
 
     def move_waypoint(self, route_i: int, index: int, x: float, y: float,
                       drag: int | None = None) -> None:
@@ -466,9 +470,12 @@ class Document(QObject):
             return False
         wps = list(rt.waypoints)
         del wps[index]
+        # A stop at the deleted waypoint goes with it; later ones keep their waypoints.
+        stops = tuple(dataclasses.replace(s, waypoint=s.waypoint - (s.waypoint > index))
+                      for s in rt.stops if s.waypoint != index)
         self._push(f"Delete waypoint {index + 1}",
-                   self._with_route(route_i, dataclasses.replace(rt, waypoints=tuple(wps))),
-                   "routes")
+                   self._with_route(route_i, dataclasses.replace(
+                       rt, waypoints=tuple(wps), stops=stops)), "routes")
         return True
 
     def set_waypoint_heading(self, route_i: int, index: int, heading_deg: float | None,

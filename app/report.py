@@ -291,7 +291,10 @@ def _plots_in_gap(p: QPainter, rect: QRectF, project: Any, plans: dict, checks: 
         try:
             from kinematics.timing.schedule import build_schedule
 
-            sched = build_schedule(name, list(plan.segments), project.chassis)
+            sched = build_schedule(name, list(plan.segments), project.chassis,
+                                   zones=project.floorplan.zones,
+                                   route=next((r for r in project.routes if r.name == name),
+                                              None))
         except (SwatheInputError, ValueError):
             continue
         h = min(rect.height(), 520 * u)

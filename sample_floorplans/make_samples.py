@@ -320,6 +320,26 @@ def main() -> None:
             route("aisle-4-out", [(24.8, 30.0, 90), (24.8, 36.5, 90), (31.4, 36.5, -90),
                                   (31.4, 10.0, -90)], turn_radius_m=1.5),
         ]))
+    smooth_cart = dict(CLINIC_CART, name="hospital delivery cart, rate-limited",
+                       max_wheel_accel_radps2=6.0, max_yaw_accel_dps2=90.0)
+    write_json(HERE / "clinic_smooth.swathe.json", project(
+        "clinic.floor.json", smooth_cart, [
+            route("ward-to-room-208", [(8.2, 14.0), (8.2, 10.0), (21.25, 10.0),
+                                       (21.25, 13.5)], turn_radius_m=0.8,
+                  note="transitions absent: clothoid, as the chassis gives rate limits"),
+            route("ward-to-room-208-plain", [(8.2, 14.0), (8.2, 10.0), (21.25, 10.0),
+                                             (21.25, 13.5)], turn_radius_m=0.8,
+                  transitions="none", note="the same without transitions: it stops to turn"),
+        ]))
+    smooth_tug = dict(DEPOT_TUG, name="ackermann tow tug, rate-limited",
+                      max_steer_rate_dps=30.0, max_wheel_accel_radps2=4.0,
+                      note="the tug's turn onto the office side starts 1.5 m earlier than in "
+                           "depot_ackermann: its transition curves need the room")
+    write_json(HERE / "depot_ackermann_smooth.swathe.json", project(
+        "depot.floor.json", smooth_tug, [
+            route("cross-aisle-to-office-side", [(20.0, 36.8, 0), (46.5, 36.8, 0),
+                                                 (50.5, 26.0, -90)], turn_radius_m=2.5),
+        ]))
     write_json(HERE / "test_room.swathe.json", project(
         "test_room.floor.json", TEST_BOT, [
             route("room-to-corridor-end", [(2.5, 2.0, 0), (10.4, 2.0), (10.4, 6.0)]),

@@ -131,3 +131,66 @@ def test_cli_commands_import_neither_qt_nor_numpy_ma(command):
                          cwd=root, env={**__import__("os").environ, "PYTHONPATH": str(root)})
     assert out.returncode == 0, out.stderr
     assert out.stdout.strip() == "[]"
+
+
+def test_dubins_pairs_answer_alike_alone_and_in_blocks():
+    # Source: project rule (a warm planner, which connects only the moved legs, gives the
+    # fresh plan bit for bit), across the block boundaries of dubins.shortest.
+    from kinematics.plan import dubins
+
+    rng = np.random.default_rng(11)
+    n = 2 * dubins._BLOCK + 7
+    a = np.c_[rng.uniform(-10, 10, (n, 2)), rng.uniform(-np.pi, np.pi, n)]
+    b = np.c_[rng.uniform(-10, 10, (n, 2)), rng.uniform(-np.pi, np.pi, n)]
+    b[::5, :2] = a[::5, :2] + rng.uniform(-1.5, 1.5, (len(a[::5]), 2))  # CCC words too
+    whole = dubins.shortest(a, b, 0.8)
+    assert {int(w) for w in whole.word} == set(range(6))
+    for i in (0, 1, dubins._BLOCK - 1, dubins._BLOCK, n - 1):
+        one = dubins.shortest(a[i], b[i], 0.8)
+        assert one.length_m[0] == whole.length_m[i] and one.word[0] == whole.word[i]
+        assert np.array_equal(one.params[0], whole.params[i])
+
+
+@pytest.mark.parametrize("seed", [0, 1, 2])
+def test_waypoint_candidates_from_the_tree_are_the_dense_tables(seed, monkeypatch):
+    # Source: project rule (the O(n log n) search must give exactly the all-pairs answer),
+    # checked against the dense table on routes of boxes with repeats, points and far strays.
+    from kinematics.check import waypoints as W
+
+    rng = np.random.default_rng(seed)
+    m, n = 400, 300
+    lo = rng.uniform(-30, 30, (m, 2))
+    size = rng.uniform(0, 4, (m, 2)) * (rng.uniform(size=(m, 1)) > 0.2)  # some are points
+    boxes = np.c_[lo, lo + size]
+    boxes[50:60] = boxes[40:50]  # a route passing twice
+    xy = np.r_[rng.uniform(-35, 35, (n - 6, 2)), boxes[:5, :2], [[500.0, -400.0]]]
+    dense = W.candidate_pairs(xy, boxes)
+    monkeypatch.setattr(W, "DENSE_PAIRS", 0)
+    tree = W.candidate_pairs(xy, boxes)
+    assert np.array_equal(dense[0], tree[0]) and np.array_equal(dense[1], tree[1])
+
+
+def test_waypoint_check_of_a_long_route_answers_as_the_dense_one(monkeypatch):
+    # Source: project rule (a faster search never changes a verdict), on a 300-waypoint
+    # route through a rack field with some waypoints inside racks and beside them.
+    from kinematics.check import waypoints as W
+    from kinematics.check.clearance import ObstacleIndex, RouteChecker
+    from kinematics.files.floorplan import FloorPlan
+    from kinematics.files.project import Chassis, Route, Waypoint
+    from kinematics.plan.planner import plan_route
+
+    rng = np.random.default_rng(4)
+    obs = tuple(Obstacle(((x, y), (x + 0.8, y), (x + 0.8, y + 0.8), (x, y + 0.8)))
+                for x, y in rng.uniform(0, 60, (200, 2)))
+    idx = ObstacleIndex(FloorPlan("t", (), obs, ()))
+    pts = [(10 * (k % 6) + (k // 6) % 2 * 0.3, 1.2 * (k // 6)) for k in range(300)]
+    pts = [(x if (k // 6) % 2 == 0 else 55 - x, y) for k, (x, y) in enumerate(pts)]
+    route = Route("long", tuple(Waypoint(x, y) for x, y in pts), turn_radius_m=0.0)
+    ch = Chassis(track_m=0.5)
+    plan = plan_route(route, ch)
+    fast = RouteChecker(ch, idx).check(plan, route=route)
+    monkeypatch.setattr(W, "DENSE_PAIRS", 10 ** 12)
+    dense = RouteChecker(ch, idx).check(plan, route=route)
+    got = [v.to_dict() for v in fast.violations if v.kind == "waypoint_blocked"]
+    assert got == [v.to_dict() for v in dense.violations if v.kind == "waypoint_blocked"]
+    assert len(got) > 0

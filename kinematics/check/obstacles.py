@@ -17,6 +17,7 @@ import shapely
 from shapely.geometry import LineString
 from shapely.geometry.base import BaseGeometry
 
+from kinematics.check.zones import ZoneIndex
 from kinematics.files.floorplan import FloorPlan, Solid, solids
 from kinematics.files.jsonio import collector_held
 
@@ -47,6 +48,7 @@ class ObstacleIndex:
         self.door_lines = np.array([LineString([d.a, d.b]) for d in self.doors], dtype=object)
         self.door_boxes = np.array([door_box(d.a, d.b) for d in self.doors], dtype=object)
         self.door_tree = shapely.STRtree(self.door_lines)
+        self.zones = ZoneIndex(tuple(floorplan.zones))
 
     def __len__(self) -> int:
         return len(self.solids)

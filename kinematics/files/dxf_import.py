@@ -24,6 +24,9 @@ What is read, from model space only:
 - On a wall or obstacle layer a closed outline (closed polyline, circle, or a polyline
   whose last point is its first) is a solid :class:`~kinematics.files.floorplan.Obstacle`; an
   open one is a :class:`~kinematics.files.floorplan.Wall` of ``wall_thickness_m``.
+- ``zones=[ZoneLayer(...)]`` (in a project: ``"zones": [{"layer", "kind", ...}]``) turns
+  every closed outline on a named layer into a zone of that kind (open ones there are
+  skipped); a zone layer is read only as zones, whatever ``layers`` says.
 - On a door layer a LINE (or a two-point open polyline) is a door opening between its
   ends; other door-layer geometry (swing arcs, leaves) is skipped. A door is labelled by
   the nearest TEXT or MTEXT on a door layer within 1 m of its midpoint, else ``door N``.
@@ -44,7 +47,7 @@ import numpy as np
 
 from kinematics.errors import FileReadError, ValidationError
 from kinematics.files.curves import arc_points
-from kinematics.files.floorplan import Door, FloorPlan, Obstacle, Wall
+from kinematics.files.floorplan import Door, FloorPlan, Obstacle, Wall, Zone, ZoneLayer
 from kinematics.files.validate import MAX_COORD_M
 
 SAGITTA_M = 0.005
@@ -389,7 +392,8 @@ def _dedupe_points(pts: np.ndarray, tol: float) -> list[tuple[float, float]]:
 
 
 def import_dxf(path: str | Path, layers: dict[str, list[str]] | None = None,
-               units: str | None = None, wall_thickness_m: float = 0.1) -> FloorPlan:
+               units: str | None = None, wall_thickness_m: float = 0.1,
+               zones: tuple[ZoneLayer, ...] = ()) -> FloorPlan:
     """Read a DXF drawing as a :class:`~kinematics.files.floorplan.FloorPlan` in metres.
 
     Parameters
@@ -404,6 +408,8 @@ def import_dxf(path: str | Path, layers: dict[str, list[str]] | None = None,
         ``"mm"``, ``"cm"``, ``"m"``, ``"in"`` or ``"ft"``; overrides ``$INSUNITS``.
     wall_thickness_m : float
         Thickness given to open outlines on wall and obstacle layers.
+    zones : tuple of ZoneLayer
+        Layers whose closed outlines are zones.
 
     Returns
     -------
@@ -440,7 +446,17 @@ def import_dxf(path: str | Path, layers: dict[str, list[str]] | None = None,
         raise FileReadError(file, "", f"damaged DXF entity ({type(exc).__name__}: {exc})"
                             ) from None
 
+    zone_of = {z.layer.lower(): z for z in zones}
+    known = {n.lower() for n in present}
+    for i, z in enumerate(zones):
+        if z.layer.lower() not in known:
+            avail = ", ".join(repr(n) for n in present) or "none"
+            raise ValidationError(file, f"zones[{i}].layer",
+                                  f"layer {z.layer!r} is not in the drawing (layers: {avail})")
+
     def role_of(layer: str) -> str | None:
+        if layer.lower() in zone_of:
+            return "zones"
         if roles is None:
             return guess_role(layer)
         return roles.get(layer.lower())
@@ -448,6 +464,7 @@ def import_dxf(path: str | Path, layers: dict[str, list[str]] | None = None,
     walls: list[Wall] = []
     obstacles: list[Obstacle] = []
     doors_raw: list[tuple[tuple[float, float], tuple[float, float]]] = []
+    zone_list: list[Zone] = []
     used: dict[str, str] = {}
     tol = 1e-6  # metres: points closer than a micrometre are one point
     for sh in shapes:
@@ -470,6 +487,12 @@ def import_dxf(path: str | Path, layers: dict[str, list[str]] | None = None,
                 doors_raw.append((clean[0], clean[1]))
             continue
         closed = sh.closed or (len(clean) > 3 and math.dist(clean[0], clean[-1]) <= tol)
+        if role == "zones":
+            if closed and math.dist(clean[0], clean[-1]) <= tol:
+                clean = clean[:-1]
+            if closed and len(clean) >= 3:
+                zone_list.append(zone_of[sh.layer.lower()].zone(tuple(clean)))
+            continue
         if closed:
             if math.dist(clean[0], clean[-1]) <= tol:
                 clean = clean[:-1]
@@ -491,7 +514,7 @@ def import_dxf(path: str | Path, layers: dict[str, list[str]] | None = None,
                 best, label = d, s
         doors.append(Door(a, b, label))
 
-    if not (walls or obstacles or doors):
+    if not (walls or obstacles or doors or zone_list):
         named = sorted({n for names in (layers or {}).values() for n in names})
         which = ("the layers " + ", ".join(repr(n) for n in named)) if named else "any layer"
         raise ValidationError(file, "layers" if roles else "",
@@ -500,4 +523,7 @@ def import_dxf(path: str | Path, layers: dict[str, list[str]] | None = None,
     extra = {"dxf_import": {"units": unit_name, "metres_per_unit": scale,
                             "layers": {role: sorted(n for n, r in used.items() if r == role)
                                        for role in ROLES}}}
-    return FloorPlan(p.stem, tuple(walls), tuple(obstacles), tuple(doors), file, extra)
+    if zones:
+        extra["dxf_import"]["zone_layers"] = sorted(n for n, r in used.items() if r == "zones")
+    return FloorPlan(p.stem, tuple(walls), tuple(obstacles), tuple(doors), file, extra,
+                     tuple(zone_list))

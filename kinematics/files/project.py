@@ -20,6 +20,7 @@ from kinematics.files.floorplan import (
     check_footprint,
     floorplan_from_dict,
     floorplan_to_dict,
+    zone_layers_from,
 )
 from kinematics.files.jsonio import collector_held, read_json, write_json
 from kinematics.files.validate import (
@@ -55,8 +56,24 @@ class Waypoint:
 
 
 @dataclass(frozen=True)
+class Stop:
+    """The chassis comes to rest at waypoint ``waypoint`` (0-based) and waits ``dwell_s``."""
+
+    waypoint: int
+    dwell_s: float
+
+    def to_dict(self) -> dict:
+        return {"waypoint": self.waypoint, "dwell_s": self.dwell_s}
+
+
+#: Longest dwell read at one stop, s (a day). Common practice.
+MAX_DWELL_S = 86400.0
+
+
+@dataclass(frozen=True)
 class Route:
-    """A named route: waypoints, the radius it turns with, and whether it may reverse."""
+    """A named route: waypoints, the radius it turns with, whether it may reverse, and the
+    waypoints where it stops and waits (``stops``, in waypoint order)."""
 
     name: str
     waypoints: tuple[Waypoint, ...]
@@ -64,6 +81,23 @@ class Route:
     reverse: bool = False
     extra: dict = field(default_factory=dict, compare=False)
     chassis: str | None = None
+    stops: tuple[Stop, ...] = ()
+    #: ``"clothoid"``, ``"none"``, or ``None`` where the file does not say (see
+    #: :func:`route_transitions`).
+    transitions: str | None = None
+
+
+TRANSITIONS = ("clothoid", "none")
+
+
+def route_transitions(route: Route, chassis: Chassis) -> str:
+    """The transitions a route is planned with: its own ``transitions`` where given, else
+    ``"clothoid"`` if the chassis gives one of the rate limits that need them
+    (:data:`TRANSITION_LIMITS`) and ``"none"`` otherwise, so older files keep their meaning."""
+    if route.transitions is not None:
+        return route.transitions
+    return "clothoid" if any(getattr(chassis, k) is not None for k in TRANSITION_LIMITS) \
+        else "none"
 
 
 @dataclass(frozen=True)
@@ -105,6 +139,9 @@ class Chassis:
     effective_track_factor: float = 1.0
     trailers: tuple[Trailer, ...] = ()
     extra: dict = field(default_factory=dict, compare=False)
+    max_steer_rate_dps: float | None = None
+    max_wheel_accel_radps2: float | None = None
+    max_yaw_accel_dps2: float | None = None
 
     def trailer_margin(self, i: int) -> float:
         """Margin kept by trailer ``i`` (its own, else the chassis margin), metres."""
@@ -173,6 +210,13 @@ _POSITIVE = ("wheel_radius_m", "track_m", "wheelbase_m", "max_speed_mps", "max_a
              "max_decel_mps2", "max_wheel_rate_radps", "max_lateral_accel_mps2",
              "max_yaw_rate_dps", "effective_track_factor")
 _NON_NEGATIVE = ("margin_m", "min_turn_radius_m")
+#: The rate-of-change limits (optional) and the range each is read in. Below the least a
+#: transition curve would be longer than any building (common practice); above the largest
+#: the number cannot be a drive's (a steering motor turning 20 turns a second, a wheel
+#: gaining 10 000 rad/s each second).
+TRANSITION_LIMITS = {"max_steer_rate_dps": (0.1, 7200.0),
+                     "max_wheel_accel_radps2": (0.01, 10000.0),
+                     "max_yaw_accel_dps2": (0.1, 100000.0)}
 
 
 def chassis_from_dict(d: Any, file: str, place: str = "chassis") -> Chassis:
@@ -204,10 +248,12 @@ def chassis_from_dict(d: Any, file: str, place: str = "chassis") -> Chassis:
             raise r.fail(join(place, key), f"missing; a {drive} chassis needs {key}")
     if drive == "differential" and vals["track_m"] is None:
         raise r.fail(join(place, "track_m"), "missing; a differential chassis needs track_m")
+    for key, (lo, hi) in TRANSITION_LIMITS.items():
+        vals[key] = r.opt_number(d, key, place, None, positive=True, minimum=lo, maximum=hi)
     name = r.text(d.get("name", "chassis"), join(place, "name"))
     trailers = _trailers_from(r, d, place)
     known = {"name", "drive", "footprint", "max_steer_deg", "trailers", *_POSITIVE,
-             *_NON_NEGATIVE}
+             *_NON_NEGATIVE, *TRANSITION_LIMITS}
     extra = r.extras(d, known, place)
     defaults = Chassis()
     return Chassis(
@@ -224,6 +270,7 @@ def chassis_from_dict(d: Any, file: str, place: str = "chassis") -> Chassis:
         max_yaw_rate_dps=vals["max_yaw_rate_dps"],
         effective_track_factor=vals["effective_track_factor"] or 1.0,
         trailers=trailers, extra=extra,
+        **{k: vals[k] for k in TRANSITION_LIMITS},
     )
 
 
@@ -302,6 +349,10 @@ def chassis_to_dict(c: Chassis) -> dict:
         v = getattr(c, key)
         if v is not None:
             d[key] = v
+    for key in TRANSITION_LIMITS:
+        v = getattr(c, key)
+        if v is not None:
+            d[key] = v
     if c.effective_track_factor != 1.0:
         d["effective_track_factor"] = c.effective_track_factor
     if c.trailers:
@@ -336,11 +387,37 @@ def route_from_dict(d: Any, file: str, place: str) -> Route:
     radius = r.opt_number(d, "turn_radius_m", place, 0.0, non_negative=True,
                           maximum=MAX_ROUTE_SPAN_M)
     reverse = r.boolean(d.get("reverse", False), join(place, "reverse"))
+    transitions = None
+    if d.get("transitions") is not None:
+        transitions = r.text(d["transitions"], join(place, "transitions"))
+        if transitions not in TRANSITIONS:
+            raise r.fail(join(place, "transitions"), f"expected \"clothoid\" or \"none\", "
+                         f"got {transitions!r}")
+    stops = _stops_from(r, d.get("stops", []), join(place, "stops"), len(wps))
     vehicle = d.get("chassis")
     if vehicle is not None:
         vehicle = r.text(vehicle, join(place, "chassis"))
-    extra = r.extras(d, {"name", "waypoints", "turn_radius_m", "reverse", "chassis"}, place)
-    return Route(name, tuple(wps), float(radius or 0.0), reverse, extra, vehicle)
+    extra = r.extras(d, {"name", "waypoints", "turn_radius_m", "reverse", "chassis", "stops",
+                         "transitions"}, place)
+    return Route(name, tuple(wps), float(radius or 0.0), reverse, extra, vehicle, stops,
+                 transitions)
+
+
+def _stops_from(r: Reader, value: Any, place: str, n_waypoints: int) -> tuple[Stop, ...]:
+    out: list[Stop] = []
+    for i, s in enumerate(r.lst(value, place)):
+        sp = join(place, i)
+        s = r.obj(s, sp)
+        w = r.get(s, "waypoint", sp)
+        if isinstance(w, bool) or not isinstance(w, int) or not 0 <= w < n_waypoints:
+            raise r.fail(join(sp, "waypoint"), f"expected a waypoint index 0..{n_waypoints - 1}"
+                         f" (0 is the first waypoint), got {w!r}")
+        dwell = r.number(r.get(s, "dwell_s", sp), join(sp, "dwell_s"), non_negative=True,
+                         maximum=MAX_DWELL_S)
+        if any(o.waypoint == w for o in out):
+            raise r.fail(join(sp, "waypoint"), f"waypoint {w} already has a stop")
+        out.append(Stop(w, dwell))
+    return tuple(sorted(out, key=lambda s: s.waypoint))
 
 
 def route_to_dict(rt: Route) -> dict:
@@ -348,6 +425,10 @@ def route_to_dict(rt: Route) -> dict:
                          "turn_radius_m": rt.turn_radius_m, "reverse": rt.reverse}
     if rt.chassis is not None:
         d["chassis"] = rt.chassis
+    if rt.stops:
+        d["stops"] = [s.to_dict() for s in rt.stops]
+    if rt.transitions is not None:
+        d["transitions"] = rt.transitions
     for k, v in rt.extra.items():
         d.setdefault(k, v)
     return d
@@ -387,7 +468,9 @@ def _load_floorplan_ref(ref: Any, file: str, base_dir: Path) -> FloorPlan:
             if "wall_thickness_m" in ref:
                 opts["wall_thickness_m"] = r.number(ref["wall_thickness_m"],
                                                     "floorplan.wall_thickness_m", positive=True)
-        elif target.suffix.lower() == ".svg":
+        if "zones" in ref and target.suffix.lower() in (".dxf", ".svg"):
+            opts["zones"] = zone_layers_from(ref["zones"], file, "floorplan.zones")
+        if target.suffix.lower() == ".svg":
             if "metres_per_unit" in ref:
                 opts["metres_per_unit"] = r.number(ref["metres_per_unit"],
                                                    "floorplan.metres_per_unit", positive=True)
@@ -473,7 +556,8 @@ def save_project(p: Project, path: str | Path, inline_floorplan: bool = False) -
     write_json(path, project_to_dict(p, inline_floorplan))
 
 
-__all__ = ["Waypoint", "Route", "Chassis", "Trailer", "trailer_from_dict", "trailer_to_dict",
-           "Project", "load_project", "save_project",
+__all__ = ["Waypoint", "Stop", "Route", "Chassis", "Trailer", "trailer_from_dict",
+           "trailer_to_dict", "Project", "load_project", "save_project",
            "project_from_dict", "project_to_dict", "chassis_from_dict", "chassis_to_dict",
-           "route_from_dict", "route_to_dict", "SwatheInputError", "DRIVES"]
+           "route_from_dict", "route_to_dict", "SwatheInputError", "DRIVES",
+           "TRANSITIONS", "TRANSITION_LIMITS", "route_transitions"]

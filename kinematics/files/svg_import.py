@@ -30,6 +30,10 @@ What is read:
   such as swing arcs, are skipped); ``wall`` in ``id``/``class`` forces a wall (a closed
   shape then becomes a closed wall line). A wall is as thick as its ``stroke-width``, else
   0.1 m.
+- Zones: ``zones=[ZoneLayer(...)]`` (in a project: ``"zones": [{"layer", "kind", ...}]``)
+  turns every closed shape whose ``id`` or Inkscape layer label (``inkscape:label``), or
+  that of a group it sits in, is a named layer into a zone of that kind; open shapes there
+  are skipped.
 """
 
 from __future__ import annotations
@@ -44,8 +48,10 @@ import numpy as np
 
 from kinematics.errors import FileReadError, ValidationError
 from kinematics.files.curves import MAX_CHORDS, chord_count
-from kinematics.files.floorplan import Door, FloorPlan, Obstacle, Wall
+from kinematics.files.floorplan import Door, FloorPlan, Obstacle, Wall, Zone, ZoneLayer
 from kinematics.files.validate import MAX_COORD_M
+
+_INKSCAPE_LABEL = "{http://www.inkscape.org/namespaces/inkscape}label"
 
 TOLERANCE_M = 0.005
 """Largest distance between a curve and the chords that replace it, in plan metres."""
@@ -484,6 +490,7 @@ class _Found:
     label: str
     thickness_units: float | None  # inherited stroke width, root user units
     two_point: bool
+    names: tuple[str, ...] = ()  # ids and layer labels of the element and its groups
 
 
 class _Walker:
@@ -496,8 +503,11 @@ class _Walker:
         self.using: set[int] = set()
 
     def walk(self, el: Element, ctm: np.ndarray, marker: str | None, depth: int,
-             via_use: bool = False, stroke: float | None = None) -> None:
+             via_use: bool = False, stroke: float | None = None,
+             names: tuple[str, ...] = ()) -> None:
         tag = _local(el.tag)
+        names = names + tuple(n.lower() for n in (el.get("id"), el.get(_INKSCAPE_LABEL))
+                              if n)
         self.count += 1
         number = self.count
         if self.count > _MAX_ELEMENTS:
@@ -524,11 +534,11 @@ class _Walker:
                 if tag == "svg":
                     m = m @ _matrix(1, 0, 0, 1, _length(el, "x"), _length(el, "y"))
                 for child in el:
-                    self.walk(child, m, mk, depth + 1, stroke=stroke)
+                    self.walk(child, m, mk, depth + 1, stroke=stroke, names=names)
                 return
             if tag == "svg":
                 for child in el:
-                    self.walk(child, m, mk, depth + 1, stroke=stroke)
+                    self.walk(child, m, mk, depth + 1, stroke=stroke, names=names)
                 return
             if tag == "use":
                 href = el.get("href") or el.get("{http://www.w3.org/1999/xlink}href") or ""
@@ -540,7 +550,8 @@ class _Walker:
                 m = m @ _matrix(1, 0, 0, 1, _length(el, "x"), _length(el, "y"))
                 self.using.add(id(target))
                 try:
-                    self.walk(target, m, mk, depth + 1, via_use=True, stroke=stroke)
+                    self.walk(target, m, mk, depth + 1, via_use=True, stroke=stroke,
+                              names=names)
                 finally:
                     self.using.discard(id(target))
                 return
@@ -562,7 +573,7 @@ class _Walker:
             if not np.all(np.isfinite(world)):
                 raise FileReadError(self.file, _describe(el, tag, number),
                                     "coordinates out of range")
-            self.found.append(_Found(world, closed, mk, label, thickness, two))
+            self.found.append(_Found(world, closed, mk, label, thickness, two, names))
 
 
 def _read_root(p: Path) -> Element:
@@ -602,7 +613,8 @@ def _read_root(p: Path) -> Element:
     return root
 
 
-def import_svg(path: str | Path, metres_per_unit: float = 0.01) -> FloorPlan:
+def import_svg(path: str | Path, metres_per_unit: float = 0.01,
+               zones: tuple[ZoneLayer, ...] = ()) -> FloorPlan:
     """Read an SVG drawing as a :class:`~kinematics.files.floorplan.FloorPlan` in metres.
 
     Parameters
@@ -611,6 +623,8 @@ def import_svg(path: str | Path, metres_per_unit: float = 0.01) -> FloorPlan:
         The SVG file.
     metres_per_unit : float
         Metres per SVG user unit (default 0.01: the drawing is in centimetres).
+    zones : tuple of ZoneLayer
+        Group or element ids (or Inkscape layer labels) whose closed shapes are zones.
 
     Returns
     -------
@@ -652,6 +666,8 @@ def import_svg(path: str | Path, metres_per_unit: float = 0.01) -> FloorPlan:
     walls: list[Wall] = []
     obstacles: list[Obstacle] = []
     doors: list[Door] = []
+    zone_list: list[Zone] = []
+    zone_of = {z.layer.lower(): z for z in zones}
 
     def to_plan(pts: np.ndarray) -> tuple[tuple[float, float], ...]:
         x = (pts[:, 0] - left) * metres_per_unit
@@ -675,6 +691,12 @@ def import_svg(path: str | Path, metres_per_unit: float = 0.01) -> FloorPlan:
                 doors.append(Door(pts[0], pts[1], f.label or f"door {len(doors) + 1}"))
             continue
         closed = f.closed or (len(pts) > 3 and pts[0] == pts[-1])
+        rule = next((zone_of[n] for n in reversed(f.names) if n in zone_of), None)
+        if rule is not None:
+            ring = pts[:-1] if len(pts) > 1 and pts[0] == pts[-1] else pts
+            if closed and len(ring) >= 3:
+                zone_list.append(rule.zone(ring))
+            continue
         if f.marker == "wall" or not closed:
             if len(pts) < 2:
                 continue
@@ -689,7 +711,8 @@ def import_svg(path: str | Path, metres_per_unit: float = 0.01) -> FloorPlan:
                 obstacles.append(Obstacle(ring, f.label))
     name = root.findtext("{http://www.w3.org/2000/svg}title") or root.findtext("title") or p.stem
     return FloorPlan(name.strip() or p.stem, tuple(walls), tuple(obstacles), tuple(doors),
-                     file, {"svg_import": {"metres_per_unit": metres_per_unit}})
+                     file, {"svg_import": {"metres_per_unit": metres_per_unit}},
+                     tuple(zone_list))
 
 
 __all__ = ["import_svg", "parse_path", "parse_transform", "arc_points", "bezier_points"]
