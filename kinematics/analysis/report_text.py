@@ -60,13 +60,22 @@ def format_plan_text(plans: Sequence[Any], project: Any = None) -> str:
     """A readable listing of every planned route: segments, stops, issues, chosen headings
     and the planner's notes."""
     out: list[str] = []
+    fleet = tuple(getattr(project, "fleet", ())) if project is not None else ()
     if project is not None:
-        c = project.chassis
-        out.append(f"Chassis: {c.name} ({c.drive})")
+        for c in fleet or (project.chassis,):
+            tows = ", ".join(t.name for t in getattr(c, "trailers", ()))
+            out.append(f"{'Vehicle' if len(fleet) > 1 else 'Chassis'}: {c.name} ({c.drive})"
+                       + (f", towing {tows}" if tows else ""))
     for pl in plans:
         out.append("")
+        who = ""
+        if len(fleet) > 1:
+            try:
+                who = f", vehicle {project.chassis_for(pl.name).name!r}"
+            except Exception:  # noqa: BLE001 - a plan not of this project: no vehicle named
+                who = ""
         out.append(f"Route {pl.name!r}: {len(pl.segments)} segments, {pl.length_m:.3f} m, "
-                   f"drive {pl.drive}")
+                   f"drive {pl.drive}{who}")
         for i, seg in enumerate(pl.segments):
             out.append(_segment_line(i, seg))
         if project is not None:
@@ -96,8 +105,17 @@ def format_check_text(checks: Sequence[Any], stops: dict[str, list] | None = Non
                 least += (f" at station {a['station_m']:.2f} m ({a['x']:.2f}, {a['y']:.2f})"
                           + (f" to {a['solid']}" if a.get("solid") else ""))
         state = "CLEAR" if c.clear else f"{len(c.violations)} problem(s)"
-        out.append(f"Route {c.name!r}: {state}; {least}; margin {c.margin_m * 1000:.0f} mm, "
-                   f"tolerance {c.tolerance_m * 1000:.1f} mm")
+        who = f" (vehicle {c.chassis_name!r})" if getattr(c, "chassis_name", "") else ""
+        out.append(f"Route {c.name!r}{who}: {state}; {least}; margin "
+                   f"{c.margin_m * 1000:.0f} mm, tolerance {c.tolerance_m * 1000:.1f} mm")
+        train = getattr(c, "train", None)
+        for b in (train.bodies if train is not None else ()):
+            bc = b["min_clearance_m"]
+            txt = "-" if bc is None else f"{bc * 1000:.0f} mm"
+            hitch = (f", largest hitch angle {b['max_hitch_deg']:.0f} deg"
+                     if "max_hitch_deg" in b else "")
+            out.append(f"  {b['body']}: least clearance {txt} (margin "
+                       f"{b['margin_m'] * 1000:.0f} mm){hitch}")
         for v in c.violations:
             seg = "-" if v.segment is None else str(v.segment)
             out.append(f"  {v.kind:<16} seg {seg:>3}  station {v.station_m:8.2f} m  "

@@ -60,6 +60,10 @@ class Samples:
     omega_radps: NDArray[np.float64]
     rate_radps: dict[str, NDArray[np.float64]]
     angle_rad: dict[str, NDArray[np.float64]]
+    #: A train's trailers at each sample: shape (samples, trailers, 4) holding x, y (axle
+    #: midpoint), heading and hitch angle (to the body ahead), radians; ``None`` without.
+    trailers: NDArray[np.float64] | None = None
+    trailer_names: tuple[str, ...] = ()
 
 
 @dataclass(frozen=True)
@@ -241,6 +245,7 @@ def build_schedule(route_name: str, segments: Sequence[Segment], chassis,
         vy_mps=vy, omega_radps=omega,
         rate_radps={k: np.asarray(cmd.rate_radps[k]) for k in drive.wheel_names},
         angle_rad={k: np.asarray(dir_cmd.angle_rad[k]) for k in drive.steered_wheels},
+        **_trailer_samples(prof, chassis, idx, st.progress),
     )
     return Schedule(route_name, drive, prof,
                     {k: np.asarray(cruise_cmd.rate_radps[k]) for k in drive.wheel_names},
@@ -264,6 +269,52 @@ def _steer_in_holds(prof: SpeedProfile, drive: DriveModel, idx: NDArray, tau: ND
         ea, sb = joint_angles(drive, a, True), joint_angles(drive, b, False)
         for w in drive.steered_wheels:
             angles[w][m] = float(ea[w]) + f * (float(sb[w]) - float(ea[w]))
+
+
+def _trailer_samples(profile: SpeedProfile, chassis, idx: NDArray, progress: NDArray) -> dict:
+    """The trailers' poses and hitch angles at the samples (nothing for a lone chassis)."""
+    trailers = tuple(getattr(chassis, "trailers", ()) or ())
+    if not trailers or not profile.segments or idx.size == 0:
+        return {}
+    from kinematics.motion.trailers import hitch_angles, trace_train
+
+    trace = trace_train(profile.segments, trailers)
+    out = np.zeros((idx.size, len(trailers), 4))
+    for i in np.unique(idx).tolist():
+        m = idx == i
+        amount = profile.amount[i]
+        f = progress[m] / amount if amount > 0 else np.ones(int(m.sum()))
+        poses = trace.poses(i, np.clip(f, 0.0, 1.0) * trace.amount(i))
+        out[m, :, :3] = poses[:, 1:]
+        out[m, :, 3] = hitch_angles(poses)
+    return {"trailers": out, "trailer_names": tuple(t.name for t in trailers)}
+
+
+def trailer_sample_columns(s: Schedule) -> list[str]:
+    """Per-sample CSV columns of a train's trailers (``trailer1_x`` ... ``trailer1_hitch_deg``;
+    none for a lone chassis)."""
+    return [f"trailer{j + 1}_{k}" for j in range(len(s.samples.trailer_names))
+            for k in ("x", "y", "heading_deg", "hitch_deg")]
+
+
+def trailer_sample_cells(s: Schedule, k: int) -> list[float]:
+    """The values of :func:`trailer_sample_columns` at sample ``k``."""
+    tr = s.samples.trailers
+    if tr is None:
+        return []
+    out: list[float] = []
+    for j in range(tr.shape[1]):
+        x, y, th, hitch = tr[k, j]
+        out += [float(x), float(y), math.degrees(float(th)), math.degrees(float(hitch))]
+    return out
+
+
+def _trailer_dicts(s: Schedule, k: int) -> list[dict]:
+    tr = s.samples.trailers
+    return [{"name": n, "x": float(tr[k, j, 0]), "y": float(tr[k, j, 1]),
+             "heading_deg": math.degrees(float(tr[k, j, 2])),
+             "hitch_deg": math.degrees(float(tr[k, j, 3]))}
+            for j, n in enumerate(s.samples.trailer_names)]
 
 
 # -- export ---------------------------------------------------------------------------------
@@ -336,6 +387,8 @@ def schedule_to_dict(s: Schedule) -> dict:
             "curvature_per_m": float(curv[k]),
             "wheels": _wheels(s.drive, sm.rate_radps, sm.angle_rad, k),
         })
+        if sm.trailers is not None:
+            samples[-1]["trailers"] = _trailer_dicts(s, k)
     out = {
         "meta": schedule_meta(s),
         "route": s.route,
@@ -492,7 +545,8 @@ def schedule_series(s: Schedule) -> dict:
     -------
     dict
         ``t_s``, ``station_m``, ``v_mps``, ``omega_radps``, ``segment``, ``x``, ``y``,
-        ``heading_deg``; ``rate_radps`` and ``angle_deg`` (dicts by wheel name); ``limits``:
+        ``heading_deg``; ``rate_radps`` and ``angle_deg`` (dicts by wheel name); ``hitch_deg``
+        (by trailer name); ``limits``:
         the scalar chassis limits (``None`` where absent) and ``speed_cap_mps``, the speed cap
         of each sample's segment (NaN in pivots), with ``yaw_cap_radps`` (NaN off pivots).
     """
@@ -507,6 +561,10 @@ def schedule_series(s: Schedule) -> dict:
         "heading_deg": np.degrees(sm.heading_rad),
         "rate_radps": dict(sm.rate_radps),
         "angle_deg": {k: np.degrees(v) for k, v in sm.angle_rad.items()},
+        # A train's hitch angles by trailer name, degrees (empty for a lone chassis).
+        "hitch_deg": ({} if sm.trailers is None else
+                      {n: np.degrees(sm.trailers[:, j, 3])
+                       for j, n in enumerate(sm.trailer_names)}),
         "limits": {
             "max_speed_mps": lim.max_speed_mps,
             "max_wheel_rate_radps": lim.max_wheel_rate_radps,
