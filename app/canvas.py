@@ -55,6 +55,7 @@ from .palette import (  # noqa: F401 - the whole set, as other views import it f
     WALL_FILL,
     YELLOW,
 )
+from .plan_tools import element_at
 from .zone_paint import ZONE_STYLE, zone_brush
 
 # Marker shape per violation kind (pyqtgraph symbol names); the words beside them are the
@@ -1105,8 +1106,12 @@ class PlanCanvas(QWidget):
         self.last_hover = info
         if info is None:
             self.hover_item.setData([], [])
-            self.hoverInfo.emit("")
-            self.plot.setToolTip("")
+            # Off the route: name the wall, obstacle, door or zone under the pointer.
+            el = element_at(self.doc.obstacle_index(), x, y, HIT_PX * self.px_m())
+            self.last_hover_element = el
+            text = "" if el is None else el["text"]
+            self.hoverInfo.emit(text)
+            self.plot.setToolTip(text)
             return
         self.hover_item.setData([info["x"]], [info["y"]])
         self.hoverInfo.emit(info["text"])

@@ -325,7 +325,11 @@ class Document(QObject):
             from kinematics.check.clearance import RouteChecker
         except ImportError:
             return None
-        checker = RouteChecker(chassis, self.obstacle_index())
+        if hit is not None and hit[0] is chassis and hasattr(hit[2], "rebased"):
+            # The floor plan was edited: keep what the edit cannot reach.
+            checker = hit[2].rebased(self.obstacle_index())
+        else:
+            checker = RouteChecker(chassis, self.obstacle_index())
         self._checkers[name] = (chassis, fp, checker)
         return checker
 
