@@ -174,9 +174,15 @@ def _poses(profile: SpeedProfile, idx: NDArray, progress: NDArray) -> NDArray[np
     return out
 
 
+MAX_SAMPLES = 2_000_000
+"""Most timed samples one schedule holds (about 400 MB as JSON); a route that would need more
+at its time step is refused before any sample is made."""
+
+
 def build_schedule(route_name: str, segments: Sequence[Segment], chassis,
                    dt_s: float = 0.1, zones: Sequence[Zone] = (),
-                   route: Route | None = None) -> Schedule:
+                   route: Route | None = None, file: str = "<schedule>",
+                   place: str = "") -> Schedule:
     """The wheel-rate schedule of a planned route.
 
     Parameters
@@ -192,6 +198,8 @@ def build_schedule(route_name: str, segments: Sequence[Segment], chassis,
         The floor plan's zones; ``slow`` ones cap the speed (:mod:`kinematics.timing.zones`).
     route : Route, optional
         Its ``stops``: the chassis rests there and waits.
+    file, place : str
+        Named in a refusal (the project file and the route's key path).
 
     Returns
     -------
@@ -200,22 +208,34 @@ def build_schedule(route_name: str, segments: Sequence[Segment], chassis,
     Raises
     ------
     ValidationError
-        ``dt_s`` not positive, or the chassis lacks a dimension its drive needs.
+        ``dt_s`` not positive, the chassis lacks a dimension its drive needs, a pivot on a
+        drive that cannot pivot, or more than :data:`MAX_SAMPLES` samples.
     """
     if not (isinstance(dt_s, (int, float)) and math.isfinite(dt_s) and dt_s > 0):
         raise ValidationError("<schedule>", "dt_s", f"a positive time step in s, got {dt_s!r}")
     drive = drive_for(chassis)
     pieces = None
     stops = tuple(getattr(route, "stops", ()) or ())
-    if stops or any(z.kind == "slow" for z in zones):
-        pieces = split_route(segments, chassis.footprint, zones,
-                             route.waypoints if route is not None else (), stops)
-        prof = speed_profile(pieces.pieces, drive, Limits.from_chassis(chassis),
-                             caps=[None if c is None else (c, SLOW_ZONE) for c in pieces.cap],
-                             rest_before=pieces.rest_before, dwell_s=pieces.dwell_s)
-    else:
-        prof = speed_profile(segments, drive, Limits.from_chassis(chassis))
+    try:
+        if stops or any(z.kind == "slow" for z in zones):
+            pieces = split_route(segments, chassis.footprint, zones,
+                                 route.waypoints if route is not None else (), stops)
+            prof = speed_profile(pieces.pieces, drive, Limits.from_chassis(chassis),
+                                 caps=[None if c is None else (c, SLOW_ZONE) for c in pieces.cap],
+                                 rest_before=pieces.rest_before, dwell_s=pieces.dwell_s)
+        else:
+            prof = speed_profile(segments, drive, Limits.from_chassis(chassis))
+    except ValidationError as exc:
+        where = f"{place}, {exc.place}" if place and exc.place else (place or exc.place)
+        raise ValidationError(file, where, exc.expected) from None
     n = len(prof.segments)
+    total = prof.total_time_s
+    need = total / float(dt_s) + 2 * n + 2  # the grid, plus joints and ramp ends
+    if not need <= MAX_SAMPLES:
+        raise ValidationError(file, place or "dt_s",
+                              f"the schedule would need {need:.2g} samples (the route takes "
+                              f"{total:.4g} s at a time step of {dt_s:g} s; at most "
+                              f"{MAX_SAMPLES:.0e}); raise --dt or check max_speed_mps")
 
     unit = _segment_unit_twists(prof)
     cruise = prof.rate_cruise[:, None] * unit if n else np.zeros((0, 3))
