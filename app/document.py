@@ -28,7 +28,7 @@ from PySide6.QtGui import QUndoCommand, QUndoStack
 
 from kinematics.analysis.results import clearance_words  # noqa: F401 - the window imports it here
 from kinematics.errors import SwatheInputError
-from kinematics.files.floorplan import FloorPlan
+from kinematics.files.floorplan import FloorPlan, save_floorplan
 from kinematics.files.project import Chassis, Project, Route, Waypoint, load_project, save_project
 
 _LEAK_PROBE_CALLS = 64  # void calls measured; a leaking binding loses one reference each
@@ -191,13 +191,14 @@ class Document(QObject):
     def __init__(self, project: Project | None = None, parent: QObject | None = None) -> None:
         super().__init__(parent)
         self._project = project if project is not None else empty_project()
+        self._saved_floorplan = self._project.floorplan
         self._current = 0 if self._project.routes else -1
         self._forced_dirty = False
         self.undo_stack = QUndoStack(self)
         self.undo_stack.cleanChanged.connect(self._clean_changed)
         self._plans: dict[str, tuple[Route, Chassis, Any]] = {}
         self._checks: dict[str, tuple[Any, FloorPlan, Any]] = {}
-        self._schedules: dict[str, tuple[Any, Any]] = {}
+        self._schedules: dict[str, tuple[Any, Any, Any]] = {}
         self._checkers: dict[str, tuple[Chassis, FloorPlan, Any]] = {}
         self._errors: dict[str, str] = {}
         self._index: tuple[FloorPlan, Any] | None = None
@@ -279,7 +280,7 @@ class Document(QObject):
         route = self._route_by_name(name)
         if route is None:
             return None
-        chassis = self._project.chassis
+        chassis = self.vehicle(name)
         hit = self._plans.get(name)
         if hit is not None and hit[0] == route and hit[1] is chassis:
             return hit[2]
@@ -305,8 +306,18 @@ class Document(QObject):
             self._route_planner = RoutePlanner()
         return self._route_planner
 
+    def vehicle(self, name: str) -> Any:
+        """The chassis that drives route ``name`` (the fleet member it names, else the
+        project's chassis)."""
+        route = self._route_by_name(name)
+        try:
+            return self._project.chassis_for(route) if route is not None else \
+                self._project.chassis
+        except SwatheInputError:
+            return self._project.chassis
+
     def _checker(self, name: str) -> Any:
-        chassis, fp = self._project.chassis, self._project.floorplan
+        chassis, fp = self.vehicle(name), self._project.floorplan
         hit = self._checkers.get(name)
         if hit is not None and hit[0] is chassis and hit[1] is fp:
             return hit[2]
@@ -314,7 +325,11 @@ class Document(QObject):
             from kinematics.check.clearance import RouteChecker
         except ImportError:
             return None
-        checker = RouteChecker(chassis, self.obstacle_index())
+        if hit is not None and hit[0] is chassis and hasattr(hit[2], "rebased"):
+            # The floor plan was edited: keep what the edit cannot reach.
+            checker = hit[2].rebased(self.obstacle_index())
+        else:
+            checker = RouteChecker(chassis, self.obstacle_index())
         self._checkers[name] = (chassis, fp, checker)
         return checker
 
@@ -335,8 +350,13 @@ class Document(QObject):
             else:
                 from kinematics.check.clearance import check_route
 
-                chk = check_route(plan, self._project.chassis, self.obstacle_index(),
+                chk = check_route(plan, self.vehicle(name), self.obstacle_index(),
                                   route_name=name, route=route)
+            if chk is not None:
+                from kinematics.analysis.results import check_with_vehicle
+
+                chk = check_with_vehicle(plan, self.vehicle(name), self.obstacle_index(),
+                                         route=route, tug_check=chk)
         except SwatheInputError as exc:
             self._errors[name] = exc.message
             chk = None
@@ -349,17 +369,19 @@ class Document(QObject):
         if plan is None or not plan.segments:
             return None
         hit = self._schedules.get(name)
-        if hit is not None and hit[0] is plan:
+        if hit is not None and hit[0] is plan and hit[2] is self._project.floorplan:
             return hit[1]
         from kinematics.timing.schedule import build_schedule
 
         try:
-            sched = build_schedule(name, list(plan.segments), self._project.chassis,
-                                   dt_s=self.schedule_dt_s)
+            sched = build_schedule(name, list(plan.segments), self.vehicle(name),
+                                   dt_s=self.schedule_dt_s,
+                                   zones=self._project.floorplan.zones,
+                                   route=self._route_by_name(name))
         except SwatheInputError as exc:
             self._errors[name] = exc.message
             sched = None
-        self._schedules[name] = (plan, sched)
+        self._schedules[name] = (plan, sched, self._project.floorplan)
         return sched
 
     # -- applying a new tree ----------------------------------------------------------------
@@ -541,12 +563,28 @@ class Document(QObject):
     def set_floorplan(self, fp: FloorPlan, ref: str | dict | None) -> None:
         """Use floor plan ``fp``; ``ref`` is how the project file names it (path or import)."""
         after = dataclasses.replace(self._project, floorplan=fp, floorplan_ref=ref)
+        if isinstance(ref, str) and ref.lower().endswith(".floor.json"):
+            self._saved_floorplan = fp  # read from that file: nothing to write back
         self._push(f"Use floor plan {fp.name or Path(fp.source).name!r}", after, "floorplan")
+
+    def edit_floorplan(self, fp: FloorPlan, text: str, drag: int | None = None) -> None:
+        """Replace the floor plan by an edited one (one undo step; steps with the same
+        ``drag`` key merge). A plan imported from DXF or SVG is kept inline from then on: an
+        edit cannot be written back into the drawing."""
+        ref = self._project.floorplan_ref
+        if isinstance(ref, dict) and "file" in ref:
+            ref = None
+        elif isinstance(ref, str) and not ref.lower().endswith(".floor.json"):
+            ref = None
+        after = dataclasses.replace(self._project, floorplan=fp, floorplan_ref=ref)
+        key = None if drag is None else ("plan", drag)
+        self._push(text, after, "floorplan", merge_key=key)
 
     # -- files ------------------------------------------------------------------------------
     def replace_project(self, project: Project, dirty: bool = False) -> None:
         """Start over on ``project`` (a fresh undo history); used by open, new and recover."""
         self._project = project
+        self._saved_floorplan = project.floorplan  # as in its file: save rewrites it if edited
         self._plans.clear()
         self._checks.clear()
         self._schedules.clear()
@@ -584,7 +622,13 @@ class Document(QObject):
         old_base = self.path.parent if self.path is not None else Path.cwd()
         ref = _rebase_ref(self._project.floorplan_ref, old_base, target.parent)
         project = dataclasses.replace(self._project, floorplan_ref=ref, path=target)
+        if isinstance(ref, str) and ref.lower().endswith(".floor.json"):
+            # The floor plan lives in its own file: write it (atomically) when it differs.
+            plan_path = (target.parent / ref)
+            if project.floorplan != self._saved_floorplan or not plan_path.exists():
+                save_floorplan(project.floorplan, plan_path)
         save_project(project, target)
+        self._saved_floorplan = project.floorplan
         self._project = project
         self._forced_dirty = False
         self.undo_stack.setClean()

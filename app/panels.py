@@ -547,8 +547,10 @@ class ChassisPanel(QWidget):
 
     def candidate(self) -> Chassis:
         """The chassis the form describes (raises :class:`SwatheInputError` if invalid)."""
-        return chassis_from_form(self.form_values(), self.footprint_rows(),
-                                 self.doc.project.chassis.extra)
+        c = chassis_from_form(self.form_values(), self.footprint_rows(),
+                              self.doc.project.chassis.extra)
+        # The form edits the tug; the trailers it tows are kept.
+        return dataclasses.replace(c, trailers=self.doc.project.chassis.trailers)
 
     def _apply(self, *_args) -> None:
         if self._loading:

@@ -244,6 +244,19 @@ TEST_BOT = {
     "max_accel_mps2": 0.3, "max_wheel_rate_radps": 10.0,
 }
 
+WARD_TUG = {  # small ward tug towing two linen carts (carts about 0.9 x 0.6 m, common practice)
+    "name": "ward tug", "drive": "differential", "footprint": rect(-0.25, 0.55, 0.28),
+    "margin_m": 0.05, "wheel_radius_m": 0.1, "track_m": 0.46, "max_speed_mps": 0.8,
+    "max_accel_mps2": 0.3, "max_wheel_rate_radps": 10.0, "max_lateral_accel_mps2": 0.4,
+    "trailers": [
+        {"name": "linen cart", "hitch_x_m": -0.35, "drawbar_m": 0.75,
+         "footprint": [[-0.45, -0.3], [0.4, -0.3], [0.4, 0.3], [-0.45, 0.3]]},
+        {"name": "meal cart", "hitch_x_m": -0.55, "drawbar_m": 0.7,
+         "footprint": [[-0.45, -0.3], [0.4, -0.3], [0.4, 0.3], [-0.45, 0.3]],
+         "max_hitch_deg": 75.0},
+    ],
+}
+
 
 def route(name, waypoints, turn_radius_m=0.0, reverse=False, **extra):
     d = {"name": name, "waypoints": [list(w) for w in waypoints],
@@ -304,6 +317,17 @@ def main() -> None:
             route("lobby-to-lift-2", [(26.0, 10.0, 0), (35.55, 10.0, 90),
                                       (35.55, 17.0, 90)]),
         ]))
+    write_json(HERE / "clinic_train.swathe.json", project(
+        "clinic.floor.json", WARD_TUG, [
+            route("linen-to-ward-b", [(4.2, 9.6, 0), (8.2, 9.6), (8.2, 14.0)],
+                  turn_radius_m=1.2, note="a tug with two carts through the Ward B door: the "
+                                          "carts cut inside the tug's turn"),
+            route("supply-return", [(20.0, 10.4, 180), (4.0, 10.4)],
+                  chassis="hospital delivery cart",
+                  note="the delivery cart back along the corridor, against the tug"),
+        ], fleet=[CLINIC_CART],
+        description="Larchmere Clinic, level 2: a ward tug towing two carts and the delivery "
+                    "cart sharing the corridor."))
     write_json(HERE / "depot.swathe.json", project("depot.floor.json", DEPOT_MOVER,
                                                    DEPOT_ROUTES))
     write_json(HERE / "depot_ackermann.swathe.json", project(

@@ -65,6 +65,7 @@ from dataclasses import dataclass
 import numpy as np
 from numpy.typing import ArrayLike, NDArray
 
+from kinematics.errors import ValidationError
 from kinematics.motion.arrays import unique_sorted
 from kinematics.motion.drives import DriveModel, drive_for
 from kinematics.motion.segments import Segment, segment_stations
@@ -537,7 +538,9 @@ def _must_rest(a: Segment, b: Segment) -> bool:
 
 # -- the profile ----------------------------------------------------------------------------
 def speed_profile(segments: Sequence[Segment], drive: DriveModel,
-                  limits: Limits) -> SpeedProfile:
+                  limits: Limits, caps: Sequence[tuple[float, str] | None] | None = None,
+                  rest_before: frozenset[int] = frozenset(),
+                  dwell_s: Sequence[float] | None = None) -> SpeedProfile:
     """The fastest speed profile along ``segments`` within ``limits``.
 
     Parameters
@@ -548,6 +551,13 @@ def speed_profile(segments: Sequence[Segment], drive: DriveModel,
         Gives every wheel's rate for the wheel-rate limit.
     limits : Limits
         See :meth:`Limits.from_chassis`.
+    caps : sequence, optional
+        Per segment, a further speed cap ``(m/s, binding name)`` or ``None`` (slow zones,
+        :mod:`kinematics.timing.zones`).
+    rest_before : set of int
+        Segments before which the chassis comes to rest (stops).
+    dwell_s : sequence of float, optional
+        Per segment, time standing still before it (s), on top of any steering hold.
 
     Returns
     -------
@@ -555,8 +565,8 @@ def speed_profile(segments: Sequence[Segment], drive: DriveModel,
 
     Raises
     ------
-    ValueError
-        A pivot on a drive that cannot pivot.
+    ValidationError
+        A pivot on a drive that cannot pivot (bad input: the segments came from elsewhere).
 
     Examples
     --------
@@ -579,7 +589,9 @@ def speed_profile(segments: Sequence[Segment], drive: DriveModel,
     for i, s in enumerate(segs):
         if s.kind == "pivot":
             if not drive.can_pivot:
-                raise ValueError(f"segment {i}: a {drive.name} drive cannot turn on the spot")
+                raise ValidationError("<route>", f"segment {i}",
+                                      f"a turn on the spot, which a {drive.name} drive cannot "
+                                      "make; plan the route with a turn radius")
             c, key = _pivot_caps(drive, limits)
             amount[i] = abs(s.turn_rad)
             acc[i], dec[i], ak, dk = _pivot_accel(drive, limits)
@@ -589,6 +601,8 @@ def speed_profile(segments: Sequence[Segment], drive: DriveModel,
             amount[i] = s.length_m
             acc[i], dec[i], ak, dk = _travel_accel(drive, s, limits)
             yaw_per[i] = s.turn_rad / s.length_m if s.length_m > 0 else 0.0
+            if caps is not None and caps[i] is not None and caps[i][0] < c:
+                c, key = caps[i]
         cap[i] = c
         binding.append(key)
         akeys.append(ak)
@@ -602,13 +616,16 @@ def speed_profile(segments: Sequence[Segment], drive: DriveModel,
         limits.max_yaw_accel_radps2 is not None
     for j in range(1, n):
         a, b = segs[j - 1], segs[j]
-        rest = _must_rest(a, b) or (watch_rates and _curvature_step(a, b))
+        rest = _must_rest(a, b) or (watch_rates and _curvature_step(a, b)) or \
+            j in rest_before
         if limits.max_steer_rate_radps is not None:
             step = _steer_step(drive, a, b)
             if step > _STEER_STEP_RAD:
                 rest = True
                 hold[j] = step / limits.max_steer_rate_radps
         node[j] = 0.0 if rest else min(cap[j - 1], cap[j])
+    if dwell_s is not None:
+        hold = hold + np.asarray(dwell_s, dtype=float)
     for i in range(n):  # forward: what acceleration allows
         node[i + 1] = min(node[i + 1], math.sqrt(node[i] ** 2 + 2.0 * acc[i] * amount[i]))
     for i in range(n - 1, -1, -1):  # backward: what deceleration allows
