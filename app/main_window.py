@@ -252,6 +252,9 @@ class MainWindow(QMainWindow):
                 ("gap", "Gap between elements", "G", "Click two walls, obstacles, doors or "
                  "zones (G)")):
             a = QAction(text, self, checkable=True)
+            # Short words on the toolbar, the full text in the Plan menu.
+            a.setIconText({"measure": "Measure", "gap": "Gap"}.get(mode,
+                                                                   text.split()[-1].title()))
             a.setShortcut(QKeySequence(key))
             a.setToolTip(tip)
             a.setStatusTip(tip)
