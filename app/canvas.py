@@ -504,10 +504,13 @@ class PlanCanvas(QWidget):
         self.others_item.setZValue(2)
         self.others_item.setCacheMode(QGraphicsItem.CacheMode.DeviceCoordinateCache)
         add(self.others_item)
+        # The outlines' parent: one child per segment (_draw_outlines), none of its own path.
         self.outlines_item = QGraphicsPathItem()
         self.outlines_item.setPen(_pen(GREEN, 1.0))
         self.outlines_item.setZValue(3)
         add(self.outlines_item)
+        self._outline_items: dict = {}
+        self._outline_pool: list[QGraphicsPathItem] = []
         # The current route's lines change on every drag step: plain path items, which Qt
         # updates and paints without the per-item Python work of a plot curve.
         self.path_fwd = _Polyline(_pen(BLUE, 2.5))
@@ -687,7 +690,7 @@ class PlanCanvas(QWidget):
                        self.handles_item, self.handles_line, self.violations_item):
                 it.setData([], [])
             self.band_item.setPath(QPainterPath())
-            self.outlines_item.setPath(QPainterPath())
+            self._draw_outlines([], self.doc.project.chassis.footprint)
             self._labels(self.wp_labels, 0, BLACK, None, (0, 0))
             self._labels(self.violation_labels, 0, BLACK, None, (0, 0))
             self._samples = sample_segments([])
@@ -787,16 +790,35 @@ class PlanCanvas(QWidget):
             self.band_item.setPath(self._swept_path(segs))
         else:
             self.band_item.setPath(QPainterPath())
-        if self.outline_spacing_m and segs:
-            from kinematics.motion.segments import path_length, poses_along
+        self._draw_outlines(segs if self.outline_spacing_m else [], chassis.footprint)
 
-            total = path_length(segs)
-            n = int(total // self.outline_spacing_m)
-            stations = np.append(np.arange(n + 1) * self.outline_spacing_m, total)
-            poses = poses_along(segs, stations)
-            self.outlines_item.setPath(footprint_outlines(chassis.footprint, poses))
-        else:
-            self.outlines_item.setPath(QPainterPath())
+    def _draw_outlines(self, segs: list[Segment], footprint: Sequence) -> None:
+        """Footprint outlines every ``outline_spacing_m`` along each segment from its start
+        (and at the route's end), one child item per segment kept by the segment's value: a
+        drag step makes and repaints only the outlines of the segments that moved."""
+        spacing = self.outline_spacing_m
+        items: dict = self._outline_items
+        want = {}
+        for k, seg in enumerate(segs):
+            if seg.length_m <= 0.0:
+                continue  # a turn on the spot: the next segment's first outline shows it
+            want[(seg, k == len(segs) - 1, spacing, tuple(map(tuple, footprint)))] = seg
+        for key in [key for key in items if key not in want]:
+            it = items.pop(key)
+            it.hide()
+            self._outline_pool.append(it)
+        for key, seg in want.items():
+            if key in items:
+                continue
+            local = np.arange(0.0, seg.length_m, spacing)
+            if key[1]:
+                local = np.append(local, seg.length_m)
+            it = self._outline_pool.pop() if self._outline_pool else \
+                QGraphicsPathItem(self.outlines_item)
+            it.setPen(self.outlines_item.pen())
+            it.setPath(footprint_outlines(footprint, seg.poses_at(local)))
+            it.show()
+            items[key] = it
 
     def _swept_path(self, segs: list[Segment]) -> QPainterPath:
         """The swept band as one winding-filled path of per-segment pieces.
