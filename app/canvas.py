@@ -625,9 +625,13 @@ class PlanCanvas(QWidget):
         jy = [p[1] for d in fp.doors for p in (d.a, d.b)]
         self.jambs_item.setData(jx, jy)
         named = [(d.midpoint, d.label, "door", 0.0) for d in fp.doors if d.label]
+        first: dict[int, object] = {}  # each obstacle's first solid (one pass, not one each)
+        for s in sol:
+            if s.kind == "obstacle":
+                first.setdefault(s.index, s.geometry)
         for i, o in enumerate(fp.obstacles):
             if o.label:
-                g = [s.geometry for s in sol if s.kind == "obstacle" and s.index == i]
+                g = [first[i]] if i in first else []
                 if g:
                     c = g[0].representative_point()
                     x0, y0, x1, y1 = g[0].bounds
