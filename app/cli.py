@@ -96,14 +96,23 @@ def _selected_routes(project, name: str | None):
 
 
 def cmd_plan(args: argparse.Namespace) -> int:
+    from kinematics.analysis.report_text import route_stops
     from kinematics.files.jsonio import dumps
     from kinematics.files.project import load_project
     from kinematics.plan.planner import plan_route
 
     project = load_project(args.project)
-    plans = [plan_route(r, project.chassis) for r in _selected_routes(project, args.route)]
+    routes = _selected_routes(project, args.route)
+    plans = [plan_route(r, project.chassis_for(r)) for r in routes]
     if args.json:
-        sys.stdout.write(dumps({"routes": [pl.to_dict() for pl in plans]}))
+        out = []
+        for pl, r in zip(plans, routes):
+            d = pl.to_dict()
+            d["chassis"] = project.chassis_for(r).name
+            if r.stops:
+                d["stops"] = [s.to_dict() for s in route_stops(pl, r)]
+            out.append(d)
+        sys.stdout.write(dumps({"routes": out}))
         return EXIT_OK
     from kinematics.analysis.report_text import format_plan_text
 
@@ -112,8 +121,9 @@ def cmd_plan(args: argparse.Namespace) -> int:
 
 
 def cmd_check(args: argparse.Namespace) -> int:
-    from kinematics.analysis.report_text import format_check_text
-    from kinematics.check.clearance import ObstacleIndex, check_route
+    from kinematics.analysis.report_text import format_check_text, route_stops
+    from kinematics.analysis.results import check_with_vehicle
+    from kinematics.check.clearance import ObstacleIndex
     from kinematics.files.jsonio import dumps
     from kinematics.files.project import load_project
     from kinematics.plan.planner import plan_route
@@ -124,19 +134,30 @@ def cmd_check(args: argparse.Namespace) -> int:
     index = ObstacleIndex(project.floorplan)
     tol = args.tolerance_mm / 1000.0
     checks = []
+    stops: dict[str, list] = {}
     for route in _selected_routes(project, args.route):
-        plan = plan_route(route, project.chassis)
-        chk = check_route(plan, project.chassis, index, tolerance_m=tol, route_name=route.name,
-                          route=route)
+        chassis = project.chassis_for(route)
+        plan = plan_route(route, chassis)
+        stops[route.name] = route_stops(plan, route)
+        chk = check_with_vehicle(plan, chassis, index, route=route, tolerance_m=tol)
         if args.sizing:
+            import dataclasses
+
             from kinematics.check.sizing import attach_sizing
 
-            chk = attach_sizing(chk, plan, project, index, tolerance_m=tol)
+            chk = attach_sizing(chk, plan, dataclasses.replace(project, chassis=chassis), index,
+                                tolerance_m=tol)
         checks.append(chk)
     if args.json:
-        sys.stdout.write(dumps({"routes": [c.to_dict() for c in checks]}))
+        out = []
+        for c in checks:
+            d = c.to_dict()
+            if stops.get(c.name):
+                d["stops"] = [s.to_dict() for s in stops[c.name]]
+            out.append(d)
+        sys.stdout.write(dumps({"routes": out}))
     else:
-        sys.stdout.write(format_check_text(checks))
+        sys.stdout.write(format_check_text(checks, stops))
     return EXIT_OK if all(c.clear for c in checks) else EXIT_VIOLATION
 
 
@@ -155,8 +176,10 @@ def cmd_schedule(args: argparse.Namespace) -> int:
         raise SwatheInputError("command line", "--dt", "expected a time step between 0 and 60 s")
     project = load_project(args.project)
     route = project.route(args.route)
-    plan = plan_route(route, project.chassis)
-    sched = build_schedule(route.name, list(plan.segments), project.chassis, dt_s=args.dt)
+    chassis = project.chassis_for(route)
+    plan = plan_route(route, chassis)
+    sched = build_schedule(route.name, list(plan.segments), chassis, dt_s=args.dt,
+                           zones=project.floorplan.zones, route=route)
     if args.format == "csv":
         text = samples_to_csv(sched) if args.samples else schedule_to_csv(sched)
     else:
@@ -200,8 +223,10 @@ def cmd_render(args: argparse.Namespace) -> int:
         if not project.routes:
             raise SwatheInputError(args.project, "routes", "no route to plot")
         route = project.route(args.route) if args.route else project.routes[0]
-        plan = plan_route(route, project.chassis)
-        sched = build_schedule(route.name, list(plan.segments), project.chassis)
+        chassis = project.chassis_for(route)
+        plan = plan_route(route, chassis)
+        sched = build_schedule(route.name, list(plan.segments), chassis,
+                               zones=project.floorplan.zones, route=route)
         render_plot_png(sched, args.plots, size=(args.width, max(args.height * 7 // 10, 150)),
                         x_axis=args.plots_against)
     return EXIT_OK

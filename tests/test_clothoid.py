@@ -98,8 +98,14 @@ SWEEP_CASES = [
 ]
 
 
+CONVEX = [(-0.35, -0.3), (0.65, -0.3), (0.65, 0.3), (-0.35, 0.3)]
+NOT_CONVEX = [(-0.3, -0.25), (0.6, -0.25), (0.6, 0.25), (0.1, 0.1), (-0.3, 0.25)]
+
+
+@pytest.mark.parametrize("fp", [CONVEX, NOT_CONVEX], ids=["convex", "not-convex"])
 @pytest.mark.parametrize("start,k0,k1,length,direction", SWEEP_CASES)
-def test_clothoid_sweep_is_conservative_against_dense_union(start, k0, k1, length, direction):
+def test_clothoid_sweep_is_conservative_against_dense_union(start, k0, k1, length, direction,
+                                                             fp):
     # Source: shapely union of the footprint placed every 1 mm along the clothoid (poses by
     # scipy.integrate.quad above), the dense-pose oracle the issue names; the sweep must
     # contain it and exceed it by at most the 2 mm tolerance.
@@ -107,7 +113,6 @@ def test_clothoid_sweep_is_conservative_against_dense_union(start, k0, k1, lengt
 
     from kinematics.check.sweep import placed_footprints, swept_segment
 
-    fp = [(-0.3, -0.25), (0.6, -0.25), (0.6, 0.25), (0.1, 0.1), (-0.3, 0.25)]  # not convex
     seg = clothoid(start, k0, k1, length, direction)
     tol = 0.002
     band = swept_segment(fp, seg, tol)

@@ -8,7 +8,7 @@ import numpy as np
 import pytest
 from scipy.integrate import solve_ivp
 
-from kinematics.motion.segments import arc, line, pivot
+from kinematics.motion.segments import arc, clothoid, line, pivot
 from kinematics.motion.trailers import Hitch, hitch_angles, trace_train
 
 
@@ -16,7 +16,8 @@ def _chain(first, *specs):
     segs = [first]
     for kind, *args in specs:
         e = segs[-1].end
-        segs.append({"line": line, "arc": arc, "pivot": pivot}[kind](e, *args))
+        segs.append({"line": line, "arc": arc, "pivot": pivot, "clothoid": clothoid}[kind](
+            e, *args))
     return segs
 
 
@@ -58,13 +59,17 @@ def _reference(segs, hitches, y0):
     out = []
     y = np.array(y0, float)
     for s in segs:
+        wd = 0.0
         if s.kind == "pivot":
             amount, v0, w0 = abs(s.turn_rad), 0.0, math.copysign(1.0, s.turn_rad)
+        elif s.kind == "clothoid":
+            amount, v0 = s.length_m, float(s.direction)
+            w0, wd = s.direction * s.kappa0, s.direction * (s.kappa1 - s.kappa0) / s.length_m
         else:
             amount, v0, w0 = s.length_m, float(s.direction), s.turn_rad / s.length_m
 
-        def f(p, th, s=s, v0=v0, w0=w0):
-            prev, v, w = s.start[2] + w0 * p, v0, w0
+        def f(p, th, s=s, v0=v0, w0=w0, wd=wd):
+            prev, v, w = s.start[2] + w0 * p + 0.5 * wd * p * p, v0, w0 + wd * p
             dth = np.empty_like(th)
             for i, hz in enumerate(hitches):
                 b = prev - th[i]
@@ -83,7 +88,8 @@ def _reference(segs, hitches, y0):
 def test_transients_match_solve_ivp() -> None:
     # Source: scipy.integrate.solve_ivp (DOP853) on the model written independently above.
     hitches = [Hitch(-0.45, 0.9), Hitch(-0.6, 0.8), Hitch(0.0, 1.0)]
-    segs = _chain(line((1.0, 2.0, 0.2), 2.0), ("arc", 1.5, math.pi / 2), ("line", 1.5),
+    segs = _chain(line((1.0, 2.0, 0.2), 2.0), ("clothoid", 0.0, 1 / 1.5, 0.8),
+                  ("arc", 1.5, math.pi / 2), ("clothoid", 1 / 1.5, 0.0, 0.8), ("line", 1.5),
                   ("pivot", -math.pi / 4), ("arc", 2.0, -2.0), ("line", 3.0),
                   ("arc", 1.2, math.pi), ("line", 0.6, -1))
     tr = trace_train(segs, hitches)

@@ -305,3 +305,119 @@ def test_circle_clearance_never_exceeds_the_true_circle(offset):
     true = Point(cx, cy).distance(swept) - r
     assert chk.min_clearance_m <= true + 1e-12
     assert chk.min_clearance_m >= true - TOL - 0.001  # sweep tolerance + polygon outside
+
+
+# -- slow zones and stops in the timing ---------------------------------------------------------
+def _route(points, radius=0.0, stops=()):
+    from kinematics.files.project import Route, Stop, Waypoint
+
+    return Route("r", tuple(Waypoint(*p) for p in points), radius,
+                 stops=tuple(Stop(w, d) for w, d in stops))
+
+
+@pytest.mark.parametrize("points, radius", [
+    (((0.0, 0.0), (10.0, 0.0)), 0.0),
+    (((0.0, 0.0), (5.0, 0.0), (5.0, 6.0)), 1.0),   # the zone holds the corner's arc
+    (((0.0, 0.0), (5.0, 0.0), (5.0, 6.0)), 0.0),   # ... a pivot there
+])
+def test_slow_zone_caps_every_sample_whose_footprint_overlaps_it(points, radius):
+    # Source: shapely intersects on the footprint placed at each schedule sample (independent
+    # of the profile), and t >= d / v for the time through the zone (kinematics).
+    from kinematics.plan.planner import plan_route
+    from kinematics.timing.schedule import build_schedule
+
+    ch = Chassis(track_m=0.5, max_wheel_rate_radps=15.0)
+    cap = 0.3
+    zone = Zone("slow", ((3.5, -1.0), (6.0, -1.0), (6.0, 2.0), (3.5, 2.0)), "ward",
+                speed_mps=cap)
+    route = _route(points, radius)
+    plan = plan_route(route, ch)
+    fast = build_schedule("r", list(plan.segments), ch, dt_s=0.02)
+    s = build_schedule("r", list(plan.segments), ch, dt_s=0.02, zones=(zone,), route=route)
+    sm = s.samples
+    poses = np.column_stack([sm.x, sm.y, sm.heading_rad])
+    inside = shapely.intersects(placed_footprints(ch.footprint, poses), Polygon(zone.points))
+    assert inside.any() and fast.samples.v_mps.max() > cap + 0.1
+    assert np.all(sm.v_mps[inside] <= cap + 1e-9)
+    # The reference point covers at least the zone's length along the path while capped:
+    # from where the footprint first overlaps to where it last does.
+    first, last = np.flatnonzero(inside)[[0, -1]]
+    d = sm.station_m[last] - sm.station_m[first]
+    assert sm.t_s[last] - sm.t_s[first] >= d / cap - 1e-9
+    assert s.profile.total_time_s > fast.profile.total_time_s
+
+
+def test_stop_rests_and_waits_its_dwell():
+    # Source: kinematics (rest means v = 0); the dwell adds exactly its time.
+    from kinematics.plan.planner import plan_route
+    from kinematics.timing.schedule import build_schedule, schedule_to_dict
+
+    ch = Chassis(track_m=0.5)
+    pts = ((0.0, 0.0), (4.0, 0.0), (8.0, 0.0), (8.0, 4.0))
+    plain = _route(pts)
+    plan = plan_route(plain, ch)
+    base = build_schedule("r", list(plan.segments), ch)
+    zero = build_schedule("r", list(plan.segments), ch, route=_route(pts, stops=((1, 0.0),)))
+    wait = build_schedule("r", list(plan.segments), ch, route=_route(pts, stops=((1, 7.5),)))
+    # Resting on the straight at waypoint 2 costs time even without a dwell ...
+    assert zero.profile.total_time_s > base.profile.total_time_s
+    # ... and the dwell adds exactly its length.
+    assert wait.profile.total_time_s == pytest.approx(zero.profile.total_time_s + 7.5, abs=1e-9)
+    d = schedule_to_dict(wait)
+    (stop,) = d["stops"]
+    assert stop["waypoint"] == 1 and stop["station_m"] == pytest.approx(4.0)
+    t0 = stop["t_s"]
+    during = [x for x in d["samples"] if t0 - 1e-9 <= x["t_s"] <= t0 + 7.5 + 1e-9]
+    assert len(during) >= 10
+    assert all(x["v_mps"] == 0.0 and x["x"] == pytest.approx(4.0) for x in during)
+    assert all(abs(w["rate_radps"]) < 1e-12 for x in during for w in x["wheels"].values())
+    t = np.array([x["t_s"] for x in d["samples"]])
+    assert np.all(np.diff(t) > 0)
+
+
+def test_stop_where_a_turn_cuts_the_corner_is_the_nearest_path_point():
+    # Source: circle geometry: a fillet of radius R in a 90 degree corner passes
+    # R (sqrt 2 - 1) from the corner.
+    from kinematics.plan.planner import plan_route
+    from kinematics.timing.schedule import build_schedule
+
+    ch = Chassis(track_m=0.5)
+    route = _route(((0.0, 0.0), (5.0, 0.0), (5.0, 5.0)), 1.0, stops=((1, 3.0),))
+    plan = plan_route(route, ch)
+    s = build_schedule("r", list(plan.segments), ch, route=route)
+    (stop,) = s.stops
+    assert math.hypot(stop.x - 5.0, stop.y - 0.0) == pytest.approx(math.sqrt(2) - 1, abs=0.01)
+
+
+def test_cli_plan_check_and_schedule_show_stops_and_zones(tmp_path, capsys):
+    # Source: shared/contract.md, "Version 1 additions" (stops, zones, wrong_way); this
+    # project's text and JSON outputs.
+    floor = {"swathe_floorplan": 1, "name": "zoned hall",
+             "zones": [{"kind": "slow", "points": [[3, -1], [5, -1], [5, 1], [3, 1]],
+                        "label": "ward", "speed_mps": 0.3},
+                       {"kind": "one_way", "points": [[7, -1], [8, -1], [8, 1], [7, 1]],
+                        "label": "aisle", "direction_deg": 180}]}
+    proj = {"swathe_project": 1, "floorplan": floor,
+            "chassis": {"drive": "differential", "track_m": 0.5,
+                        "footprint": [[-0.3, -0.3], [0.6, -0.3], [0.6, 0.3], [-0.3, 0.3]]},
+            "routes": [{"name": "r", "waypoints": [[0, 0], [6, 0], [10, 0]],
+                        "stops": [{"waypoint": 1, "dwell_s": 20}]}]}
+    p = tmp_path / "z.swathe.json"
+    p.write_text(json.dumps(proj))
+    assert main(["plan", str(p)]) == 0
+    assert "stop at waypoint 2: station 6.00 m (6.00, 0.00), waits 20 s" in \
+        capsys.readouterr().out
+    assert main(["plan", str(p), "--json"]) == 0
+    assert json.loads(capsys.readouterr().out)["routes"][0]["stops"][0]["dwell_s"] == 20
+    assert main(["check", str(p)]) == 1
+    out = capsys.readouterr().out
+    assert "wrong_way" in out and "stop at waypoint 2" in out
+    assert main(["check", str(p), "--json"]) == 1
+    r = json.loads(capsys.readouterr().out)["routes"][0]
+    assert [v["kind"] for v in r["violations"]] == ["wrong_way"]
+    assert r["stops"][0]["station_m"] == pytest.approx(6.0)
+    # The contract lets a failing route's schedule exit 1 (still written); 0 before that.
+    assert main(["schedule", str(p), "--route", "r"]) in (0, 1)
+    d = json.loads(capsys.readouterr().out)
+    assert d["stops"][0]["dwell_s"] == 20
+    assert any(row.get("slow_zone") == "zone 0 (ward)" for row in d["segments"])

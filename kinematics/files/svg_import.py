@@ -17,7 +17,10 @@ What is read:
   to centre form, SVG 1.1 appendix F.6.5) by chords of sagitta at most
   :data:`TOLERANCE_M`; Bezier curves by uniform parameter steps chosen from the bound
   ``h**2 / 8 * max|B''|`` on the error of linear interpolation, so the polyline stays within
-  the same 5 mm. The bound is applied in plan metres after every transform.
+  the same 1 mm. The bound is applied in plan metres after every transform. Chords lie
+  inside the curve, so an outline holding curves is then grown by the tolerance (a solid
+  outward, a wall on both faces: its thickness plus 2 mm): the flattened solid contains the
+  true one and exceeds it by at most 2 mm, and a clearance is never read larger.
 - Units: one SVG user unit (of the root ``viewBox`` when there is one) is
   ``metres_per_unit`` metres (default 0.01, a drawing in centimetres). The SVG y axis
   points down; it is flipped so plan y points up: ``y_plan = (bottom - y) * metres_per_unit``
@@ -47,13 +50,19 @@ from xml.etree.ElementTree import Element, ParseError
 import numpy as np
 
 from kinematics.errors import FileReadError, ValidationError
-from kinematics.files.curves import MAX_CHORDS, chord_count
+from kinematics.files.curves import (
+    FLATTEN_TOLERANCE_M,
+    MAX_CHORDS,
+    chord_count,
+    grow_outline,
+    grown_thickness,
+)
 from kinematics.files.floorplan import Door, FloorPlan, Obstacle, Wall, Zone, ZoneLayer
 from kinematics.files.validate import MAX_COORD_M
 
 _INKSCAPE_LABEL = "{http://www.inkscape.org/namespaces/inkscape}label"
 
-TOLERANCE_M = 0.005
+TOLERANCE_M = FLATTEN_TOLERANCE_M
 """Largest distance between a curve and the chords that replace it, in plan metres."""
 
 DEFAULT_WALL_THICKNESS_M = 0.1
@@ -491,6 +500,7 @@ class _Found:
     thickness_units: float | None  # inherited stroke width, root user units
     two_point: bool
     names: tuple[str, ...] = ()  # ids and layer labels of the element and its groups
+    curved: bool = False  # chords inside a curve: grow by the tolerance in the plan
 
 
 class _Walker:
@@ -568,12 +578,15 @@ class _Walker:
         label = el.get("id", "")
         two = tag == "line" or (tag in ("polyline", "path") and len(shapes) == 1
                                 and len(shapes[0][0]) == 2)
+        curved = (tag in ("circle", "ellipse")
+                  or (tag == "path" and re.search(r"[CcSsQqTtAa]", el.get("d", "")) is not None)
+                  or (tag == "rect" and any(len(q) > 5 for q, _ in shapes)))
         for pts, closed in shapes:
             world = pts @ m[:2, :2].T + m[:2, 2]
             if not np.all(np.isfinite(world)):
                 raise FileReadError(self.file, _describe(el, tag, number),
                                     "coordinates out of range")
-            self.found.append(_Found(world, closed, mk, label, thickness, two, names))
+            self.found.append(_Found(world, closed, mk, label, thickness, two, names, curved))
 
 
 def _read_root(p: Path) -> Element:
@@ -704,9 +717,13 @@ def import_svg(path: str | Path, metres_per_unit: float = 0.01,
                 pts = pts + (pts[0],)
             t = (f.thickness_units * metres_per_unit if f.thickness_units
                  else DEFAULT_WALL_THICKNESS_M)
+            if f.curved:
+                t = grown_thickness(t, TOLERANCE_M)
             walls.append(Wall(pts, t))
         else:
             ring = pts[:-1] if pts[0] == pts[-1] else pts
+            if len(ring) >= 3 and f.curved:
+                ring = tuple(tuple(q) for q in grow_outline(np.array(ring), TOLERANCE_M).tolist())
             if len(ring) >= 3:
                 obstacles.append(Obstacle(ring, f.label))
     name = root.findtext("{http://www.w3.org/2000/svg}title") or root.findtext("title") or p.stem

@@ -80,6 +80,9 @@ class TugMotion:
     w: float
     fixed: tuple[float, float] | None
     direction: float
+    #: d(turn rate)/d(progress): non-zero on clothoids, whose heading is
+    #: ``th0 + w p + wd p^2 / 2``.
+    wd: float = 0.0
 
     @staticmethod
     def of(seg: Segment) -> TugMotion:
@@ -88,6 +91,10 @@ class TugMotion:
             return TugMotion(amt, seg.start[2], math.copysign(1.0, seg.turn_rad) if amt else 0.0,
                              (0.0, 0.0), 1.0)
         L = seg.length_m
+        if seg.kind == "clothoid":
+            d = float(seg.direction)
+            c = (seg.kappa1 - seg.kappa0) / L if L > 0.0 else 0.0
+            return TugMotion(L, seg.start[2], d * seg.kappa0, None, d, d * c)
         w = seg.turn_rad / L if L > 0.0 else 0.0
         if seg.kind == "line" and (seg.course_rad is not None or seg.turn_rad != 0.0):
             c = seg.course
@@ -98,16 +105,20 @@ class TugMotion:
         """Largest speed of the reference point per unit progress."""
         return 0.0 if self.fixed == (0.0, 0.0) else 1.0
 
+    def turn_bound(self) -> float:
+        """Largest turn rate of the tug per unit progress on the segment."""
+        return max(abs(self.w), abs(self.w + self.wd * self.amount))
+
 
 def _rhs(m: TugMotion, hitches: Sequence[Hitch], p: float, th: Sequence[float]
          ) -> list[float]:
     """Heading rates of the trailers (per unit progress) at progress ``p``."""
-    th_prev = m.th0 + m.w * p
+    th_prev = m.th0 + (m.w + 0.5 * m.wd * p) * p
     if m.fixed is None:
         vx, vy = m.direction * math.cos(th_prev), m.direction * math.sin(th_prev)
     else:
         vx, vy = m.fixed
-    w_prev = m.w
+    w_prev = m.w + m.wd * p
     out = []
     for hz, t in zip(hitches, th):
         h = hz.hitch_x_m
@@ -124,7 +135,7 @@ def _rhs(m: TugMotion, hitches: Sequence[Hitch], p: float, th: Sequence[float]
 
 def _hitch_speed_bounds(m: TugMotion, hitches: Sequence[Hitch]) -> list[float]:
     """Upper bounds of each hitch point's speed per unit progress on the segment."""
-    v, w = m.speed_bound(), abs(m.w)
+    v, w = m.speed_bound(), m.turn_bound()
     out = []
     for hz in hitches:
         ph = v + w * abs(hz.hitch_x_m)

@@ -66,7 +66,12 @@ from kinematics.plan.fillet import (
     layout_fillets,
     leg_geometry,
 )
-from kinematics.plan.transitions import cc_tangent_length, cc_turn, transition_sharpness
+from kinematics.plan.transitions import (
+    cc_connect,
+    cc_tangent_length,
+    cc_turn,
+    transition_sharpness,
+)
 
 #: Consecutive waypoints closer than this (metres) are the same point.
 DUPLICATE_TOL_M = 1e-6
@@ -265,6 +270,14 @@ class PieceCache:
         return len(self._d)
 
 
+def _cc_or_dubins(pose: Pose, goal: Pose, radius_m: float, sigma: float) -> list[Segment]:
+    """The CC turn-line-turn connection, else the plain Dubins path (its curvature steps)."""
+    from kinematics.plan import dubins
+
+    segs = cc_connect(pose, goal, radius_m, sigma)
+    return segs if segs is not None else dubins.path_segments(pose, goal, radius_m)
+
+
 class _Builder:
     """Collects segments, issues, notes and chosen headings while a route is built.
 
@@ -285,6 +298,8 @@ class _Builder:
         self.cache = cache
         self._pose: Pose = start
         self._anchored = 0
+        #: Sharpness of CC connections (0: plain Dubins / Reeds-Shepp).
+        self.cc_sigma = 0.0
 
     @property
     def pose(self) -> Pose:
@@ -383,8 +398,13 @@ class _Builder:
         mod = reeds_shepp if reverse else dubins
         pose = self._pose
         goal = (float(goal[0]), float(goal[1]), float(goal[2]))
-        self._piece(("connect", goal, float(radius_m), bool(reverse)),
-                    lambda: mod.path_segments(pose, goal, radius_m))
+        if self.cc_sigma > 0.0 and not reverse:
+            sigma = self.cc_sigma
+            self._piece(("cc-connect", goal, float(radius_m), sigma),
+                        lambda: _cc_or_dubins(pose, goal, radius_m, sigma))
+        else:
+            self._piece(("connect", goal, float(radius_m), bool(reverse)),
+                        lambda: mod.path_segments(pose, goal, radius_m))
         self.anchor(goal)
 
     def spin(self, xy: Sequence[float], headings: Sequence[float]) -> None:
@@ -537,6 +557,10 @@ def _plan_steered(pts: _Points, b: _Builder, radius_m: float, reverse: bool) -> 
         if chosen[k] is not None and 0 < k < n - 1:
             b.chosen[pts.index[k]] = _wrap_deg(chosen[k])
     if len(poses) < 2:
+        return
+    if b.cc_sigma > 0.0 and not reverse:
+        for i in range(len(poses) - 1):
+            b.connect(poses[i + 1], radius_m, False)
         return
     # All legs not yet in the cache in one vectorised call; each leg's pieces are then laid
     # from the pose it starts at (see ``_Builder.anchor``).
@@ -769,11 +793,15 @@ def plan_route(route: Route, chassis: Chassis, cache: PieceCache | None = None) 
     elif holonomic:
         _plan_holonomic(pts, b)
     elif drive in _STEERED:
+        if route_transitions(route, chassis) == "clothoid" and radius > 0.0:
+            b.cc_sigma = _sharpness(chassis, float(radius))
         _plan_steered(pts, b, radius, route.reverse)
     elif radius == 0.0:
         _plan_pivoting(pts, b, route.reverse)
     else:
         cc = route_transitions(route, chassis) == "clothoid"
+        if cc:
+            b.cc_sigma = _sharpness(chassis, float(radius))
         _plan_filleted(pts, b, radius, route, chassis if cc else None)
     if not pts.headings[0]:
         b.chosen[0] = _wrap_deg(start[2])

@@ -37,9 +37,10 @@ import math
 from collections.abc import Sequence
 
 import numpy as np
+from numpy.typing import ArrayLike, NDArray
 
 from kinematics.motion.drives import DriveModel, drive_for
-from kinematics.motion.segments import Segment, arc, clothoid
+from kinematics.motion.segments import Segment, arc, clothoid, line
 
 #: Lateral jerk used when the chassis gives no rate limit, m/s^3 (common practice).
 COMFORT_JERK_MPS3 = 0.5
@@ -161,3 +162,135 @@ def cc_tangent_length(deflection_rad: float, radius_m: float, sigma: float) -> f
         return 0.0
     end = cc_turn((0.0, 0.0, 0.0), a, radius_m, sigma)[-1].end
     return abs(end[1]) / math.sin(a)
+
+
+# -- continuous-curvature connections between poses (car-like drives) ----------------------------
+def cc_turn_ends(deflection_rad: ArrayLike, radius_m: float, sigma: float
+                 ) -> NDArray[np.float64]:
+    """End points ``(n, 2)`` of left CC turns of deflections ``>= 0`` from ``(0, 0, 0)``,
+    vectorised: the same turns as :func:`cc_turn`, in closed form through the Fresnel
+    integrals (a right turn is the mirror image, ``y -> -y``).
+
+    A clothoid from curvature 0 to ``k`` at sharpness ``sigma`` ends at
+    ``sqrt(pi / sigma) (C(t), S(t))``, ``t = k / sqrt(pi sigma)``, heading ``k^2 / (2 sigma)``
+    (DLMF 7.2); the clothoid easing out is its mirror, so from the pose where it starts it adds
+    ``R(theta_end) (a, -b)`` where ``(a, b)`` is the first one's displacement.
+    """
+    from scipy.special import fresnel
+
+    d = np.atleast_1d(np.asarray(deflection_rad, dtype=float))
+    k = 1.0 / radius_m
+    dmin = k * k / sigma
+    kk = np.where(d >= dmin, k, np.sqrt(np.maximum(d, 0.0) * sigma))
+    s_, c_ = fresnel(kk / math.sqrt(math.pi * sigma))
+    a = math.sqrt(math.pi / sigma) * c_
+    b = math.sqrt(math.pi / sigma) * s_
+    h = kk * kk / (2.0 * sigma)
+    # The arc (full turns only) rotates the first clothoid's end about the arc's centre.
+    phi = np.where(d >= dmin, d - dmin, 0.0)
+    ox, oy = a - radius_m * np.sin(h), b + radius_m * np.cos(h)
+    px = ox + np.cos(phi) * (a - ox) - np.sin(phi) * (b - oy)
+    py = oy + np.sin(phi) * (a - ox) + np.cos(phi) * (b - oy)
+    cd, sd = np.cos(d), np.sin(d)
+    return np.stack([px + cd * a + sd * b, py + sd * a - cd * b], axis=-1)
+
+
+def _cc_turn_length(d: float, radius_m: float, sigma: float) -> float:
+    k = 1.0 / radius_m
+    if d >= k * k / sigma:
+        return 2.0 * k / sigma + radius_m * (d - k * k / sigma)
+    return 2.0 * math.sqrt(d / sigma)
+
+
+def _csc_gap(theta: NDArray[np.float64], start: Sequence[float], goal: Sequence[float],
+             s1: float, s2: float, radius_m: float, sigma: float):
+    """For line directions ``theta``: the deflections, and the cross and dot products of the
+    line direction with the vector from the first turn's end to the second turn's start."""
+    two_pi = 2.0 * math.pi
+    d1 = np.mod(s1 * (theta - start[2]), two_pi)
+    d2 = np.mod(s2 * (goal[2] - theta), two_pi)
+    e1 = cc_turn_ends(d1, radius_m, sigma)
+    e2 = cc_turn_ends(d2, radius_m, sigma)
+    e1[:, 1] *= s1
+    e2[:, 1] *= s2
+    c0, s0 = math.cos(start[2]), math.sin(start[2])
+    x1 = start[0] + c0 * e1[:, 0] - s0 * e1[:, 1]
+    y1 = start[1] + s0 * e1[:, 0] + c0 * e1[:, 1]
+    ct, st = np.cos(theta), np.sin(theta)
+    x2 = goal[0] - (ct * e2[:, 0] - st * e2[:, 1])
+    y2 = goal[1] - (st * e2[:, 0] + ct * e2[:, 1])
+    dx, dy = x2 - x1, y2 - y1
+    return d1, d2, ct * dy - st * dx, ct * dx + st * dy
+
+
+#: Line directions scanned for each CC word before the roots are refined by bisection.
+_SCAN = 720
+
+
+def cc_connect(start: Sequence[float], goal: Sequence[float], radius_m: float, sigma: float
+               ) -> list[Segment] | None:
+    """The shortest continuous-curvature path of the four turn-line-turn words (LSL, RSR,
+    LSR, RSL; each turn a CC turn of :func:`cc_turn`, its arcs of ``radius_m``) from
+    ``start`` to ``goal`` (poses ``(x, y, heading_rad)``), or ``None`` where none joins them.
+
+    The CC version of the Dubins turn-line-turn family (Fraichard & Scheuer 2004, sec. V): the
+    line's direction ``theta`` fixes both deflections, and the one equation left (the line
+    from the first turn's end to the second turn's start points along ``theta``) is solved by
+    scanning ``theta`` and refining each sign change (bisection, then false position). The
+    turn-turn-turn words are not tried; where only they would join the poses the caller keeps
+    the plain Dubins path.
+
+    Public: the route finder smooths found paths with it.
+    """
+    best: tuple[float, list] | None = None
+    th = start[2] + np.linspace(0.0, 2.0 * math.pi, _SCAN, endpoint=False)
+    for s1 in (1.0, -1.0):
+        for s2 in (1.0, -1.0):
+            d1, d2, cr, dot = _csc_gap(th, start, goal, s1, s2, radius_m, sigma)
+            nxt = np.roll(np.arange(_SCAN), -1)
+            jump = (np.abs(d1[nxt] - d1) > math.pi) | (np.abs(d2[nxt] - d2) > math.pi)
+            br = np.flatnonzero((np.sign(cr) != np.sign(cr[nxt])) & ~jump)
+            if br.size == 0:
+                continue
+            lo = th[br].copy()
+            hi = lo + 2.0 * math.pi / _SCAN
+            flo, fhi = cr[br], cr[nxt[br]]
+            # Bisection to a bracket of about 2e-6 rad, then false position (the gap is
+            # smooth there, so each step squares the error).
+            for it in range(16):
+                if it < 12:
+                    mid = 0.5 * (lo + hi)
+                else:
+                    with np.errstate(divide="ignore", invalid="ignore"):
+                        mid = np.where(fhi != flo, lo - flo * (hi - lo) / (fhi - flo),
+                                       0.5 * (lo + hi))
+                    mid = np.clip(mid, np.minimum(lo, hi), np.maximum(lo, hi))
+                _, _, fm, _ = _csc_gap(mid, start, goal, s1, s2, radius_m, sigma)
+                left = np.sign(fm) == np.sign(flo)
+                lo = np.where(left, mid, lo)
+                flo = np.where(left, fm, flo)
+                hi = np.where(left, hi, mid)
+                fhi = np.where(left, fhi, fm)
+            root = np.where(np.abs(flo) <= np.abs(fhi), lo, hi)
+            r1, r2, cr_r, dot_r = _csc_gap(root, start, goal, s1, s2, radius_m, sigma)
+            for j in range(root.size):
+                if abs(cr_r[j]) > 1e-9 or dot_r[j] < -1e-9:
+                    continue
+                length = (_cc_turn_length(r1[j], radius_m, sigma) + max(dot_r[j], 0.0)
+                          + _cc_turn_length(r2[j], radius_m, sigma))
+                if best is None or length < best[0]:
+                    best = (length, [s1 * r1[j], max(dot_r[j], 0.0), s2 * r2[j]])
+    if best is None:
+        return None
+    a1, run, a2 = best[1]
+    segs: list[Segment] = []
+    pose = tuple(float(v) for v in start)
+    if abs(a1) > 1e-12:
+        segs += cc_turn(pose, a1, radius_m, sigma)
+        pose = segs[-1].end
+    if run > 1e-12:
+        segs.append(line(pose, run))
+        pose = segs[-1].end
+    if abs(a2) > 1e-12:
+        segs += cc_turn(pose, a2, radius_m, sigma)
+    return segs

@@ -35,6 +35,9 @@ bounded over the piece (:func:`kinematics.plan.transitions.wheel_rate_bounds`):
   same split (all to ``kappa a`` on arcs); in a pivot it caps the yaw acceleration itself.
 - ``max_steer_rate_dps`` (bicycle, Ackermann): a steered wheel's angle changes at
   ``v sigma |d angle / d kappa|``, capping the speed on clothoids.
+- On a mecanum or swerve line whose body turns, the body-frame course changes with distance,
+  so the wheel rates (and swerve module angles) change at constant speed too: the same split
+  caps the speed there.
 - Where the curvature steps at a joint (a plain line/arc joint, transitions off) and a limit
   watches it (``max_wheel_accel_radps2`` or ``max_yaw_accel_dps2``: the rates would jump;
   ``max_steer_rate_dps``: the steer angle would), the chassis comes to rest there; where the
@@ -74,6 +77,9 @@ _STEP_PER_M = 1e-9
 _STEER_STEP_RAD = 1e-9
 #: Share of each rate-of-change limit left to speeding up and slowing down on a clothoid.
 ACCEL_SHARE = 0.5
+#: Slack on a derivative bounded by differences over a grid (its largest value may fall
+#: between grid points; 129 points over at most a half turn, common practice).
+_GRID_SLACK = 1.05
 
 
 @dataclass(frozen=True)
@@ -372,6 +378,8 @@ def _transition_caps(drive: DriveModel, seg: Segment, lim: Limits) -> dict[str, 
     """Speed caps on a clothoid from the rate-of-change limits (module docstring)."""
     sigma = abs(seg.sharpness)
     caps: dict[str, float] = {}
+    if _turning_line(seg):
+        return _turning_line_caps(drive, seg, lim)
     if seg.kind != "clothoid" or sigma == 0.0:
         return caps
     if lim.max_wheel_accel_radps2 is not None:
@@ -389,10 +397,45 @@ def _transition_caps(drive: DriveModel, seg: Segment, lim: Limits) -> dict[str, 
     return caps
 
 
+def _turning_line(seg: Segment) -> bool:
+    return seg.kind == "line" and seg.turn_rad != 0.0 and seg.length_m > 0.0
+
+
+def _turning_line_caps(drive: DriveModel, seg: Segment, lim: Limits) -> dict[str, float]:
+    """Speed caps on a holonomic line whose body turns: the body-frame course ``phi`` changes
+    at ``v |turn| / L``, so a wheel's rate ``v rho(phi)`` changes at ``a rho + v^2 rho'(phi)
+    |turn| / L`` and a steered module's angle at ``v A'(phi) |turn| / L`` (both bounded over
+    the line on a grid of courses, the angles unwrapped over their half-turn flips)."""
+    caps: dict[str, float] = {}
+    w = seg.turn_rad / seg.length_m
+    phi0 = seg.course - seg.start[2]
+    phi = np.linspace(phi0, phi0 - seg.turn_rad, 129)
+    one = np.ones_like(phi)
+    cmd = drive.inverse(np.cos(phi), np.sin(phi), w * one)
+    dphi = float(phi[1] - phi[0]) if phi.size > 1 else 1.0
+    per_turn = abs(w)  # d phi / d s
+    if lim.max_wheel_accel_radps2 is not None:
+        rates = cmd.rates(drive.wheel_names)
+        if drive.steered_wheels:  # a module's rate changes sign where its angle flips
+            rates = np.abs(rates)
+        g = float(np.max(np.abs(np.diff(rates, axis=0)))) / abs(dphi) * _GRID_SLACK
+        if g > 0.0:
+            caps["max_wheel_accel_radps2"] = math.sqrt(
+                (1.0 - ACCEL_SHARE) * lim.max_wheel_accel_radps2 / (g * per_turn))
+    if lim.max_steer_rate_radps is not None and drive.steered_wheels:
+        g = max(float(np.max(np.abs(np.diff(np.unwrap(np.asarray(cmd.angle_rad[k]),
+                                                            period=math.pi)))))
+                for k in drive.steered_wheels) / abs(dphi) * _GRID_SLACK
+        if g > 0.0:
+            caps["max_steer_rate_dps"] = lim.max_steer_rate_radps / (g * per_turn)
+    return caps
+
+
 def _travel_accel(drive: DriveModel, seg: Segment, lim: Limits) -> tuple[float, float, str, str]:
     """Acceleration and deceleration limits on a line, arc or clothoid, and the keys that set
-    them (module docstring: a clothoid leaves ``ACCEL_SHARE`` of each rate limit to them)."""
-    share = ACCEL_SHARE if seg.kind == "clothoid" else 1.0
+    them (module docstring: a clothoid, or a line whose body turns, leaves ``ACCEL_SHARE`` of
+    each rate limit to them)."""
+    share = ACCEL_SHARE if seg.kind == "clothoid" or _turning_line(seg) else 1.0
     acc, dec = lim.max_accel_mps2, lim.max_decel_mps2
     akey, dkey = "max_accel_mps2", "max_decel_mps2"
     if seg.length_m <= 0.0:
@@ -454,20 +497,22 @@ def _end_curvature(seg: Segment, end: bool) -> float:
     return seg.curvature
 
 
+def joint_angles(drive: DriveModel, seg: Segment, end: bool) -> dict:
+    """Steered-wheel angles (rad) at the start or end of a line, arc or clothoid, from its
+    direction of travel and curvature (a wheel at rest points where it must go)."""
+    k = _end_curvature(seg, end)
+    if seg.kind == "line" and (seg.course_rad is not None or seg.turn_rad != 0.0):
+        phi = seg.course - (seg.start[2] + (seg.turn_rad if end else 0.0))
+        return drive.inverse(np.cos(phi), np.sin(phi), k).angle_rad
+    d = float(seg.direction)
+    return drive.inverse(d, 0.0, d * k).angle_rad
+
+
 def _steer_step(drive: DriveModel, a: Segment, b: Segment) -> float:
     """Largest steered-wheel angle change (rad) across the joint of ``a`` and ``b``."""
     if not drive.steered_wheels or a.kind == "pivot" or b.kind == "pivot":
         return 0.0
-
-    def angles(seg: Segment, end: bool) -> dict:
-        k = _end_curvature(seg, end)
-        if seg.kind == "line" and (seg.course_rad is not None or seg.turn_rad != 0.0):
-            phi = seg.course - (seg.start[2] + (seg.turn_rad if end else 0.0))
-            return drive.inverse(np.cos(phi), np.sin(phi), k).angle_rad
-        d = float(seg.direction)
-        return drive.inverse(d, 0.0, d * k).angle_rad
-
-    ea, sb = angles(a, True), angles(b, False)
+    ea, sb = joint_angles(drive, a, True), joint_angles(drive, b, False)
     return max(abs(float(ea[w]) - float(sb[w])) for w in drive.steered_wheels)
 
 
@@ -492,7 +537,9 @@ def _must_rest(a: Segment, b: Segment) -> bool:
 
 # -- the profile ----------------------------------------------------------------------------
 def speed_profile(segments: Sequence[Segment], drive: DriveModel,
-                  limits: Limits) -> SpeedProfile:
+                  limits: Limits, caps: Sequence[tuple[float, str] | None] | None = None,
+                  rest_before: frozenset[int] = frozenset(),
+                  dwell_s: Sequence[float] | None = None) -> SpeedProfile:
     """The fastest speed profile along ``segments`` within ``limits``.
 
     Parameters
@@ -503,6 +550,13 @@ def speed_profile(segments: Sequence[Segment], drive: DriveModel,
         Gives every wheel's rate for the wheel-rate limit.
     limits : Limits
         See :meth:`Limits.from_chassis`.
+    caps : sequence, optional
+        Per segment, a further speed cap ``(m/s, binding name)`` or ``None`` (slow zones,
+        :mod:`kinematics.timing.zones`).
+    rest_before : set of int
+        Segments before which the chassis comes to rest (stops).
+    dwell_s : sequence of float, optional
+        Per segment, time standing still before it (s), on top of any steering hold.
 
     Returns
     -------
@@ -544,6 +598,8 @@ def speed_profile(segments: Sequence[Segment], drive: DriveModel,
             amount[i] = s.length_m
             acc[i], dec[i], ak, dk = _travel_accel(drive, s, limits)
             yaw_per[i] = s.turn_rad / s.length_m if s.length_m > 0 else 0.0
+            if caps is not None and caps[i] is not None and caps[i][0] < c:
+                c, key = caps[i]
         cap[i] = c
         binding.append(key)
         akeys.append(ak)
@@ -557,13 +613,16 @@ def speed_profile(segments: Sequence[Segment], drive: DriveModel,
         limits.max_yaw_accel_radps2 is not None
     for j in range(1, n):
         a, b = segs[j - 1], segs[j]
-        rest = _must_rest(a, b) or (watch_rates and _curvature_step(a, b))
+        rest = _must_rest(a, b) or (watch_rates and _curvature_step(a, b)) or \
+            j in rest_before
         if limits.max_steer_rate_radps is not None:
             step = _steer_step(drive, a, b)
             if step > _STEER_STEP_RAD:
                 rest = True
                 hold[j] = step / limits.max_steer_rate_radps
         node[j] = 0.0 if rest else min(cap[j - 1], cap[j])
+    if dwell_s is not None:
+        hold = hold + np.asarray(dwell_s, dtype=float)
     for i in range(n):  # forward: what acceleration allows
         node[i + 1] = min(node[i + 1], math.sqrt(node[i] ** 2 + 2.0 * acc[i] * amount[i]))
     for i in range(n - 1, -1, -1):  # backward: what deceleration allows

@@ -31,10 +31,13 @@ import numpy as np
 from numpy.typing import NDArray
 
 from kinematics.errors import ValidationError
+from kinematics.files.floorplan import Zone
+from kinematics.files.project import Route
 from kinematics.motion.arrays import unique_sorted
 from kinematics.motion.drives import DriveModel, drive_for
 from kinematics.motion.segments import Segment
-from kinematics.timing.profile import Limits, SpeedProfile, speed_profile
+from kinematics.timing.profile import Limits, SpeedProfile, joint_angles, speed_profile
+from kinematics.timing.zones import SLOW_ZONE, RoutePieces, StopAt, split_route
 
 SEGMENT_COLUMNS = ("index", "kind", "t0_s", "duration_s", "length_m", "v_start_mps",
                    "v_cruise_mps", "v_end_mps", "yaw_rate_dps", "turn_deg", "radius_m",
@@ -57,6 +60,10 @@ class Samples:
     omega_radps: NDArray[np.float64]
     rate_radps: dict[str, NDArray[np.float64]]
     angle_rad: dict[str, NDArray[np.float64]]
+    #: A train's trailers at each sample: shape (samples, trailers, 4) holding x, y (axle
+    #: midpoint), heading and hitch angle (to the body ahead), radians; ``None`` without.
+    trailers: NDArray[np.float64] | None = None
+    trailer_names: tuple[str, ...] = ()
 
 
 @dataclass(frozen=True)
@@ -71,10 +78,29 @@ class Schedule:
     samples: Samples
     dt_s: float
     chassis: object = None
+    pieces: RoutePieces | None = None  # slow zones and stops: how the plan was cut
 
     @property
     def segments(self) -> tuple[Segment, ...]:
         return self.profile.segments
+
+    @property
+    def stops(self) -> tuple[StopAt, ...]:
+        return () if self.pieces is None else self.pieces.stops
+
+    def stop_rows(self) -> list[dict]:
+        """Each stop with where it is and when the chassis arrives (``t_s``)."""
+        out = []
+        p = self.profile
+        for st in self.stops:
+            k = int(np.searchsorted(p.station0_m, st.station_m - 1e-9, side="left"))
+            if k < len(p.segments):
+                hold = 0.0 if p.hold_s is None else float(p.hold_s[k])
+                t = float(p.t0_s[k]) - hold
+            else:
+                t = p.total_time_s
+            out.append(st.to_dict() | {"t_s": t})
+        return out
 
 
 def _segment_unit_twists(profile: SpeedProfile) -> NDArray[np.float64]:
@@ -149,7 +175,8 @@ def _poses(profile: SpeedProfile, idx: NDArray, progress: NDArray) -> NDArray[np
 
 
 def build_schedule(route_name: str, segments: Sequence[Segment], chassis,
-                   dt_s: float = 0.1) -> Schedule:
+                   dt_s: float = 0.1, zones: Sequence[Zone] = (),
+                   route: Route | None = None) -> Schedule:
     """The wheel-rate schedule of a planned route.
 
     Parameters
@@ -161,6 +188,10 @@ def build_schedule(route_name: str, segments: Sequence[Segment], chassis,
         Drive type, dimensions and limits.
     dt_s : float
         Sample interval, s (samples also fall on joints and ends of speed ramps).
+    zones : sequence of Zone
+        The floor plan's zones; ``slow`` ones cap the speed (:mod:`kinematics.timing.zones`).
+    route : Route, optional
+        Its ``stops``: the chassis rests there and waits.
 
     Returns
     -------
@@ -174,7 +205,16 @@ def build_schedule(route_name: str, segments: Sequence[Segment], chassis,
     if not (isinstance(dt_s, (int, float)) and math.isfinite(dt_s) and dt_s > 0):
         raise ValidationError("<schedule>", "dt_s", f"a positive time step in s, got {dt_s!r}")
     drive = drive_for(chassis)
-    prof = speed_profile(segments, drive, Limits.from_chassis(chassis))
+    pieces = None
+    stops = tuple(getattr(route, "stops", ()) or ())
+    if stops or any(z.kind == "slow" for z in zones):
+        pieces = split_route(segments, chassis.footprint, zones,
+                             route.waypoints if route is not None else (), stops)
+        prof = speed_profile(pieces.pieces, drive, Limits.from_chassis(chassis),
+                             caps=[None if c is None else (c, SLOW_ZONE) for c in pieces.cap],
+                             rest_before=pieces.rest_before, dwell_s=pieces.dwell_s)
+    else:
+        prof = speed_profile(segments, drive, Limits.from_chassis(chassis))
     n = len(prof.segments)
 
     unit = _segment_unit_twists(prof)
@@ -205,11 +245,12 @@ def build_schedule(route_name: str, segments: Sequence[Segment], chassis,
         vy_mps=vy, omega_radps=omega,
         rate_radps={k: np.asarray(cmd.rate_radps[k]) for k in drive.wheel_names},
         angle_rad={k: np.asarray(dir_cmd.angle_rad[k]) for k in drive.steered_wheels},
+        **_trailer_samples(prof, chassis, idx, st.progress),
     )
     return Schedule(route_name, drive, prof,
                     {k: np.asarray(cruise_cmd.rate_radps[k]) for k in drive.wheel_names},
                     {k: np.asarray(unit_cmd.angle_rad[k]) for k in drive.steered_wheels},
-                    samples, float(dt_s), chassis)
+                    samples, float(dt_s), chassis, pieces)
 
 
 def _steer_in_holds(prof: SpeedProfile, drive: DriveModel, idx: NDArray, tau: NDArray,
@@ -225,12 +266,55 @@ def _steer_in_holds(prof: SpeedProfile, drive: DriveModel, idx: NDArray, tau: ND
         a, b = prof.segments[i - 1], prof.segments[i]
         m = (idx == i) & (tau < 0.0)
         f = np.clip(1.0 + tau[m] / h, 0.0, 1.0)
-        ka = a.kappa1 if a.kind == "clothoid" else a.curvature
-        kb = b.kappa0 if b.kind == "clothoid" else b.curvature
-        ea = drive.inverse(float(a.direction), 0.0, a.direction * ka).angle_rad
-        sb = drive.inverse(float(b.direction), 0.0, b.direction * kb).angle_rad
+        ea, sb = joint_angles(drive, a, True), joint_angles(drive, b, False)
         for w in drive.steered_wheels:
             angles[w][m] = float(ea[w]) + f * (float(sb[w]) - float(ea[w]))
+
+
+def _trailer_samples(profile: SpeedProfile, chassis, idx: NDArray, progress: NDArray) -> dict:
+    """The trailers' poses and hitch angles at the samples (nothing for a lone chassis)."""
+    trailers = tuple(getattr(chassis, "trailers", ()) or ())
+    if not trailers or not profile.segments or idx.size == 0:
+        return {}
+    from kinematics.motion.trailers import hitch_angles, trace_train
+
+    trace = trace_train(profile.segments, trailers)
+    out = np.zeros((idx.size, len(trailers), 4))
+    for i in np.unique(idx).tolist():
+        m = idx == i
+        amount = profile.amount[i]
+        f = progress[m] / amount if amount > 0 else np.ones(int(m.sum()))
+        poses = trace.poses(i, np.clip(f, 0.0, 1.0) * trace.amount(i))
+        out[m, :, :3] = poses[:, 1:]
+        out[m, :, 3] = hitch_angles(poses)
+    return {"trailers": out, "trailer_names": tuple(t.name for t in trailers)}
+
+
+def trailer_sample_columns(s: Schedule) -> list[str]:
+    """Per-sample CSV columns of a train's trailers (``trailer1_x`` ... ``trailer1_hitch_deg``;
+    none for a lone chassis)."""
+    return [f"trailer{j + 1}_{k}" for j in range(len(s.samples.trailer_names))
+            for k in ("x", "y", "heading_deg", "hitch_deg")]
+
+
+def trailer_sample_cells(s: Schedule, k: int) -> list[float]:
+    """The values of :func:`trailer_sample_columns` at sample ``k``."""
+    tr = s.samples.trailers
+    if tr is None:
+        return []
+    out: list[float] = []
+    for j in range(tr.shape[1]):
+        x, y, th, hitch = tr[k, j]
+        out += [float(x), float(y), math.degrees(float(th)), math.degrees(float(hitch))]
+    return out
+
+
+def _trailer_dicts(s: Schedule, k: int) -> list[dict]:
+    tr = s.samples.trailers
+    return [{"name": n, "x": float(tr[k, j, 0]), "y": float(tr[k, j, 1]),
+             "heading_deg": math.degrees(float(tr[k, j, 2])),
+             "hitch_deg": math.degrees(float(tr[k, j, 3]))}
+            for j, n in enumerate(s.samples.trailer_names)]
 
 
 # -- export ---------------------------------------------------------------------------------
@@ -281,12 +365,20 @@ def schedule_to_dict(s: Schedule) -> dict:
             row["curvature_start_per_m"] = seg.kappa0
             row["curvature_end_per_m"] = seg.kappa1
         row["wheels"] = _wheels(s.drive, s.cruise_rate_radps, s.cruise_angle_rad, i)
+        if s.pieces is not None:
+            row["plan_segment"] = s.pieces.plan_segment[i]
+            if s.pieces.zone[i]:
+                row["slow_zone"] = s.pieces.zone[i]
         segs.append(row)
     sm = s.samples
     curv = sample_curvature(s)
     samples = []
     for k in range(sm.t_s.size):
-        samples.append({
+        if s.pieces is not None:
+            samples.append({"plan_segment": s.pieces.plan_segment[int(sm.segment[k])]})
+        else:
+            samples.append({})
+        samples[-1].update({
             "t_s": float(sm.t_s[k]), "segment": int(sm.segment[k]),
             "station_m": float(sm.station_m[k]), "x": float(sm.x[k]), "y": float(sm.y[k]),
             "heading_deg": math.degrees(float(sm.heading_rad[k])), "v_mps": float(sm.v_mps[k]),
@@ -295,7 +387,9 @@ def schedule_to_dict(s: Schedule) -> dict:
             "curvature_per_m": float(curv[k]),
             "wheels": _wheels(s.drive, sm.rate_radps, sm.angle_rad, k),
         })
-    return {
+        if sm.trailers is not None:
+            samples[-1]["trailers"] = _trailer_dicts(s, k)
+    out = {
         "meta": schedule_meta(s),
         "route": s.route,
         "drive": s.drive.name,
@@ -313,6 +407,9 @@ def schedule_to_dict(s: Schedule) -> dict:
         "segments": segs,
         "samples": samples,
     }
+    if s.pieces is not None:
+        out["stops"] = s.stop_rows()
+    return out
 
 
 def sample_curvature(s: Schedule) -> NDArray[np.float64]:
@@ -448,7 +545,8 @@ def schedule_series(s: Schedule) -> dict:
     -------
     dict
         ``t_s``, ``station_m``, ``v_mps``, ``omega_radps``, ``segment``, ``x``, ``y``,
-        ``heading_deg``; ``rate_radps`` and ``angle_deg`` (dicts by wheel name); ``limits``:
+        ``heading_deg``; ``rate_radps`` and ``angle_deg`` (dicts by wheel name); ``hitch_deg``
+        (by trailer name); ``limits``:
         the scalar chassis limits (``None`` where absent) and ``speed_cap_mps``, the speed cap
         of each sample's segment (NaN in pivots), with ``yaw_cap_radps`` (NaN off pivots).
     """
@@ -463,6 +561,10 @@ def schedule_series(s: Schedule) -> dict:
         "heading_deg": np.degrees(sm.heading_rad),
         "rate_radps": dict(sm.rate_radps),
         "angle_deg": {k: np.degrees(v) for k, v in sm.angle_rad.items()},
+        # A train's hitch angles by trailer name, degrees (empty for a lone chassis).
+        "hitch_deg": ({} if sm.trailers is None else
+                      {n: np.degrees(sm.trailers[:, j, 3])
+                       for j, n in enumerate(sm.trailer_names)}),
         "limits": {
             "max_speed_mps": lim.max_speed_mps,
             "max_wheel_rate_radps": lim.max_wheel_rate_radps,
