@@ -236,3 +236,5 @@ def test_a_drag_step_redraws_only_what_moved(qtbot, tmp_path):
     QApplication.processEvents()
     c.plot.viewport().repaint()
     assert not c.band_item.painted_rough
+    doc.undo_stack.setClean()  # no "save changes?" question when the window closes
+    w.close()
