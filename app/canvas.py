@@ -64,6 +64,8 @@ from .palette import (  # noqa: F401 - the whole set, as other views import it f
     WALL_FILL,
     YELLOW,
 )
+from .plan_tools import element_at
+from .zone_paint import ZONE_STYLE, zone_brush
 
 # Marker shape per violation kind (pyqtgraph symbol names); the words beside them are the
 # analysis's (kinematics.analysis.results.VIOLATION_WORDS).
@@ -533,6 +535,17 @@ class PlanCanvas(QWidget):
         # The floor plan does not change during a drag: its items repaint from cached pixels.
         for it in (self.walls_item, self.obstacles_item):
             it.setCacheMode(QGraphicsItem.CacheMode.DeviceCoordinateCache)
+        # Zones under the solids: a faint fill per kind and the kind's outline style (the
+        # picture adds hatching; here patterns would scale with the zoom).
+        self.zone_items = {}
+        for kind in ZONE_STYLE:
+            fill, _hatch, zpen = zone_brush(kind, alpha=55)
+            it = QGraphicsPathItem()
+            it.setPen(zpen)
+            it.setBrush(fill)
+            it.setZValue(-6)
+            add(it)
+            self.zone_items[kind] = it
         self.doors_item = _Polyline(_pen(ORANGE, 4.0))
         self.doors_item.setZValue(1)
         add(self.doors_item)
@@ -657,6 +670,9 @@ class PlanCanvas(QWidget):
         obst = [s.geometry for s in sol if s.kind == "obstacle"]
         self.walls_item.setPath(polygons_path(walls))
         self.obstacles_item.setPath(polygons_path(obst))
+        zk = index.zones
+        for kind, it in self.zone_items.items():
+            it.setPath(polygons_path(list(getattr(zk, kind).geometries)))
         self._solid_geoms = [s.geometry for s in sol]
         self._solids_tree = index.tree if sol else None
         dx, dy = [], []
@@ -1165,8 +1181,12 @@ class PlanCanvas(QWidget):
         self.last_hover = info
         if info is None:
             self.hover_item.setData([], [])
-            self.hoverInfo.emit("")
-            self.plot.setToolTip("")
+            # Off the route: name the wall, obstacle, door or zone under the pointer.
+            el = element_at(self.doc.obstacle_index(), x, y, HIT_PX * self.px_m())
+            self.last_hover_element = el
+            text = "" if el is None else el["text"]
+            self.hoverInfo.emit(text)
+            self.plot.setToolTip(text)
             return
         self.hover_item.setData([info["x"]], [info["y"]])
         self.hoverInfo.emit(info["text"])

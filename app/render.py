@@ -59,6 +59,7 @@ from .palette import (  # noqa: F401 - re-exported for the report and tests
     WALL_FILL,
     YELLOW,
 )
+from .zone_paint import ZONE_STYLE, ZONE_WORDS, draw_zone_sample, draw_zones, zone_caption
 
 INK = "#1A1A1A"
 FAINT_INK = "#5C5C5C"
@@ -71,7 +72,8 @@ ROUTE_COLOURS = (BLUE, PURPLE, ORANGE, BLACK, GREEN)
 FORCED_VIOLATION_LABELS = 8
 #: Marker shape per violation kind (drawn by :func:`marker_path`).
 VIOLATION_SHAPES = {"collision": "cross", "clearance": "triangle", "turn_radius": "square",
-                    "infeasible": "star", "waypoint_blocked": "diamond"}
+                    "infeasible": "star", "waypoint_blocked": "diamond", "keep_out": "hexagon",
+                    "wrong_way": "chevron"}
 
 
 def ensure_app() -> QGuiApplication:
@@ -219,6 +221,15 @@ def marker_path(shape: str, centre: QPointF, r: float) -> QPainterPath:
     elif shape == "diamond":
         path.addPolygon(QPolygonF([QPointF(x, y - r), QPointF(x + r, y), QPointF(x, y + r),
                                    QPointF(x - r, y)]))
+    elif shape == "hexagon":
+        path.addPolygon(QPolygonF([QPointF(x + r * math.cos(k * math.pi / 3),
+                                           y + r * math.sin(k * math.pi / 3))
+                                   for k in range(6)]))
+    elif shape == "chevron":
+        w = r * 0.45
+        path.addPolygon(QPolygonF([QPointF(x - r, y - r), QPointF(x - r + w, y - r),
+                                   QPointF(x + r, y), QPointF(x - r + w, y + r),
+                                   QPointF(x - r, y + r), QPointF(x + r - w - w * 0.5, y)]))
     else:
         path.addEllipse(centre, r, r)
     path.closeSubpath()
@@ -473,7 +484,9 @@ def _draw(p: QPainter, project: Any, plans: dict, checks: dict, route_name: str 
     p.setClipRect(plan_rect)
 
     _draw_grid(p, view, plan_rect, u)
+    draw_zones(p, project.floorplan.zones, view.pt, view.scale, u)
     _draw_floorplan(p, view, project.floorplan, u, labels)
+    _zone_captions(p, view, project.floorplan.zones, u, labels)
     # Swept bands first, so paths, outlines and markers sit on top of them.
     p.setPen(Qt.PenStyle.NoPen)
     p.setBrush(QBrush(QColor(*BAND_RGBA)))
@@ -499,7 +512,7 @@ def _draw(p: QPainter, project: Any, plans: dict, checks: dict, route_name: str 
         _draw_title(p, project, plans, checks, route_name, errors, W, title_h, u, f_title,
                     f_sub)
     _draw_legend(p, QRectF(W - legend_w - m, plan_rect.top(), legend_w, plan_rect.height()),
-                 routes, checks, u, f_label, f_small)
+                 routes, checks, u, f_label, f_small, project.floorplan.zones)
     if footer:
         p.setPen(QColor(FAINT_INK))
         p.setFont(font(10.5 * u))
@@ -774,9 +787,43 @@ def _draw_title(p: QPainter, project: Any, plans: dict, checks: dict, route_name
                fms.elidedText(sub, Qt.TextElideMode.ElideRight, left.width()))
 
 
-def _legend_rows(routes: Sequence[Any], checks: dict) -> list[tuple[str, str, Any]]:
+def _zone_captions(p: QPainter, view: _View, zones: Sequence[Any], u: float,
+                   labels: _Labels) -> None:
+    """Each zone's label and number inside it, where it fits and nothing is there yet."""
+    from shapely.geometry import Polygon
+
+    f = font(10.5 * u)
+    fm = QFontMetricsF(f)
+    p.setFont(f)
+    for z in zones:
+        poly = Polygon(z.points)
+        if not poly.is_valid or poly.area <= 0:
+            continue
+        text = zone_caption(z)
+        c = poly.representative_point()
+        # Near the zone's top edge, where a route through its middle leaves it readable.
+        top = view.pt(c.x, poly.bounds[3])
+        r = QRectF(0, 0, fm.horizontalAdvance(text) + 6, fm.height())
+        r.moveCenter(QPointF(top.x(), top.y() + 4 * u + fm.height() / 2))
+        if not view.pt(c.x, poly.bounds[1]).y() - top.y() > 2 * fm.height():
+            r.moveCenter(view.pt(c.x, c.y))
+        if not labels.bounds.contains(r):
+            continue
+        labels.block(r)
+        p.setPen(Qt.PenStyle.NoPen)
+        p.setBrush(QBrush(qcolor("#FFFFFF", 215)))
+        p.drawRect(r)
+        p.setPen(QColor(ZONE_STYLE[z.kind][0]).darker(140))
+        p.drawText(r, Qt.AlignmentFlag.AlignCenter, text)
+
+
+def _legend_rows(routes: Sequence[Any], checks: dict, zones: Sequence[Any] = ()
+                 ) -> list[tuple[str, str, Any]]:
     rows: list[tuple[str, str, Any]] = [("wall", "wall", None), ("obstacle", "obstacle", None),
                                         ("door", "door opening (width, clearance)", None)]
+    for kind in ZONE_STYLE:
+        if any(z.kind == kind for z in zones):
+            rows.append(("zone", ZONE_WORDS[kind], kind))
     for k, r in enumerate(routes):
         rows.append(("path", f"route {r.name}", ROUTE_COLOURS[k % len(ROUTE_COLOURS)]))
     rows += [("reverse", "driven in reverse", None), ("pivot", "turn on the spot", None),
@@ -788,14 +835,16 @@ def _legend_rows(routes: Sequence[Any], checks: dict) -> list[tuple[str, str, An
             if v.kind not in kinds:
                 kinds.append(v.kind)
     for kind in VIOLATION_SHAPES:
+        if kind in ("keep_out", "wrong_way") and kind not in kinds:
+            continue  # zone rules: listed when a route breaks one
         rows.append(("violation", VIOLATION_WORDS[kind] + ("" if kind in kinds else
                                                            " (none)"), kind))
     return rows
 
 
 def _draw_legend(p: QPainter, rect: QRectF, routes: Sequence[Any], checks: dict, u: float,
-                 f: QFont, f_small: QFont) -> None:
-    rows = _legend_rows(routes, checks)
+                 f: QFont, f_small: QFont, zones: Sequence[Any] = ()) -> None:
+    rows = _legend_rows(routes, checks, zones)
     row_h = 25 * u
     head_h = 28 * u
     needed = head_h + row_h * len(rows) + 10 * u
@@ -826,6 +875,8 @@ def _draw_legend(p: QPainter, rect: QRectF, routes: Sequence[Any], checks: dict,
             p.drawRect(sample)
             p.setBrush(QBrush(QColor("#6E6E6E"), Qt.BrushStyle.BDiagPattern))
             p.drawRect(sample)
+        elif kind == "zone":
+            draw_zone_sample(p, arg, sample)
         elif kind == "door":
             p.setPen(pen(BLUE, 2.2 * u, Qt.PenStyle.DotLine))
             p.drawLine(QPointF(x0, cy), QPointF(x0 + sw, cy))

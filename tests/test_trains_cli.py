@@ -64,3 +64,20 @@ def test_schedule_samples_carry_trailers(capsys) -> None:
     assert max(abs(t["hitch_deg"]) for s in samples for t in s["trailers"]) > 20.0
     code, out = _run(capsys, "schedule", SAMPLE, "--route", "supply-return")
     assert "trailers" not in json.loads(out)["samples"][0]
+
+
+def test_sampled_csv_has_trailer_columns(capsys) -> None:
+    code, out = _run(capsys, "schedule", SAMPLE, "--route", "linen-to-ward-b", "--format",
+                     "csv", "--samples")
+    assert code == 0
+    rows = [ln for ln in out.splitlines() if not ln.startswith("#")]
+    head = rows[0].split(",")
+    cols = [f"trailer{j}_{k}" for j in (1, 2) for k in ("x", "y", "heading_deg", "hitch_deg")]
+    assert head[-8:] == cols
+    _, js = _run(capsys, "schedule", SAMPLE, "--route", "linen-to-ward-b")
+    samples = json.loads(js)["samples"]
+    assert len(rows) - 1 == len(samples)
+    for row, s in zip(rows[1:], samples):
+        vals = [float(v) for v in row.split(",")[-8:]]
+        want = [t[k] for t in s["trailers"] for k in ("x", "y", "heading_deg", "hitch_deg")]
+        assert max(abs(a - b) for a, b in zip(vals, want)) < 1e-6
