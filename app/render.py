@@ -42,6 +42,7 @@ from kinematics.analysis.results import (  # noqa: F401 - re-exported for older 
     door_clearances,
     door_results,
     project_title,
+    vehicle_of,
     verdict_text,
     violation_label,
     violations_of,
@@ -461,14 +462,15 @@ def _draw(p: QPainter, project: Any, plans: dict, checks: dict, route_name: str 
     plan_rect = QRectF(m, title_h + m * 0.5, W - legend_w - 2.5 * m,
                        H - title_h - foot_h - 1.5 * m)
 
-    chassis = project.chassis
     names = list(plans) if plans else [r.name for r in project.routes]
     bands = {}
     for name in names:
         plan = plans.get(name)
         if plan is not None and plan.segments:
             try:
-                bands[name] = swept_geometry(chassis.footprint, plan.segments, checks.get(name))
+                bands[name] = swept_geometry(
+                    vehicle_of(project, project.route(name)).footprint, plan.segments,
+                    checks.get(name))
             except Exception:  # noqa: BLE001 - a picture without a band is still a picture
                 bands[name] = None
     # The plan fits above a strip kept for the scale bar and axes cue, which never cover it.
@@ -498,7 +500,9 @@ def _draw(p: QPainter, project: Any, plans: dict, checks: dict, route_name: str 
         plan = plans.get(r.name)
         colour = ROUTE_COLOURS[k % len(ROUTE_COLOURS)]
         if plan is not None:
-            _draw_outlines(p, view, chassis.footprint, plan.segments, u)
+            vehicle = vehicle_of(project, r)
+            _draw_outlines(p, view, vehicle.footprint, plan.segments, u)
+            _draw_trailers(p, view, vehicle, checks.get(r.name), plan.segments, u)
             _draw_path(p, view, plan.segments, colour, u)
         _draw_waypoints(p, view, r, colour, u, labels)
     door_pending = _draw_doors(p, view, project.floorplan, checks, u)
@@ -629,6 +633,31 @@ def _draw_outlines(p: QPainter, view: _View, footprint: Sequence, segments: Sequ
         c = view.pt(pose[0], pose[1])
         L = 9 * u
         p.drawLine(c, QPointF(c.x() + L * math.cos(pose[2]), c.y() - L * math.sin(pose[2])))
+
+
+def _draw_trailers(p: QPainter, view: _View, vehicle: Any, check: Any, segments: Sequence,
+                   u: float) -> None:
+    """A train's trailers (and drawbars) where the tug's outlines are drawn."""
+    train = getattr(check, "train", None)
+    if train is None or not segments:
+        return
+    from kinematics.check.train import train_poses_at_stations
+    from kinematics.motion.segments import path_length
+
+    total = path_length(segments)
+    if total <= 0:
+        return
+    bodies = train_poses_at_stations(train.trace, np.linspace(0.0, total, 10))
+    p.setBrush(Qt.BrushStyle.NoBrush)
+    for row in bodies:
+        for j, t in enumerate(vehicle.trailers):
+            ahead, pose = row[j], row[j + 1]
+            hx = ahead[0] + t.hitch_x_m * math.cos(ahead[2])
+            hy = ahead[1] + t.hitch_x_m * math.sin(ahead[2])
+            p.setPen(pen("#3D3D3D", 1.1 * u))
+            p.drawPolygon(view.poly(place_footprint(t.footprint, pose)))
+            p.setPen(pen("#3D3D3D", 0.9 * u, Qt.PenStyle.DotLine))
+            p.drawLine(view.pt(hx, hy), view.pt(pose[0], pose[1]))
 
 
 def _draw_path(p: QPainter, view: _View, segments: Sequence, colour: str, u: float) -> None:

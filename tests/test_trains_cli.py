@@ -4,9 +4,14 @@ from __future__ import annotations
 
 import json
 import math
+import os
 from pathlib import Path
 
+import numpy as np
+
 from app.cli import main
+
+os.environ.setdefault("QT_QPA_PLATFORM", "offscreen")
 
 SAMPLE = str(Path(__file__).resolve().parent.parent / "sample_floorplans"
              / "clinic_train.swathe.json")
@@ -81,3 +86,28 @@ def test_sampled_csv_has_trailer_columns(capsys) -> None:
         vals = [float(v) for v in row.split(",")[-8:]]
         want = [t[k] for t in s["trailers"] for k in ("x", "y", "heading_deg", "hitch_deg")]
         assert max(abs(a - b) for a, b in zip(vals, want)) < 1e-6
+
+
+def test_window_plots_hitch_angles_of_a_train(qtbot) -> None:
+    # Source: the schedule's own hitch angles (tested against the geometry above) drawn
+    # unchanged, with each trailer's jackknife limit.
+    from app.document import Document
+    from app.plots import PlotsPanel
+    from kinematics.files.project import load_project
+    from kinematics.timing.schedule import schedule_series
+
+    doc = Document(load_project(SAMPLE))
+    panel = PlotsPanel(doc)
+    qtbot.addWidget(panel)
+    doc.set_current_route(0)
+    panel.refresh()
+    assert panel.hitch_plot.isVisible()
+    curves = {c.name(): c for c in panel.hitch_plot.listDataItems()}
+    assert sorted(curves) == ["linen cart", "meal cart"]
+    s = schedule_series(doc.schedule("linen-to-ward-b"))
+    assert np.allclose(curves["meal cart"].getData()[1], s["hitch_deg"]["meal cart"])
+    texts = [ln.label.format for ln in panel.limit_lines]
+    assert any("jackknife limit 75 deg" in t for t in texts)
+    doc.set_current_route(1)  # the lone delivery cart: no hitch plot
+    panel.refresh()
+    assert not panel.hitch_plot.listDataItems() and not panel.hitch_plot.isVisible()
