@@ -54,7 +54,7 @@ from kinematics.analysis.results import (
     violations_of,
 )
 from kinematics.errors import SwatheInputError
-from kinematics.files.project import DRIVES, Chassis, chassis_from_dict
+from kinematics.files.project import DRIVES, Chassis, a_drive, chassis_from_dict
 
 from .document import clearance_words
 from .render import (
@@ -517,7 +517,7 @@ class ChassisPanel(QWidget):
             if lab is not None:
                 lab.setEnabled(used)
             self.fields[key].setToolTip(FIELD_TIPS.get(key, "") if used
-                                        else f"not used by a {drive} drive")
+                                        else f"not used by {a_drive(drive)} drive")
 
     # -- form -> document --------------------------------------------------------------------
     def form_values(self) -> dict:

@@ -24,8 +24,9 @@ What is read, from model space only:
   of each role (case-insensitive, as DXF layer names are); entities on layers not named
   are skipped. Without ``layers`` the role is guessed from the layer name: a name holding
   ``door`` is a door layer; ``obstacle``, ``fixture``, ``furniture`` or ``rack`` an
-  obstacle layer; every other layer (``wall`` or not) is read as walls, so an unlayered
-  drawing still gives solid geometry.
+  obstacle layer; ``Defpoints`` (the layer CAD programs keep for dimension construction
+  points, never printed) is skipped; every other layer (``wall`` or not) is read as walls,
+  so an unlayered drawing still gives solid geometry.
 - On a wall or obstacle layer a closed outline (closed polyline, circle, or a polyline
   whose last point is its first) is a solid :class:`~kinematics.files.floorplan.Obstacle`; an
   open one is a :class:`~kinematics.files.floorplan.Wall` of ``wall_thickness_m``.
@@ -112,14 +113,19 @@ def guess_role(layer: str) -> str:
     Returns
     -------
     str
-        ``"doors"``, ``"obstacles"`` or ``"walls"`` (the fallback for any other name).
+        ``"doors"``, ``"obstacles"``, ``"ignore"`` (``Defpoints``, the never-printed layer of
+        dimension construction points) or ``"walls"`` (the fallback for any other name).
 
     Examples
     --------
     >>> guess_role("A-DOOR"), guess_role("Racking"), guess_role("WALLS"), guess_role("0")
     ('doors', 'obstacles', 'walls', 'walls')
+    >>> guess_role("DEFPOINTS")
+    'ignore'
     """
     low = layer.lower()
+    if low == "defpoints":
+        return "ignore"
     if "door" in low:
         return "doors"
     if any(w in low for w in _OBSTACLE_WORDS):
@@ -884,7 +890,8 @@ def import_dxf(path: str | Path, layers: dict[str, list[str]] | None = None,
         if layer.lower() in zone_of:
             return "zones"
         if roles is None:
-            return guess_role(layer)
+            guess = guess_role(layer)
+            return None if guess == "ignore" else guess
         return roles.get(layer.lower())
 
     walls: list[Wall] = []

@@ -100,10 +100,13 @@ def collector_held() -> Iterator[None]:
 def read_json(path: str | os.PathLike[str]) -> Any:
     """Read a JSON file; raise :class:`FileReadError` naming line and column on bad JSON.
 
-    NaN and Infinity literals are refused (they are not JSON).
+    NaN and Infinity literals are refused (they are not JSON). A leading UTF-8 byte-order
+    mark is skipped.
     """
     data = read_input_bytes(path, "JSON file")
     name = one_line(os.fspath(path), 300)
+    if data.startswith(b"\xef\xbb\xbf"):  # a UTF-8 byte-order mark, as some editors write
+        data = data[3:]
     try:
         text = data.decode("utf-8")
     except UnicodeDecodeError as exc:

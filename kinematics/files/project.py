@@ -48,6 +48,16 @@ DRIVE_ALIASES = {"tracked": "differential", "skid-steer": "differential",
 Point = tuple[float, float]
 
 
+def a_drive(drive: str) -> str:
+    """``drive`` with its article, spelt as the trade writes it for a message.
+
+    >>> a_drive("ackermann"), a_drive("differential")
+    ('an Ackermann', 'a differential')
+    """
+    word = "Ackermann" if drive == "ackermann" else drive
+    return ("an " if word[:1].lower() in "aeiou" else "a ") + word
+
+
 @dataclass(frozen=True)
 class Waypoint:
     """A sketched point; ``heading_deg`` (plan frame, ccw from +x) where the user fixed one."""
@@ -264,7 +274,7 @@ def chassis_from_dict(d: Any, file: str, place: str = "chassis") -> Chassis:
     for key in REQUIRED[drive]:
         v = steer if key == "max_steer_deg" else vals[key]
         if v is None:
-            raise r.fail(join(place, key), f"missing; a {drive} chassis needs {key}")
+            raise r.fail(join(place, key), f"missing; {a_drive(drive)} chassis needs {key}")
     if drive == "differential" and vals["track_m"] is None:
         raise r.fail(join(place, "track_m"), "missing; a differential chassis needs track_m")
     for key, (lo, hi) in TRANSITION_LIMITS.items():

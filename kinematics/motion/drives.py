@@ -50,6 +50,7 @@ import numpy as np
 from numpy.typing import ArrayLike, NDArray
 
 from kinematics.errors import ValidationError
+from kinematics.files.project import a_drive
 from kinematics.motion.arrays import unique_sorted
 
 _HALF_PI = 0.5 * math.pi
@@ -431,7 +432,7 @@ def _need(chassis, key: str, file: str) -> float:
     v = getattr(chassis, key, None)
     if v is None or not isinstance(v, (int, float)) or not math.isfinite(v) or v <= 0:
         raise ValidationError(file, f"chassis.{key}",
-                              f"a positive number; a {chassis.drive} chassis needs {key}")
+                              f"a positive number; {a_drive(chassis.drive)} chassis needs {key}")
     return float(v)
 
 

@@ -66,6 +66,7 @@ import numpy as np
 from numpy.typing import ArrayLike, NDArray
 
 from kinematics.errors import ValidationError
+from kinematics.files.project import a_drive
 from kinematics.motion.arrays import unique_sorted
 from kinematics.motion.drives import DriveModel, drive_for
 from kinematics.motion.segments import Segment, segment_stations
@@ -590,8 +591,8 @@ def speed_profile(segments: Sequence[Segment], drive: DriveModel,
         if s.kind == "pivot":
             if not drive.can_pivot:
                 raise ValidationError("<route>", f"segment {i}",
-                                      f"a turn on the spot, which a {drive.name} drive cannot "
-                                      "make; plan the route with a turn radius")
+                                      f"a turn on the spot, which {a_drive(drive.name)} drive "
+                                      "cannot make; plan the route with a turn radius")
             c, key = _pivot_caps(drive, limits)
             amount[i] = abs(s.turn_rad)
             acc[i], dec[i], ak, dk = _pivot_accel(drive, limits)
