@@ -28,6 +28,7 @@ from kinematics.files.floorplan import (
 )
 from kinematics.files.loader import load_floorplan
 from kinematics.files.project import (
+    a_drive,
     DRIVES,
     REQUIRED,
     Chassis,
@@ -220,7 +221,7 @@ def test_every_drive_names_its_missing_dimension(tmp_path):
                        "max_steer_deg": 40.0}
             del chassis[key]
             _p, e = _error(tmp_path, _with(("chassis",), chassis), kind=ValidationError)
-            assert e.place == f"chassis.{key}" and drive in e.expected
+            assert e.place == f"chassis.{key}" and a_drive(drive) in e.expected
 
 
 @pytest.mark.parametrize("steer", [1e-12, 5e-324, 0.5])
