@@ -28,13 +28,13 @@ from kinematics.files.floorplan import (
 )
 from kinematics.files.loader import load_floorplan
 from kinematics.files.project import (
-    a_drive,
     DRIVES,
     REQUIRED,
     Chassis,
     Project,
     Route,
     Waypoint,
+    a_drive,
     load_project,
     project_to_dict,
     save_project,
