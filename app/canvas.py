@@ -142,7 +142,7 @@ def sample_segments(segments: Sequence[Segment], step_m: float = 0.05,
     for i, seg in enumerate(segments):
         hit = cache.get((seg, step_m)) if cache is not None else None
         if hit is None:
-            if seg.kind == "arc":
+            if seg.kind in ("arc", "clothoid"):
                 n = max(2, int(math.ceil(max(seg.length_m / step_m,
                                              abs(seg.turn_rad) / math.radians(3.0)))) + 1)
             elif seg.kind == "line":
@@ -1183,6 +1183,13 @@ class PlanCanvas(QWidget):
         # schedule table and the files; waypoints are numbered from 1 everywhere.
         parts = [f"{cur.name}: station {s:.2f} m", f"segment {seg_i} ({seg.kind}"
                  + (", reverse)" if seg.direction < 0 else ")")]
+        local = min(max(s - float(sum(g.length_m for g in plan.segments[:seg_i])), 0.0),
+                    seg.length_m)
+        kappa = float(seg.curvature_at(local)) if seg.kind in ("arc", "clothoid") else 0.0
+        if kappa != 0.0:
+            parts.append(f"curvature {kappa:+.3f} /m (R {1.0 / abs(kappa):.2f} m)")
+        elif seg.kind in ("line", "clothoid"):
+            parts.append("curvature 0 /m")
         clear = self.clearance_at(pose)
         if clear is not None:
             parts.append(f"clearance {clear * 1000:.0f} mm")
@@ -1192,7 +1199,8 @@ class PlanCanvas(QWidget):
         if wheels:
             parts.append("wheels " + ", ".join(f"{n} {r:+.1f} rad/s" for n, r in wheels))
         return {"x": float(pose[0]), "y": float(pose[1]), "station_m": s, "segment": seg_i,
-                "clearance_m": clear, "speed_mps": speed, "wheels": dict(wheels),
+                "curvature_per_m": kappa, "clearance_m": clear, "speed_mps": speed,
+                "wheels": dict(wheels),
                 "text": "; ".join(parts)}
 
     def clearance_at(self, pose: Sequence[float]) -> float | None:

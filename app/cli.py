@@ -1,4 +1,4 @@
-"""The ``swathe`` command: the workbench, and plan / check / schedule / render for scripts.
+"""The ``swathe`` command: the workbench, and plan / check / schedule / render / find for scripts.
 
 Every subcommand calls ``kinematics`` only (render also draws with Qt, offscreen). Bad input
 exits 2 with one line on stderr naming the file, the place in it and what was expected.
@@ -14,7 +14,7 @@ from pathlib import Path
 
 from kinematics.errors import SwatheInputError
 
-SUBCOMMANDS = ("plan", "check", "schedule", "render")
+SUBCOMMANDS = ("plan", "check", "schedule", "render", "find")
 EXIT_OK, EXIT_VIOLATION, EXIT_BAD_INPUT, EXIT_INTERNAL = 0, 1, 2, 3
 
 
@@ -58,7 +58,11 @@ def build_parser() -> argparse.ArgumentParser:
     sp.add_argument("-o", "--output", metavar="FILE", help="write to FILE (atomically) "
                                                             "instead of standard output")
     sp.add_argument("--dt", type=float, default=0.1, metavar="SECONDS",
-                    help="time step of the samples (default 0.1 s)")
+                    help="time step of the samples, CSV and JSON (default 0.1 s)")
+    sp.add_argument("--samples", action="store_true",
+                    help="CSV: one row per time step (pose, speed, yaw rate, curvature, each "
+                         "wheel's rate and angle) after '#' lines naming chassis, limits and "
+                         "units, instead of one row per segment")
 
     sp = sub.add_parser("render", help="a PNG picture of plan, route, swept area and "
                                        "violations, without a screen")
@@ -71,6 +75,17 @@ def build_parser() -> argparse.ArgumentParser:
                     help="x axis of --plots (default time)")
     sp.add_argument("--width", type=int, default=1600, help="image width in pixels")
     sp.add_argument("--height", type=int, default=1000, help="image height in pixels")
+
+    sp = sub.add_parser("find", help="search a drivable, clear route through a route's "
+                                     "waypoints (exit 1 if none within the time limit)")
+    common(sp, route_required=True)
+    sp.add_argument("--json", action="store_true", help="print JSON for scripts")
+    sp.add_argument("--time-limit", type=float, default=10.0, metavar="S",
+                    help="seconds the search may take (default 10)")
+    sp.add_argument("--repair", action="store_true",
+                    help="keep the legs that pass as sketched; search only the failing ones")
+    sp.add_argument("-o", "--output", metavar="NEW_PROJECT",
+                    help="write a copy of the project with the route replaced by the found one")
     return p
 
 
@@ -81,14 +96,23 @@ def _selected_routes(project, name: str | None):
 
 
 def cmd_plan(args: argparse.Namespace) -> int:
+    from kinematics.analysis.report_text import route_stops
     from kinematics.files.jsonio import dumps
     from kinematics.files.project import load_project
     from kinematics.plan.planner import plan_route
 
     project = load_project(args.project)
-    plans = [plan_route(r, project.chassis) for r in _selected_routes(project, args.route)]
+    routes = _selected_routes(project, args.route)
+    plans = [plan_route(r, project.chassis_for(r)) for r in routes]
     if args.json:
-        sys.stdout.write(dumps({"routes": [pl.to_dict() for pl in plans]}))
+        out = []
+        for pl, r in zip(plans, routes):
+            d = pl.to_dict()
+            d["chassis"] = project.chassis_for(r).name
+            if r.stops:
+                d["stops"] = [s.to_dict() for s in route_stops(pl, r)]
+            out.append(d)
+        sys.stdout.write(dumps({"routes": out}))
         return EXIT_OK
     from kinematics.analysis.report_text import format_plan_text
 
@@ -97,8 +121,9 @@ def cmd_plan(args: argparse.Namespace) -> int:
 
 
 def cmd_check(args: argparse.Namespace) -> int:
-    from kinematics.analysis.report_text import format_check_text
-    from kinematics.check.clearance import ObstacleIndex, check_route
+    from kinematics.analysis.report_text import format_check_text, route_stops
+    from kinematics.analysis.results import check_with_vehicle
+    from kinematics.check.clearance import ObstacleIndex
     from kinematics.files.jsonio import dumps
     from kinematics.files.project import load_project
     from kinematics.plan.planner import plan_route
@@ -109,19 +134,30 @@ def cmd_check(args: argparse.Namespace) -> int:
     index = ObstacleIndex(project.floorplan)
     tol = args.tolerance_mm / 1000.0
     checks = []
+    stops: dict[str, list] = {}
     for route in _selected_routes(project, args.route):
-        plan = plan_route(route, project.chassis)
-        chk = check_route(plan, project.chassis, index, tolerance_m=tol, route_name=route.name,
-                          route=route)
+        chassis = project.chassis_for(route)
+        plan = plan_route(route, chassis)
+        stops[route.name] = route_stops(plan, route)
+        chk = check_with_vehicle(plan, chassis, index, route=route, tolerance_m=tol)
         if args.sizing:
+            import dataclasses
+
             from kinematics.check.sizing import attach_sizing
 
-            chk = attach_sizing(chk, plan, project, index, tolerance_m=tol)
+            chk = attach_sizing(chk, plan, dataclasses.replace(project, chassis=chassis), index,
+                                tolerance_m=tol)
         checks.append(chk)
     if args.json:
-        sys.stdout.write(dumps({"routes": [c.to_dict() for c in checks]}))
+        out = []
+        for c in checks:
+            d = c.to_dict()
+            if stops.get(c.name):
+                d["stops"] = [s.to_dict() for s in stops[c.name]]
+            out.append(d)
+        sys.stdout.write(dumps({"routes": out}))
     else:
-        sys.stdout.write(format_check_text(checks))
+        sys.stdout.write(format_check_text(checks, stops))
     return EXIT_OK if all(c.clear for c in checks) else EXIT_VIOLATION
 
 
@@ -129,15 +165,25 @@ def cmd_schedule(args: argparse.Namespace) -> int:
     from kinematics.files.jsonio import atomic_write_text, dumps
     from kinematics.files.project import load_project
     from kinematics.plan.planner import plan_route
-    from kinematics.timing.schedule import build_schedule, schedule_to_csv, schedule_to_dict
+    from kinematics.timing.schedule import (
+        build_schedule,
+        samples_to_csv,
+        schedule_to_csv,
+        schedule_to_dict,
+    )
 
     if not (args.dt > 0) or args.dt > 60:
         raise SwatheInputError("command line", "--dt", "expected a time step between 0 and 60 s")
     project = load_project(args.project)
     route = project.route(args.route)
-    plan = plan_route(route, project.chassis)
-    sched = build_schedule(route.name, list(plan.segments), project.chassis, dt_s=args.dt)
-    text = schedule_to_csv(sched) if args.format == "csv" else dumps(schedule_to_dict(sched))
+    chassis = project.chassis_for(route)
+    plan = plan_route(route, chassis)
+    sched = build_schedule(route.name, list(plan.segments), chassis, dt_s=args.dt,
+                           zones=project.floorplan.zones, route=route)
+    if args.format == "csv":
+        text = samples_to_csv(sched) if args.samples else schedule_to_csv(sched)
+    else:
+        text = dumps(schedule_to_dict(sched))
     if args.output:
         _check_output_path(args.output)
         atomic_write_text(args.output, text)
@@ -177,15 +223,70 @@ def cmd_render(args: argparse.Namespace) -> int:
         if not project.routes:
             raise SwatheInputError(args.project, "routes", "no route to plot")
         route = project.route(args.route) if args.route else project.routes[0]
-        plan = plan_route(route, project.chassis)
-        sched = build_schedule(route.name, list(plan.segments), project.chassis)
+        chassis = project.chassis_for(route)
+        plan = plan_route(route, chassis)
+        sched = build_schedule(route.name, list(plan.segments), chassis,
+                               zones=project.floorplan.zones, route=route)
         render_plot_png(sched, args.plots, size=(args.width, max(args.height * 7 // 10, 150)),
                         x_axis=args.plots_against)
     return EXIT_OK
 
 
+def _moved_floorplan_ref(ref, src_dir: Path, out_dir: Path):
+    """The floor plan reference of a project read from ``src_dir``, as seen from ``out_dir``."""
+    def rel(name: str) -> str:
+        return os.path.relpath((src_dir / name).resolve(), out_dir.resolve())
+    if isinstance(ref, str):
+        return rel(ref)
+    if isinstance(ref, dict) and isinstance(ref.get("file"), str):
+        return {**ref, "file": rel(ref["file"])}
+    return ref
+
+
+def cmd_find(args: argparse.Namespace) -> int:
+    import math
+
+    from kinematics.files.jsonio import dumps
+    from kinematics.files.project import Project, load_project, save_project
+    from kinematics.plan.search import FindSettings, RouteFinder, replace_route
+
+    lim = args.time_limit
+    if not (math.isfinite(lim) and lim > 0.0):
+        raise SwatheInputError("command line", "--time-limit",
+                               f"expected a positive number of seconds, got {lim:g}")
+    project = load_project(args.project)
+    route = project.route(args.route)
+    if args.output:
+        _check_output_path(args.output)
+    finder = RouteFinder(project, settings=FindSettings(time_limit_s=lim))
+    res = finder.repair(route) if args.repair else finder.find(route)
+    if args.json:
+        sys.stdout.write(dumps({"routes": [res.to_dict()]}))
+    elif res.found:
+        sys.stdout.write(
+            f"route {route.name}: found, {len(res.route.waypoints)} waypoints, "
+            f"{res.plan.length_m:.2f} m, least clearance {res.check.min_clearance_m:.3f} m, "
+            f"{res.expanded_nodes} nodes in {res.time_s:.2f} s\n")
+        for w in res.route.waypoints:
+            h = "" if w.heading_deg is None else f", {w.heading_deg:.2f} deg"
+            sys.stdout.write(f"  ({w.x:.3f}, {w.y:.3f}{h})\n")
+        for note in res.notes:
+            sys.stdout.write(f"  note: {note}\n")
+    if not res.found:
+        sys.stderr.write(f"swathe: route {route.name}: {res.reason}\n")
+        return EXIT_VIOLATION
+    if args.output:
+        out = Path(args.output)
+        src = Path(args.project).parent
+        new = replace_route(project, res.route)
+        new = Project(new.floorplan, new.chassis, new.routes,
+                      _moved_floorplan_ref(new.floorplan_ref, src, out.parent), None, new.extra)
+        save_project(new, out)
+    return EXIT_OK
+
+
 COMMANDS = {"plan": cmd_plan, "check": cmd_check, "schedule": cmd_schedule,
-            "render": cmd_render}
+            "render": cmd_render, "find": cmd_find}
 
 
 def main(argv: Sequence[str] | None = None) -> int:

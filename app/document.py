@@ -197,7 +197,7 @@ class Document(QObject):
         self.undo_stack.cleanChanged.connect(self._clean_changed)
         self._plans: dict[str, tuple[Route, Chassis, Any]] = {}
         self._checks: dict[str, tuple[Any, FloorPlan, Any]] = {}
-        self._schedules: dict[str, tuple[Any, Any]] = {}
+        self._schedules: dict[str, tuple[Any, Any, Any]] = {}
         self._checkers: dict[str, tuple[Chassis, FloorPlan, Any]] = {}
         self._errors: dict[str, str] = {}
         self._index: tuple[FloorPlan, Any] | None = None
@@ -279,7 +279,7 @@ class Document(QObject):
         route = self._route_by_name(name)
         if route is None:
             return None
-        chassis = self._project.chassis
+        chassis = self.vehicle(name)
         hit = self._plans.get(name)
         if hit is not None and hit[0] == route and hit[1] is chassis:
             return hit[2]
@@ -305,8 +305,18 @@ class Document(QObject):
             self._route_planner = RoutePlanner()
         return self._route_planner
 
+    def vehicle(self, name: str) -> Any:
+        """The chassis that drives route ``name`` (the fleet member it names, else the
+        project's chassis)."""
+        route = self._route_by_name(name)
+        try:
+            return self._project.chassis_for(route) if route is not None else \
+                self._project.chassis
+        except SwatheInputError:
+            return self._project.chassis
+
     def _checker(self, name: str) -> Any:
-        chassis, fp = self._project.chassis, self._project.floorplan
+        chassis, fp = self.vehicle(name), self._project.floorplan
         hit = self._checkers.get(name)
         if hit is not None and hit[0] is chassis and hit[1] is fp:
             return hit[2]
@@ -335,8 +345,13 @@ class Document(QObject):
             else:
                 from kinematics.check.clearance import check_route
 
-                chk = check_route(plan, self._project.chassis, self.obstacle_index(),
+                chk = check_route(plan, self.vehicle(name), self.obstacle_index(),
                                   route_name=name, route=route)
+            if chk is not None:
+                from kinematics.analysis.results import check_with_vehicle
+
+                chk = check_with_vehicle(plan, self.vehicle(name), self.obstacle_index(),
+                                         route=route, tug_check=chk)
         except SwatheInputError as exc:
             self._errors[name] = exc.message
             chk = None
@@ -349,17 +364,19 @@ class Document(QObject):
         if plan is None or not plan.segments:
             return None
         hit = self._schedules.get(name)
-        if hit is not None and hit[0] is plan:
+        if hit is not None and hit[0] is plan and hit[2] is self._project.floorplan:
             return hit[1]
         from kinematics.timing.schedule import build_schedule
 
         try:
-            sched = build_schedule(name, list(plan.segments), self._project.chassis,
-                                   dt_s=self.schedule_dt_s)
+            sched = build_schedule(name, list(plan.segments), self.vehicle(name),
+                                   dt_s=self.schedule_dt_s,
+                                   zones=self._project.floorplan.zones,
+                                   route=self._route_by_name(name))
         except SwatheInputError as exc:
             self._errors[name] = exc.message
             sched = None
-        self._schedules[name] = (plan, sched)
+        self._schedules[name] = (plan, sched, self._project.floorplan)
         return sched
 
     # -- applying a new tree ----------------------------------------------------------------
@@ -445,8 +462,10 @@ class Document(QObject):
         wps.insert(index, wp)
         text = (f"Add waypoint {index + 1}" if index == len(wps) - 1
                 else f"Insert waypoint {index + 1}")
-        self._push(text, self._with_route(route_i, dataclasses.replace(rt, waypoints=tuple(wps))),
-                   "routes")
+        stops = tuple(dataclasses.replace(s, waypoint=s.waypoint + 1) if s.waypoint >= index
+                      else s for s in rt.stops)
+        self._push(text, self._with_route(route_i, dataclasses.replace(
+            rt, waypoints=tuple(wps), stops=stops)), "routes")
 
     def move_waypoint(self, route_i: int, index: int, x: float, y: float,
                       drag: int | None = None) -> None:
@@ -466,9 +485,12 @@ class Document(QObject):
             return False
         wps = list(rt.waypoints)
         del wps[index]
+        # A stop at the deleted waypoint goes with it; later ones keep their waypoints.
+        stops = tuple(dataclasses.replace(s, waypoint=s.waypoint - (s.waypoint > index))
+                      for s in rt.stops if s.waypoint != index)
         self._push(f"Delete waypoint {index + 1}",
-                   self._with_route(route_i, dataclasses.replace(rt, waypoints=tuple(wps))),
-                   "routes")
+                   self._with_route(route_i, dataclasses.replace(
+                       rt, waypoints=tuple(wps), stops=stops)), "routes")
         return True
 
     def set_waypoint_heading(self, route_i: int, index: int, heading_deg: float | None,

@@ -40,7 +40,7 @@ from PySide6.QtWidgets import (
 
 from kinematics.analysis.report_text import CAUTION as SAFETY_CAUTION
 from kinematics.errors import SwatheInputError
-from kinematics.files.project import Route, Waypoint
+from kinematics.files.project import Route, Waypoint, route_transitions
 
 from .autosave import AutosaveEntry, Autosaver, discard, pending_autosaves, recover_into
 from .canvas import PlanCanvas
@@ -161,6 +161,7 @@ class MainWindow(QMainWindow):
         d.routesChanged.connect(self._refresh_route_bar)
         d.currentRouteChanged.connect(self._refresh_route_bar)
         d.projectReplaced.connect(self._refresh_route_bar)
+        d.chassisChanged.connect(self._refresh_route_bar)  # the transitions default follows it
         d.resultsChanged.connect(self._refresh_summary)
         d.currentRouteChanged.connect(lambda _i: self._refresh_summary())
         self.canvas.cursorMoved.connect(self._cursor)
@@ -318,6 +319,13 @@ class MainWindow(QMainWindow):
         self.reverse_check.setToolTip("Allow reversing where the drive can reverse")
         self.reverse_check.clicked.connect(self._reverse_edited)
         bar.addWidget(self.reverse_check)
+        self.transitions_check = QCheckBox("Transition curves")
+        self.transitions_check.setToolTip(
+            "Ease into and out of every turn with clothoids, so curvature, wheel rates and "
+            "steer angles change smoothly (route key transitions; unset, it is on when the "
+            "chassis gives a wheel-accel, yaw-accel or steer-rate limit)")
+        self.transitions_check.clicked.connect(self._transitions_edited)
+        bar.addWidget(self.transitions_check)
         self.addToolBar(bar)
 
     def _dock(self, title: str, name: str, widget: QWidget,
@@ -481,8 +489,8 @@ class MainWindow(QMainWindow):
             self.route_combo.setCurrentIndex(self.doc.current_route)
         self.route_combo.blockSignals(False)
         r = self.doc.route()
-        for w in (self.radius_spin, self.reverse_check, self.act_route_rename,
-                  self.act_route_remove, self.act_export):
+        for w in (self.radius_spin, self.reverse_check, self.transitions_check,
+                  self.act_route_rename, self.act_route_remove, self.act_export):
             w.setEnabled(r is not None)
         if r is not None:
             if self.radius_spin.value() != r.turn_radius_m:
@@ -491,6 +499,9 @@ class MainWindow(QMainWindow):
                 self.radius_spin.blockSignals(False)
             if self.reverse_check.isChecked() != r.reverse:
                 self.reverse_check.setChecked(r.reverse)
+            cc = route_transitions(r, self.doc.project.chassis) == "clothoid"
+            if self.transitions_check.isChecked() != cc:
+                self.transitions_check.setChecked(cc)
         self._selection_changed(self.canvas.selected)
 
     def new_route(self, name: str | None = None) -> None:
@@ -528,6 +539,12 @@ class MainWindow(QMainWindow):
         v = round(self.radius_spin.value(), 4)
         if r is not None and v != r.turn_radius_m:
             self.doc.set_route(self.doc.current_route, dataclasses.replace(r, turn_radius_m=v))
+
+    def _transitions_edited(self, on: bool) -> None:
+        r = self.doc.route()
+        want = "clothoid" if on else "none"
+        if r is not None and r.transitions != want:
+            self.doc.set_route(self.doc.current_route, dataclasses.replace(r, transitions=want))
 
     def _reverse_edited(self, on: bool) -> None:
         r = self.doc.route()

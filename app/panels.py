@@ -115,6 +115,9 @@ LIMIT_FIELDS = (
     ("max_wheel_rate_radps", "Max wheel rate (rad/s)", 0.0, 1000.0, 1, 0.5, True),
     ("max_lateral_accel_mps2", "Max lateral accel (m/s\u00b2)", 0.0, 50.0, 2, 0.05, True),
     ("max_yaw_rate_dps", "Max yaw rate (deg/s)", 0.0, 3600.0, 1, 5.0, True),
+    ("max_wheel_accel_radps2", "Max wheel accel (rad/s\u00b2)", 0.0, 10000.0, 1, 0.5, True),
+    ("max_yaw_accel_dps2", "Max yaw accel (deg/s\u00b2)", 0.0, 100000.0, 1, 5.0, True),
+    ("max_steer_rate_dps", "Max steer rate (deg/s)", 0.0, 7200.0, 1, 5.0, True),
 )
 FIELD_LABELS = {k: lab for k, lab, *_ in DIMENSION_FIELDS + LIMIT_FIELDS}
 FIELD_TIPS = {
@@ -129,6 +132,11 @@ FIELD_TIPS = {
     "max_wheel_rate_radps": "none: no wheel-rate limit",
     "max_lateral_accel_mps2": "Caps the speed on arcs (v\u00b2 / R); none: no cap",
     "max_yaw_rate_dps": "Caps turning speed on arcs and pivots; none: no cap",
+    "max_wheel_accel_radps2": "How fast any wheel's rate may change; with it routes get "
+                              "transition curves (clothoids) unless a route says none",
+    "max_yaw_accel_dps2": "How fast the yaw rate may change (turn-in and pivots); none: no cap",
+    "max_steer_rate_dps": "Bicycle and Ackermann: how fast the steered wheels may turn; none: "
+                          "instantaneous",
 }
 FIELD_LABELS.update({"footprint": "Footprint", "drive": "Drive", "name": "Name"})
 
@@ -539,8 +547,10 @@ class ChassisPanel(QWidget):
 
     def candidate(self) -> Chassis:
         """The chassis the form describes (raises :class:`SwatheInputError` if invalid)."""
-        return chassis_from_form(self.form_values(), self.footprint_rows(),
-                                 self.doc.project.chassis.extra)
+        c = chassis_from_form(self.form_values(), self.footprint_rows(),
+                              self.doc.project.chassis.extra)
+        # The form edits the tug; the trailers it tows are kept.
+        return dataclasses.replace(c, trailers=self.doc.project.chassis.trailers)
 
     def _apply(self, *_args) -> None:
         if self._loading:

@@ -212,6 +212,7 @@ class PlotsPanel(QWidget):
         cap = series["limits"]["speed_cap_mps"]
         vmax = series["limits"]["max_speed_mps"]
         bx, by = [], []
+        runs: list[list] = []  # [x0, x1, cap, word, last segment]: neighbours with one cap
         for i in np.unique(seg):
             m = seg == i
             c = cap[m]
@@ -224,11 +225,19 @@ class PlotsPanel(QWidget):
                 continue
             bx += [x0, x1, math.nan]
             by += [float(c[0]), float(c[0]), math.nan]
-            key = s.profile.binding[int(i)]
+            key = s.profile.cap_binding[int(i)]
             word = LIMIT_WORDS.get(key, key)
+            last = runs[-1] if runs else None
+            # A CC turn's clothoids and arc often share one cap: label the run once.
+            if last is not None and last[3] == word and last[4] == int(i) - 1 and \
+                    abs(last[2] - float(c[0])) <= 1e-6 * max(1.0, last[2]):
+                last[1], last[4] = x1, int(i)
+            else:
+                runs.append([x0, x1, float(c[0]), word, int(i)])
+        for x0, x1, c0, word, _ in runs:
             self.cap_labels.append(word)
             t = pg.TextItem(word, color=FAINT_INK, anchor=(0.5, 1.0))
-            t.setPos((x0 + x1) / 2, float(c[0]))
+            t.setPos((x0 + x1) / 2, c0)
             self.speed_plot.addItem(t)
         if bx:
             self.speed_plot.plot(np.array(bx), np.array(by), connect="finite",

@@ -800,8 +800,11 @@ WHEEL_STYLES = (Qt.PenStyle.SolidLine, Qt.PenStyle.DashLine, Qt.PenStyle.DotLine
                 Qt.PenStyle.DashDotLine)
 WHEEL_COLOURS = (BLUE, ORANGE, PURPLE, GREEN)
 #: Words for the limit that binds, by the profile's key.
-LIMIT_WORDS = {"max_speed_mps": "max speed", "max_wheel_rate_radps": "max wheel rate",
-               "max_lateral_accel_mps2": "lateral-accel cap", "max_yaw_rate_dps": "yaw-rate cap"}
+LIMIT_WORDS = {"max_speed_mps": "max speed", "slow_zone": "slow zone",
+               "max_wheel_rate_radps": "max wheel rate",
+               "max_lateral_accel_mps2": "lateral-accel cap", "max_yaw_rate_dps": "yaw-rate cap",
+               "max_wheel_accel_radps2": "wheel-accel cap", "max_yaw_accel_dps2": "yaw-accel cap",
+               "max_steer_rate_dps": "steer-rate cap"}
 
 
 def _ticks(lo: float, hi: float, n: int = 6) -> list[float]:
@@ -923,6 +926,7 @@ def draw_plots(p: QPainter, rect: QRectF, schedule: Any, x_axis: str = "time",
     p.setPen(pen(FAINT_INK, 1.3 * u, Qt.PenStyle.DotLine))
     prof = schedule.profile
     caps_drawn: list[tuple[float, float, float, str]] = []
+    last_seg = -2
     for i in np.unique(seg):
         m = seg == i
         c = cap[m]
@@ -933,7 +937,14 @@ def draw_plots(p: QPainter, rect: QRectF, schedule: Any, x_axis: str = "time",
         if vmax is not None and cy >= vmax * 0.999:
             continue  # the max-speed line already says it
         p.drawLine(QPointF(X(x0), Y(min(cy, top_v))), QPointF(X(x1), Y(min(cy, top_v))))
-        caps_drawn.append((x0, x1, cy, LIMIT_WORDS.get(prof.binding[int(i)], prof.binding[int(i)])))
+        word = LIMIT_WORDS.get(prof.cap_binding[int(i)], prof.cap_binding[int(i)])
+        last = caps_drawn[-1] if caps_drawn else None
+        if last is not None and last[3] == word and abs(last[2] - cy) <= 1e-6 * max(1.0, cy) \
+                and last_seg == int(i) - 1:
+            caps_drawn[-1] = (last[0], x1, cy, word)  # one label for a run with one cap
+        else:
+            caps_drawn.append((x0, x1, cy, word))
+        last_seg = int(i)
     p.setPen(pen(BLUE, 2.2 * u))
     p.drawPolyline(QPolygonF([QPointF(X(a), Y(b)) for a, b in zip(xs, v)]))
     if vmax is not None:

@@ -242,7 +242,15 @@ def draw_report(p: QPainter, size: tuple[float, float], project: Any, plans: dic
     f = font(16.5 * u)
     fb = font(16.5 * u, True)
     lab_w = 150 * u
-    for label, value in chassis_lines(project.chassis):
+    rows = chassis_lines(project.chassis)
+    if len(getattr(project, "fleet", ())) > 1 or any(
+            getattr(r, "chassis", None) for r in project.routes):
+        # A fleet: the routes with their vehicles first, then the default chassis.
+        from kinematics.analysis.results import route_vehicle_lines
+
+        rows = [(f"Route {name}", who) for name, who in route_vehicle_lines(
+            project, set(checks) or None)] + rows
+    for label, value in rows:
         p.setFont(fb)
         p.setPen(QColor(INK))
         p.drawText(QRectF(rx, ry, lab_w, 40 * u), Qt.AlignmentFlag.AlignLeft
@@ -291,7 +299,12 @@ def _plots_in_gap(p: QPainter, rect: QRectF, project: Any, plans: dict, checks: 
         try:
             from kinematics.timing.schedule import build_schedule
 
-            sched = build_schedule(name, list(plan.segments), project.chassis)
+            sched = build_schedule(name, list(plan.segments),
+                                   project.chassis_for(name) if hasattr(project, "chassis_for")
+                                   else project.chassis,
+                                   zones=project.floorplan.zones,
+                                   route=next((r for r in project.routes if r.name == name),
+                                              None))
         except (SwatheInputError, ValueError):
             continue
         h = min(rect.height(), 520 * u)

@@ -266,7 +266,12 @@ def sample_path(segments: Sequence[Any], step_rad: float = math.radians(3.0)
     for i, seg in enumerate(segments):
         if seg.kind == "pivot":
             continue
-        n = max(2, int(math.ceil(abs(seg.turn_rad) / step_rad)) + 1) if seg.kind == "arc" else 2
+        if seg.kind == "arc":
+            n = max(2, int(math.ceil(abs(seg.turn_rad) / step_rad)) + 1)
+        elif seg.kind == "clothoid":
+            n = max(2, int(math.ceil(seg.length_m * seg.max_abs_curvature / step_rad)) + 2)
+        else:
+            n = 2
         p = seg.poses_at_fraction(np.linspace(0.0, 1.0, n))
         out.append((p[:, :2], int(seg.direction), i))
     return out

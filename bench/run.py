@@ -1,8 +1,10 @@
 """Run every benchmark and print one line per figure: name, value, unit, baseline, ratio, target.
 
 Each ``bench/bench_*.py`` module exposes ``run(quick: bool) -> list[dict]`` returning rows with
-keys ``name, value, unit, baseline, ratio, target``; baselines are measured in the same run.
-Benchmarks never decide whether the test suite passes.
+keys ``name, value, unit, baseline, ratio, target`` and optionally ``ok`` (the verdict against
+the target: PASS / MISS) and ``spread`` (min/median/max of the runs behind the value);
+baselines are measured in the same run, interleaved with the figure. The last lines list
+every target with its verdict. Benchmarks never decide whether the test suite passes.
 
 Usage: ``python bench/run.py [--quick] [--only NAME]``
 """
@@ -38,8 +40,10 @@ def main(argv: list[str] | None = None) -> int:
     files = sorted(HERE.glob("bench_*.py"))
     if args.only:
         files = [f for f in files if f.stem == f"bench_{args.only}"]
-    print(f"{'figure':<48} {'value':>12} {'unit':<8} {'baseline':>12} {'ratio':>9}  target")
+    print(f"{'figure':<56} {'value':>10} {'unit':<6} {'baseline':>10} {'ratio':>8}  "
+          f"{'target':<10} {'verdict':<7} min/median/max")
     failed = 0
+    verdicts: list[tuple[str, str, str, str]] = []
     for f in files:
         spec = importlib.util.spec_from_file_location(f.stem, f)
         mod = importlib.util.module_from_spec(spec)
@@ -52,10 +56,21 @@ def main(argv: list[str] | None = None) -> int:
             print(f"{f.stem}: FAILED\n{traceback.format_exc()}", file=sys.stderr)
             continue
         for r in rows:
-            print(f"{r['name']:<48} {_fmt(r.get('value')):>12} {r.get('unit', ''):<8} "
-                  f"{_fmt(r.get('baseline')):>12} {_fmt(r.get('ratio')):>9}  "
-                  f"{_fmt(r.get('target'))}")
+            ok = r.get("ok")
+            verdict = "" if ok is None else ("PASS" if ok else "MISS")
+            print(f"{r['name']:<56} {_fmt(r.get('value')):>10} {r.get('unit', ''):<6} "
+                  f"{_fmt(r.get('baseline')):>10} {_fmt(r.get('ratio')):>8}  "
+                  f"{_fmt(r.get('target')):<10} {verdict:<7} {r.get('spread', '')}")
+            if ok is not None:
+                shown = r.get("ratio") if r.get("ratio") is not None else r.get("value")
+                verdicts.append((r["name"], _fmt(shown), _fmt(r.get("target")), verdict))
         print(f"  ({f.stem} took {time.perf_counter() - t0:.1f} s)")
+    if verdicts:
+        print("\ntargets (value is the ratio where there is one):")
+        for name, shown, target, verdict in verdicts:
+            print(f"  {verdict:<5} {name:<56} {shown:>10}  target {target}")
+        misses = sum(v[3] == "MISS" for v in verdicts)
+        print(f"  {len(verdicts) - misses} of {len(verdicts)} targets met")
     return 1 if failed else 0
 
 

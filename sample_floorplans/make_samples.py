@@ -244,6 +244,19 @@ TEST_BOT = {
     "max_accel_mps2": 0.3, "max_wheel_rate_radps": 10.0,
 }
 
+WARD_TUG = {  # small ward tug towing two linen carts (carts about 0.9 x 0.6 m, common practice)
+    "name": "ward tug", "drive": "differential", "footprint": rect(-0.25, 0.55, 0.28),
+    "margin_m": 0.05, "wheel_radius_m": 0.1, "track_m": 0.46, "max_speed_mps": 0.8,
+    "max_accel_mps2": 0.3, "max_wheel_rate_radps": 10.0, "max_lateral_accel_mps2": 0.4,
+    "trailers": [
+        {"name": "linen cart", "hitch_x_m": -0.35, "drawbar_m": 0.75,
+         "footprint": [[-0.45, -0.3], [0.4, -0.3], [0.4, 0.3], [-0.45, 0.3]]},
+        {"name": "meal cart", "hitch_x_m": -0.55, "drawbar_m": 0.7,
+         "footprint": [[-0.45, -0.3], [0.4, -0.3], [0.4, 0.3], [-0.45, 0.3]],
+         "max_hitch_deg": 75.0},
+    ],
+}
+
 
 def route(name, waypoints, turn_radius_m=0.0, reverse=False, **extra):
     d = {"name": name, "waypoints": [list(w) for w in waypoints],
@@ -304,6 +317,17 @@ def main() -> None:
             route("lobby-to-lift-2", [(26.0, 10.0, 0), (35.55, 10.0, 90),
                                       (35.55, 17.0, 90)]),
         ]))
+    write_json(HERE / "clinic_train.swathe.json", project(
+        "clinic.floor.json", WARD_TUG, [
+            route("linen-to-ward-b", [(4.2, 9.6, 0), (8.2, 9.6), (8.2, 14.0)],
+                  turn_radius_m=1.2, note="a tug with two carts through the Ward B door: the "
+                                          "carts cut inside the tug's turn"),
+            route("supply-return", [(20.0, 10.4, 180), (4.0, 10.4)],
+                  chassis="hospital delivery cart",
+                  note="the delivery cart back along the corridor, against the tug"),
+        ], fleet=[CLINIC_CART],
+        description="Larchmere Clinic, level 2: a ward tug towing two carts and the delivery "
+                    "cart sharing the corridor."))
     write_json(HERE / "depot.swathe.json", project("depot.floor.json", DEPOT_MOVER,
                                                    DEPOT_ROUTES))
     write_json(HERE / "depot_ackermann.swathe.json", project(
@@ -319,6 +343,26 @@ def main() -> None:
                                         (13.6, 9.0, 90), (13.6, 22.0, 90)], turn_radius_m=1.5),
             route("aisle-4-out", [(24.8, 30.0, 90), (24.8, 36.5, 90), (31.4, 36.5, -90),
                                   (31.4, 10.0, -90)], turn_radius_m=1.5),
+        ]))
+    smooth_cart = dict(CLINIC_CART, name="hospital delivery cart, rate-limited",
+                       max_wheel_accel_radps2=6.0, max_yaw_accel_dps2=90.0)
+    write_json(HERE / "clinic_smooth.swathe.json", project(
+        "clinic.floor.json", smooth_cart, [
+            route("ward-to-room-208", [(8.2, 14.0), (8.2, 10.0), (21.25, 10.0),
+                                       (21.25, 13.5)], turn_radius_m=0.8,
+                  note="transitions absent: clothoid, as the chassis gives rate limits"),
+            route("ward-to-room-208-plain", [(8.2, 14.0), (8.2, 10.0), (21.25, 10.0),
+                                             (21.25, 13.5)], turn_radius_m=0.8,
+                  transitions="none", note="the same without transitions: it stops to turn"),
+        ]))
+    smooth_tug = dict(DEPOT_TUG, name="ackermann tow tug, rate-limited",
+                      max_steer_rate_dps=30.0, max_wheel_accel_radps2=4.0,
+                      note="the tug's turn onto the office side starts 1.5 m earlier than in "
+                           "depot_ackermann: its transition curves need the room")
+    write_json(HERE / "depot_ackermann_smooth.swathe.json", project(
+        "depot.floor.json", smooth_tug, [
+            route("cross-aisle-to-office-side", [(20.0, 36.8, 0), (46.5, 36.8, 0),
+                                                 (50.5, 26.0, -90)], turn_radius_m=2.5),
         ]))
     write_json(HERE / "test_room.swathe.json", project(
         "test_room.floor.json", TEST_BOT, [

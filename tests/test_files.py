@@ -350,14 +350,18 @@ def projects(draw):
                       margin_m=draw(_num(0, 0.3)), wheel_radius_m=draw(_num(0.03, 0.4)),
                       **dims, min_turn_radius_m=draw(_num(0, 3)),
                       max_speed_mps=draw(_num(0.1, 3)), max_accel_mps2=draw(_num(0.1, 2)),
-                      **opt, effective_track_factor=draw(_num(1.0, 2.0)), extra=draw(EXTRA))
+                      **opt, effective_track_factor=draw(_num(1.0, 2.0)), extra=draw(EXTRA),
+                      max_steer_rate_dps=draw(st.none() | _num(1, 500)),
+                      max_wheel_accel_radps2=draw(st.none() | _num(0.1, 100)),
+                      max_yaw_accel_dps2=draw(st.none() | _num(1, 500)))
     routes = []
     for i in range(draw(st.integers(0, 3))):
         n = draw(st.integers(2, 5))
         wps = tuple(Waypoint(draw(_num(-50, 50)), draw(_num(-50, 50)),
                              draw(st.none() | _num(-180, 180))) for _ in range(n))
         routes.append(Route(f"route {i}", wps, draw(_num(0, 5)), draw(st.booleans()),
-                            extra=draw(EXTRA)))
+                            extra=draw(EXTRA),
+                            transitions=draw(st.sampled_from([None, "clothoid", "none"]))))
     return Project(draw(floorplans()), chassis, tuple(routes), None, None, extra=draw(EXTRA))
 
 

@@ -136,13 +136,40 @@ def _interp_commands(drive, sm, k, frac):
     return WheelCommands(rates, angles)
 
 
+def _with_segment_ends(sch):
+    """The samples plus, before each joint, the segment's own end commands.
+
+    Samples are one row per time (a joint is the later segment's start), so where the rates
+    step at a joint (a line meeting an arc at speed) the earlier segment's end is not a row;
+    its left limit is taken from the profile, so that each segment is driven on its own.
+    """
+    drive, sm, prof = sch.drive, sch.samples, sch.profile
+    idx = sm.segment
+    cut = np.flatnonzero(np.diff(idx) != 0)  # last row of each segment but the final one
+    ends = prof.state_in_segment(idx[cut], prof.duration_s[idx[cut]])
+    ux, uy = prof.body_direction(ends)
+    cmd = drive.inverse(ends.v_mps * ux, ends.v_mps * uy, ends.omega_radps,
+                        hold_angles={k: sm.angle_rad[k][cut] for k in drive.steered_wheels})
+    order = np.argsort(np.concatenate([np.arange(idx.size), cut + 0.5]), kind="stable")
+
+    def merge(a, b):
+        return np.concatenate([a, b])[order]
+
+    t = merge(sm.t_s, prof.t0_s[idx[cut]] + prof.duration_s[idx[cut]])
+    seg = merge(idx, idx[cut])
+    rates = {k: merge(sm.rate_radps[k], np.asarray(cmd.rate_radps[k])) for k in drive.wheel_names}
+    angles = {k: merge(sm.angle_rad[k], sm.angle_rad[k][cut]) for k in drive.steered_wheels}
+    return t, seg, type("S", (), {"rate_radps": rates, "angle_rad": angles})
+
+
 def drive_schedule(sch):
     """Integrate the forward kinematics of the sampled wheel rates from the route's start."""
-    drive, sm = sch.drive, sch.samples
+    drive = sch.drive
+    t_all, seg_all, sm = _with_segment_ends(sch)
     pose = np.array(sch.segments[0].start)
-    for i in np.unique(sm.segment):
-        ks = np.flatnonzero(sm.segment == i)
-        ts = sm.t_s[ks]
+    for i in np.unique(seg_all):
+        ks = np.flatnonzero(seg_all == i)
+        ts = t_all[ks]
         if ts[-1] <= ts[0]:
             continue
 
@@ -189,16 +216,22 @@ def test_samples_respect_wheel_limit_and_rest_at_ends():
             assert np.all(np.isfinite(sm.angle_rad[n]))
 
 
-def test_joint_sampled_on_both_sides():
+def test_joint_is_one_sample_of_the_later_segment():
+    # Issue 15 point 4 / shared/contract.md (second stage): t_s strictly increasing, so a
+    # joint is one row, the start of the later segment; the step shows between neighbours.
     c = CHASSIS["differential"]
     sch = build_schedule("t", _line_arc_line(), c)
     sm = sch.samples
+    assert np.all(np.diff(sm.t_s) > 0.0)
     t_joint = float(sch.profile.t0_s[1])
     at = np.flatnonzero(np.isclose(sm.t_s, t_joint, atol=1e-12))
-    assert sm.segment[at].tolist() == [0, 1]
-    # Line side: equal wheels; arc side: the outer wheel faster (Siegwart et al., ch. 3).
-    assert sm.rate_radps["left"][at[0]] == pytest.approx(sm.rate_radps["right"][at[0]])
-    assert sm.rate_radps["right"][at[1]] > sm.rate_radps["left"][at[1]]
+    assert sm.segment[at].tolist() == [1]
+    k = int(at[0])
+    # Line side (the row before): equal wheels; arc side: the outer wheel faster (Siegwart
+    # et al., ch. 3).
+    assert sm.segment[k - 1] == 0
+    assert sm.rate_radps["left"][k - 1] == pytest.approx(sm.rate_radps["right"][k - 1])
+    assert sm.rate_radps["right"][k] > sm.rate_radps["left"][k]
 
 
 # -- exports --------------------------------------------------------------------------------

@@ -650,3 +650,35 @@ def test_autosave_of_a_swathe_still_running_is_not_offered(tmp_path):
         other.kill()
         other.wait()
     assert f in [e.file for e in pending_autosaves(store)]  # its process has gone
+
+
+def test_transitions_in_the_window(make_window, tmp_path):
+    # Source: issue 10 - the chassis panel edits the new limits, the route toolbar switches
+    # transitions, hover reads curvature; a CC turn's curvature lies between 0 and 1 / R
+    # (Fraichard & Scheuer 2004).
+    import dataclasses
+
+    w = make_window(write_project(tmp_path, [{"name": "bend", "turn_radius_m": 0.8,
+                                              "waypoints": [[1, 0.6], [8, 0.6], [8, 1.9]]}]))
+    assert not w.transitions_check.isChecked()          # no rate limit: none by default
+    c = w.doc.project.chassis
+    w.doc.set_chassis(dataclasses.replace(c, max_wheel_accel_radps2=6.0))
+    QApplication.processEvents()
+    assert w.transitions_check.isChecked()              # the default follows the chassis
+    plan = w.doc.plan("bend")
+    clo = [i for i, s in enumerate(plan.segments) if s.kind == "clothoid"]
+    assert clo
+    seg = plan.segments[clo[0]]
+    p = seg.poses_at([seg.length_m / 2])[0]
+    info = w.canvas.info_at(float(p[0]), float(p[1]))
+    assert info is not None and 0.0 < info["curvature_per_m"] < 1.0 / 0.8
+    assert "curvature +" in info["text"]
+    w.transitions_check.click()
+    QApplication.processEvents()
+    assert w.doc.route().transitions == "none"
+    assert "clothoid" not in [s.kind for s in w.doc.plan("bend").segments]
+    from app.panels import ChassisPanel
+
+    panel = w.findChild(ChassisPanel)
+    assert panel.fields["max_wheel_accel_radps2"].value() == pytest.approx(6.0)
+    assert {"max_yaw_accel_dps2", "max_steer_rate_dps"} <= set(panel.fields)

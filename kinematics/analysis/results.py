@@ -50,7 +50,7 @@ def compute_results(project: Any, route_name: str | None = None,
         By route name: the ``RoutePlan`` (or ``None``), the ``RouteCheck`` (or ``None`` when
         the route could not be checked) and the one-line reason where something failed.
     """
-    from kinematics.check.clearance import ObstacleIndex, check_route
+    from kinematics.check.clearance import ObstacleIndex
     from kinematics.plan.planner import plan_route
 
     routes = [project.route(route_name)] if route_name is not None else list(project.routes)
@@ -60,7 +60,7 @@ def compute_results(project: Any, route_name: str | None = None,
     index = None
     for r in routes:
         try:
-            plans[r.name] = plan_route(r, project.chassis)
+            plans[r.name] = plan_route(r, vehicle_of(project, r))
         except (SwatheInputError, ValueError) as exc:
             plans[r.name] = None
             checks[r.name] = None
@@ -72,11 +72,35 @@ def compute_results(project: Any, route_name: str | None = None,
             kw: dict[str, Any] = {"route_name": r.name}
             if tolerance_m is not None:
                 kw["tolerance_m"] = tolerance_m
-            checks[r.name] = check_route(plans[r.name], project.chassis, index, **kw)
+            checks[r.name] = check_with_vehicle(plans[r.name], vehicle_of(project, r), index,
+                                                route=r, **kw)
         except (SwatheInputError, ValueError) as exc:
             checks[r.name] = None
             errors[r.name] = getattr(exc, "message", None) or f"route {r.name!r}: {exc}"
     return plans, checks, errors
+
+
+def vehicle_of(project: Any, route: Any) -> Any:
+    """The chassis that drives ``route``: the fleet member it names, else the default."""
+    if hasattr(project, "chassis_for"):
+        return project.chassis_for(route)
+    return project.chassis
+
+
+def check_with_vehicle(plan: Any, chassis: Any, index: Any, route: Any = None,
+                       route_name: str = "", tolerance_m: float | None = None,
+                       tug_check: Any = None) -> Any:
+    """The route check of ``plan`` for ``chassis`` and every trailer it tows, labelled with
+    the vehicle's name (:func:`kinematics.check.train.check_train`)."""
+    from kinematics.check.train import check_train
+
+    kw: dict[str, Any] = {}
+    if tolerance_m is not None:
+        kw["tolerance_m"] = tolerance_m
+    chk = check_train(plan, chassis, index, route_name=route_name or getattr(route, "name", ""),
+                      route=route, tug_check=tug_check, **kw)
+    chk.chassis_name = chassis.name
+    return chk
 
 
 def violations_of(check: Any) -> list[Any]:
@@ -195,7 +219,8 @@ def sizing_answers(project: Any, route_name: str,
     say = progress or (lambda _f, _w: None)
     route = project.route(route_name)
     say(0.0, "planning the route")
-    plan = plan_route(route, project.chassis)
+    chassis = vehicle_of(project, route)
+    plan = plan_route(route, chassis)
     say(0.01, "building the obstacle index")
     index = ObstacleIndex(project.floorplan)
     if cancel is not None and cancel():
@@ -210,7 +235,7 @@ def sizing_answers(project: Any, route_name: str,
     kw: dict[str, Any] = {"progress": step, "cancel": cancel}
     if tolerance_m is not None:
         kw["tolerance_m"] = tolerance_m
-    out = dict(sizing.sizing_dict(plan, project.chassis, index, **kw))
+    out = dict(sizing.sizing_dict(plan, chassis, index, **kw))
     out["route"] = route_name
     say(1.0, "done")
     return out
@@ -309,4 +334,20 @@ def chassis_lines(c: Any) -> list[tuple[str, str]]:
     if c.max_yaw_rate_dps is not None:
         lim.append(f"yaw rate {_fmt(c.max_yaw_rate_dps, 'deg/s', 0)}")
     rows.append(("Limits", ", ".join(lim)))
+    for k, t in enumerate(getattr(c, "trailers", ()) or ()):
+        rows.append((f"Trailer {k + 1}", f"{t.name}: hitch {t.hitch_x_m:+.3f} m, drawbar "
+                     f"{t.drawbar_m:.3f} m, jackknife limit {t.max_hitch_deg:g} deg"))
+    return rows
+
+
+def route_vehicle_lines(project: Any, names: Any = None) -> list[tuple[str, str]]:
+    """(route, vehicle) rows: which fleet member drives each route (``names``: those only),
+    with the carts it tows."""
+    rows = []
+    for r in project.routes:
+        if names is not None and r.name not in names:
+            continue
+        c = vehicle_of(project, r)
+        tows = ", ".join(t.name for t in getattr(c, "trailers", ()) or ())
+        rows.append((r.name, c.name + (f" towing {tows}" if tows else "")))
     return rows

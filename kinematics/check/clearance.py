@@ -38,7 +38,7 @@ from kinematics.check.obstacles import DOOR_BOX_ALONG_M, DOOR_BOX_M, ObstacleInd
 from kinematics.check.results import DoorPass, RouteCheck, Violation
 from kinematics.check.segment_parts import SegmentCache, SegmentResult, cache_key
 from kinematics.check.sweep import DEFAULT_TOLERANCE_M, Footprint, prepare_footprint
-from kinematics.check.violations import stretches
+from kinematics.check.violations import stretches, zone_stretches
 from kinematics.check.waypoints import WaypointCheck, grid_poses
 from kinematics.files.floorplan import check_footprint
 from kinematics.motion.segments import Segment, segment_stations
@@ -134,6 +134,7 @@ class RouteChecker:
                                         float(iss.amount_m), iss.message))
         violations += self.waypoints.violations(segs, stations, waypoints)
         violations += stretches(results, stations, idx, self.margin_m)
+        violations += zone_stretches(results, stations, idx.zones)
         violations.sort(key=lambda v: (v.station_m, v.kind))
         # Least clearance over the route.
         min_c, at = None, None

@@ -28,6 +28,8 @@ from kinematics.check.obstacles import ObstacleIndex
 from kinematics.check.segment_parts import SegmentResult, SweptParts, cache_key
 from kinematics.check.sweep import Footprint, placed_footprints, swept_parts, travel_m
 from kinematics.check.violations import Hit, locate_hit
+from kinematics.check.zones import wrong_way
+from kinematics.motion.arrays import unique_sorted
 from kinematics.motion.segments import Segment
 
 
@@ -39,10 +41,14 @@ def sweep_segment(fp: Footprint, index: ObstacleIndex, margin: float, tol: float
     parts = sw.parts
     hits: list[Hit] = []
     best, best_j = math.inf, None
+    zones = idx.zones
+    # Margin zones meeting the piece replace the chassis margin inside them.
+    rule = zones.margin_rule(parts, margin) if len(zones.margin) else None
+    reach = margin if rule is None else rule.reach_m
     if len(idx):
-        near = np.unique(idx.tree.query(parts, predicate="dwithin", distance=margin)[1]
-                         if margin > 0.0 else
-                         idx.tree.query(parts, predicate="intersects")[1])
+        near = unique_sorted(idx.tree.query(parts, predicate="dwithin", distance=reach)[1]
+                             if reach > 0.0 else
+                             idx.tree.query(parts, predicate="intersects")[1])
         for j in near.tolist():
             solid = idx.geometries[j]
             c = sw.distance(solid)
@@ -50,11 +56,19 @@ def sweep_segment(fp: Footprint, index: ObstacleIndex, margin: float, tol: float
                 c = -overlap_depth(sw.union, solid)
             if c < best:
                 best, best_j = c, j
-            if c < margin:
+            if rule is not None and c > 0.0:
+                if rule.of_union(parts, solid).short_m > 0.0:
+                    hits.append(locate_hit(fp, idx, margin, tol, seg, sw, j, c, rule))
+            elif c < margin:
                 hits.append(locate_hit(fp, idx, margin, tol, seg, sw, j, c))
+    keep_out = []
+    for k in zones.keep_out.touching(parts):
+        zone = zones.keep_out.geometries[k]
+        c = -overlap_depth(sw.union, zone)
+        keep_out.append(locate_hit(fp, zones.keep_out, 0.0, tol, seg, sw, k, min(c, 0.0)))
     doors = []
     if len(idx.doors):
-        crossed = np.unique(idx.door_tree.query(parts, predicate="intersects")[1])
+        crossed = unique_sorted(idx.door_tree.query(parts, predicate="intersects")[1])
         for k in crossed.tolist():
             box = idx.door_boxes[k]
             local = SweptParts(shapely.intersection(parts, box))
@@ -66,7 +80,8 @@ def sweep_segment(fp: Footprint, index: ObstacleIndex, margin: float, tol: float
                 c = min(c, d if d > 0.0 else -overlap_depth(local.union, solid))
             doors.append((k, c))
     near_ = None if best_j is None else (best, best_j)
-    return SegmentResult(sw, near_, tuple(hits), tuple(doors))
+    return SegmentResult(sw, near_, tuple(hits), tuple(doors), tuple(keep_out),
+                         wrong_way(seg, zones))
 
 
 def clearance_of(res: SegmentResult, index: ObstacleIndex) -> tuple[float, int | None]:

@@ -17,7 +17,9 @@ import shapely
 from shapely.geometry import LineString
 from shapely.geometry.base import BaseGeometry
 
+from kinematics.check.zones import ZoneIndex
 from kinematics.files.floorplan import FloorPlan, Solid, solids
+from kinematics.files.jsonio import collector_held
 
 #: Half-depth (across the door line) and extra length (beyond each jamb) of the box in which
 #: a door's clearance is measured, metres.
@@ -37,14 +39,16 @@ class ObstacleIndex:
 
     def __init__(self, floorplan: FloorPlan) -> None:
         self.floorplan = floorplan
-        self.solids: list[Solid] = solids(floorplan)
-        self.geometries = np.array([s.geometry for s in self.solids], dtype=object)
-        shapely.prepare(self.geometries)
-        self.tree = shapely.STRtree(self.geometries)
+        with collector_held():  # thousands of new objects, none in a cycle
+            self.solids: list[Solid] = solids(floorplan)
+            self.geometries = np.array([s.geometry for s in self.solids], dtype=object)
+            shapely.prepare(self.geometries)
+            self.tree = shapely.STRtree(self.geometries)
         self.doors = tuple(floorplan.doors)
         self.door_lines = np.array([LineString([d.a, d.b]) for d in self.doors], dtype=object)
         self.door_boxes = np.array([door_box(d.a, d.b) for d in self.doors], dtype=object)
         self.door_tree = shapely.STRtree(self.door_lines)
+        self.zones = ZoneIndex(tuple(floorplan.zones))
 
     def __len__(self) -> int:
         return len(self.solids)

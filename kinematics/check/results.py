@@ -25,7 +25,7 @@ class Violation:
 
     Attributes
     ----------
-    kind : {"collision", "clearance", "turn_radius", "infeasible", "waypoint_blocked"}
+    kind : {"collision", "clearance", "turn_radius", "infeasible", "waypoint_blocked", "jackknife"}
     segment : int or None
         Index of the segment where it starts.
     station_m : float
@@ -37,6 +37,10 @@ class Violation:
     message : str
     solid : str
         Name of the wall or obstacle (empty where none is involved).
+    body : str
+        Which body of a train (``"trailer 2 (linen cart)"``); empty for a lone chassis.
+    hitch_deg : float or None
+        ``jackknife``: the largest hitch angle reached, degrees.
     """
 
     kind: str
@@ -47,12 +51,18 @@ class Violation:
     amount_m: float
     message: str
     solid: str = ""
+    body: str = ""
+    hitch_deg: float | None = None
 
     def to_dict(self) -> dict:
         d = {"kind": self.kind, "segment": self.segment, "station_m": self.station_m,
              "x": self.x, "y": self.y, "amount_m": self.amount_m, "message": self.message}
         if self.solid:
             d["solid"] = self.solid
+        if self.body:
+            d["body"] = self.body
+        if self.hitch_deg is not None:
+            d["hitch_deg"] = self.hitch_deg
         return d
 
 
@@ -93,6 +103,11 @@ class RouteCheck:
     sizing: dict | None = None
     _parts: tuple[Any, ...] = field(default=(), repr=False)
     _swept: BaseGeometry | None = field(default=None, repr=False)
+    #: A train's trace, trailer chunks and per-body clearances
+    #: (:class:`kinematics.check.train.TrainResult`); ``None`` for a lone chassis.
+    train: Any = field(default=None, repr=False)
+    #: The fleet member that drives the route (empty where not given).
+    chassis_name: str = ""
 
     @property
     def pieces(self) -> tuple[BaseGeometry, ...]:
@@ -127,4 +142,8 @@ class RouteCheck:
         }
         if self.sizing is not None:
             d["sizing"] = self.sizing
+        if self.chassis_name:
+            d["chassis"] = self.chassis_name
+        if self.train is not None:
+            d["bodies"] = self.train.bodies
         return d

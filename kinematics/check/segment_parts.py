@@ -36,6 +36,8 @@ class Hit:
     x: float
     y: float
     part: str
+    margin_m: float | None = None  # the margin this hit falls short of (None: the chassis's)
+    zone: str = ""                 # the margin zone that set it
 
 
 class SweptParts:
@@ -68,14 +70,18 @@ class SegmentResult:
     clearance is known to exceed ``lower_m``. ``xy`` keeps where that least clearance is.
     """
 
-    __slots__ = ("swept", "hits", "doors", "near", "far", "lower_m", "xy")
+    __slots__ = ("swept", "hits", "doors", "near", "far", "lower_m", "xy", "keep_out",
+                 "wrong_way")
 
     def __init__(self, swept: SweptParts, near: tuple[float, int] | None,
-                 hits: tuple[Hit, ...], doors: tuple[tuple[int, float], ...]) -> None:
+                 hits: tuple[Hit, ...], doors: tuple[tuple[int, float], ...],
+                 keep_out: tuple[Hit, ...] = (), wrong_way: tuple = ()) -> None:
         self.swept = swept
         self.near = near
         self.hits = hits
         self.doors = doors
+        self.keep_out = keep_out    # hits whose ``solid`` indexes the keep-out zones
+        self.wrong_way = wrong_way  # kinematics.check.zones.WrongWay stretches
         self.far: tuple[float, int | None] | None = None
         self.lower_m = -math.inf
         self.xy: tuple[float, float] | None = None

@@ -1,4 +1,5 @@
-"""The region a footprint sweeps along line, arc and pivot segments, within a stated tolerance.
+"""The region a footprint sweeps along line, arc, clothoid and pivot segments, within a
+stated tolerance.
 
 A rigid body that moves continuously from placement ``P0`` to ``P1`` sweeps exactly
 ``P0 ∪ P1 ∪ (the region swept by its boundary)``: a point covered at some instant and not at
@@ -22,6 +23,18 @@ sweeping its edges, and no decomposition is needed.
   errors push the region outward, so the result CONTAINS the true swept region and exceeds
   it by at most the tolerance; ``h`` is chosen from the tolerance and the farthest vertex.
   Rotations are cut into chunks of at most 90 degrees so each piece stays a simple polygon.
+- A **clothoid** (curvature linear in distance, sharpness ``sigma``) is cut into chunks of
+  length ``l``; over each chunk the true motion is compared with the arc of the chunk's mean
+  curvature from the chunk's true start pose (same length, same heading change). Their
+  headings differ by ``sigma (u^2 - l u) / 2``, at most ``sigma l^2 / 8``, and so their
+  reference points by at most the integral of that, ``sigma l^3 / 12`` (``|e^{ia} - e^{ib}|
+  <= |a - b|``); a footprint point at distance ``r <= r_far`` from the reference point is
+  therefore within ``dev = sigma l^3 / 12 + r_far sigma l^2 / 8`` of its stand-in place. Each
+  chunk is swept as that arc (a rotation, above) and every part grown by ``dev``, with ``l``
+  chosen so ``dev`` is at most ``_CLOTHOID_SHARE`` (0.4) of the tolerance; the excess stays
+  within the tolerance as for holonomic lines below. A chunk whose mean curvature is almost 0
+  uses the straight translation as its stand-in, with the arc's own deviation from it added
+  to ``dev``.
 - A **holonomic line that turns the body** (mecanum, swerve) translates at a constant rate
   while the heading turns linearly. Over a short chunk it differs from the constant-twist
   (circular) motion between the same two poses by a pure translation of at most
@@ -347,6 +360,133 @@ def _rigid_centre(a: Sequence[float], b: Sequence[float]) -> NDArray[np.float64]
     return np.linalg.solve(m, rhs)
 
 
+def clothoid_chunks(seg: Segment, r_far: float, tol: float) -> tuple[int, float]:
+    """Chunks of a clothoid and the stand-in deviation ``dev`` of each (module docstring)."""
+    ell = seg.length_m
+    m = 1
+    while True:
+        dev = clothoid_deviation(seg, r_far, ell / m)
+        if dev <= _CLOTHOID_SHARE * tol or m > 100000:
+            return m, dev
+        m = max(m + 1, math.ceil(m * math.sqrt(dev / (_CLOTHOID_SHARE * tol))))
+
+
+#: Share of the tolerance a clothoid chunk's stand-in may deviate by (it is spent twice, once
+#: growing the parts and once as excess; the arcs get what is left).
+_CLOTHOID_SHARE = 0.4
+#: A clothoid chunk with mean |curvature| below this (1/m) is swept as a translation.
+_STRAIGHT_CHUNK_PER_M = 1e-6
+
+
+def clothoid_deviation(seg: Segment, r_far: float, le: float) -> float:
+    """The stand-in deviation ``sigma l^3 / 12 + r_far sigma l^2 / 8`` of chunks of ``le``."""
+    sigma = abs(seg.sharpness)
+    return sigma * le ** 3 / 12.0 + r_far * sigma * le * le / 8.0
+
+
+def _rotation_chunks(ring: NDArray[np.float64], starts: NDArray[np.float64],
+                     kap: NDArray[np.float64], phi: NDArray[np.float64], tol: float
+                     ) -> NDArray[np.object_]:
+    """:func:`rotation_parts` of many chunks at once (each turning by at most
+    ``MAX_CHUNK_RAD``): chunk ``k`` places the footprint at ``starts[k]`` and rotates it by
+    ``phi[k]`` about the centre of curvature ``1 / kap[k]``. The same polygons as one call
+    per chunk, with the arcs of every chunk drawn with the most steps any of them needs."""
+    placed = _place(ring, starts)                                  # (m, N, 2)
+    r = 1.0 / kap
+    q = np.stack([starts[:, 0] - r * np.sin(starts[:, 2]),
+                  starts[:, 1] + r * np.cos(starts[:, 2])], axis=-1)
+    rel = placed - q[:, None, :]
+    r_max = np.hypot(rel[..., 0], rel[..., 1]).max(axis=1)
+    n = max(arc_steps(float(rm), float(ph), tol) for rm, ph in zip(r_max, phi))
+    c, s_ = np.cos(phi)[:, None], np.sin(phi)[:, None]
+    end = np.stack([c * rel[..., 0] - s_ * rel[..., 1], s_ * rel[..., 0] + c * rel[..., 1]],
+                   axis=-1) + q[:, None, :]
+    out = list(shapely.polygons(placed)) + list(shapely.polygons(end))
+    # Monotone leading pieces of every chunk (as _monotone_pieces, vectorised with masks).
+    a = rel
+    b = np.roll(rel, -1, axis=1)
+    dv = b - a
+    dd = np.einsum("kij,kij->ki", dv, dv)
+    ok = dd > 1e-24
+    with np.errstate(divide="ignore", invalid="ignore"):
+        t = np.where(ok, -np.einsum("kij,kij->ki", a, dv) / np.where(ok, dd, 1.0), 0.0)
+    split = ok & (t > 1e-9) & (t < 1.0 - 1e-9)
+    foot = a + t[..., None] * dv
+    first = np.stack([a, np.where(split[..., None], foot, b)], axis=2)     # (m, N, 2, 2)
+    second = np.stack([foot, b], axis=2)
+    pieces = np.concatenate([first, second], axis=1)                      # (m, 2N, 2, 2)
+    valid = np.concatenate([ok, split], axis=1)
+    dirs = pieces[:, :, 1] - pieces[:, :, 0]
+    mid = 0.5 * (pieces[:, :, 0] + pieces[:, :, 1])
+    sense = np.sign(phi)[:, None]
+    vn = sense * (-mid[..., 1] * dirs[..., 1] - mid[..., 0] * dirs[..., 0])
+    length = np.hypot(dirs[..., 0], dirs[..., 1])
+    valid &= (vn >= 0.0) & (length > 1e-12)
+    valid &= (np.abs(phi) * r_max > 1e-12)[:, None]
+    chunk = np.broadcast_to(np.arange(len(phi))[:, None], valid.shape)[valid]
+    pc = pieces[valid]
+    r0 = np.hypot(pc[:, 0, 0], pc[:, 0, 1])
+    r1 = np.hypot(pc[:, 1, 0], pc[:, 1, 1])
+    flip = r0 > r1
+    pc[flip] = pc[flip][:, ::-1]
+    if pc.shape[0]:
+        rings = _edge_rotation_rings_many(pc, phi[chunk], n) + q[chunk][:, None, :]
+        out.extend(shapely.polygons(rings))
+    return np.asarray(out, dtype=object)
+
+
+def _edge_rotation_rings_many(pieces: NDArray[np.float64], phi: NDArray[np.float64], n: int
+                              ) -> NDArray[np.float64]:
+    """:func:`_edge_rotation_rings` with one rotation angle per piece."""
+    near, far = pieces[:, 0], pieces[:, 1]
+    r1 = np.hypot(near[:, 0], near[:, 1])
+    r2 = np.hypot(far[:, 0], far[:, 1])
+    a1 = np.arctan2(near[:, 1], near[:, 0])
+    a2 = np.arctan2(far[:, 1], far[:, 0])
+    h = phi / (2.0 * n)
+    k_out = (2.0 * np.arange(n) + 1.0)[None, :] * h[:, None]
+    ang_out = a2[:, None] + k_out
+    rad_out = (r2 / np.cos(h))[:, None]
+    outer = np.stack([rad_out * np.cos(ang_out), rad_out * np.sin(ang_out)], axis=-1)
+    k_in = phi[:, None] * (1.0 - np.arange(1, n)[None, :] / n)
+    ang_in = a1[:, None] + k_in
+    inner = np.stack([r1[:, None] * np.cos(ang_in), r1[:, None] * np.sin(ang_in)], axis=-1)
+    c, s = np.cos(phi), np.sin(phi)
+    far_r = np.stack([c * far[:, 0] - s * far[:, 1], s * far[:, 0] + c * far[:, 1]], axis=-1)
+    near_r = np.stack([c * near[:, 0] - s * near[:, 1], s * near[:, 0] + c * near[:, 1]],
+                      axis=-1)
+    return np.concatenate([near[:, None], far[:, None], outer, far_r[:, None],
+                           near_r[:, None], inner], axis=1)
+
+
+def _clothoid_parts(ring: NDArray[np.float64], convex: bool, r_far: float, seg: Segment,
+                    tol: float) -> tuple[NDArray[np.object_], float]:
+    m, dev = clothoid_chunks(seg, r_far, tol)
+    # Each chunk one rotation piece (at most MAX_CHUNK_RAD), as rotation_parts would cut it.
+    m = max(m, math.ceil(seg.length_m * seg.max_abs_curvature / MAX_CHUNK_RAD - 1e-12))
+    dev = clothoid_deviation(seg, r_far, seg.length_m / m)
+    le = seg.length_m / m
+    st = np.linspace(0.0, seg.length_m, m + 1)
+    poses = seg.poses_at(st)
+    kap = seg.curvature_at(0.5 * (st[:-1] + st[1:]))
+    # Straight stand-ins deviate from the arc of their chunk by |k| l^2 / 2 + r_far |k| l.
+    straight_dev = _STRAIGHT_CHUNK_PER_M * (le * le / 2.0 + r_far * le)
+    dev_all = dev + (straight_dev if np.any(np.abs(kap) < _STRAIGHT_CHUNK_PER_M) else 0.0)
+    rot_tol = tol - dev_all - dev_all / math.cos(math.pi / (4 * _QUAD_SEGS))
+    d = seg.direction
+    curved = np.abs(kap) >= _STRAIGHT_CHUNK_PER_M
+    geoms: list = []
+    if curved.any():
+        geoms.extend(_rotation_chunks(ring, poses[:-1][curved], kap[curved],
+                                      d * le * kap[curved], rot_tol))
+    for k in np.flatnonzero(~curved):
+        placed = _place_one(ring, poses[k])
+        th = poses[k, 2]
+        v = (d * le * math.cos(th), d * le * math.sin(th))
+        geoms.extend(_polys(translation_parts(placed, v, convex), convex))
+    return np.asarray(geoms, dtype=object), dev_all
+
+
 def segment_parts(footprint: FootprintLike, seg: Segment,
                   tolerance_m: float = DEFAULT_TOLERANCE_M
                   ) -> tuple[NDArray[np.object_], float]:
@@ -359,6 +499,8 @@ def segment_parts(footprint: FootprintLike, seg: Segment,
     ring, convex, r_far = fp.ring, fp.convex, fp.r_far_m
     tol = _ARC_SHARE * float(tolerance_m)
     placed0 = _place_one(ring, seg.start)
+    if seg.kind == "clothoid":
+        return _clothoid_parts(ring, convex, r_far, seg, tol)
     if seg.kind == "pivot":
         parts = rotation_parts(placed0, seg.start[:2], seg.turn_rad, tol)
         return _polys(parts, False), 0.0
@@ -470,6 +612,10 @@ def sub_segment(seg: Segment, fraction: float) -> Segment:
     f = float(min(max(fraction, 0.0), 1.0))
     if seg.kind == "pivot":
         return replace(seg, turn_rad=seg.turn_rad * f)
+    if seg.kind == "clothoid":
+        k1 = seg.kappa0 + (seg.kappa1 - seg.kappa0) * f
+        return replace(seg, length_m=seg.length_m * f, kappa1=k1,
+                       turn_rad=seg.direction * seg.length_m * f * 0.5 * (seg.kappa0 + k1))
     return replace(seg, length_m=seg.length_m * f, turn_rad=seg.turn_rad * f)
 
 
@@ -481,6 +627,8 @@ def farthest_radius(footprint: FootprintLike) -> float:
 def travel_m(footprint: FootprintLike, seg: Segment) -> float:
     """An upper bound on how far any footprint point moves along ``seg``, metres."""
     r_far = prepare_footprint(footprint).r_far_m
+    if seg.kind == "clothoid":
+        return seg.length_m * (1.0 + r_far * seg.max_abs_curvature)
     if seg.kind == "arc" and seg.curvature != 0.0:
         return (abs(1.0 / seg.curvature) + r_far) * abs(seg.turn_rad)
     return seg.length_m + r_far * abs(seg.turn_rad)

@@ -21,6 +21,7 @@ from kinematics.check.obstacles import ObstacleIndex
 from kinematics.check.results import Violation
 from kinematics.check.segment_parts import Hit, SegmentResult, SweptParts
 from kinematics.check.sweep import Footprint, placed_footprints, sub_segment, swept_parts, travel_m
+from kinematics.check.zones import MarginRule, ZoneIndex
 from kinematics.motion.segments import Segment
 
 #: Placements sampled to name the footprint part nearest a solid.
@@ -28,19 +29,25 @@ PART_SAMPLES = 48
 
 
 def _violates(fp: Footprint, solid: object, margin: float, tol: float, seg: Segment,
-              collision: bool, f: float) -> bool:
+              collision: bool, f: float, rule: MarginRule | None = None) -> bool:
     """Whether the first fraction ``f`` of the segment (a placement at ``f = 0``) collides
-    with ``solid`` or comes within ``margin`` of it."""
+    with ``solid`` or comes within ``margin`` of it (or breaks ``rule``, where margin zones
+    set the margin)."""
     g = (placed_footprints(fp, [seg.start]) if f <= 0.0
          else swept_parts(fp, sub_segment(seg, f), tol))
     if collision:
         return bool(np.any(shapely.intersects(g, solid)))
+    if rule is not None:
+        return rule.of_union(g, solid).short_m > 0.0
     return float(np.min(shapely.distance(g, solid))) < margin
 
 
 def locate_hit(fp: Footprint, index: ObstacleIndex, margin: float, tol: float, seg: Segment,
-               piece: SweptParts, j: int, c: float) -> Hit:
-    """The :class:`Hit` of solid ``j`` at clearance ``c`` on ``seg`` (swept as ``piece``)."""
+               piece: SweptParts, j: int, c: float, rule: MarginRule | None = None) -> Hit:
+    """The :class:`Hit` of solid ``j`` at clearance ``c`` on ``seg`` (swept as ``piece``).
+
+    ``index`` needs only ``geometries`` (keep-out zones use this too). With ``rule``, the
+    margin is that of the margin zone the nearer region lies in (:class:`MarginRule`)."""
     solid = index.geometries[j]
     collision = c <= 0.0
     travel = travel_m(fp, seg)
@@ -50,20 +57,25 @@ def locate_hit(fp: Footprint, index: ObstacleIndex, margin: float, tol: float, s
     poses = seg.poses_at_fraction(fr)
     placed = placed_footprints(fp, poses)
     dist = shapely.distance(placed, solid)
-    bad = dist <= 0.0 if collision else dist < margin
+    if collision:
+        bad = dist <= 0.0
+    elif rule is not None:
+        bad = rule.each(placed, solid) > 0.0
+    else:
+        bad = dist < margin
     if bad[0]:
         lo = hi = 0.0
     else:
         k = int(np.argmax(bad)) if bad.any() else len(fr) - 1
         lo, hi = float(fr[k - 1]) if k > 0 else 0.0, float(fr[k])
-        if lo > 0.0 and _violates(fp, solid, margin, tol, seg, collision, lo):
+        if lo > 0.0 and _violates(fp, solid, margin, tol, seg, collision, lo, rule):
             lo = 0.0
-        if _violates(fp, solid, margin, tol, seg, collision, 0.0):
+        if _violates(fp, solid, margin, tol, seg, collision, 0.0, rule):
             hi = 0.0
         steps = 0
         while (hi - lo) * travel > tol and steps < 40:
             mid = 0.5 * (lo + hi)
-            if _violates(fp, solid, margin, tol, seg, collision, mid):
+            if _violates(fp, solid, margin, tol, seg, collision, mid, rule):
                 hi = mid
             else:
                 lo = mid
@@ -91,7 +103,12 @@ def locate_hit(fp: Footprint, index: ObstacleIndex, margin: float, tol: float, s
         px, py = ov.centroid.x, ov.centroid.y
     bx, by = to_body(poses[w], px, py)
     local = f_start * (seg.length_m if seg.length_m > 0.0 else 0.0)
-    return Hit(j, c, collision, local, x, y, part_name(fp, bx, by))
+    need, zone = margin, ""
+    if rule is not None and not collision:
+        got = rule.of_union(piece.parts, solid)
+        c, need, zone = got.clearance_m, got.need_m, got.zone
+    return Hit(j, c, collision, local, x, y, part_name(fp, bx, by),
+               None if rule is None else need, zone)
 
 
 def stretches(results: Sequence[SegmentResult], stations: np.ndarray, index: ObstacleIndex,
@@ -112,17 +129,65 @@ def stretches(results: Sequence[SegmentResult], stations: np.ndarray, index: Obs
         collide = [(i, h) for i, h in run if h.collision]
         kind = "collision" if collide else "clearance"
         chosen = collide or run
+
+        def need(h: Hit) -> float:
+            return margin if h.margin_m is None else h.margin_m
+
         i0, h0 = chosen[0]
-        worst_i, worst = min(chosen, key=lambda ih: ih[1].clearance_m)
-        amount = -worst.clearance_m if collide else margin - worst.clearance_m
+        if collide:
+            worst_i, worst = min(chosen, key=lambda ih: ih[1].clearance_m)
+            amount = -worst.clearance_m
+        else:
+            worst_i, worst = max(chosen, key=lambda ih: need(ih[1]) - ih[1].clearance_m)
+            amount = need(worst) - worst.clearance_m
         st = float(stations[i0]) + h0.start_local_m
         solid = index.solids[h0.solid].name
         if collide:
             msg = (f"{worst.part} scrapes {solid} by {amount * 1000:.0f} mm at station "
                    f"{st:.2f} m")
         else:
+            of = f" of {worst.zone}" if worst.zone else ""
             msg = (f"{worst.part} passes {solid} with {worst.clearance_m * 1000:.0f} mm "
                    f"clearance, {amount * 1000:.0f} mm short of the "
-                   f"{margin * 1000:.0f} mm margin, from station {st:.2f} m")
+                   f"{need(worst) * 1000:.0f} mm margin{of}, from station {st:.2f} m")
         out.append(Violation(kind, i0, st, h0.x, h0.y, float(amount), msg, solid))
+    return out
+
+
+def zone_stretches(results: Sequence[SegmentResult], stations: np.ndarray,
+                   zones: ZoneIndex) -> list[Violation]:
+    """``keep_out`` and ``wrong_way`` violations: one per contiguous run of segments in the
+    same zone."""
+    out: list[Violation] = []
+    for kind in ("keep_out", "wrong_way"):
+        runs: dict[int, list[tuple[int, object]]] = {}
+        done: list[list[tuple[int, object]]] = []
+        for i, r in enumerate(results):
+            got = r.keep_out if kind == "keep_out" else r.wrong_way
+            here: dict[int, object] = {}
+            for h in got:
+                k = h.solid if kind == "keep_out" else h.zone
+                here.setdefault(k, h)
+            for k in list(runs):
+                if k not in here:
+                    done.append(runs.pop(k))
+            for k, h in here.items():
+                runs.setdefault(k, []).append((i, h))
+        done += runs.values()
+        for run in done:
+            i0, h0 = run[0]
+            st = float(stations[i0]) + h0.start_local_m
+            if kind == "keep_out":
+                name = zones.keep_out.name(h0.solid)
+                amount = max(-h.clearance_m for _i, h in run)
+                worst = max(run, key=lambda ih: -ih[1].clearance_m)[1]
+                msg = (f"{worst.part} enters keep-out {name} by {amount * 1000:.0f} mm at "
+                       f"station {st:.2f} m")
+            else:
+                name = zones.one_way.name(h0.zone)
+                amount = sum(h.length_m for _i, h in run)
+                z = zones.one_way.zones[h0.zone]
+                msg = (f"drives against one-way {name} (direction {z.direction_deg:g} deg) "
+                       f"for {amount:.2f} m from station {st:.2f} m")
+            out.append(Violation(kind, i0, st, h0.x, h0.y, float(amount), msg, name))
     return out

@@ -144,16 +144,7 @@ class WaypointCheck:
             keys = [cache_key(s) for s in segs]
             grids = [self.segment_grid(s) for s in segs]
             boxes = np.array([g[2] for g in grids])
-            tx, ty = xy[:, 0, None], xy[:, 1, None]
-            lo_x, lo_y, hi_x, hi_y = boxes[None, :, 0], boxes[None, :, 1], boxes[None, :, 2], \
-                boxes[None, :, 3]
-            lb = np.hypot(np.maximum(0.0, np.maximum(lo_x - tx, tx - hi_x)),
-                          np.maximum(0.0, np.maximum(lo_y - ty, ty - hi_y)))
-            ub = np.hypot(np.maximum(np.abs(tx - lo_x), np.abs(tx - hi_x)),
-                          np.maximum(np.abs(ty - lo_y), np.abs(ty - hi_y))).min(axis=1)
-            # A segment whose box is farther than the nearest far box corner cannot hold the
-            # nearest grid pose (a little slack so rounding never drops the one that does).
-            ks, iis = np.nonzero(lb <= ub[:, None] * (1.0 + 1e-9) + 1e-12)
+            ks, iis = candidate_pairs(xy, boxes)
             best = [math.inf] * len(xy)
             found = [(0, 0)] * len(xy)
             near = self._wp_near
@@ -195,6 +186,70 @@ class WaypointCheck:
         return out
 
 
+#: Waypoints x segments up to which the candidates come from one dense table; beyond, from
+#: a tree of the segments' boxes (the same pairs, memory linear in the route).
+DENSE_PAIRS = 40_000
+
+
+def _bounds(tx: np.ndarray, ty: np.ndarray, b: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+    """Least and greatest distance from points ``(tx, ty)`` to boxes ``b`` (rows of
+    ``xmin, ymin, xmax, ymax``), elementwise (broadcasting)."""
+    lo_x, lo_y, hi_x, hi_y = b[..., 0], b[..., 1], b[..., 2], b[..., 3]
+    lb = np.hypot(np.maximum(0.0, np.maximum(lo_x - tx, tx - hi_x)),
+                  np.maximum(0.0, np.maximum(lo_y - ty, ty - hi_y)))
+    ub = np.hypot(np.maximum(np.abs(tx - lo_x), np.abs(tx - hi_x)),
+                  np.maximum(np.abs(ty - lo_y), np.abs(ty - hi_y)))
+    return lb, ub
+
+
+def candidate_pairs(xy: np.ndarray, boxes: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+    """Pairs ``(waypoint k, segment i)``, in waypoint order then segment order, of the
+    segments whose grid box may hold waypoint ``k``'s nearest grid pose: those whose box is
+    no farther than the nearest far box corner (a little slack so rounding never drops the
+    one that does).
+
+    A small route compares every waypoint with every box. A long one asks an STRtree of the
+    boxes, first for boxes near each waypoint (an upper bound on its nearest far corner),
+    then for the boxes within that bound; the bounds of those pairs are computed with the
+    same operations, so the pairs are exactly the dense table's, in O(n log n) time and
+    memory linear in the route.
+    """
+    n, m = len(xy), len(boxes)
+    if n * m <= DENSE_PAIRS:
+        lb, ub = _bounds(xy[:, 0, None], xy[:, 1, None], boxes[None, :, :])
+        ub = ub.min(axis=1)
+        return np.nonzero(lb <= ub[:, None] * (1.0 + 1e-9) + 1e-12)
+    tree = shapely.STRtree(shapely.box(boxes[:, 0], boxes[:, 1], boxes[:, 2], boxes[:, 3]))
+    x, y = xy[:, 0], xy[:, 1]
+    # An upper bound on each waypoint's least far corner: any box's far corner will do;
+    # take the boxes whose envelope meets a square about the waypoint, growing it until
+    # every waypoint has one.
+    upper = np.full(n, np.inf)
+    todo = np.arange(n)
+    half = 0.0
+    while len(todo):
+        q = shapely.box(x[todo] - half, y[todo] - half, x[todo] + half, y[todo] + half)
+        kk, ii = tree.query(q)
+        if len(kk):
+            k = todo[kk]
+            _, ub = _bounds(x[k], y[k], boxes[ii])
+            np.minimum.at(upper, k, ub)
+        todo = todo[~np.isfinite(upper[todo])]
+        half = 1.0 if half == 0.0 else 2.0 * half
+    # Every box within the bound (its envelope meets the square of that half-size), then
+    # the dense table's test on those pairs only.
+    reach = upper * (1.0 + 1e-9) + 1e-12
+    reach = reach * (1.0 + 1e-9) + 1e-9  # never narrower than the test below
+    kk, ii = tree.query(shapely.box(x - reach, y - reach, x + reach, y + reach))
+    lb, ub = _bounds(x[kk], y[kk], boxes[ii])
+    least = np.full(n, np.inf)
+    np.minimum.at(least, kk, ub)
+    keep = lb <= least[kk] * (1.0 + 1e-9) + 1e-12
+    kk, ii = kk[keep], ii[keep]
+    order = np.lexsort((ii, kk))
+    return kk[order], ii[order]
+
+
 def _station_row(sg: Segment) -> tuple[float, ...]:
     """What :func:`grid_poses` needs of one segment, evaluated as
     :meth:`Segment.poses_at_fraction` evaluates it (a 0-d numpy cos / sin of the start heading
@@ -214,6 +269,8 @@ def grid_poses(sg: Segment, local: np.ndarray) -> np.ndarray:
     """:func:`kinematics.motion.segments.poses_along` of one segment at its local stations ``local``
     (edges ``[0, length]``), with the same floating-point operations (the same to the last
     bit; a test compares them) and no per-station look-up of the segment."""
+    if sg.kind == "clothoid":
+        return sg.poses_at(local)
     x0, y0, th0, L, turn, mode, omega, vx, c, s, cc, sc = _station_row(sg)
     out = np.empty((len(local), 3))
     if mode == 3:

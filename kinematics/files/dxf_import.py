@@ -7,10 +7,14 @@ What is read, from model space only:
   (insertion point, scale, rotation, block base point, MINSERT rows and columns), nested to
   any depth. An entity on layer ``0`` inside a block takes the layer of its INSERT, as in
   the DXF convention.
-- Arcs (arc entities, circles and polyline bulges) are replaced by chords whose sagitta,
-  ``r (1 - cos(dtheta / 2))`` for a chord spanning ``dtheta``, is at most
-  :data:`SAGITTA_M` (5 mm) in plan metres after every block transform. Ellipses and
-  splines use ezdxf's adaptive flattening with the same 5 mm target.
+- Curves are flattened outward, so a clearance is never read larger than the drawing's: a
+  circle becomes a circumscribed polygon whose vertices lie at most :data:`SAGITTA_M` (1 mm)
+  outside it; arcs and polyline bulges become chords whose sagitta,
+  ``r (1 - cos(dtheta / 2))`` for a chord spanning ``dtheta``, is at most 1 mm, and
+  ellipses and splines use ezdxf's adaptive flattening to the same 1 mm, in plan metres
+  after every block transform. An outline holding such chords is then grown by 1 mm (a
+  solid outward, a wall on both faces: its thickness plus 2 mm), so the flattened solid
+  contains the true one and exceeds it by at most 2 mm.
 - Units come from the header variable ``$INSUNITS`` (1 inch, 2 foot, 4 millimetre,
   5 centimetre, 6 metre, ...); ``0`` (unitless) is read as metres. ``units=`` ("mm", "cm",
   "m", "in", "ft") overrides the header: architects often draw in millimetres and leave
@@ -24,6 +28,9 @@ What is read, from model space only:
 - On a wall or obstacle layer a closed outline (closed polyline, circle, or a polyline
   whose last point is its first) is a solid :class:`~kinematics.files.floorplan.Obstacle`; an
   open one is a :class:`~kinematics.files.floorplan.Wall` of ``wall_thickness_m``.
+- ``zones=[ZoneLayer(...)]`` (in a project: ``"zones": [{"layer", "kind", ...}]``) turns
+  every closed outline on a named layer into a zone of that kind (open ones there are
+  skipped); a zone layer is read only as zones, whatever ``layers`` says.
 - On a door layer a LINE (or a two-point open polyline) is a door opening between its
   ends; other door-layer geometry (swing arcs, leaves) is skipped. A door is labelled by
   the nearest TEXT or MTEXT on a door layer within 1 m of its midpoint, else ``door N``.
@@ -43,12 +50,18 @@ from pathlib import Path
 import numpy as np
 
 from kinematics.errors import FileReadError, ValidationError
-from kinematics.files.curves import arc_points
-from kinematics.files.floorplan import Door, FloorPlan, Obstacle, Wall
+from kinematics.files.curves import (
+    FLATTEN_TOLERANCE_M,
+    arc_points,
+    circle_points_outside,
+    grow_outline,
+    grown_thickness,
+)
+from kinematics.files.floorplan import Door, FloorPlan, Obstacle, Wall, Zone, ZoneLayer
 from kinematics.files.validate import MAX_COORD_M
 
-SAGITTA_M = 0.005
-"""Largest distance between an arc and the chords that replace it, in plan metres."""
+SAGITTA_M = FLATTEN_TOLERANCE_M
+"""Largest distance between a curve and the chords that replace it, in plan metres."""
 
 UNITS_M = {"mm": 0.001, "cm": 0.01, "m": 1.0, "in": 0.0254, "ft": 0.3048}
 """Metres per drawing unit for the ``units`` override."""
@@ -100,6 +113,7 @@ class _Shape:
     layer: str
     dxftype: str
     handle: str
+    curved: bool = False  # chords inside a curve: grow by the sagitta when building the plan
 
 
 def _line_of(exc: BaseException) -> str:
@@ -242,18 +256,23 @@ def _max_scale(matrix) -> float:
     return s if s > 0 else 1.0
 
 
-def _entity_shapes(e, sagitta: float) -> Iterator[tuple[np.ndarray, bool]]:
-    """Flattened outlines of one non-INSERT entity in its own (block) coordinates."""
+def _entity_shapes(e, sagitta: float) -> Iterator[tuple[np.ndarray, bool, bool]]:
+    """Flattened outlines of one non-INSERT entity in its own (block) coordinates.
+
+    Yields ``(points, closed, curved)``; ``curved`` marks chords that lie inside a curve and
+    must be grown outward by the sagitta.
+    """
     t = e.dxftype()
     if t == "LINE":
         s, en = e.dxf.start, e.dxf.end
-        yield np.array([(s.x, s.y), (en.x, en.y)], dtype=float), False
+        yield np.array([(s.x, s.y), (en.x, en.y)], dtype=float), False, False
     elif t == "LWPOLYLINE":
         xyb = [(p[0], p[1], p[2]) for p in e.get_points("xyb")]
         if not xyb:
             return
         pts = _polyline_with_bulges(xyb, bool(e.closed), sagitta)
-        yield _to_wcs(e, pts, e.dxf.get("elevation", 0.0)), bool(e.closed)
+        curved = any(b != 0 for _, _, b in xyb)
+        yield _to_wcs(e, pts, e.dxf.get("elevation", 0.0)), bool(e.closed), curved
     elif t == "POLYLINE":
         if e.is_poly_face_mesh or e.is_polygon_mesh:
             return
@@ -266,12 +285,12 @@ def _entity_shapes(e, sagitta: float) -> Iterator[tuple[np.ndarray, bool]]:
             pts = _polyline_with_bulges(xyb, closed, sagitta)
             elev = e.dxf.get("elevation", (0.0, 0.0, 0.0))
             z = elev[2] if hasattr(elev, "__len__") else float(elev)
-            yield _to_wcs(e, pts, z), closed
+            yield _to_wcs(e, pts, z), closed, any(b != 0 for _, _, b in xyb)
         else:
             pts = np.array([(v.dxf.location.x, v.dxf.location.y) for v in verts], dtype=float)
             if closed:
                 pts = np.vstack([pts, pts[:1]])
-            yield pts, closed
+            yield pts, closed, False
     elif t == "ARC":
         c = e.dxf.center
         a0 = math.radians(e.dxf.start_angle)
@@ -280,17 +299,17 @@ def _entity_shapes(e, sagitta: float) -> Iterator[tuple[np.ndarray, bool]]:
         if sweep == 0:
             sweep = 2.0 * math.pi
         pts = arc_points((c.x, c.y), e.dxf.radius, a0, sweep, sagitta)
-        yield _to_wcs(e, pts, c.z), False
+        yield _to_wcs(e, pts, c.z), False, True
     elif t == "CIRCLE":
         c = e.dxf.center
-        pts = arc_points((c.x, c.y), e.dxf.radius, 0.0, 2.0 * math.pi, sagitta)
-        pts[-1] = pts[0]
-        yield _to_wcs(e, pts, c.z), True
+        # Circumscribed: the polygon holds the circle (a block's affine map keeps that).
+        pts = circle_points_outside((c.x, c.y), e.dxf.radius, sagitta)
+        yield _to_wcs(e, pts, c.z), True, False
     elif t in ("ELLIPSE", "SPLINE"):
         pts = np.array([(v.x, v.y) for v in e.flattening(sagitta)], dtype=float)
         if len(pts) >= 2:
             closed = len(pts) > 2 and bool(np.allclose(pts[0], pts[-1], rtol=0, atol=1e-9))
-            yield pts, closed
+            yield pts, closed, True
 
 
 def _walk(entities: Iterable, matrix, parent_layer: str | None, sagitta: float, depth: int,
@@ -323,14 +342,14 @@ def _walk(entities: Iterable, matrix, parent_layer: str | None, sagitta: float, 
             texts.append((p.x, p.y, str(text).strip(), layer))
             continue
         local_sagitta = sagitta / _max_scale(matrix)
-        for pts, closed in _entity_shapes(e, local_sagitta):
+        for pts, closed, curved in _entity_shapes(e, local_sagitta):
             if matrix is not None:
                 v = matrix.transform_vertices([(x, y, 0.0) for x, y in pts])
                 pts = np.array([(q.x, q.y) for q in v], dtype=float)
             if not np.all(np.isfinite(pts)):
                 raise FileReadError(file, f"{t} handle {handle} on layer {layer!r}",
                                     "expected finite coordinates")
-            shapes.append(_Shape(pts, closed, layer, t, handle))
+            shapes.append(_Shape(pts, closed, layer, t, handle, curved))
 
 
 def _role_map(layers: dict[str, list[str]] | None, present: list[str], file: str
@@ -389,7 +408,8 @@ def _dedupe_points(pts: np.ndarray, tol: float) -> list[tuple[float, float]]:
 
 
 def import_dxf(path: str | Path, layers: dict[str, list[str]] | None = None,
-               units: str | None = None, wall_thickness_m: float = 0.1) -> FloorPlan:
+               units: str | None = None, wall_thickness_m: float = 0.1,
+               zones: tuple[ZoneLayer, ...] = ()) -> FloorPlan:
     """Read a DXF drawing as a :class:`~kinematics.files.floorplan.FloorPlan` in metres.
 
     Parameters
@@ -404,6 +424,8 @@ def import_dxf(path: str | Path, layers: dict[str, list[str]] | None = None,
         ``"mm"``, ``"cm"``, ``"m"``, ``"in"`` or ``"ft"``; overrides ``$INSUNITS``.
     wall_thickness_m : float
         Thickness given to open outlines on wall and obstacle layers.
+    zones : tuple of ZoneLayer
+        Layers whose closed outlines are zones.
 
     Returns
     -------
@@ -440,7 +462,17 @@ def import_dxf(path: str | Path, layers: dict[str, list[str]] | None = None,
         raise FileReadError(file, "", f"damaged DXF entity ({type(exc).__name__}: {exc})"
                             ) from None
 
+    zone_of = {z.layer.lower(): z for z in zones}
+    known = {n.lower() for n in present}
+    for i, z in enumerate(zones):
+        if z.layer.lower() not in known:
+            avail = ", ".join(repr(n) for n in present) or "none"
+            raise ValidationError(file, f"zones[{i}].layer",
+                                  f"layer {z.layer!r} is not in the drawing (layers: {avail})")
+
     def role_of(layer: str) -> str | None:
+        if layer.lower() in zone_of:
+            return "zones"
         if roles is None:
             return guess_role(layer)
         return roles.get(layer.lower())
@@ -448,6 +480,7 @@ def import_dxf(path: str | Path, layers: dict[str, list[str]] | None = None,
     walls: list[Wall] = []
     obstacles: list[Obstacle] = []
     doors_raw: list[tuple[tuple[float, float], tuple[float, float]]] = []
+    zone_list: list[Zone] = []
     used: dict[str, str] = {}
     tol = 1e-6  # metres: points closer than a micrometre are one point
     for sh in shapes:
@@ -470,13 +503,24 @@ def import_dxf(path: str | Path, layers: dict[str, list[str]] | None = None,
                 doors_raw.append((clean[0], clean[1]))
             continue
         closed = sh.closed or (len(clean) > 3 and math.dist(clean[0], clean[-1]) <= tol)
+        if role == "zones":
+            if closed and math.dist(clean[0], clean[-1]) <= tol:
+                clean = clean[:-1]
+            if closed and len(clean) >= 3:
+                zone_list.append(zone_of[sh.layer.lower()].zone(tuple(clean)))
+            continue
         if closed:
             if math.dist(clean[0], clean[-1]) <= tol:
                 clean = clean[:-1]
             if len(clean) >= 3:
+                if sh.curved:
+                    clean = [tuple(q) for q in grow_outline(np.array(clean), SAGITTA_M).tolist()]
                 obstacles.append(Obstacle(tuple(clean), sh.layer))
         elif len(clean) >= 2:
-            walls.append(Wall(tuple(clean), float(wall_thickness_m)))
+            thickness = float(wall_thickness_m)
+            if sh.curved:
+                thickness = grown_thickness(thickness, SAGITTA_M)
+            walls.append(Wall(tuple(clean), thickness))
 
     door_texts = [(x * scale, y * scale, s) for x, y, s, layer in texts
                   if s and role_of(layer) == "doors"]
@@ -491,7 +535,7 @@ def import_dxf(path: str | Path, layers: dict[str, list[str]] | None = None,
                 best, label = d, s
         doors.append(Door(a, b, label))
 
-    if not (walls or obstacles or doors):
+    if not (walls or obstacles or doors or zone_list):
         named = sorted({n for names in (layers or {}).values() for n in names})
         which = ("the layers " + ", ".join(repr(n) for n in named)) if named else "any layer"
         raise ValidationError(file, "layers" if roles else "",
@@ -500,4 +544,7 @@ def import_dxf(path: str | Path, layers: dict[str, list[str]] | None = None,
     extra = {"dxf_import": {"units": unit_name, "metres_per_unit": scale,
                             "layers": {role: sorted(n for n, r in used.items() if r == role)
                                        for role in ROLES}}}
-    return FloorPlan(p.stem, tuple(walls), tuple(obstacles), tuple(doors), file, extra)
+    if zones:
+        extra["dxf_import"]["zone_layers"] = sorted(n for n, r in used.items() if r == "zones")
+    return FloorPlan(p.stem, tuple(walls), tuple(obstacles), tuple(doors), file, extra,
+                     tuple(zone_list))

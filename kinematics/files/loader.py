@@ -9,10 +9,8 @@ from __future__ import annotations
 from pathlib import Path
 from typing import Any
 
-from kinematics.files.dxf_import import import_dxf
 from kinematics.files.floorplan import FloorPlan, floorplan_from_dict
-from kinematics.files.jsonio import read_json
-from kinematics.files.svg_import import import_svg
+from kinematics.files.jsonio import collector_held, read_json
 
 
 def load_floorplan(path: str | Path, **import_options: Any) -> FloorPlan:
@@ -23,8 +21,14 @@ def load_floorplan(path: str | Path, **import_options: Any) -> FloorPlan:
     """
     p = Path(path)
     suffix = p.suffix.lower()
+    # Each reader is imported when a file needs it (ezdxf and the XML parser are slow to load).
     if suffix == ".dxf":
+        from kinematics.files.dxf_import import import_dxf
+
         return import_dxf(p, **import_options)
     if suffix == ".svg":
+        from kinematics.files.svg_import import import_svg
+
         return import_svg(p, **import_options)
-    return floorplan_from_dict(read_json(p), str(p), "", str(p))
+    with collector_held():
+        return floorplan_from_dict(read_json(p), str(p), "", str(p))

@@ -17,7 +17,10 @@ What is read:
   to centre form, SVG 1.1 appendix F.6.5) by chords of sagitta at most
   :data:`TOLERANCE_M`; Bezier curves by uniform parameter steps chosen from the bound
   ``h**2 / 8 * max|B''|`` on the error of linear interpolation, so the polyline stays within
-  the same 5 mm. The bound is applied in plan metres after every transform.
+  the same 1 mm. The bound is applied in plan metres after every transform. Chords lie
+  inside the curve, so an outline holding curves is then grown by the tolerance (a solid
+  outward, a wall on both faces: its thickness plus 2 mm): the flattened solid contains the
+  true one and exceeds it by at most 2 mm, and a clearance is never read larger.
 - Units: one SVG user unit (of the root ``viewBox`` when there is one) is
   ``metres_per_unit`` metres (default 0.01, a drawing in centimetres). The SVG y axis
   points down; it is flipped so plan y points up: ``y_plan = (bottom - y) * metres_per_unit``
@@ -30,6 +33,10 @@ What is read:
   such as swing arcs, are skipped); ``wall`` in ``id``/``class`` forces a wall (a closed
   shape then becomes a closed wall line). A wall is as thick as its ``stroke-width``, else
   0.1 m.
+- Zones: ``zones=[ZoneLayer(...)]`` (in a project: ``"zones": [{"layer", "kind", ...}]``)
+  turns every closed shape whose ``id`` or Inkscape layer label (``inkscape:label``), or
+  that of a group it sits in, is a named layer into a zone of that kind; open shapes there
+  are skipped.
 """
 
 from __future__ import annotations
@@ -43,11 +50,19 @@ from xml.etree.ElementTree import Element, ParseError
 import numpy as np
 
 from kinematics.errors import FileReadError, ValidationError
-from kinematics.files.curves import MAX_CHORDS, chord_count
-from kinematics.files.floorplan import Door, FloorPlan, Obstacle, Wall
+from kinematics.files.curves import (
+    FLATTEN_TOLERANCE_M,
+    MAX_CHORDS,
+    chord_count,
+    grow_outline,
+    grown_thickness,
+)
+from kinematics.files.floorplan import Door, FloorPlan, Obstacle, Wall, Zone, ZoneLayer
 from kinematics.files.validate import MAX_COORD_M
 
-TOLERANCE_M = 0.005
+_INKSCAPE_LABEL = "{http://www.inkscape.org/namespaces/inkscape}label"
+
+TOLERANCE_M = FLATTEN_TOLERANCE_M
 """Largest distance between a curve and the chords that replace it, in plan metres."""
 
 DEFAULT_WALL_THICKNESS_M = 0.1
@@ -484,6 +499,8 @@ class _Found:
     label: str
     thickness_units: float | None  # inherited stroke width, root user units
     two_point: bool
+    names: tuple[str, ...] = ()  # ids and layer labels of the element and its groups
+    curved: bool = False  # chords inside a curve: grow by the tolerance in the plan
 
 
 class _Walker:
@@ -496,8 +513,11 @@ class _Walker:
         self.using: set[int] = set()
 
     def walk(self, el: Element, ctm: np.ndarray, marker: str | None, depth: int,
-             via_use: bool = False, stroke: float | None = None) -> None:
+             via_use: bool = False, stroke: float | None = None,
+             names: tuple[str, ...] = ()) -> None:
         tag = _local(el.tag)
+        names = names + tuple(n.lower() for n in (el.get("id"), el.get(_INKSCAPE_LABEL))
+                              if n)
         self.count += 1
         number = self.count
         if self.count > _MAX_ELEMENTS:
@@ -524,11 +544,11 @@ class _Walker:
                 if tag == "svg":
                     m = m @ _matrix(1, 0, 0, 1, _length(el, "x"), _length(el, "y"))
                 for child in el:
-                    self.walk(child, m, mk, depth + 1, stroke=stroke)
+                    self.walk(child, m, mk, depth + 1, stroke=stroke, names=names)
                 return
             if tag == "svg":
                 for child in el:
-                    self.walk(child, m, mk, depth + 1, stroke=stroke)
+                    self.walk(child, m, mk, depth + 1, stroke=stroke, names=names)
                 return
             if tag == "use":
                 href = el.get("href") or el.get("{http://www.w3.org/1999/xlink}href") or ""
@@ -540,7 +560,8 @@ class _Walker:
                 m = m @ _matrix(1, 0, 0, 1, _length(el, "x"), _length(el, "y"))
                 self.using.add(id(target))
                 try:
-                    self.walk(target, m, mk, depth + 1, via_use=True, stroke=stroke)
+                    self.walk(target, m, mk, depth + 1, via_use=True, stroke=stroke,
+                              names=names)
                 finally:
                     self.using.discard(id(target))
                 return
@@ -557,12 +578,15 @@ class _Walker:
         label = el.get("id", "")
         two = tag == "line" or (tag in ("polyline", "path") and len(shapes) == 1
                                 and len(shapes[0][0]) == 2)
+        curved = (tag in ("circle", "ellipse")
+                  or (tag == "path" and re.search(r"[CcSsQqTtAa]", el.get("d", "")) is not None)
+                  or (tag == "rect" and any(len(q) > 5 for q, _ in shapes)))
         for pts, closed in shapes:
             world = pts @ m[:2, :2].T + m[:2, 2]
             if not np.all(np.isfinite(world)):
                 raise FileReadError(self.file, _describe(el, tag, number),
                                     "coordinates out of range")
-            self.found.append(_Found(world, closed, mk, label, thickness, two))
+            self.found.append(_Found(world, closed, mk, label, thickness, two, names, curved))
 
 
 def _read_root(p: Path) -> Element:
@@ -602,7 +626,8 @@ def _read_root(p: Path) -> Element:
     return root
 
 
-def import_svg(path: str | Path, metres_per_unit: float = 0.01) -> FloorPlan:
+def import_svg(path: str | Path, metres_per_unit: float = 0.01,
+               zones: tuple[ZoneLayer, ...] = ()) -> FloorPlan:
     """Read an SVG drawing as a :class:`~kinematics.files.floorplan.FloorPlan` in metres.
 
     Parameters
@@ -611,6 +636,8 @@ def import_svg(path: str | Path, metres_per_unit: float = 0.01) -> FloorPlan:
         The SVG file.
     metres_per_unit : float
         Metres per SVG user unit (default 0.01: the drawing is in centimetres).
+    zones : tuple of ZoneLayer
+        Group or element ids (or Inkscape layer labels) whose closed shapes are zones.
 
     Returns
     -------
@@ -652,6 +679,8 @@ def import_svg(path: str | Path, metres_per_unit: float = 0.01) -> FloorPlan:
     walls: list[Wall] = []
     obstacles: list[Obstacle] = []
     doors: list[Door] = []
+    zone_list: list[Zone] = []
+    zone_of = {z.layer.lower(): z for z in zones}
 
     def to_plan(pts: np.ndarray) -> tuple[tuple[float, float], ...]:
         x = (pts[:, 0] - left) * metres_per_unit
@@ -675,6 +704,12 @@ def import_svg(path: str | Path, metres_per_unit: float = 0.01) -> FloorPlan:
                 doors.append(Door(pts[0], pts[1], f.label or f"door {len(doors) + 1}"))
             continue
         closed = f.closed or (len(pts) > 3 and pts[0] == pts[-1])
+        rule = next((zone_of[n] for n in reversed(f.names) if n in zone_of), None)
+        if rule is not None:
+            ring = pts[:-1] if len(pts) > 1 and pts[0] == pts[-1] else pts
+            if closed and len(ring) >= 3:
+                zone_list.append(rule.zone(ring))
+            continue
         if f.marker == "wall" or not closed:
             if len(pts) < 2:
                 continue
@@ -682,14 +717,19 @@ def import_svg(path: str | Path, metres_per_unit: float = 0.01) -> FloorPlan:
                 pts = pts + (pts[0],)
             t = (f.thickness_units * metres_per_unit if f.thickness_units
                  else DEFAULT_WALL_THICKNESS_M)
+            if f.curved:
+                t = grown_thickness(t, TOLERANCE_M)
             walls.append(Wall(pts, t))
         else:
             ring = pts[:-1] if pts[0] == pts[-1] else pts
+            if len(ring) >= 3 and f.curved:
+                ring = tuple(tuple(q) for q in grow_outline(np.array(ring), TOLERANCE_M).tolist())
             if len(ring) >= 3:
                 obstacles.append(Obstacle(ring, f.label))
     name = root.findtext("{http://www.w3.org/2000/svg}title") or root.findtext("title") or p.stem
     return FloorPlan(name.strip() or p.stem, tuple(walls), tuple(obstacles), tuple(doors),
-                     file, {"svg_import": {"metres_per_unit": metres_per_unit}})
+                     file, {"svg_import": {"metres_per_unit": metres_per_unit}},
+                     tuple(zone_list))
 
 
 __all__ = ["import_svg", "parse_path", "parse_transform", "arc_points", "bezier_points"]

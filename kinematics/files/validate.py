@@ -7,7 +7,10 @@ Every failure raises :class:`kinematics.errors.ValidationError` with the file, t
 from __future__ import annotations
 
 import math
+from collections.abc import Sequence
 from typing import Any
+
+import numpy as np
 
 from kinematics.errors import ValidationError
 
@@ -169,3 +172,57 @@ class Reader:
         if v < 1:
             raise self.fail(key, f"expected format version 1..{supported}, got {v}")
         return v
+
+
+def point_lists(r: Reader, lists: Sequence[list], places: Sequence[str],
+                limit_m: float = MAX_COORD_M) -> tuple[np.ndarray, np.ndarray, int | None]:
+    """Read many point lists ``[[x, y], ...]`` at once (each already a list).
+
+    Returns the coordinates of all of them in one ``(M, 2)`` float array, the offsets
+    (``(K + 1,)``: list ``k`` is rows ``offsets[k]:offsets[k + 1]``) and ``None``; or, when a
+    point is bad, the coordinates and offsets of the lists before the first bad one and the
+    index of the list holding it. :meth:`Reader.point` of the bad point then raises exactly
+    the message a point-by-point read gives (:func:`raise_bad_point`). The checks are the
+    same as :meth:`Reader.point`'s, made over arrays: a quick look at types, then finite and
+    within ``limit_m`` for all coordinates together.
+    """
+    counts = np.fromiter((len(v) for v in lists), dtype=np.int64, count=len(lists))
+    offsets = np.zeros(len(lists) + 1, dtype=np.int64)
+    np.cumsum(counts, out=offsets[1:])
+    flat = [p for v in lists for p in v]
+    good_shape = all(type(p) is list and len(p) == 2 for p in flat)
+    arr = None
+    if good_shape and {type(c) for p in flat for c in p} <= {int, float}:
+        try:
+            arr = np.array(flat, dtype=float).reshape(-1, 2)
+        except OverflowError:  # a whole number too large for a float: read one by one
+            arr = None
+    if arr is not None:
+        bad = ~(np.isfinite(arr) & (np.abs(arr) <= limit_m)).all(axis=1)
+        if not bad.any():
+            return arr, offsets, None
+        first = int(np.argmax(bad))
+    else:
+        first = None
+        for k, v in enumerate(lists):
+            for i, p in enumerate(v):
+                try:
+                    r.point(p, join(places[k], i), limit_m)
+                except ValidationError:
+                    first = int(offsets[k]) + i
+                    break
+            if first is not None:
+                break
+        if first is None:  # pragma: no cover - the quick look refused only what point refuses
+            raise r.fail(places[0], "expected points [x, y] in metres")
+    k = int(np.searchsorted(offsets, first, side="right") - 1)
+    good = np.array(flat[:int(offsets[k])], dtype=float).reshape(-1, 2)
+    return good, offsets[:k + 1], k
+
+
+def raise_bad_point(r: Reader, points: list, place: str, limit_m: float = MAX_COORD_M
+                    ) -> None:
+    """Raise the :meth:`Reader.point` error of the first bad point of ``points``."""
+    for i, p in enumerate(points):
+        r.point(p, join(place, i), limit_m)
+    raise r.fail(place, "expected points [x, y] in metres")  # pragma: no cover

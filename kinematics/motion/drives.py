@@ -50,6 +50,7 @@ import numpy as np
 from numpy.typing import ArrayLike, NDArray
 
 from kinematics.errors import ValidationError
+from kinematics.motion.arrays import unique_sorted
 
 _HALF_PI = 0.5 * math.pi
 # A contact point slower than this (m/s) has no defined rolling direction.
@@ -378,7 +379,7 @@ class MecanumDrive(DriveModel):
 
     def critical_course_angles(self) -> NDArray[np.float64]:
         # Rate is (cos phi + tan(g) sin phi + const) / r: extremal at phi = atan2(tan g, 1).
-        return np.unique(np.arctan2(np.array(list(self.TAN_GAMMA.values())), 1.0))
+        return unique_sorted(np.arctan2(np.array(list(self.TAN_GAMMA.values())), 1.0))
 
 
 class SwerveDrive(DriveModel):
@@ -422,7 +423,7 @@ class SwerveDrive(DriveModel):
         # |v_i|^2 = 1 + w^2 |r_i|^2 + 2 w (x_i sin phi - y_i cos phi): extremal at
         # phi = atan2(x_i, -y_i).
         xy = np.array(list(self.positions.values()))
-        return np.unique(np.arctan2(xy[:, 0], -xy[:, 1]))
+        return unique_sorted(np.arctan2(xy[:, 0], -xy[:, 1]))
 
 
 # -- factory --------------------------------------------------------------------------------

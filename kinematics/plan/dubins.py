@@ -152,6 +152,28 @@ def same_pose(x: NDArray[np.float64], y: NDArray[np.float64],
     return near
 
 
+_INV_TWO_PI = 1.0 / TWO_PI
+_SNAP_BELOW = TWO_PI - _FULL_TURN_SNAP
+#: Pairs evaluated together: small enough that every temporary stays in the processor's cache
+#: and in numpy's cache of small buffers (fresh large arrays cost page faults).
+_BLOCK = 1024
+
+
+def _wrap(x: NDArray[np.float64], out: NDArray[np.float64]) -> NDArray[np.float64]:
+    """:func:`mod2pi` of ``x`` into ``out`` (the same operations, so the same bits), but for
+    the snap of values a rounding error from 0 or 2 pi, which :func:`_snap` makes once all
+    pieces are known."""
+    np.divide(x, TWO_PI, out=out)
+    np.floor(out, out=out)
+    out *= TWO_PI
+    return np.subtract(x, out, out=out)
+
+
+def _snap(a: NDArray[np.float64]) -> None:
+    """Arc angles a rounding error below 2 pi (or below 0) are no turn, in place."""
+    a[(a > _SNAP_BELOW) | (a < 0.0)] = 0.0
+
+
 def _dubins_words(d: NDArray[np.float64], alpha: NDArray[np.float64], beta: NDArray[np.float64],
                   trig: tuple[NDArray[np.float64], ...]
                   ) -> tuple[NDArray[np.float64], NDArray[np.float64]]:
@@ -160,74 +182,132 @@ def _dubins_words(d: NDArray[np.float64], alpha: NDArray[np.float64], beta: NDAr
     Shkel & Lumelsky (2001), sec. 2, eqs. for LSL ... LRL; ``alpha`` and ``beta`` are the start
     and goal headings relative to the line from start to goal, ``d`` the distance over ``r``,
     ``trig`` their sines and cosines ``(sa, ca, sb, cb)``. Infeasible words total ``inf``.
+    Written with ``out=`` throughout: about 80 array operations for all six words, each
+    into a buffer of the block, no per-pair Python.
     """
     sa, ca, sb, cb = trig
-    cab = ca * cb + sa * sb  # cos(alpha - beta)
+    n = d.shape[0]
+    cab = ca * cb
+    cab += sa * sb  # cos(alpha - beta)
     d2 = d * d
     # Rounding leaves tangent cases (touching circles, p = 0; CCC at the edge of its range)
     # a few ulps on the wrong side of feasibility; accept them within that error.
-    tol = 4.0 * np.finfo(float).eps * (8.0 + d2)
-    n = d.shape[0]
+    tol = d2 + 8.0
+    tol *= 4.0 * np.finfo(float).eps
     out = np.empty((6, 3, n))
-    ok = np.empty((6, n), dtype=bool)
-    base = 2.0 + d2 - 2.0 * cab
-    sd = d * (sa - sb)
-
+    bad = np.empty((6, n), dtype=bool)
+    tmp = np.empty(n)
+    p2 = np.empty(n)
+    sd = sa - sb
+    sd *= d
+    base = 2.0 + d2
+    base -= 2.0 * cab
     # LSL
-    p2 = base + 2.0 * sd
+    np.add(base, 2.0 * sd, out=p2)
     th_lsl = np.arctan2(cb - ca, d + sa - sb)
-    out[0, 0] = mod2pi(th_lsl - alpha)
-    out[0, 1] = np.sqrt(np.maximum(p2, 0.0))
-    out[0, 2] = mod2pi(beta - th_lsl)
-    ok[0] = p2 >= -tol
+    _wrap(np.subtract(th_lsl, alpha, out=tmp), out[0, 0])
+    np.sqrt(np.maximum(p2, 0.0, out=tmp), out=out[0, 1])
+    _wrap(np.subtract(beta, th_lsl, out=tmp), out[0, 2])
+    np.less(p2, -tol, out=bad[0])
     # RSR
-    p2 = base - 2.0 * sd
+    np.subtract(base, 2.0 * sd, out=p2)
     th_rsr = np.arctan2(ca - cb, d - sa + sb)
-    out[1, 0] = mod2pi(alpha - th_rsr)
-    out[1, 1] = np.sqrt(np.maximum(p2, 0.0))
-    out[1, 2] = mod2pi(th_rsr - beta)
-    ok[1] = p2 >= -tol
+    _wrap(np.subtract(alpha, th_rsr, out=tmp), out[1, 0])
+    np.sqrt(np.maximum(p2, 0.0, out=tmp), out=out[1, 1])
+    _wrap(np.subtract(th_rsr, beta, out=tmp), out[1, 2])
+    np.less(p2, -tol, out=bad[1])
     # LSR: the straight is an inner tangent; needs the circles apart.
-    sp = d * (sa + sb)
-    p2 = d2 - 2.0 + 2.0 * cab + 2.0 * sp
-    p = np.sqrt(np.maximum(p2, 0.0))
+    sp = sa + sb
+    sp *= 2.0 * d
+    common = d2 - 2.0
+    common += 2.0 * cab
+    np.add(common, sp, out=p2)
+    p = out[2, 1]
+    np.sqrt(np.maximum(p2, 0.0, out=tmp), out=p)
     # atan2(Y, X) - atan2(-2, p) as one angle of (X + iY)(p + 2i); (X, Y) is never 0 here.
     X, Y = d + sa + sb, -ca - cb
     th = np.arctan2(Y * p + 2.0 * X, X * p - 2.0 * Y)
-    out[2, 0] = mod2pi(th - alpha)
-    out[2, 1] = p
-    out[2, 2] = mod2pi(th - beta)
-    ok[2] = p2 >= -tol
+    _wrap(np.subtract(th, alpha, out=tmp), out[2, 0])
+    _wrap(np.subtract(th, beta, out=tmp), out[2, 2])
+    np.less(p2, -tol, out=bad[2])
     # RSL
-    p2 = d2 - 2.0 + 2.0 * cab - 2.0 * sp
-    p = np.sqrt(np.maximum(p2, 0.0))
+    np.subtract(common, sp, out=p2)
+    p = out[3, 1]
+    np.sqrt(np.maximum(p2, 0.0, out=tmp), out=p)
     # atan2(Y, X) - atan2(2, p) as one angle of (X + iY)(p - 2i).
     X, Y = d - sa - sb, ca + cb
     th = np.arctan2(Y * p - 2.0 * X, X * p + 2.0 * Y)
-    out[3, 0] = mod2pi(alpha - th)
-    out[3, 1] = p
-    out[3, 2] = mod2pi(beta - th)
-    ok[3] = p2 >= -tol
+    _wrap(np.subtract(alpha, th, out=tmp), out[3, 0])
+    _wrap(np.subtract(beta, th, out=tmp), out[3, 2])
+    np.less(p2, -tol, out=bad[3])
     # RLR: the middle arc of an optimal CCC word is longer than pi (Dubins 1957), hence
     # 2 pi - acos rather than acos. Its joining angle is RSR's, LRL's is minus LSL's.
-    c = (6.0 - d2 + 2.0 * cab + 2.0 * sd) / 8.0
-    p = mod2pi(TWO_PI - np.arccos(np.clip(c, -1.0, 1.0)))
-    t = mod2pi(alpha - th_rsr + 0.5 * p)
-    out[4, 0] = t
-    out[4, 1] = p
-    out[4, 2] = mod2pi(alpha - beta - t + p)
-    ok[4] = np.abs(c) <= 1.0 + tol
-    # LRL
-    c = (6.0 - d2 + 2.0 * cab - 2.0 * sd) / 8.0
-    p = mod2pi(TWO_PI - np.arccos(np.clip(c, -1.0, 1.0)))
-    t = mod2pi(-alpha + th_lsl + 0.5 * p)
-    out[5, 0] = t
-    out[5, 1] = p
-    out[5, 2] = mod2pi(beta - alpha - t + p)
-    ok[5] = np.abs(c) <= 1.0 + tol
-    total = out[:, 0] + out[:, 1] + out[:, 2]
-    total[~ok] = np.inf
+    six = 6.0 - d2
+    six += 2.0 * cab
+    for k, sign, th_j in ((4, 1.0, th_rsr), (5, -1.0, th_lsl)):
+        c = np.add(six, 2.0 * sd, out=p2) if sign > 0 else np.subtract(six, 2.0 * sd, out=p2)
+        c /= 8.0
+        np.greater(np.abs(c, out=tmp), tol + 1.0, out=bad[k])
+        p = out[k, 1]
+        np.clip(c, -1.0, 1.0, out=tmp)
+        np.arccos(tmp, out=p)
+        np.subtract(TWO_PI, p, out=p)
+        _snap(p)  # an arc of exactly 0 or 2 pi is no turn; its half goes into t below
+        t = out[k, 0]
+        if sign > 0:
+            np.subtract(alpha, th_j, out=tmp)
+        else:
+            np.subtract(th_j, alpha, out=tmp)
+        tmp += 0.5 * p
+        _wrap(tmp, t)
+        _snap(t)
+        if sign > 0:
+            np.subtract(alpha, beta, out=tmp)
+        else:
+            np.subtract(beta, alpha, out=tmp)
+        tmp -= t
+        tmp += p
+        _wrap(tmp, out[k, 2])
+    _snap(out[:, 0::2])  # the first and last arcs (the straights may exceed 2 pi)
+    total = out[:, 0] + out[:, 1]
+    total += out[:, 2]
+    total[bad] = np.inf
     return out, total
+
+
+def _shortest_block(p0: NDArray[np.float64], p1: NDArray[np.float64], r: NDArray[np.float64],
+                    length: NDArray[np.float64], word: NDArray[np.int64],
+                    params: NDArray[np.float64]) -> None:
+    """:func:`shortest` of one block of pairs, written into ``length``, ``word``, ``params``."""
+    x, y, phi = normalised_goal(p0, p1, r)
+    d = np.sqrt(x * x + y * y)
+    # When the positions coincide the joining line is undefined; measure from the start heading.
+    far = d > 0.0
+    if far.all():
+        theta = np.arctan2(y, x)
+        c_th, s_th = x / d, y / d
+    else:
+        dd = np.where(far, d, 1.0)
+        c_th = np.where(far, x / dd, 1.0)
+        s_th = np.where(far, y / dd, 0.0)
+        theta = np.where(far, np.arctan2(y, x), 0.0)
+    alpha = mod2pi(-theta)
+    beta = mod2pi(phi - theta)
+    s_phi, c_phi = np.sin(phi), np.cos(phi)
+    # Sines and cosines of alpha = -theta and beta = phi - theta by the angle-difference rules,
+    # so only phi needs a trigonometric call.
+    trig = (-s_th, c_th, s_phi * c_th - c_phi * s_th, c_phi * c_th + s_phi * s_th)
+    pieces, total = _dubins_words(d, alpha, beta, trig)
+    same = same_pose(x, y, phi)
+    if same.any():
+        total[:, same] = np.inf
+        total[0, same] = 0.0
+        pieces[:, :, same] = 0.0
+    w = np.argmin(total, axis=0)
+    idx = np.arange(x.shape[0])
+    np.multiply(total[w, idx], r, out=length)
+    word[:] = w
+    np.multiply(pieces[w, :, idx], r[:, None], out=params)
 
 
 def shortest(starts: ArrayLike, goals: ArrayLike, radius_m: ArrayLike) -> DubinsBatch:
@@ -249,6 +329,12 @@ def shortest(starts: ArrayLike, goals: ArrayLike, radius_m: ArrayLike) -> Dubins
     ValidationError
         If shapes differ, a value is not finite or a radius is not positive.
 
+    Notes
+    -----
+    Pairs are evaluated in blocks of ``_BLOCK`` (one block for a small batch, with no
+    further set-up: the planner's few legs per drag step take the same code); each pair's
+    answer does not depend on the others or on the block.
+
     Examples
     --------
     >>> b = shortest([[0, 0, 0]], [[0, 2, np.pi]], 1.0)   # a U-turn
@@ -256,32 +342,14 @@ def shortest(starts: ArrayLike, goals: ArrayLike, radius_m: ArrayLike) -> Dubins
     (3.141592654, ['LSL'])
     """
     p0, p1, r = _check_inputs(starts, goals, radius_m, "<dubins.shortest>")
-    x, y, phi = normalised_goal(p0, p1, r)
-    d = np.sqrt(x * x + y * y)
-    # When the positions coincide the joining line is undefined; measure from the start heading.
-    far = d > 0.0
-    theta = np.arctan2(y, x)
-    dd = np.where(far, d, 1.0)
-    c_th = np.where(far, x / dd, 1.0)
-    s_th = np.where(far, y / dd, 0.0)
-    theta = np.where(far, theta, 0.0)
-    alpha = mod2pi(-theta)
-    beta = mod2pi(phi - theta)
-    s_phi, c_phi = np.sin(phi), np.cos(phi)
-    # Sines and cosines of alpha = -theta and beta = phi - theta by the angle-difference rules,
-    # so only phi needs a trigonometric call.
-    trig = (-s_th, c_th, s_phi * c_th - c_phi * s_th, c_phi * c_th + s_phi * s_th)
-    pieces, total = _dubins_words(d, alpha, beta, trig)
-    same = same_pose(x, y, phi)
-    if same.any():
-        total[:, same] = np.inf
-        total[0, same] = 0.0
-        pieces[:, :, same] = 0.0
-    word = np.argmin(total, axis=0)
-    idx = np.arange(x.shape[0])
-    params = pieces[word, :, idx] * r[:, None]
-    length = total[word, idx] * r
-    return DubinsBatch(length_m=length, word=word.astype(np.int64), params=params, radius_m=r)
+    n = p0.shape[0]
+    length = np.empty(n)
+    word = np.empty(n, dtype=np.int64)
+    params = np.empty((n, 3))
+    for i in range(0, n, _BLOCK):
+        b = slice(i, i + _BLOCK)
+        _shortest_block(p0[b], p1[b], r[b], length[b], word[b], params[b])
+    return DubinsBatch(length_m=length, word=word, params=params, radius_m=r)
 
 
 def pieces_to_segments(start: Sequence[float], letters: str, signed_lengths_m: Sequence[float],

@@ -44,6 +44,7 @@ the rendered picture, count waypoints from 1 ("waypoint 3" is the third, index 2
 
 from __future__ import annotations
 
+import functools
 import math
 from collections import OrderedDict
 from collections.abc import Callable, Sequence
@@ -52,11 +53,10 @@ from dataclasses import dataclass, field
 import numpy as np
 
 from kinematics.errors import ValidationError
-from kinematics.files.project import DRIVE_ALIASES, Chassis, Project, Route
+from kinematics.files.project import DRIVE_ALIASES, Chassis, Project, Route, route_transitions
 from kinematics.files.validate import MAX_ROUTE_SPAN_M, too_spread
 from kinematics.motion.drives import drive_for
 from kinematics.motion.segments import Segment, holonomic_line, line, path_length, pivot
-from kinematics.plan import dubins, reeds_shepp
 from kinematics.plan.fillet import (
     STRAIGHT_TOL_RAD,
     ZERO_LENGTH_M,
@@ -65,6 +65,12 @@ from kinematics.plan.fillet import (
     fit_radii,
     layout_fillets,
     leg_geometry,
+)
+from kinematics.plan.transitions import (
+    cc_connect,
+    cc_tangent_length,
+    cc_turn,
+    transition_sharpness,
 )
 
 #: Consecutive waypoints closer than this (metres) are the same point.
@@ -197,6 +203,8 @@ def end_pose(seg: Segment) -> Pose:
     turn, length = seg.turn_rad, seg.length_m
     if seg.kind == "pivot":
         return (x, y, h + turn)
+    if seg.kind == "clothoid":
+        return seg.end
     if seg.kind == "line":
         if seg.course_rad is not None or turn != 0.0:
             c = seg.course
@@ -262,6 +270,14 @@ class PieceCache:
         return len(self._d)
 
 
+def _cc_or_dubins(pose: Pose, goal: Pose, radius_m: float, sigma: float) -> list[Segment]:
+    """The CC turn-line-turn connection, else the plain Dubins path (its curvature steps)."""
+    from kinematics.plan import dubins
+
+    segs = cc_connect(pose, goal, radius_m, sigma)
+    return segs if segs is not None else dubins.path_segments(pose, goal, radius_m)
+
+
 class _Builder:
     """Collects segments, issues, notes and chosen headings while a route is built.
 
@@ -282,6 +298,8 @@ class _Builder:
         self.cache = cache
         self._pose: Pose = start
         self._anchored = 0
+        #: Sharpness of CC connections (0: plain Dubins / Reeds-Shepp).
+        self.cc_sigma = 0.0
 
     @property
     def pose(self) -> Pose:
@@ -344,6 +362,15 @@ class _Builder:
                                                              radius_m),) if s is not None))
         return n if len(self.segs) > n else None
 
+    def cc_corner(self, deflection_rad: float, radius_m: float, sigma: float) -> int | None:
+        """A continuous-curvature turn at a corner (:func:`kinematics.plan.transitions.cc_turn`);
+        the index of its first segment."""
+        pose = self._pose
+        n = len(self.segs)
+        self._piece(("cc", float(deflection_rad), float(radius_m), float(sigma)),
+                    lambda: tuple(cc_turn(pose, deflection_rad, radius_m, sigma)))
+        return n if len(self.segs) > n else None
+
     def turn(self, to_heading: float) -> int | None:
         """Pivot from the current heading to ``to_heading`` the short way (none if aligned)."""
         t = _turn_to(self.pose[2], to_heading)
@@ -366,11 +393,18 @@ class _Builder:
 
     def connect(self, goal: Pose, radius_m: float, reverse: bool) -> None:
         """Shortest bounded-curvature path from the current pose to ``goal``."""
+        from kinematics.plan import dubins, reeds_shepp
+
         mod = reeds_shepp if reverse else dubins
         pose = self._pose
         goal = (float(goal[0]), float(goal[1]), float(goal[2]))
-        self._piece(("connect", goal, float(radius_m), bool(reverse)),
-                    lambda: mod.path_segments(pose, goal, radius_m))
+        if self.cc_sigma > 0.0 and not reverse:
+            sigma = self.cc_sigma
+            self._piece(("cc-connect", goal, float(radius_m), sigma),
+                        lambda: _cc_or_dubins(pose, goal, radius_m, sigma))
+        else:
+            self._piece(("connect", goal, float(radius_m), bool(reverse)),
+                        lambda: mod.path_segments(pose, goal, radius_m))
         self.anchor(goal)
 
     def spin(self, xy: Sequence[float], headings: Sequence[float]) -> None:
@@ -524,6 +558,10 @@ def _plan_steered(pts: _Points, b: _Builder, radius_m: float, reverse: bool) -> 
             b.chosen[pts.index[k]] = _wrap_deg(chosen[k])
     if len(poses) < 2:
         return
+    if b.cc_sigma > 0.0 and not reverse:
+        for i in range(len(poses) - 1):
+            b.connect(poses[i + 1], radius_m, False)
+        return
     # All legs not yet in the cache in one vectorised call; each leg's pieces are then laid
     # from the pose it starts at (see ``_Builder.anchor``).
     p = np.array(poses, dtype=float)
@@ -535,6 +573,9 @@ def _plan_steered(pts: _Points, b: _Builder, radius_m: float, reverse: bool) -> 
             hit = b.cache.lookup(k)
             if hit is not None:
                 words[k] = hit
+    # Imported here: a route of pivots and fillets (most) never needs them at start-up.
+    from kinematics.plan import dubins, reeds_shepp
+
     todo = [i for i in range(len(keys)) if keys[i] not in words]
     if todo:
         sel = np.array(todo)
@@ -597,14 +638,56 @@ def _fillet_radii(pts: _Points, b: _Builder, radius_m: float, route: Route
     return radii, failed
 
 
-def _plan_filleted(pts: _Points, b: _Builder, radius_m: float, route: Route) -> None:
-    """Line-arc-line through corners without heading; Dubins / Reeds-Shepp at headed ones."""
+@functools.lru_cache(maxsize=256)
+def _sharpness(chassis: Chassis, radius_m: float) -> float:
+    return transition_sharpness(chassis, radius_m)
+
+
+def _cc_corners(pts: _Points, b: _Builder, radii: np.ndarray, t_arc: np.ndarray,
+                chassis: Chassis) -> tuple[np.ndarray, np.ndarray]:
+    """Sharpness of each corner's CC turn (0: a plain arc) and the tangent lengths.
+
+    A corner whose CC turn does not fit on its legs (the clothoids need more room than the
+    arc) keeps the plain arc, and a note says so.
+    """
+    defl = deflections(pts.xy)
+    _, leg = leg_geometry(pts.xy)
+    sig = np.zeros(radii.size)
+    t = t_arc.copy()
+    for k in range(radii.size):
+        if radii[k] > 0.0 and np.isfinite(t_arc[k]) and abs(defl[k]) >= STRAIGHT_TOL_RAD:
+            sig[k] = _sharpness(chassis, float(radii[k]))
+            t[k] = cc_tangent_length(float(defl[k]), float(radii[k]), sig[k])
+    while True:
+        need = np.zeros(leg.size)
+        need[:-1] += t
+        need[1:] += t
+        over = np.flatnonzero(need > leg + 1e-9)
+        if over.size == 0:
+            return sig, t
+        i = int(over[0])
+        cands = [k for k in (i - 1, i) if 0 <= k < radii.size and sig[k] > 0.0]
+        k = max(cands, key=lambda c: t[c] - t_arc[c])
+        sig[k], t[k] = 0.0, t_arc[k]
+        b.notes.append(f"no room for transition curves at waypoint {pts.index[k + 1] + 1}: "
+                       "drawn as a plain arc (its curvature steps)")
+
+
+def _plan_filleted(pts: _Points, b: _Builder, radius_m: float, route: Route,
+                   chassis: Chassis | None = None) -> None:
+    """Line-arc-line through corners without heading; Dubins / Reeds-Shepp at headed ones.
+
+    With a ``chassis`` (transitions on) each fillet is a CC turn (clothoid, arc, clothoid).
+    """
     xy = pts.xy
     n = len(pts.index)
     head, leg = leg_geometry(xy)
     defl = deflections(xy)
     radii, failed = _fillet_radii(pts, b, radius_m, route)
     t = layout_fillets(xy, radii).tangent_m
+    sig = np.zeros(t.size)
+    if chassis is not None:
+        sig, t = _cc_corners(pts, b, radii, t, chassis)
     # Poses are the route's ends and the points with a heading; ends without one take the
     # direction of their leg.
     pose = [k in (0, n - 1) or bool(pts.headings[k]) for k in range(n)]
@@ -630,7 +713,10 @@ def _plan_filleted(pts: _Points, b: _Builder, radius_m: float, route: Route) -> 
         if pose[i + 1]:
             b.spin(xy[i + 1], pts.headings[i + 1][1:])
             continue
-        seg = b.corner(float(defl[i]), float(radii[i]))
+        if sig[i] > 0.0:
+            seg = b.cc_corner(float(defl[i]), float(radii[i]), float(sig[i]))
+        else:
+            seg = b.corner(float(defl[i]), float(radii[i]))
         v = (math.cos(head[i + 1]), math.sin(head[i + 1]))
         b.anchor((float(xy[i + 1, 0] + t[i] * v[0]), float(xy[i + 1, 1] + t[i] * v[1]),
                   float(head[i + 1])))
@@ -644,11 +730,13 @@ def _plan_filleted(pts: _Points, b: _Builder, radius_m: float, route: Route) -> 
 def _check_radii(b: _Builder, min_r: float, can_pivot: bool, drive: str) -> None:
     """A ``turn_radius`` issue for every arc tighter than the chassis turns, and pivots."""
     for i, s in enumerate(b.segs):
-        if s.kind == "arc" and s.radius_m is not None and \
-                s.radius_m < min_r * (1.0 - RADIUS_REL_TOL):
-            b.issue("turn_radius", f"segment {i}: arc of radius {s.radius_m:.4g} m is tighter "
+        r = s.min_radius_m
+        if s.kind in ("arc", "clothoid") and r is not None and \
+                r < min_r * (1.0 - RADIUS_REL_TOL):
+            what = "arc of radius" if s.kind == "arc" else "clothoid reaching radius"
+            b.issue("turn_radius", f"segment {i}: {what} {r:.4g} m is tighter "
                     f"than the {drive} chassis turns ({min_r:.4g} m)", None, i, s.start,
-                    min_r - s.radius_m)
+                    min_r - r)
         elif s.kind == "pivot" and not can_pivot:
             b.issue("turn_radius", f"segment {i}: pivot on the spot, but the {drive} chassis "
                     f"turns no tighter than {min_r:.4g} m", None, i, s.start, min_r)
@@ -705,11 +793,16 @@ def plan_route(route: Route, chassis: Chassis, cache: PieceCache | None = None) 
     elif holonomic:
         _plan_holonomic(pts, b)
     elif drive in _STEERED:
+        if route_transitions(route, chassis) == "clothoid" and radius > 0.0:
+            b.cc_sigma = _sharpness(chassis, float(radius))
         _plan_steered(pts, b, radius, route.reverse)
     elif radius == 0.0:
         _plan_pivoting(pts, b, route.reverse)
     else:
-        _plan_filleted(pts, b, radius, route)
+        cc = route_transitions(route, chassis) == "clothoid"
+        if cc:
+            b.cc_sigma = _sharpness(chassis, float(radius))
+        _plan_filleted(pts, b, radius, route, chassis if cc else None)
     if not pts.headings[0]:
         b.chosen[0] = _wrap_deg(start[2])
     if n > 1 and not pts.headings[-1]:

@@ -21,6 +21,33 @@ between its entry and exit speeds, peak ``min(cap, sqrt((2 a d L + d v0^2 + a v1
 (constant-acceleration kinematics, e.g. Halliday, Resnick & Walker, *Fundamentals of Physics*,
 ch. 2). Everything is closed form; nothing is stepped in time.
 
+Rate-of-change limits (optional chassis keys; see :mod:`kinematics.plan.transitions` for how
+the planner chose each clothoid's sharpness ``sigma`` from them) act on each piece as follows,
+where ``rho`` is a wheel's rate per unit speed and ``rho'`` its change per unit curvature, both
+bounded over the piece (:func:`kinematics.plan.transitions.wheel_rate_bounds`):
+
+- ``max_wheel_accel_radps2`` (``alpha_w``): a wheel's rate ``v rho`` changes at
+  ``a rho + v^2 sigma rho'``. On lines and arcs the acceleration is capped at
+  ``alpha_w / max rho``; on a clothoid half the limit goes to each term: the speed is capped
+  at ``sqrt(alpha_w / (2 sigma max rho'))`` and the acceleration at ``alpha_w / (2 max rho)``.
+  In a pivot the yaw acceleration is capped so the fastest wheel's rate changes no faster.
+- ``max_yaw_accel_dps2``: the yaw rate ``kappa v`` changes at ``kappa a + sigma v^2``; the
+  same split (all to ``kappa a`` on arcs); in a pivot it caps the yaw acceleration itself.
+- ``max_steer_rate_dps`` (bicycle, Ackermann): a steered wheel's angle changes at
+  ``v sigma |d angle / d kappa|``, capping the speed on clothoids.
+- On a mecanum or swerve line whose body turns, the body-frame course changes with distance,
+  so the wheel rates (and swerve module angles) change at constant speed too: the same split
+  caps the speed there.
+- Where the curvature steps at a joint (a plain line/arc joint, transitions off) and a limit
+  watches it (``max_wheel_accel_radps2`` or ``max_yaw_accel_dps2``: the rates would jump;
+  ``max_steer_rate_dps``: the steer angle would), the chassis comes to rest there; where the
+  steer angle steps, it stands still for ``hold_s`` while the wheels steer at the limit.
+
+``binding`` names the limit that really sets each piece's fastest speed: the cap where the
+piece reaches it, otherwise the acceleration limit (``max_accel_mps2``, ``max_decel_mps2``,
+or the rate limit that lowered it) or the neighbour whose cap held the joint speed;
+``cap_binding`` names the limit behind the cap itself (the plots label the cap with it).
+
 A pivot is the same trapezoid in the turned angle. Its yaw-rate cap is the least of
 ``max_yaw_rate_dps`` and the wheel-rate limit; its angular acceleration keeps the fastest
 wheel's rim within the linear limits: ``alpha = max_accel / lever`` with ``lever`` the rim
@@ -38,11 +65,21 @@ from dataclasses import dataclass
 import numpy as np
 from numpy.typing import ArrayLike, NDArray
 
+from kinematics.motion.arrays import unique_sorted
 from kinematics.motion.drives import DriveModel, drive_for
 from kinematics.motion.segments import Segment, segment_stations
+from kinematics.plan.transitions import wheel_rate_bounds
 
 # Directions of travel differing by more than this (rad) at a joint make a cusp.
 _CUSP_RAD = 1e-6
+#: Curvature steps (1/m) and steer-angle steps (rad) below these are rounding, not steps.
+_STEP_PER_M = 1e-9
+_STEER_STEP_RAD = 1e-9
+#: Share of each rate-of-change limit left to speeding up and slowing down on a clothoid.
+ACCEL_SHARE = 0.5
+#: Slack on a derivative bounded by differences over a grid (its largest value may fall
+#: between grid points; 129 points over at most a half turn, common practice).
+_GRID_SLACK = 1.05
 
 
 @dataclass(frozen=True)
@@ -55,15 +92,25 @@ class Limits:
     max_wheel_rate_radps: float | None = None
     max_lateral_accel_mps2: float | None = None
     max_yaw_rate_radps: float | None = None
+    max_wheel_accel_radps2: float | None = None
+    max_yaw_accel_radps2: float | None = None
+    max_steer_rate_radps: float | None = None
 
     @classmethod
     def from_chassis(cls, chassis) -> Limits:
         """The limits of a :class:`~kinematics.files.project.Chassis` (decel defaults to accel)."""
         decel = chassis.max_decel_mps2 if chassis.max_decel_mps2 is not None \
             else chassis.max_accel_mps2
-        yaw = None if chassis.max_yaw_rate_dps is None else math.radians(chassis.max_yaw_rate_dps)
+
+        def rad(v):
+            return None if v is None else math.radians(v)
+
         return cls(float(chassis.max_speed_mps), float(chassis.max_accel_mps2), float(decel),
-                   chassis.max_wheel_rate_radps, chassis.max_lateral_accel_mps2, yaw)
+                   chassis.max_wheel_rate_radps, chassis.max_lateral_accel_mps2,
+                   rad(chassis.max_yaw_rate_dps),
+                   getattr(chassis, "max_wheel_accel_radps2", None),
+                   rad(getattr(chassis, "max_yaw_accel_dps2", None)),
+                   rad(getattr(chassis, "max_steer_rate_dps", None)))
 
 
 @dataclass(frozen=True)
@@ -103,6 +150,8 @@ class SpeedProfile:
     yaw_per_progress: NDArray[np.float64]  # signed yaw (rad) per unit of progress
     station0_m: NDArray[np.float64]
     limits: Limits
+    cap_binding: tuple[str, ...] = ()
+    hold_s: NDArray[np.float64] | None = None  # standing still before each segment (steering)
 
     @property
     def is_pivot(self) -> NDArray[np.bool_]:
@@ -159,7 +208,15 @@ class SpeedProfile:
         pivot = self.is_pivot[idx]
         station = self.station0_m[idx] + np.where(pivot, 0.0, prog)
         v = np.where(pivot, 0.0, rate)
-        omega = rate * self.yaw_per_progress[idx]
+        ypp = self.yaw_per_progress[idx]
+        clo = [i for i in np.unique(idx) if self.segments[int(i)].kind == "clothoid"]
+        if clo:
+            ypp = np.array(ypp, dtype=float, copy=True)
+            for i in clo:
+                seg = self.segments[int(i)]
+                m = idx == i
+                ypp[m] = seg.direction * seg.curvature_at(prog[m])
+        omega = rate * ypp
         return ProfileState(idx, prog, rate, acc, station, v, omega)
 
     def twist_at_time(self, t: ArrayLike) -> tuple[NDArray, NDArray, NDArray, ProfileState]:
@@ -202,11 +259,13 @@ class SpeedProfile:
 
     def breakpoints_s(self) -> NDArray[np.float64]:
         """Every time where the acceleration changes: joints and the ends of ramps."""
-        t1 = np.where(self.accel > 0, (self.rate_cruise - self.rate_start) / self.accel, 0.0)
-        t3 = np.where(self.decel > 0, (self.rate_cruise - self.rate_end) / self.decel, 0.0)
+        with np.errstate(divide="ignore", invalid="ignore"):
+            t1 = np.where(self.accel > 0, (self.rate_cruise - self.rate_start) / self.accel, 0.0)
+            t3 = np.where(self.decel > 0, (self.rate_cruise - self.rate_end) / self.decel, 0.0)
         ends = self.t0_s + self.duration_s
-        pts = np.concatenate([self.t0_s, self.t0_s + t1, ends - t3, ends])
-        pts = np.unique(np.clip(pts, 0.0, self.total_time_s))
+        holds = self.t0_s - (self.hold_s if self.hold_s is not None else 0.0)
+        pts = np.concatenate([self.t0_s, self.t0_s + t1, ends - t3, ends, holds])
+        pts = unique_sorted(np.clip(pts, 0.0, self.total_time_s))
         # Round-off makes near-copies of one time (a ramp ending on a joint); keep one.
         keep = np.concatenate([[True], np.diff(pts) > 1e-9])[:pts.size]
         return pts[keep]
@@ -271,25 +330,132 @@ def _holonomic_line_per_unit(drive: DriveModel, seg: Segment) -> float:
     return float(np.max(drive.max_rate_per_unit(np.cos(phi), np.sin(phi), w * np.ones_like(phi))))
 
 
+def _per_unit(drive: DriveModel, seg: Segment) -> float:
+    """Largest wheel rate per unit speed over a line, arc or clothoid."""
+    turning_line = seg.kind == "line" and (seg.turn_rad != 0.0 or seg.course_rad is not None)
+    if turning_line:
+        return _holonomic_line_per_unit(drive, seg)
+    if seg.kind == "clothoid":
+        return wheel_rate_bounds(drive, seg.kappa0, seg.kappa1, seg.direction)[0]
+    return float(drive.max_rate_per_unit(float(seg.direction), 0.0,
+                                         seg.turn_rad / seg.length_m))
+
+
+def _steer_per_curvature(drive: DriveModel, seg: Segment) -> float:
+    """Largest |d angle / d kappa| of a steered wheel over a clothoid (rad per 1/m)."""
+    if not drive.steered_wheels or drive.holonomic:
+        return 0.0
+    ks = np.linspace(seg.kappa0, seg.kappa1, 33)
+    h = 1e-6 * max(1.0, float(np.max(np.abs(ks))))
+    d = float(seg.direction)
+    one, zero = np.ones_like(ks), np.zeros_like(ks)
+    up = drive.inverse(d * one, zero, d * (ks + h)).angle_rad
+    dn = drive.inverse(d * one, zero, d * (ks - h)).angle_rad
+    return float(max(np.max(np.abs(up[w] - dn[w])) / (2.0 * h) for w in drive.steered_wheels))
+
+
 def _travel_caps(drive: DriveModel, seg: Segment, lim: Limits) -> tuple[float, str]:
     caps = {"max_speed_mps": lim.max_speed_mps}
     if seg.length_m > 0.0:
-        turning_line = seg.kind == "line" and (seg.turn_rad != 0.0 or seg.course_rad is not None)
         if lim.max_wheel_rate_radps is not None:
-            if turning_line:
-                per = _holonomic_line_per_unit(drive, seg)
-            else:
-                per = float(drive.max_rate_per_unit(float(seg.direction), 0.0,
-                                                    seg.turn_rad / seg.length_m))
+            per = _per_unit(drive, seg)
             if per > 0.0:
                 caps["max_wheel_rate_radps"] = lim.max_wheel_rate_radps / per
         yaw_per_m = abs(seg.turn_rad) / seg.length_m
+        if seg.kind == "clothoid":
+            yaw_per_m = seg.max_abs_curvature
         if lim.max_yaw_rate_radps is not None and yaw_per_m > 0.0:
             caps["max_yaw_rate_dps"] = lim.max_yaw_rate_radps / yaw_per_m
-        if lim.max_lateral_accel_mps2 is not None and seg.kind == "arc" and yaw_per_m > 0.0:
+        if lim.max_lateral_accel_mps2 is not None and seg.kind in ("arc", "clothoid") \
+                and yaw_per_m > 0.0:
             caps["max_lateral_accel_mps2"] = math.sqrt(lim.max_lateral_accel_mps2 / yaw_per_m)
+        caps.update(_transition_caps(drive, seg, lim))
     key = min(caps, key=caps.get)
     return caps[key], key
+
+
+def _transition_caps(drive: DriveModel, seg: Segment, lim: Limits) -> dict[str, float]:
+    """Speed caps on a clothoid from the rate-of-change limits (module docstring)."""
+    sigma = abs(seg.sharpness)
+    caps: dict[str, float] = {}
+    if _turning_line(seg):
+        return _turning_line_caps(drive, seg, lim)
+    if seg.kind != "clothoid" or sigma == 0.0:
+        return caps
+    if lim.max_wheel_accel_radps2 is not None:
+        grad = wheel_rate_bounds(drive, seg.kappa0, seg.kappa1, seg.direction)[1]
+        if grad > 0.0:
+            caps["max_wheel_accel_radps2"] = math.sqrt(
+                (1.0 - ACCEL_SHARE) * lim.max_wheel_accel_radps2 / (sigma * grad))
+    if lim.max_yaw_accel_radps2 is not None:
+        caps["max_yaw_accel_dps2"] = math.sqrt((1.0 - ACCEL_SHARE) * lim.max_yaw_accel_radps2
+                                               / sigma)
+    if lim.max_steer_rate_radps is not None:
+        g = _steer_per_curvature(drive, seg)
+        if g > 0.0:
+            caps["max_steer_rate_dps"] = lim.max_steer_rate_radps / (sigma * g)
+    return caps
+
+
+def _turning_line(seg: Segment) -> bool:
+    return seg.kind == "line" and seg.turn_rad != 0.0 and seg.length_m > 0.0
+
+
+def _turning_line_caps(drive: DriveModel, seg: Segment, lim: Limits) -> dict[str, float]:
+    """Speed caps on a holonomic line whose body turns: the body-frame course ``phi`` changes
+    at ``v |turn| / L``, so a wheel's rate ``v rho(phi)`` changes at ``a rho + v^2 rho'(phi)
+    |turn| / L`` and a steered module's angle at ``v A'(phi) |turn| / L`` (both bounded over
+    the line on a grid of courses, the angles unwrapped over their half-turn flips)."""
+    caps: dict[str, float] = {}
+    w = seg.turn_rad / seg.length_m
+    phi0 = seg.course - seg.start[2]
+    phi = np.linspace(phi0, phi0 - seg.turn_rad, 129)
+    one = np.ones_like(phi)
+    cmd = drive.inverse(np.cos(phi), np.sin(phi), w * one)
+    dphi = float(phi[1] - phi[0]) if phi.size > 1 else 1.0
+    per_turn = abs(w)  # d phi / d s
+    if lim.max_wheel_accel_radps2 is not None:
+        rates = cmd.rates(drive.wheel_names)
+        if drive.steered_wheels:  # a module's rate changes sign where its angle flips
+            rates = np.abs(rates)
+        g = float(np.max(np.abs(np.diff(rates, axis=0)))) / abs(dphi) * _GRID_SLACK
+        if g > 0.0:
+            caps["max_wheel_accel_radps2"] = math.sqrt(
+                (1.0 - ACCEL_SHARE) * lim.max_wheel_accel_radps2 / (g * per_turn))
+    if lim.max_steer_rate_radps is not None and drive.steered_wheels:
+        g = max(float(np.max(np.abs(np.diff(np.unwrap(np.asarray(cmd.angle_rad[k]),
+                                                            period=math.pi)))))
+                for k in drive.steered_wheels) / abs(dphi) * _GRID_SLACK
+        if g > 0.0:
+            caps["max_steer_rate_dps"] = lim.max_steer_rate_radps / (g * per_turn)
+    return caps
+
+
+def _travel_accel(drive: DriveModel, seg: Segment, lim: Limits) -> tuple[float, float, str, str]:
+    """Acceleration and deceleration limits on a line, arc or clothoid, and the keys that set
+    them (module docstring: a clothoid, or a line whose body turns, leaves ``ACCEL_SHARE`` of
+    each rate limit to them)."""
+    share = ACCEL_SHARE if seg.kind == "clothoid" or _turning_line(seg) else 1.0
+    acc, dec = lim.max_accel_mps2, lim.max_decel_mps2
+    akey, dkey = "max_accel_mps2", "max_decel_mps2"
+    if seg.length_m <= 0.0:
+        return acc, dec, akey, dkey
+    lims = []
+    if lim.max_wheel_accel_radps2 is not None:
+        per = _per_unit(drive, seg)
+        if per > 0.0:
+            lims.append((share * lim.max_wheel_accel_radps2 / per, "max_wheel_accel_radps2"))
+    k = seg.max_abs_curvature if seg.kind == "clothoid" else abs(seg.curvature)
+    if seg.kind == "line" and seg.length_m > 0.0:
+        k = abs(seg.turn_rad) / seg.length_m
+    if lim.max_yaw_accel_radps2 is not None and k > 0.0:
+        lims.append((share * lim.max_yaw_accel_radps2 / k, "max_yaw_accel_dps2"))
+    for v, key in lims:
+        if v < acc:
+            acc, akey = v, key
+        if v < dec:
+            dec, dkey = v, key
+    return acc, dec, akey, dkey
 
 
 def _pivot_caps(drive: DriveModel, lim: Limits) -> tuple[float, str]:
@@ -302,6 +468,58 @@ def _pivot_caps(drive: DriveModel, lim: Limits) -> tuple[float, str]:
         caps["max_speed_mps"] = lim.max_speed_mps / drive.pivot_lever_m()
     key = min(caps, key=caps.get)
     return caps[key], key
+
+
+def _pivot_accel(drive: DriveModel, lim: Limits) -> tuple[float, float, str, str]:
+    """Yaw acceleration and deceleration limits of a pivot (rad/s^2) and the keys."""
+    lever = drive.pivot_lever_m()
+    acc, dec = lim.max_accel_mps2 / lever, lim.max_decel_mps2 / lever
+    akey, dkey = "max_accel_mps2", "max_decel_mps2"
+    lims = []
+    if lim.max_wheel_accel_radps2 is not None:
+        lims.append((drive.max_pivot_yaw_rate(lim.max_wheel_accel_radps2),
+                     "max_wheel_accel_radps2"))
+    if lim.max_yaw_accel_radps2 is not None:
+        lims.append((lim.max_yaw_accel_radps2, "max_yaw_accel_dps2"))
+    for v, key in lims:
+        if v < acc:
+            acc, akey = v, key
+        if v < dec:
+            dec, dkey = v, key
+    return acc, dec, akey, dkey
+
+
+def _end_curvature(seg: Segment, end: bool) -> float:
+    if seg.kind == "clothoid":
+        return seg.kappa1 if end else seg.kappa0
+    if seg.kind == "line" and seg.length_m > 0.0:
+        return seg.turn_rad / seg.length_m  # a holonomic line's yaw per metre
+    return seg.curvature
+
+
+def joint_angles(drive: DriveModel, seg: Segment, end: bool) -> dict:
+    """Steered-wheel angles (rad) at the start or end of a line, arc or clothoid, from its
+    direction of travel and curvature (a wheel at rest points where it must go)."""
+    k = _end_curvature(seg, end)
+    if seg.kind == "line" and (seg.course_rad is not None or seg.turn_rad != 0.0):
+        phi = seg.course - (seg.start[2] + (seg.turn_rad if end else 0.0))
+        return drive.inverse(np.cos(phi), np.sin(phi), k).angle_rad
+    d = float(seg.direction)
+    return drive.inverse(d, 0.0, d * k).angle_rad
+
+
+def _steer_step(drive: DriveModel, a: Segment, b: Segment) -> float:
+    """Largest steered-wheel angle change (rad) across the joint of ``a`` and ``b``."""
+    if not drive.steered_wheels or a.kind == "pivot" or b.kind == "pivot":
+        return 0.0
+    ea, sb = joint_angles(drive, a, True), joint_angles(drive, b, False)
+    return max(abs(float(ea[w]) - float(sb[w])) for w in drive.steered_wheels)
+
+
+def _curvature_step(a: Segment, b: Segment) -> bool:
+    if a.kind == "pivot" or b.kind == "pivot":
+        return False
+    return abs(_end_curvature(a, True) - _end_curvature(b, False)) > _STEP_PER_M
 
 
 def _course_at(seg: Segment, end: bool) -> float:
@@ -319,7 +537,9 @@ def _must_rest(a: Segment, b: Segment) -> bool:
 
 # -- the profile ----------------------------------------------------------------------------
 def speed_profile(segments: Sequence[Segment], drive: DriveModel,
-                  limits: Limits) -> SpeedProfile:
+                  limits: Limits, caps: Sequence[tuple[float, str] | None] | None = None,
+                  rest_before: frozenset[int] = frozenset(),
+                  dwell_s: Sequence[float] | None = None) -> SpeedProfile:
     """The fastest speed profile along ``segments`` within ``limits``.
 
     Parameters
@@ -330,6 +550,13 @@ def speed_profile(segments: Sequence[Segment], drive: DriveModel,
         Gives every wheel's rate for the wheel-rate limit.
     limits : Limits
         See :meth:`Limits.from_chassis`.
+    caps : sequence, optional
+        Per segment, a further speed cap ``(m/s, binding name)`` or ``None`` (slow zones,
+        :mod:`kinematics.timing.zones`).
+    rest_before : set of int
+        Segments before which the chassis comes to rest (stops).
+    dwell_s : sequence of float, optional
+        Per segment, time standing still before it (s), on top of any steering hold.
 
     Returns
     -------
@@ -357,29 +584,45 @@ def speed_profile(segments: Sequence[Segment], drive: DriveModel,
     dec = np.zeros(n)
     yaw_per = np.zeros(n)
     binding = []
+    akeys, dkeys = [], []
     for i, s in enumerate(segs):
         if s.kind == "pivot":
             if not drive.can_pivot:
                 raise ValueError(f"segment {i}: a {drive.name} drive cannot turn on the spot")
             c, key = _pivot_caps(drive, limits)
-            lever = drive.pivot_lever_m()
             amount[i] = abs(s.turn_rad)
-            acc[i] = limits.max_accel_mps2 / lever
-            dec[i] = limits.max_decel_mps2 / lever
+            acc[i], dec[i], ak, dk = _pivot_accel(drive, limits)
             yaw_per[i] = math.copysign(1.0, s.turn_rad)
         else:
             c, key = _travel_caps(drive, s, limits)
             amount[i] = s.length_m
-            acc[i] = limits.max_accel_mps2
-            dec[i] = limits.max_decel_mps2
+            acc[i], dec[i], ak, dk = _travel_accel(drive, s, limits)
             yaw_per[i] = s.turn_rad / s.length_m if s.length_m > 0 else 0.0
+            if caps is not None and caps[i] is not None and caps[i][0] < c:
+                c, key = caps[i]
         cap[i] = c
         binding.append(key)
+        akeys.append(ak)
+        dkeys.append(dk)
 
-    # Joint speeds: rest at the ends, cusps and pivots; else the lower neighbour cap.
+    # Joint speeds: rest at the ends, cusps, pivots and watched curvature steps; else the
+    # lower neighbour cap. A steer angle step also waits while the wheels steer.
     node = np.zeros(n + 1)
+    hold = np.zeros(n)
+    watch_rates = limits.max_wheel_accel_radps2 is not None or \
+        limits.max_yaw_accel_radps2 is not None
     for j in range(1, n):
-        node[j] = 0.0 if _must_rest(segs[j - 1], segs[j]) else min(cap[j - 1], cap[j])
+        a, b = segs[j - 1], segs[j]
+        rest = _must_rest(a, b) or (watch_rates and _curvature_step(a, b)) or \
+            j in rest_before
+        if limits.max_steer_rate_radps is not None:
+            step = _steer_step(drive, a, b)
+            if step > _STEER_STEP_RAD:
+                rest = True
+                hold[j] = step / limits.max_steer_rate_radps
+        node[j] = 0.0 if rest else min(cap[j - 1], cap[j])
+    if dwell_s is not None:
+        hold = hold + np.asarray(dwell_s, dtype=float)
     for i in range(n):  # forward: what acceleration allows
         node[i + 1] = min(node[i + 1], math.sqrt(node[i] ** 2 + 2.0 * acc[i] * amount[i]))
     for i in range(n - 1, -1, -1):  # backward: what deceleration allows
@@ -390,9 +633,37 @@ def speed_profile(segments: Sequence[Segment], drive: DriveModel,
     for i in range(n):
         dur[i], peak[i] = trapezoid_duration(amount[i], node[i], node[i + 1], cap[i], acc[i],
                                              dec[i])
-    t0 = np.concatenate([[0.0], np.cumsum(dur)[:-1]]) if n else np.zeros(0)
+    t0 = np.cumsum(np.concatenate([[0.0], dur[:-1]]) + hold) if n else np.zeros(0)
+    real = _real_binding(binding, akeys, dkeys, cap, peak, node)
     return SpeedProfile(segs, t0, dur, amount, node[:-1].copy(), peak, node[1:].copy(), acc, dec,
-                        cap, tuple(binding), yaw_per, segment_stations(segs)[:-1], limits)
+                        cap, tuple(real), yaw_per, segment_stations(segs)[:-1], limits,
+                        tuple(binding), hold)
+
+
+def _real_binding(cap_keys: list[str], akeys: list[str], dkeys: list[str],
+                  cap: NDArray[np.float64], peak: NDArray[np.float64],
+                  node: NDArray[np.float64]) -> list[str]:
+    """The limit that really sets each piece's fastest speed (module docstring)."""
+    out = []
+    n = len(cap_keys)
+    for i in range(n):
+        rel = 1e-9 * max(1.0, float(cap[i]))
+        v0, v1 = float(node[i]), float(node[i + 1])
+        if peak[i] >= cap[i] - rel:
+            out.append(cap_keys[i])
+        elif peak[i] > v0 + rel and peak[i] > v1 + rel:
+            # A triangle: it speeds up as fast as it may, then slows down as fast as it may;
+            # the lower of the two is the one that cost time.
+            out.append(akeys[i])
+        elif peak[i] > v1 + rel:
+            out.append(dkeys[i])   # entered at its fastest, slows for what follows
+        elif peak[i] > v0 + rel:
+            out.append(akeys[i])   # speeds up all the way to its end
+        else:
+            # Constant below its cap: a neighbour's cap held the joints.
+            j = i + 1 if i + 1 < n and v1 >= cap[i + 1] - rel else i - 1
+            out.append(cap_keys[j] if 0 <= j < n else akeys[i])
+    return out
 
 
 def profile_for(segments: Sequence[Segment], chassis) -> SpeedProfile:

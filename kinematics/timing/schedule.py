@@ -6,9 +6,12 @@ speeds and the rate of every wheel (and the angle of every steered wheel) at the
 cruise speed; for a holonomic line that turns the body, the wheels are given at the middle of
 the line, where the body is halfway through its turn. Samples every ``dt_s`` give pose, speed
 and every wheel's rate and angle; they also fall on every joint and every end of a speed ramp,
-and a joint is sampled twice (the end of one segment, the start of the next), so the wheel
-rates between two neighbouring samples are linear in time on lines, arcs and pivots, and a
-step in the rates (a line meeting an arc) shows as two samples at one time.
+so the wheel rates between two neighbouring samples are linear in time on lines, arcs and
+pivots. ``t_s`` is strictly increasing: a joint is one sample, taken as the start of the later
+segment, so a real step in the rates (a line meeting an arc at speed, transitions off) shows
+as the change between two neighbouring samples, never as two rows at one time. Where the
+chassis stands at a joint while its wheels steer (``SpeedProfile.hold_s``) the samples show
+the steer angles turning linearly in time, at the steer-rate limit.
 
 Rates are signed: reverse travel gives negative rates. A steered wheel at rest shows the angle
 its segment needs, taken from the direction of travel, so the angles never jump to zero.
@@ -19,6 +22,7 @@ from __future__ import annotations
 
 import csv
 import io
+import json
 import math
 from collections.abc import Sequence
 from dataclasses import dataclass
@@ -27,9 +31,13 @@ import numpy as np
 from numpy.typing import NDArray
 
 from kinematics.errors import ValidationError
+from kinematics.files.floorplan import Zone
+from kinematics.files.project import Route
+from kinematics.motion.arrays import unique_sorted
 from kinematics.motion.drives import DriveModel, drive_for
 from kinematics.motion.segments import Segment
-from kinematics.timing.profile import Limits, SpeedProfile, speed_profile
+from kinematics.timing.profile import Limits, SpeedProfile, joint_angles, speed_profile
+from kinematics.timing.zones import SLOW_ZONE, RoutePieces, StopAt, split_route
 
 SEGMENT_COLUMNS = ("index", "kind", "t0_s", "duration_s", "length_m", "v_start_mps",
                    "v_cruise_mps", "v_end_mps", "yaw_rate_dps", "turn_deg", "radius_m",
@@ -52,6 +60,10 @@ class Samples:
     omega_radps: NDArray[np.float64]
     rate_radps: dict[str, NDArray[np.float64]]
     angle_rad: dict[str, NDArray[np.float64]]
+    #: A train's trailers at each sample: shape (samples, trailers, 4) holding x, y (axle
+    #: midpoint), heading and hitch angle (to the body ahead), radians; ``None`` without.
+    trailers: NDArray[np.float64] | None = None
+    trailer_names: tuple[str, ...] = ()
 
 
 @dataclass(frozen=True)
@@ -65,10 +77,30 @@ class Schedule:
     cruise_angle_rad: dict[str, NDArray[np.float64]]    # per steered wheel
     samples: Samples
     dt_s: float
+    chassis: object = None
+    pieces: RoutePieces | None = None  # slow zones and stops: how the plan was cut
 
     @property
     def segments(self) -> tuple[Segment, ...]:
         return self.profile.segments
+
+    @property
+    def stops(self) -> tuple[StopAt, ...]:
+        return () if self.pieces is None else self.pieces.stops
+
+    def stop_rows(self) -> list[dict]:
+        """Each stop with where it is and when the chassis arrives (``t_s``)."""
+        out = []
+        p = self.profile
+        for st in self.stops:
+            k = int(np.searchsorted(p.station0_m, st.station_m - 1e-9, side="left"))
+            if k < len(p.segments):
+                hold = 0.0 if p.hold_s is None else float(p.hold_s[k])
+                t = float(p.t0_s[k]) - hold
+            else:
+                t = p.total_time_s
+            out.append(st.to_dict() | {"t_s": t})
+        return out
 
 
 def _segment_unit_twists(profile: SpeedProfile) -> NDArray[np.float64]:
@@ -87,31 +119,53 @@ def _segment_unit_twists(profile: SpeedProfile) -> NDArray[np.float64]:
     return out
 
 
-def _sample_plan(profile: SpeedProfile, dt_s: float) -> tuple[NDArray, NDArray]:
-    """(segment index, local time) of every sample, in time order."""
+#: Sample times closer than this (s) are one sample.
+SAMPLE_MERGE_S = 1e-9
+
+
+def sample_times(profile: SpeedProfile, dt_s: float) -> NDArray[np.float64]:
+    """Every sample time: the ``dt_s`` grid, the joints and ramp ends, and the end; strictly
+    increasing (times within ``SAMPLE_MERGE_S`` of an earlier one are dropped)."""
     total = profile.total_time_s
     grid = np.arange(0.0, total + 0.5 * dt_s, dt_s)
-    grid = grid[grid < total - 1e-9]
-    times = np.unique(np.concatenate([grid, profile.breakpoints_s(), [total]]))
-    idx_out, tau_out = [], []
+    grid = grid[grid < total - SAMPLE_MERGE_S]
+    times = unique_sorted(np.concatenate([grid, profile.breakpoints_s(), [total]]))
+    keep = np.ones(times.size, dtype=bool)
+    last = -np.inf
+    for k, t in enumerate(times):
+        if t - last <= SAMPLE_MERGE_S:
+            keep[k] = False
+        else:
+            last = t
+    if times.size and not keep[-1]:  # the end itself stays
+        keep[np.flatnonzero(keep)[-1]] = False
+        keep[-1] = True
+    return times[keep]
+
+
+def _sample_plan(profile: SpeedProfile, dt_s: float) -> tuple[NDArray, NDArray]:
+    """(segment index, local time) of every sample, in time order; a time before a
+    segment's start (``tau < 0``) is its hold, standing at its start."""
     n = len(profile.segments)
-    for i in range(n):
-        t0, dur = float(profile.t0_s[i]), float(profile.duration_s[i])
-        if dur <= 0.0:
-            continue
-        inside = times[(times > t0 + 1e-9) & (times < t0 + dur - 1e-9)]
-        tau = np.concatenate([[0.0], inside - t0, [dur]]) if dur > 0 else np.array([0.0])
-        idx_out.append(np.full(tau.size, i))
-        tau_out.append(tau)
-    if not idx_out:  # nothing moves: one sample at the start, if there is a route at all
+    moving = np.flatnonzero(profile.duration_s > 0.0) if n else np.zeros(0, dtype=np.int64)
+    if moving.size == 0:  # nothing moves: one sample at the start, if there is a route at all
         k = min(n, 1)
         return np.zeros(k, dtype=np.int64), np.zeros(k)
-    return np.concatenate(idx_out).astype(np.int64), np.concatenate(tau_out)
+    times = sample_times(profile, dt_s)
+    hold = profile.hold_s if profile.hold_s is not None else np.zeros(n)
+    starts = profile.t0_s[moving] - hold[moving]
+    starts[0] = -np.inf
+    pos = np.searchsorted(starts, times + SAMPLE_MERGE_S, side="right") - 1
+    idx = moving[np.clip(pos, 0, moving.size - 1)]
+    tau = times - profile.t0_s[idx]
+    # Rounding at the end of each segment: the end time itself is the last segment's end.
+    tau[-1] = profile.duration_s[idx[-1]]
+    return idx.astype(np.int64), tau
 
 
 def _poses(profile: SpeedProfile, idx: NDArray, progress: NDArray) -> NDArray[np.float64]:
     out = np.zeros((idx.size, 3))
-    for i in np.unique(idx):
+    for i in unique_sorted(idx):
         m = idx == i
         seg = profile.segments[i]
         amount = profile.amount[i]
@@ -121,7 +175,8 @@ def _poses(profile: SpeedProfile, idx: NDArray, progress: NDArray) -> NDArray[np
 
 
 def build_schedule(route_name: str, segments: Sequence[Segment], chassis,
-                   dt_s: float = 0.1) -> Schedule:
+                   dt_s: float = 0.1, zones: Sequence[Zone] = (),
+                   route: Route | None = None) -> Schedule:
     """The wheel-rate schedule of a planned route.
 
     Parameters
@@ -133,6 +188,10 @@ def build_schedule(route_name: str, segments: Sequence[Segment], chassis,
         Drive type, dimensions and limits.
     dt_s : float
         Sample interval, s (samples also fall on joints and ends of speed ramps).
+    zones : sequence of Zone
+        The floor plan's zones; ``slow`` ones cap the speed (:mod:`kinematics.timing.zones`).
+    route : Route, optional
+        Its ``stops``: the chassis rests there and waits.
 
     Returns
     -------
@@ -146,7 +205,16 @@ def build_schedule(route_name: str, segments: Sequence[Segment], chassis,
     if not (isinstance(dt_s, (int, float)) and math.isfinite(dt_s) and dt_s > 0):
         raise ValidationError("<schedule>", "dt_s", f"a positive time step in s, got {dt_s!r}")
     drive = drive_for(chassis)
-    prof = speed_profile(segments, drive, Limits.from_chassis(chassis))
+    pieces = None
+    stops = tuple(getattr(route, "stops", ()) or ())
+    if stops or any(z.kind == "slow" for z in zones):
+        pieces = split_route(segments, chassis.footprint, zones,
+                             route.waypoints if route is not None else (), stops)
+        prof = speed_profile(pieces.pieces, drive, Limits.from_chassis(chassis),
+                             caps=[None if c is None else (c, SLOW_ZONE) for c in pieces.cap],
+                             rest_before=pieces.rest_before, dwell_s=pieces.dwell_s)
+    else:
+        prof = speed_profile(segments, drive, Limits.from_chassis(chassis))
     n = len(prof.segments)
 
     unit = _segment_unit_twists(prof)
@@ -161,19 +229,92 @@ def build_schedule(route_name: str, segments: Sequence[Segment], chassis,
     vx, vy = st.v_mps * ux, st.v_mps * uy
     pose = _poses(prof, idx, st.progress)
     # Angles from the direction of travel so a wheel at rest already points where it must go.
-    dir_cmd = drive.inverse(ux, uy, prof.yaw_per_progress[idx] if n else np.zeros(0))
-    cmd = drive.inverse(vx, vy, st.omega_radps, hold_angles=dir_cmd.angle_rad)
+    ypp = prof.yaw_per_progress[idx].copy() if n else np.zeros(0)
+    for i in np.unique(idx):  # a clothoid's yaw per metre follows its curvature
+        seg = prof.segments[i]
+        if seg.kind == "clothoid":
+            m = idx == i
+            ypp[m] = seg.direction * seg.curvature_at(st.progress[m])
+    omega = st.rate * ypp
+    dir_cmd = drive.inverse(ux, uy, ypp)
+    _steer_in_holds(prof, drive, idx, tau, dir_cmd.angle_rad)
+    cmd = drive.inverse(vx, vy, omega, hold_angles=dir_cmd.angle_rad)
     samples = Samples(
         t_s=prof.t0_s[idx] + tau if n else np.zeros(0), segment=idx, station_m=st.station_m,
         x=pose[:, 0], y=pose[:, 1], heading_rad=pose[:, 2], v_mps=st.v_mps, vx_mps=vx,
-        vy_mps=vy, omega_radps=st.omega_radps,
+        vy_mps=vy, omega_radps=omega,
         rate_radps={k: np.asarray(cmd.rate_radps[k]) for k in drive.wheel_names},
         angle_rad={k: np.asarray(dir_cmd.angle_rad[k]) for k in drive.steered_wheels},
+        **_trailer_samples(prof, chassis, idx, st.progress),
     )
     return Schedule(route_name, drive, prof,
                     {k: np.asarray(cruise_cmd.rate_radps[k]) for k in drive.wheel_names},
                     {k: np.asarray(unit_cmd.angle_rad[k]) for k in drive.steered_wheels},
-                    samples, float(dt_s))
+                    samples, float(dt_s), chassis, pieces)
+
+
+def _steer_in_holds(prof: SpeedProfile, drive: DriveModel, idx: NDArray, tau: NDArray,
+                    angles: dict) -> None:
+    """Steer angles of samples in a hold (``tau < 0``): linear in time from the previous
+    segment's end angles to this segment's start angles, in place."""
+    if prof.hold_s is None or not drive.steered_wheels:
+        return
+    for i in np.unique(idx[tau < 0.0]):
+        h = float(prof.hold_s[i])
+        if h <= 0.0 or i == 0:
+            continue
+        a, b = prof.segments[i - 1], prof.segments[i]
+        m = (idx == i) & (tau < 0.0)
+        f = np.clip(1.0 + tau[m] / h, 0.0, 1.0)
+        ea, sb = joint_angles(drive, a, True), joint_angles(drive, b, False)
+        for w in drive.steered_wheels:
+            angles[w][m] = float(ea[w]) + f * (float(sb[w]) - float(ea[w]))
+
+
+def _trailer_samples(profile: SpeedProfile, chassis, idx: NDArray, progress: NDArray) -> dict:
+    """The trailers' poses and hitch angles at the samples (nothing for a lone chassis)."""
+    trailers = tuple(getattr(chassis, "trailers", ()) or ())
+    if not trailers or not profile.segments or idx.size == 0:
+        return {}
+    from kinematics.motion.trailers import hitch_angles, trace_train
+
+    trace = trace_train(profile.segments, trailers)
+    out = np.zeros((idx.size, len(trailers), 4))
+    for i in np.unique(idx).tolist():
+        m = idx == i
+        amount = profile.amount[i]
+        f = progress[m] / amount if amount > 0 else np.ones(int(m.sum()))
+        poses = trace.poses(i, np.clip(f, 0.0, 1.0) * trace.amount(i))
+        out[m, :, :3] = poses[:, 1:]
+        out[m, :, 3] = hitch_angles(poses)
+    return {"trailers": out, "trailer_names": tuple(t.name for t in trailers)}
+
+
+def trailer_sample_columns(s: Schedule) -> list[str]:
+    """Per-sample CSV columns of a train's trailers (``trailer1_x`` ... ``trailer1_hitch_deg``;
+    none for a lone chassis)."""
+    return [f"trailer{j + 1}_{k}" for j in range(len(s.samples.trailer_names))
+            for k in ("x", "y", "heading_deg", "hitch_deg")]
+
+
+def trailer_sample_cells(s: Schedule, k: int) -> list[float]:
+    """The values of :func:`trailer_sample_columns` at sample ``k``."""
+    tr = s.samples.trailers
+    if tr is None:
+        return []
+    out: list[float] = []
+    for j in range(tr.shape[1]):
+        x, y, th, hitch = tr[k, j]
+        out += [float(x), float(y), math.degrees(float(th)), math.degrees(float(hitch))]
+    return out
+
+
+def _trailer_dicts(s: Schedule, k: int) -> list[dict]:
+    tr = s.samples.trailers
+    return [{"name": n, "x": float(tr[k, j, 0]), "y": float(tr[k, j, 1]),
+             "heading_deg": math.degrees(float(tr[k, j, 2])),
+             "hitch_deg": math.degrees(float(tr[k, j, 3]))}
+            for j, n in enumerate(s.samples.trailer_names)]
 
 
 # -- export ---------------------------------------------------------------------------------
@@ -219,19 +360,37 @@ def schedule_to_dict(s: Schedule) -> dict:
     segs = []
     for i in range(len(p.segments)):
         row = _segment_scalars(s, i)
+        seg = p.segments[i]
+        if seg.kind == "clothoid":
+            row["curvature_start_per_m"] = seg.kappa0
+            row["curvature_end_per_m"] = seg.kappa1
         row["wheels"] = _wheels(s.drive, s.cruise_rate_radps, s.cruise_angle_rad, i)
+        if s.pieces is not None:
+            row["plan_segment"] = s.pieces.plan_segment[i]
+            if s.pieces.zone[i]:
+                row["slow_zone"] = s.pieces.zone[i]
         segs.append(row)
     sm = s.samples
+    curv = sample_curvature(s)
     samples = []
     for k in range(sm.t_s.size):
-        samples.append({
+        if s.pieces is not None:
+            samples.append({"plan_segment": s.pieces.plan_segment[int(sm.segment[k])]})
+        else:
+            samples.append({})
+        samples[-1].update({
             "t_s": float(sm.t_s[k]), "segment": int(sm.segment[k]),
             "station_m": float(sm.station_m[k]), "x": float(sm.x[k]), "y": float(sm.y[k]),
             "heading_deg": math.degrees(float(sm.heading_rad[k])), "v_mps": float(sm.v_mps[k]),
             "yaw_rate_dps": math.degrees(float(sm.omega_radps[k])),
+            "x_m": float(sm.x[k]), "y_m": float(sm.y[k]),
+            "curvature_per_m": float(curv[k]),
             "wheels": _wheels(s.drive, sm.rate_radps, sm.angle_rad, k),
         })
-    return {
+        if sm.trailers is not None:
+            samples[-1]["trailers"] = _trailer_dicts(s, k)
+    out = {
+        "meta": schedule_meta(s),
         "route": s.route,
         "drive": s.drive.name,
         "duration_s": p.total_time_s,
@@ -248,6 +407,108 @@ def schedule_to_dict(s: Schedule) -> dict:
         "segments": segs,
         "samples": samples,
     }
+    if s.pieces is not None:
+        out["stops"] = s.stop_rows()
+    return out
+
+
+def sample_curvature(s: Schedule) -> NDArray[np.float64]:
+    """Signed path curvature (1/m) at each sample (0 in pivots and on holonomic lines)."""
+    sm = s.samples
+    out = np.zeros(sm.t_s.size)
+    p = s.profile
+    for i in np.unique(sm.segment):
+        seg = p.segments[int(i)]
+        m = sm.segment == i
+        if seg.kind in ("arc", "clothoid"):
+            out[m] = seg.curvature_at(np.clip(sm.station_m[m] - p.station0_m[int(i)], 0.0,
+                                              seg.length_m))
+    return out
+
+
+#: Columns of the sampled CSV before the wheels (each carries its unit).
+SAMPLE_COLUMNS = ("t_s", "segment", "station_m", "x_m", "y_m", "heading_deg", "v_mps",
+                  "yaw_rate_dps", "curvature_per_m")
+
+
+def sample_columns(drive: DriveModel) -> list[str]:
+    """The sampled CSV's header row: sample scalars, wheel rates, steered-wheel angles."""
+    return (list(SAMPLE_COLUMNS) + [f"{n}_rate_radps" for n in drive.wheel_names]
+            + [f"{n}_angle_deg" for n in drive.steered_wheels])
+
+
+def schedule_meta(s: Schedule) -> dict:
+    """What a controller needs to know about a schedule besides its rows: the chassis
+    geometry and limits, the units, the route, its length and duration, the Swathe version."""
+    from kinematics import __version__
+
+    c = s.chassis
+    geometry: dict = {}
+    limits: dict = {}
+    if c is not None:
+        for key in ("drive", "wheel_radius_m", "track_m", "wheelbase_m", "max_steer_deg",
+                    "effective_track_factor", "margin_m"):
+            v = getattr(c, key, None)
+            if v is not None:
+                geometry[key] = v
+        geometry["footprint"] = [list(pt) for pt in c.footprint]
+        for key in ("max_speed_mps", "max_accel_mps2", "max_decel_mps2",
+                    "max_wheel_rate_radps", "max_lateral_accel_mps2", "max_yaw_rate_dps",
+                    "max_steer_rate_dps", "max_wheel_accel_radps2", "max_yaw_accel_dps2",
+                    "min_turn_radius_m"):
+            limits[key] = getattr(c, key, None)
+    p = s.profile
+    return {
+        "swathe_version": __version__,
+        "route": s.route,
+        "drive": s.drive.name,
+        "chassis_name": getattr(c, "name", None),
+        "length_m": float(sum(seg.length_m for seg in p.segments)),
+        "duration_s": p.total_time_s,
+        "dt_s": s.dt_s,
+        "samples": int(s.samples.t_s.size),
+        "chassis": geometry,
+        "limits": limits,
+        "units": {"t_s": "s", "station_m": "m", "x_m": "m", "y_m": "m", "x": "m", "y": "m",
+                  "heading_deg": "deg, counter-clockwise from +x", "v_mps": "m/s",
+                  "yaw_rate_dps": "deg/s", "curvature_per_m": "1/m",
+                  "rate_radps": "rad/s, signed", "angle_deg": "deg, body frame"},
+        "columns": sample_columns(s.drive),
+        "note": "t_s strictly increasing; rows every dt_s and at joints and ramp ends",
+    }
+
+
+def samples_to_csv(s: Schedule) -> str:
+    """The sampled schedule as CSV: ``#`` comment lines (:func:`schedule_meta`), a header row
+    (:func:`sample_columns`), then one row per sample, ``t_s`` strictly increasing."""
+    meta = schedule_meta(s)
+
+    def dumps(v: object) -> str:
+        return json.dumps(v, separators=(", ", ": "))
+
+    buf = io.StringIO()
+    buf.write("# Swathe sampled wheel schedule (planning aid, not a safety certification)\n")
+    for key in ("swathe_version", "route", "drive", "chassis_name", "length_m", "duration_s",
+                "dt_s", "samples"):
+        buf.write(f"# {key}: {meta[key]}\n")
+    buf.write(f"# chassis: {dumps(meta['chassis'])}\n")
+    buf.write(f"# limits: {dumps(meta['limits'])}\n")
+    buf.write("# units: " + "; ".join(f"{k} {v}" for k, v in meta["units"].items()) + "\n")
+    buf.write("# columns: " + ", ".join(meta["columns"]) + "\n")
+    w = csv.writer(buf, lineterminator="\n")
+    w.writerow(sample_columns(s.drive))
+    sm = s.samples
+    curv = sample_curvature(s)
+    for k in range(sm.t_s.size):
+        cells = [_cell(float(sm.t_s[k])), str(int(sm.segment[k])), _cell(float(sm.station_m[k])),
+                 _cell(float(sm.x[k])), _cell(float(sm.y[k])),
+                 _cell(math.degrees(float(sm.heading_rad[k]))), _cell(float(sm.v_mps[k])),
+                 _cell(math.degrees(float(sm.omega_radps[k]))), _cell(float(curv[k]))]
+        cells += [_cell(float(sm.rate_radps[n][k])) for n in s.drive.wheel_names]
+        cells += [_cell(math.degrees(float(sm.angle_rad[n][k])))
+                  for n in s.drive.steered_wheels]
+        w.writerow(cells)
+    return buf.getvalue()
 
 
 def csv_columns(drive: DriveModel) -> list[str]:
@@ -284,7 +545,8 @@ def schedule_series(s: Schedule) -> dict:
     -------
     dict
         ``t_s``, ``station_m``, ``v_mps``, ``omega_radps``, ``segment``, ``x``, ``y``,
-        ``heading_deg``; ``rate_radps`` and ``angle_deg`` (dicts by wheel name); ``limits``:
+        ``heading_deg``; ``rate_radps`` and ``angle_deg`` (dicts by wheel name); ``hitch_deg``
+        (by trailer name); ``limits``:
         the scalar chassis limits (``None`` where absent) and ``speed_cap_mps``, the speed cap
         of each sample's segment (NaN in pivots), with ``yaw_cap_radps`` (NaN off pivots).
     """
@@ -299,6 +561,10 @@ def schedule_series(s: Schedule) -> dict:
         "heading_deg": np.degrees(sm.heading_rad),
         "rate_radps": dict(sm.rate_radps),
         "angle_deg": {k: np.degrees(v) for k, v in sm.angle_rad.items()},
+        # A train's hitch angles by trailer name, degrees (empty for a lone chassis).
+        "hitch_deg": ({} if sm.trailers is None else
+                      {n: np.degrees(sm.trailers[:, j, 3])
+                       for j, n in enumerate(sm.trailer_names)}),
         "limits": {
             "max_speed_mps": lim.max_speed_mps,
             "max_wheel_rate_radps": lim.max_wheel_rate_radps,

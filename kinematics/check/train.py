@@ -1,0 +1,519 @@
+"""Sweep and check of a whole train: the tug and every towed trailer.
+
+The tug is checked as any chassis (:mod:`kinematics.check.clearance`). Each trailer's motion
+comes from :mod:`kinematics.motion.trailers`; it is not a rotation about a fixed centre, so it
+is swept in **chunks**, each as the rigid motion (a rotation about the fixed point carrying the
+chunk's first pose to its last, or a translation when the chunk barely turns) that
+:mod:`kinematics.check.sweep` sweeps conservatively, grown by how far the true motion strays
+from that stand-in:
+
+- the stray is measured at fine samples of the chunk (the trailer's pose against the
+  stand-in's pose at the same fraction of progress): the axle's distance plus the farthest
+  footprint radius times the heading difference, which bounds every footprint point's
+  distance because both are rigid placements;
+- between fine samples ``delta`` apart the stray can grow by at most ``delta^2 / 8 * M``
+  (the linear-interpolation error bound), ``M`` bounding the second derivative of any
+  footprint point's path, true and stand-in, derived along the chain from the tug's speed and
+  turn rate on the segment (hitch speed ``P = V + |h| W``, turn rate ``P / d``, and their
+  derivatives);
+- a chunk grows (doubling, then bisection) while its stray stays within a share of the
+  tolerance; the rotation is drawn within the rest.
+
+So each trailer's band CONTAINS its true swept region and exceeds it by at most the tolerance,
+the promise the single body makes; the train's band is the union of its bodies' bands, and its
+clearance is the least over its bodies (each against its own margin). Violations of a train
+name their ``body`` ("tug (ward tug)", "trailer 2 (meal cart)"); a hitch angle beyond a
+trailer's ``max_hitch_deg`` is a ``jackknife``.
+"""
+
+from __future__ import annotations
+
+import dataclasses
+import math
+from collections.abc import Sequence
+from dataclasses import dataclass
+from typing import Any
+
+import numpy as np
+import shapely
+
+from kinematics.check.clearance import ObstacleIndex, check_route
+from kinematics.check.contact import nearest_point, overlap_depth, part_name, to_body
+from kinematics.check.results import DoorPass, RouteCheck, Violation
+from kinematics.check.segment_parts import SweptParts
+from kinematics.check.sweep import (
+    _QUAD_SEGS,
+    DEFAULT_TOLERANCE_M,
+    MAX_CHUNK_RAD,
+    Footprint,
+    _place_one,
+    _polys,
+    placed_footprints,
+    prepare_footprint,
+    rotation_parts,
+    translation_parts,
+)
+from kinematics.motion.segments import Segment, segment_stations
+from kinematics.motion.trailers import Hitch, TrainTrace, TugMotion, hitch_angles, trace_train
+
+#: Shares of the tolerance: the stray of a chunk (measured plus between-sample slack), and
+#: of that the between-sample slack alone.
+_STRAY_SHARE = 0.3
+_SLACK_SHARE = 0.08
+#: Share of the tolerance under which a chunk's turn counts as a translation.
+_TINY_TURN_SHARE = 0.125
+#: Fine samples per segment at most (the grid step grows past this on very long segments).
+_MAX_SAMPLES = 20000
+
+
+def body_name(i: int, chassis: Any) -> str:
+    """The name a violation uses for body ``i`` of a train (0 the tug)."""
+    if i == 0:
+        return f"tug ({chassis.name})"
+    return f"trailer {i} ({chassis.trailers[i - 1].name})"
+
+
+def _bounds(m: TugMotion, hitches: Sequence[Hitch], r_far: Sequence[float]
+            ) -> list[tuple[float, float, float, float]]:
+    """Per trailer on one segment, per unit progress: speed bound of its axle ``V``, turn
+    rate ``W``, and ``M``, a bound of any footprint point's path's second derivative, true or
+    stand-in (see the module text)."""
+    V = m.speed_bound()
+    W = m.turn_bound()
+    Wd = abs(m.wd)
+    A = W * V if m.fixed is None else 0.0  # |d/dp velocity| of the tug's reference point
+    out = []
+    first = True
+    for hz, r in zip(hitches, r_far):
+        h = abs(hz.hitch_x_m)
+        # A trailer's velocity is along its heading, its turn moves the hitch across it:
+        # the two add at right angles (so does a non-holonomic tug's).
+        P = V + h * W if first and m.fixed is not None else math.hypot(V, h * W)
+        first = False
+        Pd = A + h * (Wd + W * W)
+        Wi = P / hz.drawbar_m
+        Wid = (Pd + P * Wi) / hz.drawbar_m
+        Ai = Pd + 2.0 * P * Wi
+        M = Ai + r * (Wid + Wi * Wi) + 1.12 * Wi * (P + r * Wi)
+        out.append((P, Wi, M, Ai, Wid))
+        V, W, Wd, A = P, Wi, Wid, Ai
+    return out
+
+
+@dataclass
+class Chunk:
+    """One swept piece of a trailer: on segment ``segment`` from progress ``p0`` to ``p1``."""
+
+    segment: int
+    p0: float
+    p1: float
+    parts: np.ndarray
+    poses: np.ndarray  # fine-sample poses of the trailer in the chunk (k, 3)
+
+
+def _centre(ax: float, ay: float, bx: float, by: float, phi: float) -> tuple[float, float]:
+    """Fixed point of the rotation by ``phi`` carrying ``(ax, ay)`` to ``(bx, by)``: on the
+    chord's bisector, half the chord over ``tan(phi / 2)`` from its middle."""
+    k = 0.5 / math.tan(0.5 * phi)
+    return (0.5 * (ax + bx) - k * (by - ay), 0.5 * (ay + by) + k * (bx - ax))
+
+
+def _stray(T: np.ndarray, th: np.ndarray, p: np.ndarray, k: int, e: int, r: float,
+           tiny: float, slack_u: float, curv: tuple[float, float, float]
+           ) -> tuple[float, bool, Any]:
+    """Largest distance of the trailer from the rigid stand-in over samples ``k..e`` plus the
+    slack between samples, whether the stand-in rotates, and its centre (or translation).
+
+    Each sample is paired with the stand-in placement at the same fraction of progress (its
+    stray: the axle's distance plus ``r`` times the heading difference), or, where the
+    heading turns one way through the chunk, with the stand-in placement of the same heading
+    (its stray: the axle's distance alone; the slack then grows with the stand-in's radius).
+    """
+    u = (p[k:e + 1] - p[k]) * (1.0 / (p[e] - p[k]))
+    phi = float(th[e] - th[k])
+    Tk = T[k]
+    seg = T[k:e + 1]
+    if abs(phi) * r <= tiny:
+        v = T[e] - Tk
+        dx = seg[:, 0] - Tk[0] - u * v[0]
+        dy = seg[:, 1] - Tk[1] - u * v[1]
+        dev = np.sqrt(dx * dx + dy * dy) + r * np.abs(th[k:e + 1] - th[k])
+        return float(dev.max()) + slack_u, False, v
+    qx, qy = _centre(float(Tk[0]), float(Tk[1]), float(T[e, 0]), float(T[e, 1]), phi)
+    rx, ry = Tk[0] - qx, Tk[1] - qy
+    rel = th[k:e + 1] - th[k]
+    best = math.inf
+    if e - k > 1 and bool(np.all(np.diff(rel) * phi >= 0.0)):
+        # Same heading: only the axle strays; slack dt^2/8 (A + rho (W' + W^2)).
+        rho = math.hypot(rx, ry)
+        slack_h = curv[0] * (curv[1] + rho * curv[2])
+        if slack_h < slack_u:
+            c, s = np.cos(rel), np.sin(rel)
+            dx = seg[:, 0] - (qx + c * rx - s * ry)
+            dy = seg[:, 1] - (qy + s * rx + c * ry)
+            best = float(np.sqrt(dx * dx + dy * dy).max()) + slack_h
+    a = u * phi
+    c, s = np.cos(a), np.sin(a)
+    dx = seg[:, 0] - (qx + c * rx - s * ry)
+    dy = seg[:, 1] - (qy + s * rx + c * ry)
+    dev = np.sqrt(dx * dx + dy * dy) + r * np.abs(rel - a)
+    return min(best, float(dev.max()) + slack_u), True, (qx, qy)
+
+
+def _next_chunk(T: np.ndarray, th: np.ndarray, p: np.ndarray, k: int, n: int, last: int,
+                r: float, tiny: float, slack: float, curv: tuple, budget: float
+                ) -> tuple[int, tuple]:
+    """The end sample of the chunk starting at ``k`` and its stray: grown from the last
+    chunk's length, doubling while its stray fits the budget, then bisected between the
+    longest that fits and the shortest that does not (one step always fits: its stray is the
+    slack alone)."""
+
+    def fits(e: int) -> tuple | None:
+        if abs(th[e] - th[k]) > MAX_CHUNK_RAD:
+            return None
+        info = _stray(T, th, p, k, e, r, tiny, slack, curv)
+        return info if info[0] <= budget else None
+
+    good, good_info, bad = k + 1, _stray(T, th, p, k, k + 1, r, tiny, slack, curv), None
+    e = min(n, k + max(last, 2))
+    while e > good:
+        info = fits(e)
+        if info is None:
+            bad = e
+            break
+        good, good_info = e, info
+        e = min(n, k + 2 * (e - k))
+    while bad is not None and bad - good > 1:
+        mid = (good + bad) // 2
+        info = fits(mid)
+        if info is not None:
+            good, good_info = mid, info
+        else:
+            bad = mid
+    return good, good_info
+
+
+def sweep_trailer(trace: TrainTrace, j: int, footprint: Any,
+                  tolerance_m: float = DEFAULT_TOLERANCE_M) -> list[Chunk]:
+    """The chunks whose parts' union conservatively contains trailer ``j``'s swept region
+    (0-based trailer index) and exceeds it by at most ``tolerance_m``."""
+    fp = prepare_footprint(footprint)
+    tol = float(tolerance_m)
+    r_far = [0.0] * trace.n
+    r_far[j] = fp.r_far_m
+    budget = _STRAY_SHARE * tol
+    tiny = _TINY_TURN_SHARE * tol
+    chunks: list[Chunk] = []
+    for i in range(len(trace.segments)):
+        amount = trace.amount(i)
+        if amount <= 0.0:
+            continue
+        m = trace.traces[i].motion
+        P, W, M, A, Wd = _bounds(m, trace.hitches, r_far)[j]
+        if P <= 0.0:
+            # The trailer does not move on this segment (an on-axle hitch on a pivot).
+            pose = trace.poses(i, [0.0])[0, j + 1]
+            chunks.append(Chunk(i, 0.0, amount, placed_footprints(fp, [pose]),
+                                pose[None, :]))
+            continue
+        delta = math.sqrt(8.0 * _SLACK_SHARE * tol / M) if M > 0.0 else amount
+        n = min(_MAX_SAMPLES, max(1, math.ceil(amount / delta)))
+        dt2 = (amount / n) ** 2 / 8.0
+        slack = dt2 * M
+        curv = (dt2, A, Wd + W * W)
+        p = np.linspace(0.0, amount, n + 1)
+        poses = trace.poses(i, p)[:, j + 1]
+        T, th = poses[:, :2], poses[:, 2]
+        k, last = 0, 1
+        while k < n:
+            e, good_info = _next_chunk(T, th, p, k, n, last, fp.r_far_m, tiny, slack, curv,
+                                       budget)
+            last = e - k
+            dev = good_info[0]
+            placed = _place_one(fp.ring, poses[k])
+            grow = dev / math.cos(math.pi / (4 * _QUAD_SEGS))
+            if good_info[1]:
+                rot_tol = 0.95 * tol - dev - grow
+                parts = _polys(rotation_parts(placed, good_info[2], th[e] - th[k], rot_tol),
+                               False)
+            else:
+                parts = _polys(translation_parts(placed, good_info[2], fp.convex), fp.convex)
+            parts = parts[~shapely.is_empty(parts)]
+            bad_ = ~shapely.is_valid(parts)
+            if bad_.any():
+                parts[bad_] = shapely.make_valid(parts[bad_])
+            if grow > 0.0:
+                parts = shapely.buffer(parts, grow, quad_segs=_QUAD_SEGS)
+            chunks.append(Chunk(i, float(p[k]), float(p[e]), parts, poses[k:e + 1]))
+            k = e
+    return chunks
+
+
+@dataclass
+class _BodyHit:
+    chunk: int
+    solid: int
+    clearance_m: float
+
+
+def _trailer_hits(chunks: Sequence[Chunk], index: ObstacleIndex, margin: float
+                  ) -> tuple[list[_BodyHit], float, int | None, int | None]:
+    """Hits within the margin per chunk, and the least clearance (chunk, solid) overall."""
+    if not len(index) or not chunks:
+        return [], math.inf, None, None
+    parts = np.concatenate([c.parts for c in chunks])
+    owner = np.concatenate([np.full(len(c.parts), k) for k, c in enumerate(chunks)])
+    pairs = (index.tree.query(parts, predicate="dwithin", distance=margin) if margin > 0.0
+             else index.tree.query(parts, predicate="intersects"))
+    hits: list[_BodyHit] = []
+    best, best_k, best_j = math.inf, None, None
+    seen: set[tuple[int, int]] = set()
+    for pi, j in zip(pairs[0].tolist(), pairs[1].tolist()):
+        key = (int(owner[pi]), j)
+        if key in seen:
+            continue
+        seen.add(key)
+        ck = chunks[key[0]]
+        solid = index.geometries[j]
+        c = float(np.min(shapely.distance(ck.parts, solid)))
+        if c <= 0.0:
+            c = -overlap_depth(SweptParts(ck.parts).union, solid)
+        if c < margin:
+            hits.append(_BodyHit(key[0], j, c))
+        if c < best:
+            best, best_k, best_j = c, key[0], j
+    if best_k is None:
+        # Nothing within the margin: the nearest solid, measured chunk by chunk from the
+        # nearest bounding box out, until a box is farther than the best found.
+        b = shapely.bounds(parts)
+        boxes = []
+        for ck_i in range(len(chunks)):
+            m = owner == ck_i
+            boxes.append(shapely.box(b[m, 0].min(), b[m, 1].min(), b[m, 2].max(),
+                                     b[m, 3].max()))
+        ii, dd = index.tree.query_nearest(np.array(boxes, dtype=object), return_distance=True,
+                                          all_matches=False)
+        for w in np.argsort(dd, kind="stable").tolist():
+            if dd[w] >= best:
+                break
+            ck = chunks[int(ii[0][w])]
+            jj, dj = index.tree.query_nearest(ck.parts, return_distance=True,
+                                              all_matches=False)
+            q = int(np.argmin(dj))
+            if dj[q] < best:
+                best, best_k, best_j = float(dj[q]), int(ii[0][w]), int(jj[1][q])
+    hits.sort(key=lambda h: (h.chunk, h.solid))
+    return hits, best, best_k, best_j
+
+
+def _chunk_station(stations: np.ndarray, segs: Sequence[Segment], ck: Chunk) -> float:
+    seg = segs[ck.segment]
+    return float(stations[ck.segment]) + (ck.p0 if seg.kind != "pivot" else 0.0)
+
+
+def _part_of(fp: Footprint, poses: np.ndarray, solid: Any) -> str:
+    sel = poses[np.linspace(0, len(poses) - 1, min(len(poses), 24)).round().astype(int)]
+    placed = placed_footprints(fp, sel)
+    dist = shapely.distance(placed, solid)
+    w = int(np.argmin(dist))
+    if dist[w] > 0.0:
+        line = shapely.shortest_line(placed[w], solid)
+        px, py = line.coords[0]
+    else:
+        ov = placed[w].intersection(solid)
+        px, py = ov.centroid.x, ov.centroid.y
+    bx, by = to_body(sel[w], px, py)
+    return part_name(fp, bx, by)
+
+
+def _stretch_violations(chunks: Sequence[Chunk], hits: Sequence[_BodyHit], segs, stations,
+                        index: ObstacleIndex, margin: float, fp: Footprint, body: str
+                        ) -> list[Violation]:
+    """One violation per run of consecutive chunks near the same solid."""
+    by_solid: dict[int, list[_BodyHit]] = {}
+    for h in hits:
+        by_solid.setdefault(h.solid, []).append(h)
+    out = []
+    for j, hs in by_solid.items():
+        runs: list[list[_BodyHit]] = []
+        for h in hs:
+            if runs and h.chunk == runs[-1][-1].chunk + 1:
+                runs[-1].append(h)
+            else:
+                runs.append([h])
+        for run in runs:
+            collide = [h for h in run if h.clearance_m <= 0.0]
+            chosen = collide or run
+            h0 = chosen[0]
+            worst = min(chosen, key=lambda h: h.clearance_m)
+            ck = chunks[h0.chunk]
+            solid = index.geometries[j]
+            x, y = nearest_point(ck.parts, solid, bool(collide))
+            st = _chunk_station(stations, segs, ck)
+            name = index.solids[j].name
+            part = _part_of(fp, chunks[worst.chunk].poses, solid)
+            if collide:
+                amount = -worst.clearance_m
+                msg = (f"{body}: {part} scrapes {name} by {amount * 1000:.0f} mm at station "
+                       f"{st:.2f} m")
+            else:
+                amount = margin - worst.clearance_m
+                msg = (f"{body}: {part} passes {name} with {worst.clearance_m * 1000:.0f} mm "
+                       f"clearance, {amount * 1000:.0f} mm short of the {margin * 1000:.0f} "
+                       f"mm margin, from station {st:.2f} m")
+            out.append(Violation("collision" if collide else "clearance", ck.segment, st,
+                                 x, y, float(amount), msg, name, body))
+    return out
+
+
+def _trailer_doors(chunks: Sequence[Chunk], index: ObstacleIndex, stations, segs
+                   ) -> dict[int, tuple[float, int, float]]:
+    """Per door the trailer's band crosses: least clearance in the door's box, segment and
+    station of the first chunk crossing it."""
+    out: dict[int, tuple[float, int, float]] = {}
+    if not len(index.doors):
+        return out
+    for ck in chunks:
+        crossed = np.unique(index.door_tree.query(ck.parts, predicate="intersects")[1])
+        for k in crossed.tolist():
+            box = index.door_boxes[k]
+            local = shapely.intersection(ck.parts, box)
+            local = local[~shapely.is_empty(local)]
+            c = math.inf
+            for j in index.within(box, 0.0).tolist():
+                solid = index.geometries[j]
+                d = float(np.min(shapely.distance(local, solid))) if len(local) else math.inf
+                c = min(c, d if d > 0.0 else -overlap_depth(SweptParts(local).union, solid))
+            old = out.get(k)
+            if old is None:
+                out[k] = (c, ck.segment, _chunk_station(stations, segs, ck))
+            elif c < old[0]:
+                out[k] = (c, old[1], old[2])
+    return out
+
+
+def _jackknifes(trace: TrainTrace, chassis: Any, stations) -> tuple[list[Violation], list]:
+    """``jackknife`` where a hitch angle passes its trailer's limit; the largest angles."""
+    out: list[Violation] = []
+    worst = [0.0] * trace.n
+    for i, seg in enumerate(trace.segments):
+        amount = trace.amount(i)
+        n = max(2, min(4000, math.ceil(amount / 0.02) + 1)) if amount > 0.0 else 1
+        p = np.linspace(0.0, amount, n)
+        poses = trace.poses(i, p)
+        ang = np.abs(hitch_angles(poses))
+        for j, t in enumerate(chassis.trailers):
+            worst[j] = max(worst[j], float(ang[:, j].max()))
+            over = ang[:, j] > math.radians(t.max_hitch_deg) + 1e-9
+            if not over.any():
+                continue
+            # One violation per segment and trailer, where the limit is first passed.
+            k = int(np.argmax(over))
+            prev_over = out and out[-1].body == body_name(j + 1, chassis) and \
+                out[-1].segment == i - 1 and bool(over[0])
+            if prev_over:
+                continue
+            st = float(stations[i]) + (float(p[k]) if seg.kind != "pivot" else 0.0)
+            deg = math.degrees(float(ang[k:, j][over[k:]].max()))
+            how = "reversing" if seg.direction < 0 else (
+                "turning on the spot" if seg.kind == "pivot" else "driving")
+            body = body_name(j + 1, chassis)
+            x, y = float(poses[k, j + 1, 0]), float(poses[k, j + 1, 1])
+            excess = math.radians(deg - t.max_hitch_deg)
+            out.append(Violation(
+                "jackknife", i, st, x, y, float(t.drawbar_m * math.sin(min(excess, math.pi / 2))),
+                f"{body}: hitch angle reaches {deg:.0f} deg {how}, past its "
+                f"{t.max_hitch_deg:g} deg limit, from station {st:.2f} m", "", body, deg))
+    return out, [math.degrees(w) for w in worst]
+
+
+@dataclass
+class TrainResult:
+    """What a train check adds to a route check: the trace and each trailer's chunks."""
+
+    trace: TrainTrace
+    chunks: list[list[Chunk]]
+    bodies: list[dict]
+
+
+def check_train(plan_or_segments: Any, chassis: Any, index: ObstacleIndex,
+                tolerance_m: float = DEFAULT_TOLERANCE_M, route_name: str = "",
+                route: Any = None, tug_check: RouteCheck | None = None) -> RouteCheck:
+    """Check a route for a chassis and every trailer it tows (see the module text).
+
+    Without trailers this is :func:`kinematics.check.clearance.check_route`. With trailers the
+    result's violations name their ``body``; ``min_clearance_m`` is the least over the
+    bodies; ``bodies`` lists each body's least clearance and margin; its swept pieces hold
+    every body's parts (per segment), so views draw the whole train's band.
+    """
+    segs = tuple(getattr(plan_or_segments, "segments", plan_or_segments))
+    tug = tug_check if tug_check is not None else check_route(
+        plan_or_segments, chassis, index, tolerance_m=tolerance_m, route_name=route_name,
+        route=route)
+    trailers = tuple(getattr(chassis, "trailers", ()) or ())
+    if not trailers or not segs:
+        return tug
+    trace = trace_train(segs, trailers)
+    stations = segment_stations(segs)
+    tug_body = body_name(0, chassis)
+    violations = [dataclasses.replace(v, body=v.body or tug_body) for v in tug.violations]
+    bodies = [{"body": tug_body, "min_clearance_m": tug.min_clearance_m,
+               "margin_m": tug.margin_m}]
+    least, at = tug.min_clearance_m, tug.min_clearance_at
+    if at is not None:
+        at = dict(at, body=tug_body)
+    doors = {p.door: p for p in tug.doors}
+    all_chunks = []
+    extra_parts: list[list[np.ndarray]] = [[] for _ in segs]
+    for j, t in enumerate(trailers):
+        fp = prepare_footprint(t.footprint)
+        margin = chassis.trailer_margin(j) if hasattr(chassis, "trailer_margin") else \
+            (t.margin_m if t.margin_m is not None else chassis.margin_m)
+        chunks = sweep_trailer(trace, j, fp, tolerance_m)
+        all_chunks.append(chunks)
+        for ck in chunks:
+            extra_parts[ck.segment].append(ck.parts)
+        body = body_name(j + 1, chassis)
+        hits, best, bk, bj = _trailer_hits(chunks, index, margin)
+        violations += _stretch_violations(chunks, hits, segs, stations, index, margin, fp,
+                                          body)
+        c_min = None if bk is None else float(best)
+        bodies.append({"body": body, "min_clearance_m": c_min, "margin_m": margin})
+        if c_min is not None and (least is None or c_min < least):
+            least = c_min
+            ck = chunks[bk]
+            x, y = nearest_point(ck.parts, index.geometries[bj], c_min <= 0.0)
+            at = {"x": x, "y": y, "station_m": _chunk_station(stations, segs, ck),
+                  "segment": ck.segment, "solid": index.solids[bj].name, "body": body}
+        for k, (c, si, st) in _trailer_doors(chunks, index, stations, segs).items():
+            old = doors.get(k)
+            cval = None if not math.isfinite(c) else float(c)
+            if old is None:
+                doors[k] = DoorPass(index.door_label(k), cval, k, si, st,
+                                    index.doors[k].width_m)
+            elif cval is not None and (old.min_clearance_m is None or
+                                       cval < old.min_clearance_m):
+                doors[k] = dataclasses.replace(old, min_clearance_m=cval)
+    jk, worst = _jackknifes(trace, chassis, stations)
+    violations += jk
+    for j, w in enumerate(worst):
+        bodies[j + 1]["max_hitch_deg"] = w
+    violations.sort(key=lambda v: (v.station_m, v.kind))
+    parts = tuple(SweptParts(np.concatenate([sp.parts, *extra]) if extra else sp.parts)
+                  for sp, extra in zip(tug._parts, extra_parts))
+    out = dataclasses.replace(
+        tug, clear=not violations, min_clearance_m=least, min_clearance_at=at,
+        violations=violations, doors=sorted(doors.values(), key=lambda p: (p.station_m,
+                                                                           p.door)),
+        _parts=parts, _swept=None)
+    out.train = TrainResult(trace, all_chunks, bodies)
+    return out
+
+
+def train_poses(check_or_trace: Any, segment: int, progress: Sequence[float]) -> np.ndarray:
+    """Every body's pose on ``segment`` at ``progress`` (see :meth:`TrainTrace.poses`)."""
+    trace = getattr(getattr(check_or_trace, "train", None), "trace", check_or_trace)
+    return trace.poses(segment, progress)
+
+
+__all__ = ["Chunk", "TrainResult", "body_name", "check_train", "sweep_trailer", "train_poses"]

@@ -1,0 +1,833 @@
+"""Route finder: a drivable, clear route between poses for every drive, and repair of a sketch.
+
+The search is Hybrid A* (Dolgov, Thrun, Montemerlo and Diebel, "Practical search techniques in
+path planning for autonomous driving", 2008; "Path planning for autonomous vehicles in unknown
+semi-structured environments", 2010) over continuous poses ``(x, y, heading)`` with a closed
+set on a grid of cells and heading bins:
+
+- **Motion primitives per drive** (:func:`primitives`): steered drives (bicycle, Ackermann, and
+  a differential cart that turns with a radius) drive arcs at the turn radius left and right
+  and a straight, forward and, where the route may reverse, backward; a differential cart with
+  radius 0 drives straight (and back) and pivots on the spot; mecanum and swerve translate in
+  eight body directions and turn on the spot.
+- **Collision check** with the checker's own footprint, margin and conservative sweep
+  (:func:`kinematics.check.sweep.swept_parts`): each primitive is swept once from the origin
+  and moved rigidly to every node; a motion is kept only where every swept part is at least the
+  margin (plus ``SAFETY_M``) from every solid of the :class:`ObstacleIndex`. A clearance grid
+  (:mod:`kinematics.plan.heuristics`) skips the exact test of a motion that stays far from
+  every solid.
+- **Cost**: path length; reversing costs ``reverse_factor`` times its length and every change
+  of direction ``switch_penalty_m``; pivots cost their turn times ``pivot_cost_m_per_rad``; and
+  a clearance term grows linearly from 0 where the swept motion keeps ``clearance_pref_m`` above
+  the margin to ``clearance_weight`` per metre at the margin, so the route keeps off the walls
+  where it can.
+- **Heuristic**: the larger of the obstacle-free Dubins / Reeds-Shepp length to the goal pose
+  (:mod:`~kinematics.plan.dubins`, :mod:`~kinematics.plan.reeds_shepp`; Euclidean for drives
+  that pivot or move sideways, or where the goal heading is free) and the 2D grid distance
+  around the solids, weighted by ``heuristic_weight`` (> 1 trades optimality for speed).
+- **Analytic expansion**: from popped nodes, every few expansions and at every one near the
+  goal, the route's own connection to the goal (the planner's Dubins / Reeds-Shepp, pivot-line
+  or holonomic line between two poses, :func:`kinematics.plan.planner.plan_route`) is swept;
+  if it is clear the search ends there. Goal poses are therefore reached exactly.
+- **Smoothing into the route's own segment kinds**: the chain of node poses becomes waypoints
+  with headings, keeping only as many as needed: from each kept pose the farthest later pose
+  whose planner connection is clear (doubling then bisection). The route is then planned by
+  :func:`~kinematics.plan.planner.plan_route` like any sketched route (so it is lines and arcs,
+  and clothoids where the route's transitions ask for them and the planner makes them) and
+  re-checked with :func:`kinematics.check.clearance.check_route` before it is offered.
+
+:class:`RouteFinder` offers the uses: :meth:`~RouteFinder.find` (first waypoint to last,
+through the interior waypoints in order, with their headings where set) and
+:meth:`~RouteFinder.repair` (keep the legs that pass, re-search only the failing ones). The time
+limit is checked every few expansions and always honoured; a node budget is checked too.
+"""
+
+from __future__ import annotations
+
+import heapq
+import math
+import time
+from collections.abc import Callable, Sequence
+from dataclasses import dataclass, field
+
+import numpy as np
+import shapely
+from numpy.typing import NDArray
+from shapely.geometry import Point
+
+from kinematics.check.clearance import ObstacleIndex, RouteCheck, check_route
+from kinematics.check.sweep import (
+    DEFAULT_TOLERANCE_M,
+    farthest_radius,
+    placed_footprints,
+    prepare_footprint,
+    swept_parts,
+)
+from kinematics.errors import ValidationError
+from kinematics.files.project import Chassis, Project, Route, Waypoint
+from kinematics.motion.segments import Segment, arc, holonomic_line, line, pivot, poses_along
+from kinematics.plan import dubins, reeds_shepp
+from kinematics.plan.heuristics import ClearanceGrid
+from kinematics.plan.planner import RoutePlan, _drive_limits, plan_route
+
+#: Extra clearance (m) the search keeps above the margin, so rounding never flips a verdict.
+SAFETY_M = 1e-3
+#: The search area reaches this far (m) beyond the floor plan and the waypoints.
+AREA_PAD_M = 1.0
+Pose = tuple[float, float, float]
+ProgressFn = Callable[[float, int], None]
+StopFn = Callable[[], bool]
+
+
+@dataclass(frozen=True)
+class FindSettings:
+    """Tuning of the search (defaults suit rooms and corridors of a building)."""
+
+    time_limit_s: float = 5.0
+    node_budget: int = 200_000
+    heading_bins: int = 72
+    step_m: float | None = None
+    clearance_pref_m: float = 0.15
+    clearance_weight: float = 3.0
+    reverse_factor: float = 2.0
+    switch_penalty_m: float = 1.0
+    pivot_cost_m_per_rad: float | None = None
+    heuristic_weight: float = 1.5
+    analytic_every: int = 4
+    improve_min: int = 100
+
+
+@dataclass
+class FindResult:
+    """What a find or a repair gave: the new route (when found) and how the search went."""
+
+    name: str
+    found: bool
+    route: Route | None = None
+    plan: RoutePlan | None = None
+    check: RouteCheck | None = None
+    expanded_nodes: int = 0
+    time_s: float = 0.0
+    reason: str = ""
+    blocked_at: tuple[float, float] | None = None
+    searched: NDArray[np.float64] = field(default_factory=lambda: np.zeros((0, 2)))
+    legs: tuple[int, ...] = ()
+    notes: tuple[str, ...] = ()
+    cancelled: bool = False
+
+    def to_dict(self) -> dict:
+        """The contract's ``find --json`` route object (plus ``found`` and, failing, why)."""
+        d: dict = {"name": self.name, "found": self.found,
+                   "expanded_nodes": int(self.expanded_nodes), "time_s": float(self.time_s)}
+        if self.found and self.route is not None and self.plan is not None:
+            chosen = self.plan.chosen_headings
+            d["waypoints"] = [[w.x, w.y, w.heading_deg if w.heading_deg is not None
+                               else chosen.get(k)]
+                              for k, w in enumerate(self.route.waypoints)]
+            d["segments"] = [s.to_dict() for s in self.plan.segments]
+            d["length_m"] = self.plan.length_m
+            d["clear"] = bool(self.check.clear) if self.check is not None else False
+            d["min_clearance_m"] = (None if self.check is None
+                                    else self.check.min_clearance_m)
+            d["legs_searched"] = list(self.legs)
+        else:
+            d["clear"] = False
+            d["reason"] = self.reason
+            if self.blocked_at is not None:
+                d["blocked_at"] = {"x": self.blocked_at[0], "y": self.blocked_at[1]}
+        if self.notes:
+            d["notes"] = list(self.notes)
+        return d
+
+
+class SearchStopped(Exception):
+    """The caller asked the search to stop (Cancel in the window)."""
+
+
+@dataclass(frozen=True, eq=False)
+class Primitive:
+    """One motion from the origin pose: its segment, swept parts and end pose."""
+
+    seg: Segment
+    parts: NDArray[np.object_]
+    end: Pose
+    length_m: float
+    direction: int
+    turn_rad: float
+    reach_m: float
+    kind: str
+
+
+# -- drive modes ---------------------------------------------------------------------------
+def drive_mode(chassis: Chassis, route: Route) -> tuple[str, float]:
+    """``("steer" | "pivot" | "holo", radius_m)``: how the planner joins this route's poses."""
+    drive, min_r, can_pivot, holonomic = _drive_limits(chassis)
+    if holonomic:
+        return "holo", 0.0
+    asked = float(route.turn_radius_m or 0.0)
+    radius = max(asked, min_r) if asked > 0.0 else min_r
+    if drive == "differential" and radius == 0.0 and can_pivot:
+        return "pivot", 0.0
+    return "steer", radius
+
+
+def primitives(mode: str, radius_m: float, step_m: float, reverse: bool, footprint,
+               tolerance_m: float = DEFAULT_TOLERANCE_M) -> list[Primitive]:
+    """The motion primitives of a drive mode, each swept once from pose (0, 0, 0)."""
+    fp = prepare_footprint(footprint)
+    o = (0.0, 0.0, 0.0)
+    segs: list[Segment] = []
+    dirs = (1, -1) if reverse else (1,)
+    if mode == "steer":
+        turn = step_m / radius_m
+        for d in dirs:
+            segs.append(line(o, step_m, d))
+            for sign in (1.0, -1.0):
+                # Steering left (curvature +1/r) turns the heading clockwise in reverse.
+                segs.append(arc(o, radius_m, sign * turn * d, d))
+    elif mode == "pivot":
+        for d in dirs:
+            segs.append(line(o, step_m, d))
+        for deg in (15.0, 45.0, 90.0):
+            for sign in (1.0, -1.0):
+                segs.append(pivot(o, sign * math.radians(deg)))
+    else:
+        for k in range(8):
+            a = k * math.pi / 4.0
+            segs.append(holonomic_line(o, (step_m * math.cos(a), step_m * math.sin(a))))
+        for deg in (15.0, 45.0):
+            for sign in (1.0, -1.0):
+                segs.append(pivot(o, sign * math.radians(deg)))
+    out = []
+    r_far = fp.r_far_m
+    for s in segs:
+        parts = swept_parts(fp, s, tolerance_m)
+        e = s.end
+        out.append(Primitive(s, parts, (float(e[0]), float(e[1]), float(e[2])), s.length_m,
+                             s.direction, s.turn_rad, r_far + s.length_m, s.kind))
+    return out
+
+
+def _move(parts: NDArray[np.object_], pose: Sequence[float]) -> NDArray[np.object_]:
+    c, s = math.cos(pose[2]), math.sin(pose[2])
+    x, y = pose[0], pose[1]
+
+    def f(p: NDArray[np.float64]) -> NDArray[np.float64]:
+        return np.column_stack([x + c * p[:, 0] - s * p[:, 1], y + s * p[:, 0] + c * p[:, 1]])
+    return shapely.transform(parts, f)
+
+
+def _compose(p: Sequence[float], rel: Sequence[float]) -> Pose:
+    c, s = math.cos(p[2]), math.sin(p[2])
+    return (p[0] + c * rel[0] - s * rel[1], p[1] + s * rel[0] + c * rel[1], p[2] + rel[2])
+
+
+def _wrap(a: float) -> float:
+    return math.remainder(a, 2.0 * math.pi)
+
+
+# -- the finder ----------------------------------------------------------------------------
+class RouteFinder:
+    """Finds and repairs routes for one chassis on one floor plan.
+
+    Parameters
+    ----------
+    project : Project
+        Its floor plan and chassis (routes are passed to :meth:`find` / :meth:`repair`).
+    index : ObstacleIndex, optional
+        Built from the floor plan when not given.
+    settings : FindSettings, optional
+    """
+
+    def __init__(self, project: Project, index: ObstacleIndex | None = None,
+                 settings: FindSettings | None = None) -> None:
+        self.project = project
+        self.chassis = project.chassis
+        self.file = str(project.path or "<project>")
+        self.index = index if index is not None else ObstacleIndex(project.floorplan)
+        self.settings = settings or FindSettings()
+        self.fp = prepare_footprint(self.chassis.footprint)
+        self.margin = float(self.chassis.margin_m)
+        self.r_far = farthest_radius(self.fp)
+        ring = self.fp.ring
+        # Inscribed radius about the reference point (0 where it lies outside the outline).
+        ref = Point(0.0, 0.0)
+        self.r_in = (float(self.fp.polygon.exterior.distance(ref))
+                     if self.fp.polygon.contains(ref) else 0.0)
+        width = float(ring[:, 1].max() - ring[:, 1].min())
+        length = float(ring[:, 0].max() - ring[:, 0].min())
+        self.step = float(self.settings.step_m or min(0.5, max(0.08, 0.35 * min(width, length))))
+        self._prims: dict[tuple, list[Primitive]] = {}
+        self._grid: ClearanceGrid | None = None
+        self._grid_bounds: tuple | None = None
+
+    # -- geometry helpers --------------------------------------------------------------------
+    def _area(self, route: Route) -> tuple[float, float, float, float]:
+        xs = [w.x for w in route.waypoints]
+        ys = [w.y for w in route.waypoints]
+        if len(self.index):
+            b = shapely.total_bounds(self.index.geometries)
+            xs += [b[0], b[2]]
+            ys += [b[1], b[3]]
+        pad = self.r_far + AREA_PAD_M
+        return (min(xs) - pad, min(ys) - pad, max(xs) + pad, max(ys) + pad)
+
+    def grid(self, route: Route) -> ClearanceGrid:
+        """The clearance grid over the route's search area (kept while the area holds)."""
+        area = self._area(route)
+        if self._grid is None or self._grid_bounds is None or not (
+                self._grid_bounds[0] <= area[0] and self._grid_bounds[1] <= area[1]
+                and self._grid_bounds[2] >= area[2] and self._grid_bounds[3] >= area[3]):
+            cell = min(0.1, max(0.03, self.step / 2.0))
+            self._grid = ClearanceGrid(self.index.geometries, area, cell,
+                                       self.r_in + self.margin)
+            self._grid_bounds = area
+        return self._grid
+
+    def _prims_for(self, mode: str, radius: float, reverse: bool) -> list[Primitive]:
+        key = (mode, radius, reverse)
+        if key not in self._prims:
+            self._prims[key] = primitives(mode, radius, self.step, reverse, self.fp)
+        return self._prims[key]
+
+    def _parts_distance(self, parts: NDArray[np.object_], reach: float) -> float:
+        """Least distance of ``parts`` to the solids, or ``inf`` when beyond ``reach``."""
+        if not len(self.index):
+            return math.inf
+        pairs = self.index.tree.query(parts, predicate="dwithin", distance=reach)
+        if pairs.shape[1] == 0:
+            return math.inf
+        return float(np.min(shapely.distance(parts[pairs[0]],
+                                             self.index.geometries[pairs[1]])))
+
+    def segments_clear(self, segs: Sequence[Segment]) -> bool:
+        """Every segment's conservative swept region keeps the margin from every solid."""
+        return self.segments_distance(segs, self.margin + SAFETY_M) >= self.margin + SAFETY_M
+
+    def segments_distance(self, segs: Sequence[Segment], cap: float,
+                          floor: float | None = None) -> float:
+        """Least distance of the segments' swept regions to the solids (``inf`` beyond
+        ``cap``); stops early, returning what it has, once below ``floor``."""
+        least = math.inf
+        for s in segs:
+            parts = swept_parts(self.fp, s)
+            least = min(least, self._parts_distance(parts, cap))
+            if floor is not None and least < floor:
+                break
+        return least
+
+    def pose_distance(self, pose: Sequence[float]) -> tuple[float, int | None]:
+        """Distance from the footprint placed at ``pose`` to the nearest solid, and which."""
+        g = placed_footprints(self.fp, [pose])[0]
+        j, d = self.index.nearest(g)
+        return d, j
+
+    def _solid_name(self, j: int | None) -> str:
+        if j is None:
+            return "nothing"
+        return self.index.solids[j].name
+
+    # -- connections -------------------------------------------------------------------------
+    def connect(self, route: Route, a: Pose, b: Sequence[float | None]) -> list[Segment] | None:
+        """The route's own connection from pose ``a`` to ``b`` (heading ``None``: the
+        planner's choice), as the planner draws it; ``None`` where it has an issue."""
+        wa = Waypoint(float(a[0]), float(a[1]), math.degrees(a[2]))
+        hb = None if b[2] is None else math.degrees(float(b[2]))
+        wb = Waypoint(float(b[0]), float(b[1]), hb)
+        sub = Route(route.name, (wa, wb), route.turn_radius_m, route.reverse, route.extra)
+        pl = plan_route(sub, self.chassis)
+        if any(i.kind in ("infeasible", "turn_radius") for i in pl.issues):
+            return None
+        return list(pl.segments)
+
+    def _connect_clear(self, route: Route, a: Pose, b: Sequence[float | None]
+                       ) -> list[Segment] | None:
+        segs = self.connect(route, a, b)
+        if segs is None or not self.segments_clear(segs):
+            return None
+        return segs
+
+    # -- input checks ------------------------------------------------------------------------
+    def _check_inputs(self, route: Route, route_index: int) -> None:
+        lim = self.settings.time_limit_s
+        if not (isinstance(lim, (int, float)) and math.isfinite(lim) and lim > 0.0):
+            raise ValidationError(self.file, "--time-limit",
+                                  f"a positive number of seconds, got {lim!r}")
+        place = f"routes[{route_index}].waypoints"
+        for k, w in enumerate(route.waypoints):
+            where = f"{place}[{k}]"
+            inside = self.index.within(Point(w.x, w.y), 0.0) if len(self.index) else []
+            if len(inside):
+                name = self._solid_name(int(inside[0]))
+                raise ValidationError(self.file, where, f"a waypoint outside the solids; "
+                                      f"({w.x:g}, {w.y:g}) is inside {name}")
+            if w.heading_deg is not None:
+                d, j = self.pose_distance((w.x, w.y, math.radians(w.heading_deg)))
+                if d <= 0.0:
+                    what = "the start" if k == 0 else "the chassis"
+                    raise ValidationError(self.file, where, f"{what} placed here with heading "
+                                          f"{w.heading_deg:g} deg overlaps "
+                                          f"{self._solid_name(j)}")
+            else:
+                heads = np.linspace(-math.pi, math.pi, 24, endpoint=False)
+                g = placed_footprints(self.fp, [(w.x, w.y, h) for h in heads])
+                if len(self.index) and np.all(
+                        [len(self.index.within(p, 0.0)) > 0 for p in g]):
+                    j = int(self.index.within(g[0], 0.0)[0])
+                    raise ValidationError(self.file, where, f"room for the chassis at "
+                                          f"({w.x:g}, {w.y:g}); at every heading it overlaps "
+                                          f"{self._solid_name(j)}")
+
+    # -- one leg -----------------------------------------------------------------------------
+    def _search_leg(self, route: Route, starts: list[Pose], goal: tuple[float, float,
+                    float | None], deadline: float, budget: list[int],
+                    should_stop: StopFn | None, progress: ProgressFn | None,
+                    t0: float, searched: list) -> tuple[list[Pose] | None, dict]:
+        """Hybrid A* from any of ``starts`` to ``goal``; the pose chain or ``None`` and why."""
+        st = self.settings
+        mode, radius = drive_mode(self.chassis, route)
+        prims = self._prims_for(mode, radius, route.reverse)
+        grid = self.grid(route)
+        gx, gy, gh = goal
+        h2d = grid.distance_to(gx, gy)
+        cell = grid.cell_m
+        pref = st.clearance_pref_m
+        need = self.margin + SAFETY_M
+        far_enough = self.margin + pref
+        pivot_cost = (st.pivot_cost_m_per_rad if st.pivot_cost_m_per_rad is not None
+                      else 0.5 * self.r_far)
+        xy_res = max(self.step * 0.7, cell)
+        bins = st.heading_bins
+        area = self._grid_bounds
+        assert area is not None
+        use_rs = mode == "steer" and gh is not None
+        near_goal = max(2.0 * radius, 4.0 * self.step, 1.0)
+
+        def heuristic(poses: NDArray[np.float64]) -> NDArray[np.float64]:
+            i, j = grid.cell_of(poses[:, 0], poses[:, 1])
+            d2 = np.maximum(h2d[i, j] - 1.5 * cell, 0.0)
+            eu = np.hypot(poses[:, 0] - gx, poses[:, 1] - gy)
+            h = np.maximum(d2, eu)
+            if use_rs:
+                goals = np.tile([gx, gy, gh], (poses.shape[0], 1))
+                mod = reeds_shepp if route.reverse else dubins
+                h = np.maximum(h, mod.shortest(poses, goals, radius).length_m)
+            return h
+
+        def key(p: Sequence[float]) -> tuple[int, int, int]:
+            return (int(round(p[0] / xy_res)), int(round(p[1] / xy_res)),
+                    int(round(_wrap(p[2]) / (2.0 * math.pi) * bins)) % bins)
+
+        xs: list[Pose] = []
+        gs: list[float] = []
+        parent: list[int] = []
+        pdir: list[int] = []
+        best_g: dict[tuple, float] = {}
+        heap: list[tuple[float, int]] = []
+        hs = heuristic(np.array(starts, dtype=float))
+        for p, h in zip(starts, hs):
+            if not math.isfinite(h):
+                continue
+            xs.append(p)
+            gs.append(0.0)
+            parent.append(-1)
+            pdir.append(0)
+            best_g[key(p)] = 0.0
+            heapq.heappush(heap, (st.heuristic_weight * float(h), len(xs) - 1))
+        done: set[tuple] = set()
+        expanded = 0
+        closest = (math.inf, starts[0] if starts else (gx, gy, 0.0))
+        info: dict = {"expanded": 0, "closest": closest, "why": "exhausted"}
+        best_goal: tuple[float, int, Pose] = (math.inf, -1, (gx, gy, 0.0))
+        stop_at = math.inf
+        while heap:
+            if budget[0] <= 0:
+                info["why"] = "budget"
+                break
+            if (expanded & 15) == 0:
+                now = time.perf_counter()
+                if now >= deadline:
+                    info["why"] = "time"
+                    break
+                if should_stop is not None and should_stop():
+                    raise SearchStopped()
+                if progress is not None and (expanded & 255) == 0:
+                    progress(min(1.0, (now - t0) / st.time_limit_s), expanded)
+            f, n = heapq.heappop(heap)
+            if best_goal[1] >= 0 and f >= best_goal[0]:
+                break
+            p = xs[n]
+            k = key(p)
+            if k in done:
+                continue
+            done.add(k)
+            expanded += 1
+            budget[0] -= 1
+            searched.append((p[0], p[1]))
+            dist_goal = math.hypot(p[0] - gx, p[1] - gy)
+            if dist_goal < closest[0]:
+                closest = (dist_goal, p)
+            # Analytic expansion: the route's own connection to the goal, an edge to the goal
+            # whose cost is counted like any motion's; the cheapest goal found so far ends
+            # the search once no open node can beat it.
+            if expanded == 1 or dist_goal < near_goal or expanded % st.analytic_every == 0:
+                hit = self._analytic(route, mode, p, goal, pdir[n], pivot_cost)
+                if hit is not None and gs[n] + hit[1] < best_goal[0]:
+                    if best_goal[1] < 0:
+                        # Look on for a cheaper (clearer) goal a bounded while only.
+                        stop_at = expanded + max(st.improve_min, expanded // 2)
+                    best_goal = (gs[n] + hit[1], n, hit[0])
+            if best_goal[1] >= 0 and (not heap or heap[0][0] >= best_goal[0]
+                                      or expanded >= stop_at):
+                break
+            kids: list[Pose] = []
+            kid_g: list[float] = []
+            kid_dir: list[int] = []
+            lb = grid.lower_bound(p[0], p[1])
+            for pr in prims:
+                q = _compose(p, pr.end)
+                if not (area[0] <= q[0] <= area[2] and area[1] <= q[1] <= area[3]):
+                    continue
+                kq = key(q)
+                if kq in done:
+                    continue
+                if lb >= pr.reach_m + far_enough:
+                    d = math.inf
+                else:
+                    d = self._parts_distance(_move(pr.parts, p), far_enough)
+                    if d < need:
+                        continue
+                travel = pr.length_m + pivot_cost * abs(pr.turn_rad) if pr.kind == "pivot" \
+                    else pr.length_m
+                cost = pr.length_m * (st.reverse_factor if pr.direction < 0 else 1.0)
+                if pr.kind == "pivot":
+                    cost = pivot_cost * abs(pr.turn_rad)
+                elif pdir[n] != 0 and pr.direction != pdir[n]:
+                    cost += st.switch_penalty_m
+                if d < far_enough:
+                    cost += st.clearance_weight * (far_enough - d) / pref * max(travel, 1e-3)
+                g = gs[n] + cost
+                if g >= best_g.get(kq, math.inf):
+                    continue
+                best_g[kq] = g
+                kids.append(q)
+                kid_g.append(g)
+                kid_dir.append(pdir[n] if pr.kind == "pivot" else pr.direction)
+            if not kids:
+                continue
+            hk = heuristic(np.array(kids, dtype=float))
+            for q, g, dr, h in zip(kids, kid_g, kid_dir, hk):
+                if not math.isfinite(h):
+                    continue
+                xs.append(q)
+                gs.append(g)
+                parent.append(n)
+                pdir.append(dr)
+                heapq.heappush(heap, (g + st.heuristic_weight * float(h), len(xs) - 1))
+        info.update(expanded=expanded, closest=closest)
+        if best_goal[1] >= 0:
+            m = best_goal[1]
+            chain = []
+            while m >= 0:
+                chain.append(xs[m])
+                m = parent[m]
+            chain.reverse()
+            chain.append(best_goal[2])
+            info["why"] = "found"
+            return chain, info
+        return None, info
+
+    def _analytic(self, route: Route, mode: str, p: Pose,
+                  goal: tuple[float, float, float | None], last_dir: int, pivot_cost: float
+                  ) -> tuple[Pose, float] | None:
+        """The goal pose reached by the cheapest clear connection from ``p`` and its cost."""
+        gx, gy, gh = goal
+        cands: list[float | None] = [gh]
+        if gh is None and mode == "steer" and math.hypot(gx - p[0], gy - p[1]) > 1e-9:
+            line_dir = math.atan2(gy - p[1], gx - p[0])
+            cands += [p[2]] + [line_dir + k * math.pi / 4.0 for k in range(1, 8)]
+        best: tuple[Pose, float] | None = None
+        for h in cands:
+            segs = self.connect(route, p, (gx, gy, h))
+            if segs is None:
+                continue
+            cost = self._segments_cost(segs, last_dir, pivot_cost)
+            if cost is None or (best is not None and cost >= best[1]):
+                continue
+            end = segs[-1].end if segs else p
+            best = ((gx, gy, float(end[2]) if h is None else float(h)), cost)
+        return best
+
+    def _segments_cost(self, segs: Sequence[Segment], last_dir: int, pivot_cost: float
+                       ) -> float | None:
+        """The search's cost of driving ``segs`` (``None`` where one is not clear)."""
+        st = self.settings
+        need = self.margin + SAFETY_M
+        far = self.margin + st.clearance_pref_m
+        cost = 0.0
+        d_prev = last_dir
+        for s in segs:
+            d = self._parts_distance(swept_parts(self.fp, s), far)
+            if d < need:
+                return None
+            if s.kind == "pivot":
+                travel = pivot_cost * abs(s.turn_rad)
+                cost += travel
+            else:
+                travel = s.length_m
+                cost += s.length_m * (st.reverse_factor if s.direction < 0 else 1.0)
+                if d_prev != 0 and s.direction != d_prev:
+                    cost += st.switch_penalty_m
+                d_prev = s.direction
+            if d < far:
+                cost += st.clearance_weight * (far - d) / st.clearance_pref_m * \
+                    max(travel, 1e-3)
+        return cost
+
+    def _smooth(self, route: Route, chain: list[Pose], free_end: bool) -> list[Pose]:
+        """As few of the chain's poses as keep every planner connection clear."""
+        m = len(chain) - 1
+
+        def target(j: int) -> tuple:
+            pj = chain[j]
+            return (pj[0], pj[1], None) if (j == m and free_end) else pj
+
+        # A shortcut must keep the margin, and as much clearance (up to the preferred one)
+        # as the searched poses it replaces: smoothing must not pull the route onto a wall.
+        cap = self.margin + self.settings.clearance_pref_m
+        need = self.margin + SAFETY_M
+        base = []
+        for i in range(m):
+            segs = self.connect(route, chain[i], target(i + 1))
+            base.append(min(cap, self.segments_distance(segs, cap)) if segs else need)
+        memo: dict[tuple[int, int], bool] = {}
+
+        def ok(i: int, j: int) -> bool:
+            if (i, j) not in memo:
+                want = max(need, min(base[i:j]) - SAFETY_M)
+                segs = self.connect(route, chain[i], target(j))
+                memo[(i, j)] = segs is not None and \
+                    self.segments_distance(segs, cap, want) >= want
+            return memo[(i, j)]
+
+        keep = [0]
+        i = 0
+        while i < m:
+            if ok(i, m):
+                j = m
+            else:
+                lo, step = i + 1, 1
+                while lo + step < m and ok(i, lo + step):
+                    lo += step
+                    step *= 2
+                hi = min(lo + step, m)
+                while hi - lo > 1:
+                    mid = (lo + hi) // 2
+                    if ok(i, mid):
+                        lo = mid
+                    else:
+                        hi = mid
+                j = lo
+            keep.append(j)
+            i = j
+        return [chain[k] for k in keep]
+
+    # -- public uses -------------------------------------------------------------------------
+    def _route_index(self, route: Route) -> int:
+        for i, r in enumerate(self.project.routes):
+            if r.name == route.name:
+                return i
+        return 0
+
+    def _start_headings(self, w: Waypoint) -> list[float]:
+        if w.heading_deg is not None:
+            return [math.radians(w.heading_deg)]
+        heads = np.linspace(-math.pi, math.pi, 24, endpoint=False)
+        g = placed_footprints(self.fp, [(w.x, w.y, h) for h in heads])
+        d = shapely.distance(g, shapely.union_all(self.index.geometries)) \
+            if len(self.index) else np.full(len(heads), math.inf)
+        return [float(h) for h, dd in zip(heads, d) if dd >= self.margin + SAFETY_M]
+
+    def find(self, route: Route, progress: ProgressFn | None = None,
+             should_stop: StopFn | None = None, legs: Sequence[int] | None = None,
+             _t0: float | None = None) -> FindResult:
+        """Search a clear route through the waypoints of ``route`` in order.
+
+        ``legs`` limits the search to those legs (0-based: leg ``k`` joins waypoints ``k``
+        and ``k + 1``); the others are kept as sketched (used by :meth:`repair`).
+
+        Raises
+        ------
+        ValidationError
+            A non-positive time limit, a waypoint inside a solid, or a pose with a heading
+            whose placed footprint overlaps one.
+        """
+        self._check_inputs(route, self._route_index(route))
+        t0 = time.perf_counter() if _t0 is None else _t0
+        deadline = t0 + self.settings.time_limit_s
+        budget = [int(self.settings.node_budget)]
+        searched: list[tuple[float, float]] = []
+        wps = route.waypoints
+        n = len(wps)
+        todo = set(range(n - 1)) if legs is None else set(legs)
+        out: list[Waypoint] = [wps[0]]
+        heads = self._start_headings(wps[0])
+        if not heads:
+            d, j = self.pose_distance((wps[0].x, wps[0].y, 0.0))
+            return self._fail(route, t0, 0, searched, (wps[0].x, wps[0].y),
+                              f"the start at ({wps[0].x:g}, {wps[0].y:g}) is closer than "
+                              f"the margin to {self._solid_name(j)} at every heading")
+        starts = [(wps[0].x, wps[0].y, h) for h in heads]
+        total = 0
+        for k in range(n - 1):
+            w1 = wps[k + 1]
+            last = k + 1 == n - 1
+            if k not in todo:
+                out.append(w1)
+                starts = [(w1.x, w1.y, math.radians(w1.heading_deg))] \
+                    if w1.heading_deg is not None else [(w1.x, w1.y, h)
+                                                       for h in self._start_headings(w1)]
+                continue
+            gh = None if w1.heading_deg is None else math.radians(w1.heading_deg)
+            chain, info = self._search_leg(route, starts, (w1.x, w1.y, gh), deadline, budget,
+                                           should_stop, progress, t0, searched)
+            total += info["expanded"]
+            if chain is None:
+                cd, cp = info["closest"]
+                j = self.index.nearest(Point(cp[0], cp[1]))[0] if len(self.index) else None
+                why = {"time": f"within {self.settings.time_limit_s:g} s",
+                       "budget": f"within {self.settings.node_budget} nodes",
+                       "exhausted": "at all (every reachable pose was tried)"}[info["why"]]
+                msg = (f"no route from waypoint {k + 1} to waypoint {k + 2} {why}: it got no "
+                       f"nearer than {cd:.2f} m, stopped near ({cp[0]:.2f}, {cp[1]:.2f}) by "
+                       f"{self._solid_name(j)}")
+                return self._fail(route, t0, total, searched, (cp[0], cp[1]), msg)
+            free_end = last and gh is None
+            kept = self._smooth(route, chain, free_end)
+            # The first kept pose is the leg's start: a waypoint already in ``out``.
+            if k == 0 or (k - 1) not in todo or out[-1].heading_deg is None:
+                s0 = kept[0]
+                out[-1] = Waypoint(out[-1].x, out[-1].y, math.degrees(s0[2]))
+            for j, p in enumerate(kept[1:], start=1):
+                if j == len(kept) - 1:
+                    h = None if free_end else math.degrees(p[2])
+                    out.append(Waypoint(w1.x, w1.y, h))
+                else:
+                    out.append(Waypoint(p[0], p[1], math.degrees(p[2])))
+            end = kept[-1]
+            starts = [(w1.x, w1.y, end[2])]
+        new = Route(route.name, tuple(out), route.turn_radius_m, route.reverse, route.extra)
+        return self._offer(new, t0, total, searched, tuple(sorted(todo)))
+
+    def _offer(self, new: Route, t0: float, total: int, searched: list, legs: tuple[int, ...],
+               notes: tuple[str, ...] = ()) -> FindResult:
+        """Plan and re-check the new route; offer it only when clear."""
+        pl = plan_route(new, self.chassis)
+        chk = check_route(pl, self.chassis, self.index, route_name=new.name, route=new)
+        found = chk.clear and not any(i.kind in ("infeasible", "turn_radius")
+                                      for i in pl.issues)
+        res = FindResult(new.name, found, new if found else None, pl if found else None,
+                         chk if found else None, total, time.perf_counter() - t0,
+                         searched=np.array(searched, dtype=float).reshape(-1, 2), legs=legs,
+                         notes=notes)
+        if not found:
+            v = chk.violations[0] if chk.violations else None
+            res.reason = ("the smoothed route failed its re-check"
+                          + (f": {v.message}" if v is not None else ""))
+            res.blocked_at = (v.x, v.y) if v is not None else None
+        return res
+
+    def _fail(self, route: Route, t0: float, total: int, searched: list,
+              at: tuple[float, float], msg: str) -> FindResult:
+        return FindResult(route.name, False, None, None, None, total,
+                          time.perf_counter() - t0, msg, at,
+                          np.array(searched, dtype=float).reshape(-1, 2))
+
+    def repair(self, route: Route, progress: ProgressFn | None = None,
+               should_stop: StopFn | None = None) -> FindResult:
+        """Keep the legs of ``route`` that pass and search again only the failing ones.
+
+        Where the kept legs no longer pass once the searched legs are in (a drive whose
+        corners cut past the waypoints), the whole route is searched instead and a note says
+        so.
+        """
+        self._check_inputs(route, self._route_index(route))
+        t0 = time.perf_counter()
+        pl = plan_route(route, self.chassis)
+        chk = check_route(pl, self.chassis, self.index, route_name=route.name, route=route)
+        bad_issue = [i for i in pl.issues if i.kind in ("infeasible", "turn_radius")]
+        n = len(route.waypoints)
+        if chk.clear and not bad_issue:
+            return FindResult(route.name, True, route, pl, chk, 0, time.perf_counter() - t0,
+                              notes=("the route passes as sketched; nothing to repair",))
+        stations = waypoint_stations(pl, route)
+        bad: set[int] = set()
+        for v in chk.violations:
+            leg = int(np.searchsorted(stations, v.station_m + 1e-9, side="right")) - 1
+            bad.add(min(max(leg, 0), n - 2))
+        for i in bad_issue:
+            if i.waypoint is not None:
+                bad.update(k for k in (i.waypoint - 1, i.waypoint) if 0 <= k <= n - 2)
+            else:
+                bad.update(range(n - 1))
+        # Fix the headings where kept and searched legs meet, as the sketch drives there.
+        wps = list(route.waypoints)
+        poses = poses_along(pl.segments, np.maximum(stations - 1e-9, 0.0)) \
+            if pl.segments else np.zeros((n, 3))
+        for k in range(n):
+            meets = ((k - 1) in bad) != (k in bad) or (k == 0 and 0 in bad)
+            if meets and wps[k].heading_deg is None and not (k == n - 1):
+                h = pl.start[2] if k == 0 else float(poses[k, 2])
+                wps[k] = Waypoint(wps[k].x, wps[k].y, math.degrees(h))
+            elif meets and k == n - 1 and wps[k].heading_deg is None and (n - 2) not in bad:
+                wps[k] = Waypoint(wps[k].x, wps[k].y, math.degrees(float(poses[k, 2])))
+        posed = Route(route.name, tuple(wps), route.turn_radius_m, route.reverse, route.extra)
+        res = self.find(posed, progress, should_stop, legs=sorted(bad), _t0=t0)
+        if res.found or res.reason.startswith("no route"):
+            return res
+        full = self.find(route, progress, should_stop, _t0=t0)
+        full.notes = full.notes + ("the kept legs did not pass with the searched ones; the "
+                                   "whole route was searched",)
+        return full
+
+
+def waypoint_stations(plan: RoutePlan, route: Route, step_m: float = 0.02) -> NDArray[np.float64]:
+    """Station (m) along ``plan`` nearest each waypoint of ``route``, in order, shape (n,)."""
+    n = len(route.waypoints)
+    total = plan.length_m
+    if total <= 0.0 or not plan.segments:
+        return np.zeros(n)
+    st = np.linspace(0.0, total, max(2, int(math.ceil(total / step_m)) + 1))
+    p = poses_along(plan.segments, st)
+    out = np.zeros(n)
+    lo = 0
+    for k, w in enumerate(route.waypoints):
+        if k == 0:
+            continue
+        if k == n - 1:
+            out[k] = total
+            continue
+        d = np.hypot(p[lo:, 0] - w.x, p[lo:, 1] - w.y)
+        i = lo + int(np.argmin(d))
+        out[k] = st[i]
+        lo = i
+    return out
+
+
+def find_route(project: Project, name: str, settings: FindSettings | None = None,
+               repair: bool = False) -> FindResult:
+    """Find (or repair) the route ``name`` of ``project`` (see :class:`RouteFinder`)."""
+    route = project.route(name)
+    finder = RouteFinder(project, settings=settings)
+    return finder.repair(route) if repair else finder.find(route)
+
+
+def replace_route(project: Project, route: Route) -> Project:
+    """``project`` with its route of the same name replaced by ``route``."""
+    routes = tuple(route if r.name == route.name else r for r in project.routes)
+    return Project(project.floorplan, project.chassis, routes, project.floorplan_ref,
+                   project.path, project.extra)
+
+
+__all__ = ["FindSettings", "FindResult", "RouteFinder", "SearchStopped", "find_route",
+           "replace_route", "primitives", "drive_mode", "waypoint_stations"]

@@ -1,0 +1,296 @@
+"""Transition curves: continuous-curvature (CC) turns of clothoid, arc and clothoid.
+
+A turn that jumps from a straight line onto an arc asks the drive for a step: every wheel's
+rate (and a car's steer angle) would have to change in no time. A CC turn (Fraichard &
+Scheuer, "From Reeds and Shepp's to continuous-curvature paths", IEEE T-RO 20(6), 2004) eases
+into the arc with a clothoid whose curvature grows linearly with distance, at the sharpness
+``sigma`` (1/m^2), keeps the arc's curvature ``kappa = 1 / R`` in between, and eases out with
+the mirror clothoid. Each clothoid turns the heading by ``kappa^2 / (2 sigma)``; where the
+corner turns less than the two together (``|a| < kappa^2 / sigma``) the turn is two clothoids
+meeting at the peak curvature ``sqrt(|a| sigma)`` (an "elementary path"), which is gentler
+than ``1 / R``. So a CC turn never reaches a radius below ``R``: the route's turn radius stays
+the smallest radius of the route.
+
+**Which sharpness, and why.** The planner chooses ``sigma`` from the chassis's rate limits at
+the design speed ``v_d`` of the turn (the fastest speed its arc allows: ``max_speed_mps``, the
+wheel-rate, lateral-acceleration and yaw-rate caps on the arc), so that half of each limit is
+left for speeding up and slowing down on the clothoid:
+
+- ``max_wheel_accel_radps2``: at speed ``v`` a wheel's rate is ``v rho(kappa)``, changing at
+  ``v^2 sigma rho'(kappa) + a rho(kappa)`` on a clothoid; ``sigma <= alpha_w / (2 v_d^2
+  max|rho'|)``;
+- ``max_yaw_accel_dps2``: yaw rate ``kappa v`` changes at ``sigma v^2 + kappa a``;
+  ``sigma <= alpha_yaw / (2 v_d^2)``;
+- ``max_steer_rate_dps`` (bicycle, Ackermann): the steer angle ``atan(L kappa)`` changes at
+  ``L sigma v / (1 + L^2 kappa^2) <= L sigma v``; ``sigma <= rate / (2 L v_d)``.
+
+With none of those limits given (transitions asked for explicitly), ``sigma`` keeps the lateral
+jerk ``sigma v^3`` at the design speed to ``COMFORT_JERK_MPS3`` (common practice for rail and
+road transition curves: 0.3 to 0.6 m/s^3). The speed profile (:mod:`kinematics.timing.profile`)
+then lowers the speed wherever the limits need it: the planner fixes the geometry once, the
+profile makes it drivable.
+"""
+
+from __future__ import annotations
+
+import math
+from collections.abc import Sequence
+
+import numpy as np
+from numpy.typing import ArrayLike, NDArray
+
+from kinematics.motion.drives import DriveModel, drive_for
+from kinematics.motion.segments import Segment, arc, clothoid, line
+
+#: Lateral jerk used when the chassis gives no rate limit, m/s^3 (common practice).
+COMFORT_JERK_MPS3 = 0.5
+#: Share of each rate limit the planner spends on the curvature change (the rest is left for
+#: the speed to change on the clothoid).
+CURVATURE_SHARE = 0.5
+#: Curvature samples used to bound a wheel's rate and its derivative along a clothoid.
+_KAPPA_SAMPLES = 33
+
+
+def wheel_rate_bounds(drive: DriveModel, kappa0: float, kappa1: float, direction: int = 1
+                      ) -> tuple[float, float]:
+    """``(max |rho|, max |d rho / d kappa|)`` over every wheel and every curvature between
+    ``kappa0`` and ``kappa1``, where ``rho(kappa)`` is a wheel's rate per unit speed.
+
+    Every drive's wheel rate per unit speed is a norm of an affine function of ``kappa`` (a
+    contact point's velocity ``(1 - kappa y_i, kappa x_i)``), so it is convex in ``kappa``
+    and its largest value is at an end; the derivative is taken by central differences at
+    ``_KAPPA_SAMPLES`` points, its largest magnitude also at an end for the same reason
+    (a norm's derivative is monotone along a line), and both ends are included.
+    """
+    ks = np.linspace(kappa0, kappa1, _KAPPA_SAMPLES)
+    d = float(direction)
+    h = 1e-6 * max(1.0, float(np.max(np.abs(ks))))
+    up = drive.inverse(d * np.ones_like(ks), np.zeros_like(ks), d * (ks + h)
+                       ).rates(drive.wheel_names)
+    dn = drive.inverse(d * np.ones_like(ks), np.zeros_like(ks), d * (ks - h)
+                       ).rates(drive.wheel_names)
+    # inverse takes the yaw rate per unit speed: omega = kappa * v for forward travel and
+    # omega = kappa * (signed distance rate) in reverse; the rates above use v = 1.
+    rho = drive.inverse(d * np.ones_like(ks), np.zeros_like(ks), d * ks).rates(drive.wheel_names)
+    grad = np.abs(up - dn) / (2.0 * h)
+    return float(np.max(np.abs(rho))), float(np.max(grad))
+
+
+def design_speed(chassis, radius_m: float, drive: DriveModel | None = None) -> float:
+    """The fastest speed on an arc of ``radius_m`` within the chassis's speed caps, m/s."""
+    drive = drive or drive_for(chassis)
+    v = float(chassis.max_speed_mps)
+    k = 1.0 / radius_m if radius_m > 0.0 else 0.0
+    if chassis.max_wheel_rate_radps is not None:
+        per = float(drive.max_rate_per_unit(1.0, 0.0, k))
+        if per > 0.0:
+            v = min(v, chassis.max_wheel_rate_radps / per)
+    if k > 0.0 and chassis.max_lateral_accel_mps2 is not None:
+        v = min(v, math.sqrt(chassis.max_lateral_accel_mps2 / k))
+    if k > 0.0 and chassis.max_yaw_rate_dps is not None:
+        v = min(v, math.radians(chassis.max_yaw_rate_dps) / k)
+    return v
+
+
+def transition_sharpness(chassis, radius_m: float) -> float:
+    """The sharpness ``sigma`` (1/m^2) of the clothoids easing into an arc of ``radius_m``
+    (see the module docstring)."""
+    drive = drive_for(chassis)
+    v = max(design_speed(chassis, radius_m, drive), 1e-3)
+    k = 1.0 / radius_m
+    caps = []
+    if chassis.max_wheel_accel_radps2 is not None:
+        _, grad = wheel_rate_bounds(drive, 0.0, k)
+        if grad > 0.0:
+            caps.append(CURVATURE_SHARE * chassis.max_wheel_accel_radps2 / (v * v * grad))
+    if chassis.max_yaw_accel_dps2 is not None:
+        caps.append(CURVATURE_SHARE * math.radians(chassis.max_yaw_accel_dps2) / (v * v))
+    if chassis.max_steer_rate_dps is not None and chassis.wheelbase_m and \
+            drive.name in ("bicycle", "ackermann"):
+        caps.append(CURVATURE_SHARE * math.radians(chassis.max_steer_rate_dps)
+                    / (chassis.wheelbase_m * v))
+    if not caps:
+        caps.append(COMFORT_JERK_MPS3 / v ** 3)
+    return float(min(caps))
+
+
+def cc_turn(start: Sequence[float], deflection_rad: float, radius_m: float, sigma: float
+            ) -> list[Segment]:
+    """A continuous-curvature turn from ``start`` (curvature 0) by ``deflection_rad``
+    (signed) with arcs no tighter than ``radius_m`` and clothoids of sharpness ``sigma``;
+    it ends with curvature 0 again (see the module docstring).
+
+    Public: the route finder smooths found paths with it.
+
+    Examples
+    --------
+    >>> segs = cc_turn((0.0, 0.0, 0.0), math.pi / 2, 1.0, 1.0)
+    >>> [s.kind for s in segs], round(sum(s.turn_rad for s in segs), 12)
+    (['clothoid', 'arc', 'clothoid'], 1.570796326795)
+    """
+    a = float(deflection_rad)
+    sgn = math.copysign(1.0, a)
+    k = 1.0 / float(radius_m)
+    lc = k / sigma
+    if k * k / sigma <= abs(a):
+        c1 = clothoid(start, 0.0, sgn * k, lc)
+        mid_turn = a - sgn * k * k / sigma
+        segs = [c1]
+        pose = c1.end
+        if abs(mid_turn) > 1e-12:
+            m = arc(pose, radius_m, mid_turn)
+            segs.append(m)
+            pose = m.end
+        segs.append(clothoid(pose, sgn * k, 0.0, lc))
+        return segs
+    kp = math.sqrt(abs(a) * sigma)
+    lp = kp / sigma
+    c1 = clothoid(start, 0.0, sgn * kp, lp)
+    return [c1, clothoid(c1.end, sgn * kp, 0.0, lp)]
+
+
+def cc_tangent_length(deflection_rad: float, radius_m: float, sigma: float) -> float:
+    """Distance from a corner to where its CC turn leaves (and, by symmetry, rejoins) the legs.
+
+    The turn from ``(0, 0, 0)`` ends at ``(x, y)`` on the second leg, which passes through the
+    corner ``(T, 0)`` at angle ``a``; so ``y = T sin a`` (and ``x = T + T cos a``).
+    """
+    a = abs(float(deflection_rad))
+    if a >= math.pi - 1e-9:
+        return math.inf
+    if a < 1e-12:
+        return 0.0
+    end = cc_turn((0.0, 0.0, 0.0), a, radius_m, sigma)[-1].end
+    return abs(end[1]) / math.sin(a)
+
+
+# -- continuous-curvature connections between poses (car-like drives) ----------------------------
+def cc_turn_ends(deflection_rad: ArrayLike, radius_m: float, sigma: float
+                 ) -> NDArray[np.float64]:
+    """End points ``(n, 2)`` of left CC turns of deflections ``>= 0`` from ``(0, 0, 0)``,
+    vectorised: the same turns as :func:`cc_turn`, in closed form through the Fresnel
+    integrals (a right turn is the mirror image, ``y -> -y``).
+
+    A clothoid from curvature 0 to ``k`` at sharpness ``sigma`` ends at
+    ``sqrt(pi / sigma) (C(t), S(t))``, ``t = k / sqrt(pi sigma)``, heading ``k^2 / (2 sigma)``
+    (DLMF 7.2); the clothoid easing out is its mirror, so from the pose where it starts it adds
+    ``R(theta_end) (a, -b)`` where ``(a, b)`` is the first one's displacement.
+    """
+    from scipy.special import fresnel
+
+    d = np.atleast_1d(np.asarray(deflection_rad, dtype=float))
+    k = 1.0 / radius_m
+    dmin = k * k / sigma
+    kk = np.where(d >= dmin, k, np.sqrt(np.maximum(d, 0.0) * sigma))
+    s_, c_ = fresnel(kk / math.sqrt(math.pi * sigma))
+    a = math.sqrt(math.pi / sigma) * c_
+    b = math.sqrt(math.pi / sigma) * s_
+    h = kk * kk / (2.0 * sigma)
+    # The arc (full turns only) rotates the first clothoid's end about the arc's centre.
+    phi = np.where(d >= dmin, d - dmin, 0.0)
+    ox, oy = a - radius_m * np.sin(h), b + radius_m * np.cos(h)
+    px = ox + np.cos(phi) * (a - ox) - np.sin(phi) * (b - oy)
+    py = oy + np.sin(phi) * (a - ox) + np.cos(phi) * (b - oy)
+    cd, sd = np.cos(d), np.sin(d)
+    return np.stack([px + cd * a + sd * b, py + sd * a - cd * b], axis=-1)
+
+
+def _cc_turn_length(d: float, radius_m: float, sigma: float) -> float:
+    k = 1.0 / radius_m
+    if d >= k * k / sigma:
+        return 2.0 * k / sigma + radius_m * (d - k * k / sigma)
+    return 2.0 * math.sqrt(d / sigma)
+
+
+def _csc_gap(theta: NDArray[np.float64], start: Sequence[float], goal: Sequence[float],
+             s1: float, s2: float, radius_m: float, sigma: float):
+    """For line directions ``theta``: the deflections, and the cross and dot products of the
+    line direction with the vector from the first turn's end to the second turn's start."""
+    two_pi = 2.0 * math.pi
+    d1 = np.mod(s1 * (theta - start[2]), two_pi)
+    d2 = np.mod(s2 * (goal[2] - theta), two_pi)
+    e1 = cc_turn_ends(d1, radius_m, sigma)
+    e2 = cc_turn_ends(d2, radius_m, sigma)
+    e1[:, 1] *= s1
+    e2[:, 1] *= s2
+    c0, s0 = math.cos(start[2]), math.sin(start[2])
+    x1 = start[0] + c0 * e1[:, 0] - s0 * e1[:, 1]
+    y1 = start[1] + s0 * e1[:, 0] + c0 * e1[:, 1]
+    ct, st = np.cos(theta), np.sin(theta)
+    x2 = goal[0] - (ct * e2[:, 0] - st * e2[:, 1])
+    y2 = goal[1] - (st * e2[:, 0] + ct * e2[:, 1])
+    dx, dy = x2 - x1, y2 - y1
+    return d1, d2, ct * dy - st * dx, ct * dx + st * dy
+
+
+#: Line directions scanned for each CC word before the roots are refined by bisection.
+_SCAN = 720
+
+
+def cc_connect(start: Sequence[float], goal: Sequence[float], radius_m: float, sigma: float
+               ) -> list[Segment] | None:
+    """The shortest continuous-curvature path of the four turn-line-turn words (LSL, RSR,
+    LSR, RSL; each turn a CC turn of :func:`cc_turn`, its arcs of ``radius_m``) from
+    ``start`` to ``goal`` (poses ``(x, y, heading_rad)``), or ``None`` where none joins them.
+
+    The CC version of the Dubins turn-line-turn family (Fraichard & Scheuer 2004, sec. V): the
+    line's direction ``theta`` fixes both deflections, and the one equation left (the line
+    from the first turn's end to the second turn's start points along ``theta``) is solved by
+    scanning ``theta`` and refining each sign change (bisection, then false position). The
+    turn-turn-turn words are not tried; where only they would join the poses the caller keeps
+    the plain Dubins path.
+
+    Public: the route finder smooths found paths with it.
+    """
+    best: tuple[float, list] | None = None
+    th = start[2] + np.linspace(0.0, 2.0 * math.pi, _SCAN, endpoint=False)
+    for s1 in (1.0, -1.0):
+        for s2 in (1.0, -1.0):
+            d1, d2, cr, dot = _csc_gap(th, start, goal, s1, s2, radius_m, sigma)
+            nxt = np.roll(np.arange(_SCAN), -1)
+            jump = (np.abs(d1[nxt] - d1) > math.pi) | (np.abs(d2[nxt] - d2) > math.pi)
+            br = np.flatnonzero((np.sign(cr) != np.sign(cr[nxt])) & ~jump)
+            if br.size == 0:
+                continue
+            lo = th[br].copy()
+            hi = lo + 2.0 * math.pi / _SCAN
+            flo, fhi = cr[br], cr[nxt[br]]
+            # Bisection to a bracket of about 2e-6 rad, then false position (the gap is
+            # smooth there, so each step squares the error).
+            for it in range(16):
+                if it < 12:
+                    mid = 0.5 * (lo + hi)
+                else:
+                    with np.errstate(divide="ignore", invalid="ignore"):
+                        mid = np.where(fhi != flo, lo - flo * (hi - lo) / (fhi - flo),
+                                       0.5 * (lo + hi))
+                    mid = np.clip(mid, np.minimum(lo, hi), np.maximum(lo, hi))
+                _, _, fm, _ = _csc_gap(mid, start, goal, s1, s2, radius_m, sigma)
+                left = np.sign(fm) == np.sign(flo)
+                lo = np.where(left, mid, lo)
+                flo = np.where(left, fm, flo)
+                hi = np.where(left, hi, mid)
+                fhi = np.where(left, fhi, fm)
+            root = np.where(np.abs(flo) <= np.abs(fhi), lo, hi)
+            r1, r2, cr_r, dot_r = _csc_gap(root, start, goal, s1, s2, radius_m, sigma)
+            for j in range(root.size):
+                if abs(cr_r[j]) > 1e-9 or dot_r[j] < -1e-9:
+                    continue
+                length = (_cc_turn_length(r1[j], radius_m, sigma) + max(dot_r[j], 0.0)
+                          + _cc_turn_length(r2[j], radius_m, sigma))
+                if best is None or length < best[0]:
+                    best = (length, [s1 * r1[j], max(dot_r[j], 0.0), s2 * r2[j]])
+    if best is None:
+        return None
+    a1, run, a2 = best[1]
+    segs: list[Segment] = []
+    pose = tuple(float(v) for v in start)
+    if abs(a1) > 1e-12:
+        segs += cc_turn(pose, a1, radius_m, sigma)
+        pose = segs[-1].end
+    if run > 1e-12:
+        segs.append(line(pose, run))
+        pose = segs[-1].end
+    if abs(a2) > 1e-12:
+        segs += cc_turn(pose, a2, radius_m, sigma)
+    return segs

@@ -1,0 +1,107 @@
+"""Sweep and check of a train (tug + trailers) against dense-pose shapely unions."""
+
+from __future__ import annotations
+
+import math
+
+import numpy as np
+import pytest
+import shapely
+
+from kinematics.check.clearance import ObstacleIndex
+from kinematics.check.sweep import placed_footprints
+from kinematics.check.train import check_train, sweep_trailer
+from kinematics.files.floorplan import FloorPlan, Obstacle
+from kinematics.files.project import Chassis, Trailer
+from kinematics.motion.segments import arc, line, pivot
+from kinematics.motion.trailers import trace_train
+
+CART = ((-0.45, -0.3), (0.35, -0.3), (0.35, 0.3), (-0.45, 0.3))
+ODD = ((-0.5, -0.25), (0.3, -0.3), (0.45, 0.0), (0.3, 0.3), (-0.2, 0.1), (-0.5, 0.25))
+TUG = Chassis(name="ward tug", footprint=((-0.3, -0.3), (0.5, -0.3), (0.5, 0.3), (-0.3, 0.3)),
+              margin_m=0.05, track_m=0.5,
+              trailers=(Trailer("linen cart", -0.4, 0.8, CART),
+                        Trailer("meal cart", -0.5, 0.7, ODD, margin_m=0.03,
+                                max_hitch_deg=60.0)))
+
+
+def _plan():
+    segs = [line((0.0, 0.0, 0.0), 2.0)]
+    for kind, *a in (("arc", 1.5, math.pi / 2), ("line", 1.0), ("pivot", -math.pi / 6),
+                     ("arc", 2.0, -math.pi / 3), ("line", 2.5)):
+        segs.append({"line": line, "arc": arc, "pivot": pivot}[kind](segs[-1].end, *a))
+    return segs
+
+
+def _dense(trace, j, fp, step=0.004):
+    """The trailer placed at dense poses along the trace (every 4 mm of progress)."""
+    polys = []
+    for i in range(len(trace.segments)):
+        a = trace.amount(i)
+        if a <= 0.0:
+            continue
+        p = np.linspace(0.0, a, max(2, math.ceil(a / step) + 1))
+        polys.extend(placed_footprints(fp, trace.poses(i, p)[:, j + 1]))
+    return shapely.union_all(np.array(polys, dtype=object))
+
+
+@pytest.mark.parametrize("j", [0, 1])
+def test_trailer_band_contains_dense_union_and_is_tight(j: int) -> None:
+    # Source: shapely (GEOS) union of the trailer placed at dense poses along the same trace:
+    # the band must contain it, and exceed it by at most the tolerance plus the few tenths
+    # of a millimetre the dense sampling leaves between its placements.
+    segs = _plan()
+    trace = trace_train(segs, TUG.trailers)
+    fp = TUG.trailers[j].footprint
+    chunks = sweep_trailer(trace, j, fp, 0.002)
+    band = shapely.union_all(np.concatenate([c.parts for c in chunks]))
+    dense = _dense(trace, j, fp)
+    assert dense.difference(band).area < 1e-9
+    assert band.buffer(1e-7).contains(dense)
+    # The band's farthest point from the dense union (its outline, finely segmentised).
+    pts = shapely.points(shapely.get_coordinates(shapely.segmentize(band.boundary, 0.002)))
+    assert float(shapely.distance(pts, dense).max()) <= 0.002 + 0.0005
+
+
+def test_train_clearance_is_conservative_and_names_the_body() -> None:
+    # Source: shapely distances of the dense placements of each body (reference), against
+    # the check's promise: reported clearance <= true, and at most the tolerance below.
+    segs = _plan()
+    trace = trace_train(segs, TUG.trailers)
+    # A post inside the first turn: the trailers cut inside the tug's path (off-tracking).
+    cx, cy = segs[1].arc_centre()
+    px, py = cx + 0.95 * math.cos(-math.pi / 4), cy + 0.95 * math.sin(-math.pi / 4)
+    post = Obstacle(((px - 0.05, py - 0.05), (px + 0.05, py - 0.05), (px + 0.05, py + 0.05),
+                     (px - 0.05, py + 0.05)), "post")
+    idx = ObstacleIndex(FloorPlan(obstacles=(post,)))
+    chk = check_train(segs, TUG, idx, 0.002, "r")
+    solid = idx.geometries[0]
+    bodies = {b["body"]: b for b in chk.train.bodies}
+    for j, t in enumerate(TUG.trailers):
+        true = float(_dense(trace, j, t.footprint).distance(solid))
+        got = bodies[f"trailer {j + 1} ({t.name})"]["min_clearance_m"]
+        assert got <= true + 1e-9
+        assert got >= true - 0.002 - 1e-6 or true <= 0.0
+    tug_c = bodies["tug (ward tug)"]["min_clearance_m"]
+    assert tug_c > 0.05  # the tug itself clears the post with its margin
+    assert chk.min_clearance_m == min(b["min_clearance_m"] for b in chk.train.bodies)
+    hit = [v for v in chk.violations if v.kind in ("collision", "clearance")]
+    assert {v.kind for v in hit} == {"clearance", "collision"}
+    assert {v.body for v in hit} == {"trailer 1 (linen cart)", "trailer 2 (meal cart)"}
+    assert all(v.to_dict()["body"] == v.body for v in hit)
+    assert not chk.clear
+
+
+def test_jackknife_when_reversing() -> None:
+    # Source: common practice (n-trailer kinematics): reversing round a turn the hitch angle
+    # grows (the unstable direction) until the trailer folds; forward it settles.
+    start = (0.0, 0.0, 0.0)
+    rev = [line(start, 0.5, -1), arc(line(start, 0.5, -1).end, 1.6, math.pi / 2, -1)]
+    idx = ObstacleIndex(FloorPlan())
+    chk = check_train(rev, TUG, idx, 0.002, "back")
+    jk = [v for v in chk.violations if v.kind == "jackknife"]
+    assert jk and jk[0].body.startswith("trailer")
+    assert jk[0].hitch_deg > 60.0 and "reversing" in jk[0].message
+    fwd = [line(start, 0.5), arc(line(start, 0.5).end, 1.6, math.pi / 2)]
+    assert not [v for v in check_train(fwd, TUG, idx, 0.002, "fwd").violations
+                if v.kind == "jackknife"]

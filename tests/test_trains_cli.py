@@ -1,0 +1,66 @@
+"""Trains and fleets through the command line: check, plan and schedule of the sample."""
+
+from __future__ import annotations
+
+import json
+import math
+from pathlib import Path
+
+from app.cli import main
+
+SAMPLE = str(Path(__file__).resolve().parent.parent / "sample_floorplans"
+             / "clinic_train.swathe.json")
+
+
+def _run(capsys, *argv) -> tuple[int, str]:
+    code = main(list(argv))
+    return code, capsys.readouterr().out
+
+
+def test_check_lists_bodies_and_vehicles(capsys) -> None:
+    code, out = _run(capsys, "check", SAMPLE, "--json")
+    assert code == 0
+    routes = {r["name"]: r for r in json.loads(out)["routes"]}
+    train = routes["linen-to-ward-b"]
+    assert train["chassis"] == "ward tug"
+    assert [b["body"] for b in train["bodies"]] == ["tug (ward tug)", "trailer 1 (linen cart)",
+                                                    "trailer 2 (meal cart)"]
+    # Common practice (off-tracking): the carts cut inside the turn, so the train's least
+    # clearance is a cart's, below the tug's own.
+    assert train["min_clearance_m"] == min(b["min_clearance_m"] for b in train["bodies"])
+    assert train["min_clearance_m"] < train["bodies"][0]["min_clearance_m"]
+    assert routes["supply-return"]["chassis"] == "hospital delivery cart"
+    assert "bodies" not in routes["supply-return"]
+    code, text = _run(capsys, "check", SAMPLE)
+    assert "(vehicle 'ward tug')" in text and "trailer 2 (meal cart): least clearance" in text
+
+
+def test_plan_names_vehicle(capsys) -> None:
+    code, out = _run(capsys, "plan", SAMPLE, "--json")
+    assert code == 0
+    assert [r["chassis"] for r in json.loads(out)["routes"]] == ["ward tug",
+                                                                 "hospital delivery cart"]
+
+
+def test_schedule_samples_carry_trailers(capsys) -> None:
+    code, out = _run(capsys, "schedule", SAMPLE, "--route", "linen-to-ward-b")
+    assert code == 0
+    samples = json.loads(out)["samples"]
+    assert all([t["name"] for t in s["trailers"]] == ["linen cart", "meal cart"]
+               for s in samples)
+    first = samples[0]
+    # Starting in line with the tug: each axle midpoint lies on the tug's axis, hitch offset
+    # plus drawbar behind the body ahead (geometry of the hitch, common practice).
+    h0 = math.radians(first["heading_deg"])
+    t1 = first["trailers"][0]
+    assert math.hypot(t1["x"] - (first["x"] - 1.10 * math.cos(h0)),
+                      t1["y"] - (first["y"] - 1.10 * math.sin(h0))) < 1e-9
+    for s in samples:
+        ahead = s["heading_deg"]
+        for t in s["trailers"]:
+            d = math.remainder(ahead - t["heading_deg"], 360.0)
+            assert abs(d - t["hitch_deg"]) < 1e-6
+            ahead = t["heading_deg"]
+    assert max(abs(t["hitch_deg"]) for s in samples for t in s["trailers"]) > 20.0
+    code, out = _run(capsys, "schedule", SAMPLE, "--route", "supply-return")
+    assert "trailers" not in json.loads(out)["samples"][0]
