@@ -66,6 +66,7 @@ from .scene import (
     route_style,
     violation_layer,
 )
+from .zone_paint import ZONE_STYLE, zone_brush
 
 # Marker shape per violation kind: the scene's (app.scene.VIOLATION_SHAPES, drawn by
 # app.qstyle.marker_path), as in the picture; the words beside them are the analysis's.
@@ -247,7 +248,8 @@ def _symbol_path(symbol: str, size_px: float) -> QPainterPath:
     return path
 
 
-_SCENE_SHAPES = {"cross", "triangle", "square", "star", "diamond", "circle"}
+_SCENE_SHAPES = {"cross", "triangle", "square", "star", "diamond", "hexagon", "chevron",
+                 "circle"}
 
 
 _SYMBOL_PATHS: dict[tuple[str, float], QPainterPath] = {}
@@ -525,6 +527,17 @@ class PlanCanvas(QWidget):
         # pixels would shift against a fresh paint).
         for it in (self.walls_item, self.obstacles_item):
             it.setCacheMode(QGraphicsItem.CacheMode.DeviceCoordinateCache)
+        # Zones under the solids: a faint fill per kind and the kind's outline style (the
+        # picture adds hatching; here patterns would scale with the zoom).
+        self.zone_items = {}
+        for kind in ZONE_STYLE:
+            fill, _hatch, zpen = zone_brush(kind, alpha=55)
+            it = QGraphicsPathItem()
+            it.setPen(zpen)
+            it.setBrush(fill)
+            it.setZValue(-6)
+            add(it)
+            self.zone_items[kind] = it
         self.door_gaps_item = _Polyline(qpen(STYLES["door_gap"].stroke, cosmetic=True))
         self.doors_item = _Polyline(qpen(STYLES["door"].stroke, cosmetic=True))
         for it in (self.door_gaps_item, self.doors_item):
@@ -656,6 +669,9 @@ class PlanCanvas(QWidget):
         self.obstacles_item.setPath(polygons_path(shapely.orient_polygons(obst), wind)
                                     if obst else polygons_path([]))
         self.hatch_item.setPath(self.obstacles_item.path())
+        zk = index.zones
+        for kind, it in self.zone_items.items():
+            it.setPath(polygons_path(list(getattr(zk, kind).geometries)))
         self._solid_geoms = [s.geometry for s in sol]
         self._solids_tree = index.tree if sol else None
         layer = floorplan_layer(fp, solids_list=sol)

@@ -28,7 +28,7 @@ from PySide6.QtGui import QUndoCommand, QUndoStack
 
 from kinematics.analysis.results import clearance_words  # noqa: F401 - the window imports it here
 from kinematics.errors import SwatheInputError
-from kinematics.files.floorplan import FloorPlan
+from kinematics.files.floorplan import FloorPlan, save_floorplan
 from kinematics.files.project import Chassis, Project, Route, Waypoint, load_project, save_project
 
 _LEAK_PROBE_CALLS = 64  # void calls measured; a leaking binding loses one reference each
@@ -191,6 +191,7 @@ class Document(QObject):
     def __init__(self, project: Project | None = None, parent: QObject | None = None) -> None:
         super().__init__(parent)
         self._project = project if project is not None else empty_project()
+        self._saved_floorplan = self._project.floorplan
         self._current = 0 if self._project.routes else -1
         self._forced_dirty = False
         self.undo_stack = QUndoStack(self)
@@ -558,12 +559,28 @@ class Document(QObject):
     def set_floorplan(self, fp: FloorPlan, ref: str | dict | None) -> None:
         """Use floor plan ``fp``; ``ref`` is how the project file names it (path or import)."""
         after = dataclasses.replace(self._project, floorplan=fp, floorplan_ref=ref)
+        if isinstance(ref, str) and ref.lower().endswith(".floor.json"):
+            self._saved_floorplan = fp  # read from that file: nothing to write back
         self._push(f"Use floor plan {fp.name or Path(fp.source).name!r}", after, "floorplan")
+
+    def edit_floorplan(self, fp: FloorPlan, text: str, drag: int | None = None) -> None:
+        """Replace the floor plan by an edited one (one undo step; steps with the same
+        ``drag`` key merge). A plan imported from DXF or SVG is kept inline from then on: an
+        edit cannot be written back into the drawing."""
+        ref = self._project.floorplan_ref
+        if isinstance(ref, dict) and "file" in ref:
+            ref = None
+        elif isinstance(ref, str) and not ref.lower().endswith(".floor.json"):
+            ref = None
+        after = dataclasses.replace(self._project, floorplan=fp, floorplan_ref=ref)
+        key = None if drag is None else ("plan", drag)
+        self._push(text, after, "floorplan", merge_key=key)
 
     # -- files ------------------------------------------------------------------------------
     def replace_project(self, project: Project, dirty: bool = False) -> None:
         """Start over on ``project`` (a fresh undo history); used by open, new and recover."""
         self._project = project
+        self._saved_floorplan = project.floorplan  # as in its file: save rewrites it if edited
         self._plans.clear()
         self._checks.clear()
         self._schedules.clear()
@@ -601,7 +618,13 @@ class Document(QObject):
         old_base = self.path.parent if self.path is not None else Path.cwd()
         ref = _rebase_ref(self._project.floorplan_ref, old_base, target.parent)
         project = dataclasses.replace(self._project, floorplan_ref=ref, path=target)
+        if isinstance(ref, str) and ref.lower().endswith(".floor.json"):
+            # The floor plan lives in its own file: write it (atomically) when it differs.
+            plan_path = (target.parent / ref)
+            if project.floorplan != self._saved_floorplan or not plan_path.exists():
+                save_floorplan(project.floorplan, plan_path)
         save_project(project, target)
+        self._saved_floorplan = project.floorplan
         self._project = project
         self._forced_dirty = False
         self.undo_stack.setClean()

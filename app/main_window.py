@@ -51,6 +51,8 @@ DEMO_PROJECT = SAMPLES / "demo.swathe.json"
 PROJECT_FILTER = "Swathe projects (*.swathe.json);;JSON (*.json);;All files (*)"
 FLOOR_FILTER = ("Floor plans (*.floor.json *.dxf *.svg);;Swathe floor plan (*.floor.json);;"
                 "DXF drawing (*.dxf);;SVG drawing (*.svg);;All files (*)")
+OPEN_FILTER = ("Swathe projects (*.swathe.json);;Floor plans, for a new project "
+               "(*.floor.json *.dxf *.svg);;JSON (*.json);;All files (*)")
 MAX_RECENT = 8
 ROLES = ("ignore", "walls", "obstacles", "doors")
 
@@ -192,6 +194,10 @@ class MainWindow(QMainWindow):
         K = QKeySequence.StandardKey
         self.act_new = self._act("&New project", self._menu_new, K.New)
         self.act_open = self._act("&Open project...", self._menu_open, K.Open)
+        self.act_new_from_plan = self._act("New project from floor p&lan...",
+                                           self._menu_new_from_plan, None,
+                                           "Start a new project on a floor plan "
+                                           "(*.floor.json, DXF or SVG)")
         self.act_open_plan = self._act("Open &floor plan...", self._menu_open_plan,
                                        QKeySequence("Ctrl+Shift+O"),
                                        "Use a floor plan (*.floor.json, DXF or SVG)")
@@ -238,7 +244,7 @@ class MainWindow(QMainWindow):
     def _build_menus(self) -> None:
         mb = self.menuBar()
         f = mb.addMenu("&File")
-        for a in (self.act_new, self.act_open, self.act_open_plan):
+        for a in (self.act_new, self.act_new_from_plan, self.act_open, self.act_open_plan):
             f.addAction(a)
         self.recent_menu = f.addMenu("Open &recent")
         f.addSeparator()
@@ -591,8 +597,34 @@ class MainWindow(QMainWindow):
             return self._menu_save()
         return ans == QMessageBox.StandardButton.Discard
 
+    @staticmethod
+    def is_floorplan_path(path: str | Path) -> bool:
+        """A floor-plan file (native, DXF or SVG) rather than a project."""
+        p = Path(path)
+        return p.name.lower().endswith(".floor.json") or p.suffix.lower() in (".dxf", ".svg")
+
+    def ask_new_from_plan(self, path: Path) -> bool:
+        """Asked when Open project is given a floor plan: start a new project on it?"""
+        ans = QMessageBox.question(
+            self, "Open a floor plan",
+            f"{path.name} is a floor plan, not a project.\n\nStart a new project on it?",
+            QMessageBox.StandardButton.Yes | QMessageBox.StandardButton.Cancel)
+        return ans == QMessageBox.StandardButton.Yes
+
+    def new_project_from_floorplan(self, path: str | Path, options: dict[str, Any] | None = None,
+                                   background: bool = True) -> bool:
+        """A new project (default chassis, no routes) on the floor plan at ``path``."""
+        self.doc.new_project()
+        return self.open_floorplan_file(path, options, background)
+
     def open_project_file(self, path: str | Path) -> bool:
-        """Open a project; a bad file shows one message and keeps the current document."""
+        """Open a project; a bad file shows one message and keeps the current document.
+
+        Given a floor plan instead, offers a new project on it."""
+        if self.is_floorplan_path(path):
+            if not self.ask_new_from_plan(Path(path)):
+                return False
+            return self.new_project_from_floorplan(path)
         try:
             self.doc.open_project(path)
         except SwatheInputError as exc:
@@ -825,9 +857,17 @@ class MainWindow(QMainWindow):
         if not self.confirm_discard():
             return
         path, _ = QFileDialog.getOpenFileName(self, "Open project", self._start_dir(),
-                                              PROJECT_FILTER)
+                                              OPEN_FILTER)
         if path:
             self.open_project_file(path)
+
+    def _menu_new_from_plan(self) -> None:
+        if not self.confirm_discard():
+            return
+        path, _ = QFileDialog.getOpenFileName(self, "New project from floor plan",
+                                              self._start_dir(), FLOOR_FILTER)
+        if path:
+            self.new_project_from_floorplan(path)
 
     def _menu_open_plan(self) -> None:
         path, _ = QFileDialog.getOpenFileName(self, "Open floor plan", self._start_dir(),

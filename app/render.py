@@ -84,6 +84,7 @@ from .scene import (  # noqa: F401 - the geometry helpers are re-exported for ol
     swept_geometry,
     violation_layer,
 )
+from .zone_paint import ZONE_STYLE, ZONE_WORDS, draw_zone_sample, draw_zones, zone_caption
 
 #: The swept band, as the scene styles it.
 BAND_RGBA = (*(int(STYLES["band"].fill.colour[i:i + 2], 16) for i in (1, 3, 5)),
@@ -429,8 +430,9 @@ def _draw(p: QPainter, project: Any, plans: dict, checks: dict, route_name: str 
     p.setClipRect(plan_rect)
 
     _draw_grid(p, view, plan_rect, u)
-    # Swept bands first, under the walls as in the window, so paths, outlines and markers sit
-    # on top of them.
+    # Zones, then the swept bands under the walls as in the window, so paths, outlines and
+    # markers sit on top of them.
+    draw_zones(p, project.floorplan.zones, view.pt, view.scale, u)
     p.setPen(Qt.PenStyle.NoPen)
     p.setBrush(qbrush(STYLES["band"].fill))
     for g in bands.values():
@@ -440,6 +442,7 @@ def _draw(p: QPainter, project: Any, plans: dict, checks: dict, route_name: str 
     for poly in plan_layer.polygons:
         _paint_polygons(p, view, poly.role, poly.geoms, u)
     _obstacle_labels(p, view, plan_layer, u, labels)
+    _zone_captions(p, view, project.floorplan.zones, u, labels)
     # Doors with the plan, under the routes (as in the window, where the route being edited
     # lies over them).
     for line in plan_layer.lines:
@@ -471,7 +474,8 @@ def _draw(p: QPainter, project: Any, plans: dict, checks: dict, route_name: str 
         _draw_title(p, project, plans, checks, route_name, errors, W, title_h, u, f_title,
                     f_sub)
     _draw_legend(p, QRectF(W - legend_w - m, plan_rect.top(), legend_w, plan_rect.height()),
-                 [r.name for r in routes], index_of, checks, u, f_label, f_small)
+                 [r.name for r in routes], index_of, checks, u, f_label, f_small,
+                 project.floorplan.zones)
     if footer:
         p.setPen(QColor(FAINT_INK))
         p.setFont(font(10.5 * u))
@@ -676,9 +680,41 @@ def _draw_title(p: QPainter, project: Any, plans: dict, checks: dict, route_name
                fms.elidedText(sub, Qt.TextElideMode.ElideRight, left.width()))
 
 
+def _zone_captions(p: QPainter, view: _View, zones: Sequence[Any], u: float,
+                   labels: _Labels) -> None:
+    """Each zone's label and number inside it, where it fits and nothing is there yet."""
+    from shapely.geometry import Polygon
+
+    f = font(10.5 * u)
+    fm = QFontMetricsF(f)
+    p.setFont(f)
+    for z in zones:
+        poly = Polygon(z.points)
+        if not poly.is_valid or poly.area <= 0:
+            continue
+        text = zone_caption(z)
+        c = poly.representative_point()
+        # Near the zone's top edge, where a route through its middle leaves it readable.
+        top = view.pt(c.x, poly.bounds[3])
+        r = QRectF(0, 0, fm.horizontalAdvance(text) + 6, fm.height())
+        r.moveCenter(QPointF(top.x(), top.y() + 4 * u + fm.height() / 2))
+        if not view.pt(c.x, poly.bounds[1]).y() - top.y() > 2 * fm.height():
+            r.moveCenter(view.pt(c.x, c.y))
+        if not labels.bounds.contains(r):
+            continue
+        labels.block(r)
+        p.setPen(Qt.PenStyle.NoPen)
+        p.setBrush(QBrush(qcolor("#FFFFFF", 215)))
+        p.drawRect(r)
+        p.setPen(QColor(ZONE_STYLE[z.kind][0]).darker(140))
+        p.drawText(r, Qt.AlignmentFlag.AlignCenter, text)
+
+
 def _draw_legend(p: QPainter, rect: QRectF, names: Sequence[str], index_of: dict, checks: dict,
-                 u: float, f: QFont, f_small: QFont) -> None:
-    rows = legend_rows(names, checks, index_of)
+                 u: float, f: QFont, f_small: QFont, zones: Sequence[Any] = ()) -> None:
+    zone_rows = [("zone", ZONE_WORDS[kind], kind) for kind in ZONE_STYLE
+                 if any(z.kind == kind for z in zones)]
+    rows = legend_rows(names, checks, index_of, zone_rows)
     row_h = 25 * u
     head_h = 28 * u
     needed = head_h + row_h * len(rows) + 10 * u
@@ -708,6 +744,8 @@ def _draw_legend(p: QPainter, rect: QRectF, names: Sequence[str], index_of: dict
             if hatch is not None:
                 p.setBrush(hatch)
                 p.drawRect(sample)
+        elif kind == "zone":
+            draw_zone_sample(p, arg, sample)
         elif kind == "door":
             p.setPen(qpen(STYLES["door"].stroke, u))
             p.drawLine(QPointF(x0, cy), QPointF(x0 + sw, cy))

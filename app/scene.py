@@ -119,7 +119,8 @@ def route_style(k: int, direction: int = 1) -> Stroke:
 # -- markers --------------------------------------------------------------------------------
 #: Marker shape per violation kind.
 VIOLATION_SHAPES = {"collision": "cross", "clearance": "triangle", "turn_radius": "square",
-                    "infeasible": "star", "waypoint_blocked": "diamond"}
+                    "infeasible": "star", "waypoint_blocked": "diamond", "keep_out": "hexagon",
+                    "wrong_way": "chevron"}
 
 
 def marker_polygon(shape: str) -> np.ndarray | None:
@@ -145,6 +146,13 @@ def marker_polygon(shape: str) -> np.ndarray | None:
         return np.column_stack([rr * np.cos(a), rr * np.sin(a)])
     if shape == "diamond":
         return np.array([(0.0, -1.0), (1.0, 0.0), (0.0, 1.0), (-1.0, 0.0)])
+    if shape == "hexagon":
+        k = np.arange(6)
+        return np.column_stack([np.cos(k * math.pi / 3), np.sin(k * math.pi / 3)])
+    if shape == "chevron":  # points right, as along a one-way direction
+        w = 0.45
+        return np.array([(-1, -1), (-1 + w, -1), (1, 0), (-1 + w, 1), (-1, 1),
+                         (1 - 1.5 * w, 0)], float)
     return None
 
 
@@ -363,11 +371,14 @@ def violation_layer(checks: dict, forced: int = 8) -> Layer:
 
 
 def legend_rows(route_names: Sequence[str], checks: dict,
-                route_index: dict[str, int] | None = None) -> list[tuple[str, str, Any]]:
-    """``(kind, words, argument)`` per legend row: the plan's parts, each route by its colour,
-    the route's marks, and every violation kind (``(none)`` where the routes have none)."""
+                route_index: dict[str, int] | None = None,
+                zone_rows: Sequence[tuple[str, str, Any]] = ()) -> list[tuple[str, str, Any]]:
+    """``(kind, words, argument)`` per legend row: the plan's parts (with ``zone_rows``, the
+    zones present), each route by its colour, the route's marks, and every violation kind
+    (``(none)`` where the routes have none; the zone rules only where a route breaks one)."""
     rows: list[tuple[str, str, Any]] = [("wall", "wall", None), ("obstacle", "obstacle", None),
                                         ("door", "door opening (width, clearance)", None)]
+    rows += list(zone_rows)
     for k, name in enumerate(route_names):
         kk = route_index.get(name, k) if route_index else k
         rows.append(("path", f"route {name}", ROUTE_COLOURS[kk % len(ROUTE_COLOURS)]))
@@ -376,6 +387,8 @@ def legend_rows(route_names: Sequence[str], checks: dict,
              ("waypoint", "waypoint (number)", None)]
     kinds = {v.kind for chk in checks.values() for v in violations_of(chk)}
     for kind in VIOLATION_SHAPES:
+        if kind in ("keep_out", "wrong_way") and kind not in kinds:
+            continue  # zone rules: listed when a route breaks one
         rows.append(("violation", VIOLATION_WORDS[kind] + ("" if kind in kinds else " (none)"),
                      kind))
     return rows

@@ -26,7 +26,8 @@ from kinematics.errors import SwatheInputError
 #: Word shown beside each violation kind's marker, in legends and in tables.
 VIOLATION_WORDS = {"collision": "overlap", "clearance": "short of margin",
                    "turn_radius": "radius short", "infeasible": "no connection",
-                   "waypoint_blocked": "waypoint blocked"}
+                   "waypoint_blocked": "waypoint blocked", "keep_out": "in keep-out zone",
+                   "wrong_way": "against one-way zone"}
 MPS2 = "m/s\u00b2"
 
 

@@ -67,15 +67,13 @@ CIRCLE_TOLERANCE_M = 0.001
 def circumscribed_circle(centre: Point, radius_m: float,
                          tolerance_m: float = CIRCLE_TOLERANCE_M) -> tuple[Point, ...]:
     """A regular polygon round the circle: every side touches it, no vertex is more than
-    ``tolerance_m`` outside it (vertices at ``r / cos(pi / n)``, circle geometry), so a
+    ``tolerance_m`` outside it (:func:`kinematics.files.curves.circle_points_outside`), so a
     distance measured to the polygon never exceeds the distance to the circle."""
-    r = float(radius_m)
-    # r / cos(pi / n) - r <= tol  <=>  cos(pi / n) >= r / (r + tol)
-    n = max(16, math.ceil(math.pi / math.acos(r / (r + tolerance_m))))
-    rv = r / math.cos(math.pi / n)
-    t = np.arange(n) * (2.0 * math.pi / n)
-    cx, cy = centre
-    return tuple((float(cx + rv * math.cos(a)), float(cy + rv * math.sin(a))) for a in t)
+    from kinematics.files.curves import circle_points_outside
+
+    pts = circle_points_outside((float(centre[0]), float(centre[1])), float(radius_m),
+                                tolerance_m)[:-1]
+    return tuple((float(x), float(y)) for x, y in pts.tolist())
 
 
 @dataclass(frozen=True)

@@ -1,0 +1,140 @@
+"""Editing the floor plan: every edit one undo step, saved to the floor-plan file or inline.
+
+Round trip (draw, save, reopen) gives the same model; undo of every edit kind gives back the
+exact bytes the files had before it.
+"""
+
+from __future__ import annotations
+
+import json
+import math
+from pathlib import Path
+
+import pytest
+
+from app.document import Document
+from kinematics.files import plan_edits as pe
+from kinematics.files.floorplan import FloorPlan, Zone, save_floorplan
+from kinematics.files.project import Chassis, Project, Route, Waypoint, load_project
+
+
+def _doc(tmp_path: Path) -> tuple[Document, Path, Path]:
+    fp = FloorPlan(name="edit test")
+    fp = pe.add_wall(fp, ((0, 0), (10, 0), (10, 6)), 0.15)
+    fp = pe.add_rectangle(fp, (3, 2), (4, 3), "crate")
+    plan_path = tmp_path / "hall.floor.json"
+    save_floorplan(fp, plan_path)
+    proj = Project(fp, Chassis(track_m=0.5),
+                   (Route("r", (Waypoint(1, 1), Waypoint(8, 1))),), "hall.floor.json",
+                   tmp_path / "hall.swathe.json")
+    doc = Document(proj)
+    path = doc.save()
+    return doc, path, plan_path
+
+
+EDITS = {
+    "add wall": lambda fp: pe.add_wall(fp, ((0, 6), (5, 6)), 0.1),
+    "add polygon": lambda fp: pe.add_obstacle(fp, ((6, 2), (7, 2), (6.5, 3)), "bin"),
+    "add rectangle": lambda fp: pe.add_rectangle(fp, (7, 4), (8, 5), "rack"),
+    "add circle": lambda fp: pe.add_circle(fp, (2, 4), 0.2, "pillar"),
+    "add door": lambda fp: pe.add_door(fp, (9.9, 2.05), (10.05, 3), "D-1", snap_m=0.2),
+    "add zone": lambda fp: pe.add_zone(fp, Zone("slow", ((1, 1), (3, 1), (3, 2)), "w",
+                                                speed_mps=0.4)),
+    "move vertex": lambda fp: pe.move_vertex(fp, "wall", 0, 1, (10.5, 0)),
+    "insert vertex": lambda fp: pe.insert_vertex(fp, "obstacle", 0, 2, (4.5, 2.5)),
+    "delete vertex": lambda fp: pe.delete_vertex(fp, "wall", 0, 2),
+    "delete element": lambda fp: pe.delete(fp, "obstacle", 0),
+    "relabel": lambda fp: pe.relabel(fp, "obstacle", 0, "crate 2"),
+}
+
+
+@pytest.mark.parametrize("name", sorted(EDITS))
+def test_undo_of_every_edit_kind_restores_the_exact_file_bytes(tmp_path, qtbot, name):
+    # Common practice: undo returns the document to its previous state, byte for byte on disk.
+    doc, path, plan_path = _doc(tmp_path)
+    before = (path.read_bytes(), plan_path.read_bytes())
+    doc.edit_floorplan(EDITS[name](doc.project.floorplan), name)
+    doc.save()
+    assert (path.read_bytes(), plan_path.read_bytes()) != before
+    doc.undo_stack.undo()
+    doc.save()
+    assert (path.read_bytes(), plan_path.read_bytes()) == before
+
+
+def test_draw_save_reopen_gives_the_same_model(tmp_path, qtbot):
+    # Common practice: a saved model reads back unchanged.
+    doc, path, plan_path = _doc(tmp_path)
+    for name in ("add wall", "add polygon", "add circle", "add door", "add zone",
+                 "move vertex", "relabel"):
+        doc.edit_floorplan(EDITS[name](doc.project.floorplan), name)
+    doc.save()
+    again = load_project(path).floorplan
+    mine = doc.project.floorplan
+    for key in ("name", "walls", "obstacles", "doors", "zones"):
+        assert getattr(again, key) == getattr(mine, key), key
+    assert again.obstacles[-1].is_circle
+    # Inline: the same model inside the project file.
+    proj = json.loads(path.read_text())
+    assert proj["floorplan"] == "hall.floor.json"
+    inline = tmp_path / "inline.swathe.json"
+    from kinematics.files.project import save_project
+
+    save_project(doc.project, inline, inline_floorplan=True)
+    back = load_project(inline).floorplan
+    for key in ("walls", "obstacles", "doors", "zones"):
+        assert getattr(back, key) == getattr(mine, key), key
+
+
+def test_door_snaps_to_wall_ends_and_snap_rules():
+    fp = pe.add_wall(FloorPlan(), ((0, 0), (4, 0)), 0.1)
+    fp = pe.add_wall(fp, ((5, 0), (9, 0)), 0.1)
+    d = pe.add_door(fp, (4.08, 0.05), (4.9, -0.1), snap_m=0.2).doors[0]
+    assert d.a == (4.0, 0.0) and d.b == (5.0, 0.0)
+    assert pe.snap(fp, (3.95, 0.1), 0.2) == (4.0, 0.0)                      # wall end
+    assert pe.snap(fp, (2.0, 3.07), 0.2, previous=(2.13, 1.0)) == (2.13, 3.07)  # right angle
+    assert pe.snap(fp, (2.26, 3.0), 0.05, grid_m=0.5) == (2.5, 3.0)          # grid
+
+
+@pytest.mark.parametrize("cx", [3.0, 2.5, 1.4])
+def test_gap_between_elements_uses_the_true_circle(cx):
+    # Source: distance from a disc to a set is the centre's distance less the radius
+    # (Euclidean geometry); between two discs, centres' distance less both radii.
+    fp = pe.add_rectangle(FloorPlan(), (0, 0), (1, 1))
+    fp = pe.add_circle(fp, (cx, 0.5), 0.25)
+    fp = pe.add_circle(fp, (cx, 3.0), 0.5)
+    assert pe.gap_m(fp, ("obstacle", 0), ("obstacle", 1)) == pytest.approx(
+        max(0.0, cx - 1.0 - 0.25), abs=1e-12)
+    assert pe.gap_m(fp, ("obstacle", 1), ("obstacle", 2)) == pytest.approx(2.5 - 0.75)
+    assert pe.gap_m(fp, ("obstacle", 0), ("obstacle", 2)) == pytest.approx(
+        math.hypot(max(0.0, cx - 1.0), 2.0) - 0.5, abs=1e-9)
+
+
+def test_open_project_on_a_floor_plan_offers_a_new_project(qtbot, tmp_path, monkeypatch):
+    # Common practice: a file of the wrong kind is offered for what it is, not refused.
+    from PySide6.QtCore import QSettings
+
+    from app.main_window import MainWindow
+
+    plan = {"swathe_floorplan": 1, "name": "loading bay",
+            "walls": [{"points": [[0, 0], [8, 0], [8, 5]], "thickness_m": 0.2}]}
+    path = tmp_path / "bay.floor.json"
+    path.write_text(json.dumps(plan))
+    settings = QSettings(str(tmp_path / "s.ini"), QSettings.Format.IniFormat)
+    w = MainWindow(settings=settings, autosave_dir=tmp_path / "autosave")
+    qtbot.addWidget(w)
+    asked = []
+    monkeypatch.setattr(w, "ask_new_from_plan", lambda p: asked.append(p) or False)
+    assert not w.open_project_file(path)
+    assert asked == [path] and w.doc.project.floorplan.name != "loading bay"
+    monkeypatch.setattr(w, "ask_new_from_plan", lambda p: True)
+    with qtbot.waitSignal(w.taskFinished, timeout=10_000):
+        assert w.open_project_file(path)
+    assert w.doc.project.floorplan.name == "loading bay" and not w.doc.project.routes
+    assert w.doc.project.path is None
+    # File > New project from floor plan does the same without asking.
+    assert w.new_project_from_floorplan(path, background=False)
+    assert w.doc.project.floorplan.name == "loading bay"
+    assert "New project from floor p&lan..." in [a.text() for a in
+                                                  w.menuBar().actions()[0].menu().actions()]
+    w.doc.undo_stack.setClean()
+    w.close()
