@@ -11,6 +11,10 @@ Document edits:
 - Delete / Backspace or the context menu removes the selected waypoint;
 - drag empty space to pan, the wheel zooms.
 
+It is one of the two painters of the plan scene (:mod:`app.scene`). Over 600 lines because it
+is also the editor (gestures, hit tests, hover read-out) and keeps the drag-time item caches
+beside the drawing; the styles, shapes and layers it draws are in :mod:`app.scene`.
+
 Colours are from the Okabe-Ito colour-blind-safe palette (Okabe & Ito 2008), and nothing is
 told by colour alone: reverse travel is dashed, each violation kind has its own marker shape
 and a text label with its amount.
@@ -55,6 +59,7 @@ from .palette import (  # noqa: F401 - the whole set, as other views import it f
     WALL_FILL,
     YELLOW,
 )
+from .plan_tools import element_at
 from .qstyle import hatch_brush, marker_path, qbrush, qpen
 from .scene import (
     JAMB_R_PX,
@@ -1167,8 +1172,12 @@ class PlanCanvas(QWidget):
         self.last_hover = info
         if info is None:
             self.hover_item.setData([], [])
-            self.hoverInfo.emit("")
-            self.plot.setToolTip("")
+            # Off the route: name the wall, obstacle, door or zone under the pointer.
+            el = element_at(self.doc.obstacle_index(), x, y, HIT_PX * self.px_m())
+            self.last_hover_element = el
+            text = "" if el is None else el["text"]
+            self.hoverInfo.emit(text)
+            self.plot.setToolTip(text)
             return
         self.hover_item.setData([info["x"]], [info["y"]])
         self.hoverInfo.emit(info["text"])

@@ -8,6 +8,7 @@ from __future__ import annotations
 
 import argparse
 import os
+import stat
 import sys
 from collections.abc import Sequence
 from pathlib import Path
@@ -16,6 +17,7 @@ from kinematics.errors import SwatheInputError
 
 SUBCOMMANDS = ("plan", "check", "schedule", "render", "find")
 EXIT_OK, EXIT_VIOLATION, EXIT_BAD_INPUT, EXIT_INTERNAL = 0, 1, 2, 3
+MIN_TOLERANCE_MM, MAX_TOLERANCE_MM = 0.1, 1000.0
 
 
 class _Parser(argparse.ArgumentParser):
@@ -50,6 +52,10 @@ def build_parser() -> argparse.ArgumentParser:
     sp.add_argument("--sizing", action="store_true",
                     help="also answer: widest and longest footprint that clears, and the door "
                          "widths the chassis needs (slower)")
+    sp.add_argument("--traffic", action="store_true",
+                    help="also list where two routes' swept bands overlap (conflict areas) "
+                         "and, where two routes meet head-on in a corridor, whether they can "
+                         "pass side by side")
 
     sp = sub.add_parser("schedule", help="segment-wise wheel-rate schedule of one route")
     common(sp, route_required=True)
@@ -128,13 +134,17 @@ def cmd_check(args: argparse.Namespace) -> int:
     from kinematics.files.project import load_project
     from kinematics.plan.planner import plan_route
 
-    if not (args.tolerance_mm > 0) or args.tolerance_mm != args.tolerance_mm:
-        raise SwatheInputError("command line", "--tolerance-mm", "expected a positive number")
+    if not (MIN_TOLERANCE_MM <= args.tolerance_mm <= MAX_TOLERANCE_MM):
+        # The sweep's work grows as 1 / sqrt(tolerance): bound it before sweeping.
+        raise SwatheInputError("command line", "--tolerance-mm",
+                               f"expected a number of millimetres from {MIN_TOLERANCE_MM:g} "
+                               f"to {MAX_TOLERANCE_MM:g}")
     project = load_project(args.project)
     index = ObstacleIndex(project.floorplan)
     tol = args.tolerance_mm / 1000.0
     checks = []
     stops: dict[str, list] = {}
+    vehicles: list = []
     for route in _selected_routes(project, args.route):
         chassis = project.chassis_for(route)
         plan = plan_route(route, chassis)
@@ -148,6 +158,12 @@ def cmd_check(args: argparse.Namespace) -> int:
             chk = attach_sizing(chk, plan, dataclasses.replace(project, chassis=chassis), index,
                                 tolerance_m=tol)
         checks.append(chk)
+        vehicles.append(chassis)
+    report = None
+    if args.traffic:
+        from kinematics.check.traffic import band_of, traffic
+
+        report = traffic([band_of(c, v) for c, v in zip(checks, vehicles)], index)
     if args.json:
         out = []
         for c in checks:
@@ -155,9 +171,20 @@ def cmd_check(args: argparse.Namespace) -> int:
             if stops.get(c.name):
                 d["stops"] = [s.to_dict() for s in stops[c.name]]
             out.append(d)
-        sys.stdout.write(dumps({"routes": out}))
+        doc: dict = {"routes": out}
+        if report is not None:
+            doc["traffic"] = report
+        sys.stdout.write(dumps(doc))
     else:
-        sys.stdout.write(format_check_text(checks, stops))
+        text = format_check_text(checks, stops)
+        if report is not None:
+            from kinematics.analysis.report_text import CHECK_CAUTION
+            from kinematics.check.traffic import format_traffic_text
+
+            # The traffic section above the caution, which stays the last line.
+            text = text.replace(CHECK_CAUTION, format_traffic_text(report) + "\n"
+                                + CHECK_CAUTION)
+        sys.stdout.write(text)
     return EXIT_OK if all(c.clear for c in checks) else EXIT_VIOLATION
 
 
@@ -176,26 +203,72 @@ def cmd_schedule(args: argparse.Namespace) -> int:
         raise SwatheInputError("command line", "--dt", "expected a time step between 0 and 60 s")
     project = load_project(args.project)
     route = project.route(args.route)
+    if args.output:
+        _check_output_path(args.output)
     chassis = project.chassis_for(route)
     plan = plan_route(route, chassis)
     sched = build_schedule(route.name, list(plan.segments), chassis, dt_s=args.dt,
-                           zones=project.floorplan.zones, route=route)
+                           zones=project.floorplan.zones, route=route,
+                           file=args.project, place=_route_place(project, route))
     if args.format == "csv":
         text = samples_to_csv(sched) if args.samples else schedule_to_csv(sched)
     else:
         text = dumps(schedule_to_dict(sched))
     if args.output:
-        _check_output_path(args.output)
-        atomic_write_text(args.output, text)
+        _write_output(args.output, "-o", lambda: atomic_write_text(args.output, text))
     else:
         sys.stdout.write(text)
     return EXIT_OK
 
 
-def _check_output_path(path: str) -> None:
-    parent = Path(path).resolve().parent
-    if not parent.is_dir():
-        raise SwatheInputError(path, "-o", f"the folder {parent} does not exist")
+def _route_place(project, route) -> str:
+    """The key path of ``route`` in its project, for messages."""
+    return f"routes[{list(project.routes).index(route)}]"
+
+
+def _check_output_path(path: str, flag: str = "-o") -> None:
+    """Refuse an output path that cannot take a new file: a folder, a device, a missing or
+    unusable folder, too long a name (one line, exit 2; the write itself is atomic)."""
+    from kinematics.files.jsonio import one_line, os_reason
+
+    shown = one_line(path, 300)
+    try:
+        parent = Path(path).resolve().parent
+        target = os.stat(path) if os.path.lexists(path) else None
+        parent_ok = parent.is_dir()
+    except (OSError, ValueError) as exc:
+        reason = os_reason(exc) if isinstance(exc, OSError) else "not a usable file name"
+        raise SwatheInputError(shown, flag, reason) from None
+    if target is not None and stat.S_ISDIR(target.st_mode):
+        raise SwatheInputError(shown, flag, "is a folder; expected the name of a file to write")
+    if target is not None and not stat.S_ISREG(target.st_mode):
+        raise SwatheInputError(shown, flag, "is not a regular file (a device or pipe?); leave "
+                                            "out -o to write to standard output")
+    if not parent_ok:
+        raise SwatheInputError(shown, flag, f"the folder {one_line(str(parent), 300)} does "
+                                            "not exist")
+    if len(os.fsencode(Path(path).name)) + 16 > _name_max(parent):
+        raise SwatheInputError(shown, flag, "the file name is longer than the file system "
+                                            "allows")
+
+
+def _name_max(folder: Path) -> int:
+    try:
+        return int(os.pathconf(folder, "PC_NAME_MAX"))
+    except (OSError, ValueError):
+        return 255
+
+
+def _write_output(path: str, flag: str, write) -> None:
+    """Run ``write`` (an atomic write of ``path``); an OS failure is bad input naming the
+    file and the option, not an internal error."""
+    from kinematics.files.jsonio import one_line, os_reason
+
+    try:
+        write()
+    except OSError as exc:
+        reason = os_reason(exc).replace("cannot be read", "cannot be written")
+        raise SwatheInputError(one_line(path, 300), flag, reason) from None
 
 
 def cmd_render(args: argparse.Namespace) -> int:
@@ -212,9 +285,9 @@ def cmd_render(args: argparse.Namespace) -> int:
     from app.render import render_project_png
 
     if args.plots:
-        _check_output_path(args.plots)
-    render_project_png(project, args.output, route_name=args.route,
-                       size=(args.width, args.height))
+        _check_output_path(args.plots, "--plots")
+    _write_output(args.output, "-o", lambda: render_project_png(
+        project, args.output, route_name=args.route, size=(args.width, args.height)))
     if args.plots:
         from app.render import render_plot_png
         from kinematics.plan.planner import plan_route
@@ -226,10 +299,23 @@ def cmd_render(args: argparse.Namespace) -> int:
         chassis = project.chassis_for(route)
         plan = plan_route(route, chassis)
         sched = build_schedule(route.name, list(plan.segments), chassis,
-                               zones=project.floorplan.zones, route=route)
-        render_plot_png(sched, args.plots, size=(args.width, max(args.height * 7 // 10, 150)),
-                        x_axis=args.plots_against)
+                               zones=project.floorplan.zones, route=route,
+                               file=args.project, place=_route_place(project, route))
+        _write_output(args.plots, "--plots", lambda: render_plot_png(
+            sched, args.plots, size=(args.width, max(args.height * 7 // 10, 150)),
+            x_axis=args.plots_against))
     return EXIT_OK
+
+
+def _with_project(exc: SwatheInputError, argv: list[str]) -> str:
+    """The message of ``exc``; a refusal the planner raised about a route (it names the
+    route, not the file) is given the project file in front."""
+    if len(argv) > 1 and argv[0] in SUBCOMMANDS and exc.file and not (
+            exc.file.startswith(("<", "command line")) or os.path.sep in exc.file
+            or exc.file == argv[1]) and exc.place.startswith("waypoints"):
+        return f"{argv[1]}: route {exc.file!r}: {exc.place}: {exc.expected}".encode(
+            "utf-8", "backslashreplace").decode("utf-8")
+    return exc.message
 
 
 def _moved_floorplan_ref(ref, src_dir: Path, out_dir: Path):
@@ -281,7 +367,7 @@ def cmd_find(args: argparse.Namespace) -> int:
         new = replace_route(project, res.route)
         new = Project(new.floorplan, new.chassis, new.routes,
                       _moved_floorplan_ref(new.floorplan_ref, src, out.parent), None, new.extra)
-        save_project(new, out)
+        _write_output(args.output, "-o", lambda: save_project(new, out))
     return EXIT_OK
 
 
@@ -301,13 +387,15 @@ def main(argv: Sequence[str] | None = None) -> int:
         if argv and argv[0].startswith("-"):
             build_parser().error(f"unknown option {argv[0]}")
         project = argv[0] if argv else None
-        if project is not None and not Path(project).exists():
-            raise SwatheInputError(project, "", "file not found")
+        if project is not None:
+            from kinematics.files.jsonio import check_input_file
+
+            check_input_file(project, "project file")
         from app.main_window import run_workbench
 
         return run_workbench(project)
     except SwatheInputError as exc:
-        sys.stderr.write(f"swathe: {exc.message}\n")
+        sys.stderr.write(f"swathe: {_with_project(exc, argv)}\n")
         return EXIT_BAD_INPUT
     except BrokenPipeError:
         return EXIT_OK

@@ -325,7 +325,11 @@ class Document(QObject):
             from kinematics.check.clearance import RouteChecker
         except ImportError:
             return None
-        checker = RouteChecker(chassis, self.obstacle_index())
+        if hit is not None and hit[0] is chassis and hasattr(hit[2], "rebased"):
+            # The floor plan was edited: keep what the edit cannot reach.
+            checker = hit[2].rebased(self.obstacle_index())
+        else:
+            checker = RouteChecker(chassis, self.obstacle_index())
         self._checkers[name] = (chassis, fp, checker)
         return checker
 
@@ -540,8 +544,9 @@ class Document(QObject):
                    dataclasses.replace(self._project, routes=tuple(routes)), "routes",
                    current=cur)
 
-    def set_route(self, i: int, route: Route) -> None:
-        """Replace route ``i`` (rename, turn radius, reverse, waypoints) in one step."""
+    def set_route(self, i: int, route: Route, text: str | None = None) -> None:
+        """Replace route ``i`` (rename, turn radius, reverse, waypoints) in one step;
+        ``text`` names the step in the undo history (default: what changed)."""
         old = self._check_route_index(i)
         self._check_name(route.name, skip=i)
         if len(route.waypoints) < MIN_WAYPOINTS:
@@ -549,7 +554,7 @@ class Document(QObject):
         if route.name != old.name:
             text = f"Rename route {old.name!r} to {route.name!r}"
         else:
-            text = f"Change route {route.name!r}"
+            text = text or f"Change route {route.name!r}"
         self._push(text, self._with_route(i, route), "routes")
 
     def set_chassis(self, chassis: Chassis) -> None:

@@ -285,6 +285,10 @@ class MainWindow(QMainWindow):
             self.snap_group.addAction(a)
         self.view_menu = v
         v.addSeparator()
+        from .find_route import RouteFinderActions
+
+        self.route_finder = RouteFinderActions(self)  # Route > Find / Repair route
+        self.route_finder.install()
         h = mb.addMenu("&Help")
         h.addAction(self.act_about)
 

@@ -85,6 +85,19 @@ class PlotsPanel(QWidget):
         self.speed_plot = self.graphics.addPlot(row=0, col=0)
         self.rate_plot = self.graphics.addPlot(row=1, col=0)
         self.rate_plot.setXLink(self.speed_plot)
+        # A train's hitch angles, each trailer to the body ahead; shown only for trains.
+        self.hitch_plot = self.graphics.addPlot(row=2, col=0)
+        self.hitch_plot.setXLink(self.speed_plot)
+        self.hitch_plot.showGrid(x=True, y=True, alpha=0.25)
+        self.hitch_plot.setLabel("left", "hitch angle", units="deg")
+        self.hitch_plot.getAxis("left").enableAutoSIPrefix(False)
+        self.hitch_plot.getAxis("bottom").enableAutoSIPrefix(False)
+        for ax in ("left", "bottom"):
+            self.hitch_plot.getAxis(ax).setPen(pg.mkPen("#555555"))
+            self.hitch_plot.getAxis(ax).setTextPen(pg.mkPen("#222222"))
+        self.hitch_legend = self.hitch_plot.addLegend(offset=(8, 4), labelTextColor="#222222",
+                                                      brush=(255, 255, 255, 90), colCount=4)
+        self.hitch_plot.hide()
         for plot, label, unit in ((self.speed_plot, "speed", "m/s"),
                                   (self.rate_plot, "wheel rate", "rad/s")):
             plot.showGrid(x=True, y=True, alpha=0.25)
@@ -142,9 +155,9 @@ class PlotsPanel(QWidget):
         self.refresh()
 
     def _clear(self) -> None:
-        for plot in (self.speed_plot, self.rate_plot):
+        for plot in (self.speed_plot, self.rate_plot, self.hitch_plot):
             plot.clear()
-        for legend in (self.speed_legend, self.rate_legend):
+        for legend in (self.speed_legend, self.rate_legend, self.hitch_legend):
             legend.clear()
         self.limit_lines = []
         self.cap_labels = []
@@ -154,9 +167,10 @@ class PlotsPanel(QWidget):
         r = self.doc.route()
         s = self.doc.schedule(r.name) if r is not None else None
         xlabel = ("time", "s") if self.x_axis == "time" else ("distance along the route", "m")
-        for plot in (self.speed_plot, self.rate_plot):
+        for plot in (self.speed_plot, self.rate_plot, self.hitch_plot):
             plot.setLabel("bottom", xlabel[0], units=xlabel[1])
         if s is None:
+            self.hitch_plot.hide()
             err = self.doc.error(r.name) if r is not None else None
             self.status.setText("No route." if r is None else
                                 f"{r.name}: no schedule" + (f" \u2014 {err}" if err else ""))
@@ -205,6 +219,31 @@ class PlotsPanel(QWidget):
             self.rate_plot.setYRange(0.0, hi * HEADROOM, padding=0)
         if xs.size:
             self.speed_plot.setXRange(float(xs.min()), float(xs.max()), padding=0.01)
+        self._draw_hitches(xs, series, s)
+
+    def _draw_hitches(self, xs: np.ndarray, series: dict, s: Any) -> None:
+        """Each trailer's hitch angle, with its jackknife limit (trains only)."""
+        hitch = series.get("hitch_deg") or {}
+        self.hitch_plot.setVisible(bool(hitch))
+        if not hitch:
+            return
+        r = self.doc.route()
+        chassis = self.doc.vehicle(r.name) if r is not None else None
+        limits = {t.name: t.max_hitch_deg for t in getattr(chassis, "trailers", ())}
+        top = 0.0
+        for k, (name, a) in enumerate(hitch.items()):
+            self.hitch_plot.plot(xs, a, name=name, pen=pg.mkPen(
+                WHEEL_COLOURS[k % 4], width=2, style=WHEEL_STYLES[k % 4]))
+            top = max(top, float(np.nanmax(np.abs(a))) if a.size else 0.0)
+        if limits:
+            # The tightest limit (labels of several would sit on top of one another).
+            who, lim = min(limits.items(), key=lambda kv: kv[1])
+            self.limit_lines.append(_limit_line(self.hitch_plot, lim,
+                                                f"jackknife limit {lim:g} deg ({who})"))
+            self.limit_lines.append(_limit_line(self.hitch_plot, -lim,
+                                                f"jackknife limit -{lim:g} deg"))
+            top = max(top, lim)
+        self.hitch_plot.setYRange(-top * HEADROOM, top * HEADROOM, padding=0)
 
     def _draw_caps(self, xs: np.ndarray, series: dict, s: Any) -> None:
         """Each segment's speed cap, dotted, named by the limit that sets it."""

@@ -2,8 +2,11 @@
 
 The picture painter of the plan scene (:mod:`app.scene`): it paints the scene's layers with
 the scene's styles, as the canvas does, and adds what only a picture has (title and verdict
-badge, legend, scale bar, axes cue, caution). The speed and wheel-rate plots are drawn by
-:mod:`app.plots`, the same pyqtgraph plots the window shows.
+badge, legend, scale bar, axes cue, caution).
+
+Over 600 lines because it still holds the picture's own plot painter (:func:`draw_plots`, for
+``render --plots`` and the report) beside the window's pyqtgraph plots (:mod:`app.plots`);
+moving the picture onto pyqtgraph's path is the next step and would shrink it by a third.
 
 Everything is drawn with QPainter onto a QImage (or any paint device the caller's painter is
 on), so it works under ``QT_QPA_PLATFORM=offscreen`` with only a ``QGuiApplication``: the
@@ -47,6 +50,7 @@ from kinematics.analysis.results import (  # noqa: F401 - re-exported for older 
     door_clearances,
     door_results,
     project_title,
+    vehicle_of,
     verdict_text,
     violation_label,
     violations_of,
@@ -407,14 +411,15 @@ def _draw(p: QPainter, project: Any, plans: dict, checks: dict, route_name: str 
     plan_rect = QRectF(m, title_h + m * 0.5, W - legend_w - 2.5 * m,
                        H - title_h - foot_h - 1.5 * m)
 
-    chassis = project.chassis
     names = list(plans) if plans else [r.name for r in project.routes]
     bands = {}
     for name in names:
         plan = plans.get(name)
         if plan is not None and plan.segments:
             try:
-                bands[name] = swept_geometry(chassis.footprint, plan.segments, checks.get(name))
+                bands[name] = swept_geometry(
+                    vehicle_of(project, project.route(name)).footprint, plan.segments,
+                    checks.get(name))
             except Exception:  # noqa: BLE001 - a picture without a band is still a picture
                 bands[name] = None
     # The plan fits above a strip kept for the scale bar and axes cue, which never cover it.
@@ -455,10 +460,12 @@ def _draw(p: QPainter, project: Any, plans: dict, checks: dict, route_name: str 
     for r in routes:
         plan = plans.get(r.name)
         k = index_of[r.name]
-        layer = route_layer(r, k, plan, chassis.footprint)
+        vehicle = vehicle_of(project, r)
+        layer = route_layer(r, k, plan, vehicle.footprint)
         for line in layer.lines:
             _paint_line(p, view, line, u)
         if plan is not None:
+            _draw_trailers(p, view, vehicle, checks.get(r.name), plan.segments, u)
             _draw_pivots(p, view, plan.segments, ROUTE_COLOURS[k % len(ROUTE_COLOURS)], u)
         _draw_headings(p, view, r, ROUTE_COLOURS[k % len(ROUTE_COLOURS)], u)
         for mk in layer.markers:
@@ -542,6 +549,31 @@ def _place_labels(p: QPainter, view: _View, items: list, u: float, labels: _Labe
                      fill=qbrush(st.fill).color(),
                      border=st.stroke.colour if st.stroke else None, force=lb.force,
                      along=along)
+
+
+def _draw_trailers(p: QPainter, view: _View, vehicle: Any, check: Any, segments: Sequence,
+                   u: float) -> None:
+    """A train's trailers (and drawbars) where the tug's outlines are drawn."""
+    train = getattr(check, "train", None)
+    if train is None or not segments:
+        return
+    from kinematics.check.train import train_poses_at_stations
+    from kinematics.motion.segments import path_length
+
+    total = path_length(segments)
+    if total <= 0:
+        return
+    bodies = train_poses_at_stations(train.trace, np.linspace(0.0, total, 10))
+    p.setBrush(Qt.BrushStyle.NoBrush)
+    for row in bodies:
+        for j, t in enumerate(vehicle.trailers):
+            ahead, pose = row[j], row[j + 1]
+            hx = ahead[0] + t.hitch_x_m * math.cos(ahead[2])
+            hy = ahead[1] + t.hitch_x_m * math.sin(ahead[2])
+            p.setPen(pen("#3D3D3D", 1.1 * u))
+            p.drawPolygon(view.poly(place_footprint(t.footprint, pose)))
+            p.setPen(pen("#3D3D3D", 0.9 * u, Qt.PenStyle.DotLine))
+            p.drawLine(view.pt(hx, hy), view.pt(pose[0], pose[1]))
 
 
 def _draw_pivots(p: QPainter, view: _View, segments: Sequence, colour: str, u: float) -> None:

@@ -27,8 +27,11 @@ class SwatheInputError(ValueError):
 
     @property
     def message(self) -> str:
+        """``file: place: expected`` on one line that any terminal can print: line breaks
+        become spaces and text UTF-8 cannot encode (lone surrogates) becomes escapes."""
         where = f"{self.file}: {self.place}" if self.place else self.file
-        return f"{where}: {self.expected}"
+        text = f"{where}: {self.expected}".encode("utf-8", "backslashreplace").decode("utf-8")
+        return " ".join(text.splitlines()) if ("\n" in text or "\r" in text) else text
 
 
 class FileReadError(SwatheInputError):

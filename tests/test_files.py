@@ -13,7 +13,7 @@ from pathlib import Path
 
 import ezdxf
 import pytest
-from hypothesis import HealthCheck, given, settings
+from hypothesis import HealthCheck, example, given, settings
 from hypothesis import strategies as st
 
 from kinematics.errors import FileReadError, GeometryError, SwatheInputError, ValidationError
@@ -466,6 +466,10 @@ def _only_input_errors(fn, *args, **kw):
     except SwatheInputError as exc:
         assert exc.message.startswith(exc.file)
         assert exc.file
+        # One line that names a place (key path, line, element or entity), printable.
+        assert exc.place, exc.message
+        assert "\n" not in exc.message
+        exc.message.encode("utf-8")
         return "error"
     return "ok"
 
@@ -549,6 +553,17 @@ def broken_bytes(draw, valid: bytes):
 
 @settings(max_examples=150, deadline=None)
 @given(broken_bytes(VALID_DXF))
+# Found by earlier runs and bench/fuzz.py: a damaged entity type name (exit 3 with
+# DXFAttributeError), a stray ENDBLK (ezdxf logged beside the message), a group code that
+# is not a number, a coordinate that is not one, a cut-off file.
+@example(VALID_DXF.replace(b"\nLWPOLYLINE\n", b"\nLWPOLYLINX\n", 1))
+@example(VALID_DXF.replace(b"\nLWPOLYLINE\n", b"\n\x00WPOLYLINE\n", 1))
+@example(VALID_DXF.replace(b"BLOCKS\n", b"BLOCKS\n  0\nENDBLK\n", 1))
+@example(VALID_DXF.replace(b"\n  8\nWALLS\n", b"\n 8x\nWALLS\n", 1))
+@example(VALID_DXF.replace(b"\n 20\n", b"\n 20\n1e999x", 1))
+@example(VALID_DXF.replace(b"AcDbCircle\n 10\n", b"AcDbCircle\n 10\n1e15", 1))
+@example(VALID_DXF[: len(VALID_DXF) // 2])
+@example(b"")
 def test_fuzzed_dxf_bytes(fuzz_dir, data):
     p = fuzz_dir / "fuzz.dxf"
     p.write_bytes(data)
@@ -569,6 +584,13 @@ VALID_SVG = """<svg xmlns="http://www.w3.org/2000/svg" viewBox="0 0 1000 500">
 
 @settings(max_examples=150, deadline=None)
 @given(broken_text(VALID_SVG))
+# Found by bench/fuzz.py: an unknown or non-text encoding (LookupError, exit 3), a declared
+# encoding the bytes do not fit, a curve overflowing to infinity (numpy warned on stderr).
+@example('<?xml version="1.0" encoding="UTF-E"?>\n' + VALID_SVG)
+@example('<?xml version="1.0" encoding="rot13"?>\n' + VALID_SVG)
+@example('<?xml version="1.0" encoding="ascii"?>\n' + VALID_SVG.replace("door-1", "d\u00e9"))
+@example(VALID_SVG.replace("c10 0 20 10", "c1e308 0 -1e308 10"))
+@example(VALID_SVG.replace('rotate(2)', 'scale(1e300)'))
 def test_fuzzed_svg_text(fuzz_dir, text):
     p = fuzz_dir / "fuzz.svg"
     p.write_text(text, encoding="utf-8", errors="surrogatepass")

@@ -138,3 +138,52 @@ def test_open_project_on_a_floor_plan_offers_a_new_project(qtbot, tmp_path, monk
                                                   w.menuBar().actions()[0].menu().actions()]
     w.doc.undo_stack.setClean()
     w.close()
+
+
+def test_rebased_checker_answers_as_a_fresh_one_after_wall_edits():
+    # Common practice: an incremental result must equal the full recomputation.
+    from kinematics.check.clearance import ObstacleIndex, RouteChecker
+    from kinematics.files.floorplan import Obstacle
+    from kinematics.plan.planner import plan_route
+
+    ch = Chassis(track_m=0.5)
+    fp = FloorPlan(obstacles=tuple(Obstacle(((x, 1.0), (x + 0.5, 1.0), (x + 0.5, 1.5),
+                                             (x, 1.5)), f"bay {x}") for x in range(0, 12, 2)))
+    fp = pe.add_wall(fp, ((0, -0.6), (6, -0.6)), 0.1)
+    fp = pe.add_wall(fp, ((6.5, -0.6), (12, -0.6)), 0.1)
+    fp = pe.add_wall(fp, ((0, 9), (12, 9)), 0.1)
+    route = Route("r", (Waypoint(0.5, 0), Waypoint(3, 0.3), Waypoint(6, 0), Waypoint(9, 0.3),
+                        Waypoint(11.5, 0)), 1.0)
+    plan = plan_route(route, ch)
+    checker = RouteChecker(ch, ObstacleIndex(fp))
+    checker.check(plan, route=route)
+    swept = []
+    for w, v, to in ((2, 1, (12, 8.5)), (0, 1, (6, -0.3)), (1, 0, (6.5, -0.25)),
+                     (0, 1, (6, -0.6))):
+        fp = pe.move_vertex(fp, "wall", w, v, to)
+        idx = ObstacleIndex(fp)
+        checker = checker.rebased(idx)
+        got = checker.check(plan, route=route).to_dict()
+        want = RouteChecker(ch, idx).check(plan, route=route).to_dict()
+        assert got == want
+        swept.append(checker.swept_count)
+    # The far wall's edit re-sweeps nothing; the near ones only some segments.
+    assert swept[0] == 0 and 0 < swept[1] < len(plan.segments)
+
+
+def test_hover_names_walls_obstacles_doors_and_zones_as_messages_do():
+    # Common practice: the name on screen is the name in the message ("wall 1").
+    from app.plan_tools import element_at
+    from kinematics.check.clearance import ObstacleIndex
+
+    fp = pe.add_wall(FloorPlan(), ((0, 0), (4, 0)), 0.2)
+    fp = pe.add_wall(fp, ((5, 0), (9, 0)), 0.2)
+    fp = pe.add_door(fp, (4, 0), (5, 0), "D-7")
+    fp = pe.add_circle(fp, (2, 3), 0.3, "pillar")
+    fp = pe.add_zone(fp, Zone("slow", ((6, 2), (8, 2), (8, 4), (6, 4)), "ward", speed_mps=0.5))
+    idx = ObstacleIndex(fp)
+    assert element_at(idx, 7.0, 0.05, 0.05)["name"] == "wall 1"
+    assert element_at(idx, 2.0, 3.31, 0.05)["name"] == "obstacle 0 (pillar)"
+    assert element_at(idx, 4.5, 0.0, 0.05)["text"] == "door D-7 (1.000 m wide)"
+    assert element_at(idx, 7.0, 3.0, 0.05)["text"] == "zone 0 (ward): slow, 0.5 m/s"
+    assert element_at(idx, 5.0, 6.0, 0.05) is None

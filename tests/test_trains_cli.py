@@ -4,9 +4,14 @@ from __future__ import annotations
 
 import json
 import math
+import os
 from pathlib import Path
 
+import numpy as np
+
 from app.cli import main
+
+os.environ.setdefault("QT_QPA_PLATFORM", "offscreen")
 
 SAMPLE = str(Path(__file__).resolve().parent.parent / "sample_floorplans"
              / "clinic_train.swathe.json")
@@ -64,3 +69,45 @@ def test_schedule_samples_carry_trailers(capsys) -> None:
     assert max(abs(t["hitch_deg"]) for s in samples for t in s["trailers"]) > 20.0
     code, out = _run(capsys, "schedule", SAMPLE, "--route", "supply-return")
     assert "trailers" not in json.loads(out)["samples"][0]
+
+
+def test_sampled_csv_has_trailer_columns(capsys) -> None:
+    code, out = _run(capsys, "schedule", SAMPLE, "--route", "linen-to-ward-b", "--format",
+                     "csv", "--samples")
+    assert code == 0
+    rows = [ln for ln in out.splitlines() if not ln.startswith("#")]
+    head = rows[0].split(",")
+    cols = [f"trailer{j}_{k}" for j in (1, 2) for k in ("x", "y", "heading_deg", "hitch_deg")]
+    assert head[-8:] == cols
+    _, js = _run(capsys, "schedule", SAMPLE, "--route", "linen-to-ward-b")
+    samples = json.loads(js)["samples"]
+    assert len(rows) - 1 == len(samples)
+    for row, s in zip(rows[1:], samples):
+        vals = [float(v) for v in row.split(",")[-8:]]
+        want = [t[k] for t in s["trailers"] for k in ("x", "y", "heading_deg", "hitch_deg")]
+        assert max(abs(a - b) for a, b in zip(vals, want)) < 1e-6
+
+
+def test_window_plots_hitch_angles_of_a_train(qtbot) -> None:
+    # Source: the schedule's own hitch angles (tested against the geometry above) drawn
+    # unchanged, with each trailer's jackknife limit.
+    from app.document import Document
+    from app.plots import PlotsPanel
+    from kinematics.files.project import load_project
+    from kinematics.timing.schedule import schedule_series
+
+    doc = Document(load_project(SAMPLE))
+    panel = PlotsPanel(doc)
+    qtbot.addWidget(panel)
+    doc.set_current_route(0)
+    panel.refresh()
+    assert panel.hitch_plot.isVisible()
+    curves = {c.name(): c for c in panel.hitch_plot.listDataItems()}
+    assert sorted(curves) == ["linen cart", "meal cart"]
+    s = schedule_series(doc.schedule("linen-to-ward-b"))
+    assert np.allclose(curves["meal cart"].getData()[1], s["hitch_deg"]["meal cart"])
+    texts = [ln.label.format for ln in panel.limit_lines]
+    assert any("jackknife limit 75 deg" in t for t in texts)
+    doc.set_current_route(1)  # the lone delivery cart: no hitch plot
+    panel.refresh()
+    assert not panel.hitch_plot.listDataItems() and not panel.hitch_plot.isVisible()

@@ -25,6 +25,7 @@ from collections.abc import Sequence
 from typing import Any
 
 import numpy as np
+import shapely
 
 from kinematics.check.clearance_pass import (
     StationFinder,
@@ -80,6 +81,7 @@ class RouteChecker:
             check_footprint(tuple(map(tuple, np.asarray(pts, float).tolist())),
                             getattr(chassis, "name", "chassis"), "chassis.footprint")
         self.footprint = prepare_footprint(pts)
+        self._chassis = chassis
         self.margin_m = float(chassis.margin_m)
         self.tolerance_m = float(tolerance_m)
         self.index = index
@@ -87,6 +89,44 @@ class RouteChecker:
         self.segments = SegmentCache(self._sweep, self.cache_size)
         self.waypoints = WaypointCheck(self.footprint, index, self.cache_size)
         self._stations = StationFinder(self.footprint, self.cache_size)
+
+    def rebased(self, index: ObstacleIndex) -> RouteChecker:
+        """A checker on ``index`` (the same plan after an edit of its walls or obstacles)
+        that keeps every segment result the edit cannot reach, so only segments near the
+        changed solids are measured again; answers are those of a fresh checker.
+
+        A result is kept when the changed solids (before and after the edit) lie farther from
+        its swept region's bounding box than the margin reach, than its measured least
+        clearance and than its proven lower bound, and outside the box of every door it
+        crosses. Anything else changed (the number of solids, doors, zones) starts afresh.
+        """
+        new = RouteChecker(self._chassis, index, self.tolerance_m, self.cache_size,
+                           self.footprint)
+        old = self.index
+        if (len(old.solids) != len(index.solids) or old.doors != index.doors
+                or old.floorplan.zones != index.floorplan.zones):
+            return new
+        changed = [j for j, (a, b) in enumerate(zip(old.geometries, index.geometries))
+                   if a is not b and not a.equals_exact(b, 0.0)]
+        new.waypoints._grids = self.waypoints._grids  # by segment values alone
+        if not changed:
+            new.segments._results.update(self.segments._results)
+            return new
+        region = shapely.union_all(np.concatenate([old.geometries[changed],
+                                                   index.geometries[changed]]))
+        reach = max(self.margin_m, index.zones.widest_margin_m)
+        moved = set(changed)
+        for key, res in self.segments._results.items():
+            b = shapely.bounds(res.swept.parts)
+            box = shapely.box(b[:, 0].min(), b[:, 1].min(), b[:, 2].max(), b[:, 3].max())
+            d = float(shapely.distance(region, box))
+            far = res.far[0] if res.far is not None else -math.inf
+            if d <= max(reach, far, res.lower_m) or (res.far is not None and res.far[1] in moved):
+                continue
+            if any(shapely.intersects(region, index.door_boxes[k]) for k, _c in res.doors):
+                continue
+            new.segments._results[key] = res
+        return new
 
     @property
     def swept_count(self) -> int:

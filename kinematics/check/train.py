@@ -510,10 +510,27 @@ def check_train(plan_or_segments: Any, chassis: Any, index: ObstacleIndex,
     return out
 
 
+def train_poses_at_stations(trace: TrainTrace, stations: Sequence[float]) -> np.ndarray:
+    """Every body's pose at route stations (a station on a joint takes the later segment;
+    pivots are passed over), shape (len(stations), n + 1, 3)."""
+    st = np.atleast_1d(np.asarray(stations, dtype=float))
+    edges = segment_stations(trace.segments)
+    idx = np.clip(np.searchsorted(edges, st, side="right") - 1, 0, len(trace.segments) - 1)
+    out = np.empty((st.size, trace.n + 1, 3))
+    for i in np.unique(idx).tolist():
+        m = idx == i
+        seg = trace.segments[i]
+        local = st[m] - edges[i] if seg.kind != "pivot" else np.full(int(m.sum()),
+                                                                     trace.amount(i))
+        out[m] = trace.poses(i, np.clip(local, 0.0, trace.amount(i)))
+    return out
+
+
 def train_poses(check_or_trace: Any, segment: int, progress: Sequence[float]) -> np.ndarray:
     """Every body's pose on ``segment`` at ``progress`` (see :meth:`TrainTrace.poses`)."""
     trace = getattr(getattr(check_or_trace, "train", None), "trace", check_or_trace)
     return trace.poses(segment, progress)
 
 
-__all__ = ["Chunk", "TrainResult", "body_name", "check_train", "sweep_trailer", "train_poses"]
+__all__ = ["Chunk", "TrainResult", "body_name", "check_train", "sweep_trailer", "train_poses",
+           "train_poses_at_stations"]

@@ -11,7 +11,8 @@ What is read, from model space only:
   circle becomes a circumscribed polygon whose vertices lie at most :data:`SAGITTA_M` (1 mm)
   outside it; arcs and polyline bulges become chords whose sagitta,
   ``r (1 - cos(dtheta / 2))`` for a chord spanning ``dtheta``, is at most 1 mm, and
-  ellipses and splines use ezdxf's adaptive flattening to the same 1 mm, in plan metres
+  ellipses and splines are sampled evenly to the same 1 mm (for a spline, Wang's bound on
+  each Bezier piece), their size checked first, in plan metres
   after every block transform. An outline holding such chords is then grown by 1 mm (a
   solid outward, a wall on both faces: its thickness plus 2 mm), so the flattened solid
   contains the true one and exceeds it by at most 2 mm.
@@ -41,10 +42,15 @@ naming the file and, where ezdxf reports one, the line.
 
 from __future__ import annotations
 
+import contextlib
+import io
+import logging
 import math
 import re
+import warnings
+from collections import Counter
 from collections.abc import Iterable, Iterator
-from dataclasses import dataclass
+from dataclasses import dataclass, field
 from pathlib import Path
 
 import numpy as np
@@ -52,12 +58,15 @@ import numpy as np
 from kinematics.errors import FileReadError, ValidationError
 from kinematics.files.curves import (
     FLATTEN_TOLERANCE_M,
+    MAX_CHORDS,
     arc_points,
+    chord_count,
     circle_points_outside,
     grow_outline,
     grown_thickness,
 )
 from kinematics.files.floorplan import Door, FloorPlan, Obstacle, Wall, Zone, ZoneLayer
+from kinematics.files.jsonio import one_line, read_input_bytes
 from kinematics.files.validate import MAX_COORD_M
 
 SAGITTA_M = FLATTEN_TOLERANCE_M
@@ -78,6 +87,20 @@ ROLES = ("walls", "obstacles", "doors")
 _OBSTACLE_WORDS = ("obstacle", "fixture", "furniture", "rack")
 _MAX_BLOCK_DEPTH = 32
 _LABEL_RADIUS_M = 1.0
+MAX_ENTITIES = 200_000
+"""Most entities read, counting each block reference's contents once per reference (blocks
+that insert blocks many times over multiply quickly); a drawing beyond it is refused."""
+MAX_POINTS = 2_000_000
+"""Most points all flattened outlines may hold together; a drawing beyond it is refused."""
+MAX_SPLINE_DEGREE = 11
+MAX_SPLINE_POINTS = 10_000
+"""Largest spline degree and number of control or fit points read (CAD programs write
+degree 2 or 3 and a few hundred points)."""
+READ_TYPES = frozenset({"LINE", "LWPOLYLINE", "POLYLINE", "ARC", "CIRCLE", "ELLIPSE",
+                        "SPLINE", "INSERT", "TEXT", "MTEXT"})
+"""The entity types read; others are skipped and counted in the import summary."""
+
+
 def guess_role(layer: str) -> str:
     """The role a layer plays when no ``layers`` mapping is given.
 
@@ -116,67 +139,243 @@ class _Shape:
     curved: bool = False  # chords inside a curve: grow by the sagitta when building the plan
 
 
-def _line_of(exc: BaseException) -> str:
-    m = re.search(r"line\s+(\d+)", str(exc))
-    return f"line {m.group(1)}" if m else ""
+def _line_of(exc: BaseException) -> int | None:
+    m = re.search(r"line:?\s*(\d+)", str(exc))
+    return int(m.group(1)) if m else None
 
 
-def _check_complete(path: Path) -> None:
+@dataclass
+class _Where:
+    """Where an entity of an ASCII DXF starts: its line, type, handle and layer."""
+
+    line: int
+    dxftype: str
+    handle: str = ""
+    layer: str = ""
+
+    def describe(self) -> str:
+        what = self.dxftype or "entity"
+        if self.handle:
+            what += f" handle {self.handle}"
+        if self.layer:
+            what += f" on layer {one_line(repr(self.layer), 60)}"
+        return f"line {self.line} ({one_line(what, 120)})"
+
+
+@dataclass
+class _TagIndex:
+    """A pass over an ASCII DXF's group codes: the first malformed tag (with its line) and
+    where each entity starts, to name the place of whatever ezdxf later refuses."""
+
+    starts: list[_Where] = field(default_factory=list)
+    by_handle: dict[str, _Where] = field(default_factory=dict)
+    problem: tuple[int, str] | None = None
+
+    @classmethod
+    def scan(cls, data: bytes) -> _TagIndex:
+        from ezdxf.lldxf.types import BINARY_DATA, POINT_CODES, TYPE_TABLE
+
+        idx = cls()
+        lines = data.split(b"\n")
+        n = len(lines) - (1 if lines and not lines[-1].strip() else 0)
+        cur: _Where | None = None
+        i = 0
+        while i + 1 < n:
+            raw_code, value = lines[i], lines[i + 1].rstrip(b"\r")
+            try:
+                code = int(raw_code)
+            except ValueError:
+                idx.problem = (i + 1, "expected a group code (a whole number), got "
+                               + one_line(repr(raw_code.decode("latin-1")), 40))
+                return idx
+            if code == 0:
+                name = value.strip().decode("latin-1")
+                cur = _Where(i + 2, name)
+                idx.starts.append(cur)
+            elif cur is not None and code == 5:
+                cur.handle = value.strip().decode("latin-1")
+                idx.by_handle.setdefault(cur.handle.upper(), cur)
+            elif cur is not None and code == 8:
+                cur.layer = value.strip().decode("latin-1", "replace")
+            if code in POINT_CODES:
+                nxt = lines[i + 2].strip() if i + 2 < n else b""
+                if nxt != str(code + 10).encode():
+                    idx.problem = (i + 3, f"group code {code} (an x coordinate) is not followed "
+                                          f"by its y coordinate (group code {code + 10})")
+                    return idx
+            kind = TYPE_TABLE.get(code, str)
+            if kind is not str and code not in BINARY_DATA:
+                try:
+                    float(value) if kind is float else int(float(value))
+                except (ValueError, OverflowError):
+                    idx.problem = (i + 2, f"expected a number for group code {code}, got "
+                                   + one_line(repr(value.decode("latin-1")), 40))
+                    return idx
+            i += 2
+        return idx
+
+    def around(self, line: int) -> str:
+        """``line N`` with the entity holding that line, if any."""
+        best = None
+        for w in self.starts:
+            if w.line > line:
+                break
+            best = w
+        if best is None:
+            return f"line {line}"
+        return f"line {line} (in {best.describe()})"
+
+    def place_for(self, message: str) -> str:
+        """The best place for an ezdxf message: its line, the entity of a handle it names, a
+        header variable it names, else the first entity of a type it names."""
+        line = _line_of(Exception(message))
+        if line is not None:
+            return self.around(line)
+        for h in re.findall(r"#([0-9A-Fa-f]+)\b|handle\s+([0-9A-Fa-f]+)", message):
+            w = self.by_handle.get((h[0] or h[1]).upper())
+            if w is not None:
+                return w.describe()
+        names = [w.dxftype for w in self.starts]
+        for word in re.findall(r"[A-Z_][A-Z0-9_]{2,}", message):
+            if word in names:
+                return self.starts[names.index(word)].describe()
+        return ""
+
+
+def _check_complete(path: Path, data: bytes) -> None:
     """Refuse an ASCII DXF that does not end with its EOF marker: it was cut short.
 
     ezdxf reads a truncated file without complaint, silently losing whatever followed the
     cut (often the whole ENTITIES section).
     """
-    try:
-        with path.open("rb") as fh:
-            head = fh.read(4096)
-            fh.seek(0, 2)
-            size = fh.tell()
-            fh.seek(max(0, size - 256))
-            tail = fh.read()
-    except OSError as exc:
-        raise FileReadError(str(path), "", f"cannot be read ({exc.strerror})") from None
-    if head.startswith(b"AutoCAD Binary DXF") or b"SECTION" not in head.upper():
-        return  # binary DXF has no text marker; a non-DXF file is ezdxf's to refuse
+    tail = data[-256:]
     lines = [ln.strip() for ln in tail.splitlines() if ln.strip()]
     if not lines or lines[-1].upper() != b"EOF":
-        raise FileReadError(str(path), "end of file",
+        last = data.count(b"\n") + 1
+        raise FileReadError(str(path), f"line {last} (end of file)",
                             "the DXF file ends early (no EOF marker); it may be truncated")
 
 
-def _read_doc(path: Path):  # -> ezdxf Drawing
+class _LibraryOutput:
+    """Catches what ezdxf logs (through ``logging``), warns or prints while it reads, so
+    the edge prints Swathe's one line only; the caught lines go to the import summary."""
+
+    def __init__(self) -> None:
+        self.lines: list[str] = []
+
+    @contextlib.contextmanager
+    def capture(self) -> Iterator[None]:
+        logger = logging.getLogger("ezdxf")
+        outer = self
+
+        class _Keep(logging.Handler):
+            def emit(self, record: logging.LogRecord) -> None:
+                try:
+                    outer._add(record.getMessage())
+                except Exception:  # noqa: BLE001 - a malformed log record is not fatal
+                    outer._add(str(record.msg))
+
+        handler = _Keep(logging.DEBUG)
+        old_propagate, old_level = logger.propagate, logger.level
+        logger.addHandler(handler)
+        logger.propagate = False
+        if logger.level == logging.NOTSET or logger.level > logging.WARNING:
+            logger.setLevel(logging.WARNING)
+        printed = io.StringIO()
+        try:
+            with warnings.catch_warnings(record=True) as caught, \
+                    contextlib.redirect_stdout(printed), contextlib.redirect_stderr(printed):
+                warnings.simplefilter("always")
+                yield
+        finally:
+            logger.removeHandler(handler)
+            logger.propagate, logger.level = old_propagate, old_level
+            for w in caught:
+                self._add(str(w.message))
+            for ln in printed.getvalue().splitlines():
+                self._add(ln)
+
+    def _add(self, text: str) -> None:
+        t = one_line(text, 160)
+        if t and len(self.lines) < 50 and t not in self.lines:
+            self.lines.append(t)
+
+
+def _read_doc(path: Path, out: _LibraryOutput | None = None):  # -> ezdxf Drawing
+    out = out or _LibraryOutput()
+    data = read_input_bytes(path, "DXF file")
+    file = one_line(str(path), 300)
+    index = _TagIndex()
+    binary = data.startswith(b"AutoCAD Binary DXF")
+    if not binary and b"SECTION" in data[:4096].upper():
+        index = _TagIndex.scan(data)
+        if index.problem is not None:
+            line, what = index.problem
+            raise FileReadError(file, index.around(line), f"damaged DXF file: {what}")
+        _check_complete(path, data)
+    with out.capture():
+        doc = _parse_doc(path, file, index)
+        try:
+            doc.modelspace()
+        except Exception as exc:  # noqa: BLE001 - a damaged layout table
+            where = index.place_for("LAYOUT") or "OBJECTS section"
+            raise FileReadError(file, where, "damaged DXF file: it has no usable model space "
+                                f"({one_line(type(exc).__name__ + ': ' + str(exc), 80)})"
+                                ) from None
+    return doc, index
+
+
+def _parse_doc(path: Path, file: str, index: _TagIndex):
     import ezdxf
     from ezdxf import recover
 
-    if not path.exists():
-        raise FileReadError(str(path), "", "file not found")
-    if path.is_dir():
-        raise FileReadError(str(path), "", "is a folder, expected a DXF file")
-    _check_complete(path)
+    def place(exc: BaseException) -> str:
+        return index.place_for(str(exc)) or "structure (ezdxf names no line)"
+
     try:
         return ezdxf.readfile(path)
     except ezdxf.DXFStructureError as exc:
-        first = exc
+        first: BaseException = exc
     except UnicodeDecodeError as exc:
-        raise FileReadError(str(path), f"byte {exc.start}",
+        raise FileReadError(file, f"byte {exc.start}",
                             "not a readable DXF file (text encoding error)") from None
-    except OSError as exc:
-        # ezdxf raises IOError both for unreadable files and for files that are not DXF.
-        msg = exc.strerror or str(exc) or type(exc).__name__
-        raise FileReadError(str(path), _line_of(exc), f"not a readable DXF file ({msg})") from None
+    except (OSError, LookupError) as exc:
+        # ezdxf raises IOError both for unreadable files and for files that are not DXF;
+        # LookupError for an unknown code page.
+        msg = one_line(getattr(exc, "strerror", None) or str(exc) or type(exc).__name__)
+        where = index.place_for(str(exc)) or ("line 1" if index.starts or not
+                                                path.stat().st_size else "start of file")
+        raise FileReadError(file, where, f"not a readable DXF file ({msg})") from None
+    except MemoryError:
+        raise
     except Exception as exc:  # noqa: BLE001 - ezdxf's parser raises many kinds on garbage
-        raise FileReadError(str(path), _line_of(exc),
-                            f"not a readable DXF file ({type(exc).__name__}: {exc})") from None
+        first = exc
     # A structure error may be a damaged but repairable file; ezdxf.recover tries harder.
     try:
         doc, auditor = recover.readfile(path)
+    except MemoryError:
+        raise
     except Exception:  # noqa: BLE001 - report the first, clearer error
-        raise FileReadError(str(path), _line_of(first),
-                            f"damaged DXF file ({first})") from None
+        raise FileReadError(file, place(first), "damaged DXF file "
+                            f"({one_line(type(first).__name__ + ': ' + str(first))})") from None
     if auditor.has_errors:
-        raise FileReadError(str(path), _line_of(first),
-                            f"damaged DXF file that could not be repaired ({first})")
+        err = auditor.errors[0]
+        ent = getattr(err, "entity", None)
+        handle = _safe_attr(ent, "handle", "") if ent is not None else ""
+        where = index.by_handle.get(str(handle).upper())
+        raise FileReadError(file, where.describe() if where else place(first),
+                            "damaged DXF file that could not be repaired "
+                            f"({one_line(getattr(err, 'message', '') or str(first))})")
     return doc
+
+
+def _safe_attr(entity, name: str, default):  # noqa: ANN001 - any ezdxf entity
+    """``entity.dxf.name``, or ``default`` when the entity has no such attribute (damaged
+    files hold entities of unknown types, or of types without a layer)."""
+    try:
+        return entity.dxf.get(name, default)
+    except Exception:  # noqa: BLE001 - ezdxf raises DXFAttributeError, DXFValueError, ...
+        return default
 
 
 def _units_m(doc, units: str | None, file: str) -> tuple[float, str]:
@@ -189,7 +388,7 @@ def _units_m(doc, units: str | None, file: str) -> tuple[float, str]:
     code = doc.header.get("$INSUNITS", 0)
     try:
         code = int(code)
-    except (TypeError, ValueError):
+    except (TypeError, ValueError, OverflowError):
         code = 0
     if code not in INSUNITS_M:
         raise FileReadError(file, "header $INSUNITS",
@@ -256,8 +455,116 @@ def _max_scale(matrix) -> float:
     return s if s > 0 else 1.0
 
 
-def _entity_shapes(e, sagitta: float) -> Iterator[tuple[np.ndarray, bool, bool]]:
-    """Flattened outlines of one non-INSERT entity in its own (block) coordinates.
+def _bezier_chords(ctrl: np.ndarray, sagitta: float) -> int:
+    """Chords for a Bezier piece of control points ``ctrl`` (k, 2) within ``sagitta``:
+    Wang's bound, distance <= d (d - 1) / (8 n^2) max |P[i+2] - 2 P[i+1] + P[i]|
+    (Wang, "Some properties of the Bezier curve", 1984; also Filip, Magedson and
+    Markot, "Surface algorithms using bounds on derivatives", CAGD 3, 1986)."""
+    d = len(ctrl) - 1
+    if d < 2:
+        return 1
+    m = float(np.max(np.hypot(*(ctrl[2:] - 2.0 * ctrl[1:-1] + ctrl[:-2]).T)))
+    n = math.sqrt(d * (d - 1) * m / (8.0 * sagitta)) if m > 0 else 1.0
+    if not n < MAX_CHORDS:
+        raise _EntityError(f"a curve of degree {d} this large needs more than {MAX_CHORDS} "
+                           "chords to flatten")
+    return max(1, math.ceil(n))
+
+
+def _bezier_eval(ctrl: np.ndarray, n: int) -> np.ndarray:
+    """Points at ``n + 1`` evenly spaced parameters of a Bezier piece (de Casteljau)."""
+    t = np.linspace(0.0, 1.0, n + 1)[:, None, None]
+    p = np.broadcast_to(ctrl, (n + 1, *ctrl.shape)).copy()
+    while p.shape[1] > 1:
+        p = (1.0 - t) * p[:, :-1] + t * p[:, 1:]
+    return p[:, 0]
+
+
+class _EntityError(Exception):
+    """One entity cannot be read; the walk names it."""
+
+
+def _spline_points(e, sagitta: float, limit: float) -> np.ndarray:
+    """A SPLINE flattened within ``sagitta``, its size and complexity checked first."""
+    degree = int(e.dxf.get("degree", 3))
+    count = max(e.control_point_count(), e.fit_point_count())
+    if not 1 <= degree <= MAX_SPLINE_DEGREE:
+        raise _EntityError(f"spline degree {degree}; expected 1 to {MAX_SPLINE_DEGREE}")
+    if count > MAX_SPLINE_POINTS:
+        raise _EntityError(f"{count} spline points; expected at most {MAX_SPLINE_POINTS}")
+    raw = np.array([tuple(v)[:2] for v in (e.control_points if e.control_point_count()
+                                            else e.fit_points)], dtype=float).reshape(-1, 2)
+    _check_size(raw, limit)
+    bs = e.construction_tool()
+    ctrl = np.array([tuple(v)[:2] for v in bs.control_points], dtype=float)
+    _check_size(ctrl, limit)
+    pieces: list[np.ndarray] = []
+    if not bs.is_rational:
+        try:
+            beziers = [np.array([tuple(v)[:2] for v in b], dtype=float)
+                       for b in bs.bezier_decomposition()]
+        except Exception:  # noqa: BLE001 - an unclamped spline: sample its spans instead
+            beziers = []
+        if beziers:
+            total = 0
+            counts = []
+            for b in beziers:
+                counts.append(_bezier_chords(b, sagitta))
+                total += counts[-1]
+                if total > MAX_CHORDS:
+                    raise _EntityError(f"the spline needs more than {MAX_CHORDS} chords to "
+                                       "flatten")
+            for b, n in zip(beziers, counts):
+                pts = _bezier_eval(b, n)
+                pieces.append(pts if not pieces else pts[1:])
+            return np.vstack(pieces)
+    # Rational or unclamped: sample each knot span as finely as the control polygon's
+    # second differences ask (Wang's count, an estimate here rather than a bound).
+    knots = np.array(bs.knots(), dtype=float)
+    lo, hi = knots[bs.degree], knots[-bs.degree - 1]
+    edges = np.unique(knots[(knots >= lo) & (knots <= hi)])
+    if edges.size < 2 or not np.all(np.isfinite(edges)):
+        raise _EntityError("the spline's knots do not span a curve")
+    per_span = _bezier_chords(ctrl, sagitta)
+    if per_span * (edges.size - 1) > MAX_CHORDS:
+        raise _EntityError(f"the spline needs more than {MAX_CHORDS} chords to flatten")
+    ts = np.unique(np.concatenate([np.linspace(a, b, per_span + 1)
+                                   for a, b in zip(edges[:-1], edges[1:])]))
+    return np.array([tuple(v)[:2] for v in bs.points(ts)], dtype=float)
+
+
+def _ellipse_points(e, sagitta: float, limit: float) -> np.ndarray:
+    """An ELLIPSE flattened within ``sagitta``: evenly spaced parameters, as many as the
+    circle of its larger semi-axis needs (an ellipse is that circle squeezed, which only
+    shortens the gap between arc and chord)."""
+    ct = e.construction_tool()
+    centre = np.array([tuple(ct.center)[:2]], dtype=float)
+    a = math.hypot(*tuple(ct.major_axis)[:3])
+    radius = a * max(1.0, abs(float(ct.ratio)))
+    _check_size(centre, limit, radius)
+    span = float(ct.param_span)
+    try:
+        n = chord_count(radius, span, sagitta)
+    except ValueError as exc:
+        raise _EntityError(str(exc)) from None
+    params = float(ct.start_param) + span * np.linspace(0.0, 1.0, n + 1)
+    return np.array([tuple(v)[:2] for v in ct.vertices(params)], dtype=float)
+
+
+def _check_size(pts: np.ndarray, limit: float, radius: float = 0.0) -> None:
+    """Refuse points that are not finite or lie beyond ``limit`` (drawing units), before
+    any flattening is tried on them."""
+    if not (np.all(np.isfinite(pts)) and math.isfinite(radius)):
+        raise _EntityError("expected finite coordinates")
+    if pts.size and float(np.abs(pts).max()) + abs(radius) > limit:
+        raise _EntityError(f"lies more than {MAX_COORD_M / 1000:g} km from the origin; "
+                           "move the drawing near the origin (or check its units)")
+
+
+def _entity_shapes(e, sagitta: float, limit: float = math.inf
+                   ) -> Iterator[tuple[np.ndarray, bool, bool]]:
+    """Flattened outlines of one non-INSERT entity in its own (block) coordinates, its size
+    checked against ``limit`` (drawing units) before any flattening.
 
     Yields ``(points, closed, curved)``; ``curved`` marks chords that lie inside a curve and
     must be grown outward by the sagitta.
@@ -270,6 +577,7 @@ def _entity_shapes(e, sagitta: float) -> Iterator[tuple[np.ndarray, bool, bool]]
         xyb = [(p[0], p[1], p[2]) for p in e.get_points("xyb")]
         if not xyb:
             return
+        _check_size(np.array([(x, y) for x, y, _ in xyb], dtype=float), limit)
         pts = _polyline_with_bulges(xyb, bool(e.closed), sagitta)
         curved = any(b != 0 for _, _, b in xyb)
         yield _to_wcs(e, pts, e.dxf.get("elevation", 0.0)), bool(e.closed), curved
@@ -282,6 +590,7 @@ def _entity_shapes(e, sagitta: float) -> Iterator[tuple[np.ndarray, bool, bool]]
         closed = bool(e.is_closed)
         if e.is_2d_polyline:
             xyb = [(v.dxf.location.x, v.dxf.location.y, v.dxf.get("bulge", 0.0)) for v in verts]
+            _check_size(np.array([(x, y) for x, y, _ in xyb], dtype=float), limit)
             pts = _polyline_with_bulges(xyb, closed, sagitta)
             elev = e.dxf.get("elevation", (0.0, 0.0, 0.0))
             z = elev[2] if hasattr(elev, "__len__") else float(elev)
@@ -293,6 +602,7 @@ def _entity_shapes(e, sagitta: float) -> Iterator[tuple[np.ndarray, bool, bool]]
             yield pts, closed, False
     elif t == "ARC":
         c = e.dxf.center
+        _check_size(np.array([(c.x, c.y)], dtype=float), limit, float(e.dxf.radius))
         a0 = math.radians(e.dxf.start_angle)
         a1 = math.radians(e.dxf.end_angle)
         sweep = (a1 - a0) % (2.0 * math.pi)
@@ -302,54 +612,149 @@ def _entity_shapes(e, sagitta: float) -> Iterator[tuple[np.ndarray, bool, bool]]
         yield _to_wcs(e, pts, c.z), False, True
     elif t == "CIRCLE":
         c = e.dxf.center
+        _check_size(np.array([(c.x, c.y)], dtype=float), limit, float(e.dxf.radius))
         # Circumscribed: the polygon holds the circle (a block's affine map keeps that).
         pts = circle_points_outside((c.x, c.y), e.dxf.radius, sagitta)
         yield _to_wcs(e, pts, c.z), True, False
     elif t in ("ELLIPSE", "SPLINE"):
-        pts = np.array([(v.x, v.y) for v in e.flattening(sagitta)], dtype=float)
+        pts = (_ellipse_points(e, sagitta, limit) if t == "ELLIPSE"
+               else _spline_points(e, sagitta, limit))
         if len(pts) >= 2:
             closed = len(pts) > 2 and bool(np.allclose(pts[0], pts[-1], rtol=0, atol=1e-9))
             yield pts, closed, True
 
 
-def _walk(entities: Iterable, matrix, parent_layer: str | None, sagitta: float, depth: int,
-          file: str, shapes: list[_Shape], texts: list[tuple[float, float, str, str]]) -> None:
-    for e in entities:
-        t = e.dxftype()
-        layer = e.dxf.get("layer", "0")
-        if parent_layer is not None and layer == "0":
-            layer = parent_layer
-        handle = str(e.dxf.get("handle", "?"))
+class _Walker:
+    """Walks model space and the blocks it references, within the entity and point budgets,
+    naming the entity (type, handle, layer, line) of anything it cannot read."""
+
+    def __init__(self, file: str, index: _TagIndex, sagitta: float, limit: float) -> None:
+        self.file = file
+        self.index = index
+        self.sagitta = sagitta
+        self.limit = limit  # drawing units
+        self.shapes: list[_Shape] = []
+        self.texts: list[tuple[float, float, str, str]] = []
+        self.skipped: Counter[str] = Counter()
+        self.entities = 0
+        self.points = 0
+        self._block_sizes: dict[str, int] = {}
+
+    def where(self, t: str, handle: str, layer: str) -> str:
+        w = self.index.by_handle.get(handle.upper()) if handle else None
+        text = f"{one_line(t, 40) or 'entity'} handle {one_line(handle, 20) or '?'} on layer " \
+               f"{one_line(repr(layer), 60)}"
+        return f"{text}, line {w.line}" if w is not None else text
+
+    def block_size(self, block, depth: int = 0) -> int:  # noqa: ANN001 - ezdxf BlockLayout
+        """Entities a block expands to, its references counted with their repeats."""
+        name = str(_safe_attr(block.block, "name", "")) if block.block is not None else ""
+        if name in self._block_sizes:
+            return self._block_sizes[name]
+        if depth >= _MAX_BLOCK_DEPTH:
+            return MAX_ENTITIES + 1
+        self._block_sizes[name] = MAX_ENTITIES + 1  # a block inside itself is too big
+        total = 0
+        for e in block:
+            total += 1
+            if _safe_type(e) == "INSERT":
+                inner = _safe_block(e)
+                if inner is not None:
+                    total += _repeat(e) * self.block_size(inner, depth + 1)
+            if total > MAX_ENTITIES:
+                break
+        self._block_sizes[name] = min(total, MAX_ENTITIES + 1)
+        return self._block_sizes[name]
+
+    def walk(self, entities: Iterable, matrix, parent_layer: str | None, depth: int) -> None:
+        for e in entities:
+            t = _safe_type(e)
+            layer = _clean_text(_safe_attr(e, "layer", "0"))
+            if parent_layer is not None and layer == "0":
+                layer = parent_layer
+            handle = str(_safe_attr(e, "handle", ""))
+            self.entities += 1
+            if t not in READ_TYPES:
+                self.skipped[t or "unnamed"] += 1
+                continue
+            try:
+                self._one(e, t, layer, handle, matrix, depth)
+            except FileReadError:
+                raise
+            except MemoryError:
+                raise
+            except _EntityError as exc:
+                raise FileReadError(self.file, self.where(t, handle, layer),
+                                    one_line(str(exc))) from None
+            except Exception as exc:  # noqa: BLE001 - a file ezdxf accepted may hold nonsense
+                raise FileReadError(self.file, self.where(t, handle, layer),
+                                    f"damaged {t} entity ({type(exc).__name__}: "
+                                    f"{one_line(str(exc), 120)})") from None
+
+    def _one(self, e, t: str, layer: str, handle: str, matrix, depth: int) -> None:  # noqa: ANN001
         if t == "INSERT":
             if depth >= _MAX_BLOCK_DEPTH:
-                raise FileReadError(file, f"INSERT handle {handle}",
-                                    f"blocks nested more than {_MAX_BLOCK_DEPTH} deep "
-                                    "(a block that contains itself?)")
+                raise _EntityError(f"blocks nested more than {_MAX_BLOCK_DEPTH} deep "
+                                   "(a block that contains itself?)")
+            block = e.block()
+            if block is None:
+                self.skipped["INSERT of a missing block"] += 1
+                return
+            size = _repeat(e) * self.block_size(block)
+            if self.entities + size > MAX_ENTITIES:
+                raise _EntityError(f"its block expands to more than {MAX_ENTITIES} entities "
+                                   "with the rest of the drawing (blocks inserting blocks "
+                                   "many times over?)")
             inserts = e.multi_insert() if e.mcount > 1 else [e]
             for ins in inserts:
-                block = ins.block()
-                if block is None:
-                    continue
                 m = ins.matrix44()
                 total = m if matrix is None else m @ matrix
-                _walk(block, total, layer, sagitta, depth + 1, file, shapes, texts)
-            continue
+                self.walk(block, total, layer, depth + 1)
+            return
         if t in ("TEXT", "MTEXT"):
             p = e.dxf.insert
             if matrix is not None:
                 p = matrix.transform(p)
             text = e.plain_text() if t == "MTEXT" else e.dxf.get("text", "")
-            texts.append((p.x, p.y, str(text).strip(), layer))
-            continue
-        local_sagitta = sagitta / _max_scale(matrix)
-        for pts, closed, curved in _entity_shapes(e, local_sagitta):
+            self.texts.append((p.x, p.y, _clean_text(text).strip(), layer))
+            return
+        stretch = _max_scale(matrix)
+        local_sagitta = self.sagitta / stretch
+        offset = 0.0 if matrix is None else float(np.abs(np.array(matrix.get_row(3)[:2])).max())
+        local_limit = max(self.limit - offset, 0.0) / stretch
+        for pts, closed, curved in _entity_shapes(e, local_sagitta, local_limit):
+            self.points += len(pts)
+            if self.points > MAX_POINTS:
+                raise _EntityError(f"the drawing's outlines hold more than {MAX_POINTS} "
+                                   "points once flattened")
             if matrix is not None:
                 v = matrix.transform_vertices([(x, y, 0.0) for x, y in pts])
                 pts = np.array([(q.x, q.y) for q in v], dtype=float)
             if not np.all(np.isfinite(pts)):
-                raise FileReadError(file, f"{t} handle {handle} on layer {layer!r}",
-                                    "expected finite coordinates")
-            shapes.append(_Shape(pts, closed, layer, t, handle, curved))
+                raise _EntityError("expected finite coordinates")
+            self.shapes.append(_Shape(pts, closed, layer, t, handle, curved))
+
+
+def _safe_type(e) -> str:  # noqa: ANN001 - any ezdxf entity
+    try:
+        return str(e.dxftype())
+    except Exception:  # noqa: BLE001
+        return ""
+
+
+def _safe_block(e):  # noqa: ANN001 - an INSERT
+    try:
+        return e.block()
+    except Exception:  # noqa: BLE001
+        return None
+
+
+def _repeat(e) -> int:  # noqa: ANN001 - an INSERT
+    """How many times an INSERT places its block (MINSERT rows times columns)."""
+    try:
+        return max(1, int(e.dxf.get("row_count", 1))) * max(1, int(e.dxf.get("column_count", 1)))
+    except Exception:  # noqa: BLE001
+        return 1
 
 
 def _role_map(layers: dict[str, list[str]] | None, present: list[str], file: str
@@ -375,9 +780,15 @@ def _role_map(layers: dict[str, list[str]] | None, present: list[str], file: str
     return out
 
 
+def _clean_text(value: object) -> str:
+    """A name or label from the drawing as text that can be written out: bytes the code
+    page could not decode (kept by ezdxf as lone surrogates) become ``\\udcxx`` escapes."""
+    return str(value).encode("utf-8", "backslashreplace").decode("utf-8")
+
+
 def _layer_names(doc) -> list[str]:
-    names = {layer.dxf.name for layer in doc.layers}
-    names.update(e.dxf.get("layer", "0") for e in doc.modelspace())
+    names = {_clean_text(_safe_attr(layer, "name", "0")) for layer in doc.layers}
+    names.update(_clean_text(_safe_attr(e, "layer", "0")) for e in doc.modelspace())
     return sorted(names, key=lambda n: (n.lower(), n))
 
 
@@ -395,7 +806,8 @@ def dxf_layers(path: str | Path) -> list[str]:
         Layer names, sorted case-insensitively.
     """
     p = Path(path)
-    return _layer_names(_read_doc(p))
+    doc, _ = _read_doc(p)
+    return _layer_names(doc)
 
 
 def _dedupe_points(pts: np.ndarray, tol: float) -> list[tuple[float, float]]:
@@ -446,21 +858,16 @@ def import_dxf(path: str | Path, layers: dict[str, list[str]] | None = None,
     if not (isinstance(wall_thickness_m, (int, float)) and math.isfinite(wall_thickness_m)
             and wall_thickness_m > 0):
         raise ValidationError(file, "wall_thickness_m", "expected a positive number of metres")
-    doc = _read_doc(p)
+    library = _LibraryOutput()
+    doc, index = _read_doc(p, library)
     scale, unit_name = _units_m(doc, units, file)
     present = _layer_names(doc)
     roles = _role_map(layers, present, file)
     # Flatten in drawing units with the sagitta target converted from metres.
-    sagitta_du = SAGITTA_M / scale
-    shapes: list[_Shape] = []
-    texts: list[tuple[float, float, str, str]] = []
-    try:
-        _walk(doc.modelspace(), None, None, sagitta_du, 0, file, shapes, texts)
-    except FileReadError:
-        raise
-    except Exception as exc:  # noqa: BLE001 - a file ezdxf accepted may still hold nonsense
-        raise FileReadError(file, "", f"damaged DXF entity ({type(exc).__name__}: {exc})"
-                            ) from None
+    walker = _Walker(file, index, SAGITTA_M / scale, MAX_COORD_M / scale)
+    with library.capture():
+        walker.walk(doc.modelspace(), None, None, 0)
+    shapes, texts = walker.shapes, walker.texts
 
     zone_of = {z.layer.lower(): z for z in zones}
     known = {n.lower() for n in present}
@@ -538,12 +945,14 @@ def import_dxf(path: str | Path, layers: dict[str, list[str]] | None = None,
     if not (walls or obstacles or doors or zone_list):
         named = sorted({n for names in (layers or {}).values() for n in names})
         which = ("the layers " + ", ".join(repr(n) for n in named)) if named else "any layer"
-        raise ValidationError(file, "layers" if roles else "",
+        raise ValidationError(file, "layers" if roles else "model space",
                               f"no walls, obstacles or doors found on {which} "
                               f"(layers in the drawing: {', '.join(present) or 'none'})")
     extra = {"dxf_import": {"units": unit_name, "metres_per_unit": scale,
                             "layers": {role: sorted(n for n, r in used.items() if r == role)
-                                       for role in ROLES}}}
+                                       for role in ROLES},
+                            "skipped": dict(sorted(walker.skipped.items())),
+                            "warnings": list(library.lines)}}
     if zones:
         extra["dxf_import"]["zone_layers"] = sorted(n for n, r in used.items() if r == "zones")
     return FloorPlan(p.stem, tuple(walls), tuple(obstacles), tuple(doors), file, extra,

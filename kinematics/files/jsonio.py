@@ -2,17 +2,81 @@
 
 from __future__ import annotations
 
+import errno
 import gc
 import json
 import math
 import os
 import re
+import stat
 from collections.abc import Iterator
 from contextlib import contextmanager
 from pathlib import Path
 from typing import Any
 
 from kinematics.errors import FileReadError
+
+MAX_INPUT_BYTES = 256 * 2 ** 20
+"""Largest file read (256 MiB): a floor plan or project is far smaller; a bigger file is
+refused before it is read."""
+
+
+def one_line(text: str, limit: int = 200) -> str:
+    """``text`` as one printable line: line breaks and control characters become spaces,
+    text that cannot be encoded (lone surrogates) becomes ``\\udfff`` escapes, and the
+    whole is cut to ``limit`` characters."""
+    t = str(text).encode("utf-8", "backslashreplace").decode("utf-8")
+    t = re.sub(r"[\x00-\x1f\x7f]+", " ", t).strip()
+    return t if len(t) <= limit else t[: limit - 3] + "..."
+
+
+def os_reason(exc: OSError) -> str:
+    """A few words on why the file system refused, for a one-line message."""
+    if exc.errno == errno.ENAMETOOLONG:
+        return "the file name is longer than the file system allows"
+    if exc.errno in (errno.EACCES, errno.EPERM):
+        return "cannot be read (permission denied)"
+    if exc.errno == errno.ENOTDIR:
+        return "file not found (a part of the path is not a folder)"
+    if exc.errno == errno.ELOOP:
+        return "cannot be read (too many symbolic links)"
+    return f"cannot be read ({one_line(exc.strerror or str(exc))})"
+
+
+def check_input_file(path: str | os.PathLike[str], kind: str = "file") -> int:
+    """Refuse a path that is not a readable regular file of at most :data:`MAX_INPUT_BYTES`
+    with one :class:`FileReadError` line (missing, a folder, a device or pipe, too long a
+    name, no permission); return its size in bytes."""
+    name = one_line(os.fspath(path), 300)
+    try:
+        st = os.stat(path)
+    except FileNotFoundError:
+        raise FileReadError(name, "", "file not found") from None
+    except (OSError, ValueError) as exc:  # ValueError: an embedded NUL in the name
+        reason = os_reason(exc) if isinstance(exc, OSError) else "not a usable file name"
+        raise FileReadError(name, "", reason) from None
+    if stat.S_ISDIR(st.st_mode):
+        raise FileReadError(name, "", f"is a folder, expected a {kind}")
+    if not stat.S_ISREG(st.st_mode):
+        raise FileReadError(name, "", f"is not a regular file (a device or pipe?); expected "
+                                      f"a {kind}")
+    if st.st_size > MAX_INPUT_BYTES:
+        raise FileReadError(name, "", f"is {st.st_size / 2 ** 20:.0f} MiB; expected a {kind} "
+                                      f"of at most {MAX_INPUT_BYTES // 2 ** 20} MiB")
+    if not os.access(path, os.R_OK):
+        raise FileReadError(name, "", "cannot be read (permission denied)")
+    return st.st_size
+
+
+def read_input_bytes(path: str | os.PathLike[str], kind: str = "file") -> bytes:
+    """The bytes of an input file after :func:`check_input_file`; OS failures are one
+    :class:`FileReadError` line."""
+    check_input_file(path, kind)
+    try:
+        with open(path, "rb") as fh:
+            return fh.read(MAX_INPUT_BYTES + 1)
+    except OSError as exc:
+        raise FileReadError(one_line(os.fspath(path), 300), "", os_reason(exc)) from None
 
 
 @contextmanager
@@ -38,18 +102,15 @@ def read_json(path: str | os.PathLike[str]) -> Any:
 
     NaN and Infinity literals are refused (they are not JSON).
     """
-    p = Path(path)
+    data = read_input_bytes(path, "JSON file")
+    name = one_line(os.fspath(path), 300)
     try:
-        text = p.read_text(encoding="utf-8")
-    except FileNotFoundError:
-        raise FileReadError(str(p), "", "file not found") from None
-    except IsADirectoryError:
-        raise FileReadError(str(p), "", "is a folder, expected a file") from None
+        text = data.decode("utf-8")
     except UnicodeDecodeError as exc:
-        raise FileReadError(str(p), f"byte {exc.start}", "expected UTF-8 text") from None
-    except OSError as exc:
-        raise FileReadError(str(p), "", f"cannot be read ({exc.strerror})") from None
-    return parse_json(text, str(p))
+        line = data.count(b"\n", 0, exc.start) + 1
+        col = exc.start - (data.rfind(b"\n", 0, exc.start) + 1) + 1
+        raise FileReadError(name, f"line {line}, column {col}", "expected UTF-8 text") from None
+    return parse_json(text, name)
 
 
 def _refuse_constant(name: str) -> Any:
@@ -120,19 +181,51 @@ def _umask() -> int:
     return 0o022
 
 
-def atomic_write_text(path: str | os.PathLike[str], text: str) -> None:
-    """Write ``text`` to ``path`` atomically: a temporary file beside it, then a rename.
+def _temp_prefix(p: Path) -> str:
+    return f".{p.name}."
 
-    A crash mid-write leaves the old file intact.
-    """
+
+def _sweep_stale(directory: Path, p: Path) -> None:
+    """Remove temporary files a writer of ``p`` left when it was killed mid-write (their
+    names carry the writer's process id; a live writer's file is left alone), so killed
+    writes never pile up."""
+    prefix = _temp_prefix(p)
+    try:
+        names = [n for n in os.listdir(directory) if n.startswith(prefix) and
+                 n.endswith(".tmp")]
+    except OSError:
+        return
+    for n in names:
+        parts = n[len(prefix):].split(".")
+        if len(parts) < 3 or not parts[0].startswith("pid") or not parts[0][3:].isdigit():
+            continue
+        pid = int(parts[0][3:])
+        if pid == os.getpid():
+            continue
+        try:
+            os.kill(pid, 0)
+            continue  # that writer is alive
+        except ProcessLookupError:
+            pass
+        except OSError:
+            continue  # alive, owned by someone else
+        try:
+            os.unlink(directory / n)
+        except OSError:
+            pass
+
+
+def _atomic_write(path: str | os.PathLike[str], data: bytes) -> None:
     p = Path(path)
     directory = p.parent if str(p.parent) else Path(".")
     import tempfile  # only saves need it
 
-    fd, tmp = tempfile.mkstemp(prefix=f".{p.name}.", suffix=".tmp", dir=directory)
+    _sweep_stale(directory, p)
+    fd, tmp = tempfile.mkstemp(prefix=f"{_temp_prefix(p)}pid{os.getpid()}.", suffix=".tmp",
+                               dir=directory)
     try:
-        with os.fdopen(fd, "w", encoding="utf-8", newline="") as fh:
-            fh.write(text)
+        with os.fdopen(fd, "wb") as fh:
+            fh.write(data)
             fh.flush()
             os.fsync(fh.fileno())
         os.chmod(tmp, _final_mode(p))  # mkstemp makes 0600; keep the file's usual mode
@@ -145,26 +238,19 @@ def atomic_write_text(path: str | os.PathLike[str], text: str) -> None:
         raise
 
 
+def atomic_write_text(path: str | os.PathLike[str], text: str) -> None:
+    """Write ``text`` (UTF-8) to ``path`` atomically: a temporary file beside it, flushed to
+    disk, then a rename over the old file.
+
+    A crash or kill mid-write leaves the old file intact; the temporary file a killed write
+    leaves is removed by the next write of the same file.
+    """
+    _atomic_write(path, text.encode("utf-8"))
+
+
 def atomic_write_bytes(path: str | os.PathLike[str], data: bytes) -> None:
     """Binary twin of :func:`atomic_write_text`."""
-    p = Path(path)
-    directory = p.parent if str(p.parent) else Path(".")
-    import tempfile  # only saves need it
-
-    fd, tmp = tempfile.mkstemp(prefix=f".{p.name}.", suffix=".tmp", dir=directory)
-    try:
-        with os.fdopen(fd, "wb") as fh:
-            fh.write(data)
-            fh.flush()
-            os.fsync(fh.fileno())
-        os.chmod(tmp, _final_mode(p))
-        os.replace(tmp, p)
-    except BaseException:
-        try:
-            os.unlink(tmp)
-        except OSError:
-            pass
-        raise
+    _atomic_write(path, bytes(data))
 
 
 def _clean(obj: Any) -> Any:

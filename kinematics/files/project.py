@@ -22,11 +22,18 @@ from kinematics.files.floorplan import (
     floorplan_to_dict,
     zone_layers_from,
 )
-from kinematics.files.jsonio import collector_held, read_json, write_json
+from kinematics.files.jsonio import (
+    check_input_file,
+    collector_held,
+    one_line,
+    read_json,
+    write_json,
+)
 from kinematics.files.validate import (
     MAX_BODY_M,
     MAX_COORD_M,
     MAX_ROUTE_SPAN_M,
+    MAX_WAYPOINTS,
     MIN_BODY_M,
     MIN_STEER_DEG,
     Reader,
@@ -219,6 +226,14 @@ TRANSITION_LIMITS = {"max_steer_rate_dps": (0.1, 7200.0),
                      "max_yaw_accel_dps2": (0.1, 100000.0)}
 
 
+def _zero_or_sized(r: Reader, radius: float | None, place: str) -> None:
+    """A turn radius is 0 (on the spot) or at least :data:`MIN_BODY_M`: a radius of a few
+    nanometres (or a denormal) is no turn a chassis makes and overflows the arc algebra."""
+    if radius is not None and 0.0 < radius < MIN_BODY_M:
+        raise r.fail(place, f"expected 0 (turn on the spot) or at least {MIN_BODY_M:g} m, "
+                            f"got {radius:g}")
+
+
 def chassis_from_dict(d: Any, file: str, place: str = "chassis") -> Chassis:
     """Build and check a :class:`Chassis` from its JSON object."""
     r = Reader(file)
@@ -240,6 +255,7 @@ def chassis_from_dict(d: Any, file: str, place: str = "chassis") -> Chassis:
     for key in _NON_NEGATIVE:
         vals[key] = r.opt_number(d, key, place, None, non_negative=True,
                                  maximum=MAX_BODY_M if key.endswith("_m") else None)
+    _zero_or_sized(r, vals["min_turn_radius_m"], join(place, "min_turn_radius_m"))
     steer = r.opt_number(d, "max_steer_deg", place, None, positive=True,
                          minimum=MIN_STEER_DEG, maximum=89.0)
     for key in REQUIRED[drive]:
@@ -370,6 +386,8 @@ def route_from_dict(d: Any, file: str, place: str) -> Route:
     items = r.lst(r.get(d, "waypoints", place), wp_place)
     if len(items) < 2:
         raise r.fail(wp_place, f"expected at least 2 waypoints, got {len(items)}")
+    if len(items) > MAX_WAYPOINTS:
+        raise r.fail(wp_place, f"expected at most {MAX_WAYPOINTS} waypoints, got {len(items)}")
     wps = []
     for i, w in enumerate(items):
         p = join(wp_place, i)
@@ -386,6 +404,7 @@ def route_from_dict(d: Any, file: str, place: str) -> Route:
                      f"{MAX_ROUTE_SPAN_M / 1000:g} km; expected metres on a floor plan")
     radius = r.opt_number(d, "turn_radius_m", place, 0.0, non_negative=True,
                           maximum=MAX_ROUTE_SPAN_M)
+    _zero_or_sized(r, radius, join(place, "turn_radius_m"))
     reverse = r.boolean(d.get("reverse", False), join(place, "reverse"))
     transitions = None
     if d.get("transitions") is not None:
@@ -439,17 +458,12 @@ def _load_floorplan_ref(ref: Any, file: str, base_dir: Path) -> FloorPlan:
 
     r = Reader(file)
     if isinstance(ref, str):
-        target = (base_dir / ref)
-        if not target.exists():
-            raise FileReadError(file, "floorplan",
-                                f"the floor plan file {ref!r} was not found (looked for {target})")
+        name = r.text(ref, "floorplan")
+        target = _floor_target(base_dir, name, file, "floorplan")
         return load_floorplan(target)
     if isinstance(ref, dict) and "file" in ref:
         fname = r.text(ref["file"], "floorplan.file")
-        target = base_dir / fname
-        if not target.exists():
-            raise FileReadError(file, "floorplan.file", f"the floor plan file {fname!r} "
-                                f"was not found (looked for {target})")
+        target = _floor_target(base_dir, fname, file, "floorplan.file")
         opts: dict[str, Any] = {}
         if target.suffix.lower() == ".dxf":
             if "layers" in ref:
@@ -479,6 +493,21 @@ def _load_floorplan_ref(ref: Any, file: str, base_dir: Path) -> FloorPlan:
         return floorplan_from_dict(ref, file, "floorplan", file)
     raise r.fail("floorplan", "expected a file name, an import object {\"file\": ...} "
                               "or an inline floor plan object")
+
+
+def _floor_target(base_dir: Path, name: str, file: str, place: str) -> Path:
+    """The floor plan file a project names, refused (naming the project and the key) when it
+    is missing, a folder, not a regular file, unreadable or its name too long."""
+    target = base_dir / name
+    try:
+        check_input_file(target, "floor plan file")
+    except FileReadError as exc:
+        reason = exc.expected
+        if reason == "file not found":
+            reason = f"was not found (looked for {one_line(str(target), 300)})"
+        raise FileReadError(file, place,
+                            f"the floor plan file {one_line(repr(name), 300)} {reason}") from None
+    return target
 
 
 def project_from_dict(d: Any, file: str, base_dir: Path | None = None) -> Project:

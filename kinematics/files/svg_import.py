@@ -41,6 +41,7 @@ What is read:
 
 from __future__ import annotations
 
+import codecs
 import math
 import re
 from dataclasses import dataclass
@@ -58,6 +59,7 @@ from kinematics.files.curves import (
     grown_thickness,
 )
 from kinematics.files.floorplan import Door, FloorPlan, Obstacle, Wall, Zone, ZoneLayer
+from kinematics.files.jsonio import one_line, read_input_bytes
 from kinematics.files.validate import MAX_COORD_M
 
 _INKSCAPE_LABEL = "{http://www.inkscape.org/namespaces/inkscape}label"
@@ -68,6 +70,8 @@ TOLERANCE_M = FLATTEN_TOLERANCE_M
 DEFAULT_WALL_THICKNESS_M = 0.1
 _MAX_DEPTH = 200
 _MAX_ELEMENTS = 200_000  # elements visited, counting each <use> expansion
+MAX_POINTS = 2_000_000
+"""Most points the flattened outlines of one drawing may hold; beyond it is refused."""
 _SKIP = {"defs", "symbol", "clipPath", "mask", "marker", "pattern", "text", "title", "desc",
          "metadata", "style", "script", "linearGradient", "radialGradient", "filter",
          "foreignObject"}
@@ -290,10 +294,13 @@ def parse_path(d: str, tol: float) -> list[tuple[np.ndarray, bool]]:
     last_ctrl: np.ndarray | None = None
     last_cmd = ""
 
+    flushed = [0]  # points in finished subpaths
+
     def flush(closed: bool) -> None:
         nonlocal pts
         if len(pts) >= 2:
             arr = np.vstack(pts)
+            flushed[0] += len(arr)
             if closed and not np.array_equal(arr[0], arr[-1]):
                 arr = np.vstack([arr, arr[:1]])
             subpaths.append((arr, closed))
@@ -367,6 +374,9 @@ def parse_path(d: str, tol: float) -> list[tuple[np.ndarray, bool]]:
                                       (new[0], new[1]), tol)[1:])
                 last_ctrl = None
             cur = np.asarray(new, dtype=float)
+            if len(pts) + flushed[0] > MAX_POINTS:
+                raise _SvgError(f"path data: more than {MAX_POINTS} points once its curves "
+                                f"are flattened (at character {sc.pos})")
         last_cmd = cmd
         if up == "Z":
             # After Z only a command may follow (a number would be an error).
@@ -501,6 +511,7 @@ class _Found:
     two_point: bool
     names: tuple[str, ...] = ()  # ids and layer labels of the element and its groups
     curved: bool = False  # chords inside a curve: grow by the tolerance in the plan
+    where: str = ""  # the element, for messages
 
 
 class _Walker:
@@ -509,6 +520,7 @@ class _Walker:
         self.file = file
         self.found: list[_Found] = []
         self.count = 0
+        self.points = 0
         self.ids = {el.get("id"): el for el in root.iter() if el.get("id")}
         self.using: set[int] = set()
 
@@ -521,8 +533,9 @@ class _Walker:
         self.count += 1
         number = self.count
         if self.count > _MAX_ELEMENTS:
-            raise FileReadError(self.file, "", f"more than {_MAX_ELEMENTS} elements once <use> "
-                                               "references are expanded (a reference bomb?)")
+            raise FileReadError(self.file, _describe(el, tag, number),
+                                f"more than {_MAX_ELEMENTS} elements once <use> references "
+                                "are expanded (a reference bomb?)")
         if depth > _MAX_DEPTH:
             raise FileReadError(self.file, _describe(el, tag, number),
                                 f"elements nested more than {_MAX_DEPTH} deep")
@@ -586,43 +599,98 @@ class _Walker:
             if not np.all(np.isfinite(world)):
                 raise FileReadError(self.file, _describe(el, tag, number),
                                     "coordinates out of range")
-            self.found.append(_Found(world, closed, mk, label, thickness, two, names, curved))
+            self.points += len(world)
+            if self.points > MAX_POINTS:
+                raise FileReadError(self.file, _describe(el, tag, number),
+                                    f"the drawing holds more than {MAX_POINTS} points once "
+                                    "its curves are flattened")
+            self.found.append(_Found(world, closed, mk, label, thickness, two, names, curved,
+                                     _describe(el, tag, number)))
+
+
+_NOT_CHARSETS = {"idna", "punycode", "unicode-escape", "raw-unicode-escape", "undefined",
+                 "base64", "hex", "rot-13", "zlib", "bz2", "quopri", "uu"}
+_DECLARED = re.compile(rb"""^\s*<\?xml[^>]*?encoding\s*=\s*["']([^"']*)["']""")
+
+
+def _line_col(data: bytes | str, pos: int) -> str:
+    nl = b"\n" if isinstance(data, bytes) else "\n"
+    line = data.count(nl, 0, pos) + 1  # type: ignore[arg-type]
+    col = pos - (data.rfind(nl, 0, pos) + 1) + 1  # type: ignore[arg-type]
+    return f"line {line}, column {col}"
+
+
+def _decode_xml(data: bytes, file: str) -> str:
+    """The text of an XML file: its byte-order mark, else the encoding its declaration
+    names, else UTF-8 (XML 1.0, appendix F); an unknown or undecodable encoding is refused
+    with the line."""
+    if data.startswith(codecs.BOM_UTF8):
+        enc = "utf-8-sig"
+    elif data.startswith((codecs.BOM_UTF32_LE, codecs.BOM_UTF32_BE)):
+        enc = "utf-32"
+    elif data.startswith((codecs.BOM_UTF16_LE, codecs.BOM_UTF16_BE)):
+        enc = "utf-16"
+    elif data.startswith(b"<\0?\0"):
+        enc = "utf-16-le"
+    elif data.startswith(b"\0<\0?"):
+        enc = "utf-16-be"
+    else:
+        m = _DECLARED.match(data[:400])
+        enc = m.group(1).decode("latin-1").strip() if m else "utf-8"
+        try:
+            info = codecs.lookup(enc)
+        except LookupError:
+            info = None
+        if info is None or not getattr(info, "_is_text_encoding", True) \
+                or info.name in _NOT_CHARSETS:
+            raise FileReadError(file, "line 1", f"the XML declaration names the encoding "
+                                f"{one_line(repr(enc), 60)}, which is not a known character "
+                                "encoding; expected UTF-8, UTF-16 or ISO-8859-1")
+    try:
+        return data.decode(enc)
+    except UnicodeDecodeError as exc:
+        raise FileReadError(file, _line_col(data, exc.start),
+                            f"not readable as {enc} text (byte 0x{data[exc.start]:02x})"
+                            ) from None
+    except (UnicodeError, ValueError, LookupError) as exc:
+        raise FileReadError(file, "line 1", f"not readable as {enc} text "
+                            f"({one_line(str(exc), 80)})") from None
 
 
 def _read_root(p: Path) -> Element:
     import defusedxml
     import defusedxml.ElementTree as DET
 
-    file = str(p)
-    if not p.exists():
-        raise FileReadError(file, "", "file not found")
-    if p.is_dir():
-        raise FileReadError(file, "", "is a folder, expected an SVG file")
+    file = one_line(str(p), 300)
+    data = read_input_bytes(p, "SVG file")
+    text = _decode_xml(data, file)
+
+    def line_of(token: str) -> str:
+        i = text.find(token)
+        return _line_col(text, i) if i >= 0 else "line 1"
+
     try:
-        data = p.read_bytes()
-    except OSError as exc:
-        raise FileReadError(file, "", f"cannot be read ({exc.strerror})") from None
-    try:
-        root = DET.fromstring(data, forbid_dtd=False, forbid_entities=True,
+        root = DET.fromstring(text, forbid_dtd=False, forbid_entities=True,
                               forbid_external=True)
     except defusedxml.EntitiesForbidden:
-        raise FileReadError(file, "", "refused: the file declares XML entities, which an SVG "
-                                      "floor plan does not need (possible entity-expansion "
-                                      "attack)") from None
+        raise FileReadError(file, line_of("<!ENTITY"), "refused: the file declares XML "
+                            "entities, which an SVG floor plan does not need (possible "
+                            "entity-expansion attack)") from None
     except (defusedxml.ExternalReferenceForbidden, defusedxml.DTDForbidden,
             defusedxml.NotSupportedError):
-        raise FileReadError(file, "", "refused: the file refers to external XML "
-                                      "resources") from None
+        raise FileReadError(file, line_of("<!DOCTYPE"), "refused: the file refers to "
+                            "external XML resources") from None
     except ParseError as exc:
-        line, col = getattr(exc, "position", (0, 0))
+        line, col = getattr(exc, "position", (1, 0))
         reason = str(exc).split(":")[0]
         raise FileReadError(file, f"line {line}, column {col + 1}",
-                            f"not well-formed XML ({reason})") from None
-    except (ValueError, RecursionError, UnicodeError) as exc:
-        raise FileReadError(file, "", f"not a readable SVG file ({exc})") from None
+                            f"not well-formed XML ({one_line(reason, 80)})") from None
+    except (ValueError, RecursionError, UnicodeError, LookupError) as exc:
+        raise FileReadError(file, "line 1", "not a readable SVG file "
+                            f"({one_line(str(exc), 120)})") from None
     if _local(root.tag) != "svg":
         raise FileReadError(file, "line 1", f"expected an <svg> root element, got "
-                                            f"<{_local(root.tag)}>")
+                                            f"<{one_line(_local(root.tag), 40)}>")
     return root
 
 
@@ -672,9 +740,11 @@ def import_svg(path: str | Path, metres_per_unit: float = 0.01,
         raise FileReadError(file, "<svg> (element 1)", str(exc)) from None
     walker = _Walker(root, TOLERANCE_M / metres_per_unit, file)
     try:
-        walker.walk(root, np.eye(3), None, 0)
+        # Overflow to infinity is looked for after each step; numpy need not warn of it.
+        with np.errstate(all="ignore"):
+            walker.walk(root, np.eye(3), None, 0)
     except RecursionError:
-        raise FileReadError(file, "", "elements nested too deeply") from None
+        raise FileReadError(file, "<svg> (element 1)", "elements nested too deeply") from None
 
     walls: list[Wall] = []
     obstacles: list[Obstacle] = []
@@ -692,11 +762,12 @@ def import_svg(path: str | Path, metres_per_unit: float = 0.01,
         return tuple(out)
 
     for f in walker.found:
-        pts = to_plan(f.points)
+        with np.errstate(all="ignore"):
+            pts = to_plan(f.points)
         if not all(math.isfinite(v) for q in pts for v in q):
-            raise FileReadError(file, f.label or "", "coordinates out of range")
+            raise FileReadError(file, f.where, "coordinates out of range")
         if max(abs(v) for q in pts for v in q) > MAX_COORD_M:
-            raise FileReadError(file, f.label or "", f"lies more than {MAX_COORD_M / 1000:g} "
+            raise FileReadError(file, f.where, f"lies more than {MAX_COORD_M / 1000:g} "
                                 "km from the origin; move the drawing near the origin (or "
                                 "check metres_per_unit)")
         if f.marker == "door":

@@ -31,6 +31,12 @@ MIN_STEER_DEG = 1.0
 #: Largest extent of one route's waypoints, metres (a building route is far shorter; the
 #: checks sample every route at centimetre steps). Common practice.
 MAX_ROUTE_SPAN_M = 1.0e4
+#: Most waypoints one route holds (a building route has tens; the planner and the checks
+#: work per corner, so the count bounds their work). Common practice.
+MAX_WAYPOINTS = 1000
+#: Longest planned route, metres: the checks sample a route every 2 cm, so the length
+#: bounds their memory (50 km is far beyond any building). Common practice.
+MAX_PLAN_LENGTH_M = 5.0e4
 
 
 def too_spread(points: list[tuple[float, float]]) -> int | None:
@@ -43,6 +49,16 @@ def too_spread(points: list[tuple[float, float]]) -> int | None:
         return None
     return max(range(len(points)),
                key=lambda i: max(abs(xs[i] - xs[0]), abs(ys[i] - ys[0])))
+
+
+def unencodable(text: str) -> int | None:
+    """Index of the first character of ``text`` that UTF-8 cannot encode (a lone surrogate,
+    which a JSON ``\\udfff`` escape can produce), or ``None``."""
+    try:
+        text.encode("utf-8")
+    except UnicodeEncodeError as exc:
+        return exc.start
+    return None
 
 
 def join(place: str, key: str | int) -> str:
@@ -114,8 +130,11 @@ class Reader:
         def walk(v: Any, where: str) -> None:
             if isinstance(v, float) and not math.isfinite(v):
                 raise self.fail(where, "expected a finite number, got NaN or infinity")
+            if isinstance(v, str) and unencodable(v) is not None:
+                self.text(v, where)
             if isinstance(v, dict):
                 for k, x in v.items():
+                    self.text(k, join(where, "<key>"))
                     walk(x, join(where, str(k)))
             elif isinstance(v, list):
                 for i, x in enumerate(v):
@@ -123,6 +142,7 @@ class Reader:
 
         out = {k: v for k, v in d.items() if k not in known}
         for k, v in out.items():
+            self.text(k, join(place, "<key>"))
             walk(v, join(place, k))
         return out
 
@@ -135,6 +155,11 @@ class Reader:
     def text(self, value: Any, place: str) -> str:
         if not isinstance(value, str):
             raise self.fail(place, f"expected text, got {_type_name(value)}")
+        bad = unencodable(value)
+        if bad is not None:
+            raise self.fail(place, f"expected text that can be written as UTF-8; character "
+                                   f"{bad + 1} is a lone surrogate "
+                                   f"(\\u{ord(value[bad]):04x})")
         return value
 
     def boolean(self, value: Any, place: str) -> bool:

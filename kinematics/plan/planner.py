@@ -54,7 +54,7 @@ import numpy as np
 
 from kinematics.errors import ValidationError
 from kinematics.files.project import DRIVE_ALIASES, Chassis, Project, Route, route_transitions
-from kinematics.files.validate import MAX_ROUTE_SPAN_M, too_spread
+from kinematics.files.validate import MAX_PLAN_LENGTH_M, MAX_ROUTE_SPAN_M, too_spread
 from kinematics.motion.drives import drive_for
 from kinematics.motion.segments import Segment, holonomic_line, line, path_length, pivot
 from kinematics.plan.fillet import (
@@ -808,6 +808,13 @@ def plan_route(route: Route, chassis: Chassis, cache: PieceCache | None = None) 
     if n > 1 and not pts.headings[-1]:
         b.chosen[len(route.waypoints) - 1] = _wrap_deg(b.pose[2])
     _check_radii(b, min_r, can_pivot, drive)
+    length = math.fsum(s.length_m for s in b.segs)
+    if not length <= MAX_PLAN_LENGTH_M:
+        # The checks sample every route at centimetre steps: refuse before they allocate.
+        raise ValidationError(route.name, "waypoints",
+                              f"the planned route is {length / 1000:.4g} km long (at most "
+                              f"{MAX_PLAN_LENGTH_M / 1000:g} km); expected a route in a "
+                              "building (loops repeated many times?)")
     return RoutePlan(route.name, drive, tuple(b.segs), tuple(b.issues), dict(b.chosen),
                      tuple(b.notes), float(radius), start)
 

@@ -65,6 +65,7 @@ from dataclasses import dataclass
 import numpy as np
 from numpy.typing import ArrayLike, NDArray
 
+from kinematics.errors import ValidationError
 from kinematics.motion.arrays import unique_sorted
 from kinematics.motion.drives import DriveModel, drive_for
 from kinematics.motion.segments import Segment, segment_stations
@@ -564,8 +565,8 @@ def speed_profile(segments: Sequence[Segment], drive: DriveModel,
 
     Raises
     ------
-    ValueError
-        A pivot on a drive that cannot pivot.
+    ValidationError
+        A pivot on a drive that cannot pivot (bad input: the segments came from elsewhere).
 
     Examples
     --------
@@ -588,7 +589,9 @@ def speed_profile(segments: Sequence[Segment], drive: DriveModel,
     for i, s in enumerate(segs):
         if s.kind == "pivot":
             if not drive.can_pivot:
-                raise ValueError(f"segment {i}: a {drive.name} drive cannot turn on the spot")
+                raise ValidationError("<route>", f"segment {i}",
+                                      f"a turn on the spot, which a {drive.name} drive cannot "
+                                      "make; plan the route with a turn radius")
             c, key = _pivot_caps(drive, limits)
             amount[i] = abs(s.turn_rad)
             acc[i], dec[i], ak, dk = _pivot_accel(drive, limits)

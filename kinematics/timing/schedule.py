@@ -174,9 +174,15 @@ def _poses(profile: SpeedProfile, idx: NDArray, progress: NDArray) -> NDArray[np
     return out
 
 
+MAX_SAMPLES = 2_000_000
+"""Most timed samples one schedule holds (about 400 MB as JSON); a route that would need more
+at its time step is refused before any sample is made."""
+
+
 def build_schedule(route_name: str, segments: Sequence[Segment], chassis,
                    dt_s: float = 0.1, zones: Sequence[Zone] = (),
-                   route: Route | None = None) -> Schedule:
+                   route: Route | None = None, file: str = "<schedule>",
+                   place: str = "") -> Schedule:
     """The wheel-rate schedule of a planned route.
 
     Parameters
@@ -192,6 +198,8 @@ def build_schedule(route_name: str, segments: Sequence[Segment], chassis,
         The floor plan's zones; ``slow`` ones cap the speed (:mod:`kinematics.timing.zones`).
     route : Route, optional
         Its ``stops``: the chassis rests there and waits.
+    file, place : str
+        Named in a refusal (the project file and the route's key path).
 
     Returns
     -------
@@ -200,22 +208,34 @@ def build_schedule(route_name: str, segments: Sequence[Segment], chassis,
     Raises
     ------
     ValidationError
-        ``dt_s`` not positive, or the chassis lacks a dimension its drive needs.
+        ``dt_s`` not positive, the chassis lacks a dimension its drive needs, a pivot on a
+        drive that cannot pivot, or more than :data:`MAX_SAMPLES` samples.
     """
     if not (isinstance(dt_s, (int, float)) and math.isfinite(dt_s) and dt_s > 0):
         raise ValidationError("<schedule>", "dt_s", f"a positive time step in s, got {dt_s!r}")
     drive = drive_for(chassis)
     pieces = None
     stops = tuple(getattr(route, "stops", ()) or ())
-    if stops or any(z.kind == "slow" for z in zones):
-        pieces = split_route(segments, chassis.footprint, zones,
-                             route.waypoints if route is not None else (), stops)
-        prof = speed_profile(pieces.pieces, drive, Limits.from_chassis(chassis),
-                             caps=[None if c is None else (c, SLOW_ZONE) for c in pieces.cap],
-                             rest_before=pieces.rest_before, dwell_s=pieces.dwell_s)
-    else:
-        prof = speed_profile(segments, drive, Limits.from_chassis(chassis))
+    try:
+        if stops or any(z.kind == "slow" for z in zones):
+            pieces = split_route(segments, chassis.footprint, zones,
+                                 route.waypoints if route is not None else (), stops)
+            prof = speed_profile(pieces.pieces, drive, Limits.from_chassis(chassis),
+                                 caps=[None if c is None else (c, SLOW_ZONE) for c in pieces.cap],
+                                 rest_before=pieces.rest_before, dwell_s=pieces.dwell_s)
+        else:
+            prof = speed_profile(segments, drive, Limits.from_chassis(chassis))
+    except ValidationError as exc:
+        where = f"{place}, {exc.place}" if place and exc.place else (place or exc.place)
+        raise ValidationError(file, where, exc.expected) from None
     n = len(prof.segments)
+    total = prof.total_time_s
+    need = total / float(dt_s) + 2 * n + 2  # the grid, plus joints and ramp ends
+    if not need <= MAX_SAMPLES:
+        raise ValidationError(file, place or "dt_s",
+                              f"the schedule would need {need:.2g} samples (the route takes "
+                              f"{total:.4g} s at a time step of {dt_s:g} s; at most "
+                              f"{MAX_SAMPLES:.0e}); raise --dt or check max_speed_mps")
 
     unit = _segment_unit_twists(prof)
     cruise = prof.rate_cruise[:, None] * unit if n else np.zeros((0, 3))
@@ -473,7 +493,7 @@ def schedule_meta(s: Schedule) -> dict:
                   "heading_deg": "deg, counter-clockwise from +x", "v_mps": "m/s",
                   "yaw_rate_dps": "deg/s", "curvature_per_m": "1/m",
                   "rate_radps": "rad/s, signed", "angle_deg": "deg, body frame"},
-        "columns": sample_columns(s.drive),
+        "columns": sample_columns(s.drive) + trailer_sample_columns(s),
         "note": "t_s strictly increasing; rows every dt_s and at joints and ramp ends",
     }
 
@@ -496,7 +516,7 @@ def samples_to_csv(s: Schedule) -> str:
     buf.write("# units: " + "; ".join(f"{k} {v}" for k, v in meta["units"].items()) + "\n")
     buf.write("# columns: " + ", ".join(meta["columns"]) + "\n")
     w = csv.writer(buf, lineterminator="\n")
-    w.writerow(sample_columns(s.drive))
+    w.writerow(sample_columns(s.drive) + trailer_sample_columns(s))
     sm = s.samples
     curv = sample_curvature(s)
     for k in range(sm.t_s.size):
@@ -507,6 +527,7 @@ def samples_to_csv(s: Schedule) -> str:
         cells += [_cell(float(sm.rate_radps[n][k])) for n in s.drive.wheel_names]
         cells += [_cell(math.degrees(float(sm.angle_rad[n][k])))
                   for n in s.drive.steered_wheels]
+        cells += [_cell(v) for v in trailer_sample_cells(s, k)]
         w.writerow(cells)
     return buf.getvalue()
 
