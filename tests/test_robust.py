@@ -593,3 +593,29 @@ def test_project_loader_refuses_the_same_way(tmp_path):
     with pytest.raises(ValidationError) as err:
         load_project(p)
     assert err.value.place == "routes[0].name"
+
+
+def test_a_long_outline_that_crosses_itself_is_refused_not_repaired(tmp_path, capsys):
+    # Found by bench/fuzz.py: an obstacle's four corners repeated 3000 times; shapely's
+    # repair (make_valid) of it ran out of memory (GEOS bad_alloc). Its work grows fast with
+    # the crossings (200 random points take half a minute), so only short outlines are
+    # repaired.
+    floor = dict(FLOOR, obstacles=[{"points": [[2, 1], [3, 1], [3, 2], [2, 2]] * 3000,
+                                    "label": "crate"}])
+    (tmp_path / "tangle.floor.json").write_text(json.dumps(floor))
+    p = _project(tmp_path, floorplan="tangle.floor.json")
+    code, _, err = _cli(["plan", p], capsys)
+    _one_bad_line(code, err, "tangle.floor.json", "obstacles[0]", "crosses itself")
+    # A short crossing outline (a bow tie) is still repaired and read.
+    floor["obstacles"] = [{"points": [[2, 1], [3, 2], [3, 1], [2, 2]], "label": "bow"}]
+    (tmp_path / "tangle.floor.json").write_text(json.dumps(floor))
+    assert len(load_project(p).floorplan.obstacles) == 1
+
+
+def test_imported_outline_too_tangled_to_repair_takes_its_convex_hull():
+    from kinematics.files.floorplan import Obstacle, obstacle_polygon
+
+    pts = tuple((float(x), float(y)) for x, y in [(0, 0), (4, 3), (4, 0), (0, 3)] * 40)
+    poly = obstacle_polygon(Obstacle(pts, "tangle"))
+    # Source: shapely convex_hull (a reference library): holds every point of the outline.
+    assert poly.area == pytest.approx(12.0)

@@ -153,13 +153,16 @@ class _Where:
     handle: str = ""
     layer: str = ""
 
-    def describe(self) -> str:
-        what = self.dxftype or "entity"
+    def what(self) -> str:
+        text = self.dxftype or "entity"
         if self.handle:
-            what += f" handle {self.handle}"
+            text += f" handle {self.handle}"
         if self.layer:
-            what += f" on layer {one_line(repr(self.layer), 60)}"
-        return f"line {self.line} ({one_line(what, 120)})"
+            text += f" on layer {one_line(repr(self.layer), 60)}"
+        return one_line(text, 120)
+
+    def describe(self) -> str:
+        return f"{self.what()}, line {self.line}"
 
 
 @dataclass
@@ -223,7 +226,7 @@ class _TagIndex:
             best = w
         if best is None:
             return f"line {line}"
-        return f"line {line} (in {best.describe()})"
+        return f"line {line} (in {best.what()} from line {best.line})"
 
     def place_for(self, message: str) -> str:
         """The best place for an ezdxf message: its line, the entity of a handle it names, a

@@ -31,6 +31,7 @@ from kinematics.files.jsonio import write_json
 from kinematics.files.validate import (
     MAX_BODY_M,
     MAX_COORD_M,
+    MAX_REPAIR_POINTS,
     Reader,
     join,
     point_lists,
@@ -236,7 +237,10 @@ def obstacle_polygon(obstacle: Obstacle) -> Polygon | None:
         return None
     poly = Polygon(pts)
     if not poly.is_valid:
-        poly = shapely.make_valid(poly)
+        # Repair grows fast with crossings (200 random points: half a minute): past the
+        # budget take the convex hull, which holds the outline (clearances only shrink).
+        poly = (shapely.make_valid(poly) if len(pts) <= MAX_REPAIR_POINTS
+                else poly.convex_hull)
     if poly.is_empty or poly.area <= 0:
         return None
     return poly
@@ -463,6 +467,10 @@ def _read_obstacles(r: Reader, items: list, place: str) -> list[Obstacle]:
     polys = obstacle_polygons(coords, offsets)
     # An obstacle whose label is wrong is reported for that before its area.
     for k, poly in enumerate(polys[:n_ok - 1] if label_error and bad is None else polys):
+        if poly is TANGLED:
+            raise r.fail(places[k], f"the outline crosses itself and has more than "
+                                    f"{MAX_REPAIR_POINTS} points; expected an outline that "
+                                    "does not cross itself (or a short one to repair)")
         if poly is None:
             raise r.fail(places[k], "expected a polygon with non-zero area")
     if bad is not None:
@@ -525,13 +533,24 @@ def obstacle_polygons(coords: np.ndarray, offsets: np.ndarray) -> list[BaseGeome
     rings = shapely.linearrings(coords[sel], indices=ring_of[owner[sel]])
     polys = shapely.polygons(rings)
     valid = shapely.is_valid(polys)
+    tangled = []
     for j in np.flatnonzero(~valid).tolist():
+        if shapely.get_num_coordinates(polys[j]) - 1 > MAX_REPAIR_POINTS:
+            tangled.append(j)  # too many points to repair within budget: the reader refuses
+            continue
         polys[j] = shapely.make_valid(polys[j])
     ok = ~shapely.is_empty(polys) & (shapely.area(polys) > 0)
     for j, k in enumerate(make.tolist()):
         if ok[j]:
             out[k] = polys[j]
+    for j in tangled:
+        out[int(make[j])] = TANGLED
     return out
+
+
+TANGLED = Polygon()
+"""Stands for an outline that crosses itself with more than :data:`MAX_REPAIR_POINTS`
+points (returned by :func:`obstacle_polygons`, refused by the reader)."""
 
 
 def floorplan_to_dict(fp: FloorPlan) -> dict:

@@ -31,6 +31,9 @@ MIN_STEER_DEG = 1.0
 #: Largest extent of one route's waypoints, metres (a building route is far shorter; the
 #: checks sample every route at centimetre steps). Common practice.
 MAX_ROUTE_SPAN_M = 1.0e4
+#: Most points of an outline that crosses itself which a reader repairs (the repair's work
+#: grows fast with the crossings: 50 random points take 0.4 s, 200 half a minute).
+MAX_REPAIR_POINTS = 64
 #: Most waypoints one route holds (a building route has tens; the planner and the checks
 #: work per corner, so the count bounds their work). Common practice.
 MAX_WAYPOINTS = 1000
