@@ -30,7 +30,9 @@ sweeping its edges, and no decomposition is needed.
   reference points by at most the integral of that, ``sigma l^3 / 12`` (``|e^{ia} - e^{ib}|
   <= |a - b|``); a footprint point at distance ``r <= r_far`` from the reference point is
   therefore within ``dev = sigma l^3 / 12 + r_far sigma l^2 / 8`` of its stand-in place. Each
-  chunk is swept as that arc (a rotation, above) and every part grown by ``dev``, with ``l``
+  chunk is swept as that arc (a rotation, above) with the footprint grown by ``dev`` (a mitred
+  offset, whose corners stick out a little further; its excess is taken off the arcs' share,
+  or every part is grown round where a sharp corner's mitre would take too much), with ``l``
   chosen so ``dev`` is at most ``_CLOTHOID_SHARE`` (0.4) of the tolerance; the excess stays
   within the tolerance as for holonomic lines below. A chunk whose mean curvature is almost 0
   uses the straight translation as its stand-in, with the arc's own deviation from it added
@@ -385,12 +387,14 @@ def clothoid_deviation(seg: Segment, r_far: float, le: float) -> float:
 
 
 def _rotation_chunks(ring: NDArray[np.float64], starts: NDArray[np.float64],
-                     kap: NDArray[np.float64], phi: NDArray[np.float64], tol: float
-                     ) -> NDArray[np.object_]:
+                     kap: NDArray[np.float64], phi: NDArray[np.float64], tol: float,
+                     keep_end: NDArray[np.bool_] | None = None) -> NDArray[np.object_]:
     """:func:`rotation_parts` of many chunks at once (each turning by at most
     ``MAX_CHUNK_RAD``): chunk ``k`` places the footprint at ``starts[k]`` and rotates it by
     ``phi[k]`` about the centre of curvature ``1 / kap[k]``. The same polygons as one call
-    per chunk, with the arcs of every chunk drawn with the most steps any of them needs."""
+    per chunk, with the arcs of every chunk drawn with the most steps any of them needs.
+    ``keep_end`` (default all) says which chunks keep their end placement: a chunk followed by
+    another one that starts where it truly ends may drop it (see :func:`_clothoid_parts`)."""
     placed = _place(ring, starts)                                  # (m, N, 2)
     r = 1.0 / kap
     q = np.stack([starts[:, 0] - r * np.sin(starts[:, 2]),
@@ -401,6 +405,8 @@ def _rotation_chunks(ring: NDArray[np.float64], starts: NDArray[np.float64],
     c, s_ = np.cos(phi)[:, None], np.sin(phi)[:, None]
     end = np.stack([c * rel[..., 0] - s_ * rel[..., 1], s_ * rel[..., 0] + c * rel[..., 1]],
                    axis=-1) + q[:, None, :]
+    if keep_end is not None:
+        end = end[keep_end]
     out = list(shapely.polygons(placed)) + list(shapely.polygons(end))
     # Monotone leading pieces of every chunk (as _monotone_pieces, vectorised with masks).
     a = rel
@@ -472,19 +478,33 @@ def _clothoid_parts(ring: NDArray[np.float64], convex: bool, r_far: float, seg: 
     # Straight stand-ins deviate from the arc of their chunk by |k| l^2 / 2 + r_far |k| l.
     straight_dev = _STRAIGHT_CHUNK_PER_M * (le * le / 2.0 + r_far * le)
     dev_all = dev + (straight_dev if np.any(np.abs(kap) < _STRAIGHT_CHUNK_PER_M) else 0.0)
-    rot_tol = tol - dev_all - dev_all / math.cos(math.pi / (4 * _QUAD_SEGS))
+    # Grow the footprint by dev once (a mitred offset contains the round one) instead of
+    # buffering every part: the placements of a grown outline are the grown placements.
+    grown = prepare_footprint(shapely.buffer(Polygon(ring), dev_all, join_style="mitre",
+                                             mitre_limit=2.0))
+    over = float(shapely.hausdorff_distance(grown.polygon, Polygon(ring))) - dev_all
+    rot_tol = tol - dev_all - (dev_all + max(over, 0.0))
+    if rot_tol <= 0.1 * tol:  # a sharp corner's mitre: buffer the parts round instead
+        rot_tol = tol - dev_all - dev_all / math.cos(math.pi / (4 * _QUAD_SEGS))
+        grown = None
+    else:
+        ring, convex = grown.ring, grown.convex
     d = seg.direction
     curved = np.abs(kap) >= _STRAIGHT_CHUNK_PER_M
     geoms: list = []
     if curved.any():
+        # A stand-in's end placement lies within ``dev`` of the true placement there (its
+        # heading is exact at the chunk's end), which starts the next chunk and is grown by
+        # ``dev`` like every part: so only the last chunk of a run keeps its end placement.
+        keep_end = np.r_[~curved[1:], True][curved]
         geoms.extend(_rotation_chunks(ring, poses[:-1][curved], kap[curved],
-                                      d * le * kap[curved], rot_tol))
+                                      d * le * kap[curved], rot_tol, keep_end))
     for k in np.flatnonzero(~curved):
         placed = _place_one(ring, poses[k])
         th = poses[k, 2]
         v = (d * le * math.cos(th), d * le * math.sin(th))
         geoms.extend(_polys(translation_parts(placed, v, convex), convex))
-    return np.asarray(geoms, dtype=object), dev_all
+    return np.asarray(geoms, dtype=object), (0.0 if grown is not None else dev_all)
 
 
 def segment_parts(footprint: FootprintLike, seg: Segment,
