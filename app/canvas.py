@@ -487,6 +487,16 @@ class PlanCanvas(QWidget):
         self._delete_action.setShortcutContext(Qt.ShortcutContext.WidgetWithChildrenShortcut)
         self._delete_action.triggered.connect(self.delete_selected)
         self.addAction(self._delete_action)
+        from .plan_gestures import PlanGestures
+
+        self.plan_gestures = PlanGestures(self)  # plan drawing, editing and measuring
+        for keys, slot in (([Qt.Key.Key_Return, Qt.Key.Key_Enter], self.plan_gestures.finish),
+                           ([Qt.Key.Key_Escape], self.plan_gestures.cancel)):
+            act = QAction(self)
+            act.setShortcuts([QKeySequence(k) for k in keys])
+            act.setShortcutContext(Qt.ShortcutContext.WidgetWithChildrenShortcut)
+            act.triggered.connect(slot)
+            self.addAction(act)
         self.plot.viewport().installEventFilter(self)
         self.refresh_plan()
         self.refresh_routes()
@@ -1007,6 +1017,7 @@ class PlanCanvas(QWidget):
     # -- gestures ---------------------------------------------------------------------------
     def set_mode(self, mode: str) -> None:
         self.mode = mode
+        self.plan_gestures.mode_changed(mode)
         if mode != "add":
             self._pending = None
             self.pending_item.setData([], [])
@@ -1030,8 +1041,13 @@ class PlanCanvas(QWidget):
         if btn != Qt.MouseButton.LeftButton:
             return False
         target = self.hit(x, y)
+        if self.mode not in ("select", "add") and self.plan_gestures.click(x, y, ev.double()):
+            ev.accept()
+            return True
         if ev.double():
-            if target is None:
+            if target is None and self.plan_gestures.click(x, y, True):
+                pass
+            elif target is None:
                 leg = self.leg_at(x, y)
                 if leg is not None:
                     sx, sy = self._snap(x, y)
@@ -1048,6 +1064,7 @@ class PlanCanvas(QWidget):
             ev.accept()
             return True
         self.select(-1)
+        self.plan_gestures.click(x, y, False)  # select a wall, obstacle, door or zone
         ev.accept()
         return True
 
@@ -1076,14 +1093,17 @@ class PlanCanvas(QWidget):
     def _on_drag(self, ev) -> bool:
         if ev.button() != Qt.MouseButton.LeftButton:
             return False
+        x0, y0 = self._scene_to_plan(ev.buttonDownScenePos())
         if ev.isStart():
-            x, y = self._scene_to_plan(ev.buttonDownScenePos())
-            target = self.hit(x, y)
+            target = self.hit(x0, y0)
+            self._drag = None
             if target is None:
-                self._drag = None
-                return False
+                # Off the route: a vertex of the selected plan element, else a pan.
+                return self.plan_gestures.drag(ev, x0, y0, *self._scene_to_plan(ev.scenePos()))
             self._drag = (target[0], target[1], new_drag_token())
             self.select(target[1])
+        elif self._drag is None:
+            return self.plan_gestures.drag(ev, x0, y0, *self._scene_to_plan(ev.scenePos()))
         if self._drag is None:
             return False
         ev.accept()
@@ -1110,6 +1130,8 @@ class PlanCanvas(QWidget):
         return True
 
     def delete_selected(self) -> None:
+        if self.selected < 0 and self.plan_gestures.delete_selected():
+            return
         i = self.selected
         if i < 0 or self.doc.route() is None:
             return
@@ -1168,6 +1190,7 @@ class PlanCanvas(QWidget):
             return
         x, y = self._scene_to_plan(scene_pos)
         self.cursorMoved.emit(x, y)
+        self.plan_gestures.moved(x, y)
         info = self.info_at(x, y)
         self.last_hover = info
         if info is None:

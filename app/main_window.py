@@ -238,6 +238,41 @@ class MainWindow(QMainWindow):
             self.mode_group.addAction(a)
             a.triggered.connect(lambda _c=False, m=mode: self.canvas.set_mode(m))
         self.act_select.setChecked(True)
+        # Plan tools (app/plan_gestures.py): drawing and measuring modes in the same group.
+        self.plan_mode_actions: dict[str, QAction] = {}
+        for mode, text, key, tip in (
+                ("wall", "Draw wall", "W", "Click the wall's points; double-click or Enter "
+                 "ends it (W)"),
+                ("rect", "Draw rectangle", "R", "Click two opposite corners (R)"),
+                ("polygon", "Draw polygon", "P", "Click the corners; double-click or Enter "
+                 "ends it (P)"),
+                ("circle", "Draw circle", "C", "Click the centre, then a point on the rim (C)"),
+                ("door", "Place door", "D", "Click the two jambs; they snap to wall ends (D)"),
+                ("measure", "Measure distance", "M", "Click two points (M)"),
+                ("gap", "Gap between elements", "G", "Click two walls, obstacles, doors or "
+                 "zones (G)")):
+            a = QAction(text, self, checkable=True)
+            # Short words on the toolbar, the full text in the Plan menu.
+            a.setIconText({"measure": "Measure", "gap": "Gap"}.get(mode,
+                                                                   text.split()[-1].title()))
+            a.setShortcut(QKeySequence(key))
+            a.setToolTip(tip)
+            a.setStatusTip(tip)
+            self.mode_group.addAction(a)
+            a.triggered.connect(lambda _c=False, m=mode: self.canvas.set_mode(m))
+            self.plan_mode_actions[mode] = a
+        self.act_relabel = self._act("Re&label plan element...",
+                                     lambda: self.canvas.plan_gestures.relabel(), None,
+                                     "A new label for the selected obstacle, door or zone")
+        self.thickness_spin = QDoubleSpinBox()
+        self.thickness_spin.setRange(0.01, 2.0)
+        self.thickness_spin.setDecimals(3)
+        self.thickness_spin.setSingleStep(0.05)
+        self.thickness_spin.setSuffix(" m")
+        self.thickness_spin.setValue(self.canvas.plan_gestures.thickness_m)
+        self.thickness_spin.setToolTip("Thickness of the next wall drawn")
+        self.thickness_spin.valueChanged.connect(
+            lambda v: setattr(self.canvas.plan_gestures, "thickness_m", float(v)))
         self.act_band = QAction("Swept band", self, checkable=True, checked=True)
         self.act_band.toggled.connect(self._toggle_band)
 
@@ -262,6 +297,12 @@ class MainWindow(QMainWindow):
         e.addSeparator()
         e.addAction(self.act_delete)
         e.addAction(self.act_clear_heading)
+        e.addAction(self.act_relabel)
+        pm = mb.addMenu("&Plan")
+        for a in self.plan_mode_actions.values():
+            pm.addAction(a)
+        pm.addSeparator()
+        pm.addAction(self.act_relabel)
         v = mb.addMenu("&View")
         v.addAction(self.act_fit)
         v.addAction(self.act_band)
@@ -297,6 +338,11 @@ class MainWindow(QMainWindow):
         tools.setObjectName("tools")
         tools.addAction(self.act_select)
         tools.addAction(self.act_add)
+        tools.addSeparator()
+        for a in self.plan_mode_actions.values():
+            tools.addAction(a)
+        tools.addWidget(QLabel(" wall "))
+        tools.addWidget(self.thickness_spin)
         tools.addSeparator()
         tools.addAction(self.act_fit)
         tools.addAction(self.act_undo)
@@ -388,6 +434,8 @@ class MainWindow(QMainWindow):
                 "The results list is not available in this build."))
             if results is not None and hasattr(results, "zoomRequested"):
                 results.zoomRequested.connect(self.canvas.center_on)
+            if results is not None and hasattr(results, "solidCited"):
+                results.solidCited.connect(self.canvas.plan_gestures.highlight)
             self.plots_dock.setWidget(plots or _placeholder(
                 "Plots are not available in this build."))
             self.schedule_dock.setWidget(table or _placeholder(
@@ -471,7 +519,10 @@ class MainWindow(QMainWindow):
         self.act_clear_heading.setEnabled(has and r.waypoints[i].heading_deg is not None)
 
     def _mode_changed(self, mode: str) -> None:
-        (self.act_add if mode == "add" else self.act_select).setChecked(True)
+        if mode in self.plan_mode_actions:
+            self.plan_mode_actions[mode].setChecked(True)
+        else:
+            (self.act_add if mode == "add" else self.act_select).setChecked(True)
 
     def _toggle_band(self, on: bool) -> None:
         self.canvas.show_band = on

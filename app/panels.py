@@ -678,6 +678,8 @@ class ResultsPanel(QWidget):
     """
 
     zoomRequested = Signal(float, float)
+    # A violation row citing a wall or obstacle: its name ("wall 23"), "" for none.
+    solidCited = Signal(str)
     sizingFinished = Signal(object)
 
     def __init__(self, doc: Any, parent: QWidget | None = None) -> None:
@@ -847,6 +849,7 @@ class ResultsPanel(QWidget):
             v = self._violation_rows[row]
             self.violation_message.setText(f"{row + 1}. {v.message}")
             self.zoomRequested.emit(float(v.x), float(v.y))
+            self.solidCited.emit(getattr(v, "solid", "") or "")
 
     # -- sizing ------------------------------------------------------------------------------
     def _refresh_sizing_label(self) -> None:
