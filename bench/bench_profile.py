@@ -1,20 +1,24 @@
 """Speed profile and schedule build times against a stepped forward-backward pass.
 
-Baseline (measured in the same run): the common discretised method, a forward and a backward
-sweep over stations ``ds`` apart with ``v[k+1] = min(cap, sqrt(v[k]^2 + 2 a ds))``. The closed
+Baseline (measured in the same run, interleaved, medians): the common discretised method, a
+forward and a backward sweep over stations ``ds`` = 1 cm apart with
+``v[k+1] = min(cap, sqrt(v[k]^2 + 2 a ds))``. The closed
 form should be much faster and give the same route time (the agreement row).
 """
 
 from __future__ import annotations
 
 import math
+import statistics
 import sys
-import time
 from pathlib import Path
 
 import numpy as np
 
 sys.path.insert(0, str(Path(__file__).resolve().parent.parent))
+sys.path.insert(0, str(Path(__file__).resolve().parent))
+
+from scenes import interleaved, row, spread  # noqa: E402
 
 from kinematics.files.project import Chassis  # noqa: E402
 from kinematics.motion import segments as S  # noqa: E402
@@ -60,33 +64,27 @@ def _stepped_time(segs, caps, lim: Limits, ds: float) -> float:
     return float(np.sum(lengths / np.maximum(vm, 1e-12)))
 
 
-def _best(fn, repeat: int) -> float:
-    best = math.inf
-    for _ in range(repeat):
-        t = time.perf_counter()
-        fn()
-        best = min(best, time.perf_counter() - t)
-    return best
-
-
 def run(quick: bool) -> list[dict]:
     n = 40 if quick else 200
     segs = _route(n)
     drive = drive_for(CHASSIS)
     lim = Limits.from_chassis(CHASSIS)
     prof = speed_profile(segs, drive, lim)
-    ds = 0.01 if quick else 0.002
-    t_closed = _best(lambda: speed_profile(segs, drive, lim), 5)
-    t_step = _best(lambda: _stepped_time(segs, prof.cap, lim, ds), 1)
+    ds = 0.01  # a competent user's station spacing (1 cm), as the issue asks
+    t = interleaved({"closed": lambda: speed_profile(segs, drive, lim),
+                     "stepped": lambda: _stepped_time(segs, prof.cap, lim, ds)},
+                    3 if quick else 7)
+    t_closed, t_step = statistics.median(t["closed"]), statistics.median(t["stepped"])
     stepped_total = _stepped_time(segs, prof.cap, lim, ds)
-    t_sched = _best(lambda: build_schedule("bench", segs, CHASSIS, dt_s=0.1), 3)
+    t_sched = interleaved({"s": lambda: build_schedule("bench", segs, CHASSIS, dt_s=0.1)},
+                          3)["s"]
     return [
-        {"name": f"profile closed form, {n} segments", "value": t_closed * 1e3, "unit": "ms",
-         "baseline": t_step * 1e3, "ratio": t_step / t_closed, "target": 10.0},
-        {"name": f"route time stepped(ds={ds} m)/closed", "value": stepped_total
-         / prof.total_time_s, "unit": "", "baseline": None, "ratio": None, "target": 1.0},
-        {"name": f"schedule build, {n} segments, dt 0.1 s", "value": t_sched * 1e3,
-         "unit": "ms", "baseline": None, "ratio": None, "target": None},
+        row(f"profile closed form vs 1 cm stepper, {n} segments", t_closed * 1e3, "ms",
+            t_step * 1e3, t_step / t_closed, None, None, spread(t["closed"], 1e3)),
+        row(f"route time stepped(ds={ds} m)/closed", stepped_total / prof.total_time_s, "",
+            target="~1"),
+        row(f"schedule build, {n} segments, dt 0.1 s", statistics.median(t_sched) * 1e3,
+            "ms", spread_txt=spread(t_sched, 1e3)),
     ]
 
 

@@ -194,3 +194,47 @@ def test_waypoint_check_of_a_long_route_answers_as_the_dense_one(monkeypatch):
     got = [v.to_dict() for v in fast.violations if v.kind == "waypoint_blocked"]
     assert got == [v.to_dict() for v in dense.violations if v.kind == "waypoint_blocked"]
     assert len(got) > 0
+
+
+def test_a_drag_step_redraws_only_what_moved(qtbot, tmp_path):
+    # Source: project rule (issue 14: a drag step's work is proportional to what moved):
+    # outline items are made only for segments the move changed, the others stay the very
+    # same items; the band is painted plain while the drag is live and antialiased after.
+    from PySide6.QtCore import QSettings
+    from PySide6.QtWidgets import QApplication
+
+    from app.document import new_drag_token
+    from app.main_window import DEMO_PROJECT, MainWindow
+
+    w = MainWindow(settings=QSettings(str(tmp_path / "s.ini"), QSettings.Format.IniFormat),
+                   autosave_dir=tmp_path / "autosave")
+    qtbot.addWidget(w)
+    w.resize(1000, 700)
+    assert w.open_project_file(DEMO_PROJECT)
+    w.show()
+    QApplication.processEvents()
+    doc, c = w.doc, w.canvas
+    names = doc.route_names()
+    ri = max(range(len(names)), key=lambda i: len(doc.project.routes[i].waypoints))
+    doc.set_current_route(ri)
+    QApplication.processEvents()
+    before_segs = set(doc.plan(names[ri]).segments)
+    before = dict(c._outline_items)
+    wi = len(doc.route().waypoints) // 2
+    wp = doc.route().waypoints[wi]
+    doc.move_waypoint(ri, wi, wp.x + 0.2, wp.y + 0.1, drag=new_drag_token())
+    QApplication.processEvents()
+    c.plot.viewport().repaint()
+    after_segs = set(doc.plan(names[ri]).segments)
+    moved = {s for s in after_segs - before_segs if s.length_m > 0.0}
+    assert moved and len(moved) < len([s for s in after_segs if s.length_m > 0.0])
+    kept = [k for k in c._outline_items if k in before]
+    assert all(c._outline_items[k] is before[k] for k in kept)
+    assert {k[0] for k in c._outline_items if k not in before} == moved
+    assert doc.results_pending and c.band_item.painted_rough
+    doc.finish_drag()
+    QApplication.processEvents()
+    c.plot.viewport().repaint()
+    assert not c.band_item.painted_rough
+    doc.undo_stack.setClean()  # no "save changes?" question when the window closes
+    w.close()

@@ -53,6 +53,7 @@ from kinematics.check.sweep import (
     rotation_parts,
     translation_parts,
 )
+from kinematics.motion.arrays import unique_sorted
 from kinematics.motion.segments import Segment, segment_stations
 from kinematics.motion.trailers import Hitch, TrainTrace, TugMotion, hitch_angles, trace_train
 
@@ -374,7 +375,7 @@ def _trailer_doors(chunks: Sequence[Chunk], index: ObstacleIndex, stations, segs
     if not len(index.doors):
         return out
     for ck in chunks:
-        crossed = np.unique(index.door_tree.query(ck.parts, predicate="intersects")[1])
+        crossed = unique_sorted(index.door_tree.query(ck.parts, predicate="intersects")[1])
         for k in crossed.tolist():
             box = index.door_boxes[k]
             local = shapely.intersection(ck.parts, box)

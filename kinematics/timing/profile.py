@@ -210,7 +210,7 @@ class SpeedProfile:
         station = self.station0_m[idx] + np.where(pivot, 0.0, prog)
         v = np.where(pivot, 0.0, rate)
         ypp = self.yaw_per_progress[idx]
-        clo = [i for i in np.unique(idx) if self.segments[int(i)].kind == "clothoid"]
+        clo = [i for i in unique_sorted(idx) if self.segments[int(i)].kind == "clothoid"]
         if clo:
             ypp = np.array(ypp, dtype=float, copy=True)
             for i in clo:

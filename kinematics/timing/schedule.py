@@ -250,7 +250,7 @@ def build_schedule(route_name: str, segments: Sequence[Segment], chassis,
     pose = _poses(prof, idx, st.progress)
     # Angles from the direction of travel so a wheel at rest already points where it must go.
     ypp = prof.yaw_per_progress[idx].copy() if n else np.zeros(0)
-    for i in np.unique(idx):  # a clothoid's yaw per metre follows its curvature
+    for i in unique_sorted(idx):  # a clothoid's yaw per metre follows its curvature
         seg = prof.segments[i]
         if seg.kind == "clothoid":
             m = idx == i
@@ -279,7 +279,7 @@ def _steer_in_holds(prof: SpeedProfile, drive: DriveModel, idx: NDArray, tau: ND
     segment's end angles to this segment's start angles, in place."""
     if prof.hold_s is None or not drive.steered_wheels:
         return
-    for i in np.unique(idx[tau < 0.0]):
+    for i in unique_sorted(idx[tau < 0.0]):
         h = float(prof.hold_s[i])
         if h <= 0.0 or i == 0:
             continue
@@ -300,7 +300,7 @@ def _trailer_samples(profile: SpeedProfile, chassis, idx: NDArray, progress: NDA
 
     trace = trace_train(profile.segments, trailers)
     out = np.zeros((idx.size, len(trailers), 4))
-    for i in np.unique(idx).tolist():
+    for i in unique_sorted(idx).tolist():
         m = idx == i
         amount = profile.amount[i]
         f = progress[m] / amount if amount > 0 else np.ones(int(m.sum()))
@@ -437,7 +437,7 @@ def sample_curvature(s: Schedule) -> NDArray[np.float64]:
     sm = s.samples
     out = np.zeros(sm.t_s.size)
     p = s.profile
-    for i in np.unique(sm.segment):
+    for i in unique_sorted(sm.segment):
         seg = p.segments[int(i)]
         m = sm.segment == i
         if seg.kind in ("arc", "clothoid"):

@@ -27,6 +27,7 @@ import shapely
 
 from kinematics.check.sweep import placed_footprints, travel_m
 from kinematics.files.floorplan import Zone, zone_polygon
+from kinematics.motion.arrays import unique_sorted
 from kinematics.motion.segments import Segment, segment_stations
 
 #: Largest footprint travel per step when finding where a slow zone caps the speed, metres.
@@ -130,10 +131,10 @@ def stops_on_path(segments: Sequence[Segment], waypoints: Sequence[object],
     total = float(edges[-1])
     st = np.linspace(0.0, total, max(2, int(math.ceil(total / STOP_GRID_M)) + 1))
     # Exact joints too, so a stop where the path passes through a waypoint lands on it.
-    st = np.unique(np.concatenate([st, edges]))
+    st = unique_sorted(np.concatenate([st, edges]))
     xy = np.empty((st.size, 2))
     idx = np.clip(np.searchsorted(edges, st, side="right") - 1, 0, len(segs) - 1)
-    for i in np.unique(idx):
+    for i in unique_sorted(idx):
         m = idx == i
         s = segs[i]
         local = st[m] - edges[i]
