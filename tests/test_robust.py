@@ -619,3 +619,13 @@ def test_imported_outline_too_tangled_to_repair_takes_its_convex_hull():
     poly = obstacle_polygon(Obstacle(pts, "tangle"))
     # Source: shapely convex_hull (a reference library): holds every point of the outline.
     assert poly.area == pytest.approx(12.0)
+
+
+def test_svg_degenerate_circle_warns_nothing(tmp_path, recwarn):
+    # Found by bench/fuzz.py: a circle of radius 1e300 scaled by 5e-324 made numpy warn
+    # "invalid value encountered in buffer" beside the output while the outline was grown.
+    p = tmp_path / "plan.svg"
+    p.write_text('<svg xmlns="http://www.w3.org/2000/svg"><g transform="scale(5e-324)">'
+                 '<circle r="1e300"/></g><path class="walls" d="M0 0 H990"/></svg>')
+    _only_input_errors(import_svg, p)
+    assert not [w for w in recwarn if issubclass(w.category, RuntimeWarning)]

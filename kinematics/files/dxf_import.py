@@ -924,7 +924,9 @@ def import_dxf(path: str | Path, layers: dict[str, list[str]] | None = None,
                 clean = clean[:-1]
             if len(clean) >= 3:
                 if sh.curved:
-                    clean = [tuple(q) for q in grow_outline(np.array(clean), SAGITTA_M).tolist()]
+                    with np.errstate(all="ignore"):  # a degenerate outline; its area is checked
+                        grown = grow_outline(np.array(clean), SAGITTA_M)
+                    clean = [tuple(q) for q in grown.tolist()]
                 obstacles.append(Obstacle(tuple(clean), sh.layer))
         elif len(clean) >= 2:
             thickness = float(wall_thickness_m)

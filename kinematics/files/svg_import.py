@@ -794,7 +794,9 @@ def import_svg(path: str | Path, metres_per_unit: float = 0.01,
         else:
             ring = pts[:-1] if pts[0] == pts[-1] else pts
             if len(ring) >= 3 and f.curved:
-                ring = tuple(tuple(q) for q in grow_outline(np.array(ring), TOLERANCE_M).tolist())
+                with np.errstate(all="ignore"):  # a degenerate outline; its area is checked
+                    grown = grow_outline(np.array(ring), TOLERANCE_M)
+                ring = tuple(tuple(q) for q in grown.tolist())
             if len(ring) >= 3:
                 obstacles.append(Obstacle(ring, f.label))
     name = root.findtext("{http://www.w3.org/2000/svg}title") or root.findtext("title") or p.stem
