@@ -96,6 +96,9 @@ def build_parser() -> argparse.ArgumentParser:
 
 
 def _selected_routes(project, name: str | None):
+    if not project.routes:
+        raise SwatheInputError(str(project.path or "<project>"), "routes",
+                               "the list is empty; expected at least one route")
     if name is None:
         return list(project.routes)
     return [project.route(name)]
@@ -200,12 +203,17 @@ def cmd_schedule(args: argparse.Namespace) -> int:
     )
 
     if not (args.dt > 0) or args.dt > 60:
-        raise SwatheInputError("command line", "--dt", "expected a time step between 0 and 60 s")
+        raise SwatheInputError("command line", "--dt",
+                               "expected a time step above 0 s and at most 60 s")
     project = load_project(args.project)
     route = project.route(args.route)
     if args.output:
         _check_output_path(args.output)
     chassis = project.chassis_for(route)
+    wheel = [k for k in chassis.defaulted if k.endswith("wheel_radius_m")]
+    if wheel:  # a schedule turns speeds into wheel rates: a guessed radius makes them wrong
+        raise SwatheInputError(args.project, wheel[0],
+                               "missing; a schedule needs the wheel radius in metres")
     plan = plan_route(route, chassis)
     sched = build_schedule(route.name, list(plan.segments), chassis, dt_s=args.dt,
                            zones=project.floorplan.zones, route=route,
@@ -218,6 +226,18 @@ def cmd_schedule(args: argparse.Namespace) -> int:
         _write_output(args.output, "-o", lambda: atomic_write_text(args.output, text))
     else:
         sys.stdout.write(text)
+    # The schedule is written either way; a route that fails its check says so and exits 1.
+    from kinematics.analysis.results import check_with_vehicle
+    from kinematics.check.clearance import ObstacleIndex
+
+    chk = check_with_vehicle(plan, chassis, ObstacleIndex(project.floorplan), route=route)
+    if not chk.clear:
+        v = chk.violations[0] if chk.violations else None
+        what = (f"{v.kind} at station {v.station_m:.2f} m: {v.message}" if v is not None
+                else "the check fails")
+        sys.stderr.write(f"swathe: warning: route {route.name!r} does not pass its check "
+                         f"({what}); the schedule is written but the route is not clear\n")
+        return EXIT_VIOLATION
     return EXIT_OK
 
 
@@ -382,6 +402,12 @@ def main(argv: Sequence[str] | None = None) -> int:
         if argv and argv[0] in SUBCOMMANDS or (argv and argv[0] in ("-h", "--help")):
             args = build_parser().parse_args(argv)
             return COMMANDS[args.command](args)
+        looks_like_file = argv and (Path(argv[0]).exists() or "." in Path(argv[0]).name
+                                    or "/" in argv[0] or "\\" in argv[0])
+        if argv and not argv[0].startswith("-") and not looks_like_file:
+            sys.stderr.write(f"swathe: unknown command {argv[0]!r} (commands: "
+                             + ", ".join(SUBCOMMANDS) + "; see --help)\n")
+            return EXIT_BAD_INPUT
         if len(argv) > 1:
             build_parser().error("expected at most one PROJECT to open")
         if argv and argv[0].startswith("-"):

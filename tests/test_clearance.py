@@ -313,7 +313,9 @@ def test_segment_grid_poses_are_poses_along_to_the_last_bit(drive):
 
 def _blocked_reference(segs, idx, waypoints):
     """waypoint_blocked by brute force: every segment's own 2 cm grid posed by poses_along,
-    the first nearest grid pose by hypot over the whole route, every solid measured."""
+    the first nearest grid pose by hypot over the whole route, every solid measured. Only the
+    route's ends and waypoints the path passes (a grid pose within 1 mm) are judged, by the
+    footprint placed there (shared/contract.md: not at a corner a turn cuts)."""
     from kinematics.check.clearance import overlap_depth
     from kinematics.motion.segments import poses_along, segment_stations
 
@@ -328,19 +330,16 @@ def _blocked_reference(segs, idx, waypoints):
     poses = np.concatenate(poses)
     out = []
     for k, w in enumerate(waypoints):
-        r = int(np.argmin(np.hypot(poses[:, 0] - w.x, poses[:, 1] - w.y)))
-        pt = shapely.Point(w.x, w.y)
-        inside = [j for j, g in enumerate(idx.geometries) if g.intersects(pt)]
-        if inside:
-            j = inside[0]
-            depth = float(pt.distance(idx.geometries[j].boundary))
-        else:
-            placed = placed_footprints(CHASSIS.footprint, [(w.x, w.y, poses[r, 2])])[0]
-            depths = [overlap_depth(placed, g) for g in idx.geometries]
-            j = int(np.argmax(depths))
-            depth = depths[j]
-            if depth <= 0.0:
-                continue
+        d = np.hypot(poses[:, 0] - w.x, poses[:, 1] - w.y)
+        r = int(np.argmin(d))
+        if k not in (0, len(waypoints) - 1) and d[r] > 1e-3:
+            continue
+        placed = placed_footprints(CHASSIS.footprint, [(w.x, w.y, poses[r, 2])])[0]
+        depths = [overlap_depth(placed, g) for g in idx.geometries]
+        j = int(np.argmax(depths))
+        depth = depths[j]
+        if depth <= 0.0:
+            continue
         out.append((k, seg_i[r], stations[r], depth, idx.solids[j].name))
     return out
 

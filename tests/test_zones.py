@@ -398,7 +398,7 @@ def test_cli_plan_check_and_schedule_show_stops_and_zones(tmp_path, capsys):
                        {"kind": "one_way", "points": [[7, -1], [8, -1], [8, 1], [7, 1]],
                         "label": "aisle", "direction_deg": 180}]}
     proj = {"swathe_project": 1, "floorplan": floor,
-            "chassis": {"drive": "differential", "track_m": 0.5,
+            "chassis": {"drive": "differential", "track_m": 0.5, "wheel_radius_m": 0.1,
                         "footprint": [[-0.3, -0.3], [0.6, -0.3], [0.6, 0.3], [-0.3, 0.3]]},
             "routes": [{"name": "r", "waypoints": [[0, 0], [6, 0], [10, 0]],
                         "stops": [{"waypoint": 1, "dwell_s": 20}]}]}

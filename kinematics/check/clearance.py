@@ -172,7 +172,9 @@ class RouteChecker:
             st = float(stations[si]) if si is not None and 0 <= si < len(segs) else 0.0
             violations.append(Violation(iss.kind, si, st, float(iss.x), float(iss.y),
                                         float(iss.amount_m), iss.message))
-        violations += self.waypoints.violations(segs, stations, waypoints)
+        # Stops are waypoints the chassis stands on, whether or not a turn cuts their corner.
+        stops = [getattr(st, "waypoint", -1) for st in getattr(route, "stops", None) or ()]
+        violations += self.waypoints.violations(segs, stations, waypoints, always=stops)
         violations += stretches(results, stations, idx, self.margin_m)
         violations += zone_stretches(results, stations, idx.zones)
         violations.sort(key=lambda v: (v.station_m, v.kind))

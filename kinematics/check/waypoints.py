@@ -1,4 +1,13 @@
-"""``waypoint_blocked``: a waypoint inside a solid, or the footprint placed at it overlapping one.
+"""``waypoint_blocked``: the footprint placed where the chassis stands on or passes a waypoint
+overlaps a solid.
+
+Only waypoints the chassis really reaches are judged (shared/contract.md): the route's ends,
+waypoints it stops at (``always``), and waypoints the path passes through (a grid pose within
+:data:`ON_PATH_M`; pivots sit on their waypoint). A corner waypoint that a fillet or a
+Dubins turn cuts is a control point the chassis never stands on: the swept check judges the
+path there, and nothing is said about the point. The footprint is judged, not the point, so
+a footprint that does not hold its reference point (a fork-ahead one) is judged where it
+really is. With no path at all (a route of one waypoint) the point itself is judged.
 
 The footprint is placed at each waypoint with the heading of the route pose nearest it among
 grid poses that each segment lays out on its own stations (every :data:`GRID_M` or finer,
@@ -33,6 +42,9 @@ from kinematics.motion.segments import Segment
 SLACK_M = 1e-6
 #: Greatest step of each segment's own station grid for waypoint placements, metres.
 GRID_M = 0.02
+#: A waypoint this close to a grid pose is one the path passes through, metres. Paths pass
+#: through their waypoints at segment ends, which are grid poses.
+ON_PATH_M = 1e-3
 
 
 class WaypointCheck:
@@ -104,7 +116,7 @@ class WaypointCheck:
                 if look[j]:
                     wx, wy = keys[k][0], keys[k][1]
                     pt = Point(wx, wy)
-                    inside = idx.within(pt, 0.0)
+                    inside = idx.within(pt, 0.0) if heading[k] is None else ()
                     if len(inside):
                         si = int(inside[0])
                         verdict = ("inside", si, float(shapely.distance(
@@ -122,9 +134,13 @@ class WaypointCheck:
         return [self._wp_judged[key] for key in keys]
 
     def violations(self, segs: tuple[Segment, ...], stations: np.ndarray,
-                   waypoints: Sequence[Any] | None) -> list[Violation]:
-        """``waypoint_blocked``: a waypoint inside a solid, or the footprint placed at it with
-        the heading of the route's nearest grid pose overlapping one.
+                   waypoints: Sequence[Any] | None,
+                   always: Sequence[int] = ()) -> list[Violation]:
+        """``waypoint_blocked``: the footprint placed at a waypoint the chassis stands on or
+        passes, with the heading of the route's nearest grid pose, overlapping a solid.
+
+        Judged: the first and last waypoint, those in ``always`` (stops), and those within
+        :data:`ON_PATH_M` of a grid pose; other waypoints (corners a turn cuts) are not.
 
         Each segment carries its own grid (:meth:`segment_grid`); the nearest grid pose of
         the route is the first nearest in route order. Both the search and the verdict are
@@ -169,8 +185,13 @@ class WaypointCheck:
                 seg_of[k] = i
                 st_of[k] = float(stations[i]) + float(grids[i][0][r])
                 heading[k] = float(grids[i][1][r, 2])
+        judged = list(range(len(xy)))
+        if segs:
+            stands = {0, len(xy) - 1, *(int(i) for i in always)}
+            judged = [k for k in judged if k in stands or best[k] <= ON_PATH_M]
+        verdicts = self.judge(xy[judged], [heading[k] for k in judged]) if judged else []
         out = []
-        for k, verdict in enumerate(self.judge(xy, heading)):
+        for k, verdict in zip(judged, verdicts):
             if verdict is None:
                 continue
             what, j, depth = verdict

@@ -149,6 +149,9 @@ class Chassis:
     max_steer_rate_dps: float | None = None
     max_wheel_accel_radps2: float | None = None
     max_yaw_accel_dps2: float | None = None
+    defaulted: tuple[str, ...] = field(default=(), compare=False)
+    """Key paths (``chassis.wheel_radius_m``) the file left out and a default filled in; an
+    output that depends on one (a schedule and the wheel radius) refuses or says so."""
 
     def trailer_margin(self, i: int) -> float:
         """Margin kept by trailer ``i`` (its own, else the chassis margin), metres."""
@@ -287,6 +290,7 @@ def chassis_from_dict(d: Any, file: str, place: str = "chassis") -> Chassis:
         effective_track_factor=vals["effective_track_factor"] or 1.0,
         trailers=trailers, extra=extra,
         **{k: vals[k] for k in TRANSITION_LIMITS},
+        defaulted=tuple(join(place, k) for k in ("wheel_radius_m",) if vals[k] is None),
     )
 
 
