@@ -11,6 +11,10 @@ Document edits:
 - Delete / Backspace or the context menu removes the selected waypoint;
 - drag empty space to pan, the wheel zooms.
 
+It is one of the two painters of the plan scene (:mod:`app.scene`). Over 600 lines because it
+is also the editor (gestures, hit tests, hover read-out) and keeps the drag-time item caches
+beside the drawing; the styles, shapes and layers it draws are in :mod:`app.scene`.
+
 Colours are from the Okabe-Ito colour-blind-safe palette (Okabe & Ito 2008), and nothing is
 told by colour alone: reverse travel is dashed, each violation kind has its own marker shape
 and a text label with its amount.
@@ -65,12 +69,22 @@ from .palette import (  # noqa: F401 - the whole set, as other views import it f
     YELLOW,
 )
 from .plan_tools import element_at
+from .qstyle import hatch_brush, marker_path, qbrush, qpen
+from .scene import (
+    JAMB_R_PX,
+    STYLES,
+    VIOLATION_R_PX,
+    VIOLATION_SHAPES,
+    WAYPOINT_R_PX,
+    floorplan_layer,
+    route_style,
+    violation_layer,
+)
 from .zone_paint import ZONE_STYLE, zone_brush
 
-# Marker shape per violation kind (pyqtgraph symbol names); the words beside them are the
-# analysis's (kinematics.analysis.results.VIOLATION_WORDS).
-VIOLATION_SYMBOLS = {"collision": "x", "clearance": "t", "turn_radius": "s",
-                     "infeasible": "star", "waypoint_blocked": "d"}
+# Marker shape per violation kind: the scene's (app.scene.VIOLATION_SHAPES, drawn by
+# app.qstyle.marker_path), as in the picture; the words beside them are the analysis's.
+VIOLATION_SYMBOLS = VIOLATION_SHAPES
 
 HIT_PX = 9.0  # how close (pixels) a press must be to grab a waypoint or handle
 HANDLE_PX = 42.0  # length of a heading handle on screen
@@ -267,13 +281,21 @@ _IGNORES_VIEW = QGraphicsItem.GraphicsItemFlag.ItemIgnoresTransformations
 
 
 def _symbol_path(symbol: str, size_px: float) -> QPainterPath:
-    """pyqtgraph's marker ``symbol`` (unit size, screen orientation) scaled to ``size_px``."""
+    """A marker ``size_px`` across: one of the scene's shapes (:func:`app.qstyle.marker_path`,
+    as the picture draws it) or else pyqtgraph's ``symbol`` (unit size, screen orientation)."""
     key = (symbol, size_px)
     path = _SYMBOL_PATHS.get(key)
     if path is None:
-        path = QTransform.fromScale(size_px, size_px).map(Symbols[symbol])
+        if symbol in _SCENE_SHAPES:
+            path = marker_path(symbol, QPointF(0.0, 0.0), size_px / 2.0)
+        else:
+            path = QTransform.fromScale(size_px, size_px).map(Symbols[symbol])
         _SYMBOL_PATHS[key] = path
     return path
+
+
+_SCENE_SHAPES = {"cross", "triangle", "square", "star", "diamond", "hexagon", "chevron",
+                 "circle"}
 
 
 _SYMBOL_PATHS: dict[tuple[str, float], QPainterPath] = {}
@@ -304,6 +326,14 @@ class _Markers(QGraphicsItem):
 
     def paint(self, *_args) -> None:
         pass
+
+    def setPen(self, pen: QPen) -> None:  # noqa: N802 - Qt's name
+        """The outline of every marker, now and later."""
+        pen = QPen(pen)
+        pen.setCosmetic(True)
+        self._pen = pen
+        for it in self._items:
+            it.setPen(pen)
 
     def setData(self, x, y, symbol=None, brush=None, size=None) -> None:  # noqa: N802
         n = len(x)
@@ -337,7 +367,7 @@ class _Markers(QGraphicsItem):
 #: Where a violation's label may sit, in order of preference, as the anchor of its box on the
 #: marker: right and below, left and below, right and above, left and above (clear of a
 #: marker of MARKER_PX).
-MARKER_PX = 16
+MARKER_PX = int(2 * VIOLATION_R_PX)
 _LABEL_PLACES = ((-0.12, -0.1), (1.12, -0.1), (-0.12, 1.1), (1.12, 1.1))
 
 
@@ -358,11 +388,12 @@ class _Label(QGraphicsRectItem):
 
     PAD_PX = 4.0  # space between the text and the edge of its box
 
-    def __init__(self, colour: str, fill: QBrush | None, anchor: tuple[float, float]) -> None:
+    def __init__(self, colour: str, fill: QBrush | None, anchor: tuple[float, float],
+                 border: QPen | None = None) -> None:
         super().__init__()
         self.setFlag(_IGNORES_VIEW)
         self.setAcceptedMouseButtons(Qt.MouseButton.NoButton)
-        self.setPen(_NO_PEN)
+        self.setPen(border if border is not None else _NO_PEN)
         self.setBrush(fill if fill is not None else _NO_BRUSH)
         self.text_item = QGraphicsSimpleTextItem(self)
         self.text_item.setPen(_NO_PEN)
@@ -399,7 +430,7 @@ class _Label(QGraphicsRectItem):
         self.text_item.setPos(x + self.PAD_PX, y + self.PAD_PX)
 
 
-_WAYPOINT_BRUSH = pg.mkBrush("w")
+_WAYPOINT_BRUSH = qbrush(STYLES["waypoint"].fill)
 _SELECTED_BRUSH = pg.mkBrush(ORANGE)
 _FIXED_BRUSH = pg.mkBrush(PURPLE)  # a heading the user fixed
 _FREE_BRUSH = pg.mkBrush(QColor(255, 255, 255, 230))  # the planner's choice, to grab
@@ -529,20 +560,28 @@ class PlanCanvas(QWidget):
         rough = lambda: self.doc.results_pending  # noqa: E731 - a drag step is on screen
         self.band_item = _RoughWhileDragging(rough)
         self.band_item.setPen(QPen(Qt.PenStyle.NoPen))
-        self.band_item.setBrush(_brush(SKY, 80))
+        self.band_item.setBrush(qbrush(STYLES["band"].fill))
         self.band_item.setZValue(-5)
         add(self.band_item)
+        # The floor plan in the scene's styles (app.scene.STYLES), as the picture draws it.
         self.walls_item = QGraphicsPathItem()
-        self.walls_item.setPen(_pen(BLACK, 1.0))
-        self.walls_item.setBrush(_brush(WALL_FILL))
+        self.walls_item.setPen(qpen(STYLES["wall"].stroke, cosmetic=True))
+        self.walls_item.setBrush(qbrush(STYLES["wall"].fill))
         self.walls_item.setZValue(0)
         add(self.walls_item)
         self.obstacles_item = QGraphicsPathItem()
-        self.obstacles_item.setPen(_pen("#333333", 1.2))
-        self.obstacles_item.setBrush(QBrush(QColor(OBSTACLE_FILL), Qt.BrushStyle.Dense4Pattern))
+        self.obstacles_item.setPen(qpen(STYLES["obstacle"].stroke, cosmetic=True))
+        self.obstacles_item.setBrush(qbrush(STYLES["obstacle"].fill))
         self.obstacles_item.setZValue(0)
         add(self.obstacles_item)
-        # The floor plan does not change during a drag: its items repaint from cached pixels.
+        self.hatch_item = QGraphicsPathItem()
+        self.hatch_item.setPen(QPen(Qt.PenStyle.NoPen))
+        self.hatch_item.setBrush(hatch_brush(STYLES["obstacle"].fill) or _NO_BRUSH)
+        self.hatch_item.setZValue(0.1)
+        add(self.hatch_item)
+        # The floor plan does not change during a drag: its items repaint from cached pixels
+        # (not the hatch: a pattern brush is laid in device pixels, which a cached item's
+        # pixels would shift against a fresh paint).
         for it in (self.walls_item, self.obstacles_item):
             it.setCacheMode(QGraphicsItem.CacheMode.DeviceCoordinateCache)
         # Zones under the solids: a faint fill per kind and the kind's outline style (the
@@ -556,11 +595,14 @@ class PlanCanvas(QWidget):
             it.setZValue(-6)
             add(it)
             self.zone_items[kind] = it
-        self.doors_item = _Polyline(_pen(ORANGE, 4.0))
-        self.doors_item.setZValue(1)
-        add(self.doors_item)
-        self.doors_item.setCacheMode(QGraphicsItem.CacheMode.DeviceCoordinateCache)
-        self.jambs_item = _Markers("o", 6, _pen(BLACK), _brush(ORANGE))
+        self.door_gaps_item = _Polyline(qpen(STYLES["door_gap"].stroke, cosmetic=True))
+        self.doors_item = _Polyline(qpen(STYLES["door"].stroke, cosmetic=True))
+        for it in (self.door_gaps_item, self.doors_item):
+            it.setZValue(1)
+            add(it)
+            it.setCacheMode(QGraphicsItem.CacheMode.DeviceCoordinateCache)
+        jst = STYLES["jamb"]
+        self.jambs_item = _Markers("circle", 2 * JAMB_R_PX, qpen(jst.stroke), qbrush(jst.fill))
         self.jambs_item.setZValue(1)
         add(self.jambs_item, ignoreBounds=True)
         self.plan_labels: list[_Label] = []
@@ -571,7 +613,7 @@ class PlanCanvas(QWidget):
         add(self.others_item)
         # The outlines' parent: one child per segment (_draw_outlines), none of its own path.
         self.outlines_item = QGraphicsPathItem()
-        self.outlines_item.setPen(_pen(GREEN, 1.0))
+        self.outlines_item.setPen(qpen(STYLES["outline"].stroke, cosmetic=True))
         self.outlines_item.setZValue(3)
         add(self.outlines_item)
         self._outline_items: dict = {}
@@ -579,8 +621,8 @@ class PlanCanvas(QWidget):
         self.doc.resultsChanged.connect(self._polish)
         # The current route's lines change on every drag step: plain path items, which Qt
         # updates and paints without the per-item Python work of a plot curve.
-        self.path_fwd = _Polyline(_pen(BLUE, 2.5))
-        self.path_rev = _Polyline(_pen(BLUE, 2.5, Qt.PenStyle.DashLine))
+        self.path_fwd = _Polyline(qpen(route_style(0, 1), cosmetic=True))
+        self.path_rev = _Polyline(qpen(route_style(0, -1), cosmetic=True))
         for it in (self.path_fwd, self.path_rev):
             it.setZValue(4)
             add(it)
@@ -595,15 +637,16 @@ class PlanCanvas(QWidget):
         self.handles_item = _Markers("d", 13, _pen(BLACK, 1.0), _brush(PURPLE))
         self.handles_item.setZValue(7)
         add(self.handles_item, ignoreBounds=True)
-        self.waypoints_item = _Markers("o", 13, _pen(BLACK, 1.5), _brush("#FFFFFF"))
+        self.waypoints_item = _Markers("circle", 2 * WAYPOINT_R_PX, _pen(BLACK, 2.0),
+                                       _WAYPOINT_BRUSH)
         self.waypoints_item.setZValue(8)
         add(self.waypoints_item, ignoreBounds=True)
         self.pending_item = _Markers("o", 13, _pen(BLUE, 2.0), None)
         self.pending_item.setZValue(8)
         add(self.pending_item, ignoreBounds=True)
         self.wp_labels: list[_Label] = []
-        self.violations_item = _Markers("o", MARKER_PX, _pen(BLACK, 1.5),
-                                        _brush(VERMILLION))
+        vst = STYLES["violation"]
+        self.violations_item = _Markers("circle", MARKER_PX, qpen(vst.stroke), qbrush(vst.fill))
         self.violations_item.setZValue(9)
         add(self.violations_item, ignoreBounds=True)
         self.violation_labels: list[_Label] = []
@@ -678,21 +721,28 @@ class PlanCanvas(QWidget):
         sol = index.solids
         walls = [s.geometry for s in sol if s.kind == "wall"]
         obst = [s.geometry for s in sol if s.kind == "obstacle"]
-        self.walls_item.setPath(polygons_path(walls))
-        self.obstacles_item.setPath(polygons_path(obst))
+        # Oriented alike and filled by winding: where two walls overlap (a T-junction) the
+        # overlap is filled once, not left empty as an odd-even fill would (holes, oriented
+        # the other way, stay open).
+        wind = Qt.FillRule.WindingFill
+        self.walls_item.setPath(polygons_path(shapely.orient_polygons(walls), wind)
+                                if walls else polygons_path([]))
+        self.obstacles_item.setPath(polygons_path(shapely.orient_polygons(obst), wind)
+                                    if obst else polygons_path([]))
+        self.hatch_item.setPath(self.obstacles_item.path())
         zk = index.zones
         for kind, it in self.zone_items.items():
             it.setPath(polygons_path(list(getattr(zk, kind).geometries)))
         self._solid_geoms = [s.geometry for s in sol]
         self._solids_tree = index.tree if sol else None
-        dx, dy = [], []
-        for d in fp.doors:
-            dx += [d.a[0], d.b[0], np.nan]
-            dy += [d.a[1], d.b[1], np.nan]
-        self.doors_item.setData(np.asarray(dx, float), np.asarray(dy, float))
-        jx = [p[0] for d in fp.doors for p in (d.a, d.b)]
-        jy = [p[1] for d in fp.doors for p in (d.a, d.b)]
-        self.jambs_item.setData(jx, jy)
+        layer = floorplan_layer(fp, solids_list=sol)
+        for role, item in (("door_gap", self.door_gaps_item), ("door", self.doors_item)):
+            lines = [ln.xy for ln in layer.lines if ln.role == role]
+            xy = (np.vstack([np.vstack([a, [np.nan, np.nan]]) for a in lines]) if lines
+                  else np.zeros((0, 2)))
+            item.setData(xy[:, 0], xy[:, 1])
+        jambs = [m for m in layer.markers if m.role == "jamb"]
+        self.jambs_item.setData([m.x for m in jambs], [m.y for m in jambs])
         named = [(d.midpoint, d.label, "door", 0.0) for d in fp.doors if d.label]
         first: dict[int, object] = {}  # each obstacle's first solid (one pass, not one each)
         for s in sol:
@@ -712,14 +762,11 @@ class PlanCanvas(QWidget):
             t.setZValue(1.5)
         self._obstacle_labels = []
         for t, (pos, text, kind, size_m) in zip(labels, named):
-            if kind == "door":
-                t.setColor(QColor("#7A4A00"))
-                t.setFill(_brush("#FFFFFF", 200))
-                t.setAnchor((0.5, -0.3))
-            else:
-                t.setColor(QColor("#111111"))
-                t.setFill(_brush("#FFFFFF", 170))
-                t.setAnchor((0.5, 0.5))
+            st = STYLES["door_label" if kind == "door" else "obstacle_label"]
+            t.setColor(QColor(st.ink))
+            t.setFill(qbrush(st.fill))
+            t.setPen(qpen(st.stroke, cosmetic=True))
+            t.setAnchor((0.5, -0.3) if kind == "door" else (0.5, 0.5))
             t.setText(text)
             t.setPos(*pos)
             if kind == "obstacle":
@@ -752,6 +799,7 @@ class PlanCanvas(QWidget):
         """
         doc = self.doc
         cur = doc.route()
+        self._set_route_colour(doc.current_route)
         self._draw_other_routes()
         pending = self._pending
         if pending != self._drawn.get("pending"):
@@ -792,6 +840,19 @@ class PlanCanvas(QWidget):
         self._draw_handles()
         self._draw_band_and_outlines(segs)
         self._draw_violations(cur.name)
+
+    def _set_route_colour(self, k: int) -> None:
+        """The current route in its colour from its place in the project, as the picture
+        draws it (app.scene.route_style)."""
+        if self._drawn.get("route_colour") == k:
+            return
+        self._drawn["route_colour"] = k
+        self.path_fwd.setPen(qpen(route_style(max(k, 0), 1), cosmetic=True))
+        self.path_rev.setPen(qpen(route_style(max(k, 0), -1), cosmetic=True))
+        wp = qpen(route_style(max(k, 0), 1), cosmetic=True)
+        wp.setWidthF(2.0)
+        wp.setStyle(Qt.PenStyle.SolidLine)
+        self.waypoints_item.setPen(wp)
 
     def _draw_other_routes(self) -> None:
         """Other routes: faint dash-dot paths so the user sees what else shares the floor."""
@@ -942,11 +1003,14 @@ class PlanCanvas(QWidget):
         if key == self._drawn.get("violations"):
             return
         self._drawn["violations"] = key
-        self.violations_item.setData([v.x for v in vs], [v.y for v in vs],
-                                     symbol=[VIOLATION_SYMBOLS.get(v.kind, "o") for v in vs])
-        shown = vs[:MAX_LABELS]
-        labels = self._labels(self.violation_labels, len(shown), "#5A1E00",
-                              "#FFFFFFDD", _LABEL_PLACES[0])
+        layer = violation_layer({name: chk})
+        self.violations_item.setData([m.x for m in layer.markers], [m.y for m in layer.markers],
+                                     symbol=[m.shape for m in layer.markers])
+        # Labels the worst first, as the picture places them.
+        shown = layer.labels[:MAX_LABELS]
+        lst = STYLES["violation_label"]
+        labels = self._labels(self.violation_labels, len(shown), lst.ink,
+                              None, _LABEL_PLACES[0])
         px = self.px_m()
         # What a label must not cover, as plan boxes (x0, y0, x1, y1): every violation marker,
         # the names of doors and obstacles shown, and the labels already placed.
@@ -954,7 +1018,9 @@ class PlanCanvas(QWidget):
         taken = [(v.x - half, v.y - half, v.x + half, v.y + half) for v in vs]
         taken += [_plan_box(t, px) for t in self.plan_labels if t.isVisible()]
         for t, v in zip(labels, shown):
-            _set_text(t, violation_label(v))
+            t.setFill(qbrush(lst.fill))
+            t.setPen(qpen(lst.stroke, cosmetic=True))
+            _set_text(t, v.text)
             t.setPos(v.x, v.y)
             # The first of four places round the marker that covers nothing above; a label with
             # no free place is hidden (its marker stays, and the results panel lists it).

@@ -1,5 +1,13 @@
 """The picture without a window: floor plan, routes, swept area and violations on a QImage.
 
+The picture painter of the plan scene (:mod:`app.scene`): it paints the scene's layers with
+the scene's styles, as the canvas does, and adds what only a picture has (title and verdict
+badge, legend, scale bar, axes cue, caution).
+
+Over 600 lines because it still holds the picture's own plot painter (:func:`draw_plots`, for
+``render --plots`` and the report) beside the window's pyqtgraph plots (:mod:`app.plots`);
+moving the picture onto pyqtgraph's path is the next step and would shrink it by a third.
+
 Everything is drawn with QPainter onto a QImage (or any paint device the caller's painter is
 on), so it works under ``QT_QPA_PLATFORM=offscreen`` with only a ``QGuiApplication``: the
 ``swathe render`` command, the report and the tests use it. The plan is drawn at true scale
@@ -60,21 +68,33 @@ from .palette import (  # noqa: F401 - re-exported for the report and tests
     WALL_FILL,
     YELLOW,
 )
+from .qstyle import hatch_brush, marker_path, qbrush, qpen
+from .scene import (  # noqa: F401 - the geometry helpers are re-exported for older callers
+    FAINT_INK,
+    INK,
+    JAMB_R_PX,
+    ROUTE_COLOURS,
+    ROUTE_WIDTH_PX,
+    STYLES,
+    VIOLATION_R_PX,
+    VIOLATION_SHAPES,
+    WAYPOINT_R_PX,
+    floorplan_layer,
+    legend_rows,
+    outline_poses,
+    place_footprint,
+    route_layer,
+    sample_path,
+    swept_geometry,
+    violation_layer,
+)
 from .zone_paint import ZONE_STYLE, ZONE_WORDS, draw_zone_sample, draw_zones, zone_caption
 
-INK = "#1A1A1A"
-FAINT_INK = "#5C5C5C"
-#: The swept band: sky blue, translucent so walls and outlines show through it.
-BAND_RGBA = (86, 180, 233, 110)
-#: Route path colours in turn (one per route), all dark enough on white.
-ROUTE_COLOURS = (BLUE, PURPLE, ORANGE, BLACK, GREEN)
-
+#: The swept band, as the scene styles it.
+BAND_RGBA = (*(int(STYLES["band"].fill.colour[i:i + 2], 16) for i in (1, 3, 5)),
+             STYLES["band"].fill.alpha)
 #: How many violation labels (the worst first) are drawn even where they must overlap.
 FORCED_VIOLATION_LABELS = 8
-#: Marker shape per violation kind (drawn by :func:`marker_path`).
-VIOLATION_SHAPES = {"collision": "cross", "clearance": "triangle", "turn_radius": "square",
-                    "infeasible": "star", "waypoint_blocked": "diamond", "keep_out": "hexagon",
-                    "wrong_way": "chevron"}
 
 
 def ensure_app() -> QGuiApplication:
@@ -126,121 +146,49 @@ def nice_length(target: float) -> float:
     return 10 ** e
 
 
-def swept_geometry(footprint: Sequence[tuple[float, float]], segments: Sequence[Any],
-                   check: Any = None) -> Any:
-    """The swept area of a route as one shapely geometry (``None`` if it cannot be had).
-
-    Taken from the check when it carries it (``check.swept``), else from
-    :func:`kinematics.check.sweep.swept_route`.
-    """
-    import shapely
-
-    geom = getattr(check, "swept", None) if check is not None else None
-    if geom is None:
-        if not segments:
-            return None
-        try:
-            from kinematics.check.sweep import swept_route
-        except ImportError:
-            return None
-        geom = swept_route(footprint, list(segments))
-    if isinstance(geom, (list, tuple)):
-        parts = [getattr(p, "geometry", p) for p in geom]
-        parts = [p for p in parts if p is not None]
-        return shapely.union_all(parts) if parts else None
-    return getattr(geom, "geometry", geom)
-
-
-# -- geometry helpers -----------------------------------------------------------------------
-def sample_path(segments: Sequence[Any], step_rad: float = math.radians(3.0)
-                ) -> list[tuple[np.ndarray, int, int]]:
-    """Polylines to draw: ``(xy (n, 2), direction, segment index)`` per line or arc."""
-    out = []
-    for i, seg in enumerate(segments):
-        if seg.kind == "pivot":
-            continue
-        if seg.kind == "arc":
-            n = max(2, int(math.ceil(abs(seg.turn_rad) / step_rad)) + 1)
-        elif seg.kind == "clothoid":
-            n = max(2, int(math.ceil(seg.length_m * seg.max_abs_curvature / step_rad)) + 2)
-        else:
-            n = 2
-        p = seg.poses_at_fraction(np.linspace(0.0, 1.0, n))
-        out.append((p[:, :2], int(seg.direction), i))
-    return out
-
-
-def outline_poses(segments: Sequence[Any], count: int = 8) -> np.ndarray:
-    """Poses for footprint outlines: the start, the end and ``count`` in between."""
-    from kinematics.motion.segments import path_length, poses_along
-
-    if not segments:
-        return np.zeros((0, 3))
-    total = path_length(segments)
-    if total <= 0:
-        return np.array([segments[0].start, segments[-1].end], dtype=float)
-    st = np.linspace(0.0, total, count + 2)
-    poses = poses_along(segments, st)
-    poses[-1] = segments[-1].end
-    return poses
-
-
-def place_footprint(footprint: Sequence[tuple[float, float]], pose: Sequence[float]
-                    ) -> np.ndarray:
-    """The footprint's corners in the plan frame at ``pose`` ``(x, y, heading_rad)``."""
-    fp = np.asarray(footprint, dtype=float)
-    c, s = math.cos(pose[2]), math.sin(pose[2])
-    return np.column_stack([pose[0] + c * fp[:, 0] - s * fp[:, 1],
-                            pose[1] + s * fp[:, 0] + c * fp[:, 1]])
-
-
-def marker_path(shape: str, centre: QPointF, r: float) -> QPainterPath:
-    """A closed marker outline of radius ``r`` pixels around ``centre``."""
-    x, y = centre.x(), centre.y()
-    path = QPainterPath()
-    if shape == "cross":
-        # A plus sign of arm half-width w, turned 45 degrees into an X.
-        w = r * 0.3
-        plus = [(-w, -r), (w, -r), (w, -w), (r, -w), (r, w), (w, w), (w, r), (-w, r),
-                (-w, w), (-r, w), (-r, -w), (-w, -w)]
-        c45 = math.sqrt(0.5)
-        path.addPolygon(QPolygonF([QPointF(x + c45 * (a - b), y + c45 * (a + b))
-                                   for a, b in plus]))
-    elif shape == "triangle":
-        path.addPolygon(QPolygonF([QPointF(x, y - r), QPointF(x + r * 0.95, y + r * 0.75),
-                                   QPointF(x - r * 0.95, y + r * 0.75)]))
-    elif shape == "square":
-        s = r * 0.8
-        path.addRect(QRectF(x - s, y - s, 2 * s, 2 * s))
-    elif shape == "star":
-        pts = []
-        for k in range(10):
-            rr = r * (1.0 if k % 2 == 0 else 0.45)
-            a = -math.pi / 2 + k * math.pi / 5
-            pts.append(QPointF(x + rr * math.cos(a), y + rr * math.sin(a)))
-        path.addPolygon(QPolygonF(pts))
-    elif shape == "diamond":
-        path.addPolygon(QPolygonF([QPointF(x, y - r), QPointF(x + r, y), QPointF(x, y + r),
-                                   QPointF(x - r, y)]))
-    elif shape == "hexagon":
-        path.addPolygon(QPolygonF([QPointF(x + r * math.cos(k * math.pi / 3),
-                                           y + r * math.sin(k * math.pi / 3))
-                                   for k in range(6)]))
-    elif shape == "chevron":
-        w = r * 0.45
-        path.addPolygon(QPolygonF([QPointF(x - r, y - r), QPointF(x - r + w, y - r),
-                                   QPointF(x + r, y), QPointF(x - r + w, y + r),
-                                   QPointF(x - r, y + r), QPointF(x + r - w - w * 0.5, y)]))
-    else:
-        path.addEllipse(centre, r, r)
-    path.closeSubpath()
-    return path
-
-
 def draw_marker(p: QPainter, kind: str, centre: QPointF, r: float) -> None:
-    p.setPen(pen(BLACK, max(1.0, r * 0.16)))
-    p.setBrush(QBrush(QColor(VERMILLION)))
+    """The marker of violation ``kind`` (the scene's shape and style) at ``centre``."""
+    st = STYLES["violation"]
+    p.setPen(qpen(st.stroke, max(1.0, r / VIOLATION_R_PX)))
+    p.setBrush(qbrush(st.fill))
     p.drawPath(marker_path(VIOLATION_SHAPES.get(kind, "circle"), centre, r))
+
+
+def _paint_polygons(p: QPainter, view: _View, role: str, geoms: list, u: float) -> None:
+    st = STYLES[role]
+    hatch = hatch_brush(st.fill)
+    p.setPen(qpen(st.stroke, 1.0 if role in ("wall", "obstacle") else u))
+    p.setBrush(qbrush(st.fill))
+    for g in geoms:
+        path = view.geometry_path(g)
+        p.drawPath(path)
+        if hatch is not None:
+            p.setPen(Qt.PenStyle.NoPen)
+            p.setBrush(hatch)
+            p.drawPath(path)
+            p.setPen(qpen(st.stroke))
+            p.setBrush(qbrush(st.fill))
+
+
+def _paint_line(p: QPainter, view: _View, line: Any, u: float) -> None:
+    p.setPen(qpen(line.stroke, u))
+    p.setBrush(Qt.BrushStyle.NoBrush)
+    p.drawPolyline(view.poly(line.xy))
+
+
+def _paint_marker(p: QPainter, view: _View, m: Any, u: float) -> QRectF:
+    st = STYLES[m.role]
+    c = view.pt(m.x, m.y)
+    r = m.r_px * u
+    p.setPen(qpen(m.stroke or st.stroke, u))
+    p.setBrush(qbrush(st.fill))
+    p.drawPath(marker_path(m.shape, c, r))
+    box = QRectF(c.x() - r, c.y() - r, 2 * r, 2 * r)
+    if m.text:
+        p.setPen(QColor(st.ink))
+        p.setFont(font(10 * u, bold=True))
+        p.drawText(box, Qt.AlignmentFlag.AlignCenter, m.text)
+    return box
 
 
 class _View:
@@ -425,7 +373,8 @@ def render_scene(target: QPainter | QImage, project: Any, plans: dict, checks: d
     dict
         Where things went, in pixels, for tests and callers: ``"plan_rect"``,
         ``"px_per_m"``, ``"violations"`` (list of ``(kind, QPointF)``), ``"to_px"`` (a
-        function plan (x, y) -> QPointF).
+        function plan (x, y) -> QPointF), ``"covered"`` (the boxes of labels and markers
+        drawn over the plan, QRectF).
     """
     own = isinstance(target, QImage)
     if own:
@@ -486,29 +435,45 @@ def _draw(p: QPainter, project: Any, plans: dict, checks: dict, route_name: str 
     p.setClipRect(plan_rect)
 
     _draw_grid(p, view, plan_rect, u)
+    # Zones, then the swept bands under the walls as in the window, so paths, outlines and
+    # markers sit on top of them.
     draw_zones(p, project.floorplan.zones, view.pt, view.scale, u)
-    _draw_floorplan(p, view, project.floorplan, u, labels)
-    _zone_captions(p, view, project.floorplan.zones, u, labels)
-    # Swept bands first, so paths, outlines and markers sit on top of them.
     p.setPen(Qt.PenStyle.NoPen)
-    p.setBrush(QBrush(QColor(*BAND_RGBA)))
+    p.setBrush(qbrush(STYLES["band"].fill))
     for g in bands.values():
         if g is not None and not g.is_empty:
             p.drawPath(view.geometry_path(g))
+    plan_layer = floorplan_layer(project.floorplan, checks)
+    for poly in plan_layer.polygons:
+        _paint_polygons(p, view, poly.role, poly.geoms, u)
+    _obstacle_labels(p, view, plan_layer, u, labels)
+    _zone_captions(p, view, project.floorplan.zones, u, labels)
+    # Doors with the plan, under the routes (as in the window, where the route being edited
+    # lies over them).
+    for line in plan_layer.lines:
+        _paint_line(p, view, line, u)
+    for mk in plan_layer.markers:
+        _paint_marker(p, view, mk, u)
+    # Each route keeps its colour from its place in the project, as in the window.
+    index_of = {r.name: k for k, r in enumerate(project.routes)}
     routes = [r for r in project.routes if r.name in names]
-    for k, r in enumerate(routes):
+    for r in routes:
         plan = plans.get(r.name)
-        colour = ROUTE_COLOURS[k % len(ROUTE_COLOURS)]
+        k = index_of[r.name]
+        vehicle = vehicle_of(project, r)
+        layer = route_layer(r, k, plan, vehicle.footprint)
+        for line in layer.lines:
+            _paint_line(p, view, line, u)
         if plan is not None:
-            vehicle = vehicle_of(project, r)
-            _draw_outlines(p, view, vehicle.footprint, plan.segments, u)
             _draw_trailers(p, view, vehicle, checks.get(r.name), plan.segments, u)
-            _draw_path(p, view, plan.segments, colour, u)
-        _draw_waypoints(p, view, r, colour, u, labels)
-    door_pending = _draw_doors(p, view, project.floorplan, checks, u)
+            _draw_pivots(p, view, plan.segments, ROUTE_COLOURS[k % len(ROUTE_COLOURS)], u)
+        _draw_headings(p, view, r, ROUTE_COLOURS[k % len(ROUTE_COLOURS)], u)
+        for mk in layer.markers:
+            labels.block(_paint_marker(p, view, mk, u))
     # Violation labels before door labels: a user must see what is wrong first.
     marks = _draw_violations(p, view, checks, u, labels, f_label)
-    _door_labels(p, door_pending, u, labels, f_label)
+    _place_labels(p, view, [lb for lb in plan_layer.labels if lb.role == "door_label"], u,
+                  labels, f_label)
     _draw_scale_and_axes(p, view, plan_rect, u, f_small)
     p.restore()
 
@@ -516,7 +481,8 @@ def _draw(p: QPainter, project: Any, plans: dict, checks: dict, route_name: str 
         _draw_title(p, project, plans, checks, route_name, errors, W, title_h, u, f_title,
                     f_sub)
     _draw_legend(p, QRectF(W - legend_w - m, plan_rect.top(), legend_w, plan_rect.height()),
-                 routes, checks, u, f_label, f_small, project.floorplan.zones)
+                 [r.name for r in routes], index_of, checks, u, f_label, f_small,
+                 project.floorplan.zones)
     if footer:
         p.setPen(QColor(FAINT_INK))
         p.setFont(font(10.5 * u))
@@ -524,7 +490,7 @@ def _draw(p: QPainter, project: Any, plans: dict, checks: dict, route_name: str 
                    Qt.AlignmentFlag.AlignVCenter | Qt.AlignmentFlag.AlignLeft
                    | Qt.TextFlag.TextWordWrap, CAUTION)
     return {"plan_rect": plan_rect, "px_per_m": view.scale, "violations": marks,
-            "to_px": view.pt}
+            "to_px": view.pt, "covered": list(labels.taken)}
 
 
 def _draw_grid(p: QPainter, view: _View, rect: QRectF, u: float) -> None:
@@ -546,93 +512,43 @@ def _draw_grid(p: QPainter, view: _View, rect: QRectF, u: float) -> None:
         y += step
 
 
-def _draw_floorplan(p: QPainter, view: _View, fp: Any, u: float,
-                    labels: _Labels | None = None) -> None:
-    from kinematics.files.floorplan import solids
-
-    walls = [s.geometry for s in solids(fp) if s.kind == "wall"]
-    obstacles = [s for s in solids(fp) if s.kind == "obstacle"]
-    p.setPen(pen(BLACK, 0.8))
-    p.setBrush(QBrush(QColor(WALL_FILL)))
-    for g in walls:
-        p.drawPath(view.geometry_path(g))
-    hatch = QBrush(QColor("#6E6E6E"), Qt.BrushStyle.BDiagPattern)
-    for s in obstacles:
-        path = view.geometry_path(s.geometry)
-        p.setPen(pen(BLACK, 1.0))
-        p.setBrush(QBrush(QColor(OBSTACLE_FILL)))
-        p.drawPath(path)
-        p.setPen(Qt.PenStyle.NoPen)
-        p.setBrush(hatch)
-        p.drawPath(path)
-    # Obstacle labels inside their shapes when they fit.
+def _obstacle_labels(p: QPainter, view: _View, layer: Any, u: float, labels: _Labels) -> None:
+    """Obstacle names inside their shapes where they fit."""
     f = font(11 * u)
     fm = QFontMetricsF(f)
     p.setFont(f)
-    for s in obstacles:
-        if not s.label:
+    st = STYLES["obstacle_label"]
+    for lb in layer.labels:
+        if lb.role != "obstacle_label":
             continue
-        c = s.geometry.representative_point()
-        b = s.geometry.bounds
-        wpx = (b[2] - b[0]) * view.scale
-        if fm.horizontalAdvance(s.label) + 6 > wpx:
+        wpx = (lb.fit_m or 0.0) * view.scale
+        if fm.horizontalAdvance(lb.text) + 6 > wpx:
             continue
-        r = QRectF(0, 0, fm.horizontalAdvance(s.label) + 6, fm.height())
-        r.moveCenter(view.pt(c.x, c.y))
-        if labels is not None:
-            if not labels.bounds.contains(r):
-                continue  # half a word at the picture's edge reads worse than none
-            labels.block(r)
+        r = QRectF(0, 0, fm.horizontalAdvance(lb.text) + 6, fm.height())
+        r.moveCenter(view.pt(lb.x, lb.y))
+        if not labels.bounds.contains(r):
+            continue  # half a word at the picture's edge reads worse than none
+        labels.block(r)
         p.setPen(Qt.PenStyle.NoPen)
-        p.setBrush(QBrush(qcolor("#FFFFFF", 210)))
+        p.setBrush(qbrush(st.fill))
         p.drawRect(r)
-        p.setPen(QColor(INK))
-        p.drawText(r, Qt.AlignmentFlag.AlignCenter, s.label)
+        p.setPen(QColor(st.ink))
+        p.drawText(r, Qt.AlignmentFlag.AlignCenter, lb.text)
 
 
-def _draw_doors(p: QPainter, view: _View, fp: Any, checks: dict, u: float) -> list:
-    """Draw the door openings; returns their labels for :func:`_door_labels`."""
-    clear_by_label = door_clearances(checks)
-    pending: list[tuple[bool, QPointF, str]] = []
-    for d in fp.doors:
-        a, b = view.pt(*d.a), view.pt(*d.b)
-        # The opening: a white gap through the wall, a sky-blue threshold and jamb ticks.
-        p.setPen(pen("#FFFFFF", 5 * u))
-        p.drawLine(a, b)
-        p.setPen(pen(BLUE, 2.2 * u, Qt.PenStyle.DotLine))
-        p.drawLine(a, b)
-        dx, dy = b.x() - a.x(), b.y() - a.y()
-        n = math.hypot(dx, dy) or 1.0
-        nx, ny = -dy / n * 7 * u, dx / n * 7 * u
-        p.setPen(pen(BLUE, 2.5 * u))
-        for q in (a, b):
-            p.drawLine(QPointF(q.x() - nx, q.y() - ny), QPointF(q.x() + nx, q.y() + ny))
-        text = f"{d.label or 'door'} {d.width_m:.2f} m"
-        passed = d.label in clear_by_label
-        if passed:
-            text += f", clearance {clear_by_label[d.label] * 1000:.0f} mm"
-        # Doors a route passes are always labelled; others only where there is room.
-        pending.append((not passed, view.pt(*d.midpoint), text, (dx / n, dy / n), n / 2))
-    return pending
-
-
-def _door_labels(p: QPainter, pending: list, u: float, labels: _Labels, f: QFont) -> None:
-    for not_passed, mid, text, along, half in sorted(pending, key=lambda t: t[0]):
-        labels.place(p, mid, text, f if not not_passed else font(10 * u), half + 6 * u,
-                     ink="#003A5C", border=BLUE, force=not not_passed, along=along)
-
-
-def _draw_outlines(p: QPainter, view: _View, footprint: Sequence, segments: Sequence,
-                   u: float) -> None:
-    poses = outline_poses(list(segments))
-    p.setBrush(Qt.BrushStyle.NoBrush)
-    p.setPen(pen("#3D3D3D", 1.1 * u))
-    for pose in poses:
-        p.drawPolygon(view.poly(place_footprint(footprint, pose)))
-        # A short tick from the reference point forward shows which way the body faces.
-        c = view.pt(pose[0], pose[1])
-        L = 9 * u
-        p.drawLine(c, QPointF(c.x() + L * math.cos(pose[2]), c.y() - L * math.sin(pose[2])))
+def _place_labels(p: QPainter, view: _View, items: list, u: float, labels: _Labels,
+                  f: QFont) -> None:
+    """Place the scene's labels by priority: forced ones first, others where there is room."""
+    for lb in sorted(items, key=lambda t: (t.priority, not t.force)):
+        st = STYLES[lb.role]
+        along = None
+        if lb.along is not None:
+            along = (lb.along[0], -lb.along[1])  # plan y up, picture y down
+        labels.place(p, view.pt(lb.x, lb.y), lb.text, font(10 * u) if lb.small else f,
+                     lb.offset_px * u + lb.reach_m * view.scale, ink=st.ink,
+                     fill=qbrush(st.fill).color(),
+                     border=st.stroke.colour if st.stroke else None, force=lb.force,
+                     along=along)
 
 
 def _draw_trailers(p: QPainter, view: _View, vehicle: Any, check: Any, segments: Sequence,
@@ -660,13 +576,8 @@ def _draw_trailers(p: QPainter, view: _View, vehicle: Any, check: Any, segments:
             p.drawLine(view.pt(hx, hy), view.pt(pose[0], pose[1]))
 
 
-def _draw_path(p: QPainter, view: _View, segments: Sequence, colour: str, u: float) -> None:
-    for xy, direction, _i in sample_path(list(segments)):
-        style = Qt.PenStyle.SolidLine if direction > 0 else Qt.PenStyle.DashLine
-        p.setPen(pen(colour, 2.6 * u, style))
-        p.setBrush(Qt.BrushStyle.NoBrush)
-        p.drawPolyline(view.poly(xy))
-    # Pivots: a ring with an arrow head, turning the way the body turns.
+def _draw_pivots(p: QPainter, view: _View, segments: Sequence, colour: str, u: float) -> None:
+    """Pivots: a ring with an arrow head, turning the way the body turns."""
     for seg in segments:
         if seg.kind != "pivot" or seg.turn_rad == 0.0:
             continue
@@ -674,6 +585,7 @@ def _draw_path(p: QPainter, view: _View, segments: Sequence, colour: str, u: flo
         r = 11 * u
         rect = QRectF(c.x() - r, c.y() - r, 2 * r, 2 * r)
         p.setPen(pen(colour, 2.0 * u))
+        p.setBrush(Qt.BrushStyle.NoBrush)
         span = 300 if seg.turn_rad > 0 else -300
         p.drawArc(rect, 30 * 16, span * 16)
         end = math.radians(30 + span)
@@ -688,46 +600,30 @@ def _draw_path(p: QPainter, view: _View, segments: Sequence, colour: str, u: flo
             QPointF(tip.x() - tx * h * 0.2 + ty * h, tip.y() - ty * h * 0.2 - tx * h)]))
 
 
-def _draw_waypoints(p: QPainter, view: _View, route: Any, colour: str, u: float,
-                    labels: _Labels) -> None:
-    r = 9 * u
-    f = font(10 * u, bold=True)
-    p.setFont(f)
-    for k, w in enumerate(route.waypoints):
+def _draw_headings(p: QPainter, view: _View, route: Any, colour: str, u: float) -> None:
+    """A line from each waypoint with a fixed heading, pointing along it."""
+    for w in route.waypoints:
+        if w.heading_deg is None:
+            continue
         c = view.pt(w.x, w.y)
-        if w.heading_deg is not None:
-            h = math.radians(w.heading_deg)
-            L = 24 * u
-            p.setPen(pen(colour, 1.8 * u))
-            p.drawLine(c, QPointF(c.x() + L * math.cos(h), c.y() - L * math.sin(h)))
-        p.setPen(pen(colour, 2.0 * u))
-        p.setBrush(QBrush(QColor("#FFFFFF")))
-        p.drawEllipse(c, r, r)
-        p.setPen(QColor(INK))
-        p.drawText(QRectF(c.x() - r, c.y() - r, 2 * r, 2 * r), Qt.AlignmentFlag.AlignCenter,
-                   str(k + 1))
-        labels.block(QRectF(c.x() - r, c.y() - r, 2 * r, 2 * r))
+        h = math.radians(w.heading_deg)
+        L = 24 * u
+        p.setPen(pen(colour, 1.8 * u))
+        p.drawLine(c, QPointF(c.x() + L * math.cos(h), c.y() - L * math.sin(h)))
 
 
 def _draw_violations(p: QPainter, view: _View, checks: dict, u: float, labels: _Labels,
                      f: QFont) -> list[tuple[str, QPointF]]:
+    layer = violation_layer(checks, FORCED_VIOLATION_LABELS)
     marks = []
-    r = 8 * u
-    for chk in checks.values():
-        for v in violations_of(chk):
-            c = view.pt(v.x, v.y)
-            draw_marker(p, v.kind, c, r)
-            marks.append((v.kind, c))
+    kinds = [v.kind for chk in checks.values() for v in violations_of(chk)]
+    for kind, m in zip(kinds, layer.markers):
+        labels.block(_paint_marker(p, view, m, u))
+        marks.append((kind, view.pt(m.x, m.y)))
     # Labels after all markers so a label never hides a marker drawn later; the worst first.
-    allv = sorted((v for chk in checks.values() for v in violations_of(chk)),
-                  key=lambda v: -(getattr(v, "amount_m", 0.0) or 0.0))
-    for v in allv:
-        labels.block(QRectF(view.pt(v.x, v.y).x() - r, view.pt(v.x, v.y).y() - r, 2 * r, 2 * r))
-    for k, v in enumerate(allv):
-        # The worst few are always labelled; the rest where there is room (the results
-        # panel and the report's table list every one).
-        labels.place(p, view.pt(v.x, v.y), violation_label(v), f, r + 3 * u, ink="#4A1A00",
-                     border=VERMILLION, force=k < FORCED_VIOLATION_LABELS)
+    # The worst few are always labelled; the rest where there is room (the results panel and
+    # the report's table list every one).
+    _place_labels(p, view, layer.labels, u, labels, f)
     return marks
 
 
@@ -846,34 +742,11 @@ def _zone_captions(p: QPainter, view: _View, zones: Sequence[Any], u: float,
         p.drawText(r, Qt.AlignmentFlag.AlignCenter, text)
 
 
-def _legend_rows(routes: Sequence[Any], checks: dict, zones: Sequence[Any] = ()
-                 ) -> list[tuple[str, str, Any]]:
-    rows: list[tuple[str, str, Any]] = [("wall", "wall", None), ("obstacle", "obstacle", None),
-                                        ("door", "door opening (width, clearance)", None)]
-    for kind in ZONE_STYLE:
-        if any(z.kind == kind for z in zones):
-            rows.append(("zone", ZONE_WORDS[kind], kind))
-    for k, r in enumerate(routes):
-        rows.append(("path", f"route {r.name}", ROUTE_COLOURS[k % len(ROUTE_COLOURS)]))
-    rows += [("reverse", "driven in reverse", None), ("pivot", "turn on the spot", None),
-             ("band", "swept area", None), ("outline", "footprint outline", None),
-             ("waypoint", "waypoint (number)", None)]
-    kinds = []
-    for chk in checks.values():
-        for v in violations_of(chk):
-            if v.kind not in kinds:
-                kinds.append(v.kind)
-    for kind in VIOLATION_SHAPES:
-        if kind in ("keep_out", "wrong_way") and kind not in kinds:
-            continue  # zone rules: listed when a route breaks one
-        rows.append(("violation", VIOLATION_WORDS[kind] + ("" if kind in kinds else
-                                                           " (none)"), kind))
-    return rows
-
-
-def _draw_legend(p: QPainter, rect: QRectF, routes: Sequence[Any], checks: dict, u: float,
-                 f: QFont, f_small: QFont, zones: Sequence[Any] = ()) -> None:
-    rows = _legend_rows(routes, checks, zones)
+def _draw_legend(p: QPainter, rect: QRectF, names: Sequence[str], index_of: dict, checks: dict,
+                 u: float, f: QFont, f_small: QFont, zones: Sequence[Any] = ()) -> None:
+    zone_rows = [("zone", ZONE_WORDS[kind], kind) for kind in ZONE_STYLE
+                 if any(z.kind == kind for z in zones)]
+    rows = legend_rows(names, checks, index_of, zone_rows)
     row_h = 25 * u
     head_h = 28 * u
     needed = head_h + row_h * len(rows) + 10 * u
@@ -894,27 +767,28 @@ def _draw_legend(p: QPainter, rect: QRectF, routes: Sequence[Any], checks: dict,
         cy = y + row_h / 2
         x0 = box.left() + 10 * u
         sample = QRectF(x0, cy - 7 * u, sw, 14 * u)
-        if kind == "wall":
-            p.setPen(pen(BLACK, 0.8))
-            p.setBrush(QBrush(QColor(WALL_FILL)))
+        if kind in ("wall", "obstacle"):
+            st = STYLES[kind]
+            p.setPen(qpen(st.stroke))
+            p.setBrush(qbrush(st.fill))
             p.drawRect(sample)
-        elif kind == "obstacle":
-            p.setPen(pen(BLACK, 1.0))
-            p.setBrush(QBrush(QColor(OBSTACLE_FILL)))
-            p.drawRect(sample)
-            p.setBrush(QBrush(QColor("#6E6E6E"), Qt.BrushStyle.BDiagPattern))
-            p.drawRect(sample)
+            hatch = hatch_brush(st.fill)
+            if hatch is not None:
+                p.setBrush(hatch)
+                p.drawRect(sample)
         elif kind == "zone":
             draw_zone_sample(p, arg, sample)
         elif kind == "door":
-            p.setPen(pen(BLUE, 2.2 * u, Qt.PenStyle.DotLine))
+            p.setPen(qpen(STYLES["door"].stroke, u))
             p.drawLine(QPointF(x0, cy), QPointF(x0 + sw, cy))
-            p.setPen(pen(BLUE, 2.5 * u))
+            jst = STYLES["jamb"]
+            p.setPen(qpen(jst.stroke, u))
+            p.setBrush(qbrush(jst.fill))
             for xx in (x0, x0 + sw):
-                p.drawLine(QPointF(xx, cy - 7 * u), QPointF(xx, cy + 7 * u))
+                p.drawPath(marker_path("circle", QPointF(xx, cy), JAMB_R_PX * u))
         elif kind in ("path", "reverse"):
             style = Qt.PenStyle.SolidLine if kind == "path" else Qt.PenStyle.DashLine
-            p.setPen(pen(arg or INK, 2.6 * u, style))
+            p.setPen(pen(arg or INK, ROUTE_WIDTH_PX * u, style))
             p.drawLine(QPointF(x0, cy), QPointF(x0 + sw, cy))
         elif kind == "pivot":
             r = 8 * u
@@ -923,16 +797,16 @@ def _draw_legend(p: QPainter, rect: QRectF, routes: Sequence[Any], checks: dict,
             p.drawArc(QRectF(x0 + sw / 2 - r, cy - r, 2 * r, 2 * r), 30 * 16, 300 * 16)
         elif kind == "band":
             p.setPen(Qt.PenStyle.NoPen)
-            p.setBrush(QBrush(QColor(*BAND_RGBA)))
+            p.setBrush(qbrush(STYLES["band"].fill))
             p.drawRect(sample)
         elif kind == "outline":
-            p.setPen(pen("#3D3D3D", 1.1 * u))
+            p.setPen(qpen(STYLES["outline"].stroke, u))
             p.setBrush(Qt.BrushStyle.NoBrush)
             p.drawRect(QRectF(x0 + 6 * u, cy - 6 * u, sw - 12 * u, 12 * u))
         elif kind == "waypoint":
-            r = 8 * u
+            r = WAYPOINT_R_PX * u
             p.setPen(pen(INK, 2.0 * u))
-            p.setBrush(QBrush(QColor("#FFFFFF")))
+            p.setBrush(qbrush(STYLES["waypoint"].fill))
             c = QPointF(x0 + sw / 2, cy)
             p.drawEllipse(c, r, r)
             p.setFont(font(9 * u, bold=True))

@@ -174,9 +174,10 @@ def _poses(profile: SpeedProfile, idx: NDArray, progress: NDArray) -> NDArray[np
     return out
 
 
-MAX_SAMPLES = 2_000_000
-"""Most timed samples one schedule holds (about 400 MB as JSON); a route that would need more
-at its time step is refused before any sample is made."""
+MAX_SAMPLES = 200_000
+"""Most timed samples one schedule holds (about 40 MB as JSON, written in seconds; 1.6e6 took
+over 40 s, found by bench/fuzz.py); a route that needs more at its time step is refused
+before any sample is made."""
 
 
 def build_schedule(route_name: str, segments: Sequence[Segment], chassis,

@@ -1,0 +1,61 @@
+"""Qt pens, brushes and marker paths for the scene's styles (:mod:`app.scene`).
+
+Both painters (the canvas and the picture) turn the scene's plain styles into Qt objects here,
+so a style means the same pen and brush in each.
+"""
+
+from __future__ import annotations
+
+from PySide6.QtCore import QPointF, QRectF, Qt
+from PySide6.QtGui import QBrush, QColor, QPainterPath, QPen, QPolygonF
+
+from .scene import Fill, Stroke, marker_polygon
+
+DASHES = {"solid": Qt.PenStyle.SolidLine, "dash": Qt.PenStyle.DashLine,
+          "dot": Qt.PenStyle.DotLine, "dashdot": Qt.PenStyle.DashDotLine}
+
+
+def qcolor(spec: str, alpha: int = 255) -> QColor:
+    c = QColor(spec)
+    c.setAlpha(alpha)
+    return c
+
+
+def qpen(stroke: Stroke | None, scale: float = 1.0, cosmetic: bool = False) -> QPen:
+    """The pen of ``stroke``, its width times ``scale`` (a cosmetic pen keeps screen pixels)."""
+    if stroke is None:
+        return QPen(Qt.PenStyle.NoPen)
+    p = QPen(qcolor(stroke.colour, stroke.alpha))
+    p.setWidthF(stroke.width_px * scale)
+    p.setStyle(DASHES.get(stroke.dash, Qt.PenStyle.SolidLine))
+    p.setCapStyle(Qt.PenCapStyle.FlatCap)
+    p.setJoinStyle(Qt.PenJoinStyle.RoundJoin)
+    p.setCosmetic(cosmetic)
+    return p
+
+
+def qbrush(fill: Fill | None) -> QBrush:
+    """The solid brush of ``fill`` (no brush for ``None``)."""
+    if fill is None:
+        return QBrush(Qt.BrushStyle.NoBrush)
+    return QBrush(qcolor(fill.colour, fill.alpha))
+
+
+def hatch_brush(fill: Fill | None) -> QBrush | None:
+    """The diagonal hatch drawn over ``fill``, or ``None`` where it has none."""
+    if fill is None or not fill.hatch:
+        return None
+    return QBrush(QColor(fill.hatch_colour), Qt.BrushStyle.BDiagPattern)
+
+
+def marker_path(shape: str, centre: QPointF, r: float) -> QPainterPath:
+    """A closed marker outline of radius ``r`` pixels around ``centre`` (screen axes)."""
+    path = QPainterPath()
+    poly = marker_polygon(shape)
+    x, y = centre.x(), centre.y()
+    if poly is None:
+        path.addEllipse(QRectF(x - r, y - r, 2 * r, 2 * r))
+    else:
+        path.addPolygon(QPolygonF([QPointF(x + r * a, y + r * b) for a, b in poly.tolist()]))
+        path.closeSubpath()
+    return path

@@ -1,0 +1,394 @@
+"""The plan scene: what to draw, as styled primitives, for the two painters that draw it.
+
+The interactive canvas (:mod:`app.canvas`) and the picture and report painter
+(:mod:`app.render`) both draw from here, so a wall, a door, a route, a swept band, a footprint
+outline and each violation's marker look the same in the window, the PNG and the report:
+
+- :data:`STYLES`: the one table of strokes and fills by role (colours from :mod:`app.palette`);
+- :data:`VIOLATION_SHAPES` and :func:`marker_polygon`: the one marker outline per violation
+  kind (a triangle for "short of margin" points up everywhere);
+- :func:`floorplan_layer`, :func:`route_layer`, :func:`violation_layer`: the primitives
+  (filled polygons, polylines, markers, labels with placement hints) built from the analysis
+  (:mod:`kinematics.analysis.results`) and the core's plans and checks;
+- :func:`legend_rows`: the legend's rows, in the order and words every legend uses.
+
+It lives in ``app/`` because it is about drawing (roles, pixels, colours), but it imports no
+Qt: the primitives are plain data (shapely geometry, numpy arrays, strings), so a test can
+read a scene without a screen and each painter turns it into its own Qt objects. The canvas
+keeps its per-segment caches for the route being dragged (the drag step must stay within a
+frame) and takes their styles from :data:`STYLES`; everything else it draws comes from the
+layers here.
+"""
+
+from __future__ import annotations
+
+import math
+from collections.abc import Sequence
+from dataclasses import dataclass, field
+from typing import Any
+
+import numpy as np
+
+from kinematics.analysis.results import (
+    VIOLATION_WORDS,
+    door_clearances,
+    violation_label,
+    violations_of,
+)
+
+from .palette import (
+    BLACK,
+    BLUE,
+    GREEN,
+    OBSTACLE_FILL,
+    ORANGE,
+    PURPLE,
+    SKY,
+    VERMILLION,
+    WALL_FILL,
+)
+
+INK = "#1A1A1A"
+FAINT_INK = "#5C5C5C"
+#: Route path colours in turn (one per route, by its place in the project), dark on white and
+#: none of them the doors' orange.
+ROUTE_COLOURS = (BLUE, PURPLE, GREEN, BLACK)
+
+
+@dataclass(frozen=True)
+class Stroke:
+    """A line: colour, width in pixels at the default size, dash and opacity (0-255)."""
+
+    colour: str
+    width_px: float = 1.0
+    dash: str = "solid"  # "solid" | "dash" | "dot" | "dashdot"
+    alpha: int = 255
+
+
+@dataclass(frozen=True)
+class Fill:
+    """An area fill; ``hatch`` adds diagonal lines of ``hatch_colour`` over it."""
+
+    colour: str
+    alpha: int = 255
+    hatch: bool = False
+    hatch_colour: str = "#6E6E6E"
+
+
+@dataclass(frozen=True)
+class Style:
+    """How one role is drawn: its outline (or ``None``), its fill (or ``None``), and for
+    labels the ink of the text."""
+
+    stroke: Stroke | None = None
+    fill: Fill | None = None
+    ink: str = INK
+
+
+#: The one style table. Widths are screen pixels (the canvas draws them as they are; the
+#: picture scales them with its layout unit).
+STYLES: dict[str, Style] = {
+    "wall": Style(Stroke(BLACK, 0.8), Fill(WALL_FILL)),
+    "obstacle": Style(Stroke(BLACK, 1.0), Fill(OBSTACLE_FILL, hatch=True)),
+    # A door: a white gap through whatever is drawn under it, then the orange opening.
+    "door_gap": Style(Stroke("#FFFFFF", 6.0)),
+    "door": Style(Stroke(ORANGE, 4.0)),
+    "jamb": Style(Stroke(BLACK, 1.0), Fill(ORANGE)),
+    "band": Style(None, Fill(SKY, 100)),
+    "outline": Style(Stroke("#3D3D3D", 1.1)),
+    "waypoint": Style(Stroke(BLACK, 1.5), Fill("#FFFFFF")),
+    "violation": Style(Stroke(BLACK, 1.5), Fill(VERMILLION)),
+    "violation_label": Style(Stroke(VERMILLION, 1.0), Fill("#FFFFFF", 225), ink="#5A1E00"),
+    "door_label": Style(Stroke(ORANGE, 1.0), Fill("#FFFFFF", 225), ink="#7A4A00"),
+    "obstacle_label": Style(None, Fill("#FFFFFF", 210), ink=INK),
+}
+#: Marker sizes in pixels (radius) at the default size.
+JAMB_R_PX = 3.0
+WAYPOINT_R_PX = 7.5
+VIOLATION_R_PX = 8.0
+#: Route lines, pixels.
+ROUTE_WIDTH_PX = 2.5
+
+
+def route_style(k: int, direction: int = 1) -> Stroke:
+    """The stroke of the ``k``-th route of the project; reverse travel is dashed."""
+    return Stroke(ROUTE_COLOURS[k % len(ROUTE_COLOURS)], ROUTE_WIDTH_PX,
+                  "solid" if direction > 0 else "dash")
+
+
+# -- markers --------------------------------------------------------------------------------
+#: Marker shape per violation kind.
+VIOLATION_SHAPES = {"collision": "cross", "clearance": "triangle", "turn_radius": "square",
+                    "infeasible": "star", "waypoint_blocked": "diamond", "keep_out": "hexagon",
+                    "wrong_way": "chevron"}
+
+
+def marker_polygon(shape: str) -> np.ndarray | None:
+    """The marker's outline for radius 1 in screen axes (x right, y down), closed implicitly;
+    ``None`` for a circle."""
+    if shape == "cross":
+        # A plus sign of arm half-width w, turned 45 degrees into an X.
+        w = 0.3
+        plus = np.array([(-w, -1), (w, -1), (w, -w), (1, -w), (1, w), (w, w), (w, 1),
+                         (-w, 1), (-w, w), (-1, w), (-1, -w), (-w, -w)], float)
+        c45 = math.sqrt(0.5)
+        return np.column_stack([c45 * (plus[:, 0] - plus[:, 1]),
+                                c45 * (plus[:, 0] + plus[:, 1])])
+    if shape == "triangle":  # points up on the screen, as a warning sign does
+        return np.array([(0.0, -1.0), (0.95, 0.75), (-0.95, 0.75)])
+    if shape == "square":
+        s = 0.8
+        return np.array([(-s, -s), (s, -s), (s, s), (-s, s)])
+    if shape == "star":
+        k = np.arange(10)
+        rr = np.where(k % 2 == 0, 1.0, 0.45)
+        a = -math.pi / 2 + k * math.pi / 5
+        return np.column_stack([rr * np.cos(a), rr * np.sin(a)])
+    if shape == "diamond":
+        return np.array([(0.0, -1.0), (1.0, 0.0), (0.0, 1.0), (-1.0, 0.0)])
+    if shape == "hexagon":
+        k = np.arange(6)
+        return np.column_stack([np.cos(k * math.pi / 3), np.sin(k * math.pi / 3)])
+    if shape == "chevron":  # points right, as along a one-way direction
+        w = 0.45
+        return np.array([(-1, -1), (-1 + w, -1), (1, 0), (-1 + w, 1), (-1, 1),
+                         (1 - 1.5 * w, 0)], float)
+    return None
+
+
+# -- primitives -----------------------------------------------------------------------------
+@dataclass
+class Polygons:
+    """Filled shapely polygons of one role."""
+
+    role: str
+    geoms: list[Any]
+
+
+@dataclass
+class Polyline:
+    """An open line in plan metres (``xy`` of shape (n, 2)) drawn with ``stroke``."""
+
+    xy: np.ndarray
+    stroke: Stroke
+    role: str = "path"
+
+
+@dataclass
+class Marker:
+    """A constant-pixel marker of ``shape`` at plan point ``(x, y)``; ``text`` is drawn in it."""
+
+    role: str
+    shape: str
+    x: float
+    y: float
+    r_px: float
+    stroke: Stroke | None = None
+    text: str = ""
+
+
+@dataclass
+class Label:
+    """A text label at plan point ``(x, y)`` with placement hints for the painter.
+
+    ``along`` (a unit plan-frame vector) asks first for the spots past the anchor in that
+    direction and its opposite (a door's name goes past its jambs, off the route through the
+    opening); ``force`` keeps the label even where it must overlap; ``priority`` orders the
+    placement (lower first); ``offset_px`` is the gap from the anchor, plus ``reach_m`` metres
+    of the plan (half a door's width: its name goes beyond the jamb); ``fit_m``, where set,
+    shows the label only where its text fits across that many metres (an obstacle's name
+    inside it).
+    """
+
+    role: str
+    text: str
+    x: float
+    y: float
+    priority: int = 0
+    force: bool = False
+    along: tuple[float, float] | None = None
+    offset_px: float = 11.0
+    small: bool = False
+    reach_m: float = 0.0
+    fit_m: float | None = None
+
+
+@dataclass
+class Layer:
+    """Primitives in drawing order (polygons, then lines, then markers, then labels)."""
+
+    polygons: list[Polygons] = field(default_factory=list)
+    lines: list[Polyline] = field(default_factory=list)
+    markers: list[Marker] = field(default_factory=list)
+    labels: list[Label] = field(default_factory=list)
+
+
+# -- layers ---------------------------------------------------------------------------------
+def floorplan_layer(fp: Any, checks: dict | None = None, solids_list: Sequence[Any] | None = None
+                    ) -> Layer:
+    """Walls, obstacles, doors and the plan's names.
+
+    A door a checked route passes is labelled with its width and least clearance, always
+    shown; other doors with their width, where there is room.
+    """
+    if solids_list is None:
+        from kinematics.files.floorplan import solids
+
+        solids_list = solids(fp)
+    layer = Layer()
+    layer.polygons.append(Polygons("wall", [s.geometry for s in solids_list
+                                            if s.kind == "wall"]))
+    obstacles = [s for s in solids_list if s.kind == "obstacle"]
+    layer.polygons.append(Polygons("obstacle", [s.geometry for s in obstacles]))
+    for s in obstacles:
+        if s.label:
+            c = s.geometry.representative_point()
+            b = s.geometry.bounds
+            layer.labels.append(Label("obstacle_label", s.label, c.x, c.y, priority=3,
+                                      offset_px=0.0, fit_m=b[2] - b[0]))
+    clear = door_clearances(checks or {})
+    for d in fp.doors:
+        xy = np.array([d.a, d.b], float)
+        layer.lines.append(Polyline(xy, STYLES["door_gap"].stroke, "door_gap"))
+        layer.lines.append(Polyline(xy, STYLES["door"].stroke, "door"))
+        for q in (d.a, d.b):
+            layer.markers.append(Marker("jamb", "circle", float(q[0]), float(q[1]),
+                                        JAMB_R_PX))
+        text = f"{d.label or 'door'} {d.width_m:.2f} m"
+        passed = d.label in clear
+        if passed:
+            text += f", clearance {clear[d.label] * 1000:.0f} mm"
+        dx, dy = d.b[0] - d.a[0], d.b[1] - d.a[1]
+        n = math.hypot(dx, dy) or 1.0
+        layer.labels.append(Label("door_label", text, *map(float, d.midpoint),
+                                  priority=1 if passed else 2, force=passed,
+                                  along=(dx / n, dy / n), small=not passed, offset_px=6.0,
+                                  reach_m=n / 2))
+    return layer
+
+
+def sample_path(segments: Sequence[Any], step_rad: float = math.radians(3.0)
+                ) -> list[tuple[np.ndarray, int, int]]:
+    """Polylines to draw: ``(xy (n, 2), direction, segment index)`` per line or arc."""
+    out = []
+    for i, seg in enumerate(segments):
+        if seg.kind == "pivot":
+            continue
+        if seg.kind == "arc":
+            n = max(2, int(math.ceil(abs(seg.turn_rad) / step_rad)) + 1)
+        elif seg.kind == "clothoid":
+            n = max(2, int(math.ceil(seg.length_m * seg.max_abs_curvature / step_rad)) + 2)
+        else:
+            n = 2
+        p = seg.poses_at_fraction(np.linspace(0.0, 1.0, n))
+        out.append((p[:, :2], int(seg.direction), i))
+    return out
+
+
+def outline_poses(segments: Sequence[Any], count: int = 8) -> np.ndarray:
+    """Poses for footprint outlines: the start, the end and ``count`` in between."""
+    from kinematics.motion.segments import path_length, poses_along
+
+    if not segments:
+        return np.zeros((0, 3))
+    total = path_length(segments)
+    if total <= 0:
+        return np.array([segments[0].start, segments[-1].end], dtype=float)
+    st = np.linspace(0.0, total, count + 2)
+    poses = poses_along(segments, st)
+    poses[-1] = segments[-1].end
+    return poses
+
+
+def place_footprint(footprint: Sequence[tuple[float, float]], pose: Sequence[float]
+                    ) -> np.ndarray:
+    """The footprint's corners in the plan frame at ``pose`` ``(x, y, heading_rad)``."""
+    fp = np.asarray(footprint, dtype=float)
+    c, s = math.cos(pose[2]), math.sin(pose[2])
+    return np.column_stack([pose[0] + c * fp[:, 0] - s * fp[:, 1],
+                            pose[1] + s * fp[:, 0] + c * fp[:, 1]])
+
+
+def swept_geometry(footprint: Sequence[tuple[float, float]], segments: Sequence[Any],
+                   check: Any = None) -> Any:
+    """The swept area of a route as one shapely geometry (``None`` if it cannot be had).
+
+    Taken from the check when it carries it (``check.swept``), else from
+    :func:`kinematics.check.sweep.swept_route`.
+    """
+    import shapely
+
+    geom = getattr(check, "swept", None) if check is not None else None
+    if geom is None:
+        if not segments:
+            return None
+        from kinematics.check.sweep import swept_route
+
+        geom = swept_route(footprint, list(segments))
+    if isinstance(geom, (list, tuple)):
+        parts = [getattr(p, "geometry", p) for p in geom]
+        parts = [p for p in parts if p is not None]
+        return shapely.union_all(parts) if parts else None
+    return getattr(geom, "geometry", geom)
+
+
+def route_layer(route: Any, k: int, plan: Any, footprint: Sequence[tuple[float, float]],
+                outline_count: int = 8) -> Layer:
+    """One route: its path (dashed in reverse), footprint outlines and numbered waypoints.
+
+    The swept band is drawn by each painter from the check's pieces (see ``band`` in
+    :data:`STYLES`): the canvas keeps it per segment for the drag.
+    """
+    layer = Layer()
+    if plan is not None:
+        for pose in outline_poses(list(plan.segments), outline_count):
+            ring = place_footprint(footprint, pose)
+            layer.lines.append(Polyline(np.vstack([ring, ring[:1]]), STYLES["outline"].stroke,
+                                        "outline"))
+        for xy, direction, _i in sample_path(list(plan.segments)):
+            layer.lines.append(Polyline(xy, route_style(k, direction), "path"))
+    colour = ROUTE_COLOURS[k % len(ROUTE_COLOURS)]
+    for i, w in enumerate(route.waypoints):
+        layer.markers.append(Marker("waypoint", "circle", float(w.x), float(w.y),
+                                    WAYPOINT_R_PX, Stroke(colour, 2.0), str(i + 1)))
+    return layer
+
+
+def violation_layer(checks: dict, forced: int = 8) -> Layer:
+    """Every violation's marker, and its label: the worst ``forced`` always, the rest where
+    there is room."""
+    layer = Layer()
+    allv = [v for chk in checks.values() for v in violations_of(chk)]
+    for v in allv:
+        layer.markers.append(Marker("violation", VIOLATION_SHAPES.get(v.kind, "circle"),
+                                    float(v.x), float(v.y), VIOLATION_R_PX))
+    worst = sorted(allv, key=lambda v: -(getattr(v, "amount_m", 0.0) or 0.0))
+    for k, v in enumerate(worst):
+        layer.labels.append(Label("violation_label", violation_label(v), float(v.x),
+                                  float(v.y), priority=0, force=k < forced,
+                                  offset_px=VIOLATION_R_PX + 3.0))
+    return layer
+
+
+def legend_rows(route_names: Sequence[str], checks: dict,
+                route_index: dict[str, int] | None = None,
+                zone_rows: Sequence[tuple[str, str, Any]] = ()) -> list[tuple[str, str, Any]]:
+    """``(kind, words, argument)`` per legend row: the plan's parts (with ``zone_rows``, the
+    zones present), each route by its colour, the route's marks, and every violation kind
+    (``(none)`` where the routes have none; the zone rules only where a route breaks one)."""
+    rows: list[tuple[str, str, Any]] = [("wall", "wall", None), ("obstacle", "obstacle", None),
+                                        ("door", "door opening (width, clearance)", None)]
+    rows += list(zone_rows)
+    for k, name in enumerate(route_names):
+        kk = route_index.get(name, k) if route_index else k
+        rows.append(("path", f"route {name}", ROUTE_COLOURS[kk % len(ROUTE_COLOURS)]))
+    rows += [("reverse", "driven in reverse", None), ("pivot", "turn on the spot", None),
+             ("band", "swept area", None), ("outline", "footprint outline", None),
+             ("waypoint", "waypoint (number)", None)]
+    kinds = {v.kind for chk in checks.values() for v in violations_of(chk)}
+    for kind in VIOLATION_SHAPES:
+        if kind in ("keep_out", "wrong_way") and kind not in kinds:
+            continue  # zone rules: listed when a route breaks one
+        rows.append(("violation", VIOLATION_WORDS[kind] + ("" if kind in kinds else " (none)"),
+                     kind))
+    return rows
