@@ -302,10 +302,23 @@ def cmd_render(args: argparse.Namespace) -> int:
         project.route(args.route)
     _check_output_path(args.output)
     os.environ.setdefault("QT_QPA_PLATFORM", "offscreen")
-    from app.render import render_project_png
+    from app.render import image_format_for, render_project_png
+
+    if image_format_for(args.output) is None:
+        from kinematics.files.jsonio import one_line
+
+        raise SwatheInputError(one_line(args.output, 300), "-o",
+                               f"cannot write a {one_line(Path(args.output).suffix, 20)} "
+                               "picture; expected a name ending .png, .jpg or .jpeg")
 
     if args.plots:
         _check_output_path(args.plots, "--plots")
+        if image_format_for(args.plots) is None:
+            from kinematics.files.jsonio import one_line
+
+            raise SwatheInputError(one_line(args.plots, 300), "--plots",
+                                   f"cannot write a {one_line(Path(args.plots).suffix, 20)} "
+                                   "picture; expected a name ending .png, .jpg or .jpeg")
     _write_output(args.output, "-o", lambda: render_project_png(
         project, args.output, route_name=args.route, size=(args.width, args.height)))
     if args.plots:

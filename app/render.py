@@ -830,13 +830,27 @@ def new_image(size: tuple[int, int]) -> QImage:
     return img
 
 
-def image_png_bytes(img: QImage) -> bytes:
-    """The PNG encoding of ``img``."""
+IMAGE_FORMATS = {".png": "PNG", ".jpg": "JPEG", ".jpeg": "JPEG"}
+"""Picture formats written, by file-name suffix (lower case); a name without a suffix is
+written as PNG."""
+
+
+def image_format_for(path: str | Path) -> str | None:
+    """The Qt format name for ``path``'s suffix (PNG when it has none), or ``None`` when the
+    suffix names a format not written."""
+    suffix = Path(path).suffix.lower()
+    return "PNG" if not suffix else IMAGE_FORMATS.get(suffix)
+
+
+def image_png_bytes(img: QImage, fmt: str = "PNG") -> bytes:
+    """The encoding of ``img`` as ``fmt`` (``"PNG"`` or ``"JPEG"``)."""
     data = QByteArray()
     buf = QBuffer(data)
     buf.open(QIODevice.OpenModeFlag.WriteOnly)
-    if not img.save(buf, "PNG"):
-        raise RuntimeError("Qt could not encode the picture as PNG")
+    if fmt == "JPEG":  # no transparency in JPEG: flatten onto the white background first
+        img = img.convertToFormat(QImage.Format.Format_RGB32)
+    if not img.save(buf, fmt, 92 if fmt == "JPEG" else -1):
+        raise RuntimeError(f"Qt could not encode the picture as {fmt}")
     buf.close()
     return bytes(data.data())
 
@@ -853,15 +867,19 @@ def render_project_image(project: Any, route_name: str | None = None,
 
 def render_project_png(project: Any, path: str | Path, route_name: str | None = None,
                        size: tuple[int, int] = (1600, 1000)) -> None:
-    """Write the picture of ``project`` as a PNG file, atomically.
+    """Write the picture of ``project`` as a PNG file (JPEG for a ``.jpg``/``.jpeg`` name),
+    atomically.
 
     Plans every route (or only ``route_name``) with :func:`kinematics.plan.planner.plan_route`,
     checks it with :mod:`kinematics.check.clearance`, and draws it with :func:`render_scene`.
     """
     from kinematics.files.jsonio import atomic_write_bytes
 
+    fmt = image_format_for(path)
+    if fmt is None:
+        raise ValueError(f"cannot write a {Path(path).suffix} picture; expected .png or .jpg")
     img = render_project_image(project, route_name, size)
-    atomic_write_bytes(path, image_png_bytes(img))
+    atomic_write_bytes(path, image_png_bytes(img, fmt))
 
 
 # -- plots without widgets ------------------------------------------------------------------
@@ -1113,4 +1131,8 @@ def render_plot_png(schedule: Any, path: str | Path, size: tuple[int, int] = (12
     """
     from kinematics.files.jsonio import atomic_write_bytes
 
-    atomic_write_bytes(path, image_png_bytes(render_plot_image(schedule, size, x_axis, title)))
+    fmt = image_format_for(path)
+    if fmt is None:
+        raise ValueError(f"cannot write a {Path(path).suffix} picture; expected .png or .jpg")
+    atomic_write_bytes(path, image_png_bytes(render_plot_image(schedule, size, x_axis, title),
+                                             fmt))

@@ -92,3 +92,50 @@ def test_missing_ackermann_dimension_message(tmp_path: Path) -> None:
     # Source: common practice (English article before a vowel sound)
     assert "an Ackermann chassis needs" in str(e.value)
     assert "a ackermann" not in str(e.value)
+
+
+def test_footprint_in_millimetres_gets_a_metre_hint(tmp_path: Path) -> None:
+    import json
+
+    import pytest
+
+    from kinematics.errors import ValidationError
+    from kinematics.files.project import load_project
+
+    src = Path("sample_floorplans/demo.swathe.json")
+    d = json.loads(src.read_text())
+    d["floorplan"] = str((src.parent / d["floorplan"]).resolve())
+    d["chassis"]["footprint"] = [[-350, -300], [650, -300], [650, 300], [-350, 300]]
+    p = tmp_path / "mm.swathe.json"
+    p.write_text(json.dumps(d))
+    with pytest.raises(ValidationError) as e:
+        load_project(p)
+    # Source: common practice (drawings are dimensioned in mm; 1 m = 1000 mm, SI)
+    assert "sizes are in metres; did you mean -0.35?" in str(e.value)
+    assert e.value.place == "chassis.footprint[0][0]"
+    # one large value among metre-sized ones is not the millimetre slip: no hint
+    d["chassis"]["footprint"] = [[-0.3, -0.3], [650, -0.3], [0.6, 0.3], [-0.3, 0.3]]
+    p.write_text(json.dumps(d))
+    with pytest.raises(ValidationError) as e:
+        load_project(p)
+    assert "did you mean" not in str(e.value)
+
+
+def test_render_writes_jpeg_or_refuses_other_suffixes(tmp_path: Path, capsys) -> None:
+    from app.cli import main
+
+    src = "sample_floorplans/demo.swathe.json"
+    jpg = tmp_path / "out.jpg"
+    assert main(["render", src, "-o", str(jpg), "--width", "400", "--height", "300"]) == 0
+    # Source: the JPEG standard (ITU-T T.81: SOI marker FF D8 followed by a marker FF)
+    assert jpg.read_bytes()[:3] == b"\xff\xd8\xff"
+    png = tmp_path / "OUT.PNG"
+    assert main(["render", src, "-o", str(png), "--width", "400", "--height", "300"]) == 0
+    # Source: the PNG specification (the 8-byte signature)
+    assert png.read_bytes()[:8] == b"\x89PNG\r\n\x1a\n"
+    capsys.readouterr()
+    gif = tmp_path / "out.gif"
+    assert main(["render", src, "-o", str(gif), "--width", "400", "--height", "300"]) == 2
+    err = capsys.readouterr().err.strip().splitlines()
+    assert len(err) == 1 and ".gif" in err[0] and "Traceback" not in err[0]
+    assert not gif.exists()

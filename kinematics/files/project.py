@@ -8,6 +8,7 @@ from __future__ import annotations
 
 import copy
 import dataclasses
+import math
 from dataclasses import dataclass, field
 from pathlib import Path
 from typing import Any
@@ -217,6 +218,28 @@ class Project:
                               f"no route named {name!r} (routes: {names})")
 
 
+def _refuse_millimetres(r: Reader, raw: Any, place: str) -> None:
+    """Refuse a footprint typed in millimetres (every nonzero coordinate over 100 and all of
+    them would fit as millimetres) with a hint naming the metre value of the first one."""
+    if not isinstance(raw, list) or not raw:
+        return
+    vals: list[float] = []
+    for p in raw:
+        if not (isinstance(p, list) and len(p) == 2 and all(
+                isinstance(v, (int, float)) and not isinstance(v, bool) and math.isfinite(v)
+                for v in p)):
+            return
+        vals.extend(float(v) for v in p)
+    big = [v for v in vals if v != 0.0]
+    if big and all(abs(v) > 100.0 for v in big) \
+            and all(abs(v) / 1000.0 <= MAX_BODY_M for v in big):
+        i = next(k for k, v in enumerate(vals) if v != 0.0)
+        first = vals[i]
+        raise r.fail(join(join(place, i // 2), i % 2),
+                     f"sizes are in metres; did you mean {first / 1000.0:g}? "
+                     f"(got {first:g}, which looks like millimetres)")
+
+
 # Which dimensions each drive needs (besides wheel_radius_m and footprint).
 REQUIRED = {
     "differential": ("track_m",),
@@ -257,7 +280,9 @@ def chassis_from_dict(d: Any, file: str, place: str = "chassis") -> Chassis:
         raise r.fail(join(place, "drive"), f"unknown drive {drive_raw!r}; expected one of "
                      + ", ".join(DRIVES) + " (or tracked, skid-steer)")
     fp_place = join(place, "footprint")
-    footprint = r.points(r.get(d, "footprint", place), fp_place, 3, MAX_BODY_M)
+    raw_fp = r.get(d, "footprint", place)
+    _refuse_millimetres(r, raw_fp, fp_place)
+    footprint = r.points(raw_fp, fp_place, 3, MAX_BODY_M)
     check_footprint(footprint, file, fp_place)
     vals: dict[str, Any] = {}
     for key in _POSITIVE:
@@ -338,7 +363,9 @@ def trailer_from_dict(d: Any, file: str, place: str) -> Trailer:
     drawbar = r.number(r.get(d, "drawbar_m", place), join(place, "drawbar_m"), positive=True,
                        minimum=MIN_BODY_M, maximum=MAX_BODY_M)
     fp_place = join(place, "footprint")
-    footprint = r.points(r.get(d, "footprint", place), fp_place, 3, MAX_BODY_M)
+    raw_fp = r.get(d, "footprint", place)
+    _refuse_millimetres(r, raw_fp, fp_place)
+    footprint = r.points(raw_fp, fp_place, 3, MAX_BODY_M)
     poly = check_footprint(footprint, file, fp_place)
     if not poly.contains(ShapelyPoint(0.0, 0.0)):
         raise r.fail(fp_place, "expected a footprint around the trailer's axle midpoint (the "
