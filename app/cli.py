@@ -377,7 +377,8 @@ def cmd_find(args: argparse.Namespace) -> int:
     route = project.route(args.route)
     if args.output:
         _check_output_path(args.output)
-    finder = RouteFinder(project, settings=FindSettings(time_limit_s=lim))
+    finder = RouteFinder(project, settings=FindSettings(time_limit_s=lim),
+                         chassis=project.chassis_for(route))
     res = finder.repair(route) if args.repair else finder.find(route)
     if args.json:
         sys.stdout.write(dumps({"routes": [res.to_dict()]}))

@@ -90,7 +90,8 @@ class RouteFinderActions(QObject):
         settings = FindSettings(time_limit_s=self.time_limit_s)
 
         def work(token: CancelToken) -> FindResult:
-            finder = RouteFinder(project, index, settings)
+            finder = RouteFinder(project, index, settings,
+                                 chassis=project.chassis_for(route))
 
             def progress(fraction: float, nodes: int) -> None:
                 token.report(fraction, f"Searching: {nodes} poses tried")

@@ -224,3 +224,27 @@ def test_bad_inputs_are_one_line_errors():
         with pytest.raises(ValidationError, match="time-limit"):
             RouteFinder(_project(rects, CART, ok),
                         settings=FindSettings(time_limit_s=lim)).find(ok)
+
+
+def test_a_fleet_route_is_searched_for_its_own_vehicle_and_keeps_its_keys():
+    # Source: shared/contract.md (a route's `chassis` names its fleet vehicle; `stops` index
+    # its waypoints); the found route is re-checked by the independent dense sweep above.
+    from dataclasses import replace
+
+    from kinematics.files.project import Stop
+    from kinematics.plan.search import find_route
+
+    wide = replace(DIFF, name="wide tote",
+                   footprint=((-0.5, -0.5), (0.8, -0.5), (0.8, 0.5), (-0.5, 0.5)))
+    rects = [(3.0, -3.0, 3.5, 1.2)]  # a post the route must pass beside
+    route = replace(_route([(0.0, 0.0, 0.0), (7.0, 0.0, 0.0)]), chassis="wide tote",
+                    stops=(Stop(1, 5.0),), transitions="none")
+    proj = replace(_project(rects, DIFF, route), others=(wide,))
+    res = find_route(proj, "r", FindSettings(time_limit_s=5.0))
+    assert res.found, res.reason
+    assert res.route.chassis == "wide tote" and res.route.transitions == "none"
+    assert res.route.stops == (Stop(len(res.route.waypoints) - 1, 5.0),)
+    # Clear for the wide vehicle, not only for the default one.
+    assert dense_min_distance(res, wide, rects) >= wide.margin_m - 1e-3
+    back = replace_route(proj, res.route)
+    assert back.others == (wide,) and back.chassis_for("r") == wide

@@ -48,7 +48,7 @@ import heapq
 import math
 import time
 from collections.abc import Callable, Sequence
-from dataclasses import dataclass, field
+from dataclasses import dataclass, field, replace
 
 import numpy as np
 import shapely
@@ -64,7 +64,7 @@ from kinematics.check.sweep import (
     swept_parts,
 )
 from kinematics.errors import ValidationError
-from kinematics.files.project import Chassis, Project, Route, Waypoint
+from kinematics.files.project import Chassis, Project, Route, Stop, Waypoint
 from kinematics.motion.segments import Segment, arc, holonomic_line, line, pivot, poses_along
 from kinematics.plan import dubins, reeds_shepp
 from kinematics.plan.heuristics import ClearanceGrid
@@ -240,9 +240,11 @@ class RouteFinder:
     """
 
     def __init__(self, project: Project, index: ObstacleIndex | None = None,
-                 settings: FindSettings | None = None) -> None:
+                 settings: FindSettings | None = None, chassis: Chassis | None = None) -> None:
         self.project = project
-        self.chassis = project.chassis
+        # A fleet route is searched for its own vehicle (Project.chassis_for); default the
+        # project's chassis.
+        self.chassis = chassis if chassis is not None else project.chassis
         self.file = str(project.path or "<project>")
         self.index = index if index is not None else ObstacleIndex(project.floorplan)
         self.settings = settings or FindSettings()
@@ -334,7 +336,7 @@ class RouteFinder:
         wa = Waypoint(float(a[0]), float(a[1]), math.degrees(a[2]))
         hb = None if b[2] is None else math.degrees(float(b[2]))
         wb = Waypoint(float(b[0]), float(b[1]), hb)
-        sub = Route(route.name, (wa, wb), route.turn_radius_m, route.reverse, route.extra)
+        sub = replace(route, waypoints=(wa, wb), stops=())
         pl = plan_route(sub, self.chassis)
         if any(i.kind in ("infeasible", "turn_radius") for i in pl.issues):
             return None
@@ -716,7 +718,7 @@ class RouteFinder:
                     out.append(Waypoint(p[0], p[1], math.degrees(p[2])))
             end = kept[-1]
             starts = [(w1.x, w1.y, end[2])]
-        new = Route(route.name, tuple(out), route.turn_radius_m, route.reverse, route.extra)
+        new = replace(route, waypoints=tuple(out), stops=_moved_stops(route, out))
         return self._offer(new, t0, total, searched, tuple(sorted(todo)))
 
     def _offer(self, new: Route, t0: float, total: int, searched: list, legs: tuple[int, ...],
@@ -781,7 +783,7 @@ class RouteFinder:
                 wps[k] = Waypoint(wps[k].x, wps[k].y, math.degrees(h))
             elif meets and k == n - 1 and wps[k].heading_deg is None and (n - 2) not in bad:
                 wps[k] = Waypoint(wps[k].x, wps[k].y, math.degrees(float(poses[k, 2])))
-        posed = Route(route.name, tuple(wps), route.turn_radius_m, route.reverse, route.extra)
+        posed = replace(route, waypoints=tuple(wps))
         res = self.find(posed, progress, should_stop, legs=sorted(bad), _t0=t0)
         if res.found or res.reason.startswith("no route"):
             return res
@@ -818,15 +820,31 @@ def find_route(project: Project, name: str, settings: FindSettings | None = None
                repair: bool = False) -> FindResult:
     """Find (or repair) the route ``name`` of ``project`` (see :class:`RouteFinder`)."""
     route = project.route(name)
-    finder = RouteFinder(project, settings=settings)
+    finder = RouteFinder(project, settings=settings, chassis=project.chassis_for(route))
     return finder.repair(route) if repair else finder.find(route)
 
 
 def replace_route(project: Project, route: Route) -> Project:
-    """``project`` with its route of the same name replaced by ``route``."""
+    """``project`` with its route of the same name replaced by ``route`` (fleet kept)."""
     routes = tuple(route if r.name == route.name else r for r in project.routes)
-    return Project(project.floorplan, project.chassis, routes, project.floorplan_ref,
-                   project.path, project.extra)
+    return replace(project, routes=routes)
+
+
+def _moved_stops(route: Route, out: Sequence[Waypoint]) -> tuple[Stop, ...]:
+    """The route's stops renumbered onto the found waypoints ``out``.
+
+    Every waypoint of ``route`` is in ``out`` at its own place and in order (the search
+    passes each one), so a stop follows its waypoint to the first later match of it.
+    """
+    if not route.stops:
+        return ()
+    where, j = [], 0
+    for w in route.waypoints:
+        while j < len(out) and (out[j].x, out[j].y) != (w.x, w.y):
+            j += 1
+        where.append(min(j, len(out) - 1))
+    return tuple(Stop(where[s.waypoint], s.dwell_s) for s in route.stops
+                 if 0 <= s.waypoint < len(where))
 
 
 __all__ = ["FindSettings", "FindResult", "RouteFinder", "SearchStopped", "find_route",
