@@ -140,29 +140,30 @@ FIELD_TIPS = {
 }
 FIELD_LABELS.update({"footprint": "Footprint", "drive": "Drive", "name": "Name"})
 
-#: Invented example vehicles to start from (plausible sizes, no real product).
+#: Example vehicles to start from, named for what they are (plausible sizes, no real
+#: product); the key is the menu text, the chassis name is what a project file stores.
 PRESETS: dict[str, Chassis] = {
-    "Pip 60 small tug (differential)": Chassis(
-        name="Pip 60 small tug", drive="differential",
+    "Small tug (differential)": Chassis(
+        name="small tug", drive="differential",
         footprint=((-0.22, -0.24), (0.42, -0.24), (0.42, 0.24), (-0.22, 0.24)),
         margin_m=0.05, wheel_radius_m=0.075, track_m=0.40, max_speed_mps=1.2,
         max_accel_mps2=0.6, max_wheel_rate_radps=18.0, max_lateral_accel_mps2=0.6,
         max_yaw_rate_dps=90.0),
-    "Ward cart W2 (differential)": Chassis(
-        name="Ward cart W2", drive="differential",
+    "Ward cart (differential)": Chassis(
+        name="ward cart", drive="differential",
         footprint=((-0.35, -0.30), (0.65, -0.30), (0.72, -0.22), (0.72, 0.22), (0.65, 0.30),
                    (-0.35, 0.30)),
         margin_m=0.08, wheel_radius_m=0.1, track_m=0.52, max_speed_mps=1.0,
         max_accel_mps2=0.4, max_wheel_rate_radps=12.0, max_lateral_accel_mps2=0.5,
         max_yaw_rate_dps=60.0),
-    "Dock mule PM-12 pallet mover (ackermann)": Chassis(
-        name="Dock mule PM-12", drive="ackermann",
+    "Pallet mover (Ackermann)": Chassis(
+        name="pallet mover", drive="ackermann",
         footprint=((-0.45, -0.45), (1.55, -0.45), (1.55, 0.45), (-0.45, 0.45)),
         margin_m=0.10, wheel_radius_m=0.15, track_m=0.75, wheelbase_m=1.10,
         max_steer_deg=40.0, max_speed_mps=1.5, max_accel_mps2=0.5,
         max_wheel_rate_radps=12.0, max_lateral_accel_mps2=0.8),
-    "Orbit flat carrier (mecanum)": Chassis(
-        name="Orbit flat carrier", drive="mecanum",
+    "Flat carrier (mecanum)": Chassis(
+        name="flat carrier", drive="mecanum",
         footprint=((-0.45, -0.33), (0.45, -0.33), (0.45, 0.33), (-0.45, 0.33)),
         margin_m=0.05, wheel_radius_m=0.076, track_m=0.52, wheelbase_m=0.62,
         max_speed_mps=0.8, max_accel_mps2=0.4, max_wheel_rate_radps=14.0,

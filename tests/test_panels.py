@@ -124,7 +124,7 @@ def test_form_check_names_the_field(doc):
 def test_drive_change_and_preset(doc, qtbot):
     panel = ChassisPanel(doc)
     qtbot.addWidget(panel)
-    name = next(n for n in PRESETS if "ackermann" in n)
+    name = next(n for n, c in PRESETS.items() if c.drive == "ackermann")
     i = panel.preset.findText(name)
     panel.preset.setCurrentIndex(i)
     panel.preset.activated.emit(i)
@@ -146,6 +146,23 @@ def test_presets_are_valid_chassis():
         # format accepts.
         assert chassis_from_dict(chassis_to_dict(c), name) == c
         drive_for(c)
+
+
+def test_preset_names_are_plain_descriptions():
+    # Example vehicles are named for what they are, never like a product (no model numbers,
+    # no invented brand words): every word of the chassis name is a plain lowercase word.
+    import re
+
+    from kinematics.files.project import DRIVES
+
+    assert len(PRESETS) >= 4
+    for key, c in PRESETS.items():
+        assert not re.search(r"\d", key + c.name), key
+        assert re.fullmatch(r"[a-z]+( [a-z]+)*", c.name), c.name
+        assert key.lower().startswith(c.name), (key, c.name)
+        assert c.drive in DRIVES
+    assert {"small tug", "ward cart", "pallet mover", "flat carrier"} <= {
+        c.name for c in PRESETS.values()}
 
 
 # -- results ----------------------------------------------------------------------------------
