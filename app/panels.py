@@ -18,6 +18,7 @@ from __future__ import annotations
 import dataclasses
 import math
 import re
+import time
 from collections.abc import Callable
 from pathlib import Path
 from typing import Any
@@ -56,7 +57,7 @@ from kinematics.analysis.results import (
 from kinematics.errors import SwatheInputError
 from kinematics.files.project import DRIVES, Chassis, a_drive, chassis_from_dict
 
-from .document import clearance_words
+from .document import clearance_words, new_drag_token
 from .render import (
     BAND_RGBA,
     BLUE,
@@ -385,11 +386,18 @@ class ChassisPanel(QWidget):
         Why the last edit was refused (hidden while the form is valid).
     """
 
+    #: Edits of the same fields less than this many seconds apart are one undo step.
+    BURST_S = 1.5
+
     def __init__(self, doc: Any, parent: QWidget | None = None) -> None:
         super().__init__(parent)
         self.doc = doc
         self._loading = False
         self.fields: dict[str, QDoubleSpinBox] = {}
+        self.clock: Callable[[], float] = time.monotonic
+        self._burst: int | None = None
+        self._burst_at = -math.inf
+        self._pushing = False
 
         inner = QWidget()
         lay = QVBoxLayout(inner)
@@ -509,6 +517,8 @@ class ChassisPanel(QWidget):
         self._enable_for_drive(c.drive)
         self._show_message(None)
         self.preview.set_data(list(c.footprint), c.margin_m, c, True)
+        if not self._pushing:
+            self._burst = None  # undo, redo or another project: the next edit starts afresh
 
     def _enable_for_drive(self, drive: str) -> None:
         for key, *_ in DIMENSION_FIELDS:
@@ -567,7 +577,19 @@ class ChassisPanel(QWidget):
         self._show_message(None)
         self.preview.set_data(list(c.footprint), c.margin_m, c, True)
         if c != self.doc.project.chassis:
-            self.doc.set_chassis(c)
+            self._pushing = True
+            try:
+                self.doc.set_chassis(c, burst=self._burst_key())
+            finally:
+                self._pushing = False
+
+    def _burst_key(self) -> int:
+        """The undo-merge key of this edit: kept while edits come less than BURST_S apart."""
+        now = self.clock()
+        if self._burst is None or now - self._burst_at > self.BURST_S:
+            self._burst = new_drag_token()
+        self._burst_at = now
+        return self._burst
 
     def _preview_rows(self, valid: bool) -> None:
         pts = []
@@ -617,7 +639,8 @@ class ChassisPanel(QWidget):
         name = self.preset.itemText(i)
         self.preset.setCurrentIndex(0)
         c = PRESETS[name]
-        self.doc.set_chassis(dataclasses.replace(c, extra=dict(self.doc.project.chassis.extra)))
+        self.doc.set_chassis(dataclasses.replace(c, extra=dict(self.doc.project.chassis.extra)),
+                             text=f"Use example chassis {c.name!r}")
 
 
 # -- results --------------------------------------------------------------------------------

@@ -12,6 +12,7 @@ os.environ.setdefault("QT_QPA_PLATFORM", "offscreen")
 
 import numpy as np  # noqa: E402
 import pytest  # noqa: E402
+from PySide6.QtCore import Qt  # noqa: E402
 from PySide6.QtWidgets import QTableWidgetItem  # noqa: E402
 
 from app.document import Document  # noqa: E402
@@ -56,6 +57,47 @@ def test_editing_track_is_one_undo_step(doc, qtbot):
     assert doc.project.chassis == before
     # The form follows the document back.
     assert panel.fields["track_m"].value() == pytest.approx(0.5)
+
+
+def test_a_burst_of_edits_of_one_field_is_one_undo_step(doc, qtbot):
+    # Source: common practice (text editors merge a run of typing into one undo step;
+    # QUndoCommand.mergeWith is Qt's way to do it).
+    panel = ChassisPanel(doc)
+    qtbot.addWidget(panel)
+    panel.show()
+    now = [100.0]
+    panel.clock = lambda: now[0]
+    spin = panel.fields["track_m"]
+    spin.lineEdit().selectAll()
+    qtbot.keyClicks(spin, "0.62")  # typed digit by digit, then Enter
+    qtbot.keyClick(spin, Qt.Key.Key_Return)
+    assert doc.project.chassis.track_m == pytest.approx(0.62)
+    assert doc.undo_stack.count() == 1
+    for _ in range(3):  # three quick steps of the same box with the arrow key
+        now[0] += 0.3
+        qtbot.keyClick(spin, Qt.Key.Key_Up)
+    assert doc.project.chassis.track_m == pytest.approx(0.65)
+    assert doc.undo_stack.count() == 1
+    assert doc.undo_stack.text(0) == "Change chassis track"
+    now[0] += 5.0  # a pause: the next edit is a new step
+    spin.setValue(0.7)
+    assert doc.undo_stack.count() == 2
+    now[0] += 0.1  # another field at once: a step of its own
+    panel.fields["wheel_radius_m"].setValue(0.12)
+    assert doc.undo_stack.count() == 3
+    assert doc.undo_stack.text(2) == "Change chassis wheel radius"
+    doc.undo_stack.undo()
+    doc.undo_stack.undo()
+    assert doc.project.chassis.track_m == pytest.approx(0.65)
+    doc.undo_stack.undo()
+    assert doc.project.chassis.track_m == pytest.approx(0.5)
+    assert spin.value() == pytest.approx(0.5)
+    # After an undo the next edit does not merge into anything left on the stack.
+    now[0] += 0.1
+    spin.setValue(0.55)
+    assert doc.undo_stack.count() == 1 and doc.undo_stack.index() == 1
+    doc.undo_stack.undo()
+    assert doc.project.chassis.track_m == pytest.approx(0.5)
 
 
 def test_footprint_cell_edit_and_optional_limit(doc, qtbot):
