@@ -58,6 +58,7 @@ from kinematics.errors import SwatheInputError
 from kinematics.files.project import DRIVES, Chassis, a_drive, chassis_from_dict
 
 from .document import clearance_words, new_drag_token
+from .qstyle import MESSAGE_STYLE
 from .render import (
     BAND_RGBA,
     BLUE,
@@ -68,9 +69,6 @@ from .render import (
     pen,
 )
 from .workers import Cancelled, CancelToken, Job, run_in_background
-
-MESSAGE_STYLE = ("QLabel { color: #5A1E00; background: #FFF1E0; border: 1px solid #D55E00; "
-                 "border-radius: 3px; padding: 4px; font-weight: bold; }")
 
 # -- chassis --------------------------------------------------------------------------------
 #: Which dimensions each drive uses (others are kept but greyed out).
@@ -231,6 +229,13 @@ def chassis_from_form(values: dict, footprint_rows: list[tuple[str, str]],
 
     drive_for(c, "chassis panel")
     return dataclasses.replace(c, extra=dict(extra or {}))
+
+
+def stale_words(message: str) -> str:
+    """What the results panels say while the chassis form holds a refused value."""
+    reason = message.lstrip("\u26a0 ").strip()
+    return (f"Results are out of date: the chassis form has a value Swathe refuses "
+            f"({reason}). They show the last valid chassis until the form is fixed.")
 
 
 def friendly_message(exc: SwatheInputError) -> str:
@@ -519,6 +524,7 @@ class ChassisPanel(QWidget):
         self.preview.set_data(list(c.footprint), c.margin_m, c, True)
         if not self._pushing:
             self._burst = None  # undo, redo or another project: the next edit starts afresh
+        self.doc.set_stale(None)  # the form shows the document's chassis again
 
     def _enable_for_drive(self, drive: str) -> None:
         for key, *_ in DIMENSION_FIELDS:
@@ -571,10 +577,14 @@ class ChassisPanel(QWidget):
         try:
             c = self.candidate()
         except SwatheInputError as exc:
-            self._show_message(friendly_message(exc))
+            text = friendly_message(exc)
+            self._show_message(text)
             self._preview_rows(valid="footprint" not in exc.place)
+            # The check, band and plots still show the last valid chassis: say so everywhere.
+            self.doc.set_stale(stale_words(text))
             return
         self._show_message(None)
+        self.doc.set_stale(None)
         self.preview.set_data(list(c.footprint), c.margin_m, c, True)
         if c != self.doc.project.chassis:
             self._pushing = True
@@ -664,6 +674,9 @@ def _item(text: str, align_right: bool = False, data: Any = None) -> QTableWidge
     return it
 
 
+_VERDICT_STYLE = "QLabel { color: %s; } QLabel:disabled { color: #9A9A9A; }"
+
+
 def _table(headers: list[str]) -> QTableWidget:
     t = QTableWidget(0, len(headers))
     t.setHorizontalHeaderLabels(headers)
@@ -716,6 +729,12 @@ class ResultsPanel(QWidget):
 
         lay = QVBoxLayout(self)
         lay.setContentsMargins(6, 6, 6, 6)
+        # Shown while the chassis form holds a refused value; the results below are greyed.
+        self.stale_label = QLabel()
+        self.stale_label.setWordWrap(True)
+        self.stale_label.setStyleSheet(MESSAGE_STYLE)
+        self.stale_label.hide()
+        lay.addWidget(self.stale_label)
         self.verdict = QLabel()
         self.verdict.setWordWrap(True)
         self.verdict.setTextFormat(Qt.TextFormat.PlainText)
@@ -790,7 +809,22 @@ class ResultsPanel(QWidget):
         for sig in ("chassisChanged", "routesChanged", "floorplanChanged"):
             getattr(doc, sig).connect(self._refresh_sizing_label)
         self._violation_rows: list[Any] = []
+        self._results_widgets = (self.verdict, self.detail, self.violations,
+                                 self.violation_message, self.doors, box)
+        doc.staleChanged.connect(self._show_stale)
         self.refresh()
+        self._show_stale(doc.stale_reason)
+
+    @property
+    def stale(self) -> bool:
+        """True while the results shown are not of the chassis being edited."""
+        return not self.stale_label.isHidden()
+
+    def _show_stale(self, reason: str) -> None:
+        self.stale_label.setText(reason)
+        self.stale_label.setVisible(bool(reason))
+        for w in self._results_widgets:
+            w.setEnabled(not reason)  # greyed while out of date
 
     def _route_name(self) -> str | None:
         r = self.doc.route()
@@ -830,11 +864,11 @@ class ResultsPanel(QWidget):
                    else "nothing nearby")
         if getattr(chk, "clear", False) and not vs:
             self.verdict.setText(f"\u2713 CLEAR \u2014 {mc_text}")
-            self.verdict.setStyleSheet("color: #004E7A;")
+            self.verdict.setStyleSheet(_VERDICT_STYLE % "#004E7A")
         else:
             n = len(vs)
             self.verdict.setText(f"\u2717 {n} VIOLATION{'S' if n != 1 else ''} \u2014 {mc_text}")
-            self.verdict.setStyleSheet("color: #8A3300;")
+            self.verdict.setStyleSheet(_VERDICT_STYLE % "#8A3300")
         margin = self.doc.project.chassis.margin_m
         self.detail.setText(f"Route {name}; margin kept from walls and obstacles: "
                             f"{margin * 1000:.0f} mm." + (f"\n{err}" if err else ""))

@@ -7,13 +7,14 @@ import math
 import os
 import threading
 import time
+from pathlib import Path
 
 os.environ.setdefault("QT_QPA_PLATFORM", "offscreen")
 
 import numpy as np  # noqa: E402
 import pytest  # noqa: E402
 from PySide6.QtCore import Qt  # noqa: E402
-from PySide6.QtWidgets import QTableWidgetItem  # noqa: E402
+from PySide6.QtWidgets import QApplication, QTableWidgetItem  # noqa: E402
 
 from app.document import Document  # noqa: E402
 from app.panels import PRESETS, ChassisPanel, ResultsPanel, ScheduleTable  # noqa: E402
@@ -444,3 +445,100 @@ def test_negative_least_clearance_is_told_as_an_overlap():
     assert clearance_words(-0.098) == "overlaps by 98\u00a0mm"
     assert clearance_words(0.3) == "least clearance 300\u00a0mm"
     assert clearance_words(-0.0004) == "least clearance 0\u00a0mm"
+
+
+def test_cap_labels_never_drawn_over_each_other(qtbot):
+    # Source: common practice (map and chart labelling: a label that would cover another is
+    # moved, else left out). The bicycle depot route has two turns close together, each with
+    # its lateral-acceleration cap; their names used to sit on top of one another.
+    from app.plots import PlotsPanel
+
+    REPO = Path(__file__).resolve().parents[1]
+    d = Document()
+    d.open_project(REPO / "sample_floorplans" / "depot_bicycle.swathe.json")
+    d.set_current_route(d.route_names().index("dock-3-to-aisle-2"))
+    panel = PlotsPanel(d)
+    qtbot.addWidget(panel)
+    panel.resize(1280, 230)
+    panel.show()
+    qtbot.waitExposed(panel)
+    for axis in ("time", "distance"):
+        panel.set_x_axis(axis)
+        QApplication.processEvents()
+        assert len(panel.cap_items) >= 2
+        shown = [t for t in panel.cap_items if t.isVisible()]
+        assert shown, "at least one cap is named"
+        rects = [t.sceneBoundingRect() for t in shown]
+        rects += [ln.label.sceneBoundingRect() for ln in panel.limit_lines
+                  if ln.getViewBox() is panel.speed_plot.getViewBox()]
+        for i in range(len(rects)):
+            for j in range(i + 1, len(rects)):
+                assert not rects[i].intersects(rects[j]), (axis, i, j)
+    # Zoomed in on the first cap, every name fits again.
+    t0 = panel.cap_items[0]
+    panel.speed_plot.setXRange(t0.pos().x() - 0.5, t0.pos().x() + 0.5, padding=0)
+    QApplication.processEvents()
+    assert t0.isVisible()
+
+
+def test_plots_hide_the_auto_range_button_and_have_their_own_fit(doc, qtbot):
+    from app.plots import PlotsPanel
+
+    panel = PlotsPanel(doc)
+    qtbot.addWidget(panel)
+    panel.show()
+    doc.set_current_route(1)
+    panel.refresh()
+    for plot in (panel.speed_plot, panel.rate_plot, panel.hitch_plot):
+        assert plot.buttonsHidden and not plot.autoBtn.isVisible()
+    (x0, x1), (y0, y1) = panel.speed_plot.viewRange()
+    panel.speed_plot.setXRange(x0 + 1.0, x0 + 2.0, padding=0)
+    panel.speed_plot.setYRange(0.2, 0.3, padding=0)
+    panel.fit_button.click()
+    (a0, a1), (b0, b1) = panel.speed_plot.viewRange()
+    assert (a0, a1) == pytest.approx((x0, x1)) and (b0, b1) == pytest.approx((y0, y1))
+
+
+def test_results_band_and_plots_say_they_are_stale_while_the_form_is_invalid(doc, qtbot):
+    # A drive change the form cannot yet honour (Ackermann needs a wheelbase; this chassis
+    # has none): nothing is pushed, so the check and plots still show the differential drive.
+    # Every view of the results says so, greyed with the reason, until the form is valid.
+    from app.canvas import PlanCanvas
+    from app.plots import PlotsPanel
+
+    chassis, results, plots = ChassisPanel(doc), ResultsPanel(doc), PlotsPanel(doc)
+    canvas = PlanCanvas(doc)
+    for w in (chassis, results, plots, canvas):
+        qtbot.addWidget(w)
+        w.show()
+    doc.set_current_route(0)
+    assert not (results.stale or plots.stale or canvas.stale)
+    i = chassis.drive.findData("ackermann")
+    chassis.drive.setCurrentIndex(i)
+    chassis.drive.activated.emit(i)
+    assert doc.project.chassis.drive == "differential"  # the refused form was not applied
+    reason = doc.stale_reason
+    assert "out of date" in reason and "Wheelbase" in reason
+    assert results.stale and results.stale_label.isVisible()
+    assert reason == results.stale_label.text()
+    assert not results.violations.isEnabled() and not results.verdict.isEnabled()
+    assert plots.stale and plots.stale_label.isVisible() and plots.stale_label.text() == reason
+    assert canvas.stale and canvas.stale_label.isVisible() and canvas.stale_label.text() == reason
+    assert canvas.band_item.opacity() < 0.5
+    assert all(t.opacity() < 0.5 for t in canvas.violation_labels if t.isVisible())
+    # A wheelbase and a steer angle make the form valid: the Ackermann chassis is applied and
+    # the results are current again.
+    chassis.fields["wheelbase_m"].setValue(0.8)
+    if doc.stale_reason:
+        chassis.fields["max_steer_deg"].setValue(35.0)
+    assert doc.project.chassis.drive == "ackermann"
+    assert doc.stale_reason == ""
+    assert not (results.stale or plots.stale or canvas.stale)
+    assert results.violations.isEnabled() and not results.stale_label.isVisible()
+    assert canvas.band_item.opacity() == 1.0
+    # Undo puts the form back on a valid chassis: not stale either.
+    chassis.drive.setCurrentIndex(i)
+    chassis.fields["wheelbase_m"].setValue(0.0)
+    assert results.stale
+    doc.undo_stack.undo()
+    assert not results.stale and doc.stale_reason == ""
