@@ -33,6 +33,7 @@ from PySide6.QtWidgets import (
     QLabel,
     QMainWindow,
     QMessageBox,
+    QScrollArea,
     QToolBar,
     QVBoxLayout,
     QWidget,
@@ -437,8 +438,18 @@ class MainWindow(QMainWindow):
                                   "schedule": table}
             self.chassis_dock.setWidget(chassis or _placeholder(
                 "The chassis editor is not available in this build."))
-            self.results_dock.setWidget(results or _placeholder(
-                "The results list is not available in this build."))
+            if results is not None:
+                # Scrolls rather than squeezing its tables and buttons below their size in a
+                # short window (or while the out-of-date message takes its share).
+                scroll = QScrollArea()
+                scroll.setWidgetResizable(True)
+                scroll.setFrameShape(QScrollArea.Shape.NoFrame)
+                scroll.setHorizontalScrollBarPolicy(Qt.ScrollBarPolicy.ScrollBarAlwaysOff)
+                scroll.setWidget(results)
+                self.results_dock.setWidget(scroll)
+            else:
+                self.results_dock.setWidget(_placeholder(
+                    "The results list is not available in this build."))
             if results is not None and hasattr(results, "zoomRequested"):
                 results.zoomRequested.connect(self.canvas.center_on)
             if results is not None and hasattr(results, "solidCited"):

@@ -233,9 +233,8 @@ def chassis_from_form(values: dict, footprint_rows: list[tuple[str, str]],
 
 def stale_words(message: str) -> str:
     """What the results panels say while the chassis form holds a refused value."""
-    reason = message.lstrip("\u26a0 ").strip()
-    return (f"Results are out of date: the chassis form has a value Swathe refuses "
-            f"({reason}). They show the last valid chassis until the form is fixed.")
+    reason = message.lstrip("\u26a0 ").strip().rstrip(".")
+    return f"Out of date (chassis form: {reason}); showing the last valid chassis."
 
 
 def friendly_message(exc: SwatheInputError) -> str:

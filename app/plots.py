@@ -23,6 +23,7 @@ from PySide6.QtWidgets import (
     QLabel,
     QPushButton,
     QRadioButton,
+    QSizePolicy,
     QVBoxLayout,
     QWidget,
 )
@@ -89,6 +90,7 @@ class PlotsPanel(QWidget):
         self.fit_button = QPushButton("Fit")
         self.fit_button.setToolTip("Show the whole route in both plots again")
         self.fit_button.clicked.connect(self.fit)
+        self.fit_button.setSizePolicy(QSizePolicy.Policy.Maximum, QSizePolicy.Policy.Fixed)
         bar.addWidget(self.fit_button)
         bar.addStretch(1)
         self.status = QLabel()

@@ -518,7 +518,7 @@ def test_results_band_and_plots_say_they_are_stale_while_the_form_is_invalid(doc
     chassis.drive.activated.emit(i)
     assert doc.project.chassis.drive == "differential"  # the refused form was not applied
     reason = doc.stale_reason
-    assert "out of date" in reason and "Wheelbase" in reason
+    assert "Out of date" in reason and "Wheelbase" in reason
     assert results.stale and results.stale_label.isVisible()
     assert reason == results.stale_label.text()
     assert not results.violations.isEnabled() and not results.verdict.isEnabled()
