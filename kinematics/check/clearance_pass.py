@@ -73,15 +73,27 @@ def sweep_segment(fp: Footprint, index: ObstacleIndex, margin: float, tol: float
             box = idx.door_boxes[k]
             local = SweptParts(shapely.intersection(parts, box))
             local.parts = local.parts[~shapely.is_empty(local.parts)]
-            c = math.inf
+            c, cj = math.inf, -1
             for j in idx.within(box, 0.0).tolist():
                 solid = idx.geometries[j]
                 d = local.distance(solid)
-                c = min(c, d if d > 0.0 else -overlap_depth(local.union, solid))
-            doors.append((k, c))
+                d = d if d > 0.0 else -overlap_depth(local.union, solid)
+                if d < c:
+                    c, cj = d, j
+            doors.append((k, c, cj))
     near_ = None if best_j is None else (best, best_j)
     return SegmentResult(sw, near_, tuple(hits), tuple(doors), tuple(keep_out),
                          wrong_way(seg, zones))
+
+
+def door_least_xy(res: SegmentResult, index: ObstacleIndex, k: int, j: int
+                  ) -> tuple[float, float]:
+    """Where, inside door ``k``'s box, the segment's swept region comes nearest solid ``j``."""
+    local = shapely.intersection(res.swept.parts, index.door_boxes[k])
+    local = local[~shapely.is_empty(local)]
+    solid = index.geometries[j]
+    overlap = bool(np.min(shapely.distance(local, solid)) <= 0.0)
+    return nearest_point(local, solid, overlap)
 
 
 def clearance_of(res: SegmentResult, index: ObstacleIndex) -> tuple[float, int | None]:
