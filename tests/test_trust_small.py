@@ -209,3 +209,36 @@ def test_render_writes_jpeg_or_refuses_other_suffixes(tmp_path: Path, capsys) ->
     err = capsys.readouterr().err.strip().splitlines()
     assert len(err) == 1 and ".gif" in err[0] and "Traceback" not in err[0]
     assert not gif.exists()
+
+
+def test_a_clearance_exactly_at_the_margin_keeps_it() -> None:
+    # A body set exactly `margin` from a wall face keeps the margin: the floating-point
+    # distance (e.g. 0.04999999999999998 for 0.05) must not make it a "0 mm short"
+    # violation; 2 um short is still short. Source: common practice (IEEE 754 rounding;
+    # the stated slack MARGIN_SLACK_M is 1 um, far below the 2 mm check tolerance).
+    from kinematics.check.clearance import ObstacleIndex, check_route
+    from kinematics.check.sweep import MARGIN_SLACK_M
+    from kinematics.files.floorplan import FloorPlan, Wall
+    from kinematics.files.project import Chassis
+    from kinematics.motion.segments import line
+
+    assert MARGIN_SLACK_M == 1e-6
+    seen_rounded = 0
+    for hw in (0.3, 0.35, 0.21):
+        for m in (0.05, 0.1, 0.03, 0.07):
+            for y0 in (0.0, 0.1, 1.3, 10.1):
+                for t in (0.1, 0.15, 0.2):
+                    fp = ((-0.3, -hw), (0.6, -hw), (0.6, hw), (-0.3, hw))
+                    for short in (0.0, 2e-6):
+                        wy = y0 + hw + m - short + t / 2
+                        plan = FloorPlan(walls=(Wall(((-5, wy), (25, wy)), t),))
+                        c = check_route([line((0, y0, 0), 10.0)],
+                                        Chassis(footprint=fp, margin_m=m),
+                                        ObstacleIndex(plan))
+                        if short == 0.0:
+                            seen_rounded += c.min_clearance_m < m
+                            assert c.clear, (hw, m, y0, t, c.min_clearance_m)
+                        else:
+                            assert not c.clear
+                            assert c.violations[0].kind == "clearance"
+    assert seen_rounded > 0  # the rounding this guards against does happen here

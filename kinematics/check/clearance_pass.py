@@ -26,7 +26,13 @@ from shapely.geometry import Point
 from kinematics.check.contact import nearest_point, overlap_depth
 from kinematics.check.obstacles import ObstacleIndex
 from kinematics.check.segment_parts import SegmentResult, SweptParts, cache_key
-from kinematics.check.sweep import Footprint, placed_footprints, swept_parts, travel_m
+from kinematics.check.sweep import (
+    MARGIN_SLACK_M,
+    Footprint,
+    placed_footprints,
+    swept_parts,
+    travel_m,
+)
 from kinematics.check.violations import Hit, locate_hit
 from kinematics.check.zones import wrong_way
 from kinematics.motion.arrays import unique_sorted
@@ -57,9 +63,9 @@ def sweep_segment(fp: Footprint, index: ObstacleIndex, margin: float, tol: float
             if c < best:
                 best, best_j = c, j
             if rule is not None and c > 0.0:
-                if rule.of_union(parts, solid).short_m > 0.0:
+                if rule.of_union(parts, solid).short_m > MARGIN_SLACK_M:
                     hits.append(locate_hit(fp, idx, margin, tol, seg, sw, j, c, rule))
-            elif c < margin:
+            elif c < margin - MARGIN_SLACK_M:
                 hits.append(locate_hit(fp, idx, margin, tol, seg, sw, j, c))
     keep_out = []
     for k in zones.keep_out.touching(parts):

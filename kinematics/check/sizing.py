@@ -32,7 +32,12 @@ from shapely.geometry.base import BaseGeometry
 from kinematics.check.contact import overlap_depth
 from kinematics.check.obstacles import DOOR_BOX_M, ObstacleIndex
 from kinematics.check.results import RouteCheck
-from kinematics.check.sweep import DEFAULT_TOLERANCE_M, prepare_footprint, swept_segment
+from kinematics.check.sweep import (
+    DEFAULT_TOLERANCE_M,
+    MARGIN_SLACK_M,
+    prepare_footprint,
+    swept_segment,
+)
 from kinematics.motion.segments import Segment
 
 #: Stop bisecting when the bracket is this narrow, metres.
@@ -111,7 +116,7 @@ def clears(footprint: Any, segments: Sequence[Segment], index: ObstacleIndex, ma
         piece = swept_segment(fp, segments[i], tolerance_m)
         near = index.within(piece, margin_m)
         if len(near) and float(np.min(shapely.distance(piece, index.geometries[near]))) \
-                < margin_m:
+                < margin_m - MARGIN_SLACK_M:
             if order is not None:
                 if i in order:
                     order.remove(i)
@@ -369,12 +374,12 @@ def door_widths_needed(plan_or_segments: Any, chassis: Any, index: ObstacleIndex
             return d if d > 0.0 else -overlap_depth(local_geom, solid)
 
         lo, hi = 0.0, w0 + MAX_DOOR_WIDENING_M
-        if clearance(hi) < margin:
+        if clearance(hi) < margin - MARGIN_SLACK_M:
             out.append(DoorWidth(index.door_label(k), k, w0, None))
         else:
             while hi - lo > RESOLUTION_M:
                 mid = 0.5 * (lo + hi)
-                if clearance(mid) >= margin:
+                if clearance(mid) >= margin - MARGIN_SLACK_M:
                     hi = mid
                 else:
                     lo = mid

@@ -45,6 +45,7 @@ from kinematics.check.segment_parts import SweptParts
 from kinematics.check.sweep import (
     _QUAD_SEGS,
     DEFAULT_TOLERANCE_M,
+    MARGIN_SLACK_M,
     MAX_CHUNK_RAD,
     Footprint,
     _place_one,
@@ -280,7 +281,7 @@ def _trailer_hits(chunks: Sequence[Chunk], index: ObstacleIndex, margin: float
         c = float(np.min(shapely.distance(ck.parts, solid)))
         if c <= 0.0:
             c = -overlap_depth(SweptParts(ck.parts).union, solid)
-        if c < margin:
+        if c < margin - MARGIN_SLACK_M:
             hits.append(_BodyHit(key[0], j, c))
         if c < best:
             best, best_k, best_j = c, key[0], j
