@@ -250,6 +250,9 @@ class MainWindow(QMainWindow):
                 ("circle", "Draw circle", "C", "Click the centre, then a point on the rim (C)"),
                 ("door", "Place door", "D", "Click the two jambs; they snap to wall ends (D)"),
                 ("measure", "Measure distance", "M", "Click two points (M)"),
+                ("zone", "Draw zone", "Z", "Click the zone's corners; double-click or Enter "
+                 "ends it, then give its kind (keep out, slow, margin, one way), its number "
+                 "and label (Z)"),
                 ("gap", "Gap between elements", "G", "Click two walls, obstacles, doors or "
                  "zones (G)")):
             a = QAction(text, self, checkable=True)
@@ -265,6 +268,10 @@ class MainWindow(QMainWindow):
         self.act_relabel = self._act("Re&label plan element...",
                                      lambda: self.canvas.plan_gestures.relabel(), None,
                                      "A new label for the selected obstacle, door or zone")
+        self.act_edit_zone = self._act("Edit &zone rule...",
+                                       lambda: self.canvas.plan_gestures.edit_zone(), None,
+                                       "Change the selected zone's kind, speed cap, margin, "
+                                       "direction or label")
         self.thickness_spin = QDoubleSpinBox()
         self.thickness_spin.setRange(0.01, 2.0)
         self.thickness_spin.setDecimals(3)
@@ -299,11 +306,13 @@ class MainWindow(QMainWindow):
         e.addAction(self.act_delete)
         e.addAction(self.act_clear_heading)
         e.addAction(self.act_relabel)
+        e.addAction(self.act_edit_zone)
         pm = mb.addMenu("&Plan")
         for a in self.plan_mode_actions.values():
             pm.addAction(a)
         pm.addSeparator()
         pm.addAction(self.act_relabel)
+        pm.addAction(self.act_edit_zone)
         v = mb.addMenu("&View")
         v.addAction(self.act_fit)
         v.addAction(self.act_band)
@@ -339,11 +348,6 @@ class MainWindow(QMainWindow):
         tools.setObjectName("tools")
         tools.addAction(self.act_select)
         tools.addAction(self.act_add)
-        tools.addSeparator()
-        for a in self.plan_mode_actions.values():
-            tools.addAction(a)
-        tools.addWidget(QLabel(" wall "))
-        tools.addWidget(self.thickness_spin)
         tools.addSeparator()
         tools.addAction(self.act_fit)
         tools.addAction(self.act_undo)
@@ -391,6 +395,22 @@ class MainWindow(QMainWindow):
         self.transitions_check.clicked.connect(self._transitions_edited)
         bar.addWidget(self.transitions_check)
         self.addToolBar(bar)
+        # The plan tools on a row of their own: on one row with the rest they overflowed
+        # behind a ">>" button in windows up to ~1400 px wide.
+        self.addToolBarBreak()
+        plan = QToolBar("Plan tools", self)
+        plan.setObjectName("plan_tools")
+        plan.addWidget(QLabel(" Plan "))
+        for a in self.plan_mode_actions.values():
+            plan.addAction(a)
+        plan.addWidget(QLabel(" wall "))
+        plan.addWidget(self.thickness_spin)
+        plan.addSeparator()
+        plan.addAction(self.act_relabel)
+        plan.addAction(self.act_edit_zone)
+        self.act_relabel.setIconText("Relabel")
+        self.act_edit_zone.setIconText("Zone rule")
+        self.addToolBar(plan)
 
     def _dock(self, title: str, name: str, widget: QWidget,
               area: Qt.DockWidgetArea) -> QDockWidget:
@@ -418,6 +438,9 @@ class MainWindow(QMainWindow):
         self._later_panels: dict[str, QWidget | None] | None = None
         self.chassis_dock = self._dock("Chassis", "chassis", QWidget(), L)
         self.results_dock = self._dock("Check results", "results", QWidget(), R)
+        self.legend_dock = self._dock("Legend", "legend", QWidget(), R)
+        self.tabifyDockWidget(self.results_dock, self.legend_dock)
+        self.results_dock.raise_()
         self.plots_dock = self._dock("Speed and wheel rates", "plots", QWidget(), B)
         self.schedule_dock = self._dock("Schedule", "schedule", QWidget(), B)
         self.tabifyDockWidget(self.plots_dock, self.schedule_dock)
@@ -434,8 +457,11 @@ class MainWindow(QMainWindow):
             results = self._panel("panels", "ResultsPanel")
             plots = self._panel("plots", "PlotsPanel")
             table = self._panel("panels", "ScheduleTable")
+            legend = self._panel("legend", "LegendPanel")
             self._later_panels = {"chassis": chassis, "results": results, "plots": plots,
-                                  "schedule": table}
+                                  "schedule": table, "legend": legend}
+            self.legend_dock.setWidget(legend or _placeholder(
+                "The legend is not available in this build."))
             self.chassis_dock.setWidget(chassis or _placeholder(
                 "The chassis editor is not available in this build."))
             if results is not None:
