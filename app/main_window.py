@@ -33,7 +33,6 @@ from PySide6.QtWidgets import (
     QLabel,
     QMainWindow,
     QMessageBox,
-    QScrollArea,
     QToolBar,
     QVBoxLayout,
     QWidget,
@@ -115,6 +114,12 @@ class DxfImportDialog(QDialog):
         return opts
 
 
+def _keys(action: QAction) -> str:
+    """The action's shortcuts as the user types them ("Ctrl+Shift+O"), or "" if none."""
+    return ", ".join(k.toString(QKeySequence.SequenceFormat.NativeText)
+                     for k in action.shortcuts())
+
+
 def _placeholder(text: str) -> QWidget:
     w = QLabel(text)
     w.setAlignment(Qt.AlignmentFlag.AlignCenter)
@@ -166,6 +171,8 @@ class MainWindow(QMainWindow):
         d.projectReplaced.connect(self._refresh_route_bar)
         d.chassisChanged.connect(self._refresh_route_bar)  # the transitions default follows it
         d.resultsChanged.connect(self._refresh_summary)
+        # A message about the project before ("Opened demo.swathe.json") no longer holds.
+        d.projectReplaced.connect(self.statusBar().clearMessage)
         d.currentRouteChanged.connect(lambda _i: self._refresh_summary())
         self.canvas.cursorMoved.connect(self._cursor)
         self.canvas.hoverInfo.connect(self._hover)
@@ -464,18 +471,8 @@ class MainWindow(QMainWindow):
                 "The legend is not available in this build."))
             self.chassis_dock.setWidget(chassis or _placeholder(
                 "The chassis editor is not available in this build."))
-            if results is not None:
-                # Scrolls rather than squeezing its tables and buttons below their size in a
-                # short window (or while the out-of-date message takes its share).
-                scroll = QScrollArea()
-                scroll.setWidgetResizable(True)
-                scroll.setFrameShape(QScrollArea.Shape.NoFrame)
-                scroll.setHorizontalScrollBarPolicy(Qt.ScrollBarPolicy.ScrollBarAlwaysOff)
-                scroll.setWidget(results)
-                self.results_dock.setWidget(scroll)
-            else:
-                self.results_dock.setWidget(_placeholder(
-                    "The results list is not available in this build."))
+            self.results_dock.setWidget(results or _placeholder(
+                "The results list is not available in this build."))
             if results is not None and hasattr(results, "zoomRequested"):
                 results.zoomRequested.connect(self.canvas.center_on)
             if results is not None and hasattr(results, "solidCited"):
@@ -517,13 +514,27 @@ class MainWindow(QMainWindow):
         self.hover_text = ""
 
     # -- status -----------------------------------------------------------------------------
+    #: Pixels kept free between the hover read-out and the summary on the right.
+    STATUS_GAP_PX = 16
+
+    def status_room_px(self) -> int:
+        """How wide a status message may be without running into the summary."""
+        sb = self.statusBar()
+        right = min([w.x() for w in (self.summary_label, self.cursor_label) if w.isVisible()]
+                    or [sb.width()])
+        return max(0, right - 8 - self.STATUS_GAP_PX)  # Qt starts messages 6 px in
+
     def _hover(self, text: str) -> None:
         self.hover_text = text
+        shown = text
         if text:
-            self.statusBar().showMessage(text)
+            # Cut with an ellipsis where the summary starts (the canvas's tooltip has it all).
+            shown = self.statusBar().fontMetrics().elidedText(
+                text, Qt.TextElideMode.ElideRight, self.status_room_px())
+            self.statusBar().showMessage(shown)
         elif self.statusBar().currentMessage() == self._last_hover_shown:
             self.statusBar().clearMessage()
-        self._last_hover_shown = text
+        self._last_hover_shown = shown
 
     def _cursor(self, x: float, y: float) -> None:
         self.cursor_label.setText(f"x {x:8.2f} m   y {y:8.2f} m")
@@ -957,6 +968,9 @@ class MainWindow(QMainWindow):
     def _menu_new(self) -> None:
         if self.confirm_discard():
             self.doc.new_project()
+            self.statusBar().showMessage(
+                f"New project: open a floor plan ({_keys(self.act_open_plan)}) or draw walls, "
+                f"then press {_keys(self.act_add)} to add a route.", 8000)
 
     def _menu_open(self) -> None:
         if not self.confirm_discard():
