@@ -68,7 +68,7 @@ from .palette import (  # noqa: F401 - re-exported for the report and tests
     WALL_FILL,
     YELLOW,
 )
-from .qstyle import hatch_brush, marker_path, qbrush, qpen
+from .qstyle import marker_path, paint_area, paint_area_sample, qbrush, qpen
 from .scene import (  # noqa: F401 - the geometry helpers are re-exported for older callers
     FAINT_INK,
     INK,
@@ -79,6 +79,7 @@ from .scene import (  # noqa: F401 - the geometry helpers are re-exported for ol
     VIOLATION_R_PX,
     VIOLATION_SHAPES,
     WAYPOINT_R_PX,
+    ZONE_ARROW_STEP_PX,
     floorplan_layer,
     legend_rows,
     outline_poses,
@@ -87,8 +88,8 @@ from .scene import (  # noqa: F401 - the geometry helpers are re-exported for ol
     sample_path,
     swept_geometry,
     violation_layer,
+    zone_layer,
 )
-from .zone_paint import ZONE_STYLE, ZONE_WORDS, draw_zone_sample, draw_zones, zone_caption
 
 #: The swept band, as the scene styles it.
 BAND_RGBA = (*(int(STYLES["band"].fill.colour[i:i + 2], 16) for i in (1, 3, 5)),
@@ -155,19 +156,10 @@ def draw_marker(p: QPainter, kind: str, centre: QPointF, r: float) -> None:
 
 
 def _paint_polygons(p: QPainter, view: _View, role: str, geoms: list, u: float) -> None:
-    st = STYLES[role]
-    hatch = hatch_brush(st.fill)
-    p.setPen(qpen(st.stroke, 1.0 if role in ("wall", "obstacle") else u))
-    p.setBrush(qbrush(st.fill))
+    # The plan's outlines keep their pixel width at any size, as on the canvas.
+    scale = 1.0 if role in ("wall", "obstacle") or role.startswith("zone_") else u
     for g in geoms:
-        path = view.geometry_path(g)
-        p.drawPath(path)
-        if hatch is not None:
-            p.setPen(Qt.PenStyle.NoPen)
-            p.setBrush(hatch)
-            p.drawPath(path)
-            p.setPen(qpen(st.stroke))
-            p.setBrush(qbrush(st.fill))
+        paint_area(p, STYLES[role], view.geometry_path(g), scale)
 
 
 def _paint_line(p: QPainter, view: _View, line: Any, u: float) -> None:
@@ -182,7 +174,7 @@ def _paint_marker(p: QPainter, view: _View, m: Any, u: float) -> QRectF:
     r = m.r_px * u
     p.setPen(qpen(m.stroke or st.stroke, u))
     p.setBrush(qbrush(st.fill))
-    p.drawPath(marker_path(m.shape, c, r))
+    p.drawPath(marker_path(m.shape, c, r, m.angle_rad))
     box = QRectF(c.x() - r, c.y() - r, 2 * r, 2 * r)
     if m.text:
         p.setPen(QColor(st.ink))
@@ -437,7 +429,11 @@ def _draw(p: QPainter, project: Any, plans: dict, checks: dict, route_name: str 
     _draw_grid(p, view, plan_rect, u)
     # Zones, then the swept bands under the walls as in the window, so paths, outlines and
     # markers sit on top of them.
-    draw_zones(p, project.floorplan.zones, view.pt, view.scale, u)
+    zones = zone_layer(project.floorplan.zones, ZONE_ARROW_STEP_PX * u / view.scale)
+    for poly in zones.polygons:
+        _paint_polygons(p, view, poly.role, poly.geoms, u)
+    for mk in zones.markers:
+        _paint_marker(p, view, mk, u)
     p.setPen(Qt.PenStyle.NoPen)
     p.setBrush(qbrush(STYLES["band"].fill))
     for g in bands.values():
@@ -447,7 +443,7 @@ def _draw(p: QPainter, project: Any, plans: dict, checks: dict, route_name: str 
     for poly in plan_layer.polygons:
         _paint_polygons(p, view, poly.role, poly.geoms, u)
     _obstacle_labels(p, view, plan_layer, u, labels)
-    _zone_captions(p, view, project.floorplan.zones, u, labels)
+    _zone_captions(p, view, zones, u, labels)
     # Doors with the plan, under the routes (as in the window, where the route being edited
     # lies over them).
     for line in plan_layer.lines:
@@ -712,41 +708,32 @@ def _draw_title(p: QPainter, project: Any, plans: dict, checks: dict, route_name
                fms.elidedText(sub, Qt.TextElideMode.ElideRight, left.width()))
 
 
-def _zone_captions(p: QPainter, view: _View, zones: Sequence[Any], u: float,
-                   labels: _Labels) -> None:
-    """Each zone's label and number inside it, where it fits and nothing is there yet."""
-    from shapely.geometry import Polygon
-
+def _zone_captions(p: QPainter, view: _View, layer: Any, u: float, labels: _Labels) -> None:
+    """Each zone's name and number inside it, where it fits and nothing is there yet."""
     f = font(10.5 * u)
     fm = QFontMetricsF(f)
     p.setFont(f)
-    for z in zones:
-        poly = Polygon(z.points)
-        if not poly.is_valid or poly.area <= 0:
-            continue
-        text = zone_caption(z)
-        c = poly.representative_point()
+    st = STYLES["zone_label"]
+    for lb in layer.labels:
         # Near the zone's top edge, where a route through its middle leaves it readable.
-        top = view.pt(c.x, poly.bounds[3])
-        r = QRectF(0, 0, fm.horizontalAdvance(text) + 6, fm.height())
+        top = view.pt(lb.x, lb.y)
+        r = QRectF(0, 0, fm.horizontalAdvance(lb.text) + 6, fm.height())
         r.moveCenter(QPointF(top.x(), top.y() + 4 * u + fm.height() / 2))
-        if not view.pt(c.x, poly.bounds[1]).y() - top.y() > 2 * fm.height():
-            r.moveCenter(view.pt(c.x, c.y))
+        if not (lb.inside_m or 0.0) * view.scale > 2 * fm.height() and lb.centre:
+            r.moveCenter(view.pt(*lb.centre))
         if not labels.bounds.contains(r):
             continue
         labels.block(r)
         p.setPen(Qt.PenStyle.NoPen)
-        p.setBrush(QBrush(qcolor("#FFFFFF", 215)))
+        p.setBrush(qbrush(st.fill))
         p.drawRect(r)
-        p.setPen(QColor(ZONE_STYLE[z.kind][0]).darker(140))
-        p.drawText(r, Qt.AlignmentFlag.AlignCenter, text)
+        p.setPen(QColor(lb.ink or st.ink))
+        p.drawText(r, Qt.AlignmentFlag.AlignCenter, lb.text)
 
 
 def _draw_legend(p: QPainter, rect: QRectF, names: Sequence[str], index_of: dict, checks: dict,
                  u: float, f: QFont, f_small: QFont, zones: Sequence[Any] = ()) -> None:
-    zone_rows = [("zone", ZONE_WORDS[kind], kind) for kind in ZONE_STYLE
-                 if any(z.kind == kind for z in zones)]
-    rows = legend_rows(names, checks, index_of, zone_rows)
+    rows = legend_rows(names, checks, index_of, zones=zones)
     row_h = 25 * u
     head_h = 28 * u
     needed = head_h + row_h * len(rows) + 10 * u
@@ -768,16 +755,9 @@ def _draw_legend(p: QPainter, rect: QRectF, names: Sequence[str], index_of: dict
         x0 = box.left() + 10 * u
         sample = QRectF(x0, cy - 7 * u, sw, 14 * u)
         if kind in ("wall", "obstacle"):
-            st = STYLES[kind]
-            p.setPen(qpen(st.stroke))
-            p.setBrush(qbrush(st.fill))
-            p.drawRect(sample)
-            hatch = hatch_brush(st.fill)
-            if hatch is not None:
-                p.setBrush(hatch)
-                p.drawRect(sample)
+            paint_area_sample(p, STYLES[kind], sample)
         elif kind == "zone":
-            draw_zone_sample(p, arg, sample)
+            paint_area_sample(p, STYLES["zone_" + arg], sample)
         elif kind == "door":
             p.setPen(qpen(STYLES["door"].stroke, u))
             p.drawLine(QPointF(x0, cy), QPointF(x0 + sw, cy))
