@@ -46,6 +46,7 @@ from PySide6.QtWidgets import (
     QGraphicsRectItem,
     QGraphicsSimpleTextItem,
     QInputDialog,
+    QLabel,
     QMenu,
     QVBoxLayout,
     QWidget,
@@ -69,7 +70,7 @@ from .palette import (  # noqa: F401 - the whole set, as other views import it f
     YELLOW,
 )
 from .plan_tools import element_at
-from .qstyle import hatch_brush, marker_path, qbrush, qpen
+from .qstyle import MESSAGE_STYLE, hatch_brush, marker_path, qbrush, qpen
 from .scene import (
     JAMB_R_PX,
     STYLES,
@@ -512,8 +513,18 @@ class PlanCanvas(QWidget):
             ax.setCacheMode(QGraphicsItem.CacheMode.DeviceCoordinateCache)
         pi.setLabel("bottom", "x", units="m")
         pi.setLabel("left", "y", units="m")
+        # pyqtgraph's auto-range "A" button would sit beside the A (add waypoints) key's
+        # meaning; View > Fit to plan (F) is the canvas's own fit control.
+        pi.hideButtons()
         lay = QVBoxLayout(self)
         lay.setContentsMargins(0, 0, 0, 0)
+        lay.setSpacing(0)
+        # Shown while the chassis form holds a refused value: the band is greyed below it.
+        self.stale_label = QLabel()
+        self.stale_label.setWordWrap(True)
+        self.stale_label.setStyleSheet(MESSAGE_STYLE)
+        self.stale_label.hide()
+        lay.addWidget(self.stale_label)
         lay.addWidget(self.plot)
         self._build_items()
 
@@ -529,6 +540,7 @@ class PlanCanvas(QWidget):
         doc.edited.connect(self.refresh_routes)
         doc.currentRouteChanged.connect(self._current_changed)
         doc.projectReplaced.connect(self._project_replaced)
+        doc.staleChanged.connect(self.set_stale)
 
         self._delete_action = QAction("Delete waypoint", self)
         self._delete_action.setShortcuts([QKeySequence.StandardKey.Delete,
@@ -845,6 +857,23 @@ class PlanCanvas(QWidget):
         self.refresh_routes()
         self.fit()
 
+    #: Opacity of the band, outlines and violations while they are out of date.
+    STALE_OPACITY = 0.3
+
+    def set_stale(self, reason: str) -> None:
+        """Grey the results drawn (band, outlines, violations) and say why, or undo that."""
+        self.stale_label.setText(reason)
+        self.stale_label.setVisible(bool(reason))
+        op = self.STALE_OPACITY if reason else 1.0
+        for it in (self.band_item, self.outlines_item, self.violations_item,
+                   *self.violation_labels):
+            it.setOpacity(op)
+
+    @property
+    def stale(self) -> bool:
+        """True while the band and violations drawn are of an older chassis."""
+        return self.band_item.opacity() < 1.0
+
     def _current_changed(self, _i: int) -> None:
         self.selected = -1
         self.selectionChanged.emit(-1)
@@ -1077,6 +1106,7 @@ class PlanCanvas(QWidget):
         taken = [(v.x - half, v.y - half, v.x + half, v.y + half) for v in vs]
         taken += [_plan_box(t, px) for t in self.plan_labels if t.isVisible()]
         for t, v in zip(labels, shown):
+            t.setOpacity(self.band_item.opacity())  # greyed with the band while stale
             t.setFill(qbrush(lst.fill))
             t.setPen(qpen(lst.stroke, cosmetic=True))
             _set_text(t, v.text)

@@ -33,6 +33,7 @@ from PySide6.QtWidgets import (
     QLabel,
     QMainWindow,
     QMessageBox,
+    QScrollArea,
     QToolBar,
     QVBoxLayout,
     QWidget,
@@ -360,6 +361,13 @@ class MainWindow(QMainWindow):
         self.act_route_new.setToolTip("Add a route with two waypoints in the middle of the view")
         self.act_route_rename = bar.addAction("Rename...", self._menu_rename_route)
         self.act_route_remove = bar.addAction("Remove", self._remove_route)
+        self.act_route_remove.setToolTip("Remove the current route (Undo restores it)")
+        # The same three in the Route menu, above the route finder.
+        menu = self.route_finder.menu
+        first = menu.actions()[0] if menu.actions() else None
+        menu.insertActions(first, [self.act_route_new, self.act_route_rename,
+                                   self.act_route_remove])
+        menu.insertSeparator(first)
         bar.addSeparator()
         bar.addWidget(QLabel(" Turn radius "))
         self.radius_spin = QDoubleSpinBox()
@@ -430,8 +438,18 @@ class MainWindow(QMainWindow):
                                   "schedule": table}
             self.chassis_dock.setWidget(chassis or _placeholder(
                 "The chassis editor is not available in this build."))
-            self.results_dock.setWidget(results or _placeholder(
-                "The results list is not available in this build."))
+            if results is not None:
+                # Scrolls rather than squeezing its tables and buttons below their size in a
+                # short window (or while the out-of-date message takes its share).
+                scroll = QScrollArea()
+                scroll.setWidgetResizable(True)
+                scroll.setFrameShape(QScrollArea.Shape.NoFrame)
+                scroll.setHorizontalScrollBarPolicy(Qt.ScrollBarPolicy.ScrollBarAlwaysOff)
+                scroll.setWidget(results)
+                self.results_dock.setWidget(scroll)
+            else:
+                self.results_dock.setWidget(_placeholder(
+                    "The results list is not available in this build."))
             if results is not None and hasattr(results, "zoomRequested"):
                 results.zoomRequested.connect(self.canvas.center_on)
             if results is not None and hasattr(results, "solidCited"):
@@ -592,8 +610,14 @@ class MainWindow(QMainWindow):
             self.rename_route(name.strip())
 
     def _remove_route(self) -> None:
-        if self.doc.route() is not None:
-            self.doc.remove_route(self.doc.current_route)
+        r = self.doc.route()
+        if r is None:
+            return
+        # Undoable, so no question first; the status says what went and how to get it back.
+        self.doc.remove_route(self.doc.current_route)
+        key = self.act_undo.shortcut().toString(QKeySequence.SequenceFormat.NativeText)
+        self.statusBar().showMessage(f"Removed route {r.name!r}; {key or 'Undo'} restores it",
+                                     10000)
 
     def _radius_edited(self) -> None:
         r = self.doc.route()

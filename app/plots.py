@@ -17,8 +17,18 @@ from typing import Any
 import numpy as np
 import pyqtgraph as pg
 from PySide6.QtCore import Qt, QTimer
-from PySide6.QtWidgets import QButtonGroup, QHBoxLayout, QLabel, QRadioButton, QVBoxLayout, QWidget
+from PySide6.QtWidgets import (
+    QButtonGroup,
+    QHBoxLayout,
+    QLabel,
+    QPushButton,
+    QRadioButton,
+    QSizePolicy,
+    QVBoxLayout,
+    QWidget,
+)
 
+from .qstyle import MESSAGE_STYLE
 from .render import BLUE, FAINT_INK, LIMIT_WORDS, VERMILLION, WHEEL_COLOURS, WHEEL_STYLES
 
 HEADROOM = 1.65  # y range above the largest value: room for the legend and limit labels
@@ -59,6 +69,7 @@ class PlotsPanel(QWidget):
         self.x_axis = "time"
         self.limit_lines: list[pg.InfiniteLine] = []
         self.cap_labels: list[str] = []
+        self.cap_items: list[pg.TextItem] = []
         self._extra_items: list[tuple[pg.PlotItem, Any]] = []
 
         lay = QVBoxLayout(self)
@@ -74,11 +85,24 @@ class PlotsPanel(QWidget):
         self.by_time.toggled.connect(self._axis_toggled)
         bar.addWidget(self.by_time)
         bar.addWidget(self.by_distance)
+        # The plots' own fit control (pyqtgraph's "A" buttons are hidden: that letter is the
+        # add-waypoints key on the plan).
+        self.fit_button = QPushButton("Fit")
+        self.fit_button.setToolTip("Show the whole route in both plots again")
+        self.fit_button.clicked.connect(self.fit)
+        self.fit_button.setSizePolicy(QSizePolicy.Policy.Maximum, QSizePolicy.Policy.Fixed)
+        bar.addWidget(self.fit_button)
         bar.addStretch(1)
         self.status = QLabel()
         self.status.setStyleSheet(f"color: {FAINT_INK};")
         bar.addWidget(self.status)
         lay.addLayout(bar)
+        # Shown while the chassis form holds a refused value: the plots are greyed under it.
+        self.stale_label = QLabel()
+        self.stale_label.setWordWrap(True)
+        self.stale_label.setStyleSheet(MESSAGE_STYLE)
+        self.stale_label.hide()
+        lay.addWidget(self.stale_label)
 
         self.graphics = pg.GraphicsLayoutWidget()
         self.graphics.setBackground("w")
@@ -98,6 +122,8 @@ class PlotsPanel(QWidget):
         self.hitch_legend = self.hitch_plot.addLegend(offset=(8, 4), labelTextColor="#222222",
                                                       brush=(255, 255, 255, 90), colCount=4)
         self.hitch_plot.hide()
+        for plot in (self.speed_plot, self.rate_plot, self.hitch_plot):
+            plot.hideButtons()
         for plot, label, unit in ((self.speed_plot, "speed", "m/s"),
                                   (self.rate_plot, "wheel rate", "rad/s")):
             plot.showGrid(x=True, y=True, alpha=0.25)
@@ -116,6 +142,9 @@ class PlotsPanel(QWidget):
         for legend in (self.speed_legend, self.rate_legend):
             legend.anchor(itemPos=(0.5, 0.0), parentPos=(0.5, 0.0), offset=(0, 2))
         lay.addWidget(self.graphics, 1)
+        vb = self.speed_plot.getViewBox()
+        vb.sigRangeChanged.connect(self.place_cap_labels)
+        vb.sigResized.connect(self.place_cap_labels)
         self.side_by_side = False
 
         self._timer = QTimer(self)
@@ -125,7 +154,30 @@ class PlotsPanel(QWidget):
         for sig in ("resultsChanged", "projectReplaced"):
             getattr(doc, sig).connect(self._timer.start)
         doc.currentRouteChanged.connect(lambda _i: self._timer.start())
+        doc.staleChanged.connect(self.set_stale)
+        self._ranges: list[tuple[pg.PlotItem, tuple[float, float], tuple[float, float] | None]] = []
         self.refresh()
+        self.set_stale(doc.stale_reason)
+
+    STALE_OPACITY = 0.3
+
+    @property
+    def stale(self) -> bool:
+        """True while the curves are of an older chassis than the form shows."""
+        return self.graphics.ci.opacity() < 1.0
+
+    def set_stale(self, reason: str) -> None:
+        """Grey the plots and say why (the chassis form holds a refused value), or undo it."""
+        self.stale_label.setText(reason)
+        self.stale_label.setVisible(bool(reason))
+        self.graphics.ci.setOpacity(self.STALE_OPACITY if reason else 1.0)
+
+    def fit(self) -> None:
+        """Back to the ranges the last refresh chose (the whole route, room for the labels)."""
+        for plot, yr, xr in self._ranges:
+            plot.setYRange(*yr, padding=0)
+            if xr is not None:
+                plot.setXRange(*xr, padding=0.01)
 
     def resizeEvent(self, ev) -> None:  # noqa: N802 - Qt's name
         super().resizeEvent(ev)
@@ -161,6 +213,16 @@ class PlotsPanel(QWidget):
             legend.clear()
         self.limit_lines = []
         self.cap_labels = []
+        self.cap_items = []
+        self._ranges = []
+
+    def _set_range(self, plot: pg.PlotItem, y: tuple[float, float],
+                   x: tuple[float, float] | None = None) -> None:
+        """Set ``plot``'s range and keep it for :meth:`fit`."""
+        self._ranges.append((plot, y, x))
+        plot.setYRange(*y, padding=0)
+        if x is not None:
+            plot.setXRange(*x, padding=0.01)
 
     def refresh(self) -> None:
         self._clear()
@@ -204,7 +266,7 @@ class PlotsPanel(QWidget):
                                                     f"max wheel rate -{wmax:.1f} rad/s"))
         vtop = max(float(np.nanmax(series["v_mps"])) if xs.size else 0.0,
                    lim["max_speed_mps"] or 0.0) or 1.0
-        self.speed_plot.setYRange(0.0, vtop * HEADROOM, padding=0)
+        self._set_range(self.speed_plot, (0.0, vtop * HEADROOM))
         hi = max([float(np.nanmax(np.abs(a))) for a in rates.values() if a.size]
                  + [wmax or 0.0]) or 1.0
         neg = any(np.nanmin(a) < -1e-9 for a in rates.values() if a.size)
@@ -214,12 +276,14 @@ class PlotsPanel(QWidget):
             lo = -hi * NEG_FOOTROOM
             share = (HEADROOM - 1.0) / HEADROOM
             top = (hi - share * lo) / (1.0 - share)
-            self.rate_plot.setYRange(lo, top, padding=0)
+            self._set_range(self.rate_plot, (lo, top))
         else:
-            self.rate_plot.setYRange(0.0, hi * HEADROOM, padding=0)
+            self._set_range(self.rate_plot, (0.0, hi * HEADROOM))
         if xs.size:
-            self.speed_plot.setXRange(float(xs.min()), float(xs.max()), padding=0.01)
+            self._set_range(self.speed_plot, self._ranges[0][1],
+                            (float(xs.min()), float(xs.max())))
         self._draw_hitches(xs, series, s)
+        self.place_cap_labels()
 
     def _draw_hitches(self, xs: np.ndarray, series: dict, s: Any) -> None:
         """Each trailer's hitch angle, with its jackknife limit (trains only)."""
@@ -243,7 +307,28 @@ class PlotsPanel(QWidget):
             self.limit_lines.append(_limit_line(self.hitch_plot, -lim,
                                                 f"jackknife limit -{lim:g} deg"))
             top = max(top, lim)
-        self.hitch_plot.setYRange(-top * HEADROOM, top * HEADROOM, padding=0)
+        self._set_range(self.hitch_plot, (-top * HEADROOM, top * HEADROOM))
+
+    def place_cap_labels(self, *_args) -> None:
+        """Put each cap's name above its dotted line, else below it, where it covers no other
+        name (a cap label or the limit lines' labels); a name with no free place is hidden
+        (its dotted line stays). Redone when the view or its size changes."""
+        taken = []
+        for line in self.limit_lines:
+            if line.getViewBox() is self.speed_plot.getViewBox():
+                line.label.updateTransform(force=True)
+                taken.append(line.label.sceneBoundingRect())
+        for t in self.cap_items:
+            t.show()
+            for anchor in ((0.5, 1.0), (0.5, 0.0)):
+                t.setAnchor(anchor)
+                t.updateTransform(force=True)
+                r = t.sceneBoundingRect()
+                if not any(r.intersects(o) for o in taken):
+                    taken.append(r)
+                    break
+            else:
+                t.hide()
 
     def _draw_caps(self, xs: np.ndarray, series: dict, s: Any) -> None:
         """Each segment's speed cap, dotted, named by the limit that sets it."""
@@ -278,6 +363,7 @@ class PlotsPanel(QWidget):
             t = pg.TextItem(word, color=FAINT_INK, anchor=(0.5, 1.0))
             t.setPos((x0 + x1) / 2, c0)
             self.speed_plot.addItem(t)
+            self.cap_items.append(t)
         if bx:
             self.speed_plot.plot(np.array(bx), np.array(by), connect="finite",
                                  pen=pg.mkPen(FAINT_INK, width=1.3, style=Qt.PenStyle.DotLine),

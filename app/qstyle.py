@@ -13,6 +13,10 @@ from PySide6.QtGui import QBrush, QColor, QPainter, QPainterPath, QPen, QPolygon
 
 from .scene import Fill, Stroke, Style, marker_polygon
 
+#: A message that asks for attention (a refused value, results out of date), in widgets.
+MESSAGE_STYLE = ("QLabel { color: #5A1E00; background: #FFF1E0; border: 1px solid #D55E00; "
+                 "border-radius: 3px; padding: 4px; font-weight: bold; }")
+
 DASHES = {"solid": Qt.PenStyle.SolidLine, "dash": Qt.PenStyle.DashLine,
           "dot": Qt.PenStyle.DotLine, "dashdot": Qt.PenStyle.DashDotLine}
 PATTERNS = {"bdiag": Qt.BrushStyle.BDiagPattern, "fdiag": Qt.BrushStyle.FDiagPattern,

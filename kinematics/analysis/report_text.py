@@ -122,7 +122,10 @@ def format_check_text(checks: Sequence[Any], stops: dict[str, list] | None = Non
                        f"({v.x:.2f}, {v.y:.2f})  {v.amount_m * 1000:6.0f} mm  {v.message}")
         for p in c.doors:
             cl = "-" if p.min_clearance_m is None else f"{p.min_clearance_m * 1000:.0f} mm"
-            out.append(f"  door {p.label!r} ({p.width_m:.3f} m wide) at station "
+            cst = getattr(p, "min_clearance_station_m", None)
+            if cst is not None:
+                cl += f" at station {cst:.2f} m"
+            out.append(f"  door {p.label!r} ({p.width_m:.3f} m wide) crossed at station "
                        f"{p.station_m:.2f} m: least clearance {cl}")
         out += stop_lines((stops or {}).get(c.name, ()))
         if c.sizing:

@@ -64,6 +64,11 @@ from kinematics.motion.segments import Segment
 
 #: Default bound on how far the swept region may exceed the true one, metres.
 DEFAULT_TOLERANCE_M = 0.002
+#: A clearance this little below the margin (or a margin zone's) still keeps it, metres:
+#: the rounding of floating-point distances (a body set exactly at the margin measures
+#: 0.04999999999999998 m from a wall 0.05 m away). One micrometre: far below the check's
+#: tolerance and the millimetres every report rounds to.
+MARGIN_SLACK_M = 1e-6
 #: Largest rotation swept as one piece (keeps every edge piece a simple polygon).
 MAX_CHUNK_RAD = math.pi / 2.0
 #: Share of the tolerance spent on drawing arcs; the rest is slack for rounding.

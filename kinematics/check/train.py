@@ -39,11 +39,13 @@ import shapely
 
 from kinematics.check.clearance import ObstacleIndex, check_route
 from kinematics.check.contact import nearest_point, overlap_depth, part_name, to_body
+from kinematics.check.door_crossing import door_station
 from kinematics.check.results import DoorPass, RouteCheck, Violation
 from kinematics.check.segment_parts import SweptParts
 from kinematics.check.sweep import (
     _QUAD_SEGS,
     DEFAULT_TOLERANCE_M,
+    MARGIN_SLACK_M,
     MAX_CHUNK_RAD,
     Footprint,
     _place_one,
@@ -279,7 +281,7 @@ def _trailer_hits(chunks: Sequence[Chunk], index: ObstacleIndex, margin: float
         c = float(np.min(shapely.distance(ck.parts, solid)))
         if c <= 0.0:
             c = -overlap_depth(SweptParts(ck.parts).union, solid)
-        if c < margin:
+        if c < margin - MARGIN_SLACK_M:
             hits.append(_BodyHit(key[0], j, c))
         if c < best:
             best, best_k, best_j = c, key[0], j
@@ -369,8 +371,8 @@ def _stretch_violations(chunks: Sequence[Chunk], hits: Sequence[_BodyHit], segs,
 
 def _trailer_doors(chunks: Sequence[Chunk], index: ObstacleIndex, stations, segs
                    ) -> dict[int, tuple[float, int, float]]:
-    """Per door the trailer's band crosses: least clearance in the door's box, segment and
-    station of the first chunk crossing it."""
+    """Per door the trailer's band crosses: least clearance in the door's box, and the
+    segment and station of the chunk where it is least."""
     out: dict[int, tuple[float, int, float]] = {}
     if not len(index.doors):
         return out
@@ -389,7 +391,7 @@ def _trailer_doors(chunks: Sequence[Chunk], index: ObstacleIndex, stations, segs
             if old is None:
                 out[k] = (c, ck.segment, _chunk_station(stations, segs, ck))
             elif c < old[0]:
-                out[k] = (c, old[1], old[2])
+                out[k] = (c, ck.segment, _chunk_station(stations, segs, ck))
     return out
 
 
@@ -490,11 +492,14 @@ def check_train(plan_or_segments: Any, chassis: Any, index: ObstacleIndex,
             old = doors.get(k)
             cval = None if not math.isfinite(c) else float(c)
             if old is None:
-                doors[k] = DoorPass(index.door_label(k), cval, k, si, st,
-                                    index.doors[k].width_m)
+                door = index.doors[k]
+                ci, cst = door_station(segs, stations, [si], door.a, door.b)
+                doors[k] = DoorPass(index.door_label(k), cval, k, ci, cst, door.width_m,
+                                    None if cval is None else st)
             elif cval is not None and (old.min_clearance_m is None or
                                        cval < old.min_clearance_m):
-                doors[k] = dataclasses.replace(old, min_clearance_m=cval)
+                doors[k] = dataclasses.replace(old, min_clearance_m=cval,
+                                               min_clearance_station_m=st)
     jk, worst = _jackknifes(trace, chassis, stations)
     violations += jk
     for j, w in enumerate(worst):

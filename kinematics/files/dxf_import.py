@@ -43,6 +43,7 @@ naming the file and, where ezdxf reports one, the line.
 
 from __future__ import annotations
 
+import codecs
 import contextlib
 import io
 import logging
@@ -314,6 +315,12 @@ def _read_doc(path: Path, out: _LibraryOutput | None = None):  # -> ezdxf Drawin
     out = out or _LibraryOutput()
     data = read_input_bytes(path, "DXF file")
     file = one_line(str(path), 300)
+    # A UTF-8 byte-order mark (from text editors on some systems) is not part of the DXF
+    # text: ezdxf would read it as part of the first group code. Source: the Unicode
+    # standard (EF BB BF encodes U+FEFF, the byte-order mark).
+    bom = data.startswith(codecs.BOM_UTF8)
+    if bom:
+        data = data[len(codecs.BOM_UTF8):]
     index = _TagIndex()
     binary = data.startswith(b"AutoCAD Binary DXF")
     if not binary and b"SECTION" in data[:4096].upper():
@@ -323,7 +330,7 @@ def _read_doc(path: Path, out: _LibraryOutput | None = None):  # -> ezdxf Drawin
             raise FileReadError(file, index.around(line), f"damaged DXF file: {what}")
         _check_complete(path, data)
     with out.capture():
-        doc = _parse_doc(path, file, index)
+        doc = _parse_doc(path, file, index, data if bom else None)
         try:
             doc.modelspace()
         except Exception as exc:  # noqa: BLE001 - a damaged layout table
@@ -334,19 +341,32 @@ def _read_doc(path: Path, out: _LibraryOutput | None = None):  # -> ezdxf Drawin
     return doc, index
 
 
-def _parse_doc(path: Path, file: str, index: _TagIndex):
+def _parse_doc(path: Path, file: str, index: _TagIndex, utf8: bytes | None = None):
+    """The ezdxf document of ``path``; ``utf8``: the file's bytes after a UTF-8 byte-order
+    mark, read as UTF-8 text (what the mark says) instead of the file."""
     import ezdxf
     from ezdxf import recover
 
     def place(exc: BaseException) -> str:
         return index.place_for(str(exc)) or "structure (ezdxf names no line)"
 
+    def read_file():
+        if utf8 is None:
+            return ezdxf.readfile(path)
+        return ezdxf.read(io.StringIO(utf8.decode("utf-8")))
+
+    def recover_file():
+        if utf8 is None:
+            return recover.readfile(path)
+        return recover.read(io.BytesIO(utf8))
+
     try:
-        return ezdxf.readfile(path)
+        return read_file()
     except ezdxf.DXFStructureError as exc:
         first: BaseException = exc
     except UnicodeDecodeError as exc:
-        raise FileReadError(file, f"byte {exc.start}",
+        skipped = 0 if utf8 is None else len(codecs.BOM_UTF8)
+        raise FileReadError(file, f"byte {exc.start + skipped}",
                             "not a readable DXF file (text encoding error)") from None
     except (OSError, LookupError) as exc:
         # ezdxf raises IOError both for unreadable files and for files that are not DXF;
@@ -361,7 +381,7 @@ def _parse_doc(path: Path, file: str, index: _TagIndex):
         first = exc
     # A structure error may be a damaged but repairable file; ezdxf.recover tries harder.
     try:
-        doc, auditor = recover.readfile(path)
+        doc, auditor = recover_file()
     except MemoryError:
         raise
     except Exception:  # noqa: BLE001 - report the first, clearer error
