@@ -5,7 +5,7 @@ a scale bar in metres. It draws the Document (walls, obstacles, doors, every rou
 current route's swept band, footprint outlines and violations) and turns mouse gestures into
 Document edits:
 
-- drag a waypoint to move it; drag its heading handle (the diamond) to fix its heading;
+- drag a waypoint to move it; drag its heading handle (the purple knob) to fix its heading;
 - click in *add* mode, or Ctrl+click in any mode, to append a waypoint;
 - double-click a leg to insert a waypoint there;
 - Delete / Backspace or the context menu removes the selected waypoint;
@@ -72,6 +72,8 @@ from .palette import (  # noqa: F401 - the whole set, as other views import it f
 from .plan_tools import element_at
 from .qstyle import MESSAGE_STYLE, hatch_brush, marker_path, qbrush, qpen
 from .scene import (
+    HANDLE_R_PX,
+    HANDLE_SHAPE,
     JAMB_R_PX,
     STYLES,
     VIOLATION_R_PX,
@@ -380,6 +382,12 @@ MARKER_PX = int(2 * VIOLATION_R_PX)
 _LABEL_PLACES = ((-0.12, -0.1), (1.12, -0.1), (-0.12, 1.1), (1.12, 1.1))
 
 
+#: Where a door's name may sit, as the anchor of its box on the door's middle: just below the
+#: door line, else a row further down (neighbouring doors' names then alternate rows), else
+#: just above it.
+_DOOR_LABEL_PLACES = ((0.5, -0.3), (0.5, -1.45), (0.5, 1.3))
+
+
 def _plan_box(label: _Label, px: float) -> tuple[float, float, float, float]:
     """The plan box ``(x0, y0, x1, y1)`` a constant-pixel label covers at ``px`` metres per
     pixel (screen y runs down, plan y up)."""
@@ -442,7 +450,9 @@ class _Label(QGraphicsRectItem):
 _WAYPOINT_BRUSH = qbrush(STYLES["waypoint"].fill)
 _SELECTED_BRUSH = pg.mkBrush(ORANGE)
 _FIXED_BRUSH = pg.mkBrush(PURPLE)  # a heading the user fixed
-_FREE_BRUSH = pg.mkBrush(QColor(255, 255, 255, 230))  # the planner's choice, to grab
+# The planner's choice, to grab: the handle's purple, pale (a white disc would read as a
+# small waypoint).
+_FREE_BRUSH = pg.mkBrush(QColor(PURPLE).lighter(150))
 
 
 class PlanViewBox(pg.ViewBox):
@@ -666,7 +676,8 @@ class PlanCanvas(QWidget):
         add(self.handles_line)
         # Markers and labels keep their pixel size at any zoom; they are plain Qt items
         # (see _Markers, _Label), which a drag moves without per-paint Python.
-        self.handles_item = _Markers("d", 13, _pen(BLACK, 1.0), _brush(PURPLE))
+        self.handles_item = _Markers(HANDLE_SHAPE, 2 * HANDLE_R_PX, _pen(BLACK, 1.0),
+                                     _brush(PURPLE))
         self.handles_item.setZValue(7)
         add(self.handles_item, ignoreBounds=True)
         self.waypoints_item = _Markers("circle", 2 * WAYPOINT_R_PX, _pen(BLACK, 2.0),
@@ -799,6 +810,7 @@ class PlanCanvas(QWidget):
             t.setZValue(1.5)
         self._obstacle_labels = []
         self._zone_labels = []
+        self._door_labels: list[_Label] = []
         for t, (pos, text, kind, size_m) in zip(labels, named):
             st = STYLES["door_label" if kind == "door" else "obstacle_label"]
             t.setColor(QColor(st.ink))
@@ -809,6 +821,8 @@ class PlanCanvas(QWidget):
             t.setPos(*pos)
             if kind == "obstacle":
                 self._obstacle_labels.append((t, size_m, t.boundingRect().width()))
+            else:
+                self._door_labels.append(t)
         # Each zone's name and number, as the picture places it (app.scene.zone_layer).
         zst = STYLES["zone_label"]
         zlabels = self._labels(self.zone_labels, len(zones.labels), zst.ink, None, (0.5, 0.0))
@@ -819,14 +833,31 @@ class PlanCanvas(QWidget):
             t.setText(lb.text)
             self._zone_labels.append((t, lb))
         self._fit_obstacle_labels()
+        self._drawn.pop("violations", None)  # placed anew round the names shown now
 
     def _fit_obstacle_labels(self) -> None:
-        """Name an obstacle only where its name fits across it on screen (no pile-ups); a
+        """Name an obstacle only where its name fits across it on screen (no pile-ups),
+        put each door's name by the door where it covers no other name: in the first row
+        under it, else the second, else above it, else (zoomed far out) not at all; a
         zone's name goes under its top edge where the zone is tall enough, else in its
         middle."""
         px = self.px_m()
+        taken = []
         for t, size_m, text_px in getattr(self, "_obstacle_labels", []):
             t.setVisible(size_m / px >= 0.9 * text_px)
+            if t.isVisible():
+                taken.append(_plan_box(t, px))
+        for t in getattr(self, "_door_labels", []):
+            for anchor in _DOOR_LABEL_PLACES:
+                t.setAnchor(anchor)
+                box = _plan_box(t, px)
+                if all(box[2] <= o[0] or box[0] >= o[2] or box[3] <= o[1] or box[1] >= o[3]
+                       for o in taken):
+                    t.setVisible(True)
+                    taken.append(box)
+                    break
+            else:
+                t.setVisible(False)
         for t, lb in getattr(self, "_zone_labels", []):
             h = t.rect().height()
             if (lb.inside_m or 0.0) / px > 2 * h or lb.centre is None:
@@ -850,10 +881,19 @@ class PlanCanvas(QWidget):
         self.zone_arrows_item.setData([m.x for m in marks], [m.y for m in marks],
                                       angle=[m.angle_rad for m in marks])
 
+    def clear_hover(self) -> None:
+        """Forget the hover read-out and its ring (the route under them went away)."""
+        self.last_hover = None
+        self.hover_item.setData([], [])
+        self.hoverInfo.emit("")
+        self.plot.setToolTip("")
+
     def _project_replaced(self) -> None:
         self.selected = -1
         self._pending = None
         self._drag = None
+        self.pending_item.setData([], [])
+        self.clear_hover()
         self.refresh_routes()
         self.fit()
 
@@ -875,6 +915,7 @@ class PlanCanvas(QWidget):
         return self.band_item.opacity() < 1.0
 
     def _current_changed(self, _i: int) -> None:
+        self.clear_hover()  # the ring sat on the previous route
         self.selected = -1
         self.selectionChanged.emit(-1)
         self.refresh_routes()
@@ -1087,7 +1128,9 @@ class PlanCanvas(QWidget):
         vs = list(getattr(chk, "violations", []) or []) if chk is not None else []
         # A drag step that leaves the violations as they were (the usual case) and the same
         # zoom redraws nothing here.
-        key = (tuple((v.kind, v.x, v.y, v.amount_m) for v in vs), self.px_m())
+        (vx0, vx1), (vy0, vy1) = self.view.viewRange()
+        key = (tuple((v.kind, v.x, v.y, v.amount_m) for v in vs), self.px_m(),
+               (vx0, vx1, vy0, vy1))
         if key == self._drawn.get("violations"):
             return
         self._drawn["violations"] = key
@@ -1104,22 +1147,48 @@ class PlanCanvas(QWidget):
         # the names of doors and obstacles shown, and the labels already placed.
         half = 0.5 * MARKER_PX * px
         taken = [(v.x - half, v.y - half, v.x + half, v.y + half) for v in vs]
-        taken += [_plan_box(t, px) for t in self.plan_labels if t.isVisible()]
+        named = [t for t in self.plan_labels if t.isVisible()]
+        names = [_plan_box(t, px) for t in named]
         for t, v in zip(labels, shown):
             t.setOpacity(self.band_item.opacity())  # greyed with the band while stale
             t.setFill(qbrush(lst.fill))
             t.setPen(qpen(lst.stroke, cosmetic=True))
             _set_text(t, v.text)
             t.setPos(v.x, v.y)
-            # The first of four places round the marker that covers nothing above; a label with
-            # no free place is hidden (its marker stays, and the results panel lists it).
-            for anchor in _LABEL_PLACES:
+            # The first of four places round the marker that covers nothing above and lies
+            # inside the view; else the first free one slid inside the view (at the edge of
+            # the plot a label is never cut off); else the same over the plan's names (a
+            # violation matters more than a door's name, which shows again zoomed in). A
+            # label with no free place is hidden (its marker stays; the results list it).
+            inset = 3 * px
+            view = (vx0 + inset, vy0 + inset, vx1 - inset, vy1 - inset)
+            seen = vx0 <= v.x <= vx1 and vy0 <= v.y <= vy1  # else nothing to keep in view
+            places = [(a, False, True) for a in _LABEL_PLACES]
+            places += [(a, True, True) for a in _LABEL_PLACES] if seen else []
+            places += [(a, slide, False) for a, slide, _ in places]
+            for anchor, slide, avoid_names in places:
                 t.setAnchor(anchor)
+                t.setPos(v.x, v.y)
                 box = _plan_box(t, px)
-                if all(box[2] <= o[0] or box[0] >= o[2] or box[3] <= o[1] or box[1] >= o[3]
-                       for o in taken):
+                if slide:
+                    dx = max(0.0, view[0] - box[0]) - max(0.0, box[2] - view[2])
+                    dy = max(0.0, view[1] - box[1]) - max(0.0, box[3] - view[3])
+                    t.setPos(v.x + dx, v.y + dy)
+                    box = (box[0] + dx, box[1] + dy, box[2] + dx, box[3] + dy)
+                inside = not seen or (view[0] <= box[0] and box[2] <= view[2]
+                                      and view[1] <= box[1] and box[3] <= view[3])
+                if inside and all(box[2] <= o[0] or box[0] >= o[2] or box[3] <= o[1]
+                                  or box[1] >= o[3]
+                                  for o in (taken + names if avoid_names else taken)):
                     t.setVisible(True)
                     taken.append(box)
+                    if not avoid_names:  # the names it would cover give way
+                        for k in range(len(named) - 1, -1, -1):
+                            o = names[k]
+                            if not (box[2] <= o[0] or box[0] >= o[2] or box[3] <= o[1]
+                                    or box[1] >= o[3]):
+                                named.pop(k).setVisible(False)
+                                names.pop(k)
                     break
             else:
                 t.setVisible(False)
@@ -1248,9 +1317,11 @@ class PlanCanvas(QWidget):
             first = self._pending
             self._pending = None
             self.pending_item.setData([], [])
-            doc.add_route(Route(doc.unique_route_name(),
-                                (Waypoint(*first), Waypoint(x, y))))
+            name = doc.unique_route_name()
+            doc.add_route(Route(name, (Waypoint(*first), Waypoint(x, y))))
             self.select(1)
+            # Replaces "First point of a new route ...", which no longer holds.
+            self.message.emit(f"Added route {name!r}; each click adds a waypoint.")
             return
         doc.add_waypoint(doc.current_route, len(cur.waypoints), Waypoint(x, y))
         self.select(len(cur.waypoints))

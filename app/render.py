@@ -89,6 +89,7 @@ from .scene import (  # noqa: F401 - the geometry helpers are re-exported for ol
     swept_geometry,
     violation_layer,
     zone_layer,
+    zone_legend_rows,
 )
 
 #: The swept band, as the scene styles it.
@@ -476,7 +477,7 @@ def _draw(p: QPainter, project: Any, plans: dict, checks: dict, route_name: str 
     if title:
         _draw_title(p, project, plans, checks, route_name, errors, W, title_h, u, f_title,
                     f_sub)
-    _draw_legend(p, QRectF(W - legend_w - m, plan_rect.top(), legend_w, plan_rect.height()),
+    draw_legend(p, QRectF(W - legend_w - m, plan_rect.top(), legend_w, plan_rect.height()),
                  [r.name for r in routes], index_of, checks, u, f_label, f_small,
                  project.floorplan.zones)
     if footer:
@@ -731,8 +732,9 @@ def _zone_captions(p: QPainter, view: _View, layer: Any, u: float, labels: _Labe
         p.drawText(r, Qt.AlignmentFlag.AlignCenter, lb.text)
 
 
-def _draw_legend(p: QPainter, rect: QRectF, names: Sequence[str], index_of: dict, checks: dict,
-                 u: float, f: QFont, f_small: QFont, zones: Sequence[Any] = ()) -> None:
+def draw_legend(p: QPainter, rect: QRectF, names: Sequence[str], index_of: dict, checks: dict,
+                u: float, f: QFont, f_small: QFont, zones: Sequence[Any] = ()) -> None:
+    """The legend box in ``rect``: the picture's, and the window's legend dock."""
     rows = legend_rows(names, checks, index_of, zones=zones)
     row_h = 25 * u
     head_h = 28 * u

@@ -116,3 +116,24 @@ def test_cli_text_names_the_crossing_station(tmp_path, capsys):
     # Source: textbook geometry (the straight run meets x = 6.5 at station 6.5)
     assert "door 'pharmacy'" in out
     assert "crossed at station 6.50 m" in out
+
+
+def test_a_warm_checker_gives_the_fresh_door_answers():
+    # The checker keeps door answers with each unchanged segment; after an edit that moves
+    # one segment its answers must equal a fresh check's. Source: common practice (a cache
+    # must not change an answer); the fresh values are checked above against geometry.
+    from kinematics.check.clearance import RouteChecker
+
+    fp = _wall_with_door(6.5, -0.5, 0.7)
+    ch = Chassis(footprint=FOOT, margin_m=0.05)
+    idx = ObstacleIndex(fp)
+    warm = RouteChecker(ch, idx)
+    for y in (0.0, 0.1, -0.05, 0.1):
+        segs = [line((0.0, 0.0, 0.0), 2.0), line((2.0, 0.0, math.atan2(y, 8.0)),
+                                                 math.hypot(8.0, y))]
+        got = warm.check(segs).doors
+        fresh = check_route(segs, ch, idx).doors
+        assert [d.to_dict() for d in got] == [d.to_dict() for d in fresh]
+        # The crossing: x = 6.5 reached 4.5 m along the slanted second line (4.5 / cos).
+        assert got[0].station_m == pytest.approx(2.0 + 4.5 * math.hypot(8.0, y) / 8.0,
+                                                 abs=1e-9)

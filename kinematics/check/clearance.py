@@ -214,9 +214,13 @@ def _door_passes(results: Sequence[SegmentResult], segs: Sequence[Segment],
     out = []
     for k, (c, i, j) in least.items():
         door = idx.doors[k]
-        si, st = door_station(segs, stations, near[k], door.a, door.b)
+        si, st = door_station(segs, stations, near[k], door.a, door.b,
+                              [r.door_memo for r in results])
         if math.isfinite(c) and j >= 0:
-            x, y = door_least_xy(results[i], idx, k, j)
+            memo = results[i].door_memo
+            if ("least", k) not in memo:
+                memo[("least", k)] = door_least_xy(results[i], idx, k, j)
+            x, y = memo[("least", k)]
             cst = float(stations[i]) + finder.station_near(segs[i], x, y)
             out.append(DoorPass(idx.door_label(k), float(c), k, si, st, door.width_m, cst))
         else:

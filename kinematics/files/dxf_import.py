@@ -32,7 +32,11 @@ What is read, from model space only:
   open one is a :class:`~kinematics.files.floorplan.Wall` of ``wall_thickness_m``.
 - ``zones=[ZoneLayer(...)]`` (in a project: ``"zones": [{"layer", "kind", ...}]``) turns
   every closed outline on a named layer into a zone of that kind (open ones there are
-  skipped); a zone layer is read only as zones, whatever ``layers`` says.
+  skipped); a zone layer is read only as zones, whatever ``layers`` says. A curved zone
+  outline is flattened outward as a solid's is (circumscribed circles, other curves grown
+  by the chord tolerance), whatever its kind: a keep-out, margin or slow zone then covers
+  every place the drawn one could, and a one-way zone is judged over that slightly larger
+  area too.
 - On a door layer a LINE (or a two-point open polyline) is a door opening between its
   ends; other door-layer geometry (swing arcs, leaves) is skipped. A door is labelled by
   the nearest TEXT or MTEXT on a door layer within 1 m of its midpoint, else ``door N``.
@@ -944,6 +948,10 @@ def import_dxf(path: str | Path, layers: dict[str, list[str]] | None = None,
             if closed and math.dist(clean[0], clean[-1]) <= tol:
                 clean = clean[:-1]
             if closed and len(clean) >= 3:
+                if sh.curved:  # outward as a solid: a cap or rule wherever it could apply
+                    with np.errstate(all="ignore"):
+                        grown = grow_outline(np.array(clean), SAGITTA_M)
+                    clean = [tuple(q) for q in grown.tolist()]
                 zone_list.append(zone_of[sh.layer.lower()].zone(tuple(clean)))
             continue
         if closed:

@@ -36,7 +36,8 @@ What is read:
 - Zones: ``zones=[ZoneLayer(...)]`` (in a project: ``"zones": [{"layer", "kind", ...}]``)
   turns every closed shape whose ``id`` or Inkscape layer label (``inkscape:label``), or
   that of a group it sits in, is a named layer into a zone of that kind; open shapes there
-  are skipped.
+  are skipped. A curved zone outline is grown outward by the tolerance as a solid's is,
+  whatever its kind (a one-way zone too: its rule then holds over a slightly larger area).
 """
 
 from __future__ import annotations
@@ -779,6 +780,10 @@ def import_svg(path: str | Path, metres_per_unit: float = 0.01,
         if rule is not None:
             ring = pts[:-1] if len(pts) > 1 and pts[0] == pts[-1] else pts
             if closed and len(ring) >= 3:
+                if f.curved:  # outward as a solid: a cap or rule wherever it could apply
+                    with np.errstate(all="ignore"):
+                        grown = grow_outline(np.array(ring), TOLERANCE_M)
+                    ring = tuple(tuple(q) for q in grown.tolist())
                 zone_list.append(rule.zone(ring))
             continue
         if f.marker == "wall" or not closed:
