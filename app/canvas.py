@@ -561,9 +561,12 @@ class PlanCanvas(QWidget):
         from .plan_gestures import PlanGestures
 
         self.plan_gestures = PlanGestures(self)  # plan drawing, editing and measuring
-        for keys, slot in (([Qt.Key.Key_Return, Qt.Key.Key_Enter], self.plan_gestures.finish),
-                           ([Qt.Key.Key_Escape], self.plan_gestures.cancel)):
-            act = QAction(self)
+        for keys, slot, text in (
+                ([Qt.Key.Key_Return, Qt.Key.Key_Enter], self.plan_gestures.finish,
+                 "Finish the wall, polygon or zone being drawn"),
+                ([Qt.Key.Key_Escape], self.plan_gestures.cancel,
+                 "Cancel the drawing or measurement under way")):
+            act = QAction(text, self)  # the text names it in Help > Guide
             act.setShortcuts([QKeySequence(k) for k in keys])
             act.setShortcutContext(Qt.ShortcutContext.WidgetWithChildrenShortcut)
             act.triggered.connect(slot)

@@ -233,6 +233,11 @@ class MainWindow(QMainWindow):
                                            "waypoint's heading")
         self.act_fit = self._act("&Fit to plan", self.canvas.fit, QKeySequence("F"))
         self.act_about = self._act("&About Swathe", self.show_about)
+        self.act_guide = self._act("&Guide", self.show_guide, QKeySequence.StandardKey.HelpContents,
+                                   "What each mode does, every shortcut, and the words used")
+        if self.act_guide.shortcut().isEmpty():  # platforms without a standard help key
+            self.act_guide.setShortcut(QKeySequence("F1"))
+        self.guide_box: QDialog | None = None
         self.mode_group = QActionGroup(self)
         self.act_select = QAction("Select / move", self, checkable=True)
         self.act_select.setShortcut(QKeySequence("S"))
@@ -348,6 +353,8 @@ class MainWindow(QMainWindow):
         self.route_finder = RouteFinderActions(self)  # Route > Find / Repair route
         self.route_finder.install()
         h = mb.addMenu("&Help")
+        h.addAction(self.act_guide)
+        h.addSeparator()
         h.addAction(self.act_about)
 
     def _build_toolbars(self) -> None:
@@ -686,6 +693,18 @@ class MainWindow(QMainWindow):
     def show_input_error(self, exc: SwatheInputError, action: str) -> QMessageBox:
         return self.show_error(f"Swathe could not {action}",
                                f"{exc.message}\n\nNothing was changed in the open project.")
+
+    def show_guide(self) -> QDialog:
+        """Help > Guide: modes, shortcuts (read from the actions now) and words."""
+        from .guide import GuideDialog
+
+        if self.guide_box is None:
+            self.guide_box = GuideDialog(self)
+        else:
+            self.guide_box.reload()
+        self.guide_box.show()
+        self.guide_box.raise_()
+        return self.guide_box
 
     def show_about(self) -> QMessageBox:
         box = QMessageBox(self)

@@ -55,6 +55,7 @@ from kinematics.analysis.results import (  # noqa: F401 - re-exported for older 
     violation_label,
     violations_of,
 )
+from kinematics.files.project import drive_word
 
 from .palette import (  # noqa: F401 - re-exported for the report and tests
     BLACK,
@@ -697,7 +698,7 @@ def _draw_title(p: QPainter, project: Any, plans: dict, checks: dict, route_name
                Qt.AlignmentFlag.AlignLeft | Qt.AlignmentFlag.AlignVCenter,
                fmt.elidedText(title, Qt.TextElideMode.ElideRight, left.width()))
     sub = (f"plan: {project.floorplan.name or 'unnamed'}   \u00b7   chassis: {chassis.name} "
-           f"({chassis.drive}), margin {chassis.margin_m * 1000:.0f} mm")
+           f"({drive_word(chassis.drive)}), margin {chassis.margin_m * 1000:.0f} mm")
     errs = [f"{k}: {v}" for k, v in errors.items()]
     if errs:
         sub += "   \u00b7   " + "; ".join(errs)

@@ -14,10 +14,13 @@ import os
 
 os.environ.setdefault("QT_QPA_PLATFORM", "offscreen")
 
+import numpy as np  # noqa: E402
 import pytest  # noqa: E402
+import shapely  # noqa: E402
 import test_window  # noqa: E402
 from PySide6.QtCore import Qt, QTimer  # noqa: E402
 from PySide6.QtWidgets import QApplication, QToolBar, QToolButton  # noqa: E402
+from shapely.geometry import Polygon  # noqa: E402
 from test_document import write_project  # noqa: E402
 from test_window import click, px  # noqa: E402
 
@@ -239,3 +242,126 @@ def test_no_toolbar_action_is_hidden_behind_an_overflow_button(make_window, widt
     plan = [b for b in bars if b.objectName() == "plan_tools"][0]
     for a in win.plan_mode_actions.values():
         assert plan.widgetForAction(a).isVisible()
+
+
+# -- zones and stops in the window, the CLI, the report and the schedule, side by side ------
+ZONED = test_window.REPO / "docs" / "examples" / "zoned_corridor.swathe.json"
+
+
+def _cli_json(capsys, *args):
+    from app.cli import main
+
+    code = main(list(args))
+    return code, json.loads(capsys.readouterr().out)
+
+
+def test_zones_and_stops_agree_in_window_cli_report_and_schedule(make_window, capsys):
+    # Source: issue 12 ("zones and stops work in window, CLI, report and schedule"); the
+    # window, the CLI and the report must show the same check and the same schedule.
+    import io
+
+    import pypdf
+
+    from app.report import report_bytes
+
+    win = make_window(ZONED)
+    doc = win.doc
+    name = doc.route().name
+    sched = doc.schedule(name)
+    code, cli = _cli_json(capsys, "schedule", str(ZONED), "--route", name)
+    assert code == 0
+    assert cli["samples"][-1]["t_s"] == pytest.approx(sched.samples.t_s[-1], abs=1e-6)
+    (stop,) = cli["stops"]
+    assert stop["dwell_s"] == 15
+    # The window's schedule rests through the dwell at the stop, as the CLI's does.
+    t, v = sched.samples.t_s, sched.samples.v_mps
+    during = (t >= stop["t_s"] + 1e-6) & (t <= stop["t_s"] + 15 - 1e-6)
+    assert during.sum() >= 10 and np.all(v[during] == 0.0)
+    # The slow zone caps the window's schedule (samples whose footprint is inside the ward).
+    from kinematics.check.sweep import placed_footprints
+
+    ward = [z for z in doc.project.floorplan.zones if z.kind == "slow"][0]
+    fps = placed_footprints(doc.project.chassis.footprint,
+                            np.column_stack([sched.samples.x, sched.samples.y,
+                                             sched.samples.heading_rad]))
+    inside = shapely.intersects(fps, Polygon(ward.points))
+    assert inside.any() and np.all(v[inside] <= ward.speed_mps + 1e-9)
+    # Check: window and CLI give the same verdict and least clearance.
+    code, chk = _cli_json(capsys, "check", str(ZONED), "--json")
+    r = chk["routes"][0]
+    mine = doc.check(name)
+    assert r["min_clearance_m"] == pytest.approx(mine.min_clearance_m, abs=1e-9)
+    assert [x["kind"] for x in r["violations"]] == [x.kind for x in mine.violations]
+    assert r["stops"][0]["waypoint"] == 1
+    # Canvas: every zone kind drawn; the legend tab lists them.
+    for kind in ("keep_out", "slow", "margin", "one_way"):
+        items = win.canvas.zone_items[kind]
+        items = items if isinstance(items, list) else [items]
+        assert not items[0].path().isEmpty(), kind
+    legend = win._build_later_panels()["legend"].view
+    assert [r[2] for r in legend.zone_rows()] == ["keep_out", "slow", "margin", "one_way"]
+    # Report: zone legend, captions, stops and the slow-zone cap in the plot.
+    text = pypdf.PdfReader(io.BytesIO(report_bytes(doc.project, "pdf"))).pages[0]
+    text = " ".join(text.extract_text().split())
+    for words in ("keep-out zone", "slow zone (cap)", "margin zone (margin)",
+                  "one-way zone (arrows)", "ward: 0.4 m/s", "people: 300 mm", "Stops",
+                  "stop at waypoint 2", "waits 15 s", "slow zone"):
+        assert words in text, words
+
+
+def test_breaking_zone_rules_is_reported_alike_in_window_and_cli(make_window, tmp_path,
+                                                                   capsys):
+    # Source: issue 12 (keep_out and wrong_way violation kinds; a margin zone's wider margin);
+    # the window's results and the CLI's JSON are one check.
+    d = json.loads(ZONED.read_text())
+    d["routes"] = [{"name": "back", "waypoints": [[15.5, 1.5], [14, 0.8], [1, 1.5]]}]
+    d["floorplan"]["zones"][2]["margin_m"] = 1.4  # wider than the corridor leaves
+    p = tmp_path / "broken.swathe.json"
+    p.write_text(json.dumps(d))
+    code, chk = _cli_json(capsys, "check", str(p), "--json")
+    assert code == 1
+    kinds = {v["kind"] for v in chk["routes"][0]["violations"]}
+    assert {"keep_out", "wrong_way", "clearance"} <= kinds
+    win = make_window(p)
+    mine = {v.kind for v in win.doc.check("back").violations}
+    assert mine == kinds
+    legend = win._build_later_panels()["legend"].view
+    legend.refresh()
+    words = [r[1] for r in legend.rows()]
+    assert "in keep-out zone" in words and "against one-way zone" in words
+
+
+def test_hover_names_a_wall_as_messages_cite_it(make_window, tmp_path, qtbot):
+    # Source: issue 12 ("walls cited in messages ('wall 23') ... the plan labels it on
+    # hover"): the name shown is the check's own solid name.
+    from PySide6.QtCore import QEvent
+
+    win = make_window(write_project(tmp_path))
+    c = win.canvas
+    names = {s.name for s in win.doc.obstacle_index().solids}
+    assert {"wall 0", "wall 1"} <= names
+    for (x, y), want in (((3.0, 2.0), "wall 1"), ((3.0, 0.0), "wall 0"),
+                         ((6.2, 1.6), "obstacle 0 (parked cart)")):
+        vp = c.plot.viewport()
+        test_window._send(vp, QEvent.Type.MouseMove, c.plan_to_viewport(x, y),
+                          Qt.MouseButton.NoButton, Qt.MouseButton.NoButton)
+        qtbot.wait(15)
+        QApplication.processEvents()
+        assert c.last_hover_element is not None and c.last_hover_element["name"] == want
+        assert c.plot.toolTip().startswith(want)
+
+
+def test_grid_snap_in_the_window(make_window, tmp_path, qtbot):
+    # Source: issue 12 (snap to grid); 25 cm grid from View > Snap to grid.
+    win = make_window(write_project(tmp_path))
+    c = win.canvas
+    act = [a for a in win.snap_group.actions() if a.text() == "25 cm"][0]
+    act.trigger()
+    assert c.snap_m == 0.25
+    win.plan_mode_actions["rect"].trigger()
+    click(qtbot, c, 2.07, 0.58)
+    click(qtbot, c, 3.41, 1.19)
+    r = win.doc.project.floorplan.obstacles[-1]
+    xs = sorted({p[0] for p in r.points})
+    ys = sorted({p[1] for p in r.points})
+    assert xs == [2.0, 3.5] and ys == [0.5, 1.25]
