@@ -5,7 +5,7 @@ a scale bar in metres. It draws the Document (walls, obstacles, doors, every rou
 current route's swept band, footprint outlines and violations) and turns mouse gestures into
 Document edits:
 
-- drag a waypoint to move it; drag its heading handle (the diamond) to fix its heading;
+- drag a waypoint to move it; drag its heading handle (the purple knob) to fix its heading;
 - click in *add* mode, or Ctrl+click in any mode, to append a waypoint;
 - double-click a leg to insert a waypoint there;
 - Delete / Backspace or the context menu removes the selected waypoint;
@@ -72,6 +72,8 @@ from .palette import (  # noqa: F401 - the whole set, as other views import it f
 from .plan_tools import element_at
 from .qstyle import MESSAGE_STYLE, hatch_brush, marker_path, qbrush, qpen
 from .scene import (
+    HANDLE_R_PX,
+    HANDLE_SHAPE,
     JAMB_R_PX,
     STYLES,
     VIOLATION_R_PX,
@@ -372,6 +374,12 @@ MARKER_PX = int(2 * VIOLATION_R_PX)
 _LABEL_PLACES = ((-0.12, -0.1), (1.12, -0.1), (-0.12, 1.1), (1.12, 1.1))
 
 
+#: Where a door's name may sit, as the anchor of its box on the door's middle: just below the
+#: door line, else a row further down (neighbouring doors' names then alternate rows), else
+#: just above it.
+_DOOR_LABEL_PLACES = ((0.5, -0.3), (0.5, -1.45), (0.5, 1.3))
+
+
 def _plan_box(label: _Label, px: float) -> tuple[float, float, float, float]:
     """The plan box ``(x0, y0, x1, y1)`` a constant-pixel label covers at ``px`` metres per
     pixel (screen y runs down, plan y up)."""
@@ -434,7 +442,9 @@ class _Label(QGraphicsRectItem):
 _WAYPOINT_BRUSH = qbrush(STYLES["waypoint"].fill)
 _SELECTED_BRUSH = pg.mkBrush(ORANGE)
 _FIXED_BRUSH = pg.mkBrush(PURPLE)  # a heading the user fixed
-_FREE_BRUSH = pg.mkBrush(QColor(255, 255, 255, 230))  # the planner's choice, to grab
+# The planner's choice, to grab: the handle's purple, pale (a white disc would read as a
+# small waypoint).
+_FREE_BRUSH = pg.mkBrush(QColor(PURPLE).lighter(150))
 
 
 class PlanViewBox(pg.ViewBox):
@@ -543,9 +553,12 @@ class PlanCanvas(QWidget):
         from .plan_gestures import PlanGestures
 
         self.plan_gestures = PlanGestures(self)  # plan drawing, editing and measuring
-        for keys, slot in (([Qt.Key.Key_Return, Qt.Key.Key_Enter], self.plan_gestures.finish),
-                           ([Qt.Key.Key_Escape], self.plan_gestures.cancel)):
-            act = QAction(self)
+        for keys, slot, text in (
+                ([Qt.Key.Key_Return, Qt.Key.Key_Enter], self.plan_gestures.finish,
+                 "Finish the wall, polygon or zone being drawn"),
+                ([Qt.Key.Key_Escape], self.plan_gestures.cancel,
+                 "Cancel the drawing or measurement under way")):
+            act = QAction(text, self)  # the text names it in Help > Guide
             act.setShortcuts([QKeySequence(k) for k in keys])
             act.setShortcutContext(Qt.ShortcutContext.WidgetWithChildrenShortcut)
             act.triggered.connect(slot)
@@ -646,7 +659,8 @@ class PlanCanvas(QWidget):
         add(self.handles_line)
         # Markers and labels keep their pixel size at any zoom; they are plain Qt items
         # (see _Markers, _Label), which a drag moves without per-paint Python.
-        self.handles_item = _Markers("d", 13, _pen(BLACK, 1.0), _brush(PURPLE))
+        self.handles_item = _Markers(HANDLE_SHAPE, 2 * HANDLE_R_PX, _pen(BLACK, 1.0),
+                                     _brush(PURPLE))
         self.handles_item.setZValue(7)
         add(self.handles_item, ignoreBounds=True)
         self.waypoints_item = _Markers("circle", 2 * WAYPOINT_R_PX, _pen(BLACK, 2.0),
@@ -773,6 +787,7 @@ class PlanCanvas(QWidget):
             # name.
             t.setZValue(1.5)
         self._obstacle_labels = []
+        self._door_labels: list[_Label] = []
         for t, (pos, text, kind, size_m) in zip(labels, named):
             st = STYLES["door_label" if kind == "door" else "obstacle_label"]
             t.setColor(QColor(st.ink))
@@ -783,18 +798,46 @@ class PlanCanvas(QWidget):
             t.setPos(*pos)
             if kind == "obstacle":
                 self._obstacle_labels.append((t, size_m, t.boundingRect().width()))
+            else:
+                self._door_labels.append(t)
         self._fit_obstacle_labels()
+        self._drawn.pop("violations", None)  # placed anew round the names shown now
 
     def _fit_obstacle_labels(self) -> None:
-        """Name an obstacle only where its name fits across it on screen (no pile-ups)."""
+        """Name an obstacle only where its name fits across it on screen (no pile-ups), and
+        put each door's name by the door where it covers no other name: in the first row
+        under it, else the second, else above it, else (zoomed far out) not at all."""
         px = self.px_m()
+        taken = []
         for t, size_m, text_px in getattr(self, "_obstacle_labels", []):
             t.setVisible(size_m / px >= 0.9 * text_px)
+            if t.isVisible():
+                taken.append(_plan_box(t, px))
+        for t in getattr(self, "_door_labels", []):
+            for anchor in _DOOR_LABEL_PLACES:
+                t.setAnchor(anchor)
+                box = _plan_box(t, px)
+                if all(box[2] <= o[0] or box[0] >= o[2] or box[3] <= o[1] or box[1] >= o[3]
+                       for o in taken):
+                    t.setVisible(True)
+                    taken.append(box)
+                    break
+            else:
+                t.setVisible(False)
+
+    def clear_hover(self) -> None:
+        """Forget the hover read-out and its ring (the route under them went away)."""
+        self.last_hover = None
+        self.hover_item.setData([], [])
+        self.hoverInfo.emit("")
+        self.plot.setToolTip("")
 
     def _project_replaced(self) -> None:
         self.selected = -1
         self._pending = None
         self._drag = None
+        self.pending_item.setData([], [])
+        self.clear_hover()
         self.refresh_routes()
         self.fit()
 
@@ -816,6 +859,7 @@ class PlanCanvas(QWidget):
         return self.band_item.opacity() < 1.0
 
     def _current_changed(self, _i: int) -> None:
+        self.clear_hover()  # the ring sat on the previous route
         self.selected = -1
         self.selectionChanged.emit(-1)
         self.refresh_routes()
@@ -1028,7 +1072,9 @@ class PlanCanvas(QWidget):
         vs = list(getattr(chk, "violations", []) or []) if chk is not None else []
         # A drag step that leaves the violations as they were (the usual case) and the same
         # zoom redraws nothing here.
-        key = (tuple((v.kind, v.x, v.y, v.amount_m) for v in vs), self.px_m())
+        (vx0, vx1), (vy0, vy1) = self.view.viewRange()
+        key = (tuple((v.kind, v.x, v.y, v.amount_m) for v in vs), self.px_m(),
+               (vx0, vx1, vy0, vy1))
         if key == self._drawn.get("violations"):
             return
         self._drawn["violations"] = key
@@ -1045,22 +1091,48 @@ class PlanCanvas(QWidget):
         # the names of doors and obstacles shown, and the labels already placed.
         half = 0.5 * MARKER_PX * px
         taken = [(v.x - half, v.y - half, v.x + half, v.y + half) for v in vs]
-        taken += [_plan_box(t, px) for t in self.plan_labels if t.isVisible()]
+        named = [t for t in self.plan_labels if t.isVisible()]
+        names = [_plan_box(t, px) for t in named]
         for t, v in zip(labels, shown):
             t.setOpacity(self.band_item.opacity())  # greyed with the band while stale
             t.setFill(qbrush(lst.fill))
             t.setPen(qpen(lst.stroke, cosmetic=True))
             _set_text(t, v.text)
             t.setPos(v.x, v.y)
-            # The first of four places round the marker that covers nothing above; a label with
-            # no free place is hidden (its marker stays, and the results panel lists it).
-            for anchor in _LABEL_PLACES:
+            # The first of four places round the marker that covers nothing above and lies
+            # inside the view; else the first free one slid inside the view (at the edge of
+            # the plot a label is never cut off); else the same over the plan's names (a
+            # violation matters more than a door's name, which shows again zoomed in). A
+            # label with no free place is hidden (its marker stays; the results list it).
+            inset = 3 * px
+            view = (vx0 + inset, vy0 + inset, vx1 - inset, vy1 - inset)
+            seen = vx0 <= v.x <= vx1 and vy0 <= v.y <= vy1  # else nothing to keep in view
+            places = [(a, False, True) for a in _LABEL_PLACES]
+            places += [(a, True, True) for a in _LABEL_PLACES] if seen else []
+            places += [(a, slide, False) for a, slide, _ in places]
+            for anchor, slide, avoid_names in places:
                 t.setAnchor(anchor)
+                t.setPos(v.x, v.y)
                 box = _plan_box(t, px)
-                if all(box[2] <= o[0] or box[0] >= o[2] or box[3] <= o[1] or box[1] >= o[3]
-                       for o in taken):
+                if slide:
+                    dx = max(0.0, view[0] - box[0]) - max(0.0, box[2] - view[2])
+                    dy = max(0.0, view[1] - box[1]) - max(0.0, box[3] - view[3])
+                    t.setPos(v.x + dx, v.y + dy)
+                    box = (box[0] + dx, box[1] + dy, box[2] + dx, box[3] + dy)
+                inside = not seen or (view[0] <= box[0] and box[2] <= view[2]
+                                      and view[1] <= box[1] and box[3] <= view[3])
+                if inside and all(box[2] <= o[0] or box[0] >= o[2] or box[3] <= o[1]
+                                  or box[1] >= o[3]
+                                  for o in (taken + names if avoid_names else taken)):
                     t.setVisible(True)
                     taken.append(box)
+                    if not avoid_names:  # the names it would cover give way
+                        for k in range(len(named) - 1, -1, -1):
+                            o = names[k]
+                            if not (box[2] <= o[0] or box[0] >= o[2] or box[3] <= o[1]
+                                    or box[1] >= o[3]):
+                                named.pop(k).setVisible(False)
+                                names.pop(k)
                     break
             else:
                 t.setVisible(False)
@@ -1188,9 +1260,11 @@ class PlanCanvas(QWidget):
             first = self._pending
             self._pending = None
             self.pending_item.setData([], [])
-            doc.add_route(Route(doc.unique_route_name(),
-                                (Waypoint(*first), Waypoint(x, y))))
+            name = doc.unique_route_name()
+            doc.add_route(Route(name, (Waypoint(*first), Waypoint(x, y))))
             self.select(1)
+            # Replaces "First point of a new route ...", which no longer holds.
+            self.message.emit(f"Added route {name!r}; each click adds a waypoint.")
             return
         doc.add_waypoint(doc.current_route, len(cur.waypoints), Waypoint(x, y))
         self.select(len(cur.waypoints))

@@ -33,7 +33,6 @@ from PySide6.QtWidgets import (
     QLabel,
     QMainWindow,
     QMessageBox,
-    QScrollArea,
     QToolBar,
     QVBoxLayout,
     QWidget,
@@ -115,6 +114,12 @@ class DxfImportDialog(QDialog):
         return opts
 
 
+def _keys(action: QAction) -> str:
+    """The action's shortcuts as the user types them ("Ctrl+Shift+O"), or "" if none."""
+    return ", ".join(k.toString(QKeySequence.SequenceFormat.NativeText)
+                     for k in action.shortcuts())
+
+
 def _placeholder(text: str) -> QWidget:
     w = QLabel(text)
     w.setAlignment(Qt.AlignmentFlag.AlignCenter)
@@ -166,6 +171,8 @@ class MainWindow(QMainWindow):
         d.projectReplaced.connect(self._refresh_route_bar)
         d.chassisChanged.connect(self._refresh_route_bar)  # the transitions default follows it
         d.resultsChanged.connect(self._refresh_summary)
+        # A message about the project before ("Opened demo.swathe.json") no longer holds.
+        d.projectReplaced.connect(self.statusBar().clearMessage)
         d.currentRouteChanged.connect(lambda _i: self._refresh_summary())
         self.canvas.cursorMoved.connect(self._cursor)
         self.canvas.hoverInfo.connect(self._hover)
@@ -226,6 +233,11 @@ class MainWindow(QMainWindow):
                                            "waypoint's heading")
         self.act_fit = self._act("&Fit to plan", self.canvas.fit, QKeySequence("F"))
         self.act_about = self._act("&About Swathe", self.show_about)
+        self.act_guide = self._act("&Guide", self.show_guide, QKeySequence.StandardKey.HelpContents,
+                                   "What each mode does, every shortcut, and the words used")
+        if self.act_guide.shortcut().isEmpty():  # platforms without a standard help key
+            self.act_guide.setShortcut(QKeySequence("F1"))
+        self.guide_box: QDialog | None = None
         self.mode_group = QActionGroup(self)
         self.act_select = QAction("Select / move", self, checkable=True)
         self.act_select.setShortcut(QKeySequence("S"))
@@ -250,6 +262,9 @@ class MainWindow(QMainWindow):
                 ("circle", "Draw circle", "C", "Click the centre, then a point on the rim (C)"),
                 ("door", "Place door", "D", "Click the two jambs; they snap to wall ends (D)"),
                 ("measure", "Measure distance", "M", "Click two points (M)"),
+                ("zone", "Draw zone", "Z", "Click the zone's corners; double-click or Enter "
+                 "ends it, then give its kind (keep out, slow, margin, one way), its number "
+                 "and label (Z)"),
                 ("gap", "Gap between elements", "G", "Click two walls, obstacles, doors or "
                  "zones (G)")):
             a = QAction(text, self, checkable=True)
@@ -265,6 +280,10 @@ class MainWindow(QMainWindow):
         self.act_relabel = self._act("Re&label plan element...",
                                      lambda: self.canvas.plan_gestures.relabel(), None,
                                      "A new label for the selected obstacle, door or zone")
+        self.act_edit_zone = self._act("Edit &zone rule...",
+                                       lambda: self.canvas.plan_gestures.edit_zone(), None,
+                                       "Change the selected zone's kind, speed cap, margin, "
+                                       "direction or label")
         self.thickness_spin = QDoubleSpinBox()
         self.thickness_spin.setRange(0.01, 2.0)
         self.thickness_spin.setDecimals(3)
@@ -299,11 +318,13 @@ class MainWindow(QMainWindow):
         e.addAction(self.act_delete)
         e.addAction(self.act_clear_heading)
         e.addAction(self.act_relabel)
+        e.addAction(self.act_edit_zone)
         pm = mb.addMenu("&Plan")
         for a in self.plan_mode_actions.values():
             pm.addAction(a)
         pm.addSeparator()
         pm.addAction(self.act_relabel)
+        pm.addAction(self.act_edit_zone)
         v = mb.addMenu("&View")
         v.addAction(self.act_fit)
         v.addAction(self.act_band)
@@ -332,6 +353,8 @@ class MainWindow(QMainWindow):
         self.route_finder = RouteFinderActions(self)  # Route > Find / Repair route
         self.route_finder.install()
         h = mb.addMenu("&Help")
+        h.addAction(self.act_guide)
+        h.addSeparator()
         h.addAction(self.act_about)
 
     def _build_toolbars(self) -> None:
@@ -339,11 +362,6 @@ class MainWindow(QMainWindow):
         tools.setObjectName("tools")
         tools.addAction(self.act_select)
         tools.addAction(self.act_add)
-        tools.addSeparator()
-        for a in self.plan_mode_actions.values():
-            tools.addAction(a)
-        tools.addWidget(QLabel(" wall "))
-        tools.addWidget(self.thickness_spin)
         tools.addSeparator()
         tools.addAction(self.act_fit)
         tools.addAction(self.act_undo)
@@ -391,6 +409,22 @@ class MainWindow(QMainWindow):
         self.transitions_check.clicked.connect(self._transitions_edited)
         bar.addWidget(self.transitions_check)
         self.addToolBar(bar)
+        # The plan tools on a row of their own: on one row with the rest they overflowed
+        # behind a ">>" button in windows up to ~1400 px wide.
+        self.addToolBarBreak()
+        plan = QToolBar("Plan tools", self)
+        plan.setObjectName("plan_tools")
+        plan.addWidget(QLabel(" Plan "))
+        for a in self.plan_mode_actions.values():
+            plan.addAction(a)
+        plan.addWidget(QLabel(" wall "))
+        plan.addWidget(self.thickness_spin)
+        plan.addSeparator()
+        plan.addAction(self.act_relabel)
+        plan.addAction(self.act_edit_zone)
+        self.act_relabel.setIconText("Relabel")
+        self.act_edit_zone.setIconText("Zone rule")
+        self.addToolBar(plan)
 
     def _dock(self, title: str, name: str, widget: QWidget,
               area: Qt.DockWidgetArea) -> QDockWidget:
@@ -418,6 +452,9 @@ class MainWindow(QMainWindow):
         self._later_panels: dict[str, QWidget | None] | None = None
         self.chassis_dock = self._dock("Chassis", "chassis", QWidget(), L)
         self.results_dock = self._dock("Check results", "results", QWidget(), R)
+        self.legend_dock = self._dock("Legend", "legend", QWidget(), R)
+        self.tabifyDockWidget(self.results_dock, self.legend_dock)
+        self.results_dock.raise_()
         self.plots_dock = self._dock("Speed and wheel rates", "plots", QWidget(), B)
         self.schedule_dock = self._dock("Schedule", "schedule", QWidget(), B)
         self.tabifyDockWidget(self.plots_dock, self.schedule_dock)
@@ -434,22 +471,15 @@ class MainWindow(QMainWindow):
             results = self._panel("panels", "ResultsPanel")
             plots = self._panel("plots", "PlotsPanel")
             table = self._panel("panels", "ScheduleTable")
+            legend = self._panel("legend", "LegendPanel")
             self._later_panels = {"chassis": chassis, "results": results, "plots": plots,
-                                  "schedule": table}
+                                  "schedule": table, "legend": legend}
+            self.legend_dock.setWidget(legend or _placeholder(
+                "The legend is not available in this build."))
             self.chassis_dock.setWidget(chassis or _placeholder(
                 "The chassis editor is not available in this build."))
-            if results is not None:
-                # Scrolls rather than squeezing its tables and buttons below their size in a
-                # short window (or while the out-of-date message takes its share).
-                scroll = QScrollArea()
-                scroll.setWidgetResizable(True)
-                scroll.setFrameShape(QScrollArea.Shape.NoFrame)
-                scroll.setHorizontalScrollBarPolicy(Qt.ScrollBarPolicy.ScrollBarAlwaysOff)
-                scroll.setWidget(results)
-                self.results_dock.setWidget(scroll)
-            else:
-                self.results_dock.setWidget(_placeholder(
-                    "The results list is not available in this build."))
+            self.results_dock.setWidget(results or _placeholder(
+                "The results list is not available in this build."))
             if results is not None and hasattr(results, "zoomRequested"):
                 results.zoomRequested.connect(self.canvas.center_on)
             if results is not None and hasattr(results, "solidCited"):
@@ -491,13 +521,27 @@ class MainWindow(QMainWindow):
         self.hover_text = ""
 
     # -- status -----------------------------------------------------------------------------
+    #: Pixels kept free between the hover read-out and the summary on the right.
+    STATUS_GAP_PX = 16
+
+    def status_room_px(self) -> int:
+        """How wide a status message may be without running into the summary."""
+        sb = self.statusBar()
+        right = min([w.x() for w in (self.summary_label, self.cursor_label) if w.isVisible()]
+                    or [sb.width()])
+        return max(0, right - 8 - self.STATUS_GAP_PX)  # Qt starts messages 6 px in
+
     def _hover(self, text: str) -> None:
         self.hover_text = text
+        shown = text
         if text:
-            self.statusBar().showMessage(text)
+            # Cut with an ellipsis where the summary starts (the canvas's tooltip has it all).
+            shown = self.statusBar().fontMetrics().elidedText(
+                text, Qt.TextElideMode.ElideRight, self.status_room_px())
+            self.statusBar().showMessage(shown)
         elif self.statusBar().currentMessage() == self._last_hover_shown:
             self.statusBar().clearMessage()
-        self._last_hover_shown = text
+        self._last_hover_shown = shown
 
     def _cursor(self, x: float, y: float) -> None:
         self.cursor_label.setText(f"x {x:8.2f} m   y {y:8.2f} m")
@@ -649,6 +693,18 @@ class MainWindow(QMainWindow):
     def show_input_error(self, exc: SwatheInputError, action: str) -> QMessageBox:
         return self.show_error(f"Swathe could not {action}",
                                f"{exc.message}\n\nNothing was changed in the open project.")
+
+    def show_guide(self) -> QDialog:
+        """Help > Guide: modes, shortcuts (read from the actions now) and words."""
+        from .guide import GuideDialog
+
+        if self.guide_box is None:
+            self.guide_box = GuideDialog(self)
+        else:
+            self.guide_box.reload()
+        self.guide_box.show()
+        self.guide_box.raise_()
+        return self.guide_box
 
     def show_about(self) -> QMessageBox:
         box = QMessageBox(self)
@@ -931,6 +987,9 @@ class MainWindow(QMainWindow):
     def _menu_new(self) -> None:
         if self.confirm_discard():
             self.doc.new_project()
+            self.statusBar().showMessage(
+                f"New project: open a floor plan ({_keys(self.act_open_plan)}) or draw walls, "
+                f"then press {_keys(self.act_add)} to add a route.", 8000)
 
     def _menu_open(self) -> None:
         if not self.confirm_discard():

@@ -690,6 +690,21 @@ def _table(headers: list[str]) -> QTableWidget:
     return t
 
 
+def _numbers_whole(t: QTableWidget) -> None:
+    """Number columns as wide as their header and values; the first (words) column takes
+    what is left and elides, so a narrow dock never cuts a number (the words are also in
+    the row's tooltip and the message under the table)."""
+    hdr = t.horizontalHeader()
+    hdr.setStretchLastSection(False)
+    hdr.setMinimumSectionSize(28)  # the words column may shrink to its marker icon
+    hdr.setSectionResizeMode(0, QHeaderView.ResizeMode.Stretch)
+    for col in range(1, t.columnCount()):
+        hdr.setSectionResizeMode(col, QHeaderView.ResizeMode.ResizeToContents)
+    t.setTextElideMode(Qt.TextElideMode.ElideRight)
+    t.setHorizontalScrollBarPolicy(Qt.ScrollBarPolicy.ScrollBarAlwaysOff)
+    t.setMinimumHeight(t.horizontalHeader().sizeHint().height() + 2 * 22 + 6)  # two rows
+
+
 def compute_sizing(project: Any, route_name: str, token: CancelToken,
                    tolerance_m: float | None = None) -> dict:
     """The sizing answers for one route, in the background: the core's
@@ -757,9 +772,7 @@ class ResultsPanel(QWidget):
         self.violations.cellClicked.connect(self._violation_clicked)
         self.violations.currentCellChanged.connect(
             lambda r, _c, _pr, _pc: self._violation_clicked(r, 0))
-        hdr = self.violations.horizontalHeader()
-        for col in range(3):
-            hdr.setSectionResizeMode(col, QHeaderView.ResizeMode.ResizeToContents)
+        _numbers_whole(self.violations)
         lay.addWidget(self.violations, 3)
         # The selected violation's full message, wrapped, where a narrow dock can show it.
         self.violation_message = QLabel()
@@ -769,10 +782,12 @@ class ResultsPanel(QWidget):
         lay.addWidget(self.violation_message)
 
         lay.addWidget(QLabel("Doors passed"))
-        self.doors = _table(["Door", "Width (m)", "Least clearance (mm)"])
-        for col in range(2):
-            self.doors.horizontalHeader().setSectionResizeMode(
-                col, QHeaderView.ResizeMode.ResizeToContents)
+        self.doors = _table(["Door", "Width (m)", "Clearance (mm)"])
+        for col, tip in enumerate(("The door's label", "Width of the opening between its jambs",
+                                   "Least clearance of the footprint while it passes the "
+                                   "door")):
+            self.doors.horizontalHeaderItem(col).setToolTip(tip)
+        _numbers_whole(self.doors)
         lay.addWidget(self.doors, 1)
 
         box = QGroupBox("What would fit")
@@ -808,6 +823,7 @@ class ResultsPanel(QWidget):
         for sig in ("chassisChanged", "routesChanged", "floorplanChanged"):
             getattr(doc, sig).connect(self._refresh_sizing_label)
         self._violation_rows: list[Any] = []
+        self.sizing_box = box
         self._results_widgets = (self.verdict, self.detail, self.violations,
                                  self.violation_message, self.doors, box)
         doc.staleChanged.connect(self._show_stale)
@@ -824,6 +840,8 @@ class ResultsPanel(QWidget):
         self.stale_label.setVisible(bool(reason))
         for w in self._results_widgets:
             w.setEnabled(not reason)  # greyed while out of date
+        # Sizing would answer for the last valid chassis too; its room goes to the message.
+        self.sizing_box.setVisible(not reason)
 
     def _route_name(self) -> str | None:
         r = self.doc.route()

@@ -55,6 +55,7 @@ from kinematics.analysis.results import (  # noqa: F401 - re-exported for older 
     violation_label,
     violations_of,
 )
+from kinematics.files.project import drive_word
 
 from .palette import (  # noqa: F401 - re-exported for the report and tests
     BLACK,
@@ -480,7 +481,7 @@ def _draw(p: QPainter, project: Any, plans: dict, checks: dict, route_name: str 
     if title:
         _draw_title(p, project, plans, checks, route_name, errors, W, title_h, u, f_title,
                     f_sub)
-    _draw_legend(p, QRectF(W - legend_w - m, plan_rect.top(), legend_w, plan_rect.height()),
+    draw_legend(p, QRectF(W - legend_w - m, plan_rect.top(), legend_w, plan_rect.height()),
                  [r.name for r in routes], index_of, checks, u, f_label, f_small,
                  project.floorplan.zones)
     if footer:
@@ -700,7 +701,7 @@ def _draw_title(p: QPainter, project: Any, plans: dict, checks: dict, route_name
                Qt.AlignmentFlag.AlignLeft | Qt.AlignmentFlag.AlignVCenter,
                fmt.elidedText(title, Qt.TextElideMode.ElideRight, left.width()))
     sub = (f"plan: {project.floorplan.name or 'unnamed'}   \u00b7   chassis: {chassis.name} "
-           f"({chassis.drive}), margin {chassis.margin_m * 1000:.0f} mm")
+           f"({drive_word(chassis.drive)}), margin {chassis.margin_m * 1000:.0f} mm")
     errs = [f"{k}: {v}" for k, v in errors.items()]
     if errs:
         sub += "   \u00b7   " + "; ".join(errs)
@@ -742,11 +743,16 @@ def _zone_captions(p: QPainter, view: _View, zones: Sequence[Any], u: float,
         p.drawText(r, Qt.AlignmentFlag.AlignCenter, text)
 
 
-def _draw_legend(p: QPainter, rect: QRectF, names: Sequence[str], index_of: dict, checks: dict,
-                 u: float, f: QFont, f_small: QFont, zones: Sequence[Any] = ()) -> None:
-    zone_rows = [("zone", ZONE_WORDS[kind], kind) for kind in ZONE_STYLE
-                 if any(z.kind == kind for z in zones)]
-    rows = legend_rows(names, checks, index_of, zone_rows)
+def zone_legend_rows(zones: Sequence[Any]) -> list[tuple[str, str, Any]]:
+    """``("zone", words, kind)`` for each zone kind present, in legend order."""
+    return [("zone", ZONE_WORDS[kind], kind) for kind in ZONE_STYLE
+            if any(z.kind == kind for z in zones)]
+
+
+def draw_legend(p: QPainter, rect: QRectF, names: Sequence[str], index_of: dict, checks: dict,
+                u: float, f: QFont, f_small: QFont, zones: Sequence[Any] = ()) -> None:
+    """The legend box in ``rect``: the picture's, and the window's legend dock."""
+    rows = legend_rows(names, checks, index_of, zone_legend_rows(zones))
     row_h = 25 * u
     head_h = 28 * u
     needed = head_h + row_h * len(rows) + 10 * u

@@ -27,7 +27,7 @@ from PySide6.QtGui import (
     QPdfWriter,
 )
 
-from kinematics.analysis.report_text import CAUTION
+from kinematics.analysis.report_text import CAUTION, route_stops, stop_lines
 from kinematics.analysis.results import (  # noqa: F401 - chassis_lines re-exported
     VIOLATION_WORDS,
     chassis_lines,
@@ -228,6 +228,18 @@ def draw_report(p: QPainter, size: tuple[float, float], project: Any, plans: dic
     else:
         ly += _paragraph(p, QRectF(m, ly, col_w, 30 * u), "No door is passed.", 17 * u)
     ly += 14 * u
+    # Stops: where each route rests and how long it waits (the plots include the dwell).
+    slines = []
+    for r in project.routes:
+        if r.name in plans and getattr(r, "stops", ()):
+            slines += [f"{r.name}: " + ln.strip() for ln in stop_lines(
+                route_stops(plans[r.name], r))]
+    if slines:
+        ly += _heading(p, m, ly, col_w, "Stops", u)
+        ly += _paragraph(p, QRectF(m, ly, col_w, 260 * u),
+                         "\n".join(slines[:6]) + (f"\n\u2026 and {len(slines) - 6} more."
+                                                   if len(slines) > 6 else ""), 16 * u)
+        ly += 14 * u
     ly += _heading(p, m, ly, col_w, "What would fit", u)
     lines = report_sizing_lines(checks, sizing)
     text = "\n".join(lines) if lines else ("Not computed for this report (the results panel's "

@@ -106,6 +106,11 @@ STYLES: dict[str, Style] = {
 JAMB_R_PX = 3.0
 WAYPOINT_R_PX = 7.5
 VIOLATION_R_PX = 8.0
+#: A waypoint's heading handle (the knob at the end of its purple line, dragged to turn the
+#: heading): a small filled disc, a shape no violation marker has (a diamond marks a blocked
+#: waypoint).
+HANDLE_SHAPE = "circle"
+HANDLE_R_PX = 5.0
 #: Route lines, pixels.
 ROUTE_WIDTH_PX = 2.5
 

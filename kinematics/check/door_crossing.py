@@ -102,7 +102,8 @@ def nearest_fraction(seg: Segment, a: Sequence[float], b: Sequence[float]
 
 
 def door_station(segs: Sequence[Segment], stations: np.ndarray, near: Sequence[int],
-                 a: Sequence[float], b: Sequence[float]) -> tuple[int, float]:
+                 a: Sequence[float], b: Sequence[float],
+                 memo: Sequence[dict] | None = None) -> tuple[int, float]:
     """Segment and route station where the reference point crosses the door line.
 
     Parameters
@@ -116,6 +117,10 @@ def door_station(segs: Sequence[Segment], stations: np.ndarray, near: Sequence[i
         approach among ``near`` (all segments where ``near`` is empty).
     a, b : (x, y)
         The door's jambs.
+    memo : sequence of dict, optional
+        One dict per segment keeping its crossing fraction for this door line (a checker
+        passes the ones it keeps with each segment's result, so an unchanged segment is not
+        searched again).
 
     Examples
     --------
@@ -126,8 +131,14 @@ def door_station(segs: Sequence[Segment], stations: np.ndarray, near: Sequence[i
     """
     near = sorted(set(int(i) for i in near))
     rest = [i for i in range(len(segs)) if i not in set(near)]
+    key = ("crossing", tuple(map(float, a)), tuple(map(float, b)))
     for i in near + rest:
-        f = crossing_fraction(segs[i], a, b)
+        if memo is not None and key in memo[i]:
+            f = memo[i][key]
+        else:
+            f = crossing_fraction(segs[i], a, b)
+            if memo is not None:
+                memo[i][key] = f
         if f is not None:
             return i, float(stations[i]) + f * segs[i].length_m
     best = (math.inf, 0, 0.0)

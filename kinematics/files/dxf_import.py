@@ -8,14 +8,16 @@ What is read, from model space only:
   any depth. An entity on layer ``0`` inside a block takes the layer of its INSERT, as in
   the DXF convention.
 - Curves are flattened outward, so a clearance is never read larger than the drawing's: a
-  circle becomes a circumscribed polygon whose vertices lie at most :data:`SAGITTA_M` (1 mm)
+  circle becomes a circumscribed polygon whose vertices lie at most :data:`SAGITTA_M` (0.25 mm)
   outside it; arcs and polyline bulges become chords whose sagitta,
-  ``r (1 - cos(dtheta / 2))`` for a chord spanning ``dtheta``, is at most 1 mm, and
-  ellipses and splines are sampled evenly to the same 1 mm (for a spline, Wang's bound on
+  ``r (1 - cos(dtheta / 2))`` for a chord spanning ``dtheta``, is at most 0.25 mm,
+  and ellipses and splines are sampled evenly to the same 0.25 mm (for a spline, Wang's bound on
   each Bezier piece), their size checked first, in plan metres
-  after every block transform. An outline holding such chords is then grown by 1 mm (a
-  solid outward, a wall on both faces: its thickness plus 2 mm), so the flattened solid
-  contains the true one and exceeds it by at most 2 mm.
+  after every block transform. An outline holding such chords is then grown by 0.25 mm
+  (a solid outward, a wall on both faces: its thickness plus 0.5 mm), so the flattened solid
+  contains the true one and exceeds it by at most
+  :data:`~kinematics.files.curves.CURVE_EXCESS_M` (0.5 mm), which the check keeps back from
+  its tolerance.
 - Units come from the header variable ``$INSUNITS`` (1 inch, 2 foot, 4 millimetre,
   5 centimetre, 6 metre, ...); ``0`` (unitless) is read as metres. ``units=`` ("mm", "cm",
   "m", "in", "ft") overrides the header: architects often draw in millimetres and leave
@@ -32,7 +34,11 @@ What is read, from model space only:
   open one is a :class:`~kinematics.files.floorplan.Wall` of ``wall_thickness_m``.
 - ``zones=[ZoneLayer(...)]`` (in a project: ``"zones": [{"layer", "kind", ...}]``) turns
   every closed outline on a named layer into a zone of that kind (open ones there are
-  skipped); a zone layer is read only as zones, whatever ``layers`` says.
+  skipped); a zone layer is read only as zones, whatever ``layers`` says. A curved zone
+  outline is flattened outward as a solid's is (circumscribed circles, other curves grown
+  by the chord tolerance), whatever its kind: a keep-out, margin or slow zone then covers
+  every place the drawn one could, and a one-way zone is judged over that slightly larger
+  area too.
 - On a door layer a LINE (or a two-point open polyline) is a door opening between its
   ends; other door-layer geometry (swing arcs, leaves) is skipped. A door is labelled by
   the nearest TEXT or MTEXT on a door layer within 1 m of its midpoint, else ``door N``.
@@ -944,6 +950,10 @@ def import_dxf(path: str | Path, layers: dict[str, list[str]] | None = None,
             if closed and math.dist(clean[0], clean[-1]) <= tol:
                 clean = clean[:-1]
             if closed and len(clean) >= 3:
+                if sh.curved:  # outward as a solid: a cap or rule wherever it could apply
+                    with np.errstate(all="ignore"):
+                        grown = grow_outline(np.array(clean), SAGITTA_M)
+                    clean = [tuple(q) for q in grown.tolist()]
                 zone_list.append(zone_of[sh.layer.lower()].zone(tuple(clean)))
             continue
         if closed:
