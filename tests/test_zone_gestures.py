@@ -406,3 +406,53 @@ def test_drag_a_zone_corner_and_refuse_a_crossing_outline(make_window, tmp_path,
     assert [z.points[k] for k in (0, 2, 3)] == [fp1.zones[0].points[k] for k in (0, 2, 3)]
     assert win.doc.save()
     assert load_project(win.doc.path).floorplan.zones == win.doc.project.floorplan.zones
+
+
+def test_dxf_layers_become_zones_in_the_window_import(make_window, tmp_path, qtbot):
+    # Source: issue 12 (DXF import can map layers to zone kinds); ezdxf documentation
+    # (LWPOLYLINE, CIRCLE, layers), DXF $INSUNITS 6 = metres.
+    import ezdxf
+
+    from app.main_window import DxfImportDialog
+
+    d = ezdxf.new()
+    d.header["$INSUNITS"] = 6
+    msp = d.modelspace()
+    for name in ("A-WALL", "WARD", "SPILL"):
+        d.layers.add(name)
+    msp.add_lwpolyline([(0, 0), (10, 0), (10, 4), (0, 4)], close=False,
+                       dxfattribs={"layer": "A-WALL"})
+    msp.add_lwpolyline([(2, 0.5), (5, 0.5), (5, 3.5), (2, 3.5)], close=True,
+                       dxfattribs={"layer": "WARD"})
+    msp.add_circle((8, 2), 0.5, dxfattribs={"layer": "SPILL"})
+    path = tmp_path / "zoned.dxf"
+    d.saveas(path)
+    win = make_window(write_project(tmp_path))
+
+    def fill():
+        dlg = QApplication.activeModalWidget()
+        if not isinstance(dlg, DxfImportDialog):
+            QTimer.singleShot(20, fill)
+            return
+        dlg.combos["A-WALL"].setCurrentText("walls")
+        dlg.combos["WARD"].setCurrentText("slow zone")
+        assert dlg.values["WARD"].suffix() == " m/s"
+        dlg.values["WARD"].setValue(0.3)
+        dlg.combos["SPILL"].setCurrentText("keep-out zone")
+        dlg.accept()
+
+    QTimer.singleShot(0, fill)
+    with qtbot.waitSignal(win.taskFinished, timeout=10_000):
+        assert win.open_floorplan_file(path)
+    fp = win.doc.project.floorplan
+    kinds = sorted((z.kind, z.label, z.speed_mps) for z in fp.zones)
+    assert kinds == [("keep_out", "SPILL", None), ("slow", "WARD", 0.3)]
+    assert len(fp.walls) == 1 and not fp.obstacles
+    # The circle's zone holds the true circle (flattened outward, textbook geometry).
+    spill = [z for z in fp.zones if z.kind == "keep_out"][0]
+    assert Polygon(spill.points).exterior.distance(shapely.Point(8, 2)) >= 0.5 - 1e-9
+    # Saved with the project's import object, it reads back the same zones.
+    assert win.doc.save()
+    again = load_project(win.doc.path)
+    assert again.floorplan.zones == fp.zones
+    assert again.floorplan_ref["zones"][0]["kind"] in ("slow", "keep_out")
