@@ -53,6 +53,7 @@ from kinematics.check.sweep import (
     placed_footprints,
     prepare_footprint,
     rotation_parts,
+    sweep_allowance,
     translation_parts,
 )
 from kinematics.motion.arrays import unique_sorted
@@ -488,7 +489,7 @@ def check_train(plan_or_segments: Any, chassis: Any, index: ObstacleIndex,
         fp = prepare_footprint(t.footprint)
         margin = chassis.trailer_margin(j) if hasattr(chassis, "trailer_margin") else \
             (t.margin_m if t.margin_m is not None else chassis.margin_m)
-        chunks = sweep_trailer(trace, j, fp, tolerance_m)
+        chunks = sweep_trailer(trace, j, fp, sweep_allowance(tolerance_m))
         all_chunks.append(chunks)
         for ck in chunks:
             extra_parts[ck.segment].append(ck.parts)
