@@ -47,7 +47,6 @@ from .render import (
     INK,
     VERMILLION,
     draw_marker,
-    draw_plots,
     ensure_app,
     font,
     image_png_bytes,
@@ -319,9 +318,12 @@ def _plots_in_gap(p: QPainter, rect: QRectF, project: Any, plans: dict, checks: 
                                               None))
         except (SwatheInputError, ValueError):
             continue
+        from .plots import draw_plots, hitch_limits_of
+
         h = min(rect.height(), 520 * u)
         draw_plots(p, QRectF(rect.left(), rect.top(), rect.width(), h), sched,
-                   title=f"Speed and wheel rates: {name}", scale=1.1 * u)
+                   title=f"Speed and wheel rates: {name}", scale=1.1 * u,
+                   hitch_limits=hitch_limits_of(getattr(sched, "chassis", None)))
         return
 
 
