@@ -182,7 +182,7 @@ def test_legend_dock_lists_the_zone_kinds_with_the_pictures_samples(make_window,
                                                                     qtbot):
     # Source: issue 12 (zones drawn with their own hatching and a legend); the rows are the
     # picture's (app.scene.legend_rows), so window and picture agree.
-    from app.render import zone_legend_rows
+    from app.scene import zone_legend_rows
     from kinematics.files import plan_edits as pe
 
     win = make_window(write_project(tmp_path))
