@@ -492,9 +492,6 @@ class MainWindow(QMainWindow):
         self._later_panels: dict[str, QWidget | None] | None = None
         self.chassis_dock = self._dock("Chassis", "chassis", QWidget(), L)
         self.results_dock = self._dock("Check results", "results", QWidget(), R)
-        self.legend_dock = self._dock("Legend", "legend", QWidget(), R)
-        self.tabifyDockWidget(self.results_dock, self.legend_dock)
-        self.results_dock.raise_()
         self.plots_dock = self._dock("Speed and wheel rates", "plots", QWidget(), B)
         self.schedule_dock = self._dock("Schedule", "schedule", QWidget(), B)
         self.tabifyDockWidget(self.plots_dock, self.schedule_dock)
@@ -502,6 +499,11 @@ class MainWindow(QMainWindow):
         self.resizeDocks([self.chassis_dock, self.results_dock], [300, 320],
                          Qt.Orientation.Horizontal)
         self.resizeDocks([self.plots_dock], [240], Qt.Orientation.Vertical)
+        # Tabified beside the results once the window is shown (showEvent): a second tab
+        # group made before the first show leaves a stray copy of a tab bar painted where the
+        # window's first size put it (Qt 6.11; over the plots in a larger window).
+        self.legend_dock = self._dock("Legend", "legend", QWidget(), R)
+        self._legend_tabified = False
         self.canvas.firstPainted.connect(self._build_later_panels)
 
     def _build_later_panels(self) -> dict[str, QWidget | None]:
@@ -1182,6 +1184,10 @@ class MainWindow(QMainWindow):
 
     def showEvent(self, ev) -> None:  # noqa: N802 - Qt's name
         super().showEvent(ev)
+        if not self._legend_tabified:
+            self._legend_tabified = True
+            self.tabifyDockWidget(self.results_dock, self.legend_dock)
+            self.results_dock.raise_()
         if self.first_shown_at is None:
             self.first_shown_at = time.perf_counter()
 

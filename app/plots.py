@@ -125,6 +125,9 @@ class SchedulePlots(pg.GraphicsLayoutWidget):
         vb = self.speed_plot.getViewBox()
         vb.sigRangeChanged.connect(self.place_cap_labels)
         vb.sigResized.connect(self.place_cap_labels)
+        for plot in (self.rate_plot, self.hitch_plot):
+            plot.getViewBox().sigRangeChanged.connect(self.keep_limit_labels_inside)
+            plot.getViewBox().sigResized.connect(self.keep_limit_labels_inside)
         self.side_by_side = False
         self._ranges: list[tuple[pg.PlotItem, tuple[float, float], tuple[float, float] | None]] = []
 
@@ -243,10 +246,29 @@ class SchedulePlots(pg.GraphicsLayoutWidget):
             top = max(top, lim)
         self._set_range(self.hitch_plot, (-top * HEADROOM, top * HEADROOM))
 
+    def keep_limit_labels_inside(self, *_args) -> None:
+        """A limit's name goes to the other side of its line where the plot is too short for
+        it on its own side (it would be cut at the plot's edge)."""
+        for line in self.limit_lines:
+            vb = line.getViewBox()
+            if vb is None:
+                continue
+            box = vb.sceneBoundingRect()
+            lab = line.label
+            above = line.value() >= 0
+            for a in ([(1, 1), (1, 1)], [(1, 0), (1, 0)])[:: 1 if above else -1]:
+                lab.anchors = a
+                lab.updatePosition()
+                lab.updateTransform(force=True)
+                r = lab.sceneBoundingRect()
+                if r.top() >= box.top() and r.bottom() <= box.bottom():
+                    break
+
     def place_cap_labels(self, *_args) -> None:
         """Put each cap's name above its dotted line, else below it, where it covers no other
         name (a cap label or the limit lines' labels); a name with no free place is hidden
         (its dotted line stays). Redone when the view or its size changes."""
+        self.keep_limit_labels_inside()
         taken = []
         for line in self.limit_lines:
             if line.getViewBox() is self.speed_plot.getViewBox():

@@ -209,3 +209,18 @@ def test_f1_opens_the_guide_listing_every_shortcut_mode_and_word(make_window, qt
     win.act_picture.setShortcut(QKeySequence("Ctrl+Alt+P"))
     win.show_guide()
     assert "Ctrl+Alt+P" in win.guide_box.plain_text()
+
+
+def test_each_tab_group_has_one_tab_bar_on_screen(make_window):  # noqa: F811
+    # A stray copy of a dock tab bar was painted over the plots' controls at 1920x1080.
+    from PySide6.QtWidgets import QTabBar
+
+    win = _demo_at(make_window, 1920, 1080)
+    bars = [t for t in win.findChildren(QTabBar) if t.isVisible()
+            and t.window() is win]
+    tabs = [tuple(t.tabText(i) for i in range(t.count())) for t in bars]
+    assert len(tabs) == len(set(tabs)), tabs
+    assert ("Check results", "Legend") in tabs
+    assert ("Speed and wheel rates", "Schedule") in tabs
+    for t in bars:
+        assert win.rect().contains(t.mapTo(win, t.rect().bottomRight())), t.geometry()
