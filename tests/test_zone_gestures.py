@@ -182,7 +182,7 @@ def test_legend_dock_lists_the_zone_kinds_with_the_pictures_samples(make_window,
                                                                     qtbot):
     # Source: issue 12 (zones drawn with their own hatching and a legend); the rows are the
     # picture's (app.scene.legend_rows), so window and picture agree.
-    from app.render import zone_legend_rows
+    from app.scene import zone_legend_rows
     from kinematics.files import plan_edits as pe
 
     win = make_window(write_project(tmp_path))
@@ -286,6 +286,15 @@ def test_zones_and_stops_agree_in_window_cli_report_and_schedule(make_window, ca
                                              sched.samples.heading_rad]))
     inside = shapely.intersects(fps, Polygon(ward.points))
     assert inside.any() and np.all(v[inside] <= ward.speed_mps + 1e-9)
+    # The plots panel draws that schedule: its speed curve spans the dwell and rests 15 s.
+    plots = win._build_later_panels()["plots"]
+    plots.set_x_axis("time")
+    plots.refresh()
+    curve = [c for c in plots.speed_plot.listDataItems() if c.name() == "speed"][0]
+    px_, py_ = curve.getData()
+    assert px_[-1] == pytest.approx(cli["samples"][-1]["t_s"], abs=1e-6)
+    rest = px_[(py_ == 0.0) & (px_ > 1.0) & (px_ < px_[-1] - 1.0)]
+    assert rest.max() - rest.min() >= 15.0 - 1e-6
     # Check: window and CLI give the same verdict and least clearance.
     code, chk = _cli_json(capsys, "check", str(ZONED), "--json")
     r = chk["routes"][0]
@@ -365,3 +374,85 @@ def test_grid_snap_in_the_window(make_window, tmp_path, qtbot):
     xs = sorted({p[0] for p in r.points})
     ys = sorted({p[1] for p in r.points})
     assert xs == [2.0, 3.5] and ys == [0.5, 1.25]
+
+
+def test_drag_a_zone_corner_and_refuse_a_crossing_outline(make_window, tmp_path, qtbot):
+    # Source: issue 12 (move vertices, one undo step); shared/contract.md (a zone outline
+    # may not cross itself, so the window never makes one).
+    from test_window import drag
+
+    from kinematics.files import plan_edits as pe
+
+    win = make_window(write_project(tmp_path))
+    c = win.canvas
+    fp = pe.add_zone(win.doc.project.floorplan, Zone("slow", CORNERS, "ward", speed_mps=0.4))
+    win.doc.edit_floorplan(fp, "zone")
+    fp1 = win.doc.project.floorplan
+    win.act_select.trigger()
+    click(qtbot, c, 3.0, 1.0)
+    assert c.plan_gestures.selection == ("zone", 0)
+    drag(qtbot, c, (4.0, 0.4), (4.5, 0.7))           # corner 1 moved: a valid outline
+    z = win.doc.project.floorplan.zones[0]
+    assert math.dist(z.points[1], (4.5, 0.7)) <= 1.5 * px(c)
+    assert win.doc.undo_stack.undoText() == "Move zone 0 vertex"
+    win.act_undo.trigger()
+    assert win.doc.project.floorplan == fp1
+    # Past x = 2 the edge from corner 1 to corner 2 would cross the closing edge (x = 2).
+    drag(qtbot, c, (4.0, 0.4), (1.0, 1.0))
+    z = win.doc.project.floorplan.zones[0]
+    # The corner stops at the last place the outline was still a zone; the others stay.
+    assert Polygon(z.points).is_valid
+    assert z.points[1][0] >= 2.0 - 1e-9 and math.dist(z.points[1], (1.0, 1.0)) > 0.5
+    assert [z.points[k] for k in (0, 2, 3)] == [fp1.zones[0].points[k] for k in (0, 2, 3)]
+    assert win.doc.save()
+    assert load_project(win.doc.path).floorplan.zones == win.doc.project.floorplan.zones
+
+
+def test_dxf_layers_become_zones_in_the_window_import(make_window, tmp_path, qtbot):
+    # Source: issue 12 (DXF import can map layers to zone kinds); ezdxf documentation
+    # (LWPOLYLINE, CIRCLE, layers), DXF $INSUNITS 6 = metres.
+    import ezdxf
+
+    from app.main_window import DxfImportDialog
+
+    d = ezdxf.new()
+    d.header["$INSUNITS"] = 6
+    msp = d.modelspace()
+    for name in ("A-WALL", "WARD", "SPILL"):
+        d.layers.add(name)
+    msp.add_lwpolyline([(0, 0), (10, 0), (10, 4), (0, 4)], close=False,
+                       dxfattribs={"layer": "A-WALL"})
+    msp.add_lwpolyline([(2, 0.5), (5, 0.5), (5, 3.5), (2, 3.5)], close=True,
+                       dxfattribs={"layer": "WARD"})
+    msp.add_circle((8, 2), 0.5, dxfattribs={"layer": "SPILL"})
+    path = tmp_path / "zoned.dxf"
+    d.saveas(path)
+    win = make_window(write_project(tmp_path))
+
+    def fill():
+        dlg = QApplication.activeModalWidget()
+        if not isinstance(dlg, DxfImportDialog):
+            QTimer.singleShot(20, fill)
+            return
+        dlg.combos["A-WALL"].setCurrentText("walls")
+        dlg.combos["WARD"].setCurrentText("slow zone")
+        assert dlg.values["WARD"].suffix() == " m/s"
+        dlg.values["WARD"].setValue(0.3)
+        dlg.combos["SPILL"].setCurrentText("keep-out zone")
+        dlg.accept()
+
+    QTimer.singleShot(0, fill)
+    with qtbot.waitSignal(win.taskFinished, timeout=10_000):
+        assert win.open_floorplan_file(path)
+    fp = win.doc.project.floorplan
+    kinds = sorted((z.kind, z.label, z.speed_mps) for z in fp.zones)
+    assert kinds == [("keep_out", "SPILL", None), ("slow", "WARD", 0.3)]
+    assert len(fp.walls) == 1 and not fp.obstacles
+    # The circle's zone holds the true circle (flattened outward, textbook geometry).
+    spill = [z for z in fp.zones if z.kind == "keep_out"][0]
+    assert Polygon(spill.points).exterior.distance(shapely.Point(8, 2)) >= 0.5 - 1e-9
+    # Saved with the project's import object, it reads back the same zones.
+    assert win.doc.save()
+    again = load_project(win.doc.path)
+    assert again.floorplan.zones == fp.zones
+    assert again.floorplan_ref["zones"][0]["kind"] in ("slow", "keep_out")
