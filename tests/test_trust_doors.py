@@ -162,3 +162,9 @@ def test_a_train_door_entry_keeps_the_tug_crossing_and_the_least_body():
     # (x 6.45..6.55) while the tug is at stations 6.45 - 0.3 + 1.15 = 7.30 to
     # 6.55 + 0.4 + 1.15 = 8.10.
     assert 7.30 - 0.011 <= d.min_clearance_station_m <= 8.10 + 0.011
+    # The route's least clearance is the cart's too, placed on that same stretch (it was the
+    # start of the trailer's swept chunk, 2.0).
+    at = chk.min_clearance_at
+    assert at["body"] == "trailer 1 (cart)"
+    assert chk.min_clearance_m == pytest.approx(0.2, abs=0.003)
+    assert 7.30 - 0.011 <= at["station_m"] <= 8.10 + 0.011

@@ -315,6 +315,21 @@ def _chunk_station(stations: np.ndarray, segs: Sequence[Segment], ck: Chunk) -> 
     return float(stations[ck.segment]) + (ck.p0 if seg.kind != "pivot" else 0.0)
 
 
+def _trailer_station(trace: TrainTrace, j: int, fp: Footprint, ck: Chunk,
+                     stations: np.ndarray, segs: Sequence[Segment], x: float, y: float
+                     ) -> float:
+    """Route station where trailer ``j``, within chunk ``ck``, is placed nearest ``(x, y)``
+    (placements every 1 cm of the chunk's progress; a pivot's station is its start)."""
+    st = _chunk_station(stations, segs, ck)
+    if segs[ck.segment].kind == "pivot" or not ck.p1 > ck.p0:
+        return st
+    n = int(min(2000, max(8, math.ceil((ck.p1 - ck.p0) / 0.01))))
+    ps = np.linspace(ck.p0, ck.p1, n + 1)
+    placed = placed_footprints(fp, trace.poses(ck.segment, ps)[:, j + 1])
+    w = int(np.argmin(shapely.distance(placed, shapely.Point(x, y))))
+    return float(stations[ck.segment]) + float(ps[w])
+
+
 def _part_of(fp: Footprint, poses: np.ndarray, solid: Any) -> str:
     sel = poses[np.linspace(0, len(poses) - 1, min(len(poses), 24)).round().astype(int)]
     placed = placed_footprints(fp, sel)
@@ -396,18 +411,11 @@ def _trailer_doors(chunks: Sequence[Chunk], index: ObstacleIndex, stations, segs
     out = {}
     for k, (c, ck, cj) in best.items():
         st = _chunk_station(stations, segs, ck)
-        if cj >= 0 and math.isfinite(c) and segs[ck.segment].kind != "pivot" \
-                and ck.p1 > ck.p0:
+        if cj >= 0 and math.isfinite(c):
             local = shapely.intersection(ck.parts, index.door_boxes[k])
             local = local[~shapely.is_empty(local)]
-            solid = index.geometries[cj]
-            x, y = nearest_point(local, solid, c <= 0.0)
-            # The trailer placement nearest that point, every 1 cm of the chunk's progress.
-            n = int(min(2000, max(8, math.ceil((ck.p1 - ck.p0) / 0.01))))
-            ps = np.linspace(ck.p0, ck.p1, n + 1)
-            placed = placed_footprints(fp, trace.poses(ck.segment, ps)[:, j + 1])
-            w = int(np.argmin(shapely.distance(placed, shapely.Point(x, y))))
-            st = float(stations[ck.segment]) + float(ps[w])
+            x, y = nearest_point(local, index.geometries[cj], c <= 0.0)
+            st = _trailer_station(trace, j, fp, ck, stations, segs, x, y)
         out[k] = (c, ck.segment, st)
     return out
 
@@ -503,7 +511,8 @@ def check_train(plan_or_segments: Any, chassis: Any, index: ObstacleIndex,
             least = c_min
             ck = chunks[bk]
             x, y = nearest_point(ck.parts, index.geometries[bj], c_min <= 0.0)
-            at = {"x": x, "y": y, "station_m": _chunk_station(stations, segs, ck),
+            at = {"x": x, "y": y,
+                  "station_m": _trailer_station(trace, j, fp, ck, stations, segs, x, y),
                   "segment": ck.segment, "solid": index.solids[bj].name, "body": body}
         for k, (c, si, st) in _trailer_doors(chunks, index, stations, segs, trace, j,
                                                   fp).items():
