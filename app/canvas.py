@@ -794,6 +794,11 @@ class PlanCanvas(QWidget):
             xs, ys = [0.0, 10.0], [0.0, 10.0]
         self.view.setRange(xRange=(min(xs), max(xs)), yRange=(min(ys), max(ys)), padding=0.04)
 
+    def highlight_place(self, geoms: Sequence) -> None:
+        """Outline plan places (shapely polygons) in the highlight style; empty clears."""
+        self.plan_gestures.highlight(None)
+        self.plan_gestures.highlight_item.setPath(polygons_path(list(geoms)))
+
     def center_on(self, x: float, y: float, span_m: float = 5.0) -> None:
         """Centre the view on plan point ``(x, y)``, zooming in to about ``span_m`` if wider."""
         (x0, x1), (y0, y1) = self.view.viewRange()

@@ -87,3 +87,52 @@ def test_band_holds_the_trailers(qtbot, tmp_path) -> None:
     assert bool(np.all(shapely.covers(band.buffer(1e-6), shapely.points(pts))))
     doc.undo_stack.setClean()
     w.close()
+
+
+def test_traffic_panel_lists_and_shows_places(qtbot, tmp_path) -> None:
+    from kinematics.analysis.results import check_with_vehicle
+    from kinematics.check.obstacles import ObstacleIndex
+    from kinematics.check.traffic import band_of, traffic
+    from kinematics.files.project import load_project
+    from kinematics.plan.planner import plan_route
+
+    w = _window(qtbot, tmp_path)
+    panel = w.traffic_panel
+    w.traffic_dock.raise_()
+    report = panel.compute()
+    # Source: the same kinematics.check.traffic run straight from the file (as
+    # `swathe check --traffic` does, tested against shapely and analytic widths in
+    # test_traffic.py): the panel lists exactly its conflicts and corridors.
+    proj = load_project(TRAIN)
+    idx = ObstacleIndex(proj.floorplan)
+    bands = []
+    for r in proj.routes:
+        ch = proj.chassis_for(r)
+        bands.append(band_of(check_with_vehicle(plan_route(r, ch), ch, idx, route=r), ch))
+    ref = traffic(bands, idx)
+    assert len(report["conflicts"]) == len(ref["conflicts"]) >= 1
+    assert [c["verdict"] for c in report["corridors"]] == [c["verdict"] for c in
+                                                            ref["corridors"]]
+    for got, want in zip(report["conflicts"], ref["conflicts"]):
+        assert abs(got["area_m2"] - want["area_m2"]) < 1e-9
+    assert panel.table.rowCount() == len(ref["conflicts"]) + len(ref["corridors"])
+    assert panel.table.item(0, 0).text() == "conflict"
+    # Clicking the conflict row centres the plan on it and outlines the overlap itself.
+    panel.table.cellClicked.emit(0, 0)
+    QApplication.processEvents()
+    (x0, x1), (y0, y1) = w.canvas.view.viewRange()
+    c = ref["conflicts"][0]
+    assert abs((x0 + x1) / 2 - c["x"]) < 1e-6 and abs((y0 + y1) / 2 - c["y"]) < 1e-6
+    rect = w.canvas.plan_gestures.highlight_item.path().boundingRect()
+    assert rect.width() * rect.height() >= c["area_m2"] - 1e-6
+    assert rect.contains(rect.center()) and rect.width() < 5.0
+    # An edit greys the list until it is computed again.
+    route = w.doc.route()
+    wp = route.waypoints[-1]
+    w.doc.move_waypoint(w.doc.current_route, len(route.waypoints) - 1, wp.x, wp.y - 0.2)
+    QApplication.processEvents()
+    assert panel.stale_label.isVisibleTo(panel) and not panel.table.isEnabled()
+    panel.compute()
+    assert not panel.stale_label.isVisibleTo(panel) and panel.table.isEnabled()
+    w.doc.undo_stack.setClean()
+    w.close()
