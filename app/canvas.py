@@ -79,11 +79,14 @@ from .scene import (
     VIOLATION_R_PX,
     VIOLATION_SHAPES,
     WAYPOINT_R_PX,
+    ZONE_ARROW_R_PX,
+    ZONE_ARROW_STEP_PX,
+    ZONE_KINDS,
     floorplan_layer,
     route_style,
     violation_layer,
+    zone_layer,
 )
-from .zone_paint import ZONE_STYLE, zone_brush
 
 # Marker shape per violation kind: the scene's (app.scene.VIOLATION_SHAPES, drawn by
 # app.qstyle.marker_path), as in the picture; the words beside them are the analysis's.
@@ -298,7 +301,7 @@ def _symbol_path(symbol: str, size_px: float) -> QPainterPath:
 
 
 _SCENE_SHAPES = {"cross", "triangle", "square", "star", "diamond", "hexagon", "chevron",
-                 "circle"}
+                 "circle", "arrow"}
 
 
 _SYMBOL_PATHS: dict[tuple[str, float], QPainterPath] = {}
@@ -338,7 +341,10 @@ class _Markers(QGraphicsItem):
         for it in self._items:
             it.setPen(pen)
 
-    def setData(self, x, y, symbol=None, brush=None, size=None) -> None:  # noqa: N802
+    def setData(self, x, y, symbol=None, brush=None, size=None, angle=None  # noqa: N802
+                ) -> None:
+        """Show markers at plan points ``x``, ``y``; ``angle`` (radians, counter-clockwise on
+        the plan) turns each one."""
         n = len(x)
 
         def each(v, default):
@@ -350,6 +356,7 @@ class _Markers(QGraphicsItem):
 
         syms, brushes = each(symbol, self._symbol), each(brush, self._brush)
         sizes = each(size, self._size)
+        angles = each(angle, 0.0)
         while len(self._items) < n:
             it = QGraphicsPathItem(self)
             it.setFlag(_IGNORES_VIEW)
@@ -362,6 +369,7 @@ class _Markers(QGraphicsItem):
                 continue
             it.setPos(float(x[k]), float(y[k]))
             it.setPath(_symbol_path(syms[k], float(sizes[k])))
+            it.setRotation(-math.degrees(angles[k]))
             it.setBrush(brushes[k] if brushes[k] is not None else _NO_BRUSH)
             it.setVisible(True)
         self.data = [(float(x[k]), float(y[k])) for k in range(n)]
@@ -553,9 +561,12 @@ class PlanCanvas(QWidget):
         from .plan_gestures import PlanGestures
 
         self.plan_gestures = PlanGestures(self)  # plan drawing, editing and measuring
-        for keys, slot in (([Qt.Key.Key_Return, Qt.Key.Key_Enter], self.plan_gestures.finish),
-                           ([Qt.Key.Key_Escape], self.plan_gestures.cancel)):
-            act = QAction(self)
+        for keys, slot, text in (
+                ([Qt.Key.Key_Return, Qt.Key.Key_Enter], self.plan_gestures.finish,
+                 "Finish the wall, polygon or zone being drawn"),
+                ([Qt.Key.Key_Escape], self.plan_gestures.cancel,
+                 "Cancel the drawing or measurement under way")):
+            act = QAction(text, self)  # the text names it in Help > Guide
             act.setShortcuts([QKeySequence(k) for k in keys])
             act.setShortcutContext(Qt.ShortcutContext.WidgetWithChildrenShortcut)
             act.triggered.connect(slot)
@@ -606,17 +617,28 @@ class PlanCanvas(QWidget):
         # pixels would shift against a fresh paint).
         for it in (self.walls_item, self.obstacles_item):
             it.setCacheMode(QGraphicsItem.CacheMode.DeviceCoordinateCache)
-        # Zones under the solids: a faint fill per kind and the kind's outline style (the
-        # picture adds hatching; here patterns would scale with the zoom).
+        # Zones under the band and the solids, in the scene's zone styles as the picture
+        # draws them: fill, hatch (laid in screen pixels, as the picture's) and outline.
         self.zone_items = {}
-        for kind in ZONE_STYLE:
-            fill, _hatch, zpen = zone_brush(kind, alpha=55)
-            it = QGraphicsPathItem()
-            it.setPen(zpen)
-            it.setBrush(fill)
-            it.setZValue(-6)
-            add(it)
-            self.zone_items[kind] = it
+        for kind in ZONE_KINDS:
+            st = STYLES["zone_" + kind]
+            parts = []
+            for z, (pen_, brush_) in enumerate(((_NO_PEN, qbrush(st.fill)),
+                                                (_NO_PEN, hatch_brush(st.fill) or _NO_BRUSH),
+                                                (qpen(st.stroke, cosmetic=True), _NO_BRUSH))):
+                it = QGraphicsPathItem()
+                it.setPen(pen_)
+                it.setBrush(brush_)
+                it.setZValue(-6 + 0.1 * z)
+                add(it)
+                parts.append(it)
+            self.zone_items[kind] = parts
+        ast = STYLES["zone_arrow"]
+        self.zone_arrows_item = _Markers("arrow", 2 * ZONE_ARROW_R_PX, qpen(ast.stroke),
+                                         qbrush(ast.fill))
+        self.zone_arrows_item.setZValue(-5.5)
+        add(self.zone_arrows_item, ignoreBounds=True)
+        self._zone_arrow_px: float | None = None
         self.door_gaps_item = _Polyline(qpen(STYLES["door_gap"].stroke, cosmetic=True))
         self.doors_item = _Polyline(qpen(STYLES["door"].stroke, cosmetic=True))
         for it in (self.door_gaps_item, self.doors_item):
@@ -628,6 +650,7 @@ class PlanCanvas(QWidget):
         self.jambs_item.setZValue(1)
         add(self.jambs_item, ignoreBounds=True)
         self.plan_labels: list[_Label] = []
+        self.zone_labels: list[_Label] = []
 
         self.others_item = _Polyline(_pen("#8C8C8C", 1.5, Qt.PenStyle.DashDotLine))
         self.others_item.setZValue(2)
@@ -753,9 +776,14 @@ class PlanCanvas(QWidget):
         self.obstacles_item.setPath(polygons_path(shapely.orient_polygons(obst), wind)
                                     if obst else polygons_path([]))
         self.hatch_item.setPath(self.obstacles_item.path())
-        zk = index.zones
-        for kind, it in self.zone_items.items():
-            it.setPath(polygons_path(list(getattr(zk, kind).geometries)))
+        zones = zone_layer(fp.zones)
+        geoms = {pg_.role[5:]: pg_.geoms for pg_ in zones.polygons}
+        for kind, parts in self.zone_items.items():
+            path = polygons_path(geoms.get(kind, []))
+            for it in parts:
+                it.setPath(path)
+        self._zone_arrow_px = None
+        self._draw_zone_arrows()
         self._solid_geoms = [s.geometry for s in sol]
         self._solids_tree = index.tree if sol else None
         layer = floorplan_layer(fp, solids_list=sol)
@@ -784,6 +812,7 @@ class PlanCanvas(QWidget):
             # name.
             t.setZValue(1.5)
         self._obstacle_labels = []
+        self._zone_labels = []
         self._door_labels: list[_Label] = []
         for t, (pos, text, kind, size_m) in zip(labels, named):
             st = STYLES["door_label" if kind == "door" else "obstacle_label"]
@@ -797,13 +826,24 @@ class PlanCanvas(QWidget):
                 self._obstacle_labels.append((t, size_m, t.boundingRect().width()))
             else:
                 self._door_labels.append(t)
+        # Each zone's name and number, as the picture places it (app.scene.zone_layer).
+        zst = STYLES["zone_label"]
+        zlabels = self._labels(self.zone_labels, len(zones.labels), zst.ink, None, (0.5, 0.0))
+        for t, lb in zip(zlabels, zones.labels):
+            t.setZValue(1.4)
+            t.setColor(QColor(lb.ink or zst.ink))
+            t.setFill(qbrush(zst.fill))
+            t.setText(lb.text)
+            self._zone_labels.append((t, lb))
         self._fit_obstacle_labels()
         self._drawn.pop("violations", None)  # placed anew round the names shown now
 
     def _fit_obstacle_labels(self) -> None:
-        """Name an obstacle only where its name fits across it on screen (no pile-ups), and
+        """Name an obstacle only where its name fits across it on screen (no pile-ups),
         put each door's name by the door where it covers no other name: in the first row
-        under it, else the second, else above it, else (zoomed far out) not at all."""
+        under it, else the second, else above it, else (zoomed far out) not at all; a
+        zone's name goes under its top edge where the zone is tall enough, else in its
+        middle."""
         px = self.px_m()
         taken = []
         for t, size_m, text_px in getattr(self, "_obstacle_labels", []):
@@ -821,6 +861,28 @@ class PlanCanvas(QWidget):
                     break
             else:
                 t.setVisible(False)
+        for t, lb in getattr(self, "_zone_labels", []):
+            h = t.rect().height()
+            if (lb.inside_m or 0.0) / px > 2 * h or lb.centre is None:
+                t.setAnchor((0.5, -0.15))
+                t.setPos(lb.x, lb.y)
+            else:
+                t.setAnchor((0.5, 0.5))
+                t.setPos(*lb.centre)
+
+    def _draw_zone_arrows(self) -> None:
+        """The one-way arrows, spaced in screen pixels as the picture spaces them: drawn anew
+        only when the zoom changed by more than a third."""
+        px = self.px_m()
+        was = self._zone_arrow_px
+        if was is not None and 0.75 < px / was < 1.33:
+            return
+        self._zone_arrow_px = px
+        fp = self.doc.project.floorplan
+        marks = zone_layer([z for z in fp.zones if z.kind == "one_way"],
+                           ZONE_ARROW_STEP_PX * px).markers if fp.zones else []
+        self.zone_arrows_item.setData([m.x for m in marks], [m.y for m in marks],
+                                      angle=[m.angle_rad for m in marks])
 
     def clear_hover(self) -> None:
         """Forget the hover read-out and its ring (the route under them went away)."""
@@ -902,7 +964,7 @@ class PlanCanvas(QWidget):
         sel = np.arange(len(wx)) == self.selected
         self.waypoints_item.setData(wx, wy, brush=[_SELECTED_BRUSH if s else _WAYPOINT_BRUSH
                                                    for s in sel],
-                                    size=np.where(sel, 16, 13))
+                                    size=np.where(sel, 2 * WAYPOINT_R_PX + 3, 2 * WAYPOINT_R_PX))
         labels = self._labels(self.wp_labels, len(wx), BLACK, None, (-0.35, 1.15))
         for k, t in enumerate(labels):
             _set_text(t, str(k + 1))
@@ -1143,6 +1205,7 @@ class PlanCanvas(QWidget):
             self.scale_bar.updateBar()
         self._draw_handles()
         self._fit_obstacle_labels()
+        self._draw_zone_arrows()
         cur = self.doc.route()
         if cur is not None and "violations" in self._drawn:
             self._draw_violations(cur.name)  # labels placed anew at a new zoom only

@@ -385,8 +385,12 @@ class PlanGestures(QObject):
             return False
         before = min(near)[1]
         p = self.canvas._snap(x, y)
-        self.doc.edit_floorplan(plan_edits.insert_vertex(self.fp, kind, i, before, p),
-                                f"Insert vertex in {kind} {i}")
+        try:
+            fp = plan_edits.insert_vertex(self.fp, kind, i, before, p)
+        except ValueError as exc:
+            self.canvas.message.emit(str(exc))
+            return True
+        self.doc.edit_floorplan(fp, f"Insert vertex in {kind} {i}")
         self.vertex = before
         self._draw_selection()
         return True
@@ -412,8 +416,13 @@ class PlanGestures(QObject):
         if i < len(items):
             p = self.snap(x, y, others)
             if p != vertices_of(items[i])[k]:
-                self.doc.edit_floorplan(plan_edits.move_vertex(self.fp, kind, i, k, p),
-                                        f"Move {kind} {i} vertex", drag=token)
+                try:
+                    fp = plan_edits.move_vertex(self.fp, kind, i, k, p)
+                except ValueError as exc:  # a zone outline crossing itself: not moved there
+                    self.canvas.message.emit(str(exc))
+                    fp = None
+                if fp is not None:
+                    self.doc.edit_floorplan(fp, f"Move {kind} {i} vertex", drag=token)
         if ev.isFinish():
             self._drag = None
             self.doc.finish_drag()

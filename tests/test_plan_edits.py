@@ -214,3 +214,20 @@ def test_set_zone_rule_keeps_the_outline():
     assert z.points == fp.zones[0].points
     assert pe.set_zone_rule(fp, 0, "keep_out", None, "spill").zones[0] == Zone(
         "keep_out", fp.zones[0].points, "spill")
+
+
+def test_zone_vertex_edits_never_make_an_outline_the_file_refuses(tmp_path):
+    # Source: shared/contract.md (a zone outline must not cross itself); an edited plan must
+    # read back (common practice: save what can be opened).
+    from kinematics.files.loader import load_floorplan
+
+    square = ((0, 0), (2, 0), (2, 2), (0, 2))
+    fp = pe.add_zone(FloorPlan(), Zone("keep_out", square, "spill"))
+    with pytest.raises(ValueError, match="crossing itself"):
+        pe.move_vertex(fp, "zone", 0, 1, (0, 2.5))       # a bow tie
+    with pytest.raises(ValueError):
+        pe.insert_vertex(fp, "zone", 0, 1, (1.0, 3.0))   # an edge across the square
+    ok = pe.move_vertex(fp, "zone", 0, 1, (2.5, -0.5))
+    path = tmp_path / "z.floor.json"
+    save_floorplan(ok, path)
+    assert load_floorplan(path).zones == ok.zones

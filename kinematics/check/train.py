@@ -53,6 +53,7 @@ from kinematics.check.sweep import (
     placed_footprints,
     prepare_footprint,
     rotation_parts,
+    sweep_allowance,
     translation_parts,
 )
 from kinematics.motion.arrays import unique_sorted
@@ -314,6 +315,21 @@ def _chunk_station(stations: np.ndarray, segs: Sequence[Segment], ck: Chunk) -> 
     return float(stations[ck.segment]) + (ck.p0 if seg.kind != "pivot" else 0.0)
 
 
+def _trailer_station(trace: TrainTrace, j: int, fp: Footprint, ck: Chunk,
+                     stations: np.ndarray, segs: Sequence[Segment], x: float, y: float
+                     ) -> float:
+    """Route station where trailer ``j``, within chunk ``ck``, is placed nearest ``(x, y)``
+    (placements every 1 cm of the chunk's progress; a pivot's station is its start)."""
+    st = _chunk_station(stations, segs, ck)
+    if segs[ck.segment].kind == "pivot" or not ck.p1 > ck.p0:
+        return st
+    n = int(min(2000, max(8, math.ceil((ck.p1 - ck.p0) / 0.01))))
+    ps = np.linspace(ck.p0, ck.p1, n + 1)
+    placed = placed_footprints(fp, trace.poses(ck.segment, ps)[:, j + 1])
+    w = int(np.argmin(shapely.distance(placed, shapely.Point(x, y))))
+    return float(stations[ck.segment]) + float(ps[w])
+
+
 def _part_of(fp: Footprint, poses: np.ndarray, solid: Any) -> str:
     sel = poses[np.linspace(0, len(poses) - 1, min(len(poses), 24)).round().astype(int)]
     placed = placed_footprints(fp, sel)
@@ -369,29 +385,38 @@ def _stretch_violations(chunks: Sequence[Chunk], hits: Sequence[_BodyHit], segs,
     return out
 
 
-def _trailer_doors(chunks: Sequence[Chunk], index: ObstacleIndex, stations, segs
+def _trailer_doors(chunks: Sequence[Chunk], index: ObstacleIndex, stations, segs,
+                   trace: TrainTrace, j: int, fp: Footprint
                    ) -> dict[int, tuple[float, int, float]]:
-    """Per door the trailer's band crosses: least clearance in the door's box, and the
-    segment and station of the chunk where it is least."""
-    out: dict[int, tuple[float, int, float]] = {}
+    """Per door trailer ``j``'s band crosses: least clearance in the door's box, and the
+    segment and route station where the trailer comes that near (the tug's station then)."""
+    best: dict[int, tuple[float, Chunk, int]] = {}
     if not len(index.doors):
-        return out
+        return {}
     for ck in chunks:
         crossed = unique_sorted(index.door_tree.query(ck.parts, predicate="intersects")[1])
         for k in crossed.tolist():
             box = index.door_boxes[k]
             local = shapely.intersection(ck.parts, box)
             local = local[~shapely.is_empty(local)]
-            c = math.inf
-            for j in index.within(box, 0.0).tolist():
-                solid = index.geometries[j]
+            c, cj = math.inf, -1
+            for jj in index.within(box, 0.0).tolist():
+                solid = index.geometries[jj]
                 d = float(np.min(shapely.distance(local, solid))) if len(local) else math.inf
-                c = min(c, d if d > 0.0 else -overlap_depth(SweptParts(local).union, solid))
-            old = out.get(k)
-            if old is None:
-                out[k] = (c, ck.segment, _chunk_station(stations, segs, ck))
-            elif c < old[0]:
-                out[k] = (c, ck.segment, _chunk_station(stations, segs, ck))
+                d = d if d > 0.0 else -overlap_depth(SweptParts(local).union, solid)
+                if d < c:
+                    c, cj = d, jj
+            if k not in best or c < best[k][0]:
+                best[k] = (c, ck, cj)
+    out = {}
+    for k, (c, ck, cj) in best.items():
+        st = _chunk_station(stations, segs, ck)
+        if cj >= 0 and math.isfinite(c):
+            local = shapely.intersection(ck.parts, index.door_boxes[k])
+            local = local[~shapely.is_empty(local)]
+            x, y = nearest_point(local, index.geometries[cj], c <= 0.0)
+            st = _trailer_station(trace, j, fp, ck, stations, segs, x, y)
+        out[k] = (c, ck.segment, st)
     return out
 
 
@@ -472,7 +497,7 @@ def check_train(plan_or_segments: Any, chassis: Any, index: ObstacleIndex,
         fp = prepare_footprint(t.footprint)
         margin = chassis.trailer_margin(j) if hasattr(chassis, "trailer_margin") else \
             (t.margin_m if t.margin_m is not None else chassis.margin_m)
-        chunks = sweep_trailer(trace, j, fp, tolerance_m)
+        chunks = sweep_trailer(trace, j, fp, sweep_allowance(tolerance_m))
         all_chunks.append(chunks)
         for ck in chunks:
             extra_parts[ck.segment].append(ck.parts)
@@ -486,9 +511,11 @@ def check_train(plan_or_segments: Any, chassis: Any, index: ObstacleIndex,
             least = c_min
             ck = chunks[bk]
             x, y = nearest_point(ck.parts, index.geometries[bj], c_min <= 0.0)
-            at = {"x": x, "y": y, "station_m": _chunk_station(stations, segs, ck),
+            at = {"x": x, "y": y,
+                  "station_m": _trailer_station(trace, j, fp, ck, stations, segs, x, y),
                   "segment": ck.segment, "solid": index.solids[bj].name, "body": body}
-        for k, (c, si, st) in _trailer_doors(chunks, index, stations, segs).items():
+        for k, (c, si, st) in _trailer_doors(chunks, index, stations, segs, trace, j,
+                                                  fp).items():
             old = doors.get(k)
             cval = None if not math.isfinite(c) else float(c)
             if old is None:
