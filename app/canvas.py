@@ -830,7 +830,9 @@ class PlanCanvas(QWidget):
         zst = STYLES["zone_label"]
         zlabels = self._labels(self.zone_labels, len(zones.labels), zst.ink, None, (0.5, 0.0))
         for t, lb in zip(zlabels, zones.labels):
-            t.setZValue(1.4)
+            # Under the solids (over the zones and the band): a zone's name never hides a
+            # wall or an obstacle, such as a pillar near the zone's top edge.
+            t.setZValue(-0.5)
             t.setColor(QColor(lb.ink or zst.ink))
             t.setFill(qbrush(zst.fill))
             t.setText(lb.text)

@@ -84,7 +84,7 @@ USES = {
 DRIVE_WORDS = {
     "differential": "differential / skid-steer",
     "bicycle": "bicycle",
-    "ackermann": "ackermann (car-like)",
+    "ackermann": "Ackermann (car-like)",
     "mecanum": "mecanum",
     "swerve": "swerve",
 }

@@ -180,6 +180,13 @@ def test_drive_change_and_preset(doc, qtbot):
     assert not panel.fields["max_steer_deg"].isEnabled()
 
 
+def test_drive_list_writes_ackermann_as_a_name():
+    # Source: common practice (the steering geometry is named after Rudolph Ackermann).
+    from app.panels import DRIVE_WORDS
+
+    assert DRIVE_WORDS["ackermann"].startswith("Ackermann")
+
+
 def test_presets_are_valid_chassis():
     from kinematics.files.project import chassis_from_dict, chassis_to_dict
     from kinematics.motion.drives import drive_for
