@@ -19,6 +19,7 @@ import pytest  # noqa: E402
 import shapely  # noqa: E402
 import test_window  # noqa: E402
 from PySide6.QtCore import Qt, QTimer  # noqa: E402
+from PySide6.QtGui import QColor  # noqa: E402
 from PySide6.QtWidgets import QApplication, QToolBar, QToolButton  # noqa: E402
 from shapely.geometry import Polygon  # noqa: E402
 from test_document import write_project  # noqa: E402
@@ -203,7 +204,6 @@ def test_legend_dock_lists_the_zone_kinds_with_the_pictures_samples(make_window,
     img = view.grab().toImage()
     assert img.height() >= 25 * len(view.rows())
     # The keep-out sample (first zone row, after wall, obstacle, door) holds its colour.
-    from PySide6.QtGui import QColor
 
     from app.palette import VERMILLION
 
@@ -456,3 +456,16 @@ def test_dxf_layers_become_zones_in_the_window_import(make_window, tmp_path, qtb
     again = load_project(win.doc.path)
     assert again.floorplan.zones == fp.zones
     assert again.floorplan_ref["zones"][0]["kind"] in ("slow", "keep_out")
+
+
+def test_a_zone_name_never_hides_an_obstacle(make_window):
+    # Source: common practice for plan drawings (names of areas sit under the solids); the
+    # zoned corridor's pillar (centre 11, 2.4; r 0.25) lies right under the "people" name.
+    win = make_window(ZONED)
+    c = win.canvas
+    labels = [t for t, _lb in c._zone_labels]
+    assert len(labels) == 4
+    for t in labels:
+        assert t.zValue() < min(c.obstacles_item.zValue(), c.walls_item.zValue())
+        assert t.zValue() > max(it.zValue() for parts in c.zone_items.values()
+                                for it in (parts if isinstance(parts, list) else [parts]))
