@@ -24,6 +24,7 @@ from __future__ import annotations
 
 import math
 from collections.abc import Callable, Sequence
+from typing import Any
 
 import numpy as np
 import pyqtgraph as pg
@@ -386,6 +387,46 @@ _LABEL_PLACES = ((-0.12, -0.1), (1.12, -0.1), (-0.12, 1.1), (1.12, 1.1))
 #: door line, else a row further down (neighbouring doors' names then alternate rows), else
 #: just above it.
 _DOOR_LABEL_PLACES = ((0.5, -0.3), (0.5, -1.45), (0.5, 1.3))
+
+
+class _Boxes:
+    """Plan boxes ``(x0, y0, x1, y1)`` taken by labels and markers, bucketed on a square grid
+    of ``cell`` metres, so a new box is tested against its neighbours only (a plan with
+    hundreds of doors re-places its names on every zoom step)."""
+
+    def __init__(self, cell: float) -> None:
+        self.cell = max(float(cell), 1e-9)
+        self.cells: dict[tuple[int, int], list] = {}
+
+    def _keys(self, b: tuple[float, float, float, float]):
+        c = self.cell
+        for i in range(math.floor(b[0] / c), math.floor(b[2] / c) + 1):
+            for j in range(math.floor(b[1] / c), math.floor(b[3] / c) + 1):
+                yield (i, j)
+
+    def hits(self, b: tuple[float, float, float, float]) -> list:
+        """The payloads of the boxes that overlap ``b`` (each once)."""
+        out: dict[int, Any] = {}
+        for k in self._keys(b):
+            for o, item in self.cells.get(k, ()):
+                if not (b[2] <= o[0] or b[0] >= o[2] or b[3] <= o[1] or b[1] >= o[3]):
+                    out[id(o)] = item
+        return list(out.values())
+
+    def free(self, b: tuple[float, float, float, float]) -> bool:
+        return not self.hits(b)
+
+    def add(self, b: tuple[float, float, float, float], item: Any = None) -> None:
+        for k in self._keys(b):
+            self.cells.setdefault(k, []).append((b, item))
+
+    def remove(self, item: Any) -> None:
+        for lst in self.cells.values():
+            lst[:] = [e for e in lst if e[1] is not item]
+
+
+#: Grid cell of :class:`_Boxes`, in screen pixels (about a label's width).
+_BOX_CELL_PX = 128.0
 
 
 def _plan_box(label: _Label, px: float) -> tuple[float, float, float, float]:
@@ -847,19 +888,18 @@ class PlanCanvas(QWidget):
         zone's name goes under its top edge where the zone is tall enough, else in its
         middle."""
         px = self.px_m()
-        taken = []
+        taken = _Boxes(_BOX_CELL_PX * px)
         for t, size_m, text_px in getattr(self, "_obstacle_labels", []):
             t.setVisible(size_m / px >= 0.9 * text_px)
             if t.isVisible():
-                taken.append(_plan_box(t, px))
+                taken.add(_plan_box(t, px))
         for t in getattr(self, "_door_labels", []):
             for anchor in _DOOR_LABEL_PLACES:
                 t.setAnchor(anchor)
                 box = _plan_box(t, px)
-                if all(box[2] <= o[0] or box[0] >= o[2] or box[3] <= o[1] or box[1] >= o[3]
-                       for o in taken):
+                if taken.free(box):
                     t.setVisible(True)
-                    taken.append(box)
+                    taken.add(box)
                     break
             else:
                 t.setVisible(False)
@@ -1151,9 +1191,13 @@ class PlanCanvas(QWidget):
         # What a label must not cover, as plan boxes (x0, y0, x1, y1): every violation marker,
         # the names of doors and obstacles shown, and the labels already placed.
         half = 0.5 * MARKER_PX * px
-        taken = [(v.x - half, v.y - half, v.x + half, v.y + half) for v in vs]
-        named = [t for t in self.plan_labels if t.isVisible()]
-        names = [_plan_box(t, px) for t in named]
+        taken = _Boxes(_BOX_CELL_PX * px)
+        for v in vs:
+            taken.add((v.x - half, v.y - half, v.x + half, v.y + half))
+        names = _Boxes(_BOX_CELL_PX * px)
+        for n in self.plan_labels:
+            if n.isVisible():
+                names.add(_plan_box(n, px), n)
         for t, v in zip(labels, shown):
             t.setOpacity(self.band_item.opacity())  # greyed with the band while stale
             t.setFill(qbrush(lst.fill))
@@ -1182,18 +1226,13 @@ class PlanCanvas(QWidget):
                     box = (box[0] + dx, box[1] + dy, box[2] + dx, box[3] + dy)
                 inside = not seen or (view[0] <= box[0] and box[2] <= view[2]
                                       and view[1] <= box[1] and box[3] <= view[3])
-                if inside and all(box[2] <= o[0] or box[0] >= o[2] or box[3] <= o[1]
-                                  or box[1] >= o[3]
-                                  for o in (taken + names if avoid_names else taken)):
+                if inside and taken.free(box) and (not avoid_names or names.free(box)):
                     t.setVisible(True)
-                    taken.append(box)
+                    taken.add(box)
                     if not avoid_names:  # the names it would cover give way
-                        for k in range(len(named) - 1, -1, -1):
-                            o = names[k]
-                            if not (box[2] <= o[0] or box[0] >= o[2] or box[3] <= o[1]
-                                    or box[1] >= o[3]):
-                                named.pop(k).setVisible(False)
-                                names.pop(k)
+                        for n in names.hits(box):
+                            n.setVisible(False)
+                            names.remove(n)
                     break
             else:
                 t.setVisible(False)
