@@ -358,6 +358,11 @@ def test_hover_names_a_wall_as_messages_cite_it(make_window, tmp_path, qtbot):
         QApplication.processEvents()
         assert c.last_hover_element is not None and c.last_hover_element["name"] == want
         assert c.plot.toolTip().startswith(want)
+        # A message citing it outlines it and writes the same name on the plan.
+        assert c.plan_gestures.highlight(want)
+        assert c.plan_gestures.highlight_text.toPlainText() == want
+    assert not c.plan_gestures.highlight("wall 9")  # no such wall: nothing outlined
+    assert not c.plan_gestures.highlight_text.isVisible()
 
 
 def test_grid_snap_in_the_window(make_window, tmp_path, qtbot):

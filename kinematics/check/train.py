@@ -345,10 +345,30 @@ def _part_of(fp: Footprint, poses: np.ndarray, solid: Any) -> str:
     return part_name(fp, bx, by)
 
 
+def _first_station(trace: TrainTrace, tj: int, fp: Footprint, ck: Chunk, stations, segs,
+                   solid: Any, margin: float, collide: bool) -> float:
+    """Route station where trailer ``tj`` first comes within ``margin`` of ``solid`` (or
+    touches it) inside chunk ``ck``: placements every 1 cm of the chunk's progress, the
+    station of the placement before the first that does (so at most 1 cm early, never
+    late); the chunk's start where no placement does (only its band reaches)."""
+    st = _chunk_station(stations, segs, ck)
+    if segs[ck.segment].kind == "pivot" or not ck.p1 > ck.p0:
+        return st
+    n = int(min(4000, max(8, math.ceil((ck.p1 - ck.p0) / 0.01))))
+    ps = np.linspace(ck.p0, ck.p1, n + 1)
+    placed = placed_footprints(fp, trace.poses(ck.segment, ps)[:, tj + 1])
+    d = shapely.distance(placed, solid)
+    bad = d <= 0.0 if collide else d < margin - MARGIN_SLACK_M
+    if not bad.any():
+        return st
+    k = int(np.argmax(bad))
+    return float(stations[ck.segment]) + float(ps[max(k - 1, 0)])
+
+
 def _stretch_violations(chunks: Sequence[Chunk], hits: Sequence[_BodyHit], segs, stations,
-                        index: ObstacleIndex, margin: float, fp: Footprint, body: str
-                        ) -> list[Violation]:
-    """One violation per run of consecutive chunks near the same solid."""
+                        index: ObstacleIndex, margin: float, fp: Footprint, body: str,
+                        trace: TrainTrace, tj: int) -> list[Violation]:
+    """One violation per run of consecutive chunks near the same solid (trailer ``tj``)."""
     by_solid: dict[int, list[_BodyHit]] = {}
     for h in hits:
         by_solid.setdefault(h.solid, []).append(h)
@@ -368,7 +388,8 @@ def _stretch_violations(chunks: Sequence[Chunk], hits: Sequence[_BodyHit], segs,
             ck = chunks[h0.chunk]
             solid = index.geometries[j]
             x, y = nearest_point(ck.parts, solid, bool(collide))
-            st = _chunk_station(stations, segs, ck)
+            st = _first_station(trace, tj, fp, ck, stations, segs, solid, margin,
+                                bool(collide))
             name = index.solids[j].name
             part = _part_of(fp, chunks[worst.chunk].poses, solid)
             if collide:
@@ -504,7 +525,7 @@ def check_train(plan_or_segments: Any, chassis: Any, index: ObstacleIndex,
         body = body_name(j + 1, chassis)
         hits, best, bk, bj = _trailer_hits(chunks, index, margin)
         violations += _stretch_violations(chunks, hits, segs, stations, index, margin, fp,
-                                          body)
+                                          body, trace, j)
         c_min = None if bk is None else float(best)
         bodies.append({"body": body, "min_clearance_m": c_min, "margin_m": margin})
         if c_min is not None and (least is None or c_min < least):
