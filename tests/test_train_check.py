@@ -146,3 +146,41 @@ def test_trailer_violation_starts_where_the_dense_placements_first_break_the_rul
         assert first - 0.011 <= v.station_m <= first + 0.001, (v.body, v.station_m, first)
         seen += 1
     assert seen == 2
+
+
+@pytest.mark.parametrize("far", [0.6, 1.5])
+def test_windowed_check_least_clearance_and_band(far: float) -> None:
+    # Source: shapely distances and union of each trailer placed at dense poses along the
+    # same trace. The check sweeps only the windows a lower bound cannot rule out (the rest
+    # when the band is asked for); solids placed out of every margin must still give each
+    # body's least clearance within [true - tolerance, true], and the band built afterwards
+    # must hold the dense union and exceed it by at most the tolerance.
+    segs = _plan()
+    trace = trace_train(segs, TUG.trailers)
+    cx, cy = segs[1].arc_centre()
+    posts = []
+    for k, (ang, extra) in enumerate(((-0.8, 0.0), (-0.3, 0.4), (2.5, 1.0))):
+        r = 0.95 - far - extra if ang < 0 else 1.5 + far + extra
+        px, py = cx + r * math.cos(ang), cy + r * math.sin(ang)
+        posts.append(Obstacle(((px - 0.05, py - 0.05), (px + 0.05, py - 0.05),
+                               (px + 0.05, py + 0.05), (px - 0.05, py + 0.05)), f"post {k}"))
+    idx = ObstacleIndex(FloorPlan(obstacles=tuple(posts)))
+    chk = check_train(segs, TUG, idx, 0.002, "r")
+    bodies = {b["body"]: b for b in chk.train.bodies}
+    # The check left windows for later.
+    assert all(len(sw.swept) < len(sw.windows) for sw in chk.train.sweeps)
+    for j, t in enumerate(TUG.trailers):
+        sw = chk.train.sweeps[j]
+        dense = _dense(trace, j, t.footprint)
+        true = min(float(dense.distance(g)) for g in idx.geometries)
+        got = bodies[f"trailer {j + 1} ({t.name})"]["min_clearance_m"]
+        assert true - 0.002 - 1e-6 <= got <= true + 1e-9
+        band = shapely.union_all(np.concatenate([c.parts for c in chk.train.chunks[j]]))
+        assert len(sw.swept) == len(sw.windows)
+        assert dense.difference(band).area < 1e-9
+        pts = shapely.points(shapely.get_coordinates(shapely.segmentize(band.boundary, 0.002)))
+        assert float(shapely.distance(pts, dense).max()) <= 0.002 + 0.0005
+    # The route's band (what views and traffic use) holds every body's pieces.
+    union = chk.swept
+    for j, t in enumerate(TUG.trailers):
+        assert _dense(trace, j, t.footprint).difference(union).area < 1e-9

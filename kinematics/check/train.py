@@ -68,6 +68,11 @@ _SLACK_SHARE = 0.08
 _TINY_TURN_SHARE = 0.125
 #: Fine samples per segment at most (the grid step grows past this on very long segments).
 _MAX_SAMPLES = 20000
+#: Travel of a trailer's sweep window, metres (windows far from every solid and door are
+#: swept only when the band is drawn).
+WINDOW_M = 1.0
+#: Half the travel of any footprint point between the placements probing a window, metres.
+PROBE_SLACK_M = 0.03
 
 
 def body_name(i: int, chassis: Any) -> str:
@@ -113,6 +118,7 @@ class Chunk:
     p1: float
     parts: np.ndarray
     poses: np.ndarray  # fine-sample poses of the trailer in the chunk (k, 3)
+    order: int = -1    # place in the route's sequence of chunks (gaps where none swept)
 
 
 def _centre(ax: float, ay: float, bx: float, by: float, phi: float) -> tuple[float, float]:
@@ -197,17 +203,28 @@ def _next_chunk(T: np.ndarray, th: np.ndarray, p: np.ndarray, k: int, n: int, la
     return good, good_info
 
 
-def sweep_trailer(trace: TrainTrace, j: int, footprint: Any,
-                  tolerance_m: float = DEFAULT_TOLERANCE_M) -> list[Chunk]:
-    """The chunks whose parts' union conservatively contains trailer ``j``'s swept region
-    (0-based trailer index) and exceeds it by at most ``tolerance_m``."""
-    fp = prepare_footprint(footprint)
-    tol = float(tolerance_m)
+@dataclass
+class _Grid:
+    """Fine samples of one trailer on one segment and the bounds the chunks need."""
+
+    segment: int
+    p: np.ndarray
+    poses: np.ndarray
+    slack: float
+    curv: tuple
+    speed: float       # bound of any footprint point's speed per unit progress
+    still: bool        # the trailer does not move on this segment (one placement)
+
+    @property
+    def n(self) -> int:
+        return len(self.p) - 1
+
+
+def _grids(trace: TrainTrace, j: int, fp: Footprint, tol: float) -> list[_Grid]:
+    """Per moving segment the fine samples of trailer ``j`` (see the module text)."""
     r_far = [0.0] * trace.n
     r_far[j] = fp.r_far_m
-    budget = _STRAY_SHARE * tol
-    tiny = _TINY_TURN_SHARE * tol
-    chunks: list[Chunk] = []
+    out = []
     for i in range(len(trace.segments)):
         amount = trace.amount(i)
         if amount <= 0.0:
@@ -217,40 +234,190 @@ def sweep_trailer(trace: TrainTrace, j: int, footprint: Any,
         if P <= 0.0:
             # The trailer does not move on this segment (an on-axle hitch on a pivot).
             pose = trace.poses(i, [0.0])[0, j + 1]
-            chunks.append(Chunk(i, 0.0, amount, placed_footprints(fp, [pose]),
-                                pose[None, :]))
+            out.append(_Grid(i, np.array([0.0, amount]), np.vstack([pose, pose]), 0.0,
+                             (0.0, 0.0, 0.0), 0.0, True))
             continue
         delta = math.sqrt(8.0 * _SLACK_SHARE * tol / M) if M > 0.0 else amount
         n = min(_MAX_SAMPLES, max(1, math.ceil(amount / delta)))
         dt2 = (amount / n) ** 2 / 8.0
-        slack = dt2 * M
-        curv = (dt2, A, Wd + W * W)
         p = np.linspace(0.0, amount, n + 1)
         poses = trace.poses(i, p)[:, j + 1]
-        T, th = poses[:, :2], poses[:, 2]
-        k, last = 0, 1
-        while k < n:
-            e, good_info = _next_chunk(T, th, p, k, n, last, fp.r_far_m, tiny, slack, curv,
-                                       budget)
-            last = e - k
-            dev = good_info[0]
-            placed = _place_one(fp.ring, poses[k])
-            grow = dev / math.cos(math.pi / (4 * _QUAD_SEGS))
-            if good_info[1]:
-                rot_tol = 0.95 * tol - dev - grow
-                parts = _polys(rotation_parts(placed, good_info[2], th[e] - th[k], rot_tol),
-                               False)
-            else:
-                parts = _polys(translation_parts(placed, good_info[2], fp.convex), fp.convex)
-            parts = parts[~shapely.is_empty(parts)]
-            bad_ = ~shapely.is_valid(parts)
-            if bad_.any():
-                parts[bad_] = shapely.make_valid(parts[bad_])
-            if grow > 0.0:
-                parts = shapely.buffer(parts, grow, quad_segs=_QUAD_SEGS)
-            chunks.append(Chunk(i, float(p[k]), float(p[e]), parts, poses[k:e + 1]))
-            k = e
+        out.append(_Grid(i, p, poses, dt2 * M, (dt2, A, Wd + W * W), P + fp.r_far_m * W,
+                         False))
+    return out
+
+
+def _sweep_range(fp: Footprint, g: _Grid, k0: int, k1: int, tol: float) -> list[Chunk]:
+    """The chunks of grid ``g`` from sample ``k0`` to ``k1``."""
+    if g.still:
+        return [Chunk(g.segment, 0.0, float(g.p[-1]), placed_footprints(fp, g.poses[:1]),
+                      g.poses[:1])]
+    budget = _STRAY_SHARE * tol
+    tiny = _TINY_TURN_SHARE * tol
+    poses, p = g.poses, g.p
+    T, th = poses[:, :2], poses[:, 2]
+    chunks: list[Chunk] = []
+    k, last = k0, 1
+    while k < k1:
+        e, good_info = _next_chunk(T, th, p, k, k1, last, fp.r_far_m, tiny, g.slack, g.curv,
+                                   budget)
+        last = e - k
+        dev = good_info[0]
+        placed = _place_one(fp.ring, poses[k])
+        grow = dev / math.cos(math.pi / (4 * _QUAD_SEGS))
+        if good_info[1]:
+            rot_tol = 0.95 * tol - dev - grow
+            parts = _polys(rotation_parts(placed, good_info[2], th[e] - th[k], rot_tol),
+                           False)
+        else:
+            parts = _polys(translation_parts(placed, good_info[2], fp.convex), fp.convex)
+        parts = parts[~shapely.is_empty(parts)]
+        bad_ = ~shapely.is_valid(parts)
+        if bad_.any():
+            parts[bad_] = shapely.make_valid(parts[bad_])
+        if grow > 0.0:
+            parts = shapely.buffer(parts, grow, quad_segs=_QUAD_SEGS)
+        chunks.append(Chunk(g.segment, float(p[k]), float(p[e]), parts, poses[k:e + 1]))
+        k = e
     return chunks
+
+
+def sweep_trailer(trace: TrainTrace, j: int, footprint: Any,
+                  tolerance_m: float = DEFAULT_TOLERANCE_M) -> list[Chunk]:
+    """The chunks whose parts' union conservatively contains trailer ``j``'s swept region
+    (0-based trailer index) and exceeds it by at most ``tolerance_m``."""
+    fp = prepare_footprint(footprint)
+    tol = float(tolerance_m)
+    chunks: list[Chunk] = []
+    for g in _grids(trace, j, fp, tol):
+        chunks += _sweep_range(fp, g, 0, g.n, tol)
+    return chunks
+
+
+class _TrailerSweep:
+    """One trailer's sweep in windows of about :data:`WINDOW_M` of travel, each swept only
+    when asked for: the check sweeps the windows that could come within the margin of a
+    solid or reach a door, then, nearest first, those that could hold the least clearance
+    (by a lower bound: the distance of the axle's sampled path to the solids less the
+    footprint's farthest radius, the path's stray from its chords and the tolerance, since
+    every footprint point lies within that radius of the axle). The rest are swept when the
+    band is drawn or its union asked for."""
+
+    def __init__(self, trace: TrainTrace, j: int, fp: Footprint, tol: float) -> None:
+        self.fp, self.tol = fp, tol
+        self.grids = _grids(trace, j, fp, tol)
+        self.windows: list[tuple[int, int, int]] = []  # (grid, k0, k1)
+        for gi, g in enumerate(self.grids):
+            if g.still:
+                self.windows.append((gi, 0, g.n))
+                continue
+            travel = float(np.hypot(*np.diff(g.poses[:, :2], axis=0).T).max()) \
+                if g.n else 0.0
+            w = max(4, int(WINDOW_M / travel)) if travel > 0.0 else g.n
+            for k0 in range(0, g.n, w):
+                self.windows.append((gi, k0, min(g.n, k0 + w)))
+        self.swept: dict[int, list[Chunk]] = {}
+
+    def lower_bounds(self, index: ObstacleIndex, reach_m: float
+                     ) -> tuple[np.ndarray, np.ndarray]:
+        """Per window a lower bound of its parts' distance to the solids (solids farther than
+        ``reach_m`` from every probe are not measured: the bound is then ``reach_m`` less the
+        probes' slack), and whether its parts may reach a door's box.
+
+        The footprint is placed at samples of the window at most :data:`PROBE_SLACK_M` x 2
+        of travel of any footprint point apart (the speed bound times the progress between
+        them); every point of the true swept region then lies within half that travel of a
+        placement, and the parts exceed the true region by at most the tolerance."""
+        polys, owner, slack = [], [], []
+        for w, (gi, k0, k1) in enumerate(self.windows):
+            g = self.grids[gi]
+            if g.still or k1 <= k0:
+                ks = np.array([k0])
+                half = 0.0
+            else:
+                dp = float(g.p[1] - g.p[0])
+                stride = max(1, int(2.0 * PROBE_SLACK_M / (g.speed * dp))) if g.speed > 0 \
+                    else k1 - k0
+                ks = np.unique(np.append(np.arange(k0, k1, stride), k1))
+                half = 0.5 * g.speed * dp * float(np.diff(ks).max())
+            polys.append(placed_footprints(self.fp, g.poses[ks]))
+            owner.append(np.full(len(ks), w))
+            slack.append(np.full(len(ks), half + self.tol))
+        geoms = np.concatenate(polys)
+        who = np.concatenate(owner)
+        reach = np.concatenate(slack)
+        lower = np.full(len(self.windows), math.inf)
+        if len(index):
+            np.minimum.at(lower, who, reach_m - reach)
+            pi, sj = index.tree.query(geoms, predicate="dwithin", distance=reach_m)
+            if len(pi):
+                dd = shapely.distance(geoms[pi], index.geometries[sj])
+                np.minimum.at(lower, who[pi], dd - reach[pi])
+        door = np.zeros(len(self.windows), dtype=bool)
+        if len(index.doors):
+            near = index.door_tree.query(geoms, predicate="dwithin", distance=reach)[0]
+            door[who[near]] = True
+        return lower, door
+
+    def ensure(self, ws: Any) -> None:
+        for w in ws:
+            if w not in self.swept:
+                gi, k0, k1 = self.windows[w]
+                self.swept[w] = _sweep_range(self.fp, self.grids[gi], k0, k1, self.tol)
+
+    def swept_chunks(self) -> list[Chunk]:
+        """The swept windows' chunks in route order, each numbered in ``order`` so that a
+        window not swept leaves a gap (two chunks are consecutive only if their orders
+        are)."""
+        out, order = [], 0
+        for w in range(len(self.windows)):
+            got = self.swept.get(w)
+            if got is None:
+                order += 1
+                continue
+            for ck in got:
+                ck.order = order
+                order += 1
+                out.append(ck)
+        return out
+
+    def all_chunks(self) -> list[Chunk]:
+        self.ensure(range(len(self.windows)))
+        return self.swept_chunks()
+
+    def segment_parts(self, i: int) -> list[np.ndarray]:
+        ws = [w for w, (gi, _k0, _k1) in enumerate(self.windows) if self.grids[gi].segment == i]
+        self.ensure(ws)
+        return [ck.parts for w in ws for ck in self.swept[w]]
+
+
+def _checked_chunks(sw: _TrailerSweep, index: ObstacleIndex, margin: float
+                    ) -> tuple[list[Chunk], list, float, int | None, int | None]:
+    """Sweep what the check needs (see :class:`_TrailerSweep`) and find the hits and the
+    least clearance among the swept chunks."""
+    if not sw.windows:
+        return [], [], math.inf, None, None
+    reach_m = max(4.0 * margin, 0.5)
+    lower, door = sw.lower_bounds(index, reach_m)
+    need = (lower < margin) | door
+    sw.ensure(np.nonzero(need)[0].tolist())
+    while True:
+        chunks = sw.swept_chunks()
+        if not chunks:
+            if not np.isfinite(lower).any():
+                return [], [], math.inf, None, None
+            sw.ensure([int(np.argmin(lower))])
+            continue
+        hits, best, bk, bj = _trailer_hits(chunks, index, margin)
+        more = [w for w in np.nonzero(lower < best)[0].tolist() if w not in sw.swept]
+        if not more:
+            return chunks, hits, best, bk, bj
+        if best > reach_m and reach_m < 1e6:
+            # Bounds capped short of the best found: measure farther before sweeping.
+            reach_m = min(4.0 * max(reach_m, best), 1e6)
+            lower = np.maximum(lower, sw.lower_bounds(index, reach_m)[0])
+            continue
+        sw.ensure(more)
 
 
 @dataclass
@@ -376,7 +543,9 @@ def _stretch_violations(chunks: Sequence[Chunk], hits: Sequence[_BodyHit], segs,
     for j, hs in by_solid.items():
         runs: list[list[_BodyHit]] = []
         for h in hs:
-            if runs and h.chunk == runs[-1][-1].chunk + 1:
+            if runs and h.chunk == runs[-1][-1].chunk + 1 and (
+                    chunks[h.chunk].order < 0 or
+                    chunks[h.chunk].order == chunks[runs[-1][-1].chunk].order + 1):
                 runs[-1].append(h)
             else:
                 runs.append([h])
@@ -481,8 +650,33 @@ class TrainResult:
     """What a train check adds to a route check: the trace and each trailer's chunks."""
 
     trace: TrainTrace
-    chunks: list[list[Chunk]]
+    sweeps: list[_TrailerSweep]
     bodies: list[dict]
+
+    @property
+    def chunks(self) -> list[list[Chunk]]:
+        """Each trailer's chunks along the whole route (the windows the check did not need
+        are swept now)."""
+        return [sw.all_chunks() for sw in self.sweeps]
+
+
+class _TrainParts(SweptParts):
+    """One segment's swept parts of the whole train: the tug's, then every trailer's, whose
+    windows the check did not sweep are swept on first use (drawing, the band's union)."""
+
+    __slots__ = ("_tug", "_i", "_sweeps", "_all")
+
+    def __init__(self, tug: SweptParts, i: int, sweeps: Sequence[_TrailerSweep]) -> None:
+        self._tug, self._i, self._sweeps, self._all = tug, i, sweeps, None
+        self._union = None
+
+    @property  # type: ignore[override]
+    def parts(self) -> np.ndarray:
+        if self._all is None:
+            extra = [a for sw in self._sweeps for a in sw.segment_parts(self._i)]
+            self._all = np.concatenate([self._tug.parts, *extra]) if extra else \
+                self._tug.parts
+        return self._all
 
 
 def check_train(plan_or_segments: Any, chassis: Any, index: ObstacleIndex,
@@ -512,18 +706,15 @@ def check_train(plan_or_segments: Any, chassis: Any, index: ObstacleIndex,
     if at is not None:
         at = dict(at, body=tug_body)
     doors = {p.door: p for p in tug.doors}
-    all_chunks = []
-    extra_parts: list[list[np.ndarray]] = [[] for _ in segs]
+    sweeps = []
     for j, t in enumerate(trailers):
         fp = prepare_footprint(t.footprint)
         margin = chassis.trailer_margin(j) if hasattr(chassis, "trailer_margin") else \
             (t.margin_m if t.margin_m is not None else chassis.margin_m)
-        chunks = sweep_trailer(trace, j, fp, sweep_allowance(tolerance_m))
-        all_chunks.append(chunks)
-        for ck in chunks:
-            extra_parts[ck.segment].append(ck.parts)
+        sw = _TrailerSweep(trace, j, fp, sweep_allowance(tolerance_m))
+        sweeps.append(sw)
+        chunks, hits, best, bk, bj = _checked_chunks(sw, index, margin)
         body = body_name(j + 1, chassis)
-        hits, best, bk, bj = _trailer_hits(chunks, index, margin)
         violations += _stretch_violations(chunks, hits, segs, stations, index, margin, fp,
                                           body, trace, j)
         c_min = None if bk is None else float(best)
@@ -553,14 +744,13 @@ def check_train(plan_or_segments: Any, chassis: Any, index: ObstacleIndex,
     for j, w in enumerate(worst):
         bodies[j + 1]["max_hitch_deg"] = w
     violations.sort(key=lambda v: (v.station_m, v.kind))
-    parts = tuple(SweptParts(np.concatenate([sp.parts, *extra]) if extra else sp.parts)
-                  for sp, extra in zip(tug._parts, extra_parts))
+    parts = tuple(_TrainParts(sp, i, sweeps) for i, sp in enumerate(tug._parts))
     out = dataclasses.replace(
         tug, clear=not violations, min_clearance_m=least, min_clearance_at=at,
         violations=violations, doors=sorted(doors.values(), key=lambda p: (p.station_m,
                                                                            p.door)),
         _parts=parts, _swept=None)
-    out.train = TrainResult(trace, all_chunks, bodies)
+    out.train = TrainResult(trace, sweeps, bodies)
     return out
 
 
