@@ -5,7 +5,7 @@ a scale bar in metres. It draws the Document (walls, obstacles, doors, every rou
 current route's swept band, footprint outlines and violations) and turns mouse gestures into
 Document edits:
 
-- drag a waypoint to move it; drag its heading handle (the diamond) to fix its heading;
+- drag a waypoint to move it; drag its heading handle (the purple knob) to fix its heading;
 - click in *add* mode, or Ctrl+click in any mode, to append a waypoint;
 - double-click a leg to insert a waypoint there;
 - Delete / Backspace or the context menu removes the selected waypoint;
@@ -24,6 +24,7 @@ from __future__ import annotations
 
 import math
 from collections.abc import Callable, Sequence
+from typing import Any
 
 import numpy as np
 import pyqtgraph as pg
@@ -46,6 +47,7 @@ from PySide6.QtWidgets import (
     QGraphicsRectItem,
     QGraphicsSimpleTextItem,
     QInputDialog,
+    QLabel,
     QMenu,
     QVBoxLayout,
     QWidget,
@@ -69,18 +71,23 @@ from .palette import (  # noqa: F401 - the whole set, as other views import it f
     YELLOW,
 )
 from .plan_tools import element_at
-from .qstyle import hatch_brush, marker_path, qbrush, qpen
+from .qstyle import MESSAGE_STYLE, hatch_brush, marker_path, qbrush, qpen
 from .scene import (
+    HANDLE_R_PX,
+    HANDLE_SHAPE,
     JAMB_R_PX,
     STYLES,
     VIOLATION_R_PX,
     VIOLATION_SHAPES,
     WAYPOINT_R_PX,
+    ZONE_ARROW_R_PX,
+    ZONE_ARROW_STEP_PX,
+    ZONE_KINDS,
     floorplan_layer,
     route_style,
     violation_layer,
+    zone_layer,
 )
-from .zone_paint import ZONE_STYLE, zone_brush
 
 # Marker shape per violation kind: the scene's (app.scene.VIOLATION_SHAPES, drawn by
 # app.qstyle.marker_path), as in the picture; the words beside them are the analysis's.
@@ -295,7 +302,7 @@ def _symbol_path(symbol: str, size_px: float) -> QPainterPath:
 
 
 _SCENE_SHAPES = {"cross", "triangle", "square", "star", "diamond", "hexagon", "chevron",
-                 "circle"}
+                 "circle", "arrow"}
 
 
 _SYMBOL_PATHS: dict[tuple[str, float], QPainterPath] = {}
@@ -335,7 +342,10 @@ class _Markers(QGraphicsItem):
         for it in self._items:
             it.setPen(pen)
 
-    def setData(self, x, y, symbol=None, brush=None, size=None) -> None:  # noqa: N802
+    def setData(self, x, y, symbol=None, brush=None, size=None, angle=None  # noqa: N802
+                ) -> None:
+        """Show markers at plan points ``x``, ``y``; ``angle`` (radians, counter-clockwise on
+        the plan) turns each one."""
         n = len(x)
 
         def each(v, default):
@@ -347,6 +357,7 @@ class _Markers(QGraphicsItem):
 
         syms, brushes = each(symbol, self._symbol), each(brush, self._brush)
         sizes = each(size, self._size)
+        angles = each(angle, 0.0)
         while len(self._items) < n:
             it = QGraphicsPathItem(self)
             it.setFlag(_IGNORES_VIEW)
@@ -359,6 +370,7 @@ class _Markers(QGraphicsItem):
                 continue
             it.setPos(float(x[k]), float(y[k]))
             it.setPath(_symbol_path(syms[k], float(sizes[k])))
+            it.setRotation(-math.degrees(angles[k]))
             it.setBrush(brushes[k] if brushes[k] is not None else _NO_BRUSH)
             it.setVisible(True)
         self.data = [(float(x[k]), float(y[k])) for k in range(n)]
@@ -369,6 +381,52 @@ class _Markers(QGraphicsItem):
 #: marker of MARKER_PX).
 MARKER_PX = int(2 * VIOLATION_R_PX)
 _LABEL_PLACES = ((-0.12, -0.1), (1.12, -0.1), (-0.12, 1.1), (1.12, 1.1))
+
+
+#: Where a door's name may sit, as the anchor of its box on the door's middle: just below the
+#: door line, else a row further down (neighbouring doors' names then alternate rows), else
+#: just above it.
+_DOOR_LABEL_PLACES = ((0.5, -0.3), (0.5, -1.45), (0.5, 1.3))
+
+
+class _Boxes:
+    """Plan boxes ``(x0, y0, x1, y1)`` taken by labels and markers, bucketed on a square grid
+    of ``cell`` metres, so a new box is tested against its neighbours only (a plan with
+    hundreds of doors re-places its names on every zoom step)."""
+
+    def __init__(self, cell: float) -> None:
+        self.cell = max(float(cell), 1e-9)
+        self.cells: dict[tuple[int, int], list] = {}
+
+    def _keys(self, b: tuple[float, float, float, float]):
+        c = self.cell
+        for i in range(math.floor(b[0] / c), math.floor(b[2] / c) + 1):
+            for j in range(math.floor(b[1] / c), math.floor(b[3] / c) + 1):
+                yield (i, j)
+
+    def hits(self, b: tuple[float, float, float, float]) -> list:
+        """The payloads of the boxes that overlap ``b`` (each once)."""
+        out: dict[int, Any] = {}
+        for k in self._keys(b):
+            for o, item in self.cells.get(k, ()):
+                if not (b[2] <= o[0] or b[0] >= o[2] or b[3] <= o[1] or b[1] >= o[3]):
+                    out[id(o)] = item
+        return list(out.values())
+
+    def free(self, b: tuple[float, float, float, float]) -> bool:
+        return not self.hits(b)
+
+    def add(self, b: tuple[float, float, float, float], item: Any = None) -> None:
+        for k in self._keys(b):
+            self.cells.setdefault(k, []).append((b, item))
+
+    def remove(self, item: Any) -> None:
+        for lst in self.cells.values():
+            lst[:] = [e for e in lst if e[1] is not item]
+
+
+#: Grid cell of :class:`_Boxes`, in screen pixels (about a label's width).
+_BOX_CELL_PX = 128.0
 
 
 def _plan_box(label: _Label, px: float) -> tuple[float, float, float, float]:
@@ -433,7 +491,9 @@ class _Label(QGraphicsRectItem):
 _WAYPOINT_BRUSH = qbrush(STYLES["waypoint"].fill)
 _SELECTED_BRUSH = pg.mkBrush(ORANGE)
 _FIXED_BRUSH = pg.mkBrush(PURPLE)  # a heading the user fixed
-_FREE_BRUSH = pg.mkBrush(QColor(255, 255, 255, 230))  # the planner's choice, to grab
+# The planner's choice, to grab: the handle's purple, pale (a white disc would read as a
+# small waypoint).
+_FREE_BRUSH = pg.mkBrush(QColor(PURPLE).lighter(150))
 
 
 class PlanViewBox(pg.ViewBox):
@@ -504,8 +564,18 @@ class PlanCanvas(QWidget):
             ax.setCacheMode(QGraphicsItem.CacheMode.DeviceCoordinateCache)
         pi.setLabel("bottom", "x", units="m")
         pi.setLabel("left", "y", units="m")
+        # pyqtgraph's auto-range "A" button would sit beside the A (add waypoints) key's
+        # meaning; View > Fit to plan (F) is the canvas's own fit control.
+        pi.hideButtons()
         lay = QVBoxLayout(self)
         lay.setContentsMargins(0, 0, 0, 0)
+        lay.setSpacing(0)
+        # Shown while the chassis form holds a refused value: the band is greyed below it.
+        self.stale_label = QLabel()
+        self.stale_label.setWordWrap(True)
+        self.stale_label.setStyleSheet(MESSAGE_STYLE)
+        self.stale_label.hide()
+        lay.addWidget(self.stale_label)
         lay.addWidget(self.plot)
         self._build_items()
 
@@ -521,6 +591,7 @@ class PlanCanvas(QWidget):
         doc.edited.connect(self.refresh_routes)
         doc.currentRouteChanged.connect(self._current_changed)
         doc.projectReplaced.connect(self._project_replaced)
+        doc.staleChanged.connect(self.set_stale)
 
         self._delete_action = QAction("Delete waypoint", self)
         self._delete_action.setShortcuts([QKeySequence.StandardKey.Delete,
@@ -531,9 +602,12 @@ class PlanCanvas(QWidget):
         from .plan_gestures import PlanGestures
 
         self.plan_gestures = PlanGestures(self)  # plan drawing, editing and measuring
-        for keys, slot in (([Qt.Key.Key_Return, Qt.Key.Key_Enter], self.plan_gestures.finish),
-                           ([Qt.Key.Key_Escape], self.plan_gestures.cancel)):
-            act = QAction(self)
+        for keys, slot, text in (
+                ([Qt.Key.Key_Return, Qt.Key.Key_Enter], self.plan_gestures.finish,
+                 "Finish the wall, polygon or zone being drawn"),
+                ([Qt.Key.Key_Escape], self.plan_gestures.cancel,
+                 "Cancel the drawing or measurement under way")):
+            act = QAction(text, self)  # the text names it in Help > Guide
             act.setShortcuts([QKeySequence(k) for k in keys])
             act.setShortcutContext(Qt.ShortcutContext.WidgetWithChildrenShortcut)
             act.triggered.connect(slot)
@@ -584,17 +658,28 @@ class PlanCanvas(QWidget):
         # pixels would shift against a fresh paint).
         for it in (self.walls_item, self.obstacles_item):
             it.setCacheMode(QGraphicsItem.CacheMode.DeviceCoordinateCache)
-        # Zones under the solids: a faint fill per kind and the kind's outline style (the
-        # picture adds hatching; here patterns would scale with the zoom).
+        # Zones under the band and the solids, in the scene's zone styles as the picture
+        # draws them: fill, hatch (laid in screen pixels, as the picture's) and outline.
         self.zone_items = {}
-        for kind in ZONE_STYLE:
-            fill, _hatch, zpen = zone_brush(kind, alpha=55)
-            it = QGraphicsPathItem()
-            it.setPen(zpen)
-            it.setBrush(fill)
-            it.setZValue(-6)
-            add(it)
-            self.zone_items[kind] = it
+        for kind in ZONE_KINDS:
+            st = STYLES["zone_" + kind]
+            parts = []
+            for z, (pen_, brush_) in enumerate(((_NO_PEN, qbrush(st.fill)),
+                                                (_NO_PEN, hatch_brush(st.fill) or _NO_BRUSH),
+                                                (qpen(st.stroke, cosmetic=True), _NO_BRUSH))):
+                it = QGraphicsPathItem()
+                it.setPen(pen_)
+                it.setBrush(brush_)
+                it.setZValue(-6 + 0.1 * z)
+                add(it)
+                parts.append(it)
+            self.zone_items[kind] = parts
+        ast = STYLES["zone_arrow"]
+        self.zone_arrows_item = _Markers("arrow", 2 * ZONE_ARROW_R_PX, qpen(ast.stroke),
+                                         qbrush(ast.fill))
+        self.zone_arrows_item.setZValue(-5.5)
+        add(self.zone_arrows_item, ignoreBounds=True)
+        self._zone_arrow_px: float | None = None
         self.door_gaps_item = _Polyline(qpen(STYLES["door_gap"].stroke, cosmetic=True))
         self.doors_item = _Polyline(qpen(STYLES["door"].stroke, cosmetic=True))
         for it in (self.door_gaps_item, self.doors_item):
@@ -606,6 +691,7 @@ class PlanCanvas(QWidget):
         self.jambs_item.setZValue(1)
         add(self.jambs_item, ignoreBounds=True)
         self.plan_labels: list[_Label] = []
+        self.zone_labels: list[_Label] = []
 
         self.others_item = _Polyline(_pen("#8C8C8C", 1.5, Qt.PenStyle.DashDotLine))
         self.others_item.setZValue(2)
@@ -634,7 +720,8 @@ class PlanCanvas(QWidget):
         add(self.handles_line)
         # Markers and labels keep their pixel size at any zoom; they are plain Qt items
         # (see _Markers, _Label), which a drag moves without per-paint Python.
-        self.handles_item = _Markers("d", 13, _pen(BLACK, 1.0), _brush(PURPLE))
+        self.handles_item = _Markers(HANDLE_SHAPE, 2 * HANDLE_R_PX, _pen(BLACK, 1.0),
+                                     _brush(PURPLE))
         self.handles_item.setZValue(7)
         add(self.handles_item, ignoreBounds=True)
         self.waypoints_item = _Markers("circle", 2 * WAYPOINT_R_PX, _pen(BLACK, 2.0),
@@ -730,9 +817,14 @@ class PlanCanvas(QWidget):
         self.obstacles_item.setPath(polygons_path(shapely.orient_polygons(obst), wind)
                                     if obst else polygons_path([]))
         self.hatch_item.setPath(self.obstacles_item.path())
-        zk = index.zones
-        for kind, it in self.zone_items.items():
-            it.setPath(polygons_path(list(getattr(zk, kind).geometries)))
+        zones = zone_layer(fp.zones)
+        geoms = {pg_.role[5:]: pg_.geoms for pg_ in zones.polygons}
+        for kind, parts in self.zone_items.items():
+            path = polygons_path(geoms.get(kind, []))
+            for it in parts:
+                it.setPath(path)
+        self._zone_arrow_px = None
+        self._draw_zone_arrows()
         self._solid_geoms = [s.geometry for s in sol]
         self._solids_tree = index.tree if sol else None
         layer = floorplan_layer(fp, solids_list=sol)
@@ -761,6 +853,8 @@ class PlanCanvas(QWidget):
             # name.
             t.setZValue(1.5)
         self._obstacle_labels = []
+        self._zone_labels = []
+        self._door_labels: list[_Label] = []
         for t, (pos, text, kind, size_m) in zip(labels, named):
             st = STYLES["door_label" if kind == "door" else "obstacle_label"]
             t.setColor(QColor(st.ink))
@@ -771,22 +865,102 @@ class PlanCanvas(QWidget):
             t.setPos(*pos)
             if kind == "obstacle":
                 self._obstacle_labels.append((t, size_m, t.boundingRect().width()))
+            else:
+                self._door_labels.append(t)
+        # Each zone's name and number, as the picture places it (app.scene.zone_layer).
+        zst = STYLES["zone_label"]
+        zlabels = self._labels(self.zone_labels, len(zones.labels), zst.ink, None, (0.5, 0.0))
+        for t, lb in zip(zlabels, zones.labels):
+            # Under the solids (over the zones and the band): a zone's name never hides a
+            # wall or an obstacle, such as a pillar near the zone's top edge.
+            t.setZValue(-0.5)
+            t.setColor(QColor(lb.ink or zst.ink))
+            t.setFill(qbrush(zst.fill))
+            t.setText(lb.text)
+            self._zone_labels.append((t, lb))
         self._fit_obstacle_labels()
+        self._drawn.pop("violations", None)  # placed anew round the names shown now
 
     def _fit_obstacle_labels(self) -> None:
-        """Name an obstacle only where its name fits across it on screen (no pile-ups)."""
+        """Name an obstacle only where its name fits across it on screen (no pile-ups),
+        put each door's name by the door where it covers no other name: in the first row
+        under it, else the second, else above it, else (zoomed far out) not at all; a
+        zone's name goes under its top edge where the zone is tall enough, else in its
+        middle."""
         px = self.px_m()
+        taken = _Boxes(_BOX_CELL_PX * px)
         for t, size_m, text_px in getattr(self, "_obstacle_labels", []):
             t.setVisible(size_m / px >= 0.9 * text_px)
+            if t.isVisible():
+                taken.add(_plan_box(t, px))
+        for t in getattr(self, "_door_labels", []):
+            for anchor in _DOOR_LABEL_PLACES:
+                t.setAnchor(anchor)
+                box = _plan_box(t, px)
+                if taken.free(box):
+                    t.setVisible(True)
+                    taken.add(box)
+                    break
+            else:
+                t.setVisible(False)
+        for t, lb in getattr(self, "_zone_labels", []):
+            h = t.rect().height()
+            if (lb.inside_m or 0.0) / px > 2 * h or lb.centre is None:
+                t.setAnchor((0.5, -0.15))
+                t.setPos(lb.x, lb.y)
+            else:
+                t.setAnchor((0.5, 0.5))
+                t.setPos(*lb.centre)
+
+    def _draw_zone_arrows(self) -> None:
+        """The one-way arrows, spaced in screen pixels as the picture spaces them: drawn anew
+        only when the zoom changed by more than a third."""
+        px = self.px_m()
+        was = self._zone_arrow_px
+        if was is not None and 0.75 < px / was < 1.33:
+            return
+        self._zone_arrow_px = px
+        fp = self.doc.project.floorplan
+        marks = zone_layer([z for z in fp.zones if z.kind == "one_way"],
+                           ZONE_ARROW_STEP_PX * px).markers if fp.zones else []
+        self.zone_arrows_item.setData([m.x for m in marks], [m.y for m in marks],
+                                      angle=[m.angle_rad for m in marks])
+
+    def clear_hover(self) -> None:
+        """Forget the hover read-out and its ring (the route under them went away)."""
+        self.last_hover = None
+        self.hover_item.setData([], [])
+        self.hoverInfo.emit("")
+        self.plot.setToolTip("")
 
     def _project_replaced(self) -> None:
         self.selected = -1
         self._pending = None
         self._drag = None
+        self.pending_item.setData([], [])
+        self.clear_hover()
         self.refresh_routes()
         self.fit()
 
+    #: Opacity of the band, outlines and violations while they are out of date.
+    STALE_OPACITY = 0.3
+
+    def set_stale(self, reason: str) -> None:
+        """Grey the results drawn (band, outlines, violations) and say why, or undo that."""
+        self.stale_label.setText(reason)
+        self.stale_label.setVisible(bool(reason))
+        op = self.STALE_OPACITY if reason else 1.0
+        for it in (self.band_item, self.outlines_item, self.violations_item,
+                   *self.violation_labels):
+            it.setOpacity(op)
+
+    @property
+    def stale(self) -> bool:
+        """True while the band and violations drawn are of an older chassis."""
+        return self.band_item.opacity() < 1.0
+
     def _current_changed(self, _i: int) -> None:
+        self.clear_hover()  # the ring sat on the previous route
         self.selected = -1
         self.selectionChanged.emit(-1)
         self.refresh_routes()
@@ -832,7 +1006,7 @@ class PlanCanvas(QWidget):
         sel = np.arange(len(wx)) == self.selected
         self.waypoints_item.setData(wx, wy, brush=[_SELECTED_BRUSH if s else _WAYPOINT_BRUSH
                                                    for s in sel],
-                                    size=np.where(sel, 16, 13))
+                                    size=np.where(sel, 2 * WAYPOINT_R_PX + 3, 2 * WAYPOINT_R_PX))
         labels = self._labels(self.wp_labels, len(wx), BLACK, None, (-0.35, 1.15))
         for k, t in enumerate(labels):
             _set_text(t, str(k + 1))
@@ -999,7 +1173,9 @@ class PlanCanvas(QWidget):
         vs = list(getattr(chk, "violations", []) or []) if chk is not None else []
         # A drag step that leaves the violations as they were (the usual case) and the same
         # zoom redraws nothing here.
-        key = (tuple((v.kind, v.x, v.y, v.amount_m) for v in vs), self.px_m())
+        (vx0, vx1), (vy0, vy1) = self.view.viewRange()
+        key = (tuple((v.kind, v.x, v.y, v.amount_m) for v in vs), self.px_m(),
+               (vx0, vx1, vy0, vy1))
         if key == self._drawn.get("violations"):
             return
         self._drawn["violations"] = key
@@ -1015,22 +1191,48 @@ class PlanCanvas(QWidget):
         # What a label must not cover, as plan boxes (x0, y0, x1, y1): every violation marker,
         # the names of doors and obstacles shown, and the labels already placed.
         half = 0.5 * MARKER_PX * px
-        taken = [(v.x - half, v.y - half, v.x + half, v.y + half) for v in vs]
-        taken += [_plan_box(t, px) for t in self.plan_labels if t.isVisible()]
+        taken = _Boxes(_BOX_CELL_PX * px)
+        for v in vs:
+            taken.add((v.x - half, v.y - half, v.x + half, v.y + half))
+        names = _Boxes(_BOX_CELL_PX * px)
+        for n in self.plan_labels:
+            if n.isVisible():
+                names.add(_plan_box(n, px), n)
         for t, v in zip(labels, shown):
+            t.setOpacity(self.band_item.opacity())  # greyed with the band while stale
             t.setFill(qbrush(lst.fill))
             t.setPen(qpen(lst.stroke, cosmetic=True))
             _set_text(t, v.text)
             t.setPos(v.x, v.y)
-            # The first of four places round the marker that covers nothing above; a label with
-            # no free place is hidden (its marker stays, and the results panel lists it).
-            for anchor in _LABEL_PLACES:
+            # The first of four places round the marker that covers nothing above and lies
+            # inside the view; else the first free one slid inside the view (at the edge of
+            # the plot a label is never cut off); else the same over the plan's names (a
+            # violation matters more than a door's name, which shows again zoomed in). A
+            # label with no free place is hidden (its marker stays; the results list it).
+            inset = 3 * px
+            view = (vx0 + inset, vy0 + inset, vx1 - inset, vy1 - inset)
+            seen = vx0 <= v.x <= vx1 and vy0 <= v.y <= vy1  # else nothing to keep in view
+            places = [(a, False, True) for a in _LABEL_PLACES]
+            places += [(a, True, True) for a in _LABEL_PLACES] if seen else []
+            places += [(a, slide, False) for a, slide, _ in places]
+            for anchor, slide, avoid_names in places:
                 t.setAnchor(anchor)
+                t.setPos(v.x, v.y)
                 box = _plan_box(t, px)
-                if all(box[2] <= o[0] or box[0] >= o[2] or box[3] <= o[1] or box[1] >= o[3]
-                       for o in taken):
+                if slide:
+                    dx = max(0.0, view[0] - box[0]) - max(0.0, box[2] - view[2])
+                    dy = max(0.0, view[1] - box[1]) - max(0.0, box[3] - view[3])
+                    t.setPos(v.x + dx, v.y + dy)
+                    box = (box[0] + dx, box[1] + dy, box[2] + dx, box[3] + dy)
+                inside = not seen or (view[0] <= box[0] and box[2] <= view[2]
+                                      and view[1] <= box[1] and box[3] <= view[3])
+                if inside and taken.free(box) and (not avoid_names or names.free(box)):
                     t.setVisible(True)
-                    taken.append(box)
+                    taken.add(box)
+                    if not avoid_names:  # the names it would cover give way
+                        for n in names.hits(box):
+                            n.setVisible(False)
+                            names.remove(n)
                     break
             else:
                 t.setVisible(False)
@@ -1044,6 +1246,7 @@ class PlanCanvas(QWidget):
             self.scale_bar.updateBar()
         self._draw_handles()
         self._fit_obstacle_labels()
+        self._draw_zone_arrows()
         cur = self.doc.route()
         if cur is not None and "violations" in self._drawn:
             self._draw_violations(cur.name)  # labels placed anew at a new zoom only
@@ -1158,9 +1361,11 @@ class PlanCanvas(QWidget):
             first = self._pending
             self._pending = None
             self.pending_item.setData([], [])
-            doc.add_route(Route(doc.unique_route_name(),
-                                (Waypoint(*first), Waypoint(x, y))))
+            name = doc.unique_route_name()
+            doc.add_route(Route(name, (Waypoint(*first), Waypoint(x, y))))
             self.select(1)
+            # Replaces "First point of a new route ...", which no longer holds.
+            self.message.emit(f"Added route {name!r}; each click adds a waypoint.")
             return
         doc.add_waypoint(doc.current_route, len(cur.waypoints), Waypoint(x, y))
         self.select(len(cur.waypoints))

@@ -19,6 +19,7 @@ import dataclasses
 import gc
 import itertools
 import os
+import re
 import sys
 from pathlib import Path
 from typing import Any
@@ -100,6 +101,11 @@ def new_drag_token() -> int:
     return next(_drag_tokens)
 
 
+def chassis_field_words(key: str) -> str:
+    """A chassis key as words for the undo history: ``track_m`` -> ``track``."""
+    return re.sub(r"_(m|mps|mps2|dps|dps2|radps|radps2|deg)$", "", key).replace("_", " ")
+
+
 def empty_project() -> Project:
     """A new project: no floor plan, the default chassis (with a track) and no routes."""
     chassis = Chassis(name="new chassis", drive="differential", track_m=0.5,
@@ -112,7 +118,7 @@ class _Edit(QUndoCommand):
 
     def __init__(self, doc: Document, text: str, before: Project, after: Project,
                  what: frozenset[str], current: tuple[int, int],
-                 merge_key: tuple | None = None) -> None:
+                 merge_key: tuple | None = None, live: bool = True) -> None:
         super().__init__(text)
         self._doc = doc
         self._before = before
@@ -120,6 +126,7 @@ class _Edit(QUndoCommand):
         self._what = what
         self._current = current
         self.merge_key = merge_key
+        self._live = live and merge_key is not None
         self._pushed = False
 
     def id(self) -> int:  # noqa: A003 - Qt's name
@@ -135,7 +142,7 @@ class _Edit(QUndoCommand):
     def redo(self) -> None:
         # The first run of a drag step is "live": the canvas redraws at once, the panels a few
         # times a second (see Document._apply). A later redo from the history is not live.
-        live = self.merge_key is not None and not self._pushed
+        live = self._live and not self._pushed
         self._pushed = True
         self._doc._apply(self._after, self._what, self._current[1], live)
 
@@ -180,6 +187,9 @@ class Document(QObject):
     resultsChanged = Signal()
     currentRouteChanged = Signal(int)
     fileStateChanged = Signal()
+    # The chassis form holds a value the core refuses (say an Ackermann drive with wheelbase
+    # 0): the results shown are of the last valid chassis; the text says why ("" once valid).
+    staleChanged = Signal(str)
     # After every edit, undo or redo, at once (the canvas and autosave listen). During a drag
     # resultsChanged waits until the pointer has rested LIVE_RESULTS_MS or the drag ends
     # (finish_drag), so the panels, plots and schedule (tens of milliseconds each) never
@@ -209,6 +219,7 @@ class Document(QObject):
         self._results_timer.setInterval(self.LIVE_RESULTS_MS)
         self._results_timer.timeout.connect(self._drag_rested)
         self._gc_held = False
+        self._stale_reason = ""
 
     def _clean_changed(self, _clean: bool) -> None:
         self.fileStateChanged.emit()
@@ -442,11 +453,11 @@ class Document(QObject):
             self.resultsChanged.emit()
 
     def _push(self, text: str, after: Project, what: str | set[str], current: int | None = None,
-              merge_key: tuple | None = None) -> None:
+              merge_key: tuple | None = None, live: bool = True) -> None:
         what_set = frozenset({what} if isinstance(what, str) else what)
         cur_after = self._current if current is None else current
         self.undo_stack.push(_Edit(self, text, self._project, after, what_set,
-                                   (self._current, cur_after), merge_key))
+                                   (self._current, cur_after), merge_key, live))
 
     def _check_route_index(self, route_i: int) -> Route:
         if not 0 <= route_i < len(self._project.routes):
@@ -557,9 +568,36 @@ class Document(QObject):
             text = text or f"Change route {route.name!r}"
         self._push(text, self._with_route(i, route), "routes")
 
-    def set_chassis(self, chassis: Chassis) -> None:
-        self._push("Change chassis", dataclasses.replace(self._project, chassis=chassis),
-                   "chassis")
+    def set_chassis(self, chassis: Chassis, burst: int | None = None,
+                    text: str | None = None) -> None:
+        """Use ``chassis``: one undo step named for the fields it changes.
+
+        Edits with the same ``burst`` key (:func:`new_drag_token`) that change the same fields
+        merge into one step: a number typed digit by digit, or a spin box stepped a few
+        times, is one "Change chassis track" in the history, not one per keystroke.
+        """
+        old = self._project.chassis
+        changed = tuple(f.name for f in dataclasses.fields(Chassis)
+                        if getattr(old, f.name) != getattr(chassis, f.name))
+        if text is None:
+            text = ("Change chassis " + ", ".join(map(chassis_field_words, changed))
+                    if 0 < len(changed) <= 2 else "Change chassis")
+        key = None if burst is None or not changed else ("chassis", changed, burst)
+        # Not live: the results follow each step at once (no drag frame to keep).
+        self._push(text, dataclasses.replace(self._project, chassis=chassis), "chassis",
+                   merge_key=key, live=False)
+
+    @property
+    def stale_reason(self) -> str:
+        """Why the results shown are not of the chassis being edited ("" when they are)."""
+        return self._stale_reason
+
+    def set_stale(self, reason: str | None) -> None:
+        """Say the chassis form holds a refused value (``reason``), or no longer (``None``)."""
+        reason = reason or ""
+        if reason != self._stale_reason:
+            self._stale_reason = reason
+            self.staleChanged.emit(reason)
 
     def set_floorplan(self, fp: FloorPlan, ref: str | dict | None) -> None:
         """Use floor plan ``fp``; ``ref`` is how the project file names it (path or import)."""
@@ -598,6 +636,7 @@ class Document(QObject):
         self._forced_dirty = dirty
         self._current = 0 if project.routes else -1
         self._results_timer.stop()
+        self.set_stale(None)
         self.projectReplaced.emit()
         self.floorplanChanged.emit()
         self.chassisChanged.emit()

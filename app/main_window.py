@@ -29,6 +29,7 @@ from PySide6.QtWidgets import (
     QDoubleSpinBox,
     QFileDialog,
     QFormLayout,
+    QHBoxLayout,
     QInputDialog,
     QLabel,
     QMainWindow,
@@ -54,7 +55,13 @@ FLOOR_FILTER = ("Floor plans (*.floor.json *.dxf *.svg);;Swathe floor plan (*.fl
 OPEN_FILTER = ("Swathe projects (*.swathe.json);;Floor plans, for a new project "
                "(*.floor.json *.dxf *.svg);;JSON (*.json);;All files (*)")
 MAX_RECENT = 8
-ROLES = ("ignore", "walls", "obstacles", "doors")
+ROLES = ("ignore", "walls", "obstacles", "doors", "keep-out zone", "slow zone",
+         "margin zone", "one-way zone")
+#: A zone role's kind, and its number's ``(key, suffix, minimum, maximum, default)``.
+ZONE_ROLES = {"keep-out zone": ("keep_out", None), "slow zone": ("slow", ("speed_mps", " m/s",
+                                                                        0.01, 1000.0, 0.5)),
+              "margin zone": ("margin", ("margin_m", " m", 0.0, 100.0, 0.3)),
+              "one-way zone": ("one_way", ("direction_deg", " deg", -360.0, 360.0, 0.0))}
 
 
 def _version() -> str:
@@ -78,13 +85,24 @@ class DxfImportDialog(QDialog):
         lay.addWidget(QLabel("What does each layer of the drawing hold?"))
         form = QFormLayout()
         self.combos: dict[str, QComboBox] = {}
+        self.values: dict[str, QDoubleSpinBox] = {}  # a zone layer's speed, margin, direction
         for name in layers:
             cb = QComboBox()
             cb.addItems(ROLES)
             guess = guess_role(name)
             cb.setCurrentText(guess if guess in ROLES else "walls")
-            form.addRow(name, cb)
+            spin = QDoubleSpinBox()
+            spin.setDecimals(2)
+            row = QWidget()
+            hl = QHBoxLayout(row)
+            hl.setContentsMargins(0, 0, 0, 0)
+            hl.addWidget(cb, 1)
+            hl.addWidget(spin)
+            form.addRow(name, row)
             self.combos[name] = cb
+            self.values[name] = spin
+            cb.currentTextChanged.connect(lambda role, sp=spin: self._role_changed(role, sp))
+            self._role_changed(cb.currentText(), spin)
         self.units = QComboBox()
         self.units.addItems(["from the file", "mm", "cm", "m", "in", "ft"])
         form.addRow("Drawing units", self.units)
@@ -102,16 +120,44 @@ class DxfImportDialog(QDialog):
         buttons.rejected.connect(self.reject)
         lay.addWidget(buttons)
 
+    @staticmethod
+    def _role_changed(role: str, spin: QDoubleSpinBox) -> None:
+        """Show the number a zone layer needs (speed cap, margin, direction) beside it."""
+        field = ZONE_ROLES.get(role, (None, None))[1]
+        spin.setVisible(field is not None)
+        if field is not None:
+            _key, suffix, lo, hi, default = field
+            spin.setRange(lo, hi)
+            spin.setSuffix(suffix)
+            spin.setValue(default)
+
     def options(self) -> dict[str, Any]:
-        """Keyword options for :func:`kinematics.files.loader.load_floorplan`."""
+        """Options for :func:`kinematics.files.loader.load_floorplan`, as a project file's
+        import object holds them (zone layers as ``{"layer", "kind", ...}``)."""
         roles: dict[str, list[str]] = {"walls": [], "obstacles": [], "doors": []}
+        zones: list[dict[str, Any]] = []
         for name, cb in self.combos.items():
-            if cb.currentText() in roles:
-                roles[cb.currentText()].append(name)
+            role = cb.currentText()
+            if role in roles:
+                roles[role].append(name)
+            elif role in ZONE_ROLES:
+                kind, field = ZONE_ROLES[role]
+                z: dict[str, Any] = {"layer": name, "kind": kind}
+                if field is not None:
+                    z[field[0]] = self.values[name].value()
+                zones.append(z)
         opts: dict[str, Any] = {"layers": roles, "wall_thickness_m": self.thickness.value()}
+        if zones:
+            opts["zones"] = zones
         if self.units.currentIndex() > 0:
             opts["units"] = self.units.currentText()
         return opts
+
+
+def _keys(action: QAction) -> str:
+    """The action's shortcuts as the user types them ("Ctrl+Shift+O"), or "" if none."""
+    return ", ".join(k.toString(QKeySequence.SequenceFormat.NativeText)
+                     for k in action.shortcuts())
 
 
 def _placeholder(text: str) -> QWidget:
@@ -165,6 +211,8 @@ class MainWindow(QMainWindow):
         d.projectReplaced.connect(self._refresh_route_bar)
         d.chassisChanged.connect(self._refresh_route_bar)  # the transitions default follows it
         d.resultsChanged.connect(self._refresh_summary)
+        # A message about the project before ("Opened demo.swathe.json") no longer holds.
+        d.projectReplaced.connect(self.statusBar().clearMessage)
         d.currentRouteChanged.connect(lambda _i: self._refresh_summary())
         self.canvas.cursorMoved.connect(self._cursor)
         self.canvas.hoverInfo.connect(self._hover)
@@ -225,6 +273,11 @@ class MainWindow(QMainWindow):
                                            "waypoint's heading")
         self.act_fit = self._act("&Fit to plan", self.canvas.fit, QKeySequence("F"))
         self.act_about = self._act("&About Swathe", self.show_about)
+        self.act_guide = self._act("&Guide", self.show_guide, QKeySequence.StandardKey.HelpContents,
+                                   "What each mode does, every shortcut, and the words used")
+        if self.act_guide.shortcut().isEmpty():  # platforms without a standard help key
+            self.act_guide.setShortcut(QKeySequence("F1"))
+        self.guide_box: QDialog | None = None
         self.mode_group = QActionGroup(self)
         self.act_select = QAction("Select / move", self, checkable=True)
         self.act_select.setShortcut(QKeySequence("S"))
@@ -249,6 +302,9 @@ class MainWindow(QMainWindow):
                 ("circle", "Draw circle", "C", "Click the centre, then a point on the rim (C)"),
                 ("door", "Place door", "D", "Click the two jambs; they snap to wall ends (D)"),
                 ("measure", "Measure distance", "M", "Click two points (M)"),
+                ("zone", "Draw zone", "Z", "Click the zone's corners; double-click or Enter "
+                 "ends it, then give its kind (keep out, slow, margin, one way), its number "
+                 "and label (Z)"),
                 ("gap", "Gap between elements", "G", "Click two walls, obstacles, doors or "
                  "zones (G)")):
             a = QAction(text, self, checkable=True)
@@ -264,6 +320,10 @@ class MainWindow(QMainWindow):
         self.act_relabel = self._act("Re&label plan element...",
                                      lambda: self.canvas.plan_gestures.relabel(), None,
                                      "A new label for the selected obstacle, door or zone")
+        self.act_edit_zone = self._act("Edit &zone rule...",
+                                       lambda: self.canvas.plan_gestures.edit_zone(), None,
+                                       "Change the selected zone's kind, speed cap, margin, "
+                                       "direction or label")
         self.thickness_spin = QDoubleSpinBox()
         self.thickness_spin.setRange(0.01, 2.0)
         self.thickness_spin.setDecimals(3)
@@ -298,11 +358,13 @@ class MainWindow(QMainWindow):
         e.addAction(self.act_delete)
         e.addAction(self.act_clear_heading)
         e.addAction(self.act_relabel)
+        e.addAction(self.act_edit_zone)
         pm = mb.addMenu("&Plan")
         for a in self.plan_mode_actions.values():
             pm.addAction(a)
         pm.addSeparator()
         pm.addAction(self.act_relabel)
+        pm.addAction(self.act_edit_zone)
         v = mb.addMenu("&View")
         v.addAction(self.act_fit)
         v.addAction(self.act_band)
@@ -331,6 +393,8 @@ class MainWindow(QMainWindow):
         self.route_finder = RouteFinderActions(self)  # Route > Find / Repair route
         self.route_finder.install()
         h = mb.addMenu("&Help")
+        h.addAction(self.act_guide)
+        h.addSeparator()
         h.addAction(self.act_about)
 
     def _build_toolbars(self) -> None:
@@ -338,11 +402,6 @@ class MainWindow(QMainWindow):
         tools.setObjectName("tools")
         tools.addAction(self.act_select)
         tools.addAction(self.act_add)
-        tools.addSeparator()
-        for a in self.plan_mode_actions.values():
-            tools.addAction(a)
-        tools.addWidget(QLabel(" wall "))
-        tools.addWidget(self.thickness_spin)
         tools.addSeparator()
         tools.addAction(self.act_fit)
         tools.addAction(self.act_undo)
@@ -360,6 +419,13 @@ class MainWindow(QMainWindow):
         self.act_route_new.setToolTip("Add a route with two waypoints in the middle of the view")
         self.act_route_rename = bar.addAction("Rename...", self._menu_rename_route)
         self.act_route_remove = bar.addAction("Remove", self._remove_route)
+        self.act_route_remove.setToolTip("Remove the current route (Undo restores it)")
+        # The same three in the Route menu, above the route finder.
+        menu = self.route_finder.menu
+        first = menu.actions()[0] if menu.actions() else None
+        menu.insertActions(first, [self.act_route_new, self.act_route_rename,
+                                   self.act_route_remove])
+        menu.insertSeparator(first)
         bar.addSeparator()
         bar.addWidget(QLabel(" Turn radius "))
         self.radius_spin = QDoubleSpinBox()
@@ -383,6 +449,22 @@ class MainWindow(QMainWindow):
         self.transitions_check.clicked.connect(self._transitions_edited)
         bar.addWidget(self.transitions_check)
         self.addToolBar(bar)
+        # The plan tools on a row of their own: on one row with the rest they overflowed
+        # behind a ">>" button in windows up to ~1400 px wide.
+        self.addToolBarBreak()
+        plan = QToolBar("Plan tools", self)
+        plan.setObjectName("plan_tools")
+        plan.addWidget(QLabel(" Plan "))
+        for a in self.plan_mode_actions.values():
+            plan.addAction(a)
+        plan.addWidget(QLabel(" wall "))
+        plan.addWidget(self.thickness_spin)
+        plan.addSeparator()
+        plan.addAction(self.act_relabel)
+        plan.addAction(self.act_edit_zone)
+        self.act_relabel.setIconText("Relabel")
+        self.act_edit_zone.setIconText("Zone rule")
+        self.addToolBar(plan)
 
     def _dock(self, title: str, name: str, widget: QWidget,
               area: Qt.DockWidgetArea) -> QDockWidget:
@@ -417,6 +499,11 @@ class MainWindow(QMainWindow):
         self.resizeDocks([self.chassis_dock, self.results_dock], [300, 320],
                          Qt.Orientation.Horizontal)
         self.resizeDocks([self.plots_dock], [240], Qt.Orientation.Vertical)
+        # Tabified beside the results once the window is shown (showEvent): a second tab
+        # group made before the first show leaves a stray copy of a tab bar painted where the
+        # window's first size put it (Qt 6.11; over the plots in a larger window).
+        self.legend_dock = self._dock("Legend", "legend", QWidget(), R)
+        self._legend_tabified = False
         self.canvas.firstPainted.connect(self._build_later_panels)
 
     def _build_later_panels(self) -> dict[str, QWidget | None]:
@@ -426,8 +513,11 @@ class MainWindow(QMainWindow):
             results = self._panel("panels", "ResultsPanel")
             plots = self._panel("plots", "PlotsPanel")
             table = self._panel("panels", "ScheduleTable")
+            legend = self._panel("legend", "LegendPanel")
             self._later_panels = {"chassis": chassis, "results": results, "plots": plots,
-                                  "schedule": table}
+                                  "schedule": table, "legend": legend}
+            self.legend_dock.setWidget(legend or _placeholder(
+                "The legend is not available in this build."))
             self.chassis_dock.setWidget(chassis or _placeholder(
                 "The chassis editor is not available in this build."))
             self.results_dock.setWidget(results or _placeholder(
@@ -473,13 +563,27 @@ class MainWindow(QMainWindow):
         self.hover_text = ""
 
     # -- status -----------------------------------------------------------------------------
+    #: Pixels kept free between the hover read-out and the summary on the right.
+    STATUS_GAP_PX = 16
+
+    def status_room_px(self) -> int:
+        """How wide a status message may be without running into the summary."""
+        sb = self.statusBar()
+        right = min([w.x() for w in (self.summary_label, self.cursor_label) if w.isVisible()]
+                    or [sb.width()])
+        return max(0, right - 8 - self.STATUS_GAP_PX)  # Qt starts messages 6 px in
+
     def _hover(self, text: str) -> None:
         self.hover_text = text
+        shown = text
         if text:
-            self.statusBar().showMessage(text)
+            # Cut with an ellipsis where the summary starts (the canvas's tooltip has it all).
+            shown = self.statusBar().fontMetrics().elidedText(
+                text, Qt.TextElideMode.ElideRight, self.status_room_px())
+            self.statusBar().showMessage(shown)
         elif self.statusBar().currentMessage() == self._last_hover_shown:
             self.statusBar().clearMessage()
-        self._last_hover_shown = text
+        self._last_hover_shown = shown
 
     def _cursor(self, x: float, y: float) -> None:
         self.cursor_label.setText(f"x {x:8.2f} m   y {y:8.2f} m")
@@ -592,8 +696,14 @@ class MainWindow(QMainWindow):
             self.rename_route(name.strip())
 
     def _remove_route(self) -> None:
-        if self.doc.route() is not None:
-            self.doc.remove_route(self.doc.current_route)
+        r = self.doc.route()
+        if r is None:
+            return
+        # Undoable, so no question first; the status says what went and how to get it back.
+        self.doc.remove_route(self.doc.current_route)
+        key = self.act_undo.shortcut().toString(QKeySequence.SequenceFormat.NativeText)
+        self.statusBar().showMessage(f"Removed route {r.name!r}; {key or 'Undo'} restores it",
+                                     10000)
 
     def _radius_edited(self) -> None:
         r = self.doc.route()
@@ -625,6 +735,18 @@ class MainWindow(QMainWindow):
     def show_input_error(self, exc: SwatheInputError, action: str) -> QMessageBox:
         return self.show_error(f"Swathe could not {action}",
                                f"{exc.message}\n\nNothing was changed in the open project.")
+
+    def show_guide(self) -> QDialog:
+        """Help > Guide: modes, shortcuts (read from the actions now) and words."""
+        from .guide import GuideDialog
+
+        if self.guide_box is None:
+            self.guide_box = GuideDialog(self)
+        else:
+            self.guide_box.reload()
+        self.guide_box.show()
+        self.guide_box.raise_()
+        return self.guide_box
 
     def show_about(self) -> QMessageBox:
         box = QMessageBox(self)
@@ -726,16 +848,21 @@ class MainWindow(QMainWindow):
             ref = str(p)
 
         def load():
+            from kinematics.files.floorplan import zone_layers_from
             from kinematics.files.loader import load_floorplan
 
-            return load_floorplan(p, **options)
+            opts = dict(options)
+            if opts.get("zones"):  # the import object's zone layers, as a project reads them
+                opts["zones"] = zone_layers_from(opts["zones"], str(p), "zones")
+            return load_floorplan(p, **opts)
 
         def done(fp) -> None:
             self.doc.set_floorplan(fp, ref)
             self._add_recent(p)
             self.canvas.fit()
             self.statusBar().showMessage(f"Floor plan {p.name}: {len(fp.walls)} walls, "
-                                         f"{len(fp.obstacles)} obstacles, {len(fp.doors)} doors",
+                                         f"{len(fp.obstacles)} obstacles, {len(fp.doors)} doors"
+                                         + (f", {len(fp.zones)} zones" if fp.zones else ""),
                                          8000)
 
         def failed(text: str) -> None:
@@ -907,6 +1034,9 @@ class MainWindow(QMainWindow):
     def _menu_new(self) -> None:
         if self.confirm_discard():
             self.doc.new_project()
+            self.statusBar().showMessage(
+                f"New project: open a floor plan ({_keys(self.act_open_plan)}) or draw walls, "
+                f"then press {_keys(self.act_add)} to add a route.", 8000)
 
     def _menu_open(self) -> None:
         if not self.confirm_discard():
@@ -1054,6 +1184,10 @@ class MainWindow(QMainWindow):
 
     def showEvent(self, ev) -> None:  # noqa: N802 - Qt's name
         super().showEvent(ev)
+        if not self._legend_tabified:
+            self._legend_tabified = True
+            self.tabifyDockWidget(self.results_dock, self.legend_dock)
+            self.results_dock.raise_()
         if self.first_shown_at is None:
             self.first_shown_at = time.perf_counter()
 

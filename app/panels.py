@@ -18,6 +18,7 @@ from __future__ import annotations
 import dataclasses
 import math
 import re
+import time
 from collections.abc import Callable
 from pathlib import Path
 from typing import Any
@@ -56,7 +57,8 @@ from kinematics.analysis.results import (
 from kinematics.errors import SwatheInputError
 from kinematics.files.project import DRIVES, Chassis, a_drive, chassis_from_dict
 
-from .document import clearance_words
+from .document import clearance_words, new_drag_token
+from .qstyle import MESSAGE_STYLE
 from .render import (
     BAND_RGBA,
     BLUE,
@@ -67,9 +69,6 @@ from .render import (
     pen,
 )
 from .workers import Cancelled, CancelToken, Job, run_in_background
-
-MESSAGE_STYLE = ("QLabel { color: #5A1E00; background: #FFF1E0; border: 1px solid #D55E00; "
-                 "border-radius: 3px; padding: 4px; font-weight: bold; }")
 
 # -- chassis --------------------------------------------------------------------------------
 #: Which dimensions each drive uses (others are kept but greyed out).
@@ -85,7 +84,7 @@ USES = {
 DRIVE_WORDS = {
     "differential": "differential / skid-steer",
     "bicycle": "bicycle",
-    "ackermann": "ackermann (car-like)",
+    "ackermann": "Ackermann (car-like)",
     "mecanum": "mecanum",
     "swerve": "swerve",
 }
@@ -140,29 +139,30 @@ FIELD_TIPS = {
 }
 FIELD_LABELS.update({"footprint": "Footprint", "drive": "Drive", "name": "Name"})
 
-#: Invented example vehicles to start from (plausible sizes, no real product).
+#: Example vehicles to start from, named for what they are (plausible sizes, no real
+#: product); the key is the menu text, the chassis name is what a project file stores.
 PRESETS: dict[str, Chassis] = {
-    "Pip 60 small tug (differential)": Chassis(
-        name="Pip 60 small tug", drive="differential",
+    "Small tug (differential)": Chassis(
+        name="small tug", drive="differential",
         footprint=((-0.22, -0.24), (0.42, -0.24), (0.42, 0.24), (-0.22, 0.24)),
         margin_m=0.05, wheel_radius_m=0.075, track_m=0.40, max_speed_mps=1.2,
         max_accel_mps2=0.6, max_wheel_rate_radps=18.0, max_lateral_accel_mps2=0.6,
         max_yaw_rate_dps=90.0),
-    "Ward cart W2 (differential)": Chassis(
-        name="Ward cart W2", drive="differential",
+    "Ward cart (differential)": Chassis(
+        name="ward cart", drive="differential",
         footprint=((-0.35, -0.30), (0.65, -0.30), (0.72, -0.22), (0.72, 0.22), (0.65, 0.30),
                    (-0.35, 0.30)),
         margin_m=0.08, wheel_radius_m=0.1, track_m=0.52, max_speed_mps=1.0,
         max_accel_mps2=0.4, max_wheel_rate_radps=12.0, max_lateral_accel_mps2=0.5,
         max_yaw_rate_dps=60.0),
-    "Dock mule PM-12 pallet mover (ackermann)": Chassis(
-        name="Dock mule PM-12", drive="ackermann",
+    "Pallet mover (Ackermann)": Chassis(
+        name="pallet mover", drive="ackermann",
         footprint=((-0.45, -0.45), (1.55, -0.45), (1.55, 0.45), (-0.45, 0.45)),
         margin_m=0.10, wheel_radius_m=0.15, track_m=0.75, wheelbase_m=1.10,
         max_steer_deg=40.0, max_speed_mps=1.5, max_accel_mps2=0.5,
         max_wheel_rate_radps=12.0, max_lateral_accel_mps2=0.8),
-    "Orbit flat carrier (mecanum)": Chassis(
-        name="Orbit flat carrier", drive="mecanum",
+    "Flat carrier (mecanum)": Chassis(
+        name="flat carrier", drive="mecanum",
         footprint=((-0.45, -0.33), (0.45, -0.33), (0.45, 0.33), (-0.45, 0.33)),
         margin_m=0.05, wheel_radius_m=0.076, track_m=0.52, wheelbase_m=0.62,
         max_speed_mps=0.8, max_accel_mps2=0.4, max_wheel_rate_radps=14.0,
@@ -229,6 +229,12 @@ def chassis_from_form(values: dict, footprint_rows: list[tuple[str, str]],
 
     drive_for(c, "chassis panel")
     return dataclasses.replace(c, extra=dict(extra or {}))
+
+
+def stale_words(message: str) -> str:
+    """What the results panels say while the chassis form holds a refused value."""
+    reason = message.lstrip("\u26a0 ").strip().rstrip(".")
+    return f"Out of date (chassis form: {reason}); showing the last valid chassis."
 
 
 def friendly_message(exc: SwatheInputError) -> str:
@@ -384,11 +390,18 @@ class ChassisPanel(QWidget):
         Why the last edit was refused (hidden while the form is valid).
     """
 
+    #: Edits of the same fields less than this many seconds apart are one undo step.
+    BURST_S = 1.5
+
     def __init__(self, doc: Any, parent: QWidget | None = None) -> None:
         super().__init__(parent)
         self.doc = doc
         self._loading = False
         self.fields: dict[str, QDoubleSpinBox] = {}
+        self.clock: Callable[[], float] = time.monotonic
+        self._burst: int | None = None
+        self._burst_at = -math.inf
+        self._pushing = False
 
         inner = QWidget()
         lay = QVBoxLayout(inner)
@@ -508,6 +521,9 @@ class ChassisPanel(QWidget):
         self._enable_for_drive(c.drive)
         self._show_message(None)
         self.preview.set_data(list(c.footprint), c.margin_m, c, True)
+        if not self._pushing:
+            self._burst = None  # undo, redo or another project: the next edit starts afresh
+        self.doc.set_stale(None)  # the form shows the document's chassis again
 
     def _enable_for_drive(self, drive: str) -> None:
         for key, *_ in DIMENSION_FIELDS:
@@ -560,13 +576,29 @@ class ChassisPanel(QWidget):
         try:
             c = self.candidate()
         except SwatheInputError as exc:
-            self._show_message(friendly_message(exc))
+            text = friendly_message(exc)
+            self._show_message(text)
             self._preview_rows(valid="footprint" not in exc.place)
+            # The check, band and plots still show the last valid chassis: say so everywhere.
+            self.doc.set_stale(stale_words(text))
             return
         self._show_message(None)
+        self.doc.set_stale(None)
         self.preview.set_data(list(c.footprint), c.margin_m, c, True)
         if c != self.doc.project.chassis:
-            self.doc.set_chassis(c)
+            self._pushing = True
+            try:
+                self.doc.set_chassis(c, burst=self._burst_key())
+            finally:
+                self._pushing = False
+
+    def _burst_key(self) -> int:
+        """The undo-merge key of this edit: kept while edits come less than BURST_S apart."""
+        now = self.clock()
+        if self._burst is None or now - self._burst_at > self.BURST_S:
+            self._burst = new_drag_token()
+        self._burst_at = now
+        return self._burst
 
     def _preview_rows(self, valid: bool) -> None:
         pts = []
@@ -616,7 +648,8 @@ class ChassisPanel(QWidget):
         name = self.preset.itemText(i)
         self.preset.setCurrentIndex(0)
         c = PRESETS[name]
-        self.doc.set_chassis(dataclasses.replace(c, extra=dict(self.doc.project.chassis.extra)))
+        self.doc.set_chassis(dataclasses.replace(c, extra=dict(self.doc.project.chassis.extra)),
+                             text=f"Use example chassis {c.name!r}")
 
 
 # -- results --------------------------------------------------------------------------------
@@ -640,6 +673,9 @@ def _item(text: str, align_right: bool = False, data: Any = None) -> QTableWidge
     return it
 
 
+_VERDICT_STYLE = "QLabel { color: %s; } QLabel:disabled { color: #9A9A9A; }"
+
+
 def _table(headers: list[str]) -> QTableWidget:
     t = QTableWidget(0, len(headers))
     t.setHorizontalHeaderLabels(headers)
@@ -652,6 +688,21 @@ def _table(headers: list[str]) -> QTableWidget:
     t.horizontalHeader().setStretchLastSection(True)
     t.setAlternatingRowColors(True)
     return t
+
+
+def _numbers_whole(t: QTableWidget) -> None:
+    """Number columns as wide as their header and values; the first (words) column takes
+    what is left and elides, so a narrow dock never cuts a number (the words are also in
+    the row's tooltip and the message under the table)."""
+    hdr = t.horizontalHeader()
+    hdr.setStretchLastSection(False)
+    hdr.setMinimumSectionSize(28)  # the words column may shrink to its marker icon
+    hdr.setSectionResizeMode(0, QHeaderView.ResizeMode.Stretch)
+    for col in range(1, t.columnCount()):
+        hdr.setSectionResizeMode(col, QHeaderView.ResizeMode.ResizeToContents)
+    t.setTextElideMode(Qt.TextElideMode.ElideRight)
+    t.setHorizontalScrollBarPolicy(Qt.ScrollBarPolicy.ScrollBarAlwaysOff)
+    t.setMinimumHeight(t.horizontalHeader().sizeHint().height() + 22 + 6)  # a row at least
 
 
 def compute_sizing(project: Any, route_name: str, token: CancelToken,
@@ -692,6 +743,12 @@ class ResultsPanel(QWidget):
 
         lay = QVBoxLayout(self)
         lay.setContentsMargins(6, 6, 6, 6)
+        # Shown while the chassis form holds a refused value; the results below are greyed.
+        self.stale_label = QLabel()
+        self.stale_label.setWordWrap(True)
+        self.stale_label.setStyleSheet(MESSAGE_STYLE)
+        self.stale_label.hide()
+        lay.addWidget(self.stale_label)
         self.verdict = QLabel()
         self.verdict.setWordWrap(True)
         self.verdict.setTextFormat(Qt.TextFormat.PlainText)
@@ -715,9 +772,7 @@ class ResultsPanel(QWidget):
         self.violations.cellClicked.connect(self._violation_clicked)
         self.violations.currentCellChanged.connect(
             lambda r, _c, _pr, _pc: self._violation_clicked(r, 0))
-        hdr = self.violations.horizontalHeader()
-        for col in range(3):
-            hdr.setSectionResizeMode(col, QHeaderView.ResizeMode.ResizeToContents)
+        _numbers_whole(self.violations)
         lay.addWidget(self.violations, 3)
         # The selected violation's full message, wrapped, where a narrow dock can show it.
         self.violation_message = QLabel()
@@ -727,10 +782,12 @@ class ResultsPanel(QWidget):
         lay.addWidget(self.violation_message)
 
         lay.addWidget(QLabel("Doors passed"))
-        self.doors = _table(["Door", "Width (m)", "Least clearance (mm)"])
-        for col in range(2):
-            self.doors.horizontalHeader().setSectionResizeMode(
-                col, QHeaderView.ResizeMode.ResizeToContents)
+        self.doors = _table(["Door", "Width (m)", "Clearance (mm)"])
+        for col, tip in enumerate(("The door's label", "Width of the opening between its jambs",
+                                   "Least clearance of the footprint while it passes the "
+                                   "door")):
+            self.doors.horizontalHeaderItem(col).setToolTip(tip)
+        _numbers_whole(self.doors)
         lay.addWidget(self.doors, 1)
 
         box = QGroupBox("What would fit")
@@ -766,7 +823,25 @@ class ResultsPanel(QWidget):
         for sig in ("chassisChanged", "routesChanged", "floorplanChanged"):
             getattr(doc, sig).connect(self._refresh_sizing_label)
         self._violation_rows: list[Any] = []
+        self.sizing_box = box
+        self._results_widgets = (self.verdict, self.detail, self.violations,
+                                 self.violation_message, self.doors, box)
+        doc.staleChanged.connect(self._show_stale)
         self.refresh()
+        self._show_stale(doc.stale_reason)
+
+    @property
+    def stale(self) -> bool:
+        """True while the results shown are not of the chassis being edited."""
+        return not self.stale_label.isHidden()
+
+    def _show_stale(self, reason: str) -> None:
+        self.stale_label.setText(reason)
+        self.stale_label.setVisible(bool(reason))
+        for w in self._results_widgets:
+            w.setEnabled(not reason)  # greyed while out of date
+        # Sizing would answer for the last valid chassis too; its room goes to the message.
+        self.sizing_box.setVisible(not reason)
 
     def _route_name(self) -> str | None:
         r = self.doc.route()
@@ -784,6 +859,7 @@ class ResultsPanel(QWidget):
         self._violation_rows = []
         self.violations.setRowCount(0)
         self.violation_message.clear()
+        self.violation_message.hide()
         self.doors.setRowCount(0)
         if name is None:
             self.verdict.setText("No route")
@@ -806,11 +882,11 @@ class ResultsPanel(QWidget):
                    else "nothing nearby")
         if getattr(chk, "clear", False) and not vs:
             self.verdict.setText(f"\u2713 CLEAR \u2014 {mc_text}")
-            self.verdict.setStyleSheet("color: #004E7A;")
+            self.verdict.setStyleSheet(_VERDICT_STYLE % "#004E7A")
         else:
             n = len(vs)
             self.verdict.setText(f"\u2717 {n} VIOLATION{'S' if n != 1 else ''} \u2014 {mc_text}")
-            self.verdict.setStyleSheet("color: #8A3300;")
+            self.verdict.setStyleSheet(_VERDICT_STYLE % "#8A3300")
         margin = self.doc.project.chassis.margin_m
         self.detail.setText(f"Route {name}; margin kept from walls and obstacles: "
                             f"{margin * 1000:.0f} mm." + (f"\n{err}" if err else ""))
@@ -832,6 +908,7 @@ class ResultsPanel(QWidget):
         self.violation_message.setText(vs[0].message if len(vs) == 1 else
                                        (f"{len(vs)} violations; click one to read it." if vs
                                         else ""))
+        self.violation_message.setVisible(bool(vs))  # its room to the tables when clear
         widths = {d.label: d.width_m for d in self.doc.project.floorplan.doors}
         doors = door_results(chk)
         self.doors.setRowCount(len(doors))
@@ -848,6 +925,7 @@ class ResultsPanel(QWidget):
         if 0 <= row < len(self._violation_rows):
             v = self._violation_rows[row]
             self.violation_message.setText(f"{row + 1}. {v.message}")
+            self.violation_message.show()
             self.zoomRequested.emit(float(v.x), float(v.y))
             self.solidCited.emit(getattr(v, "solid", "") or "")
 

@@ -7,6 +7,9 @@ click adds a point; every finished shape is one undoable edit through
 - ``wall``: click points, double-click or Enter to finish (thickness :attr:`thickness_m`);
 - ``rect``: two opposite corners; ``polygon``: click corners, double-click or Enter;
 - ``circle``: the centre, then a point on the rim; ``door``: two jambs (snap to wall ends);
+- ``zone``: click corners, double-click or Enter, then its kind, number and label in the zone
+  dialog (:mod:`app.zone_dialog`; a one-way zone starts with the direction of its first edge);
+  :meth:`PlanGestures.edit_zone` changes a selected zone's rule later;
 - ``measure``: two clicks give the distance; ``gap``: two elements give their least gap;
 - in ``select`` mode, a click off the route selects a plan element, a drag on one of its
   vertices moves it (one undo step), a double-click on one of its edges inserts a vertex,
@@ -34,11 +37,13 @@ from .document import new_drag_token
 from .palette import BLUE, VERMILLION
 from .plan_tools import element_at
 
-DRAW_MODES = ("wall", "rect", "polygon", "circle", "door")
+DRAW_MODES = ("wall", "rect", "polygon", "circle", "door", "zone")
+#: Modes drawn as a run of clicked points ended by a double-click or Enter.
+_OPEN_ENDED = ("wall", "polygon", "zone")
 MEASURE_MODES = ("measure", "gap")
 PLAN_MODES = DRAW_MODES + MEASURE_MODES
 _NAMES = {"wall": "wall", "rect": "rectangle", "polygon": "polygon obstacle",
-          "circle": "circle obstacle", "door": "door"}
+          "circle": "circle obstacle", "door": "door", "zone": "zone"}
 
 
 def _cosmetic(colour: str, width: float, style: Qt.PenStyle = Qt.PenStyle.SolidLine) -> QPen:
@@ -185,7 +190,7 @@ class PlanGestures(QObject):
                 r = math.dist(pts[0], cursor)
                 path.addEllipse(pts[0][0] - r, pts[0][1] - r, 2 * r, 2 * r)
             else:
-                path = self._path(pts + [cursor], mode == "polygon")
+                path = self._path(pts + [cursor], mode in ("polygon", "zone"))
         elif pts:
             path = self._path(pts)
         r = 3.0 * self.canvas.px_m()
@@ -238,7 +243,7 @@ class PlanGestures(QObject):
         mode = self.canvas.mode
         if mode in DRAW_MODES:
             if double:
-                if mode in ("wall", "polygon"):
+                if mode in _OPEN_ENDED:
                     self.finish()
                 return True
             self._draw_point(mode, self.snap(x, y))
@@ -320,14 +325,26 @@ class PlanGestures(QObject):
         self._draw_preview()
 
     def finish(self) -> None:
-        """End the wall or polygon being drawn (double-click or Enter)."""
+        """End the wall, polygon or zone being drawn (double-click or Enter)."""
         mode = self.canvas.mode
         pts = [p for k, p in enumerate(self.points) if k == 0 or p != self.points[k - 1]]
-        if mode not in ("wall", "polygon") or not pts:
+        if mode not in _OPEN_ENDED or not pts:
             return
         try:
             if mode == "wall":
                 fp = plan_edits.add_wall(self.fp, pts, self.thickness_m)
+            elif mode == "zone":
+                # The outline first (a bad one is refused before any question is asked).
+                plan_edits.make_zone("keep_out", pts)
+                first = math.degrees(math.atan2(pts[1][1] - pts[0][1], pts[1][0] - pts[0][0]))
+                rule = self.ask_zone_rule(None, first, "New zone")
+                if rule is None:
+                    self.canvas.message.emit("Zone not drawn.")
+                    self.points = []
+                    self._draw_preview()
+                    return
+                kind, value, label = rule
+                fp = plan_edits.add_zone(self.fp, plan_edits.make_zone(kind, pts, label, value))
             else:
                 fp = plan_edits.add_obstacle(self.fp, pts)
             self._commit(fp, mode)
@@ -368,8 +385,12 @@ class PlanGestures(QObject):
             return False
         before = min(near)[1]
         p = self.canvas._snap(x, y)
-        self.doc.edit_floorplan(plan_edits.insert_vertex(self.fp, kind, i, before, p),
-                                f"Insert vertex in {kind} {i}")
+        try:
+            fp = plan_edits.insert_vertex(self.fp, kind, i, before, p)
+        except ValueError as exc:
+            self.canvas.message.emit(str(exc))
+            return True
+        self.doc.edit_floorplan(fp, f"Insert vertex in {kind} {i}")
         self.vertex = before
         self._draw_selection()
         return True
@@ -395,8 +416,13 @@ class PlanGestures(QObject):
         if i < len(items):
             p = self.snap(x, y, others)
             if p != vertices_of(items[i])[k]:
-                self.doc.edit_floorplan(plan_edits.move_vertex(self.fp, kind, i, k, p),
-                                        f"Move {kind} {i} vertex", drag=token)
+                try:
+                    fp = plan_edits.move_vertex(self.fp, kind, i, k, p)
+                except ValueError as exc:  # a zone outline crossing itself: not moved there
+                    self.canvas.message.emit(str(exc))
+                    fp = None
+                if fp is not None:
+                    self.doc.edit_floorplan(fp, f"Move {kind} {i} vertex", drag=token)
         if ev.isFinish():
             self._drag = None
             self.doc.finish_drag()
@@ -423,6 +449,42 @@ class PlanGestures(QObject):
         self.vertex = None
         self.doc.edit_floorplan(fp, text)
         self._draw_selection()
+        return True
+
+    def ask_zone_rule(self, zone: Any, direction_deg: float = 0.0, title: str = "Zone rule"
+                      ) -> tuple[str, float | None, str] | None:
+        """The zone dialog's ``(kind, value, label)``, or ``None`` when cancelled."""
+        from .zone_dialog import ZoneDialog
+
+        dialog = ZoneDialog(self.canvas, zone, direction_deg, title)
+        try:
+            if dialog.exec() != ZoneDialog.DialogCode.Accepted:
+                return None
+            return dialog.rule()
+        finally:
+            dialog.deleteLater()
+
+    def edit_zone(self, rule: tuple[str, float | None, str] | None = None) -> bool:
+        """Change the selected zone's kind, number and label (asks when ``rule`` is None):
+        one undo step."""
+        if self.selection is None or self.selection[0] != "zone":
+            self.canvas.message.emit("Select a zone (click inside it) to edit its rule.")
+            return False
+        i = self.selection[1]
+        zone = self.fp.zones[i]
+        if rule is None:
+            rule = self.ask_zone_rule(zone, zone.direction_deg or 0.0, f"Zone {i} rule")
+            if rule is None:
+                return False
+        kind, value, label = rule
+        try:
+            fp = plan_edits.set_zone_rule(self.fp, i, kind, value, label)
+        except ValueError as exc:
+            self.canvas.message.emit(str(exc))
+            return False
+        if fp == self.fp:
+            return False
+        self.doc.edit_floorplan(fp, f"Edit zone {i}")
         return True
 
     def relabel(self, label: str | None = None) -> bool:

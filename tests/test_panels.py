@@ -7,12 +7,14 @@ import math
 import os
 import threading
 import time
+from pathlib import Path
 
 os.environ.setdefault("QT_QPA_PLATFORM", "offscreen")
 
 import numpy as np  # noqa: E402
 import pytest  # noqa: E402
-from PySide6.QtWidgets import QTableWidgetItem  # noqa: E402
+from PySide6.QtCore import Qt  # noqa: E402
+from PySide6.QtWidgets import QApplication, QTableWidgetItem  # noqa: E402
 
 from app.document import Document  # noqa: E402
 from app.panels import PRESETS, ChassisPanel, ResultsPanel, ScheduleTable  # noqa: E402
@@ -56,6 +58,47 @@ def test_editing_track_is_one_undo_step(doc, qtbot):
     assert doc.project.chassis == before
     # The form follows the document back.
     assert panel.fields["track_m"].value() == pytest.approx(0.5)
+
+
+def test_a_burst_of_edits_of_one_field_is_one_undo_step(doc, qtbot):
+    # Source: common practice (text editors merge a run of typing into one undo step;
+    # QUndoCommand.mergeWith is Qt's way to do it).
+    panel = ChassisPanel(doc)
+    qtbot.addWidget(panel)
+    panel.show()
+    now = [100.0]
+    panel.clock = lambda: now[0]
+    spin = panel.fields["track_m"]
+    spin.lineEdit().selectAll()
+    qtbot.keyClicks(spin, "0.62")  # typed digit by digit, then Enter
+    qtbot.keyClick(spin, Qt.Key.Key_Return)
+    assert doc.project.chassis.track_m == pytest.approx(0.62)
+    assert doc.undo_stack.count() == 1
+    for _ in range(3):  # three quick steps of the same box with the arrow key
+        now[0] += 0.3
+        qtbot.keyClick(spin, Qt.Key.Key_Up)
+    assert doc.project.chassis.track_m == pytest.approx(0.65)
+    assert doc.undo_stack.count() == 1
+    assert doc.undo_stack.text(0) == "Change chassis track"
+    now[0] += 5.0  # a pause: the next edit is a new step
+    spin.setValue(0.7)
+    assert doc.undo_stack.count() == 2
+    now[0] += 0.1  # another field at once: a step of its own
+    panel.fields["wheel_radius_m"].setValue(0.12)
+    assert doc.undo_stack.count() == 3
+    assert doc.undo_stack.text(2) == "Change chassis wheel radius"
+    doc.undo_stack.undo()
+    doc.undo_stack.undo()
+    assert doc.project.chassis.track_m == pytest.approx(0.65)
+    doc.undo_stack.undo()
+    assert doc.project.chassis.track_m == pytest.approx(0.5)
+    assert spin.value() == pytest.approx(0.5)
+    # After an undo the next edit does not merge into anything left on the stack.
+    now[0] += 0.1
+    spin.setValue(0.55)
+    assert doc.undo_stack.count() == 1 and doc.undo_stack.index() == 1
+    doc.undo_stack.undo()
+    assert doc.project.chassis.track_m == pytest.approx(0.5)
 
 
 def test_footprint_cell_edit_and_optional_limit(doc, qtbot):
@@ -124,7 +167,7 @@ def test_form_check_names_the_field(doc):
 def test_drive_change_and_preset(doc, qtbot):
     panel = ChassisPanel(doc)
     qtbot.addWidget(panel)
-    name = next(n for n in PRESETS if "ackermann" in n)
+    name = next(n for n, c in PRESETS.items() if c.drive == "ackermann")
     i = panel.preset.findText(name)
     panel.preset.setCurrentIndex(i)
     panel.preset.activated.emit(i)
@@ -137,6 +180,13 @@ def test_drive_change_and_preset(doc, qtbot):
     assert not panel.fields["max_steer_deg"].isEnabled()
 
 
+def test_drive_list_writes_ackermann_as_a_name():
+    # Source: common practice (the steering geometry is named after Rudolph Ackermann).
+    from app.panels import DRIVE_WORDS
+
+    assert DRIVE_WORDS["ackermann"].startswith("Ackermann")
+
+
 def test_presets_are_valid_chassis():
     from kinematics.files.project import chassis_from_dict, chassis_to_dict
     from kinematics.motion.drives import drive_for
@@ -146,6 +196,23 @@ def test_presets_are_valid_chassis():
         # format accepts.
         assert chassis_from_dict(chassis_to_dict(c), name) == c
         drive_for(c)
+
+
+def test_preset_names_are_plain_descriptions():
+    # Example vehicles are named for what they are, never like a product (no model numbers,
+    # no invented brand words): every word of the chassis name is a plain lowercase word.
+    import re
+
+    from kinematics.files.project import DRIVES
+
+    assert len(PRESETS) >= 4
+    for key, c in PRESETS.items():
+        assert not re.search(r"\d", key + c.name), key
+        assert re.fullmatch(r"[a-z]+( [a-z]+)*", c.name), c.name
+        assert key.lower().startswith(c.name), (key, c.name)
+        assert c.drive in DRIVES
+    assert {"small tug", "ward cart", "pallet mover", "flat carrier"} <= {
+        c.name for c in PRESETS.values()}
 
 
 # -- results ----------------------------------------------------------------------------------
@@ -385,3 +452,122 @@ def test_negative_least_clearance_is_told_as_an_overlap():
     assert clearance_words(-0.098) == "overlaps by 98\u00a0mm"
     assert clearance_words(0.3) == "least clearance 300\u00a0mm"
     assert clearance_words(-0.0004) == "least clearance 0\u00a0mm"
+
+
+def test_cap_labels_never_drawn_over_each_other(qtbot):
+    # Source: common practice (map and chart labelling: a label that would cover another is
+    # moved, else left out). The bicycle depot route has two turns close together, each with
+    # its lateral-acceleration cap; their names used to sit on top of one another.
+    from app.plots import PlotsPanel
+
+    REPO = Path(__file__).resolve().parents[1]
+    d = Document()
+    d.open_project(REPO / "sample_floorplans" / "depot_bicycle.swathe.json")
+    d.set_current_route(d.route_names().index("dock-3-to-aisle-2"))
+    panel = PlotsPanel(d)
+    qtbot.addWidget(panel)
+    panel.resize(1280, 230)
+    panel.show()
+    qtbot.waitExposed(panel)
+    for axis in ("time", "distance"):
+        panel.set_x_axis(axis)
+        QApplication.processEvents()
+        assert len(panel.cap_items) >= 2
+        shown = [t for t in panel.cap_items if t.isVisible()]
+        assert shown, "at least one cap is named"
+        rects = [t.sceneBoundingRect() for t in shown]
+        rects += [ln.label.sceneBoundingRect() for ln in panel.limit_lines
+                  if ln.getViewBox() is panel.speed_plot.getViewBox()]
+        for i in range(len(rects)):
+            for j in range(i + 1, len(rects)):
+                assert not rects[i].intersects(rects[j]), (axis, i, j)
+    # Zoomed in on the first cap, every name fits again.
+    t0 = panel.cap_items[0]
+    panel.speed_plot.setXRange(t0.pos().x() - 0.5, t0.pos().x() + 0.5, padding=0)
+    QApplication.processEvents()
+    assert t0.isVisible()
+
+
+def test_plots_hide_the_auto_range_button_and_have_their_own_fit(doc, qtbot):
+    from app.plots import PlotsPanel
+
+    panel = PlotsPanel(doc)
+    qtbot.addWidget(panel)
+    panel.show()
+    doc.set_current_route(1)
+    panel.refresh()
+    for plot in (panel.speed_plot, panel.rate_plot, panel.hitch_plot):
+        assert plot.buttonsHidden and not plot.autoBtn.isVisible()
+    (x0, x1), (y0, y1) = panel.speed_plot.viewRange()
+    panel.speed_plot.setXRange(x0 + 1.0, x0 + 2.0, padding=0)
+    panel.speed_plot.setYRange(0.2, 0.3, padding=0)
+    panel.fit_button.click()
+    (a0, a1), (b0, b1) = panel.speed_plot.viewRange()
+    assert (a0, a1) == pytest.approx((x0, x1)) and (b0, b1) == pytest.approx((y0, y1))
+
+
+def test_results_band_and_plots_say_they_are_stale_while_the_form_is_invalid(doc, qtbot):
+    # A drive change the form cannot yet honour (Ackermann needs a wheelbase; this chassis
+    # has none): nothing is pushed, so the check and plots still show the differential drive.
+    # Every view of the results says so, greyed with the reason, until the form is valid.
+    from app.canvas import PlanCanvas
+    from app.plots import PlotsPanel
+
+    chassis, results, plots = ChassisPanel(doc), ResultsPanel(doc), PlotsPanel(doc)
+    canvas = PlanCanvas(doc)
+    for w in (chassis, results, plots, canvas):
+        qtbot.addWidget(w)
+        w.show()
+    doc.set_current_route(0)
+    assert not (results.stale or plots.stale or canvas.stale)
+    i = chassis.drive.findData("ackermann")
+    chassis.drive.setCurrentIndex(i)
+    chassis.drive.activated.emit(i)
+    assert doc.project.chassis.drive == "differential"  # the refused form was not applied
+    reason = doc.stale_reason
+    assert "Out of date" in reason and "Wheelbase" in reason
+    assert results.stale and results.stale_label.isVisible()
+    assert reason == results.stale_label.text()
+    assert not results.violations.isEnabled() and not results.verdict.isEnabled()
+    assert plots.stale and plots.stale_label.isVisible() and plots.stale_label.text() == reason
+    assert canvas.stale and canvas.stale_label.isVisible() and canvas.stale_label.text() == reason
+    assert canvas.band_item.opacity() < 0.5
+    assert all(t.opacity() < 0.5 for t in canvas.violation_labels if t.isVisible())
+    # A wheelbase and a steer angle make the form valid: the Ackermann chassis is applied and
+    # the results are current again.
+    chassis.fields["wheelbase_m"].setValue(0.8)
+    if doc.stale_reason:
+        chassis.fields["max_steer_deg"].setValue(35.0)
+    assert doc.project.chassis.drive == "ackermann"
+    assert doc.stale_reason == ""
+    assert not (results.stale or plots.stale or canvas.stale)
+    assert results.violations.isEnabled() and not results.stale_label.isVisible()
+    assert canvas.band_item.opacity() == 1.0
+    # Undo puts the form back on a valid chassis: not stale either.
+    chassis.drive.setCurrentIndex(i)
+    chassis.fields["wheelbase_m"].setValue(0.0)
+    assert results.stale
+    doc.undo_stack.undo()
+    assert not results.stale and doc.stale_reason == ""
+
+
+def test_limit_names_stay_inside_short_plots(qtbot):
+    # The demo's pivots turn the wheels backwards: the wheel-rate plot has a lower limit whose
+    # name sat under its line and was cut at the plot's bottom in a short dock.
+    from app.plots import PlotsPanel
+
+    REPO = Path(__file__).resolve().parents[1]
+    d = Document()
+    d.open_project(REPO / "sample_floorplans" / "demo.swathe.json")
+    panel = PlotsPanel(d)
+    qtbot.addWidget(panel)
+    for h in (150, 230, 400):
+        panel.resize(1280, h)
+        panel.show()
+        qtbot.waitExposed(panel)
+        QApplication.processEvents()
+        assert len(panel.limit_lines) >= 3, "max speed and both wheel-rate limits"
+        for ln in panel.limit_lines:
+            box = ln.getViewBox().sceneBoundingRect()
+            r = ln.label.sceneBoundingRect()
+            assert box.top() <= r.top() and r.bottom() <= box.bottom(), (h, ln.label.format)

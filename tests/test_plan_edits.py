@@ -187,3 +187,47 @@ def test_hover_names_walls_obstacles_doors_and_zones_as_messages_do():
     assert element_at(idx, 4.5, 0.0, 0.05)["text"] == "door D-7 (1.000 m wide)"
     assert element_at(idx, 7.0, 3.0, 0.05)["text"] == "zone 0 (ward): slow, 0.5 m/s"
     assert element_at(idx, 5.0, 6.0, 0.05) is None
+
+
+@pytest.mark.parametrize("kind,points,value,words", [
+    ("fast", ((0, 0), (1, 0), (1, 1)), None, "unknown zone kind"),
+    ("slow", ((0, 0), (1, 0)), 0.5, "at least three"),
+    ("slow", ((0, 0), (1, 1), (1, 0), (0, 1)), 0.5, "crossing itself"),
+    ("slow", ((0, 0), (1, 0), (1, 1)), -0.2, "speed above 0"),
+    ("slow", ((0, 0), (1, 0), (1, 1)), float("nan"), "speed above 0"),
+    ("margin", ((0, 0), (1, 0), (1, 1)), -0.01, "margin of 0 m or more"),
+    ("one_way", ((0, 0), (1, 0), (1, 1)), 400.0, "360"),
+    ("one_way", ((0, 0), (1, 0), (1, 1)), None, "360"),
+])
+def test_zone_edits_refuse_what_the_file_refuses(kind, points, value, words):
+    # Source: shared/contract.md (zones: kind, closed outline, speed_mps > 0, margin_m >= 0,
+    # direction_deg); the same limits as the floor-plan reader.
+    with pytest.raises(ValueError, match=words):
+        pe.make_zone(kind, points, "z", value)
+
+
+def test_set_zone_rule_keeps_the_outline():
+    fp = pe.add_zone(FloorPlan(), Zone("slow", ((0, 0), (2, 0), (2, 1)), "w", speed_mps=0.4))
+    fp2 = pe.set_zone_rule(fp, 0, "one_way", 30.0)
+    z = fp2.zones[0]
+    assert (z.kind, z.direction_deg, z.speed_mps, z.label) == ("one_way", 30.0, None, "w")
+    assert z.points == fp.zones[0].points
+    assert pe.set_zone_rule(fp, 0, "keep_out", None, "spill").zones[0] == Zone(
+        "keep_out", fp.zones[0].points, "spill")
+
+
+def test_zone_vertex_edits_never_make_an_outline_the_file_refuses(tmp_path):
+    # Source: shared/contract.md (a zone outline must not cross itself); an edited plan must
+    # read back (common practice: save what can be opened).
+    from kinematics.files.loader import load_floorplan
+
+    square = ((0, 0), (2, 0), (2, 2), (0, 2))
+    fp = pe.add_zone(FloorPlan(), Zone("keep_out", square, "spill"))
+    with pytest.raises(ValueError, match="crossing itself"):
+        pe.move_vertex(fp, "zone", 0, 1, (0, 2.5))       # a bow tie
+    with pytest.raises(ValueError):
+        pe.insert_vertex(fp, "zone", 0, 1, (1.0, 3.0))   # an edge across the square
+    ok = pe.move_vertex(fp, "zone", 0, 1, (2.5, -0.5))
+    path = tmp_path / "z.floor.json"
+    save_floorplan(ok, path)
+    assert load_floorplan(path).zones == ok.zones

@@ -216,8 +216,12 @@ def test_routes_add_rename_remove_from_toolbar(win):
     assert not win.rename_route("clear")  # names must stay unique
     assert win.error_box is not None and "already exists" in win.error_box.text()
     win.error_box.close()
+    assert win.act_route_remove in win.route_finder.menu.actions()  # Route > Remove
     win.act_route_remove.trigger()
     assert doc.route_names() == ["clear", "second"]
+    # Undoable, so no dialog: the status names what went and how to bring it back.
+    assert win.error_box is None or not win.error_box.isVisible()
+    assert win.statusBar().currentMessage() == "Removed route 'night run'; Ctrl+Z restores it"
     win.act_undo.trigger()
     assert "night run" in doc.route_names()
 

@@ -78,6 +78,13 @@ def test_zones_and_circles_round_trip_through_the_file(tmp_path):
     ({"kind": "margin", "points": [[0, 0], [1, 0], [1, 1]]}, "zones[0].margin_m", "missing"),
     ({"kind": "one_way", "points": [[0, 0], [1, 0], [1, 1]], "direction_deg": "north"},
      "zones[0].direction_deg", "number"),
+    ({"kind": "keep_out", "points": [[0, 0], [1, 0]]}, "zones[0].points", "at least 3"),
+    ({"kind": "slow", "points": [[0, 0], [1, 0], [1, 1]], "speed_mps": float("nan")},
+     "zones[0].speed_mps", "finite"),
+    ({"kind": "margin", "points": [[0, 0], [1, 0], [1, 1]], "margin_m": -0.1},
+     "zones[0].margin_m", "zero or a positive"),
+    ({"kind": "slow", "points": [[0, 0], [1, float("nan")], [1, 1]], "speed_mps": 0.3},
+     "zones[0].points", "finite"),
 ])
 def test_bad_zone_data_exits_2_naming_file_and_key(tmp_path, capsys, zone, key, words):
     # Source: shared/contract.md, bad input exits 2 with one line naming file and key path.
@@ -421,3 +428,68 @@ def test_cli_plan_check_and_schedule_show_stops_and_zones(tmp_path, capsys):
     d = json.loads(capsys.readouterr().out)
     assert d["stops"][0]["dwell_s"] == 20
     assert any(row.get("slow_zone") == "zone 0 (ward)" for row in d["segments"])
+
+
+# -- curved zone outlines flattened outward -------------------------------------------------
+def _holds_disc(points, cx: float, cy: float, r: float, grow_m: float) -> None:
+    """The zone polygon holds the true disc and exceeds it by at most ``grow_m``.
+
+    Source: textbook geometry: a polygon containing the centre holds the disc of radius r
+    when every point of its boundary is at least r from the centre; its farthest vertex
+    bounds how far it reaches beyond the circle.
+    """
+    poly = Polygon(points)
+    assert poly.is_valid and poly.contains(Point(cx, cy))
+    assert poly.exterior.distance(Point(cx, cy)) >= r - 1e-9
+    far = max(math.hypot(x - cx, y - cy) for x, y in points)
+    assert far <= r + grow_m + 1e-9
+    # An independent look: 3,600 points on the true circle all inside (or on) the polygon.
+    t = np.linspace(0.0, 2.0 * math.pi, 3600, endpoint=False)
+    rim = shapely.points(cx + r * np.cos(t), cy + r * np.sin(t))
+    assert shapely.covers(poly.buffer(1e-9), rim).all()
+
+
+@pytest.mark.parametrize("kind,extra", [("keep_out", {}), ("slow", {"speed_mps": 0.3}),
+                                        ("margin", {"margin_m": 0.4}),
+                                        ("one_way", {"direction_deg": 90.0})])
+def test_dxf_curved_zones_are_flattened_outward(tmp_path, kind, extra):
+    # Source: DXF reference (CIRCLE; LWPOLYLINE bulge = tan(theta / 4), so two vertices with
+    # bulge 1 make a full circle); the outward rule is kinematics/files/curves.py's.
+    doc = ezdxf.new()
+    doc.header["$INSUNITS"] = 6
+    doc.layers.add("Z")
+    msp = doc.modelspace()
+    msp.add_circle((2.0, 3.0), 0.75, dxfattribs={"layer": "Z"})
+    msp.add_lwpolyline([(5.0, 3.0, 1.0), (7.0, 3.0, 1.0)], format="xyb", close=True,
+                       dxfattribs={"layer": "Z"})
+    path = tmp_path / "curved.dxf"
+    doc.saveas(path)
+    fp = load_floorplan(path, zones=(ZoneLayer("Z", kind, **extra),))
+    assert len(fp.zones) == 2 and {z.kind for z in fp.zones} == {kind}
+    by_x = sorted(fp.zones, key=lambda z: min(p[0] for p in z.points))
+    # circumscribed circle: at most one chord tolerance (1 mm) outside; bulges: grown by 1 mm
+    # after chords within 1 mm, so at most 2 mm outside (mitred corners a little more).
+    _holds_disc(by_x[0].points, 2.0, 3.0, 0.75, 0.001)
+    _holds_disc(by_x[1].points, 6.0, 3.0, 1.0, 0.003)
+
+
+@pytest.mark.parametrize("kind,extra", [("keep_out", {}), ("slow", {"speed_mps": 0.3}),
+                                        ("margin", {"margin_m": 0.4}),
+                                        ("one_way", {"direction_deg": 0.0})])
+def test_svg_curved_zones_are_flattened_outward(tmp_path, kind, extra):
+    # Source: SVG 1.1 (circle; path elliptical arc A rx ry rot large sweep x y: two half
+    # arcs of radius 100 make a full circle); y is flipped into the plan (viewBox height).
+    svg = ('<svg xmlns="http://www.w3.org/2000/svg" viewBox="0 0 1000 1000">'
+           '<g id="zone"><circle cx="200" cy="300" r="75"/>'
+           '<path d="M 500 300 A 100 100 0 0 1 700 300 A 100 100 0 0 1 500 300 Z"/></g>'
+           '</svg>')
+    path = tmp_path / "curved.svg"
+    path.write_text(svg)
+    fp = load_floorplan(path, zones=(ZoneLayer("zone", kind, **extra),))
+    assert len(fp.zones) == 2
+    by_x = sorted(fp.zones, key=lambda z: min(p[0] for p in z.points))
+    # 1 user unit = 1 cm by default (viewBox 1000 wide, no width): check the scale read.
+    mpu = fp.extra["svg_import"]["metres_per_unit"]
+    h = 1000 * mpu
+    _holds_disc(by_x[0].points, 200 * mpu, h - 300 * mpu, 75 * mpu, 0.003)
+    _holds_disc(by_x[1].points, 600 * mpu, h - 300 * mpu, 100 * mpu, 0.003)

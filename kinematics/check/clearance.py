@@ -30,15 +30,22 @@ import shapely
 from kinematics.check.clearance_pass import (
     StationFinder,
     clearance_of,
+    door_least_xy,
     least_segment,
     sweep_segment,
     where_least,
 )
 from kinematics.check.contact import overlap_depth, part_name
+from kinematics.check.door_crossing import door_station
 from kinematics.check.obstacles import DOOR_BOX_ALONG_M, DOOR_BOX_M, ObstacleIndex
 from kinematics.check.results import DoorPass, RouteCheck, Violation
 from kinematics.check.segment_parts import SegmentCache, SegmentResult, cache_key
-from kinematics.check.sweep import DEFAULT_TOLERANCE_M, Footprint, prepare_footprint
+from kinematics.check.sweep import (
+    DEFAULT_TOLERANCE_M,
+    Footprint,
+    prepare_footprint,
+    sweep_allowance,
+)
 from kinematics.check.violations import stretches, zone_stretches
 from kinematics.check.waypoints import WaypointCheck, grid_poses
 from kinematics.files.floorplan import check_footprint
@@ -123,7 +130,7 @@ class RouteChecker:
             far = res.far[0] if res.far is not None else -math.inf
             if d <= max(reach, far, res.lower_m) or (res.far is not None and res.far[1] in moved):
                 continue
-            if any(shapely.intersects(region, index.door_boxes[k]) for k, _c in res.doors):
+            if any(shapely.intersects(region, index.door_boxes[k]) for k, _c, _j in res.doors):
                 continue
             new.segments._results[key] = res
         return new
@@ -134,7 +141,8 @@ class RouteChecker:
         return self.segments.computed
 
     def _sweep(self, seg: Segment) -> SegmentResult:
-        return sweep_segment(self.footprint, self.index, self.margin_m, self.tolerance_m, seg)
+        return sweep_segment(self.footprint, self.index, self.margin_m,
+                             sweep_allowance(self.tolerance_m), seg)
 
     def segment_result(self, seg: Segment) -> SegmentResult:
         """The segment's result, from the cache or swept now."""
@@ -189,27 +197,41 @@ class RouteChecker:
             at = {"x": x, "y": y, "station_m": st, "segment": i,
                   "solid": idx.solids[j].name if j is not None else ""}
         return RouteCheck(name, not violations, min_c, at, violations,
-                          _door_passes(results, stations, idx), self.tolerance_m,
+                          _door_passes(results, segs, stations, idx, self._stations),
+                          self.tolerance_m,
                           self.margin_m, segs, None, tuple(r.swept for r in results))
 
 
-def _door_passes(results: Sequence[SegmentResult], stations: np.ndarray,
-                 idx: ObstacleIndex) -> list[DoorPass]:
-    """Each door some segment crosses, with the least clearance over those segments, in route
-    order (``None`` where no solid is near the door)."""
-    doors: dict[int, DoorPass] = {}
+def _door_passes(results: Sequence[SegmentResult], segs: Sequence[Segment],
+                 stations: np.ndarray, idx: ObstacleIndex,
+                 finder: StationFinder) -> list[DoorPass]:
+    """Each door some segment's swept parts cross, in route order: the station where the
+    reference point crosses the door line (:mod:`kinematics.check.door_crossing`), and the
+    least clearance inside the door's box over those segments with its own station (``None``
+    where no solid is near the door)."""
+    least: dict[int, tuple[float, int, int]] = {}
+    near: dict[int, list[int]] = {}
     for i, r in enumerate(results):
-        for k, c in r.doors:
-            old = doors.get(k)
-            if old is None:
-                doors[k] = DoorPass(idx.door_label(k), c, k, i, float(stations[i]),
-                                    idx.doors[k].width_m)
-            elif c < old.min_clearance_m:
-                doors[k] = DoorPass(old.label, c, k, old.segment, old.station_m, old.width_m)
-    door_list = sorted(doors.values(), key=lambda p: (p.station_m, p.door))
-    return [DoorPass(p.label, float(p.min_clearance_m) if math.isfinite(
-        p.min_clearance_m) else None, p.door, p.segment, p.station_m, p.width_m)
-        for p in door_list]
+        for k, c, j in r.doors:
+            near.setdefault(k, []).append(i)
+            old = least.get(k)
+            if old is None or c < old[0]:
+                least[k] = (c, i, j)
+    out = []
+    for k, (c, i, j) in least.items():
+        door = idx.doors[k]
+        si, st = door_station(segs, stations, near[k], door.a, door.b,
+                              [r.door_memo for r in results])
+        if math.isfinite(c) and j >= 0:
+            memo = results[i].door_memo
+            if ("least", k) not in memo:
+                memo[("least", k)] = door_least_xy(results[i], idx, k, j)
+            x, y = memo[("least", k)]
+            cst = float(stations[i]) + finder.station_near(segs[i], x, y)
+            out.append(DoorPass(idx.door_label(k), float(c), k, si, st, door.width_m, cst))
+        else:
+            out.append(DoorPass(idx.door_label(k), None, k, si, st, door.width_m, None))
+    return sorted(out, key=lambda p: (p.station_m, p.door))
 
 
 def check_route(plan_or_segments: Any, chassis: Any, index: ObstacleIndex,

@@ -26,7 +26,13 @@ from shapely.geometry import Point
 from kinematics.check.contact import nearest_point, overlap_depth
 from kinematics.check.obstacles import ObstacleIndex
 from kinematics.check.segment_parts import SegmentResult, SweptParts, cache_key
-from kinematics.check.sweep import Footprint, placed_footprints, swept_parts, travel_m
+from kinematics.check.sweep import (
+    MARGIN_SLACK_M,
+    Footprint,
+    placed_footprints,
+    swept_parts,
+    travel_m,
+)
 from kinematics.check.violations import Hit, locate_hit
 from kinematics.check.zones import wrong_way
 from kinematics.motion.arrays import unique_sorted
@@ -57,9 +63,9 @@ def sweep_segment(fp: Footprint, index: ObstacleIndex, margin: float, tol: float
             if c < best:
                 best, best_j = c, j
             if rule is not None and c > 0.0:
-                if rule.of_union(parts, solid).short_m > 0.0:
+                if rule.of_union(parts, solid).short_m > MARGIN_SLACK_M:
                     hits.append(locate_hit(fp, idx, margin, tol, seg, sw, j, c, rule))
-            elif c < margin:
+            elif c < margin - MARGIN_SLACK_M:
                 hits.append(locate_hit(fp, idx, margin, tol, seg, sw, j, c))
     keep_out = []
     for k in zones.keep_out.touching(parts):
@@ -73,15 +79,27 @@ def sweep_segment(fp: Footprint, index: ObstacleIndex, margin: float, tol: float
             box = idx.door_boxes[k]
             local = SweptParts(shapely.intersection(parts, box))
             local.parts = local.parts[~shapely.is_empty(local.parts)]
-            c = math.inf
+            c, cj = math.inf, -1
             for j in idx.within(box, 0.0).tolist():
                 solid = idx.geometries[j]
                 d = local.distance(solid)
-                c = min(c, d if d > 0.0 else -overlap_depth(local.union, solid))
-            doors.append((k, c))
+                d = d if d > 0.0 else -overlap_depth(local.union, solid)
+                if d < c:
+                    c, cj = d, j
+            doors.append((k, c, cj))
     near_ = None if best_j is None else (best, best_j)
     return SegmentResult(sw, near_, tuple(hits), tuple(doors), tuple(keep_out),
                          wrong_way(seg, zones))
+
+
+def door_least_xy(res: SegmentResult, index: ObstacleIndex, k: int, j: int
+                  ) -> tuple[float, float]:
+    """Where, inside door ``k``'s box, the segment's swept region comes nearest solid ``j``."""
+    local = shapely.intersection(res.swept.parts, index.door_boxes[k])
+    local = local[~shapely.is_empty(local)]
+    solid = index.geometries[j]
+    overlap = bool(np.min(shapely.distance(local, solid)) <= 0.0)
+    return nearest_point(local, solid, overlap)
 
 
 def clearance_of(res: SegmentResult, index: ObstacleIndex) -> tuple[float, int | None]:

@@ -68,19 +68,26 @@ class Violation:
 
 @dataclass(frozen=True)
 class DoorPass:
-    """A door the swept footprint passes through, with its least clearance near the door."""
+    """A door the swept footprint passes through, with its least clearance near the door.
+
+    ``segment`` and ``station_m`` are where the chassis reference point crosses the door line
+    (where it does not cross, where it comes nearest); ``min_clearance_station_m`` is the
+    station of the least clearance inside the door's box (``None`` with no solid near).
+    """
 
     label: str
-    min_clearance_m: float
+    min_clearance_m: float | None
     door: int
     segment: int
     station_m: float
     width_m: float
+    min_clearance_station_m: float | None = None
 
     def to_dict(self) -> dict:
         return {"label": self.label, "min_clearance_m": self.min_clearance_m,
                 "door": self.door, "segment": self.segment, "station_m": self.station_m,
-                "width_m": self.width_m}
+                "width_m": self.width_m,
+                "min_clearance_station_m": self.min_clearance_station_m}
 
 
 @dataclass

@@ -68,13 +68,15 @@ class SegmentResult:
     measured when the route's least clearance needs it
     (:func:`kinematics.check.clearance_pass.least_segment`) and kept in ``far``; until then its
     clearance is known to exceed ``lower_m``. ``xy`` keeps where that least clearance is.
+    ``doors`` holds ``(door, least clearance in its box, that solid or -1)`` per door line
+    the swept parts cross; ``door_memo`` keeps door answers computed from them.
     """
 
     __slots__ = ("swept", "hits", "doors", "near", "far", "lower_m", "xy", "keep_out",
-                 "wrong_way")
+                 "wrong_way", "door_memo")
 
     def __init__(self, swept: SweptParts, near: tuple[float, int] | None,
-                 hits: tuple[Hit, ...], doors: tuple[tuple[int, float], ...],
+                 hits: tuple[Hit, ...], doors: tuple[tuple[int, float, int], ...],
                  keep_out: tuple[Hit, ...] = (), wrong_way: tuple = ()) -> None:
         self.swept = swept
         self.near = near
@@ -85,6 +87,9 @@ class SegmentResult:
         self.far: tuple[float, int | None] | None = None
         self.lower_m = -math.inf
         self.xy: tuple[float, float] | None = None
+        #: Door answers that depend on this segment and the door alone, kept with it
+        #: (where the reference point crosses a door line; where its door clearance is).
+        self.door_memo: dict = {}
 
     @property
     def piece(self) -> BaseGeometry:

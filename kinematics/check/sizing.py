@@ -32,7 +32,13 @@ from shapely.geometry.base import BaseGeometry
 from kinematics.check.contact import overlap_depth
 from kinematics.check.obstacles import DOOR_BOX_M, ObstacleIndex
 from kinematics.check.results import RouteCheck
-from kinematics.check.sweep import DEFAULT_TOLERANCE_M, prepare_footprint, swept_segment
+from kinematics.check.sweep import (
+    DEFAULT_TOLERANCE_M,
+    MARGIN_SLACK_M,
+    prepare_footprint,
+    sweep_allowance,
+    swept_segment,
+)
 from kinematics.motion.segments import Segment
 
 #: Stop bisecting when the bracket is this narrow, metres.
@@ -108,10 +114,10 @@ def clears(footprint: Any, segments: Sequence[Segment], index: ObstacleIndex, ma
     if order:
         seq = [i for i in order if i < len(segments)] + [i for i in seq if i not in order]
     for i in seq:
-        piece = swept_segment(fp, segments[i], tolerance_m)
+        piece = swept_segment(fp, segments[i], sweep_allowance(tolerance_m))
         near = index.within(piece, margin_m)
         if len(near) and float(np.min(shapely.distance(piece, index.geometries[near]))) \
-                < margin_m:
+                < margin_m - MARGIN_SLACK_M:
             if order is not None:
                 if i in order:
                     order.remove(i)
@@ -216,19 +222,77 @@ def longest_footprint(plan_or_segments: Any, chassis: Any, index: ObstacleIndex,
                     cancel)
 
 
-def _opening(door: Any, width_m: float, depth_m: float) -> BaseGeometry:
-    """The rectangle of ``width_m`` along the door line, ``depth_m`` across, centred on it."""
+def _frame(door: Any) -> tuple[float, float, float, float, float, float]:
+    """Door midpoint, unit vector along the door line (a -> b) and the one across it."""
     (ax, ay), (bx, by) = door.a, door.b
     w0 = math.hypot(bx - ax, by - ay)
     ux, uy = (bx - ax) / w0, (by - ay) / w0
     mx, my = door.midpoint
-    h = width_m / 2.0
-    line = LineString([(mx - ux * h, my - uy * h), (mx + ux * h, my + uy * h)])
-    return line.buffer(depth_m / 2.0, cap_style="flat")
+    return mx, my, ux, uy, -uy, ux
+
+
+def _rect(door: Any, along: tuple[float, float], across: tuple[float, float]
+          ) -> BaseGeometry:
+    """The rectangle ``along`` x ``across`` (metres from the door midpoint) in the door's
+    frame."""
+    mx, my, ux, uy, nx, ny = _frame(door)
+    pts = [(mx + ux * s + nx * t, my + uy * s + ny * t)
+           for s, t in ((along[0], across[0]), (along[1], across[0]),
+                        (along[1], across[1]), (along[0], across[1]))]
+    return shapely.Polygon(pts)
+
+
+def _jamb_across(door: Any, base: BaseGeometry, end: int) -> tuple[float, float] | None:
+    """Across-the-door extent (metres from the door line) of the solid at jamb ``end`` (0 for
+    ``a``, 1 for ``b``): the section of the solids just beyond the jamb, or ``None``."""
+    mx, my, ux, uy, nx, ny = _frame(door)
+    h = door.width_m / 2.0
+    sign = -1.0 if end == 0 else 1.0
+    for beyond in (0.001, 0.01, 0.05):
+        s = sign * (h + beyond)
+        px, py = mx + ux * s, my + uy * s
+        cut = LineString([(px - nx * DOOR_BOX_M, py - ny * DOOR_BOX_M),
+                          (px + nx * DOOR_BOX_M, py + ny * DOOR_BOX_M)]).intersection(base)
+        pieces = [g for g in getattr(cut, "geoms", [cut]) if g.length > 0.0]
+        if not pieces:
+            continue
+        spans = []
+        for g in pieces:
+            t = [(x - px) * nx + (y - py) * ny for x, y in g.coords]
+            spans.append((min(t), max(t)))
+        # The piece on the door line, else the one nearest it.
+        lo, hi = min(spans, key=lambda sp: 0.0 if sp[0] <= 0.0 <= sp[1] else
+                     min(abs(sp[0]), abs(sp[1])))
+        return lo, hi
+    return None
+
+
+def door_solid_at_width(door: Any, base: BaseGeometry, width_m: float,
+                        fallback_depth_m: float = 0.2) -> BaseGeometry:
+    """The solids ``base`` near ``door`` with the door opened to ``width_m`` about its
+    midpoint.
+
+    Wider than now: a rectangle as wide as the new opening and reaching through the walls at
+    the jambs (2 cm past each face) is cut out. Narrower: at each jamb a block is added, as
+    deep across the door line as the solid at that jamb is (so a narrowed door is a wall with
+    a narrower gap, no deeper than the wall); a jamb with no solid beside it takes a block
+    ``fallback_depth_m`` deep, centred on the door line.
+    """
+    w0 = door.width_m
+    ext = [_jamb_across(door, base, e) for e in (0, 1)]
+    half = fallback_depth_m / 2.0
+    ext = [e if e is not None else (-half, half) for e in ext]
+    if width_m >= w0:
+        lo = min(e[0] for e in ext) - 0.02
+        hi = max(e[1] for e in ext) + 0.02
+        return base.difference(_rect(door, (-width_m / 2.0, width_m / 2.0), (lo, hi)))
+    h0, h = w0 / 2.0, max(width_m, 0.0) / 2.0
+    blocks = [_rect(door, (-h0 - 1e-9, -h), ext[0]), _rect(door, (h, h0 + 1e-9), ext[1])]
+    return shapely.union_all([base, *blocks])
 
 
 def _jamb_depth(door: Any, index: ObstacleIndex) -> float:
-    """Across-the-door depth that covers the walls at the jambs, metres."""
+    """Thickness of the walls at the jambs, metres (0.2 where no wall ends there)."""
     depth = 0.0
     for s in index.solids:
         if s.kind != "wall":
@@ -236,7 +300,7 @@ def _jamb_depth(door: Any, index: ObstacleIndex) -> float:
         for p in (door.a, door.b):
             if s.geometry.distance(shapely.Point(p)) < 0.05:
                 depth = max(depth, index.floorplan.walls[s.index].thickness_m)
-    return (depth if depth > 0.0 else 0.2) + 0.02
+    return depth if depth > 0.0 else 0.2
 
 
 def _door_region(door: Any, extra_m: float) -> BaseGeometry:
@@ -255,10 +319,14 @@ def door_widths_needed(plan_or_segments: Any, chassis: Any, index: ObstacleIndex
     """For each door the route passes, the width it needs for the chassis to clear by the
     margin.
 
-    The door is widened (or narrowed) symmetrically about its midpoint: for a width above the
-    current one an opening rectangle (as deep as the walls at its jambs) is cut from the solids
-    near the door; below it, jamb blocks are added. The clearance between the swept footprint
-    and those solids, within a box around the door, is then compared with the margin.
+    The door is widened (or narrowed) symmetrically about its midpoint
+    (:func:`door_solid_at_width`: for a width above the current one an opening is cut through
+    the walls at its jambs; below it, jamb blocks as deep as the solid at each jamb are
+    added). The clearance between the swept footprint and those solids, within a box around
+    the door, is then compared with the margin, so the answer is the width at which the
+    check of the plan with the door rebuilt at that width flips, to 1 mm, whatever the
+    door's width now (also on an oblique crossing, where it is
+    ``2 (half width + margin) / cos(angle) + wall thickness * tan(angle)``).
 
     Parameters
     ----------
@@ -275,7 +343,7 @@ def door_widths_needed(plan_or_segments: Any, chassis: Any, index: ObstacleIndex
     segs = _segments(plan_or_segments)
     fp = prepare_footprint(chassis.footprint)
     margin = float(chassis.margin_m)
-    pieces = [swept_segment(fp, s, tolerance_m) for s in segs]
+    pieces = [swept_segment(fp, s, sweep_allowance(tolerance_m)) for s in segs]
     if doors is None:
         crossed: set[int] = set()
         for p in pieces:
@@ -297,26 +365,22 @@ def door_widths_needed(plan_or_segments: Any, chassis: Any, index: ObstacleIndex
         depth = _jamb_depth(door, index)
 
         def clearance(w: float, door: Any = door, base: BaseGeometry = base,
-                      local_geom: BaseGeometry | None = local_geom, depth: float = depth,
-                      w0: float = w0) -> float:
+                      local_geom: BaseGeometry | None = local_geom,
+                      depth: float = depth) -> float:
             _poll(cancel)
-            if w >= w0:
-                solid = base.difference(_opening(door, w, depth))
-            else:
-                solid = base.union(_opening(door, w0, depth).difference(_opening(door, w,
-                                                                                 depth)))
+            solid = door_solid_at_width(door, base, w, depth)
             if local_geom is None or solid.is_empty:
                 return math.inf
             d = float(local_geom.distance(solid))
             return d if d > 0.0 else -overlap_depth(local_geom, solid)
 
         lo, hi = 0.0, w0 + MAX_DOOR_WIDENING_M
-        if clearance(hi) < margin:
+        if clearance(hi) < margin - MARGIN_SLACK_M:
             out.append(DoorWidth(index.door_label(k), k, w0, None))
         else:
             while hi - lo > RESOLUTION_M:
                 mid = 0.5 * (lo + hi)
-                if clearance(mid) >= margin:
+                if clearance(mid) >= margin - MARGIN_SLACK_M:
                     hi = mid
                 else:
                     lo = mid

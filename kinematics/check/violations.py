@@ -20,7 +20,14 @@ from kinematics.check.contact import nearest_point, part_name, to_body
 from kinematics.check.obstacles import ObstacleIndex
 from kinematics.check.results import Violation
 from kinematics.check.segment_parts import Hit, SegmentResult, SweptParts
-from kinematics.check.sweep import Footprint, placed_footprints, sub_segment, swept_parts, travel_m
+from kinematics.check.sweep import (
+    MARGIN_SLACK_M,
+    Footprint,
+    placed_footprints,
+    sub_segment,
+    swept_parts,
+    travel_m,
+)
 from kinematics.check.zones import MarginRule, ZoneIndex
 from kinematics.motion.segments import Segment
 
@@ -38,8 +45,8 @@ def _violates(fp: Footprint, solid: object, margin: float, tol: float, seg: Segm
     if collision:
         return bool(np.any(shapely.intersects(g, solid)))
     if rule is not None:
-        return rule.of_union(g, solid).short_m > 0.0
-    return float(np.min(shapely.distance(g, solid))) < margin
+        return rule.of_union(g, solid).short_m > MARGIN_SLACK_M
+    return float(np.min(shapely.distance(g, solid))) < margin - MARGIN_SLACK_M
 
 
 def locate_hit(fp: Footprint, index: ObstacleIndex, margin: float, tol: float, seg: Segment,
@@ -60,9 +67,9 @@ def locate_hit(fp: Footprint, index: ObstacleIndex, margin: float, tol: float, s
     if collision:
         bad = dist <= 0.0
     elif rule is not None:
-        bad = rule.each(placed, solid) > 0.0
+        bad = rule.each(placed, solid) > MARGIN_SLACK_M
     else:
-        bad = dist < margin
+        bad = dist < margin - MARGIN_SLACK_M
     if bad[0]:
         lo = hi = 0.0
     else:

@@ -8,14 +8,16 @@ What is read, from model space only:
   any depth. An entity on layer ``0`` inside a block takes the layer of its INSERT, as in
   the DXF convention.
 - Curves are flattened outward, so a clearance is never read larger than the drawing's: a
-  circle becomes a circumscribed polygon whose vertices lie at most :data:`SAGITTA_M` (1 mm)
+  circle becomes a circumscribed polygon whose vertices lie at most :data:`SAGITTA_M` (0.25 mm)
   outside it; arcs and polyline bulges become chords whose sagitta,
-  ``r (1 - cos(dtheta / 2))`` for a chord spanning ``dtheta``, is at most 1 mm, and
-  ellipses and splines are sampled evenly to the same 1 mm (for a spline, Wang's bound on
+  ``r (1 - cos(dtheta / 2))`` for a chord spanning ``dtheta``, is at most 0.25 mm,
+  and ellipses and splines are sampled evenly to the same 0.25 mm (for a spline, Wang's bound on
   each Bezier piece), their size checked first, in plan metres
-  after every block transform. An outline holding such chords is then grown by 1 mm (a
-  solid outward, a wall on both faces: its thickness plus 2 mm), so the flattened solid
-  contains the true one and exceeds it by at most 2 mm.
+  after every block transform. An outline holding such chords is then grown by 0.25 mm
+  (a solid outward, a wall on both faces: its thickness plus 0.5 mm), so the flattened solid
+  contains the true one and exceeds it by at most
+  :data:`~kinematics.files.curves.CURVE_EXCESS_M` (0.5 mm), which the check keeps back from
+  its tolerance.
 - Units come from the header variable ``$INSUNITS`` (1 inch, 2 foot, 4 millimetre,
   5 centimetre, 6 metre, ...); ``0`` (unitless) is read as metres. ``units=`` ("mm", "cm",
   "m", "in", "ft") overrides the header: architects often draw in millimetres and leave
@@ -32,7 +34,11 @@ What is read, from model space only:
   open one is a :class:`~kinematics.files.floorplan.Wall` of ``wall_thickness_m``.
 - ``zones=[ZoneLayer(...)]`` (in a project: ``"zones": [{"layer", "kind", ...}]``) turns
   every closed outline on a named layer into a zone of that kind (open ones there are
-  skipped); a zone layer is read only as zones, whatever ``layers`` says.
+  skipped); a zone layer is read only as zones, whatever ``layers`` says. A curved zone
+  outline is flattened outward as a solid's is (circumscribed circles, other curves grown
+  by the chord tolerance), whatever its kind: a keep-out, margin or slow zone then covers
+  every place the drawn one could, and a one-way zone is judged over that slightly larger
+  area too.
 - On a door layer a LINE (or a two-point open polyline) is a door opening between its
   ends; other door-layer geometry (swing arcs, leaves) is skipped. A door is labelled by
   the nearest TEXT or MTEXT on a door layer within 1 m of its midpoint, else ``door N``.
@@ -43,6 +49,7 @@ naming the file and, where ezdxf reports one, the line.
 
 from __future__ import annotations
 
+import codecs
 import contextlib
 import io
 import logging
@@ -314,6 +321,12 @@ def _read_doc(path: Path, out: _LibraryOutput | None = None):  # -> ezdxf Drawin
     out = out or _LibraryOutput()
     data = read_input_bytes(path, "DXF file")
     file = one_line(str(path), 300)
+    # A UTF-8 byte-order mark (from text editors on some systems) is not part of the DXF
+    # text: ezdxf would read it as part of the first group code. Source: the Unicode
+    # standard (EF BB BF encodes U+FEFF, the byte-order mark).
+    bom = data.startswith(codecs.BOM_UTF8)
+    if bom:
+        data = data[len(codecs.BOM_UTF8):]
     index = _TagIndex()
     binary = data.startswith(b"AutoCAD Binary DXF")
     if not binary and b"SECTION" in data[:4096].upper():
@@ -323,7 +336,7 @@ def _read_doc(path: Path, out: _LibraryOutput | None = None):  # -> ezdxf Drawin
             raise FileReadError(file, index.around(line), f"damaged DXF file: {what}")
         _check_complete(path, data)
     with out.capture():
-        doc = _parse_doc(path, file, index)
+        doc = _parse_doc(path, file, index, data if bom else None)
         try:
             doc.modelspace()
         except Exception as exc:  # noqa: BLE001 - a damaged layout table
@@ -334,19 +347,32 @@ def _read_doc(path: Path, out: _LibraryOutput | None = None):  # -> ezdxf Drawin
     return doc, index
 
 
-def _parse_doc(path: Path, file: str, index: _TagIndex):
+def _parse_doc(path: Path, file: str, index: _TagIndex, utf8: bytes | None = None):
+    """The ezdxf document of ``path``; ``utf8``: the file's bytes after a UTF-8 byte-order
+    mark, read as UTF-8 text (what the mark says) instead of the file."""
     import ezdxf
     from ezdxf import recover
 
     def place(exc: BaseException) -> str:
         return index.place_for(str(exc)) or "structure (ezdxf names no line)"
 
+    def read_file():
+        if utf8 is None:
+            return ezdxf.readfile(path)
+        return ezdxf.read(io.StringIO(utf8.decode("utf-8")))
+
+    def recover_file():
+        if utf8 is None:
+            return recover.readfile(path)
+        return recover.read(io.BytesIO(utf8))
+
     try:
-        return ezdxf.readfile(path)
+        return read_file()
     except ezdxf.DXFStructureError as exc:
         first: BaseException = exc
     except UnicodeDecodeError as exc:
-        raise FileReadError(file, f"byte {exc.start}",
+        skipped = 0 if utf8 is None else len(codecs.BOM_UTF8)
+        raise FileReadError(file, f"byte {exc.start + skipped}",
                             "not a readable DXF file (text encoding error)") from None
     except (OSError, LookupError) as exc:
         # ezdxf raises IOError both for unreadable files and for files that are not DXF;
@@ -361,7 +387,7 @@ def _parse_doc(path: Path, file: str, index: _TagIndex):
         first = exc
     # A structure error may be a damaged but repairable file; ezdxf.recover tries harder.
     try:
-        doc, auditor = recover.readfile(path)
+        doc, auditor = recover_file()
     except MemoryError:
         raise
     except Exception:  # noqa: BLE001 - report the first, clearer error
@@ -924,6 +950,10 @@ def import_dxf(path: str | Path, layers: dict[str, list[str]] | None = None,
             if closed and math.dist(clean[0], clean[-1]) <= tol:
                 clean = clean[:-1]
             if closed and len(clean) >= 3:
+                if sh.curved:  # outward as a solid: a cap or rule wherever it could apply
+                    with np.errstate(all="ignore"):
+                        grown = grow_outline(np.array(clean), SAGITTA_M)
+                    clean = [tuple(q) for q in grown.tolist()]
                 zone_list.append(zone_of[sh.layer.lower()].zone(tuple(clean)))
             continue
         if closed:

@@ -13,7 +13,17 @@ import math
 from collections.abc import Sequence
 from dataclasses import replace
 
-from kinematics.files.floorplan import Door, FloorPlan, Obstacle, Wall, Zone
+from kinematics.files.floorplan import (
+    ZONE_KINDS,
+    ZONE_PARAMETER,
+    Door,
+    FloorPlan,
+    Obstacle,
+    Wall,
+    Zone,
+    zone_polygon,
+)
+from kinematics.files.validate import MAX_BODY_M
 
 Point = tuple[float, float]
 KINDS = ("wall", "obstacle", "door", "zone")
@@ -84,8 +94,48 @@ def add_door(fp: FloorPlan, a: Sequence[float], b: Sequence[float], label: str =
     return replace(fp, doors=fp.doors + (Door(pa, pb, label),))
 
 
+def make_zone(kind: str, points: Sequence[Sequence[float]], label: str = "",
+              value: float | None = None) -> Zone:
+    """A zone checked by the floor-plan file's rules: a known ``kind``, a closed outline (at
+    least three distinct points enclosing an area, not crossing itself) and the number the
+    kind needs (``value``: speed in m/s > 0, margin in m >= 0, direction in degrees within
+    +-360; ignored for ``keep_out``). Raises :class:`ValueError` saying what is wrong."""
+    if kind not in ZONE_KINDS:
+        raise ValueError(f"unknown zone kind {kind!r}; expected one of {', '.join(ZONE_KINDS)}")
+    pts = tuple(_pt(p) for p in points)
+    if len(pts) > 1 and pts[0] == pts[-1]:
+        pts = pts[:-1]
+    if zone_polygon(pts) is None:
+        raise ValueError("a zone needs at least three different points enclosing an area, "
+                         "its outline not crossing itself")
+    key = ZONE_PARAMETER.get(kind)
+    vals: dict[str, float | None] = {}
+    if key is not None:
+        v = float("nan") if value is None else float(value)
+        ok = {"speed_mps": 0.0 < v <= 1000.0, "margin_m": 0.0 <= v <= MAX_BODY_M,
+              "direction_deg": -360.0 <= v <= 360.0}[key]
+        if not ok:
+            raise ValueError({"speed_mps": "a slow zone needs a speed above 0 m/s",
+                              "margin_m": "a margin zone needs a margin of 0 m or more",
+                              "direction_deg": "a one-way zone needs a direction within "
+                                               "+-360 degrees"}[key])
+        vals[key] = v
+    return Zone(kind, pts, str(label), **vals)
+
+
 def add_zone(fp: FloorPlan, zone: Zone) -> FloorPlan:
-    return replace(fp, zones=fp.zones + (zone,))
+    """Add ``zone`` (checked as :func:`make_zone` checks one)."""
+    z = make_zone(zone.kind, zone.points, zone.label, zone.value)
+    return replace(fp, zones=fp.zones + (z,))
+
+
+def set_zone_rule(fp: FloorPlan, index: int, kind: str, value: float | None = None,
+                  label: str | None = None) -> FloorPlan:
+    """Zone ``index`` with a new kind, number and (unless ``None``) label; its outline kept."""
+    items = list(fp.zones)
+    old = items[index]
+    items[index] = make_zone(kind, old.points, old.label if label is None else label, value)
+    return replace(fp, zones=tuple(items))
 
 
 def delete(fp: FloorPlan, kind: str, index: int) -> FloorPlan:
@@ -130,8 +180,16 @@ def move_vertex(fp: FloorPlan, kind: str, index: int, vertex: int, to: Sequence[
         return _with(fp, kind, items)
     pts = list(_vertex_points(el))
     pts[vertex] = _pt(to)
-    items[index] = _set_points(el, tuple(pts))
+    items[index] = _zone_checked(_set_points(el, tuple(pts)))
     return _with(fp, kind, items)
+
+
+def _zone_checked(el: object) -> object:
+    """``el``, refused (ValueError) when it is a zone whose outline the file would refuse
+    (crossing itself, enclosing no area): an edit must never save what cannot be read."""
+    if isinstance(el, Zone):
+        make_zone(el.kind, el.points, el.label, el.value)
+    return el
 
 
 def insert_vertex(fp: FloorPlan, kind: str, index: int, before: int, at: Sequence[float]
@@ -142,7 +200,7 @@ def insert_vertex(fp: FloorPlan, kind: str, index: int, before: int, at: Sequenc
     items = list(_items(fp, kind))
     pts = list(_vertex_points(items[index]))
     pts.insert(before, _pt(at))
-    items[index] = replace(items[index], points=tuple(pts))
+    items[index] = _zone_checked(replace(items[index], points=tuple(pts)))
     return _with(fp, kind, items)
 
 
@@ -155,7 +213,7 @@ def delete_vertex(fp: FloorPlan, kind: str, index: int, vertex: int) -> FloorPla
     if kind == "door" or len(pts) - 1 < least:
         raise ValueError(f"a {kind} needs at least {least} points")
     del pts[vertex]
-    items[index] = replace(el, points=tuple(pts))
+    items[index] = _zone_checked(replace(el, points=tuple(pts)))
     return _with(fp, kind, items)
 
 

@@ -17,10 +17,10 @@ What is read:
   to centre form, SVG 1.1 appendix F.6.5) by chords of sagitta at most
   :data:`TOLERANCE_M`; Bezier curves by uniform parameter steps chosen from the bound
   ``h**2 / 8 * max|B''|`` on the error of linear interpolation, so the polyline stays within
-  the same 1 mm. The bound is applied in plan metres after every transform. Chords lie
+  the same 0.25 mm. The bound is applied in plan metres after every transform. Chords lie
   inside the curve, so an outline holding curves is then grown by the tolerance (a solid
-  outward, a wall on both faces: its thickness plus 2 mm): the flattened solid contains the
-  true one and exceeds it by at most 2 mm, and a clearance is never read larger.
+  outward, a wall on both faces: its thickness plus 0.5 mm): the flattened solid contains the
+  true one and exceeds it by at most 0.5 mm, and a clearance is never read larger.
 - Units: one SVG user unit (of the root ``viewBox`` when there is one) is
   ``metres_per_unit`` metres (default 0.01, a drawing in centimetres). The SVG y axis
   points down; it is flipped so plan y points up: ``y_plan = (bottom - y) * metres_per_unit``
@@ -36,7 +36,8 @@ What is read:
 - Zones: ``zones=[ZoneLayer(...)]`` (in a project: ``"zones": [{"layer", "kind", ...}]``)
   turns every closed shape whose ``id`` or Inkscape layer label (``inkscape:label``), or
   that of a group it sits in, is a named layer into a zone of that kind; open shapes there
-  are skipped.
+  are skipped. A curved zone outline is grown outward by the tolerance as a solid's is,
+  whatever its kind (a one-way zone too: its rule then holds over a slightly larger area).
 """
 
 from __future__ import annotations
@@ -779,6 +780,10 @@ def import_svg(path: str | Path, metres_per_unit: float = 0.01,
         if rule is not None:
             ring = pts[:-1] if len(pts) > 1 and pts[0] == pts[-1] else pts
             if closed and len(ring) >= 3:
+                if f.curved:  # outward as a solid: a cap or rule wherever it could apply
+                    with np.errstate(all="ignore"):
+                        grown = grow_outline(np.array(ring), TOLERANCE_M)
+                    ring = tuple(tuple(q) for q in grown.tolist())
                 zone_list.append(rule.zone(ring))
             continue
         if f.marker == "wall" or not closed:

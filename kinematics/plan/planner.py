@@ -22,6 +22,11 @@ The path a chassis can follow between the user's waypoints depends on its drive:
   recorded in ``chosen_headings``. Consecutive poses are joined by the shortest Dubins path
   (Dubins 1957), or the shortest Reeds-Shepp path (Reeds & Shepp 1990) with ``reverse`` on,
   of radius ``max(turn_radius_m, chassis minimum)``.
+- With transitions ``"clothoid"`` (:func:`kinematics.files.project.route_transitions`) every
+  fillet is a CC turn (clothoid, arc, clothoid) and every connection between poses is a CC
+  path (Fraichard & Scheuer 2004): CC Dubins words forward, CC Reeds-Shepp words with
+  ``reverse`` on (:func:`kinematics.plan.cc_words.cc_shortest`); only where none reaches the
+  pose does the plain Dubins / Reeds-Shepp path stay (its curvature steps are then stops).
 - ``mecanum``, ``swerve``: straight lines between waypoints; the body heading is held, or turns
   linearly with distance the shorter way round to meet the next waypoint's given heading.
 
@@ -53,10 +58,18 @@ from dataclasses import dataclass, field
 import numpy as np
 
 from kinematics.errors import ValidationError
-from kinematics.files.project import DRIVE_ALIASES, Chassis, Project, Route, route_transitions
+from kinematics.files.project import (
+    DRIVE_ALIASES,
+    Chassis,
+    Project,
+    Route,
+    drive_word,
+    route_transitions,
+)
 from kinematics.files.validate import MAX_PLAN_LENGTH_M, MAX_ROUTE_SPAN_M, too_spread
 from kinematics.motion.drives import drive_for
 from kinematics.motion.segments import Segment, holonomic_line, line, path_length, pivot
+from kinematics.plan.cc_words import cc_shortest
 from kinematics.plan.fillet import (
     STRAIGHT_TOL_RAD,
     ZERO_LENGTH_M,
@@ -67,7 +80,6 @@ from kinematics.plan.fillet import (
     leg_geometry,
 )
 from kinematics.plan.transitions import (
-    cc_connect,
     cc_tangent_length,
     cc_turn,
     transition_sharpness,
@@ -270,12 +282,17 @@ class PieceCache:
         return len(self._d)
 
 
-def _cc_or_dubins(pose: Pose, goal: Pose, radius_m: float, sigma: float) -> list[Segment]:
-    """The CC turn-line-turn connection, else the plain Dubins path (its curvature steps)."""
-    from kinematics.plan import dubins
+def _cc_or_plain(pose: Pose, goal: Pose, radius_m: float, sigma: float, reverse: bool
+                 ) -> list[Segment]:
+    """The shortest CC connection (:func:`kinematics.plan.cc_words.cc_shortest`: CC Dubins
+    forward, CC Reeds-Shepp with ``reverse``), else the plain Dubins / Reeds-Shepp path (its
+    curvature steps; the profile then stops at each)."""
+    from kinematics.plan import dubins, reeds_shepp
 
-    segs = cc_connect(pose, goal, radius_m, sigma)
-    return segs if segs is not None else dubins.path_segments(pose, goal, radius_m)
+    segs = cc_shortest(pose, goal, radius_m, sigma, reverse)
+    if segs is not None:
+        return segs
+    return (reeds_shepp if reverse else dubins).path_segments(pose, goal, radius_m)
 
 
 class _Builder:
@@ -398,10 +415,10 @@ class _Builder:
         mod = reeds_shepp if reverse else dubins
         pose = self._pose
         goal = (float(goal[0]), float(goal[1]), float(goal[2]))
-        if self.cc_sigma > 0.0 and not reverse:
+        if self.cc_sigma > 0.0:
             sigma = self.cc_sigma
-            self._piece(("cc-connect", goal, float(radius_m), sigma),
-                        lambda: _cc_or_dubins(pose, goal, radius_m, sigma))
+            self._piece(("cc-connect", goal, float(radius_m), sigma, bool(reverse)),
+                        lambda: _cc_or_plain(pose, goal, radius_m, sigma, reverse))
         else:
             self._piece(("connect", goal, float(radius_m), bool(reverse)),
                         lambda: mod.path_segments(pose, goal, radius_m))
@@ -486,8 +503,8 @@ def _radius(route: Route, min_r: float, pts: _Points, b: _Builder, drive: str) -
     if asked <= 0.0:
         b.notes.append(f"turn_radius_m not set: using the chassis minimum {min_r:.4g} m")
         return min_r
-    b.issue("turn_radius", f"route asks for turn radius {asked:.4g} m but the {drive} chassis "
-            f"turns no tighter than {min_r:.4g} m; planned with {min_r:.4g} m",
+    b.issue("turn_radius", f"route asks for turn radius {asked:.4g} m but the {drive_word(drive)} "
+            f"chassis turns no tighter than {min_r:.4g} m; planned with {min_r:.4g} m",
             None, None, pts.xy[0], min_r - asked)
     return min_r
 
@@ -558,9 +575,9 @@ def _plan_steered(pts: _Points, b: _Builder, radius_m: float, reverse: bool) -> 
             b.chosen[pts.index[k]] = _wrap_deg(chosen[k])
     if len(poses) < 2:
         return
-    if b.cc_sigma > 0.0 and not reverse:
+    if b.cc_sigma > 0.0:
         for i in range(len(poses) - 1):
-            b.connect(poses[i + 1], radius_m, False)
+            b.connect(poses[i + 1], radius_m, reverse)
         return
     # All legs not yet in the cache in one vectorised call; each leg's pieces are then laid
     # from the pose it starts at (see ``_Builder.anchor``).
@@ -735,11 +752,12 @@ def _check_radii(b: _Builder, min_r: float, can_pivot: bool, drive: str) -> None
                 r < min_r * (1.0 - RADIUS_REL_TOL):
             what = "arc of radius" if s.kind == "arc" else "clothoid reaching radius"
             b.issue("turn_radius", f"segment {i}: {what} {r:.4g} m is tighter "
-                    f"than the {drive} chassis turns ({min_r:.4g} m)", None, i, s.start,
+                    f"than the {drive_word(drive)} chassis turns ({min_r:.4g} m)", None, i, s.start,
                     min_r - r)
         elif s.kind == "pivot" and not can_pivot:
-            b.issue("turn_radius", f"segment {i}: pivot on the spot, but the {drive} chassis "
-                    f"turns no tighter than {min_r:.4g} m", None, i, s.start, min_r)
+            b.issue("turn_radius", f"segment {i}: pivot on the spot, but the "
+                    f"{drive_word(drive)} chassis turns no tighter than {min_r:.4g} m", None, i,
+                    s.start, min_r)
 
 
 # -- public ---------------------------------------------------------------------------------

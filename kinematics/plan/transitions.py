@@ -114,11 +114,12 @@ def transition_sharpness(chassis, radius_m: float) -> float:
     return float(min(caps))
 
 
-def cc_turn(start: Sequence[float], deflection_rad: float, radius_m: float, sigma: float
-            ) -> list[Segment]:
-    """A continuous-curvature turn from ``start`` (curvature 0) by ``deflection_rad``
-    (signed) with arcs no tighter than ``radius_m`` and clothoids of sharpness ``sigma``;
-    it ends with curvature 0 again (see the module docstring).
+def cc_turn(start: Sequence[float], deflection_rad: float, radius_m: float, sigma: float,
+            direction: int = 1) -> list[Segment]:
+    """A continuous-curvature turn from ``start`` (curvature 0) changing the heading by
+    ``deflection_rad`` (signed) with arcs no tighter than ``radius_m`` and clothoids of
+    sharpness ``sigma``, driven forward (``direction`` 1) or in reverse (-1); it ends with
+    curvature 0 again (see the module docstring).
 
     Public: the route finder smooths found paths with it.
 
@@ -129,24 +130,26 @@ def cc_turn(start: Sequence[float], deflection_rad: float, radius_m: float, sigm
     (['clothoid', 'arc', 'clothoid'], 1.570796326795)
     """
     a = float(deflection_rad)
+    d = int(direction)
     sgn = math.copysign(1.0, a)
+    sk = sgn * d  # sign of the body curvature (reverse: heading change -curvature * length)
     k = 1.0 / float(radius_m)
     lc = k / sigma
     if k * k / sigma <= abs(a):
-        c1 = clothoid(start, 0.0, sgn * k, lc)
+        c1 = clothoid(start, 0.0, sk * k, lc, d)
         mid_turn = a - sgn * k * k / sigma
         segs = [c1]
         pose = c1.end
         if abs(mid_turn) > 1e-12:
-            m = arc(pose, radius_m, mid_turn)
+            m = arc(pose, radius_m, mid_turn, d)
             segs.append(m)
             pose = m.end
-        segs.append(clothoid(pose, sgn * k, 0.0, lc))
+        segs.append(clothoid(pose, sk * k, 0.0, lc, d))
         return segs
     kp = math.sqrt(abs(a) * sigma)
     lp = kp / sigma
-    c1 = clothoid(start, 0.0, sgn * kp, lp)
-    return [c1, clothoid(c1.end, sgn * kp, 0.0, lp)]
+    c1 = clothoid(start, 0.0, sk * kp, lp, d)
+    return [c1, clothoid(c1.end, sk * kp, 0.0, lp, d)]
 
 
 def cc_tangent_length(deflection_rad: float, radius_m: float, sigma: float) -> float:
@@ -203,22 +206,27 @@ def _cc_turn_length(d: float, radius_m: float, sigma: float) -> float:
 
 
 def _csc_gap(theta: NDArray[np.float64], start: Sequence[float], goal: Sequence[float],
-             s1: float, s2: float, radius_m: float, sigma: float):
+             s1: ArrayLike, s2: ArrayLike, radius_m: float, sigma: float, e1: ArrayLike = 1.0,
+             e2: ArrayLike = 1.0):
     """For line directions ``theta``: the deflections, and the cross and dot products of the
-    line direction with the vector from the first turn's end to the second turn's start."""
+    line direction with the vector from the first turn's end to the second turn's start.
+
+    ``s1``, ``s2`` are the sides of the turns' centres (+1 left), ``e1``, ``e2`` their
+    directions of travel (-1 reverse: the mirror image ``x -> -x`` of the forward turn, whose
+    heading changes by ``-s d``); all broadcast against ``theta`` (one word per element)."""
     two_pi = 2.0 * math.pi
-    d1 = np.mod(s1 * (theta - start[2]), two_pi)
-    d2 = np.mod(s2 * (goal[2] - theta), two_pi)
-    e1 = cc_turn_ends(d1, radius_m, sigma)
-    e2 = cc_turn_ends(d2, radius_m, sigma)
-    e1[:, 1] *= s1
-    e2[:, 1] *= s2
+    d1 = np.mod(s1 * e1 * (theta - start[2]), two_pi)
+    d2 = np.mod(s2 * e2 * (goal[2] - theta), two_pi)
+    t1 = cc_turn_ends(d1, radius_m, sigma)
+    t2 = cc_turn_ends(d2, radius_m, sigma)
+    ax, ay = e1 * t1[..., 0], s1 * t1[..., 1]
+    bx, by = e2 * t2[..., 0], s2 * t2[..., 1]
     c0, s0 = math.cos(start[2]), math.sin(start[2])
-    x1 = start[0] + c0 * e1[:, 0] - s0 * e1[:, 1]
-    y1 = start[1] + s0 * e1[:, 0] + c0 * e1[:, 1]
+    x1 = start[0] + c0 * ax - s0 * ay
+    y1 = start[1] + s0 * ax + c0 * ay
     ct, st = np.cos(theta), np.sin(theta)
-    x2 = goal[0] - (ct * e2[:, 0] - st * e2[:, 1])
-    y2 = goal[1] - (st * e2[:, 0] + ct * e2[:, 1])
+    x2 = goal[0] - (ct * bx - st * by)
+    y2 = goal[1] - (st * bx + ct * by)
     dx, dy = x2 - x1, y2 - y1
     return d1, d2, ct * dy - st * dx, ct * dx + st * dy
 
@@ -227,70 +235,95 @@ def _csc_gap(theta: NDArray[np.float64], start: Sequence[float], goal: Sequence[
 _SCAN = 720
 
 
-def cc_connect(start: Sequence[float], goal: Sequence[float], radius_m: float, sigma: float
-               ) -> list[Segment] | None:
+def cc_connect(start: Sequence[float], goal: Sequence[float], radius_m: float, sigma: float,
+               reverse: bool = False) -> list[Segment] | None:
     """The shortest continuous-curvature path of the four turn-line-turn words (LSL, RSR,
     LSR, RSL; each turn a CC turn of :func:`cc_turn`, its arcs of ``radius_m``) from
     ``start`` to ``goal`` (poses ``(x, y, heading_rad)``), or ``None`` where none joins them.
+    With ``reverse`` each of the three parts may also be driven backwards (the turn-line-turn
+    words of the CC Reeds-Shepp family, cusps where a part ends, at curvature 0).
 
     The CC version of the Dubins turn-line-turn family (Fraichard & Scheuer 2004, sec. V): the
     line's direction ``theta`` fixes both deflections, and the one equation left (the line
     from the first turn's end to the second turn's start points along ``theta``) is solved by
-    scanning ``theta`` and refining each sign change (bisection, then false position). The
-    turn-turn-turn words are not tried; where only they would join the poses the caller keeps
-    the plain Dubins path.
+    scanning ``theta`` and refining each sign change (bisection, then false position), every
+    word in the same array pass. Unlike the closed forms of :mod:`kinematics.plan.cc_words`
+    this covers turns too small for an arc (two clothoids). The turn-turn-turn words are in
+    :mod:`kinematics.plan.cc_words`.
 
     Public: the route finder smooths found paths with it.
     """
-    best: tuple[float, list] | None = None
-    th = start[2] + np.linspace(0.0, 2.0 * math.pi, _SCAN, endpoint=False)
-    for s1 in (1.0, -1.0):
-        for s2 in (1.0, -1.0):
-            d1, d2, cr, dot = _csc_gap(th, start, goal, s1, s2, radius_m, sigma)
-            nxt = np.roll(np.arange(_SCAN), -1)
-            jump = (np.abs(d1[nxt] - d1) > math.pi) | (np.abs(d2[nxt] - d2) > math.pi)
-            br = np.flatnonzero((np.sign(cr) != np.sign(cr[nxt])) & ~jump)
-            if br.size == 0:
-                continue
-            lo = th[br].copy()
-            hi = lo + 2.0 * math.pi / _SCAN
-            flo, fhi = cr[br], cr[nxt[br]]
-            # Bisection to a bracket of about 2e-6 rad, then false position (the gap is
-            # smooth there, so each step squares the error).
-            for it in range(16):
-                if it < 12:
-                    mid = 0.5 * (lo + hi)
-                else:
-                    with np.errstate(divide="ignore", invalid="ignore"):
-                        mid = np.where(fhi != flo, lo - flo * (hi - lo) / (fhi - flo),
-                                       0.5 * (lo + hi))
-                    mid = np.clip(mid, np.minimum(lo, hi), np.maximum(lo, hi))
-                _, _, fm, _ = _csc_gap(mid, start, goal, s1, s2, radius_m, sigma)
-                left = np.sign(fm) == np.sign(flo)
-                lo = np.where(left, mid, lo)
-                flo = np.where(left, fm, flo)
-                hi = np.where(left, hi, mid)
-                fhi = np.where(left, fhi, fm)
-            root = np.where(np.abs(flo) <= np.abs(fhi), lo, hi)
-            r1, r2, cr_r, dot_r = _csc_gap(root, start, goal, s1, s2, radius_m, sigma)
-            for j in range(root.size):
-                if abs(cr_r[j]) > 1e-9 or dot_r[j] < -1e-9:
-                    continue
-                length = (_cc_turn_length(r1[j], radius_m, sigma) + max(dot_r[j], 0.0)
-                          + _cc_turn_length(r2[j], radius_m, sigma))
-                if best is None or length < best[0]:
-                    best = (length, [s1 * r1[j], max(dot_r[j], 0.0), s2 * r2[j]])
-    if best is None:
+    words = _WORDS_REV if reverse else _WORDS_FWD
+    s1, s2, e1, el, e2 = (words[:, i:i + 1] for i in range(5))
+    th = start[2] + np.linspace(0.0, 2.0 * math.pi, _SCAN, endpoint=False)[None, :]
+    th = np.broadcast_to(th, (len(words), _SCAN))
+    _, _, cr, _ = _csc_gap(th, start, goal, s1, s2, radius_m, sigma, e1, e2)
+    # A deflection wrapping from 2 pi to 0 moves no turn end (a full CC turn closes on its
+    # start), so the gap is continuous there and every sign change brackets a root; the check
+    # on the refined root below drops any that is not.
+    nxt = np.roll(np.arange(_SCAN), -1)
+    wi, ji = np.nonzero(np.sign(cr) != np.sign(cr[:, nxt]))
+    if wi.size == 0:
         return None
-    a1, run, a2 = best[1]
+    w = words[wi]
+    s1, s2, e1, el, e2 = (w[:, i] for i in range(5))
+    lo = th[wi, ji].copy()
+    hi = lo + 2.0 * math.pi / _SCAN
+    flo, fhi = cr[wi, ji], cr[wi, nxt[ji]]
+    # Bisection to a bracket of about 2e-6 rad, then false position (the gap is smooth there,
+    # so each step squares the error).
+    for it in range(16):
+        if it < 12:
+            mid = 0.5 * (lo + hi)
+        else:
+            with np.errstate(divide="ignore", invalid="ignore"):
+                mid = np.where(fhi != flo, lo - flo * (hi - lo) / (fhi - flo), 0.5 * (lo + hi))
+            mid = np.clip(mid, np.minimum(lo, hi), np.maximum(lo, hi))
+        _, _, fm, _ = _csc_gap(mid, start, goal, s1, s2, radius_m, sigma, e1, e2)
+        left = np.sign(fm) == np.sign(flo)
+        lo = np.where(left, mid, lo)
+        flo = np.where(left, fm, flo)
+        hi = np.where(left, hi, mid)
+        fhi = np.where(left, fhi, fm)
+    root = np.where(np.abs(flo) <= np.abs(fhi), lo, hi)
+    r1, r2, cr_r, dot_r = _csc_gap(root, start, goal, s1, s2, radius_m, sigma, e1, e2)
+    run = el * dot_r
+    ok = (np.abs(cr_r) <= 1e-9) & (run >= -1e-9)
+    if not ok.any():
+        return None
+    length = (_cc_turn_lengths(r1, radius_m, sigma) + np.maximum(run, 0.0)
+              + _cc_turn_lengths(r2, radius_m, sigma))
+    j = int(np.flatnonzero(ok)[np.argmin(length[ok])])
+    a1, a2, run_j = s1[j] * e1[j] * r1[j], s2[j] * e2[j] * r2[j], max(float(run[j]), 0.0)
     segs: list[Segment] = []
     pose = tuple(float(v) for v in start)
     if abs(a1) > 1e-12:
-        segs += cc_turn(pose, a1, radius_m, sigma)
+        segs += cc_turn(pose, float(a1), radius_m, sigma, int(e1[j]))
         pose = segs[-1].end
-    if run > 1e-12:
-        segs.append(line(pose, run))
+    if run_j > 1e-12:
+        segs.append(line(pose, run_j, int(el[j])))
         pose = segs[-1].end
     if abs(a2) > 1e-12:
-        segs += cc_turn(pose, a2, radius_m, sigma)
+        segs += cc_turn(pose, float(a2), radius_m, sigma, int(e2[j]))
     return segs
+
+
+def _cc_turn_lengths(d: NDArray[np.float64], radius_m: float, sigma: float
+                     ) -> NDArray[np.float64]:
+    """:func:`_cc_turn_length` of many deflections ``d >= 0``."""
+    k = 1.0 / radius_m
+    dmin = k * k / sigma
+    return np.where(d >= dmin, 2.0 * k / sigma + radius_m * (d - dmin),
+                    2.0 * np.sqrt(np.maximum(d, 0.0) / sigma))
+
+
+def _word_table(reverse: bool) -> NDArray[np.float64]:
+    """Rows ``(s1, s2, e1, e_line, e2)`` of every turn-line-turn word."""
+    dirs = [(1.0, 1.0, 1.0)] if not reverse else [
+        (a, b, c) for a in (1.0, -1.0) for b in (1.0, -1.0) for c in (1.0, -1.0)]
+    return np.array([(s1, s2, a, b, c) for s1 in (1.0, -1.0) for s2 in (1.0, -1.0)
+                     for a, b, c in dirs])
+
+
+_WORDS_FWD = _word_table(False)
+_WORDS_REV = _word_table(True)
