@@ -178,6 +178,47 @@ def test_a_limit_past_any_drive_is_refused_with_its_key(tmp_path, capsys, key, v
     assert out == ""
 
 
+# Found by bench/fuzz.py (seed 12): a denormal speed limit overflowed the profile's algebra
+# (numpy warnings beside the message).
+@pytest.mark.parametrize("key", ["max_speed_mps", "max_accel_mps2", "max_wheel_rate_radps",
+                                 "max_yaw_rate_dps"])
+def test_a_denormal_limit_is_refused_with_its_key(tmp_path, capsys, key):
+    p = _project(tmp_path, chassis=dict(CHASSIS, **{key: 5e-324}))
+    code, out, err = _cli(["schedule", p, "--route", "along"], capsys)
+    _one_bad_line(code, err, str(p), f"chassis.{key}", "at least")
+
+
+def test_json_schedule_text_is_the_dict_encoded_and_holds_less_memory(tmp_path):
+    # Found by bench/fuzz.py (seed 12): a mecanum schedule of 126 000 samples (an
+    # acceleration of 4e-7 m/s2, inside the sample budget) peaked at 1.1 GB writing JSON,
+    # every sample held as Python objects and the encoder's pieces at once. The text is now
+    # made a row at a time: the same bytes, a fraction of the memory.
+    # Source: Python tracemalloc documentation (get_traced_memory gives the peak of the
+    # blocks Python allocated), counted the same way for both.
+    import tracemalloc
+
+    from kinematics.files.jsonio import dumps
+    from kinematics.files.project import Chassis
+    from kinematics.timing.schedule import schedule_json_text, schedule_to_dict
+
+    c = Chassis(drive="mecanum", wheelbase_m=0.9, track_m=0.6, wheel_radius_m=0.076,
+                max_speed_mps=0.8, max_accel_mps2=0.5)
+    segs = [line((0, 0, 0), 8.0), pivot((8, 0, 0), math.pi / 2)]
+    sched = build_schedule("r", segs, c, dt_s=0.005)
+    assert sched.samples.t_s.size > 2000
+    tracemalloc.start()
+    try:
+        lean = schedule_json_text(sched)
+        lean_peak = tracemalloc.get_traced_memory()[1]
+        tracemalloc.reset_peak()
+        full = dumps(schedule_to_dict(sched))
+        full_peak = tracemalloc.get_traced_memory()[1]
+    finally:
+        tracemalloc.stop()
+    assert lean == full
+    assert lean_peak < 0.5 * full_peak, (lean_peak, full_peak)
+
+
 def test_the_largest_limits_read_give_a_schedule_without_numeric_warnings(tmp_path, capsys):
     import warnings
 
