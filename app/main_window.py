@@ -552,7 +552,9 @@ class MainWindow(QMainWindow):
         self.results_dock = self._dock("Check results", "results", QWidget(), R)
         self.plots_dock = self._dock("Speed and wheel rates", "plots", QWidget(), B)
         self.schedule_dock = self._dock("Schedule", "schedule", QWidget(), B)
+        self.traffic_dock = self._dock("Traffic", "traffic", QWidget(), B)
         self.tabifyDockWidget(self.plots_dock, self.schedule_dock)
+        self.tabifyDockWidget(self.schedule_dock, self.traffic_dock)
         self.plots_dock.raise_()
         self.resizeDocks([self.chassis_dock, self.results_dock], [300, 320],
                          Qt.Orientation.Horizontal)
@@ -572,8 +574,14 @@ class MainWindow(QMainWindow):
             plots = self._panel("plots", "PlotsPanel")
             table = self._panel("panels", "ScheduleTable")
             legend = self._panel("legend", "LegendPanel")
+            traffic = self._panel("traffic_panel", "TrafficPanel")
             self._later_panels = {"chassis": chassis, "results": results, "plots": plots,
-                                  "schedule": table, "legend": legend}
+                                  "schedule": table, "legend": legend, "traffic": traffic}
+            self.traffic_dock.setWidget(traffic or _placeholder(
+                "The traffic panel is not available in this build."))
+            if traffic is not None:
+                traffic.zoomRequested.connect(self.canvas.center_on)
+                traffic.placeShown.connect(self.canvas.highlight_place)
             self.legend_dock.setWidget(legend or _placeholder(
                 "The legend is not available in this build."))
             self.chassis_dock.setWidget(chassis or _placeholder(
@@ -594,6 +602,11 @@ class MainWindow(QMainWindow):
     def chassis_panel(self) -> QWidget | None:
         """The chassis editor (built on first use)."""
         return self._build_later_panels()["chassis"]
+
+    @property
+    def traffic_panel(self) -> QWidget | None:
+        """The traffic panel between routes (built on first use)."""
+        return self._build_later_panels()["traffic"]
 
     @property
     def results_panel(self) -> QWidget | None:
