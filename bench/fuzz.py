@@ -32,6 +32,14 @@ Last full runs (2 cores shared with other work, one process):
   m/s2 overflowed the profile with numpy warnings; now refused, tests/test_robust.py);
   300 CLI child runs: 224 accepted, 76 refused, 0 findings. Slowest reader input 0.29 s,
   largest reader peak 40 MB, largest CLI peak 479 MB (in process) / 264 MB (child).
+- seed 12 (after that fix): readers 10 000 each, 0 findings; CLI in process 1 163: 1 big
+  memory (a 126 000-sample JSON schedule peaked at 1.1 GB: now written a row at a time,
+  0.36 GB) and 1 noise (a denormal speed limit overflowed: now refused below 1e-12); 300
+  CLI child runs: 219 accepted, 81 refused, 0 findings.
+- seed 13 (after both fixes): readers 10 000 each, 0 findings (slowest 0.51 s, largest
+  peak 73 MB); CLI in process 1 128: 909 accepted, 217 refused, 2 hangs over 20 s (mecanum
+  check and schedule of mutated projects, both on a loaded machine); 300 CLI child runs:
+  235 accepted, 65 refused, 0 findings (slowest 5.6 s, largest peak 262 MB).
 
 Usage::
 
