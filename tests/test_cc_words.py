@@ -78,7 +78,11 @@ def test_cc_connections_reach_the_goal_with_continuous_bounded_curvature(goal, s
     assert segs is not None
     _assert_cc(segs, start, goal, R, sigma)
     plain = path_length((reeds_shepp if reverse else dubins).path_segments(start, goal, R))
-    assert path_length(segs) >= plain - 1e-9
+    # A goal within the CC search's goal tolerance (1 um, 1e-8 rad) of the start is reached by
+    # staying put, where the plain path may loop round (a rounding edge of its closed form).
+    there = (math.hypot(goal[0] - start[0], goal[1] - start[1]) <= 1e-6
+             and abs(math.remainder(goal[2] - start[2], 2 * math.pi)) <= 1e-8)
+    assert path_length(segs) >= plain - 1e-9 or (there and not segs)
     if not reverse:
         assert all(s.direction == 1 for s in segs)
 
