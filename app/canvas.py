@@ -24,6 +24,7 @@ from __future__ import annotations
 
 import math
 from collections.abc import Callable, Sequence
+from typing import Any
 
 import numpy as np
 import pyqtgraph as pg
@@ -79,11 +80,14 @@ from .scene import (
     VIOLATION_R_PX,
     VIOLATION_SHAPES,
     WAYPOINT_R_PX,
+    ZONE_ARROW_R_PX,
+    ZONE_ARROW_STEP_PX,
+    ZONE_KINDS,
     floorplan_layer,
     route_style,
     violation_layer,
+    zone_layer,
 )
-from .zone_paint import ZONE_STYLE, zone_brush
 
 # Marker shape per violation kind: the scene's (app.scene.VIOLATION_SHAPES, drawn by
 # app.qstyle.marker_path), as in the picture; the words beside them are the analysis's.
@@ -298,7 +302,7 @@ def _symbol_path(symbol: str, size_px: float) -> QPainterPath:
 
 
 _SCENE_SHAPES = {"cross", "triangle", "square", "star", "diamond", "hexagon", "chevron",
-                 "circle"}
+                 "circle", "arrow"}
 
 
 _SYMBOL_PATHS: dict[tuple[str, float], QPainterPath] = {}
@@ -338,7 +342,10 @@ class _Markers(QGraphicsItem):
         for it in self._items:
             it.setPen(pen)
 
-    def setData(self, x, y, symbol=None, brush=None, size=None) -> None:  # noqa: N802
+    def setData(self, x, y, symbol=None, brush=None, size=None, angle=None  # noqa: N802
+                ) -> None:
+        """Show markers at plan points ``x``, ``y``; ``angle`` (radians, counter-clockwise on
+        the plan) turns each one."""
         n = len(x)
 
         def each(v, default):
@@ -350,6 +357,7 @@ class _Markers(QGraphicsItem):
 
         syms, brushes = each(symbol, self._symbol), each(brush, self._brush)
         sizes = each(size, self._size)
+        angles = each(angle, 0.0)
         while len(self._items) < n:
             it = QGraphicsPathItem(self)
             it.setFlag(_IGNORES_VIEW)
@@ -362,6 +370,7 @@ class _Markers(QGraphicsItem):
                 continue
             it.setPos(float(x[k]), float(y[k]))
             it.setPath(_symbol_path(syms[k], float(sizes[k])))
+            it.setRotation(-math.degrees(angles[k]))
             it.setBrush(brushes[k] if brushes[k] is not None else _NO_BRUSH)
             it.setVisible(True)
         self.data = [(float(x[k]), float(y[k])) for k in range(n)]
@@ -378,6 +387,46 @@ _LABEL_PLACES = ((-0.12, -0.1), (1.12, -0.1), (-0.12, 1.1), (1.12, 1.1))
 #: door line, else a row further down (neighbouring doors' names then alternate rows), else
 #: just above it.
 _DOOR_LABEL_PLACES = ((0.5, -0.3), (0.5, -1.45), (0.5, 1.3))
+
+
+class _Boxes:
+    """Plan boxes ``(x0, y0, x1, y1)`` taken by labels and markers, bucketed on a square grid
+    of ``cell`` metres, so a new box is tested against its neighbours only (a plan with
+    hundreds of doors re-places its names on every zoom step)."""
+
+    def __init__(self, cell: float) -> None:
+        self.cell = max(float(cell), 1e-9)
+        self.cells: dict[tuple[int, int], list] = {}
+
+    def _keys(self, b: tuple[float, float, float, float]):
+        c = self.cell
+        for i in range(math.floor(b[0] / c), math.floor(b[2] / c) + 1):
+            for j in range(math.floor(b[1] / c), math.floor(b[3] / c) + 1):
+                yield (i, j)
+
+    def hits(self, b: tuple[float, float, float, float]) -> list:
+        """The payloads of the boxes that overlap ``b`` (each once)."""
+        out: dict[int, Any] = {}
+        for k in self._keys(b):
+            for o, item in self.cells.get(k, ()):
+                if not (b[2] <= o[0] or b[0] >= o[2] or b[3] <= o[1] or b[1] >= o[3]):
+                    out[id(o)] = item
+        return list(out.values())
+
+    def free(self, b: tuple[float, float, float, float]) -> bool:
+        return not self.hits(b)
+
+    def add(self, b: tuple[float, float, float, float], item: Any = None) -> None:
+        for k in self._keys(b):
+            self.cells.setdefault(k, []).append((b, item))
+
+    def remove(self, item: Any) -> None:
+        for lst in self.cells.values():
+            lst[:] = [e for e in lst if e[1] is not item]
+
+
+#: Grid cell of :class:`_Boxes`, in screen pixels (about a label's width).
+_BOX_CELL_PX = 128.0
 
 
 def _plan_box(label: _Label, px: float) -> tuple[float, float, float, float]:
@@ -553,9 +602,12 @@ class PlanCanvas(QWidget):
         from .plan_gestures import PlanGestures
 
         self.plan_gestures = PlanGestures(self)  # plan drawing, editing and measuring
-        for keys, slot in (([Qt.Key.Key_Return, Qt.Key.Key_Enter], self.plan_gestures.finish),
-                           ([Qt.Key.Key_Escape], self.plan_gestures.cancel)):
-            act = QAction(self)
+        for keys, slot, text in (
+                ([Qt.Key.Key_Return, Qt.Key.Key_Enter], self.plan_gestures.finish,
+                 "Finish the wall, polygon or zone being drawn"),
+                ([Qt.Key.Key_Escape], self.plan_gestures.cancel,
+                 "Cancel the drawing or measurement under way")):
+            act = QAction(text, self)  # the text names it in Help > Guide
             act.setShortcuts([QKeySequence(k) for k in keys])
             act.setShortcutContext(Qt.ShortcutContext.WidgetWithChildrenShortcut)
             act.triggered.connect(slot)
@@ -606,17 +658,28 @@ class PlanCanvas(QWidget):
         # pixels would shift against a fresh paint).
         for it in (self.walls_item, self.obstacles_item):
             it.setCacheMode(QGraphicsItem.CacheMode.DeviceCoordinateCache)
-        # Zones under the solids: a faint fill per kind and the kind's outline style (the
-        # picture adds hatching; here patterns would scale with the zoom).
+        # Zones under the band and the solids, in the scene's zone styles as the picture
+        # draws them: fill, hatch (laid in screen pixels, as the picture's) and outline.
         self.zone_items = {}
-        for kind in ZONE_STYLE:
-            fill, _hatch, zpen = zone_brush(kind, alpha=55)
-            it = QGraphicsPathItem()
-            it.setPen(zpen)
-            it.setBrush(fill)
-            it.setZValue(-6)
-            add(it)
-            self.zone_items[kind] = it
+        for kind in ZONE_KINDS:
+            st = STYLES["zone_" + kind]
+            parts = []
+            for z, (pen_, brush_) in enumerate(((_NO_PEN, qbrush(st.fill)),
+                                                (_NO_PEN, hatch_brush(st.fill) or _NO_BRUSH),
+                                                (qpen(st.stroke, cosmetic=True), _NO_BRUSH))):
+                it = QGraphicsPathItem()
+                it.setPen(pen_)
+                it.setBrush(brush_)
+                it.setZValue(-6 + 0.1 * z)
+                add(it)
+                parts.append(it)
+            self.zone_items[kind] = parts
+        ast = STYLES["zone_arrow"]
+        self.zone_arrows_item = _Markers("arrow", 2 * ZONE_ARROW_R_PX, qpen(ast.stroke),
+                                         qbrush(ast.fill))
+        self.zone_arrows_item.setZValue(-5.5)
+        add(self.zone_arrows_item, ignoreBounds=True)
+        self._zone_arrow_px: float | None = None
         self.door_gaps_item = _Polyline(qpen(STYLES["door_gap"].stroke, cosmetic=True))
         self.doors_item = _Polyline(qpen(STYLES["door"].stroke, cosmetic=True))
         for it in (self.door_gaps_item, self.doors_item):
@@ -628,6 +691,7 @@ class PlanCanvas(QWidget):
         self.jambs_item.setZValue(1)
         add(self.jambs_item, ignoreBounds=True)
         self.plan_labels: list[_Label] = []
+        self.zone_labels: list[_Label] = []
 
         self.others_item = _Polyline(_pen("#8C8C8C", 1.5, Qt.PenStyle.DashDotLine))
         self.others_item.setZValue(2)
@@ -730,6 +794,11 @@ class PlanCanvas(QWidget):
             xs, ys = [0.0, 10.0], [0.0, 10.0]
         self.view.setRange(xRange=(min(xs), max(xs)), yRange=(min(ys), max(ys)), padding=0.04)
 
+    def highlight_place(self, geoms: Sequence) -> None:
+        """Outline plan places (shapely polygons) in the highlight style; empty clears."""
+        self.plan_gestures.highlight(None)
+        self.plan_gestures.highlight_item.setPath(polygons_path(list(geoms)))
+
     def center_on(self, x: float, y: float, span_m: float = 5.0) -> None:
         """Centre the view on plan point ``(x, y)``, zooming in to about ``span_m`` if wider."""
         (x0, x1), (y0, y1) = self.view.viewRange()
@@ -753,9 +822,14 @@ class PlanCanvas(QWidget):
         self.obstacles_item.setPath(polygons_path(shapely.orient_polygons(obst), wind)
                                     if obst else polygons_path([]))
         self.hatch_item.setPath(self.obstacles_item.path())
-        zk = index.zones
-        for kind, it in self.zone_items.items():
-            it.setPath(polygons_path(list(getattr(zk, kind).geometries)))
+        zones = zone_layer(fp.zones)
+        geoms = {pg_.role[5:]: pg_.geoms for pg_ in zones.polygons}
+        for kind, parts in self.zone_items.items():
+            path = polygons_path(geoms.get(kind, []))
+            for it in parts:
+                it.setPath(path)
+        self._zone_arrow_px = None
+        self._draw_zone_arrows()
         self._solid_geoms = [s.geometry for s in sol]
         self._solids_tree = index.tree if sol else None
         layer = floorplan_layer(fp, solids_list=sol)
@@ -784,6 +858,7 @@ class PlanCanvas(QWidget):
             # name.
             t.setZValue(1.5)
         self._obstacle_labels = []
+        self._zone_labels = []
         self._door_labels: list[_Label] = []
         for t, (pos, text, kind, size_m) in zip(labels, named):
             st = STYLES["door_label" if kind == "door" else "obstacle_label"]
@@ -797,30 +872,64 @@ class PlanCanvas(QWidget):
                 self._obstacle_labels.append((t, size_m, t.boundingRect().width()))
             else:
                 self._door_labels.append(t)
+        # Each zone's name and number, as the picture places it (app.scene.zone_layer).
+        zst = STYLES["zone_label"]
+        zlabels = self._labels(self.zone_labels, len(zones.labels), zst.ink, None, (0.5, 0.0))
+        for t, lb in zip(zlabels, zones.labels):
+            # Under the solids (over the zones and the band): a zone's name never hides a
+            # wall or an obstacle, such as a pillar near the zone's top edge.
+            t.setZValue(-0.5)
+            t.setColor(QColor(lb.ink or zst.ink))
+            t.setFill(qbrush(zst.fill))
+            t.setText(lb.text)
+            self._zone_labels.append((t, lb))
         self._fit_obstacle_labels()
         self._drawn.pop("violations", None)  # placed anew round the names shown now
 
     def _fit_obstacle_labels(self) -> None:
-        """Name an obstacle only where its name fits across it on screen (no pile-ups), and
+        """Name an obstacle only where its name fits across it on screen (no pile-ups),
         put each door's name by the door where it covers no other name: in the first row
-        under it, else the second, else above it, else (zoomed far out) not at all."""
+        under it, else the second, else above it, else (zoomed far out) not at all; a
+        zone's name goes under its top edge where the zone is tall enough, else in its
+        middle."""
         px = self.px_m()
-        taken = []
+        taken = _Boxes(_BOX_CELL_PX * px)
         for t, size_m, text_px in getattr(self, "_obstacle_labels", []):
             t.setVisible(size_m / px >= 0.9 * text_px)
             if t.isVisible():
-                taken.append(_plan_box(t, px))
+                taken.add(_plan_box(t, px))
         for t in getattr(self, "_door_labels", []):
             for anchor in _DOOR_LABEL_PLACES:
                 t.setAnchor(anchor)
                 box = _plan_box(t, px)
-                if all(box[2] <= o[0] or box[0] >= o[2] or box[3] <= o[1] or box[1] >= o[3]
-                       for o in taken):
+                if taken.free(box):
                     t.setVisible(True)
-                    taken.append(box)
+                    taken.add(box)
                     break
             else:
                 t.setVisible(False)
+        for t, lb in getattr(self, "_zone_labels", []):
+            h = t.rect().height()
+            if (lb.inside_m or 0.0) / px > 2 * h or lb.centre is None:
+                t.setAnchor((0.5, -0.15))
+                t.setPos(lb.x, lb.y)
+            else:
+                t.setAnchor((0.5, 0.5))
+                t.setPos(*lb.centre)
+
+    def _draw_zone_arrows(self) -> None:
+        """The one-way arrows, spaced in screen pixels as the picture spaces them: drawn anew
+        only when the zoom changed by more than a third."""
+        px = self.px_m()
+        was = self._zone_arrow_px
+        if was is not None and 0.75 < px / was < 1.33:
+            return
+        self._zone_arrow_px = px
+        fp = self.doc.project.floorplan
+        marks = zone_layer([z for z in fp.zones if z.kind == "one_way"],
+                           ZONE_ARROW_STEP_PX * px).markers if fp.zones else []
+        self.zone_arrows_item.setData([m.x for m in marks], [m.y for m in marks],
+                                      angle=[m.angle_rad for m in marks])
 
     def clear_hover(self) -> None:
         """Forget the hover read-out and its ring (the route under them went away)."""
@@ -902,7 +1011,7 @@ class PlanCanvas(QWidget):
         sel = np.arange(len(wx)) == self.selected
         self.waypoints_item.setData(wx, wy, brush=[_SELECTED_BRUSH if s else _WAYPOINT_BRUSH
                                                    for s in sel],
-                                    size=np.where(sel, 16, 13))
+                                    size=np.where(sel, 2 * WAYPOINT_R_PX + 3, 2 * WAYPOINT_R_PX))
         labels = self._labels(self.wp_labels, len(wx), BLACK, None, (-0.35, 1.15))
         for k, t in enumerate(labels):
             _set_text(t, str(k + 1))
@@ -988,13 +1097,29 @@ class PlanCanvas(QWidget):
         a, b = (wps[i], wps[j]) if j > i else (wps[j], wps[i])
         return math.degrees(math.atan2(b.y - a.y, b.x - a.x))
 
+    def _train(self, segs: list[Segment]) -> tuple[Any, Any]:
+        """The current route's vehicle and, when it tows trailers, the check's trace of
+        their headings along ``segs`` (else ``None``)."""
+        cur = self.doc.route()
+        if cur is None:
+            return self.doc.project.chassis, None
+        chassis = self.doc.vehicle(cur.name)
+        if not getattr(chassis, "trailers", ()) or not segs:
+            return chassis, None
+        chk = self.doc.check(cur.name)
+        trace = getattr(getattr(chk, "train", None), "trace", None)
+        if trace is None or len(trace.segments) != len(segs):
+            return chassis, None
+        return chassis, trace
+
     def _draw_band_and_outlines(self, segs: list[Segment]) -> None:
-        chassis = self.doc.project.chassis
+        chassis, trace = self._train(segs)
         if self.show_band and segs:
-            self.band_item.setPath(self._swept_path(segs))
+            self.band_item.setPath(self._swept_path(segs, chassis, trace))
         else:
             self.band_item.setPath(QPainterPath())
-        self._draw_outlines(segs if self.outline_spacing_m else [], chassis.footprint)
+        self._draw_outlines(segs if self.outline_spacing_m else [], chassis.footprint, chassis,
+                            trace)
 
     def _polish(self) -> None:
         """The drag rested or ended: the band and outlines drawn antialiased again."""
@@ -1002,22 +1127,31 @@ class PlanCanvas(QWidget):
         for it in self._outline_items.values():
             it.polish()
 
-    def _draw_outlines(self, segs: list[Segment], footprint: Sequence) -> None:
+    def _draw_outlines(self, segs: list[Segment], footprint: Sequence, chassis: Any = None,
+                       trace: Any = None) -> None:
         """Footprint outlines every ``outline_spacing_m`` along each segment from its start
         (and at the route's end), one child item per segment kept by the segment's value: a
-        drag step makes and repaints only the outlines of the segments that moved."""
+        drag step makes and repaints only the outlines of the segments that moved.
+
+        A towing vehicle's trailers are outlined at the same stations, each at its own pose
+        from the check's trace (kept by the trailers' headings where the segment starts,
+        which is all that an edit earlier on the route changes for them)."""
         spacing = self.outline_spacing_m
         items: dict = self._outline_items
+        trailers = tuple(getattr(chassis, "trailers", ()) or ()) if trace is not None else ()
+        shapes = tuple(tuple(map(tuple, t.footprint)) for t in trailers)
         want = {}
         for k, seg in enumerate(segs):
             if seg.length_m <= 0.0:
                 continue  # a turn on the spot: the next segment's first outline shows it
-            want[(seg, k == len(segs) - 1, spacing, tuple(map(tuple, footprint)))] = seg
+            state = (tuple(trace.traces[k].th[0].tolist()), shapes, k) if trailers else None
+            want[(seg, k == len(segs) - 1, spacing, tuple(map(tuple, footprint)), state)] = \
+                (k, seg)
         for key in [key for key in items if key not in want]:
             it = items.pop(key)
             it.hide()
             self._outline_pool.append(it)
-        for key, seg in want.items():
+        for key, (k, seg) in want.items():
             if key in items:
                 continue
             local = np.arange(0.0, seg.length_m, spacing)
@@ -1026,11 +1160,18 @@ class PlanCanvas(QWidget):
             it = self._outline_pool.pop() if self._outline_pool else \
                 _RoughWhileDragging(self.band_item._rough, self.outlines_item)
             it.setPen(self.outlines_item.pen())
-            it.setPath(footprint_outlines(footprint, seg.poses_at(local)))
+            path = footprint_outlines(footprint, seg.poses_at(local))
+            if trailers:
+                # The trace's progress on a line or arc is its length along the segment.
+                poses = trace.poses(k, local * (trace.amount(k) / seg.length_m))
+                for j, t in enumerate(trailers):
+                    path.addPath(footprint_outlines(t.footprint, poses[:, j + 1]))
+            it.setPath(path)
             it.show()
             items[key] = it
 
-    def _swept_path(self, segs: list[Segment]) -> QPainterPath:
+    def _swept_path(self, segs: list[Segment], chassis: Any = None, trace: Any = None
+                    ) -> QPainterPath:
         """The swept band as one winding-filled path of per-segment pieces.
 
         Pieces are oriented alike (exteriors counter-clockwise), so the non-zero winding rule
@@ -1039,16 +1180,25 @@ class PlanCanvas(QWidget):
         """
         from kinematics.check.sweep import swept_parts
 
-        fp = self.doc.project.chassis.footprint
-        if self._sweep_cache_key != fp:
+        chassis = chassis if chassis is not None else self.doc.project.chassis
+        fp = chassis.footprint
+        # A train's band holds its trailers' pieces too (the check's parts per segment).
+        train_key = tuple((t.hitch_x_m, t.drawbar_m, tuple(map(tuple, t.footprint)))
+                          for t in getattr(chassis, "trailers", ()) or ()) \
+            if trace is not None else ()
+        if self._sweep_cache_key != (fp, train_key):
             self._sweep_cache = {}
-            self._sweep_cache_key = fp
+            self._sweep_cache_key = (fp, train_key)
         old = self._sweep_cache
         new: dict = {}
         path = QPainterPath()
         checked = None
         for k, seg in enumerate(segs):
-            piece = old.get(seg)
+            if trace is not None:
+                seg_key: Any = (seg, tuple(trace.traces[k].th[0].tolist()))
+            else:
+                seg_key = seg
+            piece = old.get(seg_key)
             if piece is None:
                 if checked is None:
                     # The check swept these segments already; ask it only on a cache miss.
@@ -1058,7 +1208,7 @@ class PlanCanvas(QWidget):
                     checked = getattr(chk, "piece_parts", ()) or ()
                 raw = checked[k] if len(checked) == len(segs) else swept_parts(fp, seg)
                 piece = polygons_path(shapely.orient_polygons(raw))
-            new[seg] = piece
+            new[seg_key] = piece
             path.addPath(piece)
         self._sweep_cache = new
         path.setFillRule(Qt.FillRule.WindingFill)
@@ -1087,9 +1237,13 @@ class PlanCanvas(QWidget):
         # What a label must not cover, as plan boxes (x0, y0, x1, y1): every violation marker,
         # the names of doors and obstacles shown, and the labels already placed.
         half = 0.5 * MARKER_PX * px
-        taken = [(v.x - half, v.y - half, v.x + half, v.y + half) for v in vs]
-        named = [t for t in self.plan_labels if t.isVisible()]
-        names = [_plan_box(t, px) for t in named]
+        taken = _Boxes(_BOX_CELL_PX * px)
+        for v in vs:
+            taken.add((v.x - half, v.y - half, v.x + half, v.y + half))
+        names = _Boxes(_BOX_CELL_PX * px)
+        for n in self.plan_labels:
+            if n.isVisible():
+                names.add(_plan_box(n, px), n)
         for t, v in zip(labels, shown):
             t.setOpacity(self.band_item.opacity())  # greyed with the band while stale
             t.setFill(qbrush(lst.fill))
@@ -1118,18 +1272,13 @@ class PlanCanvas(QWidget):
                     box = (box[0] + dx, box[1] + dy, box[2] + dx, box[3] + dy)
                 inside = not seen or (view[0] <= box[0] and box[2] <= view[2]
                                       and view[1] <= box[1] and box[3] <= view[3])
-                if inside and all(box[2] <= o[0] or box[0] >= o[2] or box[3] <= o[1]
-                                  or box[1] >= o[3]
-                                  for o in (taken + names if avoid_names else taken)):
+                if inside and taken.free(box) and (not avoid_names or names.free(box)):
                     t.setVisible(True)
-                    taken.append(box)
+                    taken.add(box)
                     if not avoid_names:  # the names it would cover give way
-                        for k in range(len(named) - 1, -1, -1):
-                            o = names[k]
-                            if not (box[2] <= o[0] or box[0] >= o[2] or box[3] <= o[1]
-                                    or box[1] >= o[3]):
-                                named.pop(k).setVisible(False)
-                                names.pop(k)
+                        for n in names.hits(box):
+                            n.setVisible(False)
+                            names.remove(n)
                     break
             else:
                 t.setVisible(False)
@@ -1143,6 +1292,7 @@ class PlanCanvas(QWidget):
             self.scale_bar.updateBar()
         self._draw_handles()
         self._fit_obstacle_labels()
+        self._draw_zone_arrows()
         cur = self.doc.route()
         if cur is not None and "violations" in self._drawn:
             self._draw_violations(cur.name)  # labels placed anew at a new zoom only

@@ -322,7 +322,7 @@ def cmd_render(args: argparse.Namespace) -> int:
     _write_output(args.output, "-o", lambda: render_project_png(
         project, args.output, route_name=args.route, size=(args.width, args.height)))
     if args.plots:
-        from app.render import render_plot_png
+        from app.plots import render_plot_png
         from kinematics.plan.planner import plan_route
         from kinematics.timing.schedule import build_schedule
 

@@ -49,7 +49,7 @@ class LegendView(QWidget):
 
     def rows(self) -> list[tuple[str, str, object]]:
         names, index_of, checks, zones = self._inputs()
-        return legend_rows(names, checks, index_of, render.zone_legend_rows(zones))
+        return legend_rows(names, checks, index_of, zones=zones)
 
     def _changed(self) -> None:
         self._stale = True

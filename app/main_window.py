@@ -29,6 +29,7 @@ from PySide6.QtWidgets import (
     QDoubleSpinBox,
     QFileDialog,
     QFormLayout,
+    QHBoxLayout,
     QInputDialog,
     QLabel,
     QMainWindow,
@@ -54,7 +55,13 @@ FLOOR_FILTER = ("Floor plans (*.floor.json *.dxf *.svg);;Swathe floor plan (*.fl
 OPEN_FILTER = ("Swathe projects (*.swathe.json);;Floor plans, for a new project "
                "(*.floor.json *.dxf *.svg);;JSON (*.json);;All files (*)")
 MAX_RECENT = 8
-ROLES = ("ignore", "walls", "obstacles", "doors")
+ROLES = ("ignore", "walls", "obstacles", "doors", "keep-out zone", "slow zone",
+         "margin zone", "one-way zone")
+#: A zone role's kind, and its number's ``(key, suffix, minimum, maximum, default)``.
+ZONE_ROLES = {"keep-out zone": ("keep_out", None), "slow zone": ("slow", ("speed_mps", " m/s",
+                                                                        0.01, 1000.0, 0.5)),
+              "margin zone": ("margin", ("margin_m", " m", 0.0, 100.0, 0.3)),
+              "one-way zone": ("one_way", ("direction_deg", " deg", -360.0, 360.0, 0.0))}
 
 
 def _version() -> str:
@@ -78,13 +85,24 @@ class DxfImportDialog(QDialog):
         lay.addWidget(QLabel("What does each layer of the drawing hold?"))
         form = QFormLayout()
         self.combos: dict[str, QComboBox] = {}
+        self.values: dict[str, QDoubleSpinBox] = {}  # a zone layer's speed, margin, direction
         for name in layers:
             cb = QComboBox()
             cb.addItems(ROLES)
             guess = guess_role(name)
             cb.setCurrentText(guess if guess in ROLES else "walls")
-            form.addRow(name, cb)
+            spin = QDoubleSpinBox()
+            spin.setDecimals(2)
+            row = QWidget()
+            hl = QHBoxLayout(row)
+            hl.setContentsMargins(0, 0, 0, 0)
+            hl.addWidget(cb, 1)
+            hl.addWidget(spin)
+            form.addRow(name, row)
             self.combos[name] = cb
+            self.values[name] = spin
+            cb.currentTextChanged.connect(lambda role, sp=spin: self._role_changed(role, sp))
+            self._role_changed(cb.currentText(), spin)
         self.units = QComboBox()
         self.units.addItems(["from the file", "mm", "cm", "m", "in", "ft"])
         form.addRow("Drawing units", self.units)
@@ -102,15 +120,95 @@ class DxfImportDialog(QDialog):
         buttons.rejected.connect(self.reject)
         lay.addWidget(buttons)
 
+    @staticmethod
+    def _role_changed(role: str, spin: QDoubleSpinBox) -> None:
+        """Show the number a zone layer needs (speed cap, margin, direction) beside it."""
+        field = ZONE_ROLES.get(role, (None, None))[1]
+        spin.setVisible(field is not None)
+        if field is not None:
+            _key, suffix, lo, hi, default = field
+            spin.setRange(lo, hi)
+            spin.setSuffix(suffix)
+            spin.setValue(default)
+
     def options(self) -> dict[str, Any]:
-        """Keyword options for :func:`kinematics.files.loader.load_floorplan`."""
+        """Options for :func:`kinematics.files.loader.load_floorplan`, as a project file's
+        import object holds them (zone layers as ``{"layer", "kind", ...}``)."""
         roles: dict[str, list[str]] = {"walls": [], "obstacles": [], "doors": []}
+        zones: list[dict[str, Any]] = []
         for name, cb in self.combos.items():
-            if cb.currentText() in roles:
-                roles[cb.currentText()].append(name)
+            role = cb.currentText()
+            if role in roles:
+                roles[role].append(name)
+            elif role in ZONE_ROLES:
+                kind, field = ZONE_ROLES[role]
+                z: dict[str, Any] = {"layer": name, "kind": kind}
+                if field is not None:
+                    z[field[0]] = self.values[name].value()
+                zones.append(z)
         opts: dict[str, Any] = {"layers": roles, "wall_thickness_m": self.thickness.value()}
+        if zones:
+            opts["zones"] = zones
         if self.units.currentIndex() > 0:
             opts["units"] = self.units.currentText()
+        return opts
+
+
+class SvgImportDialog(QDialog):
+    """The SVG drawing's scale, and which of its groups (layers) are zones."""
+
+    def __init__(self, path: Path, groups: list[str], parent: QWidget | None = None) -> None:
+        super().__init__(parent)
+        self.setWindowTitle(f"Import {path.name}")
+        lay = QVBoxLayout(self)
+        form = QFormLayout()
+        self.scale = QDoubleSpinBox()
+        self.scale.setDecimals(6)
+        self.scale.setRange(1e-6, 1000.0)
+        self.scale.setValue(0.01)
+        self.scale.setSuffix(" m")
+        form.addRow("Metres per SVG unit (0.01: drawn in cm)", self.scale)
+        if groups:
+            form.addRow(QLabel("Groups read as zones (the rest as drawn):"))
+        self.combos: dict[str, QComboBox] = {}
+        self.values: dict[str, QDoubleSpinBox] = {}
+        for name in groups:
+            cb = QComboBox()
+            cb.addItems(["as drawn", *ZONE_ROLES])
+            spin = QDoubleSpinBox()
+            spin.setDecimals(2)
+            row = QWidget()
+            hl = QHBoxLayout(row)
+            hl.setContentsMargins(0, 0, 0, 0)
+            hl.addWidget(cb, 1)
+            hl.addWidget(spin)
+            form.addRow(name, row)
+            self.combos[name] = cb
+            self.values[name] = spin
+            cb.currentTextChanged.connect(
+                lambda role, sp=spin: DxfImportDialog._role_changed(role, sp))
+            DxfImportDialog._role_changed(cb.currentText(), spin)
+        lay.addLayout(form)
+        buttons = QDialogButtonBox(QDialogButtonBox.StandardButton.Ok
+                                   | QDialogButtonBox.StandardButton.Cancel)
+        buttons.accepted.connect(self.accept)
+        buttons.rejected.connect(self.reject)
+        lay.addWidget(buttons)
+
+    def options(self) -> dict[str, Any]:
+        """Options for :func:`kinematics.files.loader.load_floorplan`, as a project file's
+        import object holds them."""
+        opts: dict[str, Any] = {"metres_per_unit": self.scale.value()}
+        zones = []
+        for name, cb in self.combos.items():
+            if cb.currentText() in ZONE_ROLES:
+                kind, field = ZONE_ROLES[cb.currentText()]
+                z: dict[str, Any] = {"layer": name, "kind": kind}
+                if field is not None:
+                    z[field[0]] = self.values[name].value()
+                zones.append(z)
+        if zones:
+            opts["zones"] = zones
         return opts
 
 
@@ -233,6 +331,11 @@ class MainWindow(QMainWindow):
                                            "waypoint's heading")
         self.act_fit = self._act("&Fit to plan", self.canvas.fit, QKeySequence("F"))
         self.act_about = self._act("&About Swathe", self.show_about)
+        self.act_guide = self._act("&Guide", self.show_guide, QKeySequence.StandardKey.HelpContents,
+                                   "What each mode does, every shortcut, and the words used")
+        if self.act_guide.shortcut().isEmpty():  # platforms without a standard help key
+            self.act_guide.setShortcut(QKeySequence("F1"))
+        self.guide_box: QDialog | None = None
         self.mode_group = QActionGroup(self)
         self.act_select = QAction("Select / move", self, checkable=True)
         self.act_select.setShortcut(QKeySequence("S"))
@@ -348,6 +451,8 @@ class MainWindow(QMainWindow):
         self.route_finder = RouteFinderActions(self)  # Route > Find / Repair route
         self.route_finder.install()
         h = mb.addMenu("&Help")
+        h.addAction(self.act_guide)
+        h.addSeparator()
         h.addAction(self.act_about)
 
     def _build_toolbars(self) -> None:
@@ -445,16 +550,20 @@ class MainWindow(QMainWindow):
         self._later_panels: dict[str, QWidget | None] | None = None
         self.chassis_dock = self._dock("Chassis", "chassis", QWidget(), L)
         self.results_dock = self._dock("Check results", "results", QWidget(), R)
-        self.legend_dock = self._dock("Legend", "legend", QWidget(), R)
-        self.tabifyDockWidget(self.results_dock, self.legend_dock)
-        self.results_dock.raise_()
         self.plots_dock = self._dock("Speed and wheel rates", "plots", QWidget(), B)
         self.schedule_dock = self._dock("Schedule", "schedule", QWidget(), B)
+        self.traffic_dock = self._dock("Traffic", "traffic", QWidget(), B)
         self.tabifyDockWidget(self.plots_dock, self.schedule_dock)
+        self.tabifyDockWidget(self.schedule_dock, self.traffic_dock)
         self.plots_dock.raise_()
         self.resizeDocks([self.chassis_dock, self.results_dock], [300, 320],
                          Qt.Orientation.Horizontal)
         self.resizeDocks([self.plots_dock], [240], Qt.Orientation.Vertical)
+        # Tabified beside the results once the window is shown (showEvent): a second tab
+        # group made before the first show leaves a stray copy of a tab bar painted where the
+        # window's first size put it (Qt 6.11; over the plots in a larger window).
+        self.legend_dock = self._dock("Legend", "legend", QWidget(), R)
+        self._legend_tabified = False
         self.canvas.firstPainted.connect(self._build_later_panels)
 
     def _build_later_panels(self) -> dict[str, QWidget | None]:
@@ -465,8 +574,14 @@ class MainWindow(QMainWindow):
             plots = self._panel("plots", "PlotsPanel")
             table = self._panel("panels", "ScheduleTable")
             legend = self._panel("legend", "LegendPanel")
+            traffic = self._panel("traffic_panel", "TrafficPanel")
             self._later_panels = {"chassis": chassis, "results": results, "plots": plots,
-                                  "schedule": table, "legend": legend}
+                                  "schedule": table, "legend": legend, "traffic": traffic}
+            self.traffic_dock.setWidget(traffic or _placeholder(
+                "The traffic panel is not available in this build."))
+            if traffic is not None:
+                traffic.zoomRequested.connect(self.canvas.center_on)
+                traffic.placeShown.connect(self.canvas.highlight_place)
             self.legend_dock.setWidget(legend or _placeholder(
                 "The legend is not available in this build."))
             self.chassis_dock.setWidget(chassis or _placeholder(
@@ -487,6 +602,11 @@ class MainWindow(QMainWindow):
     def chassis_panel(self) -> QWidget | None:
         """The chassis editor (built on first use)."""
         return self._build_later_panels()["chassis"]
+
+    @property
+    def traffic_panel(self) -> QWidget | None:
+        """The traffic panel between routes (built on first use)."""
+        return self._build_later_panels()["traffic"]
 
     @property
     def results_panel(self) -> QWidget | None:
@@ -687,6 +807,18 @@ class MainWindow(QMainWindow):
         return self.show_error(f"Swathe could not {action}",
                                f"{exc.message}\n\nNothing was changed in the open project.")
 
+    def show_guide(self) -> QDialog:
+        """Help > Guide: modes, shortcuts (read from the actions now) and words."""
+        from .guide import GuideDialog
+
+        if self.guide_box is None:
+            self.guide_box = GuideDialog(self)
+        else:
+            self.guide_box.reload()
+        self.guide_box.show()
+        self.guide_box.raise_()
+        return self.guide_box
+
     def show_about(self) -> QMessageBox:
         box = QMessageBox(self)
         box.setWindowTitle("About Swathe")
@@ -775,28 +907,38 @@ class MainWindow(QMainWindow):
                     return False
                 options = dlg.options()
             elif suffix == ".svg":
-                scale, ok = QInputDialog.getDouble(
-                    self, f"Import {p.name}", "Metres per SVG unit (e.g. 0.01 when the drawing "
-                    "is in centimetres):", 0.01, 1e-6, 1000.0, 6)
-                if not ok:
+                try:
+                    from kinematics.files.svg_import import svg_groups
+
+                    groups = svg_groups(p)
+                except SwatheInputError as exc:
+                    self.show_input_error(exc, "read the drawing")
                     return False
-                options = {"metres_per_unit": scale}
+                sdlg = SvgImportDialog(p, groups, self)
+                if sdlg.exec() != QDialog.DialogCode.Accepted:
+                    return False
+                options = sdlg.options()
         if suffix in (".dxf", ".svg"):
             ref: str | dict = {"file": str(p), **options}
         else:
             ref = str(p)
 
         def load():
+            from kinematics.files.floorplan import zone_layers_from
             from kinematics.files.loader import load_floorplan
 
-            return load_floorplan(p, **options)
+            opts = dict(options)
+            if opts.get("zones"):  # the import object's zone layers, as a project reads them
+                opts["zones"] = zone_layers_from(opts["zones"], str(p), "zones")
+            return load_floorplan(p, **opts)
 
         def done(fp) -> None:
             self.doc.set_floorplan(fp, ref)
             self._add_recent(p)
             self.canvas.fit()
             self.statusBar().showMessage(f"Floor plan {p.name}: {len(fp.walls)} walls, "
-                                         f"{len(fp.obstacles)} obstacles, {len(fp.doors)} doors",
+                                         f"{len(fp.obstacles)} obstacles, {len(fp.doors)} doors"
+                                         + (f", {len(fp.zones)} zones" if fp.zones else ""),
                                          8000)
 
         def failed(text: str) -> None:
@@ -1118,6 +1260,10 @@ class MainWindow(QMainWindow):
 
     def showEvent(self, ev) -> None:  # noqa: N802 - Qt's name
         super().showEvent(ev)
+        if not self._legend_tabified:
+            self._legend_tabified = True
+            self.tabifyDockWidget(self.results_dock, self.legend_dock)
+            self.results_dock.raise_()
         if self.first_shown_at is None:
             self.first_shown_at = time.perf_counter()
 

@@ -84,7 +84,7 @@ USES = {
 DRIVE_WORDS = {
     "differential": "differential / skid-steer",
     "bicycle": "bicycle",
-    "ackermann": "ackermann (car-like)",
+    "ackermann": "Ackermann (car-like)",
     "mecanum": "mecanum",
     "swerve": "swerve",
 }
@@ -702,7 +702,7 @@ def _numbers_whole(t: QTableWidget) -> None:
         hdr.setSectionResizeMode(col, QHeaderView.ResizeMode.ResizeToContents)
     t.setTextElideMode(Qt.TextElideMode.ElideRight)
     t.setHorizontalScrollBarPolicy(Qt.ScrollBarPolicy.ScrollBarAlwaysOff)
-    t.setMinimumHeight(t.horizontalHeader().sizeHint().height() + 2 * 22 + 6)  # two rows
+    t.setMinimumHeight(t.horizontalHeader().sizeHint().height() + 22 + 6)  # a row at least
 
 
 def compute_sizing(project: Any, route_name: str, token: CancelToken,
@@ -859,6 +859,7 @@ class ResultsPanel(QWidget):
         self._violation_rows = []
         self.violations.setRowCount(0)
         self.violation_message.clear()
+        self.violation_message.hide()
         self.doors.setRowCount(0)
         if name is None:
             self.verdict.setText("No route")
@@ -907,6 +908,7 @@ class ResultsPanel(QWidget):
         self.violation_message.setText(vs[0].message if len(vs) == 1 else
                                        (f"{len(vs)} violations; click one to read it." if vs
                                         else ""))
+        self.violation_message.setVisible(bool(vs))  # its room to the tables when clear
         widths = {d.label: d.width_m for d in self.doc.project.floorplan.doors}
         doors = door_results(chk)
         self.doors.setRowCount(len(doors))
@@ -923,6 +925,7 @@ class ResultsPanel(QWidget):
         if 0 <= row < len(self._violation_rows):
             v = self._violation_rows[row]
             self.violation_message.setText(f"{row + 1}. {v.message}")
+            self.violation_message.show()
             self.zoomRequested.emit(float(v.x), float(v.y))
             self.solidCited.emit(getattr(v, "solid", "") or "")
 

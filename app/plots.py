@@ -1,10 +1,16 @@
-"""Speed and wheel-rate plots of the current route, over time or over distance.
+"""Speed and wheel-rate plots of a route, over time or over distance: the one plotting path.
 
-Two linked pyqtgraph plots: the speed of the reference point, and every wheel's rate. Each
-limit of the chassis is a dashed horizontal line labelled with its name (max speed, max wheel
-rate), and each segment's own speed cap is drawn dotted and named by the limit that sets it
-(lateral-accel cap, yaw-rate cap, max wheel rate), so a user sees at a glance which limit
-binds where. Data from :func:`kinematics.timing.schedule.schedule_series`.
+:class:`SchedulePlots` draws one schedule; the window's :class:`PlotsPanel` shows one for the
+current route, and :func:`draw_plots` renders one offscreen into any painter (``swathe render
+--plots``, the report), so pictures and the window show the same curves, limit lines, cap
+names and legends.
+
+Two linked pyqtgraph plots (and a third, of hitch angles, for a train): the speed of the
+reference point, and every wheel's rate. Each limit of the chassis is a dashed horizontal
+line labelled with its name (max speed, max wheel rate), and each segment's own speed cap is
+drawn dotted and named by the limit that sets it (lateral-accel cap, yaw-rate cap, max wheel
+rate), so a user sees at a glance which limit binds where.
+Data from :func:`kinematics.timing.schedule.schedule_series`.
 
 Wheels differ by line style as well as colour (Okabe-Ito palette, Okabe & Ito 2008).
 """
@@ -12,11 +18,13 @@ Wheels differ by line style as well as colour (Okabe-Ito palette, Okabe & Ito 20
 from __future__ import annotations
 
 import math
+from pathlib import Path
 from typing import Any
 
 import numpy as np
 import pyqtgraph as pg
-from PySide6.QtCore import Qt, QTimer
+from PySide6.QtCore import QRectF, Qt, QTimer
+from PySide6.QtGui import QColor, QImage, QPainter
 from PySide6.QtWidgets import (
     QButtonGroup,
     QHBoxLayout,
@@ -28,8 +36,20 @@ from PySide6.QtWidgets import (
     QWidget,
 )
 
+from .palette import BLUE, GREEN, ORANGE, PURPLE, VERMILLION
 from .qstyle import MESSAGE_STYLE
-from .render import BLUE, FAINT_INK, LIMIT_WORDS, VERMILLION, WHEEL_COLOURS, WHEEL_STYLES
+from .scene import FAINT_INK, INK
+
+#: Line styles per wheel, so wheels differ by dash as well as by colour.
+WHEEL_STYLES = (Qt.PenStyle.SolidLine, Qt.PenStyle.DashLine, Qt.PenStyle.DotLine,
+                Qt.PenStyle.DashDotLine)
+WHEEL_COLOURS = (BLUE, ORANGE, PURPLE, GREEN)
+#: Words for the limit that binds, by the profile's key.
+LIMIT_WORDS = {"max_speed_mps": "max speed", "slow_zone": "slow zone",
+               "max_wheel_rate_radps": "max wheel rate",
+               "max_lateral_accel_mps2": "lateral-accel cap", "max_yaw_rate_dps": "yaw-rate cap",
+               "max_wheel_accel_radps2": "wheel-accel cap", "max_yaw_accel_dps2": "yaw-accel cap",
+               "max_steer_rate_dps": "steer-rate cap"}
 
 HEADROOM = 1.65  # y range above the largest value: room for the legend and limit labels
 NEG_FOOTROOM = 1.75  # below the most negative rate: room for the lower limit's label
@@ -50,89 +70,50 @@ def _limit_line(plot: pg.PlotItem, y: float, text: str) -> pg.InfiniteLine:
     return line
 
 
-class PlotsPanel(QWidget):
-    """Speed and wheel rates of the document's current route.
+
+
+def _style_plot(plot: pg.PlotItem, label: str, unit: str) -> None:
+    plot.hideButtons()
+    plot.showGrid(x=True, y=True, alpha=0.25)
+    plot.setLabel("left", label, units=unit)
+    plot.getAxis("left").enableAutoSIPrefix(False)
+    plot.getAxis("bottom").enableAutoSIPrefix(False)
+    for ax in ("left", "bottom"):
+        plot.getAxis(ax).setPen(pg.mkPen("#555555"))
+        plot.getAxis(ax).setTextPen(pg.mkPen("#222222"))
+
+
+class SchedulePlots(pg.GraphicsLayoutWidget):
+    """The speed, wheel-rate and (for a train) hitch-angle plots of one schedule.
 
     Attributes
     ----------
-    x_axis : str
-        ``"time"`` or ``"distance"``.
+    speed_plot, rate_plot, hitch_plot : pyqtgraph.PlotItem
     limit_lines : list of pyqtgraph.InfiniteLine
         The dashed limit lines now shown (their labels name the limits).
     cap_labels : list of str
         The binding-limit names written over the segment caps.
     """
 
-    def __init__(self, doc: Any, parent: QWidget | None = None) -> None:
+    def __init__(self, parent: QWidget | None = None) -> None:
         super().__init__(parent)
-        self.doc = doc
-        self.x_axis = "time"
+        self.setBackground("w")
         self.limit_lines: list[pg.InfiniteLine] = []
         self.cap_labels: list[str] = []
         self.cap_items: list[pg.TextItem] = []
-        self._extra_items: list[tuple[pg.PlotItem, Any]] = []
-
-        lay = QVBoxLayout(self)
-        lay.setContentsMargins(4, 4, 4, 4)
-        bar = QHBoxLayout()
-        bar.addWidget(QLabel("Plot against:"))
-        self.by_time = QRadioButton("time (s)")
-        self.by_distance = QRadioButton("distance (m)")
-        self.by_time.setChecked(True)
-        group = QButtonGroup(self)
-        group.addButton(self.by_time)
-        group.addButton(self.by_distance)
-        self.by_time.toggled.connect(self._axis_toggled)
-        bar.addWidget(self.by_time)
-        bar.addWidget(self.by_distance)
-        # The plots' own fit control (pyqtgraph's "A" buttons are hidden: that letter is the
-        # add-waypoints key on the plan).
-        self.fit_button = QPushButton("Fit")
-        self.fit_button.setToolTip("Show the whole route in both plots again")
-        self.fit_button.clicked.connect(self.fit)
-        self.fit_button.setSizePolicy(QSizePolicy.Policy.Maximum, QSizePolicy.Policy.Fixed)
-        bar.addWidget(self.fit_button)
-        bar.addStretch(1)
-        self.status = QLabel()
-        self.status.setStyleSheet(f"color: {FAINT_INK};")
-        bar.addWidget(self.status)
-        lay.addLayout(bar)
-        # Shown while the chassis form holds a refused value: the plots are greyed under it.
-        self.stale_label = QLabel()
-        self.stale_label.setWordWrap(True)
-        self.stale_label.setStyleSheet(MESSAGE_STYLE)
-        self.stale_label.hide()
-        lay.addWidget(self.stale_label)
-
-        self.graphics = pg.GraphicsLayoutWidget()
-        self.graphics.setBackground("w")
-        self.speed_plot = self.graphics.addPlot(row=0, col=0)
-        self.rate_plot = self.graphics.addPlot(row=1, col=0)
+        self.speed_plot = self.addPlot(row=0, col=0)
+        self.rate_plot = self.addPlot(row=1, col=0)
         self.rate_plot.setXLink(self.speed_plot)
         # A train's hitch angles, each trailer to the body ahead; shown only for trains.
-        self.hitch_plot = self.graphics.addPlot(row=2, col=0)
+        self.hitch_plot = self.addPlot(row=2, col=0)
         self.hitch_plot.setXLink(self.speed_plot)
-        self.hitch_plot.showGrid(x=True, y=True, alpha=0.25)
-        self.hitch_plot.setLabel("left", "hitch angle", units="deg")
-        self.hitch_plot.getAxis("left").enableAutoSIPrefix(False)
-        self.hitch_plot.getAxis("bottom").enableAutoSIPrefix(False)
-        for ax in ("left", "bottom"):
-            self.hitch_plot.getAxis(ax).setPen(pg.mkPen("#555555"))
-            self.hitch_plot.getAxis(ax).setTextPen(pg.mkPen("#222222"))
+        for plot, label, unit in ((self.speed_plot, "speed", "m/s"),
+                                  (self.rate_plot, "wheel rate", "rad/s"),
+                                  (self.hitch_plot, "hitch angle", "deg")):
+            _style_plot(plot, label, unit)
         self.hitch_legend = self.hitch_plot.addLegend(offset=(8, 4), labelTextColor="#222222",
                                                       brush=(255, 255, 255, 90), colCount=4)
         self.hitch_plot.hide()
-        for plot in (self.speed_plot, self.rate_plot, self.hitch_plot):
-            plot.hideButtons()
-        for plot, label, unit in ((self.speed_plot, "speed", "m/s"),
-                                  (self.rate_plot, "wheel rate", "rad/s")):
-            plot.showGrid(x=True, y=True, alpha=0.25)
-            plot.setLabel("left", label, units=unit)
-            plot.getAxis("left").enableAutoSIPrefix(False)
-            plot.getAxis("bottom").enableAutoSIPrefix(False)
-            for ax in ("left", "bottom"):
-                plot.getAxis(ax).setPen(pg.mkPen("#555555"))
-                plot.getAxis(ax).setTextPen(pg.mkPen("#222222"))
         self.speed_legend = self.speed_plot.addLegend(offset=(8, 4), labelTextColor="#222222",
                                                       brush=(255, 255, 255, 90), colCount=4)
         self.rate_legend = self.rate_plot.addLegend(offset=(8, 4), labelTextColor="#222222",
@@ -141,72 +122,34 @@ class PlotsPanel(QWidget):
         # labels, so they cover no data.
         for legend in (self.speed_legend, self.rate_legend):
             legend.anchor(itemPos=(0.5, 0.0), parentPos=(0.5, 0.0), offset=(0, 2))
-        lay.addWidget(self.graphics, 1)
         vb = self.speed_plot.getViewBox()
         vb.sigRangeChanged.connect(self.place_cap_labels)
         vb.sigResized.connect(self.place_cap_labels)
+        for plot in (self.rate_plot, self.hitch_plot):
+            plot.getViewBox().sigRangeChanged.connect(self.keep_limit_labels_inside)
+            plot.getViewBox().sigResized.connect(self.keep_limit_labels_inside)
         self.side_by_side = False
-
-        self._timer = QTimer(self)
-        self._timer.setSingleShot(True)
-        self._timer.setInterval(0)  # coalesce bursts of signals into one redraw
-        self._timer.timeout.connect(self.refresh)
-        for sig in ("resultsChanged", "projectReplaced"):
-            getattr(doc, sig).connect(self._timer.start)
-        doc.currentRouteChanged.connect(lambda _i: self._timer.start())
-        doc.staleChanged.connect(self.set_stale)
         self._ranges: list[tuple[pg.PlotItem, tuple[float, float], tuple[float, float] | None]] = []
-        self.refresh()
-        self.set_stale(doc.stale_reason)
-
-    STALE_OPACITY = 0.3
-
-    @property
-    def stale(self) -> bool:
-        """True while the curves are of an older chassis than the form shows."""
-        return self.graphics.ci.opacity() < 1.0
-
-    def set_stale(self, reason: str) -> None:
-        """Grey the plots and say why (the chassis form holds a refused value), or undo it."""
-        self.stale_label.setText(reason)
-        self.stale_label.setVisible(bool(reason))
-        self.graphics.ci.setOpacity(self.STALE_OPACITY if reason else 1.0)
 
     def fit(self) -> None:
-        """Back to the ranges the last refresh chose (the whole route, room for the labels)."""
+        """Back to the ranges the last drawing chose (the whole route, room for the labels)."""
         for plot, yr, xr in self._ranges:
             plot.setYRange(*yr, padding=0)
             if xr is not None:
                 plot.setXRange(*xr, padding=0.01)
 
-    def resizeEvent(self, ev) -> None:  # noqa: N802 - Qt's name
-        super().resizeEvent(ev)
-        # A wide, short dock (under the plan) shows the plots side by side, else stacked.
-        self.set_side_by_side(self.width() > 2.6 * max(self.height(), 1))
-
     def set_side_by_side(self, side: bool) -> None:
         if side == self.side_by_side:
             return
         self.side_by_side = side
-        layout = self.graphics.ci
+        layout = self.ci
         layout.removeItem(self.rate_plot)
         if side:
             layout.addItem(self.rate_plot, row=0, col=1)
         else:
             layout.addItem(self.rate_plot, row=1, col=0)
 
-    def _axis_toggled(self, _checked: bool) -> None:
-        self.set_x_axis("time" if self.by_time.isChecked() else "distance")
-
-    def set_x_axis(self, which: str) -> None:
-        """Plot against ``"time"`` or ``"distance"``."""
-        if which not in ("time", "distance"):
-            raise ValueError("x axis is 'time' or 'distance'")
-        self.x_axis = which
-        (self.by_time if which == "time" else self.by_distance).setChecked(True)
-        self.refresh()
-
-    def _clear(self) -> None:
+    def clear_plots(self) -> None:
         for plot in (self.speed_plot, self.rate_plot, self.hitch_plot):
             plot.clear()
         for legend in (self.speed_legend, self.rate_legend, self.hitch_legend):
@@ -216,6 +159,11 @@ class PlotsPanel(QWidget):
         self.cap_items = []
         self._ranges = []
 
+    def set_x_axis_label(self, x_axis: str) -> None:
+        xlabel = ("time", "s") if x_axis == "time" else ("distance along the route", "m")
+        for plot in (self.speed_plot, self.rate_plot, self.hitch_plot):
+            plot.setLabel("bottom", xlabel[0], units=xlabel[1])
+
     def _set_range(self, plot: pg.PlotItem, y: tuple[float, float],
                    x: tuple[float, float] | None = None) -> None:
         """Set ``plot``'s range and keep it for :meth:`fit`."""
@@ -224,27 +172,18 @@ class PlotsPanel(QWidget):
         if x is not None:
             plot.setXRange(*x, padding=0.01)
 
-    def refresh(self) -> None:
-        self._clear()
-        r = self.doc.route()
-        s = self.doc.schedule(r.name) if r is not None else None
-        xlabel = ("time", "s") if self.x_axis == "time" else ("distance along the route", "m")
-        for plot in (self.speed_plot, self.rate_plot, self.hitch_plot):
-            plot.setLabel("bottom", xlabel[0], units=xlabel[1])
-        if s is None:
-            self.hitch_plot.hide()
-            err = self.doc.error(r.name) if r is not None else None
-            self.status.setText("No route." if r is None else
-                                f"{r.name}: no schedule" + (f" \u2014 {err}" if err else ""))
-            return
+    def show_schedule(self, s: Any, x_axis: str = "time",
+                      hitch_limits: dict[str, float] | None = None) -> dict:
+        """Draw schedule ``s`` against ``x_axis`` (``"time"`` or ``"distance"``);
+        ``hitch_limits`` (jackknife limit in degrees by trailer name) adds a train's limit
+        lines. Returns the series drawn (:func:`kinematics.timing.schedule.schedule_series`)."""
         from kinematics.timing.schedule import schedule_series
 
+        self.clear_plots()
+        self.set_x_axis_label(x_axis)
         series = schedule_series(s)
-        xs = series["t_s"] if self.x_axis == "time" else series["station_m"]
+        xs = series["t_s"] if x_axis == "time" else series["station_m"]
         lim = series["limits"]
-        self.status.setText(f"{s.route}: {s.profile.total_time_s:.1f} s, "
-                            f"{float(series['station_m'][-1]) if xs.size else 0.0:.2f} m")
-
         self.speed_plot.plot(xs, series["v_mps"], pen=pg.mkPen(BLUE, width=2), name="speed")
         self._draw_caps(xs, series, s)
         if lim["max_speed_mps"] is not None:
@@ -282,18 +221,16 @@ class PlotsPanel(QWidget):
         if xs.size:
             self._set_range(self.speed_plot, self._ranges[0][1],
                             (float(xs.min()), float(xs.max())))
-        self._draw_hitches(xs, series, s)
+        self._draw_hitches(xs, series, hitch_limits or {})
         self.place_cap_labels()
+        return series
 
-    def _draw_hitches(self, xs: np.ndarray, series: dict, s: Any) -> None:
+    def _draw_hitches(self, xs: np.ndarray, series: dict, limits: dict[str, float]) -> None:
         """Each trailer's hitch angle, with its jackknife limit (trains only)."""
         hitch = series.get("hitch_deg") or {}
         self.hitch_plot.setVisible(bool(hitch))
         if not hitch:
             return
-        r = self.doc.route()
-        chassis = self.doc.vehicle(r.name) if r is not None else None
-        limits = {t.name: t.max_hitch_deg for t in getattr(chassis, "trailers", ())}
         top = 0.0
         for k, (name, a) in enumerate(hitch.items()):
             self.hitch_plot.plot(xs, a, name=name, pen=pg.mkPen(
@@ -309,10 +246,29 @@ class PlotsPanel(QWidget):
             top = max(top, lim)
         self._set_range(self.hitch_plot, (-top * HEADROOM, top * HEADROOM))
 
+    def keep_limit_labels_inside(self, *_args) -> None:
+        """A limit's name goes to the other side of its line where the plot is too short for
+        it on its own side (it would be cut at the plot's edge)."""
+        for line in self.limit_lines:
+            vb = line.getViewBox()
+            if vb is None:
+                continue
+            box = vb.sceneBoundingRect()
+            lab = line.label
+            above = line.value() >= 0
+            for a in ([(1, 1), (1, 1)], [(1, 0), (1, 0)])[:: 1 if above else -1]:
+                lab.anchors = a
+                lab.updatePosition()
+                lab.updateTransform(force=True)
+                r = lab.sceneBoundingRect()
+                if r.top() >= box.top() and r.bottom() <= box.bottom():
+                    break
+
     def place_cap_labels(self, *_args) -> None:
         """Put each cap's name above its dotted line, else below it, where it covers no other
         name (a cap label or the limit lines' labels); a name with no free place is hidden
         (its dotted line stays). Redone when the view or its size changes."""
+        self.keep_limit_labels_inside()
         taken = []
         for line in self.limit_lines:
             if line.getViewBox() is self.speed_plot.getViewBox():
@@ -368,3 +324,257 @@ class PlotsPanel(QWidget):
             self.speed_plot.plot(np.array(bx), np.array(by), connect="finite",
                                  pen=pg.mkPen(FAINT_INK, width=1.3, style=Qt.PenStyle.DotLine),
                                  name="segment cap")
+
+    def contents(self) -> dict:
+        """What the plots show, for tests and comparisons: ``"curves"`` (plot name -> list of
+        ``(curve name, x, y)``) and ``"limits"`` (list of ``(plot name, y, label)``)."""
+        plots = {"speed": self.speed_plot, "rate": self.rate_plot, "hitch": self.hitch_plot}
+        curves = {k: [(c.name(), *c.getData()) for c in p.listDataItems()]
+                  for k, p in plots.items()}
+        which = {id(p.getViewBox()): k for k, p in plots.items()}
+        limits = [(which.get(id(ln.getViewBox())), float(ln.value()), ln.label.format)
+                  for ln in self.limit_lines]
+        return {"curves": curves, "limits": limits}
+
+
+def hitch_limits_of(chassis: Any) -> dict[str, float]:
+    """A train's jackknife limits (degrees) by trailer name; empty for a lone vehicle."""
+    return {t.name: t.max_hitch_deg for t in getattr(chassis, "trailers", ()) or ()}
+
+
+class PlotsPanel(QWidget):
+    """Speed and wheel rates of the document's current route (a :class:`SchedulePlots`).
+
+    Attributes
+    ----------
+    x_axis : str
+        ``"time"`` or ``"distance"``.
+    graphics : SchedulePlots
+    """
+
+    def __init__(self, doc: Any, parent: QWidget | None = None) -> None:
+        super().__init__(parent)
+        self.doc = doc
+        self.x_axis = "time"
+
+        lay = QVBoxLayout(self)
+        lay.setContentsMargins(4, 4, 4, 4)
+        bar = QHBoxLayout()
+        bar.addWidget(QLabel("Plot against:"))
+        self.by_time = QRadioButton("time (s)")
+        self.by_distance = QRadioButton("distance (m)")
+        self.by_time.setChecked(True)
+        group = QButtonGroup(self)
+        group.addButton(self.by_time)
+        group.addButton(self.by_distance)
+        self.by_time.toggled.connect(self._axis_toggled)
+        bar.addWidget(self.by_time)
+        bar.addWidget(self.by_distance)
+        # The plots' own fit control (pyqtgraph's "A" buttons are hidden: that letter is the
+        # add-waypoints key on the plan).
+        self.fit_button = QPushButton("Fit")
+        self.fit_button.setToolTip("Show the whole route in both plots again")
+        self.fit_button.clicked.connect(self.fit)
+        self.fit_button.setSizePolicy(QSizePolicy.Policy.Maximum, QSizePolicy.Policy.Fixed)
+        bar.addWidget(self.fit_button)
+        bar.addStretch(1)
+        self.status = QLabel()
+        self.status.setStyleSheet(f"color: {FAINT_INK};")
+        bar.addWidget(self.status)
+        lay.addLayout(bar)
+        # Shown while the chassis form holds a refused value: the plots are greyed under it.
+        self.stale_label = QLabel()
+        self.stale_label.setWordWrap(True)
+        self.stale_label.setStyleSheet(MESSAGE_STYLE)
+        self.stale_label.hide()
+        lay.addWidget(self.stale_label)
+
+        self.graphics = SchedulePlots()
+        lay.addWidget(self.graphics, 1)
+
+        self._timer = QTimer(self)
+        self._timer.setSingleShot(True)
+        self._timer.setInterval(0)  # coalesce bursts of signals into one redraw
+        self._timer.timeout.connect(self.refresh)
+        for sig in ("resultsChanged", "projectReplaced"):
+            getattr(doc, sig).connect(self._timer.start)
+        doc.currentRouteChanged.connect(lambda _i: self._timer.start())
+        doc.staleChanged.connect(self.set_stale)
+        self.refresh()
+        self.set_stale(doc.stale_reason)
+
+    # The plots' parts, as the panel's (older callers and tests read them here).
+    speed_plot = property(lambda self: self.graphics.speed_plot)
+    rate_plot = property(lambda self: self.graphics.rate_plot)
+    hitch_plot = property(lambda self: self.graphics.hitch_plot)
+    limit_lines = property(lambda self: self.graphics.limit_lines)
+    cap_labels = property(lambda self: self.graphics.cap_labels)
+    cap_items = property(lambda self: self.graphics.cap_items)
+    side_by_side = property(lambda self: self.graphics.side_by_side)
+
+    STALE_OPACITY = 0.3
+
+    @property
+    def stale(self) -> bool:
+        """True while the curves are of an older chassis than the form shows."""
+        return self.graphics.ci.opacity() < 1.0
+
+    def set_stale(self, reason: str) -> None:
+        """Grey the plots and say why (the chassis form holds a refused value), or undo it."""
+        self.stale_label.setText(reason)
+        self.stale_label.setVisible(bool(reason))
+        self.graphics.ci.setOpacity(self.STALE_OPACITY if reason else 1.0)
+
+    def fit(self) -> None:
+        """Back to the ranges the last refresh chose (the whole route, room for the labels)."""
+        self.graphics.fit()
+
+    def place_cap_labels(self, *_args) -> None:
+        self.graphics.place_cap_labels()
+
+    def resizeEvent(self, ev) -> None:  # noqa: N802 - Qt's name
+        super().resizeEvent(ev)
+        # A wide, short dock (under the plan) shows the plots side by side, else stacked.
+        self.set_side_by_side(self.width() > 2.6 * max(self.height(), 1))
+
+    def set_side_by_side(self, side: bool) -> None:
+        self.graphics.set_side_by_side(side)
+
+    def _axis_toggled(self, _checked: bool) -> None:
+        self.set_x_axis("time" if self.by_time.isChecked() else "distance")
+
+    def set_x_axis(self, which: str) -> None:
+        """Plot against ``"time"`` or ``"distance"``."""
+        if which not in ("time", "distance"):
+            raise ValueError("x axis is 'time' or 'distance'")
+        self.x_axis = which
+        (self.by_time if which == "time" else self.by_distance).setChecked(True)
+        self.refresh()
+
+    def refresh(self) -> None:
+        r = self.doc.route()
+        s = self.doc.schedule(r.name) if r is not None else None
+        if s is None:
+            self.graphics.clear_plots()
+            self.graphics.set_x_axis_label(self.x_axis)
+            self.graphics.hitch_plot.hide()
+            err = self.doc.error(r.name) if r is not None else None
+            self.status.setText("No route." if r is None else
+                                f"{r.name}: no schedule" + (f" \u2014 {err}" if err else ""))
+            return
+        series = self.graphics.show_schedule(s, self.x_axis,
+                                             hitch_limits_of(self.doc.vehicle(r.name)))
+        xs = series["t_s"] if self.x_axis == "time" else series["station_m"]
+        self.status.setText(f"{s.route}: {s.profile.total_time_s:.1f} s, "
+                            f"{float(series['station_m'][-1]) if xs.size else 0.0:.2f} m")
+
+
+# -- the same plots in a picture ------------------------------------------------------------
+def draw_plots(p: QPainter, rect: QRectF, schedule: Any, x_axis: str = "time",
+               title: str | None = None, scale: float | None = None,
+               hitch_limits: dict[str, float] | None = None) -> SchedulePlots | None:
+    """Paint the window's plots of ``schedule`` into ``rect`` of painter ``p``.
+
+    A :class:`SchedulePlots` is laid out offscreen at ``rect`` divided by ``scale`` (the
+    layout unit: 1 at 1200 x 700 pixels) and its scene rendered into ``rect``, scaled, so the
+    picture keeps the window's text sizes in proportion. Returns the plots drawn (their
+    :meth:`SchedulePlots.contents` say what they show), or ``None`` when nothing moves.
+    """
+    u = scale if scale is not None else max(0.45, min(rect.width() / 1200.0,
+                                                     rect.height() / 700.0))
+    p.save()
+    try:
+        p.setRenderHint(QPainter.RenderHint.Antialiasing, True)
+        p.setRenderHint(QPainter.RenderHint.TextAntialiasing, True)
+        p.fillRect(rect, QColor("#FFFFFF"))
+        top = rect.top()
+        if title:
+            from .render import font
+
+            p.setPen(QColor(INK))
+            p.setFont(font(15 * u, bold=True))
+            p.drawText(QRectF(rect.left() + 10 * u, top + 4 * u, rect.width(), 24 * u),
+                       Qt.AlignmentFlag.AlignVCenter, title)
+            top += 30 * u
+        from kinematics.timing.schedule import schedule_series
+
+        if schedule_series(schedule)["t_s"].size < 2:
+            from .render import font
+
+            p.setPen(QColor(FAINT_INK))
+            p.setFont(font(14 * u))
+            p.drawText(rect, Qt.AlignmentFlag.AlignCenter, "nothing moves on this route")
+            return None
+        target = QRectF(rect.left(), top, rect.width(), rect.bottom() - top)
+        w, h = max(200, int(target.width() / u)), max(150, int(target.height() / u))
+        plots = SchedulePlots()
+        plots.setAttribute(Qt.WidgetAttribute.WA_DontShowOnScreen, True)
+        plots.resize(w, h)
+        plots.show_schedule(schedule, x_axis, hitch_limits)
+        # Lay the plots out at that size without showing them (no event loop needed).
+        source = QRectF(0, 0, w, h)
+        plots.ci.setGeometry(source)
+        plots.scene().setSceneRect(source)
+        plots.ci.layout.activate()
+        plots.place_cap_labels()
+        # Through an image at the screen's resolution: pyqtgraph lays out its text for the
+        # screen, and a page's painter (the report at 150 dpi) would draw that text larger
+        # than the room it was given.
+        img = QImage(max(1, round(target.width())), max(1, round(target.height())),
+                     QImage.Format.Format_ARGB32)
+        img.fill(QColor("#FFFFFF"))
+        q = QPainter(img)
+        try:
+            q.setRenderHint(QPainter.RenderHint.Antialiasing, True)
+            q.setRenderHint(QPainter.RenderHint.TextAntialiasing, True)
+            plots.scene().render(q, QRectF(0, 0, img.width(), img.height()), source)
+        finally:
+            q.end()
+        p.drawImage(target, img)
+        plots.image = img
+        return plots
+    finally:
+        p.restore()
+
+
+def render_plot_image(schedule: Any, size: tuple[int, int] = (1200, 700),
+                      x_axis: str = "time", title: str | None = None) -> QImage:
+    """The speed and wheel-rate plots of ``schedule`` on a new image."""
+    from .render import ensure_app, new_image
+
+    ensure_app()
+    img = new_image(size)
+    p = QPainter(img)
+    try:
+        draw_plots(p, QRectF(0, 0, size[0], size[1]), schedule, x_axis,
+                   title if title is not None else f"{schedule.route}: speed and wheel rates",
+                   hitch_limits=hitch_limits_of(getattr(schedule, "chassis", None)))
+    finally:
+        p.end()
+    return img
+
+
+def render_plot_png(schedule: Any, path: str | Path, size: tuple[int, int] = (1200, 700),
+                    x_axis: str = "time", title: str | None = None) -> None:
+    """Write the speed and wheel-rate plots of ``schedule`` as a PNG (or JPEG, by suffix)
+    file, atomically.
+
+    Parameters
+    ----------
+    schedule : kinematics.timing.schedule.Schedule
+    path : str or Path
+    size : (int, int)
+        Pixels.
+    x_axis : {"time", "distance"}
+    title : str, optional
+        Default: the route name.
+    """
+    from kinematics.files.jsonio import atomic_write_bytes
+
+    from .render import image_format_for, image_png_bytes
+
+    fmt = image_format_for(path)
+    if fmt is None:
+        raise ValueError(f"cannot write a {Path(path).suffix} picture; expected .png or .jpg")
+    atomic_write_bytes(path, image_png_bytes(render_plot_image(schedule, size, x_axis, title),
+                                             fmt))

@@ -6,10 +6,12 @@ so a style means the same pen and brush in each.
 
 from __future__ import annotations
 
-from PySide6.QtCore import QPointF, QRectF, Qt
-from PySide6.QtGui import QBrush, QColor, QPainterPath, QPen, QPolygonF
+import math
 
-from .scene import Fill, Stroke, marker_polygon
+from PySide6.QtCore import QPointF, QRectF, Qt
+from PySide6.QtGui import QBrush, QColor, QPainter, QPainterPath, QPen, QPolygonF
+
+from .scene import Fill, Stroke, Style, marker_polygon
 
 #: A message that asks for attention (a refused value, results out of date), in widgets.
 MESSAGE_STYLE = ("QLabel { color: #5A1E00; background: #FFF1E0; border: 1px solid #D55E00; "
@@ -17,6 +19,9 @@ MESSAGE_STYLE = ("QLabel { color: #5A1E00; background: #FFF1E0; border: 1px soli
 
 DASHES = {"solid": Qt.PenStyle.SolidLine, "dash": Qt.PenStyle.DashLine,
           "dot": Qt.PenStyle.DotLine, "dashdot": Qt.PenStyle.DashDotLine}
+PATTERNS = {"bdiag": Qt.BrushStyle.BDiagPattern, "fdiag": Qt.BrushStyle.FDiagPattern,
+            "cross": Qt.BrushStyle.DiagCrossPattern, "hor": Qt.BrushStyle.HorPattern,
+            "ver": Qt.BrushStyle.VerPattern}
 
 
 def qcolor(spec: str, alpha: int = 255) -> QColor:
@@ -49,17 +54,49 @@ def hatch_brush(fill: Fill | None) -> QBrush | None:
     """The diagonal hatch drawn over ``fill``, or ``None`` where it has none."""
     if fill is None or not fill.hatch:
         return None
-    return QBrush(QColor(fill.hatch_colour), Qt.BrushStyle.BDiagPattern)
+    return QBrush(qcolor(fill.hatch_colour, fill.hatch_alpha),
+                  PATTERNS.get(fill.pattern, Qt.BrushStyle.BDiagPattern))
 
 
-def marker_path(shape: str, centre: QPointF, r: float) -> QPainterPath:
-    """A closed marker outline of radius ``r`` pixels around ``centre`` (screen axes)."""
+def marker_path(shape: str, centre: QPointF, r: float, angle_rad: float = 0.0
+                ) -> QPainterPath:
+    """A closed marker outline of radius ``r`` pixels around ``centre`` (screen axes), turned
+    ``angle_rad`` counter-clockwise as seen on the plan (screen y runs down)."""
     path = QPainterPath()
     poly = marker_polygon(shape)
     x, y = centre.x(), centre.y()
     if poly is None:
         path.addEllipse(QRectF(x - r, y - r, 2 * r, 2 * r))
     else:
-        path.addPolygon(QPolygonF([QPointF(x + r * a, y + r * b) for a, b in poly.tolist()]))
+        if angle_rad:
+            c, s = math.cos(angle_rad), math.sin(angle_rad)
+            poly = [(a * c + b * s, -a * s + b * c) for a, b in poly.tolist()]
+        else:
+            poly = poly.tolist()
+        path.addPolygon(QPolygonF([QPointF(x + r * a, y + r * b) for a, b in poly]))
         path.closeSubpath()
     return path
+
+
+def paint_area(p: QPainter, style: Style, path: QPainterPath, scale: float = 1.0) -> None:
+    """An area in ``style``: its fill, the hatch over it, then its outline (pen width times
+    ``scale``); used for the plan's areas and their legend samples alike."""
+    p.setPen(Qt.PenStyle.NoPen)
+    if style.fill is not None:
+        p.setBrush(qbrush(style.fill))
+        p.drawPath(path)
+        hatch = hatch_brush(style.fill)
+        if hatch is not None:
+            p.setBrush(hatch)
+            p.drawPath(path)
+    if style.stroke is not None:
+        p.setPen(qpen(style.stroke, scale))
+        p.setBrush(Qt.BrushStyle.NoBrush)
+        p.drawPath(path)
+
+
+def paint_area_sample(p: QPainter, style: Style, rect: QRectF, scale: float = 1.0) -> None:
+    """A legend sample of an area style (wall, obstacle, zone kind) filling ``rect``."""
+    path = QPainterPath()
+    path.addRect(rect)
+    paint_area(p, style, path, scale)

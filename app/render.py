@@ -55,6 +55,7 @@ from kinematics.analysis.results import (  # noqa: F401 - re-exported for older 
     violation_label,
     violations_of,
 )
+from kinematics.files.project import drive_word
 
 from .palette import (  # noqa: F401 - re-exported for the report and tests
     BLACK,
@@ -68,7 +69,7 @@ from .palette import (  # noqa: F401 - re-exported for the report and tests
     WALL_FILL,
     YELLOW,
 )
-from .qstyle import hatch_brush, marker_path, qbrush, qpen
+from .qstyle import marker_path, paint_area, paint_area_sample, qbrush, qpen
 from .scene import (  # noqa: F401 - the geometry helpers are re-exported for older callers
     FAINT_INK,
     INK,
@@ -79,6 +80,7 @@ from .scene import (  # noqa: F401 - the geometry helpers are re-exported for ol
     VIOLATION_R_PX,
     VIOLATION_SHAPES,
     WAYPOINT_R_PX,
+    ZONE_ARROW_STEP_PX,
     floorplan_layer,
     legend_rows,
     outline_poses,
@@ -87,8 +89,9 @@ from .scene import (  # noqa: F401 - the geometry helpers are re-exported for ol
     sample_path,
     swept_geometry,
     violation_layer,
+    zone_layer,
+    zone_legend_rows,
 )
-from .zone_paint import ZONE_STYLE, ZONE_WORDS, draw_zone_sample, draw_zones, zone_caption
 
 #: The swept band, as the scene styles it.
 BAND_RGBA = (*(int(STYLES["band"].fill.colour[i:i + 2], 16) for i in (1, 3, 5)),
@@ -155,19 +158,10 @@ def draw_marker(p: QPainter, kind: str, centre: QPointF, r: float) -> None:
 
 
 def _paint_polygons(p: QPainter, view: _View, role: str, geoms: list, u: float) -> None:
-    st = STYLES[role]
-    hatch = hatch_brush(st.fill)
-    p.setPen(qpen(st.stroke, 1.0 if role in ("wall", "obstacle") else u))
-    p.setBrush(qbrush(st.fill))
+    # The plan's outlines keep their pixel width at any size, as on the canvas.
+    scale = 1.0 if role in ("wall", "obstacle") or role.startswith("zone_") else u
     for g in geoms:
-        path = view.geometry_path(g)
-        p.drawPath(path)
-        if hatch is not None:
-            p.setPen(Qt.PenStyle.NoPen)
-            p.setBrush(hatch)
-            p.drawPath(path)
-            p.setPen(qpen(st.stroke))
-            p.setBrush(qbrush(st.fill))
+        paint_area(p, STYLES[role], view.geometry_path(g), scale)
 
 
 def _paint_line(p: QPainter, view: _View, line: Any, u: float) -> None:
@@ -182,7 +176,7 @@ def _paint_marker(p: QPainter, view: _View, m: Any, u: float) -> QRectF:
     r = m.r_px * u
     p.setPen(qpen(m.stroke or st.stroke, u))
     p.setBrush(qbrush(st.fill))
-    p.drawPath(marker_path(m.shape, c, r))
+    p.drawPath(marker_path(m.shape, c, r, m.angle_rad))
     box = QRectF(c.x() - r, c.y() - r, 2 * r, 2 * r)
     if m.text:
         p.setPen(QColor(st.ink))
@@ -437,7 +431,11 @@ def _draw(p: QPainter, project: Any, plans: dict, checks: dict, route_name: str 
     _draw_grid(p, view, plan_rect, u)
     # Zones, then the swept bands under the walls as in the window, so paths, outlines and
     # markers sit on top of them.
-    draw_zones(p, project.floorplan.zones, view.pt, view.scale, u)
+    zones = zone_layer(project.floorplan.zones, ZONE_ARROW_STEP_PX * u / view.scale)
+    for poly in zones.polygons:
+        _paint_polygons(p, view, poly.role, poly.geoms, u)
+    for mk in zones.markers:
+        _paint_marker(p, view, mk, u)
     p.setPen(Qt.PenStyle.NoPen)
     p.setBrush(qbrush(STYLES["band"].fill))
     for g in bands.values():
@@ -447,7 +445,7 @@ def _draw(p: QPainter, project: Any, plans: dict, checks: dict, route_name: str 
     for poly in plan_layer.polygons:
         _paint_polygons(p, view, poly.role, poly.geoms, u)
     _obstacle_labels(p, view, plan_layer, u, labels)
-    _zone_captions(p, view, project.floorplan.zones, u, labels)
+    _zone_captions(p, view, zones, u, labels)
     # Doors with the plan, under the routes (as in the window, where the route being edited
     # lies over them).
     for line in plan_layer.lines:
@@ -700,7 +698,7 @@ def _draw_title(p: QPainter, project: Any, plans: dict, checks: dict, route_name
                Qt.AlignmentFlag.AlignLeft | Qt.AlignmentFlag.AlignVCenter,
                fmt.elidedText(title, Qt.TextElideMode.ElideRight, left.width()))
     sub = (f"plan: {project.floorplan.name or 'unnamed'}   \u00b7   chassis: {chassis.name} "
-           f"({chassis.drive}), margin {chassis.margin_m * 1000:.0f} mm")
+           f"({drive_word(chassis.drive)}), margin {chassis.margin_m * 1000:.0f} mm")
     errs = [f"{k}: {v}" for k, v in errors.items()]
     if errs:
         sub += "   \u00b7   " + "; ".join(errs)
@@ -712,46 +710,33 @@ def _draw_title(p: QPainter, project: Any, plans: dict, checks: dict, route_name
                fms.elidedText(sub, Qt.TextElideMode.ElideRight, left.width()))
 
 
-def _zone_captions(p: QPainter, view: _View, zones: Sequence[Any], u: float,
-                   labels: _Labels) -> None:
-    """Each zone's label and number inside it, where it fits and nothing is there yet."""
-    from shapely.geometry import Polygon
-
+def _zone_captions(p: QPainter, view: _View, layer: Any, u: float, labels: _Labels) -> None:
+    """Each zone's name and number inside it, where it fits and nothing is there yet."""
     f = font(10.5 * u)
     fm = QFontMetricsF(f)
     p.setFont(f)
-    for z in zones:
-        poly = Polygon(z.points)
-        if not poly.is_valid or poly.area <= 0:
-            continue
-        text = zone_caption(z)
-        c = poly.representative_point()
+    st = STYLES["zone_label"]
+    for lb in layer.labels:
         # Near the zone's top edge, where a route through its middle leaves it readable.
-        top = view.pt(c.x, poly.bounds[3])
-        r = QRectF(0, 0, fm.horizontalAdvance(text) + 6, fm.height())
+        top = view.pt(lb.x, lb.y)
+        r = QRectF(0, 0, fm.horizontalAdvance(lb.text) + 6, fm.height())
         r.moveCenter(QPointF(top.x(), top.y() + 4 * u + fm.height() / 2))
-        if not view.pt(c.x, poly.bounds[1]).y() - top.y() > 2 * fm.height():
-            r.moveCenter(view.pt(c.x, c.y))
+        if not (lb.inside_m or 0.0) * view.scale > 2 * fm.height() and lb.centre:
+            r.moveCenter(view.pt(*lb.centre))
         if not labels.bounds.contains(r):
             continue
         labels.block(r)
         p.setPen(Qt.PenStyle.NoPen)
-        p.setBrush(QBrush(qcolor("#FFFFFF", 215)))
+        p.setBrush(qbrush(st.fill))
         p.drawRect(r)
-        p.setPen(QColor(ZONE_STYLE[z.kind][0]).darker(140))
-        p.drawText(r, Qt.AlignmentFlag.AlignCenter, text)
-
-
-def zone_legend_rows(zones: Sequence[Any]) -> list[tuple[str, str, Any]]:
-    """``("zone", words, kind)`` for each zone kind present, in legend order."""
-    return [("zone", ZONE_WORDS[kind], kind) for kind in ZONE_STYLE
-            if any(z.kind == kind for z in zones)]
+        p.setPen(QColor(lb.ink or st.ink))
+        p.drawText(r, Qt.AlignmentFlag.AlignCenter, lb.text)
 
 
 def draw_legend(p: QPainter, rect: QRectF, names: Sequence[str], index_of: dict, checks: dict,
                 u: float, f: QFont, f_small: QFont, zones: Sequence[Any] = ()) -> None:
     """The legend box in ``rect``: the picture's, and the window's legend dock."""
-    rows = legend_rows(names, checks, index_of, zone_legend_rows(zones))
+    rows = legend_rows(names, checks, index_of, zones=zones)
     row_h = 25 * u
     head_h = 28 * u
     needed = head_h + row_h * len(rows) + 10 * u
@@ -773,16 +758,9 @@ def draw_legend(p: QPainter, rect: QRectF, names: Sequence[str], index_of: dict,
         x0 = box.left() + 10 * u
         sample = QRectF(x0, cy - 7 * u, sw, 14 * u)
         if kind in ("wall", "obstacle"):
-            st = STYLES[kind]
-            p.setPen(qpen(st.stroke))
-            p.setBrush(qbrush(st.fill))
-            p.drawRect(sample)
-            hatch = hatch_brush(st.fill)
-            if hatch is not None:
-                p.setBrush(hatch)
-                p.drawRect(sample)
+            paint_area_sample(p, STYLES[kind], sample)
         elif kind == "zone":
-            draw_zone_sample(p, arg, sample)
+            paint_area_sample(p, STYLES["zone_" + arg], sample)
         elif kind == "door":
             p.setPen(qpen(STYLES["door"].stroke, u))
             p.drawLine(QPointF(x0, cy), QPointF(x0 + sw, cy))
@@ -887,257 +865,17 @@ def render_project_png(project: Any, path: str | Path, route_name: str | None = 
     atomic_write_bytes(path, image_png_bytes(img, fmt))
 
 
-# -- plots without widgets ------------------------------------------------------------------
-#: Line styles per wheel, so wheels differ by dash as well as by colour.
-WHEEL_STYLES = (Qt.PenStyle.SolidLine, Qt.PenStyle.DashLine, Qt.PenStyle.DotLine,
-                Qt.PenStyle.DashDotLine)
-WHEEL_COLOURS = (BLUE, ORANGE, PURPLE, GREEN)
-#: Words for the limit that binds, by the profile's key.
-LIMIT_WORDS = {"max_speed_mps": "max speed", "slow_zone": "slow zone",
-               "max_wheel_rate_radps": "max wheel rate",
-               "max_lateral_accel_mps2": "lateral-accel cap", "max_yaw_rate_dps": "yaw-rate cap",
-               "max_wheel_accel_radps2": "wheel-accel cap", "max_yaw_accel_dps2": "yaw-accel cap",
-               "max_steer_rate_dps": "steer-rate cap"}
+# -- plots -----------------------------------------------------------------------------------
+_PLOT_NAMES = ("draw_plots", "render_plot_image", "render_plot_png", "WHEEL_COLOURS",
+               "WHEEL_STYLES", "LIMIT_WORDS")
 
 
-def _ticks(lo: float, hi: float, n: int = 6) -> list[float]:
-    step = nice_length((hi - lo) / n * 1.6) if hi > lo else 1.0
-    t = math.ceil(lo / step) * step
-    out = []
-    while t <= hi + 1e-9 * step:
-        out.append(0.0 if abs(t) < 1e-12 else t)
-        t += step
-    return out
+def __getattr__(name: str) -> Any:
+    """The plots live in :mod:`app.plots` (one plotting path for window and picture); their
+    old names here still work, imported only when asked for (pyqtgraph is not needed to draw
+    the plan)."""
+    if name in _PLOT_NAMES:
+        from . import plots
 
-
-def _draw_axes_box(p: QPainter, rect: QRectF, xr: tuple[float, float], yr: tuple[float, float],
-                   xlabel: str, ylabel: str, u: float, yticks: int = 5):
-    f = font(11 * u)
-    p.setFont(f)
-    fm = QFontMetricsF(f)
-    p.setPen(pen("#B0B0B0", 1.0))
-    p.setBrush(QBrush(QColor("#FFFFFF")))
-    p.drawRect(rect)
-
-    def X(x: float) -> float:
-        return rect.left() + (x - xr[0]) / (xr[1] - xr[0]) * rect.width()
-
-    def Y(y: float) -> float:
-        return rect.bottom() - (y - yr[0]) / (yr[1] - yr[0]) * rect.height()
-
-    for t in _ticks(*xr):
-        x = X(t)
-        p.setPen(pen("#ECECEC", 1.0))
-        p.drawLine(QPointF(x, rect.top()), QPointF(x, rect.bottom()))
-        p.setPen(QColor(INK))
-        s = f"{t:g}"
-        p.drawText(QPointF(x - fm.horizontalAdvance(s) / 2, rect.bottom() + fm.height()), s)
-    for t in _ticks(*yr, n=yticks):
-        y = Y(t)
-        p.setPen(pen("#ECECEC", 1.0))
-        p.drawLine(QPointF(rect.left(), y), QPointF(rect.right(), y))
-        p.setPen(QColor(INK))
-        s = f"{t:g}"
-        p.drawText(QPointF(rect.left() - fm.horizontalAdvance(s) - 5 * u, y + fm.ascent() / 2.5), s)
-    p.setPen(QColor(INK))
-    p.drawText(QRectF(rect.left(), rect.bottom() + fm.height() + 2 * u, rect.width(),
-                      fm.height() + 2), Qt.AlignmentFlag.AlignCenter, xlabel)
-    p.save()
-    p.translate(rect.left() - 48 * u, rect.center().y())
-    p.rotate(-90)
-    p.drawText(QRectF(-rect.height() / 2 - 20 * u, -fm.height(), rect.height() + 40 * u,
-                      fm.height() + 2), Qt.AlignmentFlag.AlignCenter,
-               fm.elidedText(ylabel, Qt.TextElideMode.ElideRight, rect.height() + 40 * u))
-    p.restore()
-    return X, Y
-
-
-def _limit_line(p: QPainter, rect: QRectF, y: float, text: str, u: float,
-                right: bool = True) -> None:
-    p.setPen(pen(VERMILLION, 1.6 * u, Qt.PenStyle.DashLine))
-    p.drawLine(QPointF(rect.left(), y), QPointF(rect.right(), y))
-    f = font(10.5 * u)
-    fm = QFontMetricsF(f)
-    w = fm.horizontalAdvance(text) + 8
-    r = QRectF(rect.right() - w - 4 if right else rect.left() + 4, y - fm.height() - 1, w,
-               fm.height())
-    p.setPen(Qt.PenStyle.NoPen)
-    p.setBrush(QBrush(qcolor("#FFFFFF", 220)))
-    p.drawRect(r)
-    p.setPen(QColor("#7A2E00"))
-    p.setFont(f)
-    p.drawText(r, Qt.AlignmentFlag.AlignCenter, text)
-
-
-def draw_plots(p: QPainter, rect: QRectF, schedule: Any, x_axis: str = "time",
-               title: str | None = None, scale: float | None = None) -> None:
-    """Speed and every wheel's rate against time or distance, with the limits dashed.
-
-    Data from :func:`kinematics.timing.schedule.schedule_series`. The speed panel also shows each
-    segment's speed cap (dotted) named by the limit that sets it, so the binding limit is
-    read off at a glance.
-    """
-    from kinematics.timing.schedule import schedule_series
-
-    u = scale if scale is not None else max(0.45, min(rect.width() / 1200.0,
-                                                     rect.height() / 700.0))
-    p.setRenderHint(QPainter.RenderHint.Antialiasing, True)
-    p.fillRect(rect, QColor("#FFFFFF"))
-    s = schedule_series(schedule)
-    xs = s["t_s"] if x_axis == "time" else s["station_m"]
-    xlabel = "time (s)" if x_axis == "time" else "distance along the route (m)"
-    top = rect.top()
-    if title:
-        p.setPen(QColor(INK))
-        p.setFont(font(15 * u, bold=True))
-        p.drawText(QRectF(rect.left() + 10 * u, top + 4 * u, rect.width(), 24 * u),
-                   Qt.AlignmentFlag.AlignVCenter, title)
-        top += 30 * u
-    left_pad, right_pad = 70 * u, 150 * u
-    gap = 44 * u
-    ph = (rect.bottom() - top - 2 * gap) / 2
-    r1 = QRectF(rect.left() + left_pad, top + 10 * u, rect.width() - left_pad - right_pad, ph)
-    r2 = QRectF(r1.left(), r1.bottom() + gap, r1.width(), ph)
-    if xs.size < 2:
-        p.setPen(QColor(FAINT_INK))
-        p.setFont(font(14 * u))
-        p.drawText(rect, Qt.AlignmentFlag.AlignCenter, "nothing moves on this route")
-        return
-    xr = (float(xs.min()), float(max(xs.max(), xs.min() + 1e-6)))
-    lim = s["limits"]
-    v = s["v_mps"]
-    vmax = lim["max_speed_mps"]
-    cap = lim["speed_cap_mps"]
-    # Headroom above the largest value keeps the limit labels inside the panel.
-    top_v = max(float(np.nanmax(v)) if v.size else 0.0, vmax or 0.0) * 1.35 or 1.0
-    yt = max(2, min(5, int(ph / (28 * u))))
-    X, Y = _draw_axes_box(p, r1, xr, (0.0, top_v), xlabel, "speed (m/s)", u, yt)
-    p.save()
-    p.setClipRect(r1)
-    # Per-segment speed cap (dotted), broken between segments.
-    seg = s["segment"]
-    p.setPen(pen(FAINT_INK, 1.3 * u, Qt.PenStyle.DotLine))
-    prof = schedule.profile
-    caps_drawn: list[tuple[float, float, float, str]] = []
-    last_seg = -2
-    for i in np.unique(seg):
-        m = seg == i
-        c = cap[m]
-        if not np.all(np.isfinite(c)):
-            continue
-        x0, x1 = float(xs[m].min()), float(xs[m].max())
-        cy = float(c[0])
-        if vmax is not None and cy >= vmax * 0.999:
-            continue  # the max-speed line already says it
-        p.drawLine(QPointF(X(x0), Y(min(cy, top_v))), QPointF(X(x1), Y(min(cy, top_v))))
-        word = LIMIT_WORDS.get(prof.cap_binding[int(i)], prof.cap_binding[int(i)])
-        last = caps_drawn[-1] if caps_drawn else None
-        if last is not None and last[3] == word and abs(last[2] - cy) <= 1e-6 * max(1.0, cy) \
-                and last_seg == int(i) - 1:
-            caps_drawn[-1] = (last[0], x1, cy, word)  # one label for a run with one cap
-        else:
-            caps_drawn.append((x0, x1, cy, word))
-        last_seg = int(i)
-    p.setPen(pen(BLUE, 2.2 * u))
-    p.drawPolyline(QPolygonF([QPointF(X(a), Y(b)) for a, b in zip(xs, v)]))
-    if vmax is not None:
-        _limit_line(p, r1, Y(vmax), f"max speed {vmax:.2f} m/s", u)
-    f = font(10 * u)
-    fm = QFontMetricsF(f)
-    p.setFont(f)
-    last_right = -1e9
-    for x0, x1, cy, word in caps_drawn:
-        text = word
-        w = fm.horizontalAdvance(text)
-        xm = (X(x0) + X(x1)) / 2 - w / 2
-        if xm < last_right + 4 or X(x1) - X(x0) < 10:
-            continue
-        p.setPen(QColor(FAINT_INK))
-        p.drawText(QPointF(xm, Y(min(cy, top_v)) - 4 * u), text)
-        last_right = xm + w
-    p.restore()
-
-    rates = s["rate_radps"]
-    allr = np.concatenate([np.abs(a) for a in rates.values()]) if rates else np.zeros(1)
-    wmax = lim["max_wheel_rate_radps"]
-    hi = max(float(np.nanmax(allr)) if allr.size else 0.0, wmax or 0.0) * 1.35 or 1.0
-    lo = -hi if any(np.nanmin(a) < -1e-9 for a in rates.values()) else 0.0
-    X2, Y2 = _draw_axes_box(p, r2, xr, (lo, hi), xlabel, "wheel rate (rad/s)", u, yt)
-    p.save()
-    p.setClipRect(r2)
-    for k, a in enumerate(rates.values()):
-        p.setPen(pen(WHEEL_COLOURS[k % 4], 2.0 * u, WHEEL_STYLES[k % 4]))
-        p.drawPolyline(QPolygonF([QPointF(X2(x), Y2(y)) for x, y in zip(xs, a)]))
-    if wmax is not None:
-        _limit_line(p, r2, Y2(wmax), f"max wheel rate {wmax:.1f} rad/s", u)
-        if lo < 0:
-            _limit_line(p, r2, Y2(-wmax), f"max wheel rate -{wmax:.1f} rad/s", u)
-    p.restore()
-    # Wheel legend to the right of the lower panel.
-    y = r2.top() + 4 * u
-    f = font(11 * u)
-    p.setFont(f)
-    for k, name in enumerate(rates):
-        xl = r2.right() + 14 * u
-        p.setPen(pen(WHEEL_COLOURS[k % 4], 2.0 * u, WHEEL_STYLES[k % 4]))
-        p.drawLine(QPointF(xl, y + 8 * u), QPointF(xl + 30 * u, y + 8 * u))
-        p.setPen(QColor(INK))
-        p.drawText(QRectF(xl + 36 * u, y, right_pad - 50 * u, 16 * u),
-                   Qt.AlignmentFlag.AlignVCenter, name.replace("_", " "))
-        y += 20 * u
-    xl = r1.right() + 14 * u
-    yy = r1.top() + 4 * u
-    p.setPen(pen(BLUE, 2.2 * u))
-    p.drawLine(QPointF(xl, yy + 8 * u), QPointF(xl + 30 * u, yy + 8 * u))
-    p.setPen(QColor(INK))
-    p.drawText(QRectF(xl + 36 * u, yy, right_pad - 50 * u, 16 * u),
-               Qt.AlignmentFlag.AlignVCenter, "speed")
-    yy += 20 * u
-    p.setPen(pen(FAINT_INK, 1.3 * u, Qt.PenStyle.DotLine))
-    p.drawLine(QPointF(xl, yy + 8 * u), QPointF(xl + 30 * u, yy + 8 * u))
-    p.setPen(QColor(INK))
-    p.drawText(QRectF(xl + 36 * u, yy, right_pad - 50 * u, 16 * u),
-               Qt.AlignmentFlag.AlignVCenter, "segment cap")
-    yy += 20 * u
-    p.setPen(pen(VERMILLION, 1.6 * u, Qt.PenStyle.DashLine))
-    p.drawLine(QPointF(xl, yy + 8 * u), QPointF(xl + 30 * u, yy + 8 * u))
-    p.setPen(QColor(INK))
-    p.drawText(QRectF(xl + 36 * u, yy, right_pad - 50 * u, 16 * u),
-               Qt.AlignmentFlag.AlignVCenter, "limit")
-
-
-def render_plot_image(schedule: Any, size: tuple[int, int] = (1200, 700),
-                      x_axis: str = "time", title: str | None = None) -> QImage:
-    """The speed and wheel-rate plots of ``schedule`` on a new image."""
-    ensure_app()
-    img = new_image(size)
-    p = QPainter(img)
-    try:
-        draw_plots(p, QRectF(0, 0, size[0], size[1]), schedule, x_axis,
-                   title if title is not None else f"{schedule.route}: speed and wheel rates")
-    finally:
-        p.end()
-    return img
-
-
-def render_plot_png(schedule: Any, path: str | Path, size: tuple[int, int] = (1200, 700),
-                    x_axis: str = "time", title: str | None = None) -> None:
-    """Write the speed and wheel-rate plots of ``schedule`` as a PNG file, atomically.
-
-    Parameters
-    ----------
-    schedule : kinematics.timing.schedule.Schedule
-    path : str or Path
-    size : (int, int)
-        Pixels.
-    x_axis : {"time", "distance"}
-    title : str, optional
-        Default: the route name.
-    """
-    from kinematics.files.jsonio import atomic_write_bytes
-
-    fmt = image_format_for(path)
-    if fmt is None:
-        raise ValueError(f"cannot write a {Path(path).suffix} picture; expected .png or .jpg")
-    atomic_write_bytes(path, image_png_bytes(render_plot_image(schedule, size, x_axis, title),
-                                             fmt))
+        return getattr(plots, name)
+    raise AttributeError(f"module {__name__!r} has no attribute {name!r}")

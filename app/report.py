@@ -27,7 +27,7 @@ from PySide6.QtGui import (
     QPdfWriter,
 )
 
-from kinematics.analysis.report_text import CAUTION
+from kinematics.analysis.report_text import CAUTION, route_stops, stop_lines
 from kinematics.analysis.results import (  # noqa: F401 - chassis_lines re-exported
     VIOLATION_WORDS,
     chassis_lines,
@@ -47,7 +47,6 @@ from .render import (
     INK,
     VERMILLION,
     draw_marker,
-    draw_plots,
     ensure_app,
     font,
     image_png_bytes,
@@ -228,6 +227,18 @@ def draw_report(p: QPainter, size: tuple[float, float], project: Any, plans: dic
     else:
         ly += _paragraph(p, QRectF(m, ly, col_w, 30 * u), "No door is passed.", 17 * u)
     ly += 14 * u
+    # Stops: where each route rests and how long it waits (the plots include the dwell).
+    slines = []
+    for r in project.routes:
+        if r.name in plans and getattr(r, "stops", ()):
+            slines += [f"{r.name}: " + ln.strip() for ln in stop_lines(
+                route_stops(plans[r.name], r))]
+    if slines:
+        ly += _heading(p, m, ly, col_w, "Stops", u)
+        ly += _paragraph(p, QRectF(m, ly, col_w, 260 * u),
+                         "\n".join(slines[:6]) + (f"\n\u2026 and {len(slines) - 6} more."
+                                                   if len(slines) > 6 else ""), 16 * u)
+        ly += 14 * u
     ly += _heading(p, m, ly, col_w, "What would fit", u)
     lines = report_sizing_lines(checks, sizing)
     text = "\n".join(lines) if lines else ("Not computed for this report (the results panel's "
@@ -307,9 +318,12 @@ def _plots_in_gap(p: QPainter, rect: QRectF, project: Any, plans: dict, checks: 
                                               None))
         except (SwatheInputError, ValueError):
             continue
+        from .plots import draw_plots, hitch_limits_of
+
         h = min(rect.height(), 520 * u)
         draw_plots(p, QRectF(rect.left(), rect.top(), rect.width(), h), sched,
-                   title=f"Speed and wheel rates: {name}", scale=1.1 * u)
+                   title=f"Speed and wheel rates: {name}", scale=1.1 * u,
+                   hitch_limits=hitch_limits_of(getattr(sched, "chassis", None)))
         return
 
 

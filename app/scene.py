@@ -10,6 +10,8 @@ outline and each violation's marker look the same in the window, the PNG and the
 - :func:`floorplan_layer`, :func:`route_layer`, :func:`violation_layer`: the primitives
   (filled polygons, polylines, markers, labels with placement hints) built from the analysis
   (:mod:`kinematics.analysis.results`) and the core's plans and checks;
+- :func:`zone_layer`, :func:`zone_caption`, :data:`ZONE_WORDS`: how zones look (one style per
+  kind in :data:`STYLES`, ``zone_<kind>``: fill, hatch pattern, outline dash, ink);
 - :func:`legend_rows`: the legend's rows, in the order and words every legend uses.
 
 It lives in ``app/`` because it is about drawing (roles, pixels, colours), but it imports no
@@ -65,14 +67,22 @@ class Stroke:
     alpha: int = 255
 
 
+#: Hatch patterns an area may carry over its fill (each painter maps them to its brushes).
+HATCH_PATTERNS = ("bdiag", "fdiag", "cross", "hor", "ver")
+
+
 @dataclass(frozen=True)
 class Fill:
-    """An area fill; ``hatch`` adds diagonal lines of ``hatch_colour`` over it."""
+    """An area fill; ``hatch`` adds lines of ``hatch_colour`` (opacity ``hatch_alpha``) over
+    it in ``pattern`` (one of :data:`HATCH_PATTERNS`: diagonal up or down, diagonal cross,
+    horizontal, vertical)."""
 
     colour: str
     alpha: int = 255
     hatch: bool = False
     hatch_colour: str = "#6E6E6E"
+    pattern: str = "bdiag"
+    hatch_alpha: int = 255
 
 
 @dataclass(frozen=True)
@@ -101,7 +111,35 @@ STYLES: dict[str, Style] = {
     "violation_label": Style(Stroke(VERMILLION, 1.0), Fill("#FFFFFF", 225), ink="#5A1E00"),
     "door_label": Style(Stroke(ORANGE, 1.0), Fill("#FFFFFF", 225), ink="#7A4A00"),
     "obstacle_label": Style(None, Fill("#FFFFFF", 210), ink=INK),
+    "zone_label": Style(None, Fill("#FFFFFF", 215), ink=INK),
 }
+
+
+def _darker(colour: str, factor: float = 1.4) -> str:
+    """``colour`` with its brightness divided by ``factor`` (hue and saturation kept)."""
+    rgb = [int(colour[i:i + 2], 16) for i in (1, 3, 5)]
+    return "#" + "".join(f"{round(c / factor):02X}" for c in rgb)
+
+
+# -- zones ----------------------------------------------------------------------------------
+#: The zone kinds in legend order; each differs by its hatching and outline as well as its
+#: colour (never by colour alone): keep-out cross-hatched vermillion with a solid outline,
+#: slow horizontal orange lines dashed, margin diagonal sky-blue dotted, one-way vertical
+#: green dash-dotted with arrows along its direction.
+ZONE_KINDS = ("keep_out", "slow", "margin", "one_way")
+_ZONE_LOOK = {"keep_out": (VERMILLION, "cross", "solid"), "slow": (ORANGE, "hor", "dash"),
+              "margin": (SKY, "fdiag", "dot"), "one_way": (GREEN, "ver", "dashdot")}
+for _kind, (_colour, _pattern, _dash) in _ZONE_LOOK.items():
+    STYLES["zone_" + _kind] = Style(
+        Stroke(_colour, 1.6, _dash),
+        Fill(_colour, 45, hatch=True, hatch_colour=_colour, pattern=_pattern, hatch_alpha=200),
+        ink=_darker(_colour))
+STYLES["zone_arrow"] = Style(Stroke(GREEN, 1.0), Fill(GREEN))
+ZONE_WORDS = {"keep_out": "keep-out zone", "slow": "slow zone (cap)",
+              "margin": "margin zone (margin)", "one_way": "one-way zone (arrows)"}
+#: One-way arrows: spacing and half length in pixels at the default size.
+ZONE_ARROW_STEP_PX = 40.0
+ZONE_ARROW_R_PX = 7.0
 #: Marker sizes in pixels (radius) at the default size.
 JAMB_R_PX = 3.0
 WAYPOINT_R_PX = 7.5
@@ -154,6 +192,9 @@ def marker_polygon(shape: str) -> np.ndarray | None:
     if shape == "hexagon":
         k = np.arange(6)
         return np.column_stack([np.cos(k * math.pi / 3), np.sin(k * math.pi / 3)])
+    if shape == "arrow":  # points right (turned by a marker's angle): a one-way direction
+        return np.array([(-1.0, -0.12), (0.3, -0.12), (0.3, -0.5), (1.0, 0.0), (0.3, 0.5),
+                         (0.3, 0.12), (-1.0, 0.12)])
     if shape == "chevron":  # points right, as along a one-way direction
         w = 0.45
         return np.array([(-1, -1), (-1 + w, -1), (1, 0), (-1 + w, 1), (-1, 1),
@@ -190,6 +231,8 @@ class Marker:
     r_px: float
     stroke: Stroke | None = None
     text: str = ""
+    #: Turned this much counter-clockwise on the plan (an arrow along a one-way direction).
+    angle_rad: float = 0.0
 
 
 @dataclass
@@ -216,6 +259,13 @@ class Label:
     small: bool = False
     reach_m: float = 0.0
     fit_m: float | None = None
+    #: Text colour where it differs from the role's (a zone's name in its kind's colour).
+    ink: str | None = None
+    #: A zone's name: ``(x, y)`` is the middle of its top edge and the label sits just under
+    #: it where the area below is taller than twice the text (``inside_m`` is that height in
+    #: metres), else on ``centre``.
+    inside_m: float | None = None
+    centre: tuple[float, float] | None = None
 
 
 @dataclass
@@ -375,15 +425,75 @@ def violation_layer(checks: dict, forced: int = 8) -> Layer:
     return layer
 
 
+def zone_caption(zone: Any) -> str:
+    """``ward: 0.4 m/s``: the zone's name and its number, for the plan."""
+    name = zone.label or zone.kind.replace("_", "-")
+    if zone.kind == "slow":
+        return f"{name}: {zone.speed_mps:g} m/s"
+    if zone.kind == "margin":
+        return f"{name}: {zone.margin_m * 1000:.0f} mm"
+    if zone.kind == "one_way":
+        return f"{name}: one way"
+    return name
+
+
+def zone_layer(zones: Sequence[Any], arrow_step_m: float | None = None) -> Layer:
+    """The zones: one filled, hatched and outlined polygon set per kind (role ``zone_<kind>``,
+    in :data:`ZONE_KINDS` order, drawn under the solids), the one-way arrows (markers turned
+    along the zone's direction, every ``arrow_step_m`` metres on a grid inside it; none when
+    ``None``) and each zone's name with its number."""
+    from shapely.geometry import Point, Polygon
+
+    layer = Layer()
+    by_kind: dict[str, list[Any]] = {k: [] for k in ZONE_KINDS}
+    for z in zones:
+        if z.kind not in by_kind or len(z.points) < 3:
+            continue
+        poly = Polygon(z.points)
+        if not poly.is_valid or poly.area <= 0:
+            continue
+        by_kind[z.kind].append(poly)
+        c = poly.representative_point()
+        x0, y0, x1, y1 = poly.bounds
+        layer.labels.append(Label("zone_label", zone_caption(z), c.x, y1, priority=4,
+                                  offset_px=0.0, small=True, ink=STYLES["zone_" + z.kind].ink,
+                                  inside_m=y1 - y0, centre=(c.x, c.y)))
+        if z.kind == "one_way" and z.direction_deg is not None and arrow_step_m:
+            step = max(float(arrow_step_m), 1e-3)
+            a = math.radians(z.direction_deg)
+            xs = np.arange(x0 + step / 2, x1, step)
+            ys = np.arange(y0 + step / 2, y1, step)
+            if len(xs) * len(ys) > 20000:  # a zone too large for arrows at this zoom
+                continue
+            for x in xs:
+                for y in ys:
+                    if poly.contains(Point(x, y)):
+                        layer.markers.append(Marker("zone_arrow", "arrow", float(x), float(y),
+                                                    ZONE_ARROW_R_PX, angle_rad=a))
+    for kind in ZONE_KINDS:
+        if by_kind[kind]:
+            layer.polygons.append(Polygons("zone_" + kind, by_kind[kind]))
+    return layer
+
+
+def zone_legend_rows(zones: Sequence[Any]) -> list[tuple[str, str, Any]]:
+    """``("zone", words, kind)`` for each zone kind present, in :data:`ZONE_KINDS` order."""
+    present = {z.kind for z in zones}
+    return [("zone", ZONE_WORDS[k], k) for k in ZONE_KINDS if k in present]
+
+
 def legend_rows(route_names: Sequence[str], checks: dict,
                 route_index: dict[str, int] | None = None,
-                zone_rows: Sequence[tuple[str, str, Any]] = ()) -> list[tuple[str, str, Any]]:
-    """``(kind, words, argument)`` per legend row: the plan's parts (with ``zone_rows``, the
-    zones present), each route by its colour, the route's marks, and every violation kind
-    (``(none)`` where the routes have none; the zone rules only where a route breaks one)."""
+                zone_rows: Sequence[tuple[str, str, Any]] = (),
+                zones: Sequence[Any] = ()) -> list[tuple[str, str, Any]]:
+    """``(kind, words, argument)`` per legend row: the plan's parts (the zone kinds present in
+    ``zones``, or the rows given as ``zone_rows``), each route by its colour, the route's
+    marks, and every violation kind (``(none)`` where the routes have none; the zone rules
+    only where a route breaks one). A zone row's argument is its kind: its style is
+    ``STYLES["zone_" + kind]``."""
     rows: list[tuple[str, str, Any]] = [("wall", "wall", None), ("obstacle", "obstacle", None),
                                         ("door", "door opening (width, clearance)", None)]
-    rows += list(zone_rows)
+    rows += list(zone_rows) or zone_legend_rows(zones)
     for k, name in enumerate(route_names):
         kk = route_index.get(name, k) if route_index else k
         rows.append(("path", f"route {name}", ROUTE_COLOURS[kk % len(ROUTE_COLOURS)]))

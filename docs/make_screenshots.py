@@ -65,6 +65,11 @@ def main(argv: list[str] | None = None) -> int:
     w.schedule_dock.grab().save(str(out / "schedule.png"))
     w.doc.undo_stack.setClean()
     w.close()
+    # The README's zoned plan: the picture `swathe render` draws of the zoned corridor.
+    from app.cli import main as swathe
+
+    swathe(["render", str(ROOT / "docs" / "examples" / "zoned_corridor.swathe.json"),
+            "-o", str(out / "zoned_plan.png"), "--width", "1600", "--height", "1000"])
     print(f"screenshots written to {out}")
     return 0
 

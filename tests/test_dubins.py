@@ -228,3 +228,24 @@ def test_length_bounds_and_mirror(a, b, r):
     # Source: dimensional analysis: scaling the plane by k scales the radius and all lengths.
     ls = _len((2 * a[0], 2 * a[1], a[2]), (2 * b[0], 2 * b[1], b[2]), 2 * r)
     assert ls == pytest.approx(2 * la, abs=1e-7)
+
+
+def test_goal_one_arc_away_is_that_arc_not_a_loop():
+    # Source: closed form; a goal on the start's turning circle, reached by one arc of turn
+    # t < pi, is at most R |t| away along any path of curvature <= 1/R. Placed here by a
+    # rotation of the arc's end (as a search composes motions), so its circle coincides with
+    # the start's to rounding, where the straight's direction is noise: this once gave the
+    # arc plus a whole circle on about one goal in fifteen.
+    rng = np.random.default_rng(5)
+    n = 4000
+    r = 1.3925
+    a = np.c_[rng.uniform(-10, 10, (n, 2)), rng.uniform(-7, 7, n)]
+    t = rng.choice([-1.0, 1.0], n) * rng.uniform(0.01, 0.3, n)
+    ex, ey = r * np.sin(np.abs(t)), np.sign(t) * r * (1.0 - np.cos(t))
+    c, s = np.cos(a[:, 2]), np.sin(a[:, 2])
+    b = np.c_[a[:, 0] + c * ex - s * ey, a[:, 1] + s * ex + c * ey, a[:, 2] + t]
+    got = dubins.shortest(a, b, r).length_m
+    assert np.all(np.abs(got - r * np.abs(t)) <= 1e-6)
+    # And the built path reaches the goal (the one arc is a path, not only a length).
+    segs = dubins.path_segments(a[0], b[0], r)
+    assert abs(path_length(segs) - r * abs(t[0])) <= 1e-6

@@ -105,6 +105,7 @@ def test_nan_and_infinity_literals_are_refused_with_their_place(tmp_path, litera
     p, e = _error(tmp_path, text, kind=FileReadError)
     line = next(i for i, ln in enumerate(text.splitlines(), 1) if literal in ln)
     assert e.place.startswith(f"line {line}, column ") and literal in e.message
+    assert e.place.endswith("(chassis.track_m)")  # and the key it stands for
 
 
 def test_huge_number_that_overflows_to_infinity_names_the_key(tmp_path):

@@ -21,9 +21,26 @@ CART = {"name": "cart", "drive": "ackermann", "wheelbase_m": 0.8, "track_m": 0.5
         "footprint": [[-0.25, -0.3], [1.05, -0.3], [1.05, 0.3], [-0.25, 0.3]]}
 
 
-def write(tmp: Path, waypoints, reverse=False) -> Path:
+# One invented chassis for each drive (demo values), sized to pass the 1.2 m door.
+FP = [[-0.3, -0.3], [0.6, -0.3], [0.6, 0.3], [-0.3, 0.3]]
+DRIVES = {
+    "ackermann": CART,
+    "bicycle": {"name": "trike", "drive": "bicycle", "wheelbase_m": 0.7, "max_steer_deg": 40.0,
+                "wheel_radius_m": 0.1, "margin_m": 0.05,
+                "footprint": [[-0.2, -0.3], [0.9, -0.3], [0.9, 0.3], [-0.2, 0.3]]},
+    "differential": {"name": "tote", "drive": "differential", "track_m": 0.5,
+                     "wheel_radius_m": 0.1, "margin_m": 0.05, "footprint": FP},
+    "mecanum": {"name": "slider", "drive": "mecanum", "wheelbase_m": 0.5, "track_m": 0.5,
+                "wheel_radius_m": 0.1, "margin_m": 0.05, "footprint": FP},
+    "swerve": {"name": "swerver", "drive": "swerve", "wheelbase_m": 0.5, "track_m": 0.5,
+               "wheel_radius_m": 0.1, "margin_m": 0.05, "footprint": FP},
+}
+
+
+def write(tmp: Path, waypoints, reverse=False, chassis=None) -> Path:
     (tmp / "door.floor.json").write_text(json.dumps(FLOOR))
-    proj = {"swathe_project": 1, "floorplan": "door.floor.json", "chassis": CART,
+    proj = {"swathe_project": 1, "floorplan": "door.floor.json",
+            "chassis": CART if chassis is None else chassis,
             "routes": [{"name": "in", "waypoints": waypoints, "turn_radius_m": 0.0,
                         "reverse": reverse}]}
     path = tmp / "p.swathe.json"
@@ -85,6 +102,7 @@ def test_no_route_exits_1_with_the_place(tmp_path, capsys):
     ([[1.0, 0.2, 0], [6.6, 5.0, 90]], [], "routes[0].waypoints[0]"),   # start overlapping
     ([[1.0, 1.3, 0], [6.6, 5.0, 90]], ["--time-limit", "0"], "--time-limit"),
     ([[1.0, 1.3, 0], [6.6, 5.0, 90]], ["--time-limit", "-3"], "--time-limit"),
+    ([[1.0, 1.3, 0], [6.6, 5.0, 90]], ["--time-limit", "nan"], "--time-limit"),
 ])
 def test_bad_input_exits_2_with_one_line(tmp_path, capsys, waypoints, args, place):
     path = write(tmp_path, waypoints)
@@ -92,3 +110,25 @@ def test_bad_input_exits_2_with_one_line(tmp_path, capsys, waypoints, args, plac
     assert code == 2
     assert err.count("\n") == 1 and place in err
     assert "Traceback" not in err
+
+
+@pytest.mark.parametrize("drive", sorted(DRIVES))
+@pytest.mark.parametrize("repair", [False, True])
+def test_find_and_repair_for_every_drive(tmp_path, capsys, drive, repair):
+    # Corridor to room through the door; the sketch (a straight line into the wall beside the
+    # door and up) fails, so repair has to search too.
+    path = write(tmp_path, [[1.0, 1.3, 0], [4.5, 1.3, 0], [6.6, 5.0, 90]],
+                 chassis=DRIVES[drive])
+    args = ["find", path, "--route", "in", "--json", "--time-limit", "20"]
+    code, out, err = run(args + (["--repair"] if repair else []), capsys)
+    assert code == 0, err
+    r = json.loads(out)["routes"][0]
+    assert r["clear"] is True
+    end = r["segments"][-1]["end"]
+    # The goal pose reached to 1 mm and 0.1 deg (the tolerance).
+    assert abs(end["x"] - 6.6) <= 1e-3 and abs(end["y"] - 5.0) <= 1e-3
+    assert abs((end["heading_deg"] - 90.0 + 180.0) % 360.0 - 180.0) <= 0.1
+    # Source: the project's own check run afresh on the found route (exit 0 = clear).
+    o = tmp_path / "found.swathe.json"
+    assert run(args + (["--repair"] if repair else []) + ["-o", o], capsys)[0] == 0
+    assert run(["check", o], capsys)[0] == 0

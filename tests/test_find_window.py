@@ -11,7 +11,7 @@ os.environ.setdefault("QT_QPA_PLATFORM", "offscreen")
 
 from PySide6.QtCore import QSettings  # noqa: E402
 from PySide6.QtWidgets import QApplication  # noqa: E402
-from test_find_cli import write  # noqa: E402
+from test_find_cli import DRIVES, write  # noqa: E402
 
 from kinematics.check.clearance import check_route  # noqa: E402
 from kinematics.plan.planner import plan_route  # noqa: E402
@@ -27,8 +27,8 @@ def window(qtbot, tmp_path, monkeypatch):
     monkeypatch.setattr(MainWindow, "show_error",
                         lambda self, title, text: shown.append((title, text)))
 
-    def make(waypoints, reverse=False):
-        path = write(tmp_path, waypoints, reverse)
+    def make(waypoints, reverse=False, chassis=None):
+        path = write(tmp_path, waypoints, reverse, chassis)
         settings = QSettings(str(tmp_path / "settings.ini"), QSettings.Format.IniFormat)
         w = MainWindow(settings=settings, autosave_dir=tmp_path / "autosave")
         made.append(w)
@@ -125,3 +125,24 @@ def test_no_route_tells_why(window, qtbot):
     assert w.doc.route() == before
     assert w.shown_errors and w.shown_errors[-1][0] == "No route found"
     assert "stopped near" in w.shown_errors[-1][1]
+
+
+@pytest.mark.parametrize("drive", sorted(DRIVES))
+def test_find_and_repair_in_the_window_for_every_drive(window, qtbot, drive):
+    w = window([[1.0, 1.3, 0], [4.5, 1.3, 0], [6.6, 5.0, 90]], chassis=DRIVES[drive])
+    ch = w.doc.project.chassis
+    assert ch.drive == drive
+    sketched = w.doc.route()
+    for act, what in ((w.route_finder.act_repair, "Repair"), (w.route_finder.act_find, "Find")):
+        if w.doc.route() != sketched:
+            w.doc.undo_stack.undo()
+        assert w.doc.route() == sketched
+        act.trigger()
+        qtbot.waitUntil(lambda: not w.route_finder.running, timeout=30000)
+        QApplication.processEvents()
+        after = w.doc.route()
+        assert after != sketched, (what, w.shown_errors)
+        assert w.doc.undo_stack.undoText() == f"{what} route 'in'"
+        # Source: the check run afresh on the edited route, as any route is planned.
+        chk = check_route(plan_route(after, ch), ch, w.doc.obstacle_index(), route=after)
+        assert chk.clear, (what, [v.message for v in chk.violations])

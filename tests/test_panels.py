@@ -180,6 +180,13 @@ def test_drive_change_and_preset(doc, qtbot):
     assert not panel.fields["max_steer_deg"].isEnabled()
 
 
+def test_drive_list_writes_ackermann_as_a_name():
+    # Source: common practice (the steering geometry is named after Rudolph Ackermann).
+    from app.panels import DRIVE_WORDS
+
+    assert DRIVE_WORDS["ackermann"].startswith("Ackermann")
+
+
 def test_presets_are_valid_chassis():
     from kinematics.files.project import chassis_from_dict, chassis_to_dict
     from kinematics.motion.drives import drive_for
@@ -542,3 +549,25 @@ def test_results_band_and_plots_say_they_are_stale_while_the_form_is_invalid(doc
     assert results.stale
     doc.undo_stack.undo()
     assert not results.stale and doc.stale_reason == ""
+
+
+def test_limit_names_stay_inside_short_plots(qtbot):
+    # The demo's pivots turn the wheels backwards: the wheel-rate plot has a lower limit whose
+    # name sat under its line and was cut at the plot's bottom in a short dock.
+    from app.plots import PlotsPanel
+
+    REPO = Path(__file__).resolve().parents[1]
+    d = Document()
+    d.open_project(REPO / "sample_floorplans" / "demo.swathe.json")
+    panel = PlotsPanel(d)
+    qtbot.addWidget(panel)
+    for h in (150, 230, 400):
+        panel.resize(1280, h)
+        panel.show()
+        qtbot.waitExposed(panel)
+        QApplication.processEvents()
+        assert len(panel.limit_lines) >= 3, "max speed and both wheel-rate limits"
+        for ln in panel.limit_lines:
+            box = ln.getViewBox().sceneBoundingRect()
+            r = ln.label.sceneBoundingRect()
+            assert box.top() <= r.top() and r.bottom() <= box.bottom(), (h, ln.label.format)

@@ -1,8 +1,11 @@
 """One scene, two painters: the picture (app.render) and the canvas (app.canvas) draw the demo's
-walls, doors and violation markers in the same colours and shapes (app.scene)."""
+walls, doors, zones, waypoints and violation markers in the same colours and shapes
+(app.scene). The demo gets one zone of each kind, in rooms no route enters."""
 
 from __future__ import annotations
 
+import dataclasses
+import math
 from pathlib import Path
 
 import numpy as np
@@ -13,11 +16,28 @@ from PySide6.QtWidgets import QApplication
 from app import render, scene
 from app.palette import ORANGE, VERMILLION, WALL_FILL
 from kinematics.analysis.results import compute_results
-from kinematics.files.floorplan import solids
+from kinematics.files.floorplan import Zone, solids
 from kinematics.files.project import load_project
 
 DEMO = Path(__file__).resolve().parent.parent / "sample_floorplans" / "demo.swathe.json"
 FAILING = "corridor-to-sluice"
+ONE_WAY_DEG = 30.0
+
+
+def _box(x0: float, y0: float, x1: float, y1: float) -> tuple:
+    return ((x0, y0), (x1, y0), (x1, y1), (x0, y1))
+
+
+def _zoned_demo():
+    """The demo with a zone of each kind in the rooms south of the corridor (rooms 202-205,
+    which no route enters, so the checks are the demo's)."""
+    project = load_project(DEMO)
+    zones = (Zone("keep_out", _box(10.5, 3.2, 13.5, 7.6), "spill"),
+             Zone("slow", _box(14.5, 3.2, 17.5, 7.6), "ward", speed_mps=0.4),
+             Zone("margin", _box(18.5, 3.2, 21.5, 7.6), "people", margin_m=0.3),
+             Zone("one_way", _box(22.5, 3.2, 25.5, 7.6), "aisle", direction_deg=ONE_WAY_DEG))
+    return dataclasses.replace(project, floorplan=dataclasses.replace(project.floorplan,
+                                                                      zones=zones))
 
 
 def _array(img: QImage) -> np.ndarray:
@@ -53,7 +73,7 @@ def painted():
     from app.document import Document
 
     render.ensure_app()
-    project = load_project(DEMO)
+    project = _zoned_demo()
     plans, checks, _errors = compute_results(project)
     img = render.new_image((1600, 1000))
     info = render.render_scene(img, project, plans, checks, footer=False)
@@ -87,7 +107,8 @@ def painted():
         from app.canvas import _plan_box
 
         px = canvas.px_m()
-        for t in canvas.plan_labels + canvas.wp_labels + canvas.violation_labels:
+        for t in (canvas.plan_labels + canvas.zone_labels + canvas.wp_labels
+                  + canvas.violation_labels):
             if t.isVisible():
                 x0, y0, x1, y1 = _plan_box(t, px)
                 a, b = to_can(x0, y1), to_can(x1, y0)  # top-left, bottom-right on screen
@@ -110,6 +131,8 @@ def painted():
         pt = shapely.Point(x, y)
         return not busy.contains(pt) and not (jamb and jambs.contains(pt))
 
+    info["canvas_arrows"] = list(canvas.zone_arrows_item.data)
+    canvas.painted_info = info
     yield pic, to_pic, can, to_can, project, checks, canvas, covered_pic, covered_can, free
     canvas.close()
     canvas.deleteLater()
@@ -194,3 +217,189 @@ def test_the_scene_has_one_style_per_role_and_the_legend_names_every_kind():
     assert tri[:, 1].argmin() == 0 and tri[0, 1] < 0  # the apex is up on the screen
 
 
+
+
+def _refit(canvas) -> np.ndarray:
+    """The canvas fitted to the plan again (another test may have zoomed it), grabbed."""
+    canvas.fit()
+    for _ in range(5):
+        QApplication.processEvents()
+    return _array(canvas.plot.viewport().grab().toImage())
+
+
+def _zone_pixels(arr, to_px, covered, zone, obstacles):
+    """RGB of every painted pixel inside ``zone`` (5 cm in from its edge), leaving out the
+    obstacles drawn over it and anything under a label."""
+    import shapely
+
+    inner = shapely.Polygon(zone.points).buffer(-0.05)
+    x0, y0, x1, y1 = inner.bounds
+    a, b = to_px(x0, y1), to_px(x1, y0)  # top-left, bottom-right on the image
+    xs = np.arange(int(math.ceil(a[0])), int(b[0]))
+    ys = np.arange(int(math.ceil(a[1])), int(b[1]))
+    keep = np.zeros((len(ys), len(xs)), bool)
+    for j, y in enumerate(ys):
+        for i, x in enumerate(xs):
+            keep[j, i] = not covered(x, y)
+    # Plan points of the pixel grid: drop those on or near an obstacle.
+    gx = x0 + (xs - a[0]) / (b[0] - a[0]) * (x1 - x0)
+    gy = y1 - (ys - a[1]) / (b[1] - a[1]) * (y1 - y0)
+    px, py = np.meshgrid(gx, gy)
+    near = shapely.contains_xy(obstacles, px, py)
+    return arr[ys[0]:ys[-1] + 1, xs[0]:xs[-1] + 1], keep & ~near
+
+
+def _hatch_direction(win: np.ndarray, keep: np.ndarray, colour: str) -> str:
+    """Which way the hatch lines run: the neighbour step (right, down, down-right, down-left)
+    along which a hatch pixel is most often followed by another."""
+    ref = _rgb(colour)
+    hatch = (np.abs(win - ref).max(axis=2) <= 60) & keep
+    share = {}
+    for name, (dy, dx) in {"hor": (0, 1), "ver": (1, 0), "fdiag": (1, 1),
+                           "bdiag": (1, -1)}.items():
+        a = hatch[:hatch.shape[0] - dy, max(0, -dx):hatch.shape[1] - max(0, dx)]
+        b = hatch[dy:, max(0, dx):hatch.shape[1] - max(0, -dx) or None]
+        b = b[:, :a.shape[1]]
+        share[name] = (a & b).sum() / max(a.sum(), 1)
+    return max(share, key=share.get), share
+
+
+def test_zones_are_hatched_and_tinted_alike_in_both(painted):
+    # Source: issue 16 (zone styles lived apart from the scene; the canvas drew no hatching);
+    # app.scene.STYLES["zone_<kind>"] now styles both painters. The mean colour inside each
+    # zone (fill and hatch over the plan's ground) agrees within 25 levels per channel, and
+    # the hatch lines run the way the style's pattern says in both.
+    pic, to_pic, can, to_can, project, _checks, canvas, cov_pic, cov_can, _free = painted
+    import shapely
+
+    can = _refit(canvas)
+    obstacles = shapely.union_all([s.geometry for s in solids(project.floorplan)
+                                   if s.kind == "obstacle"]).buffer(0.08)
+    means = {}
+    for z in project.floorplan.zones:
+        st = scene.STYLES["zone_" + z.kind]
+        row = []
+        for painter, arr, to_px, covered in (("picture", pic, to_pic, cov_pic),
+                                             ("canvas", can, to_can, cov_can)):
+            win, keep = _zone_pixels(arr, to_px, covered, z, obstacles)
+            assert keep.sum() > 1500, (painter, z.kind, keep.sum())
+            row.append(win[keep].mean(axis=0))
+            way, share = _hatch_direction(win, keep, st.fill.hatch_colour)
+            if st.fill.pattern == "cross":
+                # Both diagonals, neither straight.
+                assert min(share["fdiag"], share["bdiag"]) > max(share["hor"], share["ver"]), \
+                    (painter, z.kind, share)
+            else:
+                assert way == st.fill.pattern, (painter, z.kind, share)
+        means[z.kind] = row
+        assert np.abs(row[0] - row[1]).max() <= 25, (z.kind, row)
+    # Each kind reads apart from the others by colour too (it differs by pattern already).
+    kinds = list(means)
+    for i, a in enumerate(kinds):
+        for b in kinds[i + 1:]:
+            assert np.abs(means[a][0] - means[b][0]).max() > 20, (a, b)
+
+
+def test_zone_outlines_have_the_kind_colour_in_both(painted):
+    # Source: app.scene.STYLES (outline per zone kind); a dashed or dotted outline shows its
+    # colour along part of the edge, a solid one along nearly all of it.
+    pic, to_pic, can, to_can, project, _checks, canvas, cov_pic, cov_can, _free = painted
+    can = _refit(canvas)
+    import shapely
+
+    obstacles = shapely.union_all([s.geometry for s in solids(project.floorplan)
+                                   if s.kind == "obstacle"]).buffer(0.08)
+    for z in project.floorplan.zones:
+        st = scene.STYLES["zone_" + z.kind].stroke
+        (x0, y0), (x1, _y) = z.points[0], z.points[1]
+        for painter, arr, to_px, covered in (("picture", pic, to_pic, cov_pic),
+                                             ("canvas", can, to_can, cov_can)):
+            probed = hit = 0
+            for f in np.linspace(0.05, 0.95, 40):  # the bottom edge, clear of labels
+                q = (x0 + f * (x1 - x0), y0)
+                px = to_px(*q)
+                if covered(*px) or obstacles.contains(shapely.Point(q)):
+                    continue
+                probed += 1
+                hit += _near(arr, *px, st.colour, r=1, tol=45)
+            assert probed >= 20
+            least = 0.9 if st.dash == "solid" else 0.25
+            assert least * probed <= hit, (painter, z.kind, hit, probed)
+
+
+def test_one_way_arrows_point_along_the_zone_in_both(painted):
+    # Source: the zone's direction_deg (README, zones): each arrow's green pixels, taken as a
+    # point cloud, have their long axis along it (principal axis of the second moments) and
+    # more of their mass ahead of the centre (the head) than behind.
+    pic, to_pic, can, to_can, project, _checks, canvas, cov_pic, cov_can, _free = painted
+    info = canvas.painted_info
+    can = _refit(canvas)
+    import shapely
+
+    # Arrows near an obstacle (drawn over the zone) are left out.
+    obstacles = shapely.union_all([s.geometry for s in solids(project.floorplan)
+                                   if s.kind == "obstacle"]).buffer(0.5)
+    z = [z for z in project.floorplan.zones if z.kind == "one_way"][0]
+    pic_arrows = [(m.x, m.y) for m in scene.zone_layer(
+        [z], scene.ZONE_ARROW_STEP_PX / info["px_per_m"]).markers]
+    a = math.radians(ONE_WAY_DEG)
+    for painter, arr, to_px, arrows, covered in (
+            ("picture", pic, to_pic, pic_arrows, cov_pic),
+            ("canvas", can, to_can, info["canvas_arrows"], cov_can)):
+        assert len(arrows) >= 4, painter
+        r = int(scene.ZONE_ARROW_R_PX) + 2
+        good = 0
+        # Those under the zone's name are left out too.
+        arrows = [(x, y) for x, y in arrows if not obstacles.contains(shapely.Point(x, y))
+                  and not covered(*to_px(x, y))]
+        assert len(arrows) >= 3, painter
+        for x, y in arrows:
+            cx, cy = to_px(x, y)
+            m = _mask(arr, cx, cy, scene.STYLES["zone_arrow"].fill.colour, r)
+            if m.sum() < 8:
+                continue
+            yy, xx = np.nonzero(m)
+            dx, dy = xx - xx.mean(), -(yy - yy.mean())  # plan y up
+            cov = np.cov(np.vstack([dx, dy]))
+            w, v = np.linalg.eigh(cov)
+            axis = v[:, 1]
+            ang = math.atan2(axis[1], axis[0])
+            off = abs((ang - a + math.pi / 2) % math.pi - math.pi / 2)
+            # Head ahead: the part of the arrow beyond its middle along the direction is wider.
+            along = dx * math.cos(a) + dy * math.sin(a)
+            across = np.abs(-dx * math.sin(a) + dy * math.cos(a))
+            head = across[along > 0].mean() > across[along < 0].mean()
+            good += off < math.radians(15) and head
+        assert good >= 0.75 * len(arrows), (painter, good, len(arrows))
+
+
+def test_waypoint_markers_are_the_same_ring_in_both(painted):
+    # Source: app.scene (waypoint marker: radius WAYPOINT_R_PX, ringed in the route's colour);
+    # the canvas drew them 13 px across against the picture's 15.
+    pic, to_pic, can, to_can, project, _checks, canvas, _cp, _cc, _free = painted
+    k = [r.name for r in project.routes].index(FAILING)
+    colour = scene.ROUTE_COLOURS[k % len(scene.ROUTE_COLOURS)]
+    canvas.center_on(30.0, 9.0, 12.0)
+    for _ in range(5):
+        QApplication.processEvents()
+    can = _array(canvas.plot.viewport().grab().toImage())
+    # The ring at the picture's scale: compare the ring's radius, found in each image as the
+    # mean distance of its ring-coloured pixels from the centre.
+    for w in project.route(FAILING).waypoints[1:]:
+        radii = []
+        for arr, to_px in ((pic, to_pic), (can, to_can)):
+            cx, cy = to_px(w.x, w.y)
+            r = int(scene.WAYPOINT_R_PX) + 3
+            win = arr[int(round(cy)) - r:int(round(cy)) + r + 1,
+                      int(round(cx)) - r:int(round(cx)) + r + 1]
+            white = (np.abs(win - 255).max(axis=2) <= 20)
+            yy, xx = np.nonzero(white)
+            d = np.hypot(xx - r, yy - r)
+            assert (d < 3).sum() == 0 or white.sum() > 20  # a white disc round the number
+            ring = (np.abs(win - _rgb(colour)).max(axis=2) <= 60)
+            yy, xx = np.nonzero(ring)
+            d = np.hypot(xx - (cx - round(cx) + r), yy - (cy - round(cy) + r))
+            d = d[(d > scene.WAYPOINT_R_PX - 3) & (d < scene.WAYPOINT_R_PX + 3)]
+            assert len(d) > 20
+            radii.append(d.mean())
+        assert abs(radii[0] - radii[1]) < 1.0, radii

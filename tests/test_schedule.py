@@ -217,8 +217,8 @@ def test_samples_respect_wheel_limit_and_rest_at_ends():
 
 
 def test_joint_is_one_sample_of_the_later_segment():
-    # Issue 15 point 4 / shared/contract.md (second stage): t_s strictly increasing, so a
-    # joint is one row, the start of the later segment; the step shows between neighbours.
+    # Source: shared/contract.md, version 1 additions (t_s strictly increasing, always), so
+    # a joint is one row, the start of the later segment; the step shows between neighbours.
     c = CHASSIS["differential"]
     sch = build_schedule("t", _line_arc_line(), c)
     sm = sch.samples

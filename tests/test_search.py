@@ -248,3 +248,33 @@ def test_a_fleet_route_is_searched_for_its_own_vehicle_and_keeps_its_keys():
     assert dense_min_distance(res, wide, rects) >= wide.margin_m - 1e-3
     back = replace_route(proj, res.route)
     assert back.others == (wide,) and back.chassis_for("r") == wide
+
+
+def test_repair_searches_the_whole_route_when_the_kept_legs_fail_with_the_searched_ones(
+        monkeypatch):
+    # The legs-only repair is made to come back failing its re-check (as when a kept leg's
+    # corner no longer passes beside a searched one); the repair must then search the whole
+    # route, say so, and offer a route the independent dense sweep finds clear.
+    from kinematics.plan import search as S
+
+    rects = DOOR_SCENE
+    r = _route([(0.5, 1.3, 0.0), (3.0, 1.3, 0.0), (6.6, 5.0, 90.0)])
+    proj = _project(rects, CART, r)
+    finder = RouteFinder(proj, settings=SETTINGS)
+    real = S.RouteFinder._offer
+    calls = []
+
+    def offer(self, new, t0, total, searched, legs, notes=()):
+        calls.append(legs)
+        got = real(self, new, t0, total, searched, legs, notes)
+        if len(calls) == 1:
+            got.found, got.route, got.reason = False, None, "the smoothed route failed its " \
+                "re-check: (made to fail here)"
+        return got
+
+    monkeypatch.setattr(S.RouteFinder, "_offer", offer)
+    res = finder.repair(r)
+    assert calls[0] == (1,) and calls[1] == (0, 1)  # failing leg first, then every leg
+    _assert_found(res, CART, rects, (6.6, 5.0, 90.0))
+    assert res.legs == (0, 1)
+    assert any("whole route was searched" in n for n in res.notes)

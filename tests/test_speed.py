@@ -196,6 +196,100 @@ def test_waypoint_check_of_a_long_route_answers_as_the_dense_one(monkeypatch):
     assert len(got) > 0
 
 
+def _patrol_loop(n: int, corners: int, back_and_forth: bool = False):
+    """A patrol driven over and over round ``corners`` places (or back and forth between two,
+    retracing the same line exactly): a route whose waypoints each have segments of every lap
+    round them. Invented scene."""
+    from kinematics.files.floorplan import FloorPlan
+    from kinematics.files.project import Chassis, Route, Waypoint
+
+    if back_and_forth:
+        pts = [(2.0, 5.0) if k % 2 == 0 else (8.0, 5.0) for k in range(n)]
+    else:
+        pts = [(5 + 3 * math.cos(2 * math.pi * k / corners) + 0.01 * k / n,
+                5 + 3 * math.sin(2 * math.pi * k / corners)) for k in range(n)]
+    obs = (Obstacle(((4.5, 4.5), (5.5, 4.5), (5.5, 5.5), (4.5, 5.5)), "pillar"),
+           Obstacle(((7.7, 4.7), (8.5, 4.7), (8.5, 5.3), (7.7, 5.3)), "post"),
+           Obstacle(((1.7, 4.9), (2.1, 4.9), (2.1, 5.6), (1.7, 5.6)), "bin"))
+    ch = Chassis(name="patrol cart", footprint=((-0.3, -0.3), (0.6, -0.3), (0.6, 0.3),
+                                                (-0.3, 0.3)), margin_m=0.05, track_m=0.5)
+    route = Route("loop", tuple(Waypoint(x, y) for x, y in pts), turn_radius_m=0.6)
+    return route, ch, FloorPlan("patrol", (), obs, ())
+
+
+@pytest.mark.parametrize("corners,back", [(8, False), (3, False), (2, True)])
+def test_a_route_passing_one_place_many_times_answers_as_the_pair_search(corners, back,
+                                                                         monkeypatch):
+    # Source: project rule (a faster search never changes a verdict): a patrol loop driven
+    # over and over, where every waypoint has a segment of every lap round it, is searched
+    # in bulk (k-d tree) and must give exactly the pair-by-pair search's violations, ties
+    # included (back and forth retraces the same poses exactly).
+    from kinematics.check import waypoints as W
+    from kinematics.check.clearance import ObstacleIndex, RouteChecker
+    from kinematics.plan.planner import plan_route
+
+    route, ch, fp = _patrol_loop(240, corners, back)
+    idx = ObstacleIndex(fp)
+    plan = plan_route(route, ch)
+    monkeypatch.setattr(W, "BULK_PAIRS", 2_000)
+    grid = RouteChecker(ch, idx).waypoints.segment_grid
+    assert W.candidate_pairs(np.array([(w.x, w.y) for w in route.waypoints]),
+                             np.array([grid(s)[2] for s in plan.segments]),
+                             limit=W.BULK_PAIRS) is None
+    bulk = RouteChecker(ch, idx).check(plan, route=route)
+    monkeypatch.setattr(W, "BULK_PAIRS", 10 ** 12)
+    pairs = RouteChecker(ch, idx).check(plan, route=route)
+    got = [v.to_dict() for v in bulk.violations]
+    assert got == [v.to_dict() for v in pairs.violations]
+    assert any(v["kind"] == "waypoint_blocked" for v in got) or back
+
+
+def test_nearest_in_bulk_is_the_first_nearest_in_route_order():
+    # Source: the definition (the nearest grid pose, the first in route order among equal
+    # distances), by brute force over every pose in plain Python.
+    from kinematics.check import waypoints as W
+
+    rng = np.random.default_rng(3)
+    grids = []
+    for _ in range(40):
+        poses = np.round(rng.uniform(0, 5, (int(rng.integers(1, 30)), 3)), 1)  # many ties
+        grids.append((None, poses, None))
+    grids[7] = (None, grids[3][1].copy(), None)  # a segment retraced exactly
+    xy = np.round(rng.uniform(-1, 6, (200, 2)), 1)
+    best, found = W.nearest_in_bulk(xy, grids)
+    for k, (wx, wy) in enumerate(xy.tolist()):
+        ref = (math.inf, None)
+        for i, (_, poses, _) in enumerate(grids):
+            for r, (px, py, _) in enumerate(poses.tolist()):
+                d = float(np.hypot(px - wx, py - wy))
+                if d < ref[0]:
+                    ref = (d, (i, r))
+        assert (best[k], found[k]) == ref
+
+
+def test_waypoint_check_of_a_long_patrol_loop_stays_linear_in_memory():
+    # Source: project rule (issue 14: memory linear in the waypoints): 1,000 waypoints round
+    # eight places (each with ~125 laps' segments round it) were ~280,000 pairs searched one
+    # by one with a cache entry each; the budget is the work, measured by tracemalloc
+    # (numpy reports its buffers to it), not a timer.
+    import tracemalloc
+
+    from kinematics.check.clearance import ObstacleIndex, RouteChecker
+    from kinematics.motion.segments import segment_stations
+    from kinematics.plan.planner import plan_route
+
+    route, ch, fp = _patrol_loop(1000, 8)
+    plan = plan_route(route, ch)
+    segs = tuple(plan.segments)
+    wc = RouteChecker(ch, ObstacleIndex(fp)).waypoints
+    tracemalloc.start()
+    wc.violations(segs, segment_stations(segs), route.waypoints)
+    peak = tracemalloc.get_traced_memory()[1]
+    tracemalloc.stop()
+    assert peak < 64e6
+    assert len(wc._wp_near) == 0  # nothing cached pair by pair
+
+
 def test_a_drag_step_redraws_only_what_moved(qtbot, tmp_path):
     # Source: project rule (issue 14: a drag step's work is proportional to what moved):
     # outline items are made only for segments the move changed, the others stay the very

@@ -105,3 +105,44 @@ def test_jackknife_when_reversing() -> None:
     fwd = [line(start, 0.5), arc(line(start, 0.5).end, 1.6, math.pi / 2)]
     assert not [v for v in check_train(fwd, TUG, idx, 0.002, "fwd").violations
                 if v.kind == "jackknife"]
+
+
+def test_trailer_violation_starts_where_the_dense_placements_first_break_the_rule() -> None:
+    # Source: shapely distances of each trailer placed every 1 mm of progress along the same
+    # trace (reference): a violation's station is where the rule is first broken, at most
+    # the check's 1 cm placement step early and never late.
+    from kinematics.motion.segments import segment_stations
+
+    segs = _plan()
+    trace = trace_train(segs, TUG.trailers)
+    cx, cy = segs[1].arc_centre()
+    px, py = cx + 0.95 * math.cos(-math.pi / 4), cy + 0.95 * math.sin(-math.pi / 4)
+    post = Obstacle(((px - 0.05, py - 0.05), (px + 0.05, py - 0.05), (px + 0.05, py + 0.05),
+                     (px - 0.05, py + 0.05)), "post")
+    idx = ObstacleIndex(FloorPlan(obstacles=(post,)))
+    chk = check_train(segs, TUG, idx, 0.002, "r")
+    stations = segment_stations(segs)
+    solid = idx.geometries[0]
+    seen = 0
+    for v in chk.violations:
+        if v.kind not in ("collision", "clearance") or not v.body.startswith("trailer"):
+            continue
+        j = int(v.body.split()[1]) - 1
+        t = TUG.trailers[j]
+        margin = t.margin_m if t.margin_m is not None else TUG.margin_m
+        first = None
+        for i in range(len(segs)):
+            a = trace.amount(i)
+            if a <= 0.0 or segs[i].kind == "pivot":
+                continue
+            p = np.linspace(0.0, a, max(2, math.ceil(a / 0.001) + 1))
+            d = shapely.distance(placed_footprints(t.footprint, trace.poses(i, p)[:, j + 1]),
+                                 solid)
+            bad = d <= 0.0 if v.kind == "collision" else d < margin
+            if bad.any():
+                first = float(stations[i]) + float(p[int(np.argmax(bad))])
+                break
+        assert first is not None
+        assert first - 0.011 <= v.station_m <= first + 0.001, (v.body, v.station_m, first)
+        seen += 1
+    assert seen == 2

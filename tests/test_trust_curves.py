@@ -12,14 +12,18 @@ import pytest
 from shapely.geometry import Point, Polygon
 
 from kinematics.check.clearance import ObstacleIndex, check_route
-from kinematics.files.curves import circle_points_outside
+from kinematics.files.curves import CURVE_EXCESS_M, circle_points_outside
 from kinematics.files.dxf_import import import_dxf
 from kinematics.files.floorplan import solids
 from kinematics.files.project import Chassis
 from kinematics.files.svg_import import import_svg
 from kinematics.motion.segments import arc, line, poses_along
 
-BAND_M = 0.002  # the check's conservative band (README: at most 2 mm smaller than the truth)
+# A flattened curve stands at most CURVE_EXCESS_M (0.5 mm) outside the true one
+# (kinematics/files/curves.py), the rest of the check's 2 mm is the swept band's.
+FLAT_M = CURVE_EXCESS_M
+assert FLAT_M == 0.0005  # README: flattened curves stand at most 0.5 mm outside
+BAND_M = 0.002  # README: a reported clearance is at most 2 mm below the true one
 
 
 def _gap(fp, p: tuple[float, float]) -> float:
@@ -74,7 +78,7 @@ def test_pillar_in_a_block_is_never_reported_farther_than_it_is(tmp_path, units,
     for p, true in _probes(4.0, 3.0, 0.15, 0.0005, 0.5):
         got = _gap(fp, p)
         assert got <= true + 1e-9
-        assert got >= true - BAND_M
+        assert got >= true - FLAT_M - 1e-9
 
 
 @pytest.mark.parametrize("units,scale", [(4, 1000.0), (6, 1.0)])
@@ -95,14 +99,14 @@ def test_arc_wall_is_conservative_on_both_faces(tmp_path, units, scale):
         for d in (0.003, 0.02, 0.2):
             for rho in (r + thickness / 2 + d, r - thickness / 2 - d):
                 got = _gap(fp, (rho * math.cos(a), rho * math.sin(a)))
-                assert d - BAND_M <= got <= d + 1e-9
+                assert d - FLAT_M - 1e-9 <= got <= d + 1e-9
     # The bulge half-circle from (-1, -3) to (1, -3), bulge 1 (DXF reference: bulge
     # tan(theta / 4), positive counter-clockwise): centre (0, -3), radius 1, through (0, -4).
     for k in range(1, 30):
         a = -math.pi + math.pi * k / 30
         for rho in (1.0 + thickness / 2 + 0.01, 1.0 - thickness / 2 - 0.01):
             got = _gap(fp, (rho * math.cos(a), -3.0 + rho * math.sin(a)))
-            assert 0.01 - BAND_M <= got <= 0.01 + 1e-9
+            assert 0.01 - FLAT_M - 1e-9 <= got <= 0.01 + 1e-9
 
 
 @pytest.mark.parametrize("mpu", [0.001, 0.01])  # drawings in mm and in cm user units
@@ -118,7 +122,7 @@ def test_svg_circle_and_arc_path_are_never_reported_farther(tmp_path, mpu):
     # Circle centre (2, 2) user -> plan (2, 10 - 2) = (2, 8).
     for p, true in _probes(2.0, 8.0, 0.15, 0.0005, 0.3):
         got = _gap(fp, p)
-        assert true - BAND_M <= got <= true + 1e-9
+        assert true - FLAT_M - 1e-9 <= got <= true + 1e-9
     # Arc wall: centre (5, 2) user -> plan (5, 8), radius 1 m, a half circle; the band is
     # 1 +- 0.05 m about the centre on the drawn half (probe both halves, take the nearer).
     for s in range(1, 20):
@@ -128,7 +132,7 @@ def test_svg_circle_and_arc_path_are_never_reported_farther(tmp_path, mpu):
             pts = [(5.0 + rho * math.cos(a), 8.0 + rho * math.sin(a)),
                    (5.0 + rho * math.cos(a), 8.0 - rho * math.sin(a))]
             got = min(_gap(fp, q) for q in pts)
-            assert 0.01 - BAND_M <= got <= 0.01 + 1e-9
+            assert 0.01 - FLAT_M - 1e-9 <= got <= 0.01 + 1e-9
 
 
 def test_dense_pose_oracle_finds_no_over_reported_clearance(tmp_path):
@@ -181,5 +185,7 @@ def test_dense_pose_oracle_finds_no_over_reported_clearance(tmp_path):
             continue
         compared += 1
         assert check.min_clearance_m <= best + 1e-6, (scene, check.min_clearance_m, best)
-        assert check.min_clearance_m >= best - 2 * BAND_M - 0.002
+        # The whole check (sweep band plus flattening) is within the stated 2 mm of the
+        # truth; the oracle's 2 mm steps may miss the true least by up to 1 mm more.
+        assert check.min_clearance_m >= best - BAND_M - 0.001
     assert compared >= 4  # most scenes are clear, so the comparison is exercised

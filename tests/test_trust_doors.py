@@ -137,3 +137,34 @@ def test_a_warm_checker_gives_the_fresh_door_answers():
         # The crossing: x = 6.5 reached 4.5 m along the slanted second line (4.5 / cos).
         assert got[0].station_m == pytest.approx(2.0 + 4.5 * math.hypot(8.0, y) / 8.0,
                                                  abs=1e-9)
+
+
+def test_a_train_door_entry_keeps_the_tug_crossing_and_the_least_body():
+    # A tug towing a wider cart straight through a door: the door's station is where the
+    # tug's reference point crosses the door line (x = 6.5 -> station 6.5, textbook
+    # geometry); the least clearance is the cart's (half-width 0.4 vs the tug's 0.3, so
+    # 0.6 - 0.4 = 0.2 m from jambs 1.2 m apart, distance between parallel lines), and its
+    # station lies where the cart is in the door's box. Source: textbook geometry.
+    from kinematics.check.train import check_train
+    from kinematics.files.project import Trailer
+
+    cart = ((-0.4, -0.4), (0.3, -0.4), (0.3, 0.4), (-0.4, 0.4))
+    tug = Chassis(footprint=FOOT, margin_m=0.05, track_m=0.5,
+                  trailers=(Trailer("cart", -0.35, 0.8, cart),))
+    fp = _wall_with_door(6.5, -0.6, 0.6)
+    segs = [line((0.0, 0.0, 0.0), 2.0), line((2.0, 0.0, 0.0), 9.0)]
+    chk = check_train(segs, tug, ObstacleIndex(fp), 0.002, "r")
+    (d,) = chk.doors
+    assert d.station_m == pytest.approx(6.5, abs=1e-9) and d.segment == 1
+    assert d.min_clearance_m == pytest.approx(0.2, abs=0.003)
+    # The cart's axle is 0.35 + 0.8 = 1.15 m behind the tug's reference point and its body
+    # runs from 0.4 behind to 0.3 ahead of its axle, so its side is beside the jamb ends
+    # (x 6.45..6.55) while the tug is at stations 6.45 - 0.3 + 1.15 = 7.30 to
+    # 6.55 + 0.4 + 1.15 = 8.10.
+    assert 7.30 - 0.011 <= d.min_clearance_station_m <= 8.10 + 0.011
+    # The route's least clearance is the cart's too, placed on that same stretch (it was the
+    # start of the trailer's swept chunk, 2.0).
+    at = chk.min_clearance_at
+    assert at["body"] == "trailer 1 (cart)"
+    assert chk.min_clearance_m == pytest.approx(0.2, abs=0.003)
+    assert 7.30 - 0.011 <= at["station_m"] <= 8.10 + 0.011

@@ -242,3 +242,29 @@ def test_a_clearance_exactly_at_the_margin_keeps_it() -> None:
                             assert not c.clear
                             assert c.violations[0].kind == "clearance"
     assert seen_rounded > 0  # the rounding this guards against does happen here
+
+
+def test_planner_and_reports_spell_ackermann_as_a_name(tmp_path: Path, capsys) -> None:
+    # Source: common practice (the Ackermann steering geometry is named after Rudolph
+    # Ackermann, so the word takes a capital; the file key stays "ackermann").
+    from kinematics.files.project import Chassis, Route, Waypoint, drive_word
+    from kinematics.plan.planner import plan_route
+
+    car = Chassis(drive="ackermann", wheelbase_m=0.8, track_m=0.5, max_steer_deg=30.0)
+    plan = plan_route(Route("r", (Waypoint(0, 0, 0), Waypoint(5, 0)), turn_radius_m=0.3), car)
+    msgs = [i.message for i in plan.issues if i.kind == "turn_radius"]
+    assert msgs and all("the Ackermann chassis" in m for m in msgs)
+    assert drive_word("differential") == "differential"
+    import json
+
+    from app.cli import main
+
+    src = Path("sample_floorplans/demo.swathe.json")
+    d = json.loads(src.read_text())
+    d["floorplan"] = str((src.parent / d["floorplan"]).resolve())
+    d["chassis"].update(drive="ackermann", wheelbase_m=0.8, max_steer_deg=30.0)
+    p = tmp_path / "car.swathe.json"
+    p.write_text(json.dumps(d))
+    main(["plan", str(p)])
+    out = capsys.readouterr().out
+    assert "(Ackermann)" in out and "drive Ackermann" in out and "ackermann" not in out

@@ -173,3 +173,55 @@ def test_canvas_has_no_auto_range_button(make_window):  # noqa: F811
     pi = win.canvas.plot.getPlotItem()
     assert pi.buttonsHidden and not pi.autoBtn.isVisible()
     assert win.act_fit.shortcut().toString() == "F"
+
+
+# -- help ---------------------------------------------------------------------------------------
+def test_f1_opens_the_guide_listing_every_shortcut_mode_and_word(make_window, qtbot):  # noqa: F811
+    from PySide6.QtCore import Qt
+    from PySide6.QtGui import QAction, QKeySequence
+
+    from kinematics.analysis.report_text import CAUTION
+
+    win = _demo_at(make_window, 1280, 720)
+    assert win.guide_box is None
+    win.activateWindow()
+    qtbot.waitUntil(lambda: QApplication.activeWindow() is win, timeout=2000)
+    qtbot.keyClick(win.canvas.plot, Qt.Key.Key_F1)
+    qtbot.waitUntil(lambda: win.guide_box is not None and win.guide_box.isVisible(),
+                    timeout=2000)
+    assert win.act_guide in win.menuBar().actions()[-1].menu().actions()  # Help > Guide
+    text = win.guide_box.plain_text()
+    # Every shortcut the window defines, found here independently of the guide's own code.
+    keys = 0
+    for a in win.findChildren(QAction):
+        for k in a.shortcuts():
+            if not k.isEmpty():
+                keys += 1
+                assert k.toString(QKeySequence.SequenceFormat.NativeText) in text, a.text()
+    assert keys >= 15
+    for a in (win.act_select, win.act_add, *win.plan_mode_actions.values()):
+        assert a.text().replace("&", "") in text
+    for word in ("station", "margin", "clearance", "band", "swept path", "footprint"):
+        assert word in text
+    assert " ".join(CAUTION.split()) in " ".join(text.split())
+    # Read from the actions when opened: a key changed since shows at the next opening.
+    win.guide_box.close()
+    win.act_picture.setShortcut(QKeySequence("Ctrl+Alt+P"))
+    win.show_guide()
+    assert "Ctrl+Alt+P" in win.guide_box.plain_text()
+
+
+def test_each_tab_group_has_one_tab_bar_on_screen(make_window):  # noqa: F811
+    # A stray copy of a dock tab bar was painted over the plots' controls at 1920x1080.
+    from PySide6.QtWidgets import QTabBar
+
+    win = _demo_at(make_window, 1920, 1080)
+    bars = [t for t in win.findChildren(QTabBar) if t.isVisible()
+            and t.window() is win]
+    tabs = [tuple(t.tabText(i) for i in range(t.count())) for t in bars]
+    assert len(tabs) == len(set(tabs)), tabs
+    assert ("Check results", "Legend") in tabs
+    # The bottom group: plots and schedule first (a Traffic tab may follow them).
+    assert any(t[:2] == ("Speed and wheel rates", "Schedule") for t in tabs), tabs
+    for t in bars:
+        assert win.rect().contains(t.mapTo(win, t.rect().bottomRight())), t.geometry()

@@ -78,6 +78,13 @@ def test_zones_and_circles_round_trip_through_the_file(tmp_path):
     ({"kind": "margin", "points": [[0, 0], [1, 0], [1, 1]]}, "zones[0].margin_m", "missing"),
     ({"kind": "one_way", "points": [[0, 0], [1, 0], [1, 1]], "direction_deg": "north"},
      "zones[0].direction_deg", "number"),
+    ({"kind": "keep_out", "points": [[0, 0], [1, 0]]}, "zones[0].points", "at least 3"),
+    ({"kind": "slow", "points": [[0, 0], [1, 0], [1, 1]], "speed_mps": float("nan")},
+     "zones[0].speed_mps", "finite"),
+    ({"kind": "margin", "points": [[0, 0], [1, 0], [1, 1]], "margin_m": -0.1},
+     "zones[0].margin_m", "zero or a positive"),
+    ({"kind": "slow", "points": [[0, 0], [1, float("nan")], [1, 1]], "speed_mps": 0.3},
+     "zones[0].points", "finite"),
 ])
 def test_bad_zone_data_exits_2_naming_file_and_key(tmp_path, capsys, zone, key, words):
     # Source: shared/contract.md, bad input exits 2 with one line naming file and key path.

@@ -10,6 +10,8 @@ import math
 from collections.abc import Sequence
 from typing import Any
 
+from kinematics.files.project import drive_word
+
 CAUTION = ("Swathe is a planning aid, not a safety certification. Verify every route on site, "
            "keep the clearances that the applicable machine-safety standards (for example "
            "ISO 3691-4 and ANSI/ITSDF B56.5) and local fire and building codes require, and "
@@ -64,7 +66,8 @@ def format_plan_text(plans: Sequence[Any], project: Any = None) -> str:
     if project is not None:
         for c in fleet or (project.chassis,):
             tows = ", ".join(t.name for t in getattr(c, "trailers", ()))
-            out.append(f"{'Vehicle' if len(fleet) > 1 else 'Chassis'}: {c.name} ({c.drive})"
+            who = "Vehicle" if len(fleet) > 1 else "Chassis"
+            out.append(f"{who}: {c.name} ({drive_word(c.drive)})"
                        + (f", towing {tows}" if tows else ""))
     for pl in plans:
         out.append("")
@@ -75,7 +78,7 @@ def format_plan_text(plans: Sequence[Any], project: Any = None) -> str:
             except Exception:  # noqa: BLE001 - a plan not of this project: no vehicle named
                 who = ""
         out.append(f"Route {pl.name!r}: {len(pl.segments)} segments, {pl.length_m:.3f} m, "
-                   f"drive {pl.drive}{who}")
+                   f"drive {drive_word(pl.drive)}{who}")
         for i, seg in enumerate(pl.segments):
             out.append(_segment_line(i, seg))
         if project is not None:

@@ -40,7 +40,12 @@ from kinematics.check.door_crossing import door_station
 from kinematics.check.obstacles import DOOR_BOX_ALONG_M, DOOR_BOX_M, ObstacleIndex
 from kinematics.check.results import DoorPass, RouteCheck, Violation
 from kinematics.check.segment_parts import SegmentCache, SegmentResult, cache_key
-from kinematics.check.sweep import DEFAULT_TOLERANCE_M, Footprint, prepare_footprint
+from kinematics.check.sweep import (
+    DEFAULT_TOLERANCE_M,
+    Footprint,
+    prepare_footprint,
+    sweep_allowance,
+)
 from kinematics.check.violations import stretches, zone_stretches
 from kinematics.check.waypoints import WaypointCheck, grid_poses
 from kinematics.files.floorplan import check_footprint
@@ -136,7 +141,8 @@ class RouteChecker:
         return self.segments.computed
 
     def _sweep(self, seg: Segment) -> SegmentResult:
-        return sweep_segment(self.footprint, self.index, self.margin_m, self.tolerance_m, seg)
+        return sweep_segment(self.footprint, self.index, self.margin_m,
+                             sweep_allowance(self.tolerance_m), seg)
 
     def segment_result(self, seg: Segment) -> SegmentResult:
         """The segment's result, from the cache or swept now."""

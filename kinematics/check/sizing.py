@@ -36,6 +36,7 @@ from kinematics.check.sweep import (
     DEFAULT_TOLERANCE_M,
     MARGIN_SLACK_M,
     prepare_footprint,
+    sweep_allowance,
     swept_segment,
 )
 from kinematics.motion.segments import Segment
@@ -113,7 +114,7 @@ def clears(footprint: Any, segments: Sequence[Segment], index: ObstacleIndex, ma
     if order:
         seq = [i for i in order if i < len(segments)] + [i for i in seq if i not in order]
     for i in seq:
-        piece = swept_segment(fp, segments[i], tolerance_m)
+        piece = swept_segment(fp, segments[i], sweep_allowance(tolerance_m))
         near = index.within(piece, margin_m)
         if len(near) and float(np.min(shapely.distance(piece, index.geometries[near]))) \
                 < margin_m - MARGIN_SLACK_M:
@@ -342,7 +343,7 @@ def door_widths_needed(plan_or_segments: Any, chassis: Any, index: ObstacleIndex
     segs = _segments(plan_or_segments)
     fp = prepare_footprint(chassis.footprint)
     margin = float(chassis.margin_m)
-    pieces = [swept_segment(fp, s, tolerance_m) for s in segs]
+    pieces = [swept_segment(fp, s, sweep_allowance(tolerance_m)) for s in segs]
     if doors is None:
         crossed: set[int] = set()
         for p in pieces:

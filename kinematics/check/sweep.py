@@ -61,6 +61,7 @@ from numpy.typing import ArrayLike, NDArray
 from shapely.geometry import Polygon
 from shapely.geometry.base import BaseGeometry
 
+from kinematics.files.curves import CURVE_EXCESS_M
 from kinematics.motion.segments import Segment
 
 #: Default bound on how far the swept region may exceed the true one, metres.
@@ -70,6 +71,22 @@ DEFAULT_TOLERANCE_M = 0.002
 #: 0.04999999999999998 m from a wall 0.05 m away). One micrometre: far below the check's
 #: tolerance and the millimetres every report rounds to.
 MARGIN_SLACK_M = 1e-6
+
+
+def sweep_allowance(tolerance_m: float) -> float:
+    """How far a check's swept regions may exceed the true ones for a stated ``tolerance_m``:
+    the tolerance less what flattening the floor plan's curves may add
+    (:data:`kinematics.files.curves.CURVE_EXCESS_M`, 0.5 mm), never under half of it. With
+    the default 2 mm the swept region gets 1.5 mm, so a clearance to a drawn circle or arc is
+    still at most 2 mm below the truth (1.5 mm sweep + 0.5 mm flattening).
+
+    >>> sweep_allowance(0.002)
+    0.0015
+    """
+    t = float(tolerance_m)
+    return max(t - CURVE_EXCESS_M, 0.5 * t)
+
+
 #: Largest rotation swept as one piece (keeps every edge piece a simple polygon).
 MAX_CHUNK_RAD = math.pi / 2.0
 #: Share of the tolerance spent on drawing arcs; the rest is slack for rounding.

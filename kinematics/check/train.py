@@ -53,6 +53,7 @@ from kinematics.check.sweep import (
     placed_footprints,
     prepare_footprint,
     rotation_parts,
+    sweep_allowance,
     translation_parts,
 )
 from kinematics.motion.arrays import unique_sorted
@@ -314,6 +315,21 @@ def _chunk_station(stations: np.ndarray, segs: Sequence[Segment], ck: Chunk) -> 
     return float(stations[ck.segment]) + (ck.p0 if seg.kind != "pivot" else 0.0)
 
 
+def _trailer_station(trace: TrainTrace, j: int, fp: Footprint, ck: Chunk,
+                     stations: np.ndarray, segs: Sequence[Segment], x: float, y: float
+                     ) -> float:
+    """Route station where trailer ``j``, within chunk ``ck``, is placed nearest ``(x, y)``
+    (placements every 1 cm of the chunk's progress; a pivot's station is its start)."""
+    st = _chunk_station(stations, segs, ck)
+    if segs[ck.segment].kind == "pivot" or not ck.p1 > ck.p0:
+        return st
+    n = int(min(2000, max(8, math.ceil((ck.p1 - ck.p0) / 0.01))))
+    ps = np.linspace(ck.p0, ck.p1, n + 1)
+    placed = placed_footprints(fp, trace.poses(ck.segment, ps)[:, j + 1])
+    w = int(np.argmin(shapely.distance(placed, shapely.Point(x, y))))
+    return float(stations[ck.segment]) + float(ps[w])
+
+
 def _part_of(fp: Footprint, poses: np.ndarray, solid: Any) -> str:
     sel = poses[np.linspace(0, len(poses) - 1, min(len(poses), 24)).round().astype(int)]
     placed = placed_footprints(fp, sel)
@@ -329,10 +345,30 @@ def _part_of(fp: Footprint, poses: np.ndarray, solid: Any) -> str:
     return part_name(fp, bx, by)
 
 
+def _first_station(trace: TrainTrace, tj: int, fp: Footprint, ck: Chunk, stations, segs,
+                   solid: Any, margin: float, collide: bool) -> float:
+    """Route station where trailer ``tj`` first comes within ``margin`` of ``solid`` (or
+    touches it) inside chunk ``ck``: placements every 1 cm of the chunk's progress, the
+    station of the placement before the first that does (so at most 1 cm early, never
+    late); the chunk's start where no placement does (only its band reaches)."""
+    st = _chunk_station(stations, segs, ck)
+    if segs[ck.segment].kind == "pivot" or not ck.p1 > ck.p0:
+        return st
+    n = int(min(4000, max(8, math.ceil((ck.p1 - ck.p0) / 0.01))))
+    ps = np.linspace(ck.p0, ck.p1, n + 1)
+    placed = placed_footprints(fp, trace.poses(ck.segment, ps)[:, tj + 1])
+    d = shapely.distance(placed, solid)
+    bad = d <= 0.0 if collide else d < margin - MARGIN_SLACK_M
+    if not bad.any():
+        return st
+    k = int(np.argmax(bad))
+    return float(stations[ck.segment]) + float(ps[max(k - 1, 0)])
+
+
 def _stretch_violations(chunks: Sequence[Chunk], hits: Sequence[_BodyHit], segs, stations,
-                        index: ObstacleIndex, margin: float, fp: Footprint, body: str
-                        ) -> list[Violation]:
-    """One violation per run of consecutive chunks near the same solid."""
+                        index: ObstacleIndex, margin: float, fp: Footprint, body: str,
+                        trace: TrainTrace, tj: int) -> list[Violation]:
+    """One violation per run of consecutive chunks near the same solid (trailer ``tj``)."""
     by_solid: dict[int, list[_BodyHit]] = {}
     for h in hits:
         by_solid.setdefault(h.solid, []).append(h)
@@ -352,7 +388,8 @@ def _stretch_violations(chunks: Sequence[Chunk], hits: Sequence[_BodyHit], segs,
             ck = chunks[h0.chunk]
             solid = index.geometries[j]
             x, y = nearest_point(ck.parts, solid, bool(collide))
-            st = _chunk_station(stations, segs, ck)
+            st = _first_station(trace, tj, fp, ck, stations, segs, solid, margin,
+                                bool(collide))
             name = index.solids[j].name
             part = _part_of(fp, chunks[worst.chunk].poses, solid)
             if collide:
@@ -369,29 +406,38 @@ def _stretch_violations(chunks: Sequence[Chunk], hits: Sequence[_BodyHit], segs,
     return out
 
 
-def _trailer_doors(chunks: Sequence[Chunk], index: ObstacleIndex, stations, segs
+def _trailer_doors(chunks: Sequence[Chunk], index: ObstacleIndex, stations, segs,
+                   trace: TrainTrace, j: int, fp: Footprint
                    ) -> dict[int, tuple[float, int, float]]:
-    """Per door the trailer's band crosses: least clearance in the door's box, and the
-    segment and station of the chunk where it is least."""
-    out: dict[int, tuple[float, int, float]] = {}
+    """Per door trailer ``j``'s band crosses: least clearance in the door's box, and the
+    segment and route station where the trailer comes that near (the tug's station then)."""
+    best: dict[int, tuple[float, Chunk, int]] = {}
     if not len(index.doors):
-        return out
+        return {}
     for ck in chunks:
         crossed = unique_sorted(index.door_tree.query(ck.parts, predicate="intersects")[1])
         for k in crossed.tolist():
             box = index.door_boxes[k]
             local = shapely.intersection(ck.parts, box)
             local = local[~shapely.is_empty(local)]
-            c = math.inf
-            for j in index.within(box, 0.0).tolist():
-                solid = index.geometries[j]
+            c, cj = math.inf, -1
+            for jj in index.within(box, 0.0).tolist():
+                solid = index.geometries[jj]
                 d = float(np.min(shapely.distance(local, solid))) if len(local) else math.inf
-                c = min(c, d if d > 0.0 else -overlap_depth(SweptParts(local).union, solid))
-            old = out.get(k)
-            if old is None:
-                out[k] = (c, ck.segment, _chunk_station(stations, segs, ck))
-            elif c < old[0]:
-                out[k] = (c, ck.segment, _chunk_station(stations, segs, ck))
+                d = d if d > 0.0 else -overlap_depth(SweptParts(local).union, solid)
+                if d < c:
+                    c, cj = d, jj
+            if k not in best or c < best[k][0]:
+                best[k] = (c, ck, cj)
+    out = {}
+    for k, (c, ck, cj) in best.items():
+        st = _chunk_station(stations, segs, ck)
+        if cj >= 0 and math.isfinite(c):
+            local = shapely.intersection(ck.parts, index.door_boxes[k])
+            local = local[~shapely.is_empty(local)]
+            x, y = nearest_point(local, index.geometries[cj], c <= 0.0)
+            st = _trailer_station(trace, j, fp, ck, stations, segs, x, y)
+        out[k] = (c, ck.segment, st)
     return out
 
 
@@ -472,23 +518,25 @@ def check_train(plan_or_segments: Any, chassis: Any, index: ObstacleIndex,
         fp = prepare_footprint(t.footprint)
         margin = chassis.trailer_margin(j) if hasattr(chassis, "trailer_margin") else \
             (t.margin_m if t.margin_m is not None else chassis.margin_m)
-        chunks = sweep_trailer(trace, j, fp, tolerance_m)
+        chunks = sweep_trailer(trace, j, fp, sweep_allowance(tolerance_m))
         all_chunks.append(chunks)
         for ck in chunks:
             extra_parts[ck.segment].append(ck.parts)
         body = body_name(j + 1, chassis)
         hits, best, bk, bj = _trailer_hits(chunks, index, margin)
         violations += _stretch_violations(chunks, hits, segs, stations, index, margin, fp,
-                                          body)
+                                          body, trace, j)
         c_min = None if bk is None else float(best)
         bodies.append({"body": body, "min_clearance_m": c_min, "margin_m": margin})
         if c_min is not None and (least is None or c_min < least):
             least = c_min
             ck = chunks[bk]
             x, y = nearest_point(ck.parts, index.geometries[bj], c_min <= 0.0)
-            at = {"x": x, "y": y, "station_m": _chunk_station(stations, segs, ck),
+            at = {"x": x, "y": y,
+                  "station_m": _trailer_station(trace, j, fp, ck, stations, segs, x, y),
                   "segment": ck.segment, "solid": index.solids[bj].name, "body": body}
-        for k, (c, si, st) in _trailer_doors(chunks, index, stations, segs).items():
+        for k, (c, si, st) in _trailer_doors(chunks, index, stations, segs, trace, j,
+                                                  fp).items():
             old = doors.get(k)
             cval = None if not math.isfinite(c) else float(c)
             if old is None:

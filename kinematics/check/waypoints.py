@@ -160,27 +160,32 @@ class WaypointCheck:
             keys = [cache_key(s) for s in segs]
             grids = [self.segment_grid(s) for s in segs]
             boxes = np.array([g[2] for g in grids])
-            ks, iis = candidate_pairs(xy, boxes)
-            best = [math.inf] * len(xy)
-            found = [(0, 0)] * len(xy)
-            near = self._wp_near
-            if len(near) > 4 * self.cache_size:
-                near.clear()
-            pts = xy.tolist()
-            # Pairs come in waypoint order, then segment order: a strict < keeps the first
-            # nearest in route order (first segment, then first row among equal distances).
-            for k, i in zip(ks.tolist(), iis.tolist()):
-                wx, wy = pts[k]
-                key = (keys[i], wx, wy)
-                got = near.get(key)
-                if got is None:
-                    poses = grids[i][1]
-                    d = np.hypot(poses[:, 0] - wx, poses[:, 1] - wy)
-                    r = int(np.argmin(d))
-                    got = near[key] = (float(d[r]), r)
-                if got[0] < best[k]:
-                    best[k] = got[0]
-                    found[k] = (i, got[1])
+            pairs = candidate_pairs(xy, boxes, limit=BULK_PAIRS)
+            if pairs is None:
+                best, found = nearest_in_bulk(xy, grids)
+            else:
+                ks, iis = pairs
+                best = [math.inf] * len(xy)
+                found = [(0, 0)] * len(xy)
+                near = self._wp_near
+                if len(near) > 4 * self.cache_size:
+                    near.clear()
+                pts = xy.tolist()
+                # Pairs come in waypoint order, then segment order: a strict < keeps the
+                # first nearest in route order (first segment, then first row among equal
+                # distances).
+                for k, i in zip(ks.tolist(), iis.tolist()):
+                    wx, wy = pts[k]
+                    key = (keys[i], wx, wy)
+                    got = near.get(key)
+                    if got is None:
+                        poses = grids[i][1]
+                        d = np.hypot(poses[:, 0] - wx, poses[:, 1] - wy)
+                        r = int(np.argmin(d))
+                        got = near[key] = (float(d[r]), r)
+                    if got[0] < best[k]:
+                        best[k] = got[0]
+                        found[k] = (i, got[1])
             for k, (i, r) in enumerate(found):
                 seg_of[k] = i
                 st_of[k] = float(stations[i]) + float(grids[i][0][r])
@@ -210,6 +215,55 @@ class WaypointCheck:
 #: Waypoints x segments up to which the candidates come from one dense table; beyond, from
 #: a tree of the segments' boxes (the same pairs, memory linear in the route).
 DENSE_PAIRS = 40_000
+#: Candidate pairs (on a long route) beyond which the nearest grid poses are found in bulk
+#: (:func:`nearest_in_bulk`) rather than pair by pair with a cache. A route that passes the
+#: same place many times (a patrol loop driven over and over) has pairs growing as the square
+#: of its waypoints; in bulk they cost array operations, not Python steps and cache entries.
+BULK_PAIRS = 20_000
+#: Nearest grid poses proposed per waypoint by the tree in :func:`nearest_in_bulk`.
+BULK_K = 8
+
+
+def nearest_in_bulk(xy: np.ndarray, grids: Sequence[tuple]
+                    ) -> tuple[list[float], list[tuple[int, int]]]:
+    """Each waypoint's nearest grid pose over all segments' grids: the least distance and
+    ``(segment, row)``, the first in route order among equal distances.
+
+    The same answer, to the last bit, as the pair-by-pair search of
+    :meth:`WaypointCheck.violations` (which looks only at segments whose box may hold the
+    nearest pose, so its nearest is the route's nearest): a k-d tree of every grid pose
+    (scipy.spatial.cKDTree, an exact nearest-neighbour search) proposes the :data:`BULK_K`
+    nearest, their distances are recomputed with the same ``np.hypot`` of the same
+    differences, and the least, first in route order, is kept. Where the proposals may not
+    hold every pose that ties (rounding of the tree's distances aside), all poses within a
+    hair of the least are asked for instead. Time O(P log P) in the P grid poses, memory
+    linear, however many times the route passes the same place.
+    """
+    from scipy.spatial import cKDTree
+
+    n = len(xy)
+    lens = np.array([len(g[1]) for g in grids], dtype=np.int64)
+    offs = np.zeros(len(grids) + 1, dtype=np.int64)
+    np.cumsum(lens, out=offs[1:])
+    allp = np.concatenate([g[1][:, :2] for g in grids])
+    tree = cKDTree(allp)
+    k = min(BULK_K, len(allp))
+    dk, jk = tree.query(xy, k=k)
+    dk, jk = dk.reshape(n, k), jk.reshape(n, k)
+    bound = dk[:, 0] * (1.0 + 1e-9) + 1e-12
+    best: list[float] = []
+    found: list[tuple[int, int]] = []
+    for w in range(n):
+        cand = jk[w]
+        if k < len(allp) and dk[w, -1] <= bound[w]:
+            cand = np.asarray(tree.query_ball_point(xy[w], bound[w]), dtype=np.int64)
+        d = np.hypot(allp[cand, 0] - xy[w, 0], allp[cand, 1] - xy[w, 1])
+        least = d.min()
+        j = int(cand[d == least].min())
+        i = int(np.searchsorted(offs, j, side="right")) - 1
+        best.append(float(least))
+        found.append((i, j - int(offs[i])))
+    return best, found
 
 
 def _bounds(tx: np.ndarray, ty: np.ndarray, b: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
@@ -223,7 +277,12 @@ def _bounds(tx: np.ndarray, ty: np.ndarray, b: np.ndarray) -> tuple[np.ndarray, 
     return lb, ub
 
 
-def candidate_pairs(xy: np.ndarray, boxes: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+#: Waypoints whose candidate pairs are found together in :func:`candidate_pairs`.
+_PAIR_CHUNK = 256
+
+
+def candidate_pairs(xy: np.ndarray, boxes: np.ndarray, limit: int | None = None
+                    ) -> tuple[np.ndarray, np.ndarray] | None:
     """Pairs ``(waypoint k, segment i)``, in waypoint order then segment order, of the
     segments whose grid box may hold waypoint ``k``'s nearest grid pose: those whose box is
     no farther than the nearest far box corner (a little slack so rounding never drops the
@@ -234,6 +293,9 @@ def candidate_pairs(xy: np.ndarray, boxes: np.ndarray) -> tuple[np.ndarray, np.n
     then for the boxes within that bound; the bounds of those pairs are computed with the
     same operations, so the pairs are exactly the dense table's, in O(n log n) time and
     memory linear in the route.
+
+    With ``limit``, a long route whose pairs would number more than ``limit`` (one that
+    passes the same places over and over) gives ``None`` as soon as that is known.
     """
     n, m = len(xy), len(boxes)
     if n * m <= DENSE_PAIRS:
@@ -243,30 +305,35 @@ def candidate_pairs(xy: np.ndarray, boxes: np.ndarray) -> tuple[np.ndarray, np.n
     tree = shapely.STRtree(shapely.box(boxes[:, 0], boxes[:, 1], boxes[:, 2], boxes[:, 3]))
     x, y = xy[:, 0], xy[:, 1]
     # An upper bound on each waypoint's least far corner: any box's far corner will do;
-    # take the boxes whose envelope meets a square about the waypoint, growing it until
-    # every waypoint has one.
+    # take the nearest box's (one per waypoint, so this step stays linear however many
+    # boxes crowd round a waypoint).
+    kk, ii = tree.query_nearest(shapely.points(xy), all_matches=False)
     upper = np.full(n, np.inf)
-    todo = np.arange(n)
-    half = 0.0
-    while len(todo):
-        q = shapely.box(x[todo] - half, y[todo] - half, x[todo] + half, y[todo] + half)
-        kk, ii = tree.query(q)
-        if len(kk):
-            k = todo[kk]
-            _, ub = _bounds(x[k], y[k], boxes[ii])
-            np.minimum.at(upper, k, ub)
-        todo = todo[~np.isfinite(upper[todo])]
-        half = 1.0 if half == 0.0 else 2.0 * half
+    _, ub = _bounds(x[kk], y[kk], boxes[ii])
+    np.minimum.at(upper, kk, ub)
     # Every box within the bound (its envelope meets the square of that half-size), then
     # the dense table's test on those pairs only.
     reach = upper * (1.0 + 1e-9) + 1e-12
     reach = reach * (1.0 + 1e-9) + 1e-9  # never narrower than the test below
-    kk, ii = tree.query(shapely.box(x - reach, y - reach, x + reach, y + reach))
-    lb, ub = _bounds(x[kk], y[kk], boxes[ii])
-    least = np.full(n, np.inf)
-    np.minimum.at(least, kk, ub)
-    keep = lb <= least[kk] * (1.0 + 1e-9) + 1e-12
-    kk, ii = kk[keep], ii[keep]
+    # In chunks of waypoints (every pair of a waypoint falls in its own chunk), so that a
+    # route crowding many segments round each waypoint is found out before its pairs fill
+    # memory.
+    out_k, out_i, count = [], [], 0
+    for lo in range(0, n, _PAIR_CHUNK):
+        hi = min(n, lo + _PAIR_CHUNK)
+        xs, ys, rs = x[lo:hi], y[lo:hi], reach[lo:hi]
+        kk, ii = tree.query(shapely.box(xs - rs, ys - rs, xs + rs, ys + rs))
+        lb, ub = _bounds(xs[kk], ys[kk], boxes[ii])
+        least = np.full(hi - lo, np.inf)
+        np.minimum.at(least, kk, ub)
+        keep = lb <= least[kk] * (1.0 + 1e-9) + 1e-12
+        kk, ii = kk[keep] + lo, ii[keep]
+        count += len(kk)
+        if limit is not None and count > limit:
+            return None
+        out_k.append(kk)
+        out_i.append(ii)
+    kk, ii = np.concatenate(out_k), np.concatenate(out_i)
     order = np.lexsort((ii, kk))
     return kk[order], ii[order]
 

@@ -20,9 +20,15 @@ import numpy as np
 MAX_CHORDS = 100_000
 """More chords than this for one curve means a nonsense radius; the file is refused."""
 
-FLATTEN_TOLERANCE_M = 0.001
+FLATTEN_TOLERANCE_M = 0.00025
 """Chord tolerance of curved outlines in plan metres. Curved outlines are grown by it, so a
-flattened solid exceeds the true one by at most 2 mm: inside the check's conservative band."""
+flattened solid exceeds the true one by at most twice this, :data:`CURVE_EXCESS_M`."""
+
+CURVE_EXCESS_M = 2.0 * FLATTEN_TOLERANCE_M
+"""How far a flattened curve (a reader's, or a circle obstacle's) may stand outside the true
+curve, metres (0.5 mm). The check keeps this much of its tolerance back for it
+(:func:`kinematics.check.sweep.sweep_allowance`), so a clearance to a drawn curve is still at
+most the stated tolerance below the truth."""
 
 def chord_count(radius: float, sweep_rad: float, sagitta: float) -> int:
     """Chords needed so an arc of ``radius`` sweeping ``sweep_rad`` deviates by <= ``sagitta``.

@@ -8,14 +8,16 @@ What is read, from model space only:
   any depth. An entity on layer ``0`` inside a block takes the layer of its INSERT, as in
   the DXF convention.
 - Curves are flattened outward, so a clearance is never read larger than the drawing's: a
-  circle becomes a circumscribed polygon whose vertices lie at most :data:`SAGITTA_M` (1 mm)
+  circle becomes a circumscribed polygon whose vertices lie at most :data:`SAGITTA_M` (0.25 mm)
   outside it; arcs and polyline bulges become chords whose sagitta,
-  ``r (1 - cos(dtheta / 2))`` for a chord spanning ``dtheta``, is at most 1 mm, and
-  ellipses and splines are sampled evenly to the same 1 mm (for a spline, Wang's bound on
+  ``r (1 - cos(dtheta / 2))`` for a chord spanning ``dtheta``, is at most 0.25 mm,
+  and ellipses and splines are sampled evenly to the same 0.25 mm (for a spline, Wang's bound on
   each Bezier piece), their size checked first, in plan metres
-  after every block transform. An outline holding such chords is then grown by 1 mm (a
-  solid outward, a wall on both faces: its thickness plus 2 mm), so the flattened solid
-  contains the true one and exceeds it by at most 2 mm.
+  after every block transform. An outline holding such chords is then grown by 0.25 mm
+  (a solid outward, a wall on both faces: its thickness plus 0.5 mm), so the flattened solid
+  contains the true one and exceeds it by at most
+  :data:`~kinematics.files.curves.CURVE_EXCESS_M` (0.5 mm), which the check keeps back from
+  its tolerance.
 - Units come from the header variable ``$INSUNITS`` (1 inch, 2 foot, 4 millimetre,
   5 centimetre, 6 metre, ...); ``0`` (unitless) is read as metres. ``units=`` ("mm", "cm",
   "m", "in", "ft") overrides the header: architects often draw in millimetres and leave

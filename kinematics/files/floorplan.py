@@ -62,7 +62,7 @@ class Wall:
 #: Smallest circle obstacle read, metres (1 mm).
 MIN_CIRCLE_M = 1.0e-3
 #: How far the polygon of a circle obstacle may stand outside the circle, metres.
-CIRCLE_TOLERANCE_M = 0.001
+CIRCLE_TOLERANCE_M = 0.00025
 
 
 def circumscribed_circle(centre: Point, radius_m: float,

@@ -134,6 +134,32 @@ def _where_constant(text: str) -> str:
     return ""
 
 
+class _Constant:
+    """Stands in for a NaN / Infinity literal while its key path is looked for."""
+
+
+def _constant_key(text: str) -> str:
+    """The key path (``zones[0].speed_mps``) of the first NaN / Infinity literal, or ``""``
+    (the text parsed a second time with the literals kept as markers)."""
+    try:
+        tree = json.loads(text, parse_constant=lambda _n: _Constant(), parse_int=_int_or_inf)
+    except (ValueError, RecursionError):
+        return ""
+    stack: list[tuple[Any, str]] = [(tree, "")]
+    while stack:
+        node, path = stack.pop()
+        if isinstance(node, _Constant):
+            return path
+        if isinstance(node, dict):
+            items = [((f"{path}.{k}" if path else str(k)), v) for k, v in node.items()]
+        elif isinstance(node, list):
+            items = [(f"{path}[{i}]", v) for i, v in enumerate(node)]
+        else:
+            continue
+        stack.extend((v, kp) for kp, v in reversed(items))
+    return ""
+
+
 def _int_or_inf(literal: str) -> int | float:
     """An integer literal; one beyond any float's range reads as infinity, so it meets the
     same "expected a finite number" as ``1e999`` does (RFC 8259 section 6 lets a parser limit
@@ -159,7 +185,11 @@ def parse_json(text: str, file: str = "<text>") -> Any:
         raise FileReadError(file, f"line {exc.lineno}, column {exc.colno}",
                             f"invalid JSON ({exc.msg})") from None
     except ValueError as exc:
-        raise FileReadError(file, _where_constant(text), str(exc)) from None
+        where = _where_constant(text)
+        key = _constant_key(text)
+        if key:
+            where = f"{where} ({key})" if where else key
+        raise FileReadError(file, where, str(exc)) from None
     except RecursionError:
         raise FileReadError(file, "", "JSON nested too deeply") from None
 

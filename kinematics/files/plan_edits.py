@@ -180,8 +180,16 @@ def move_vertex(fp: FloorPlan, kind: str, index: int, vertex: int, to: Sequence[
         return _with(fp, kind, items)
     pts = list(_vertex_points(el))
     pts[vertex] = _pt(to)
-    items[index] = _set_points(el, tuple(pts))
+    items[index] = _zone_checked(_set_points(el, tuple(pts)))
     return _with(fp, kind, items)
+
+
+def _zone_checked(el: object) -> object:
+    """``el``, refused (ValueError) when it is a zone whose outline the file would refuse
+    (crossing itself, enclosing no area): an edit must never save what cannot be read."""
+    if isinstance(el, Zone):
+        make_zone(el.kind, el.points, el.label, el.value)
+    return el
 
 
 def insert_vertex(fp: FloorPlan, kind: str, index: int, before: int, at: Sequence[float]
@@ -192,7 +200,7 @@ def insert_vertex(fp: FloorPlan, kind: str, index: int, before: int, at: Sequenc
     items = list(_items(fp, kind))
     pts = list(_vertex_points(items[index]))
     pts.insert(before, _pt(at))
-    items[index] = replace(items[index], points=tuple(pts))
+    items[index] = _zone_checked(replace(items[index], points=tuple(pts)))
     return _with(fp, kind, items)
 
 
@@ -205,7 +213,7 @@ def delete_vertex(fp: FloorPlan, kind: str, index: int, vertex: int) -> FloorPla
     if kind == "door" or len(pts) - 1 < least:
         raise ValueError(f"a {kind} needs at least {least} points")
     del pts[vertex]
-    items[index] = replace(el, points=tuple(pts))
+    items[index] = _zone_checked(replace(el, points=tuple(pts)))
     return _with(fp, kind, items)
 
 

@@ -49,13 +49,23 @@ DRIVE_ALIASES = {"tracked": "differential", "skid-steer": "differential",
 Point = tuple[float, float]
 
 
+def drive_word(drive: str) -> str:
+    """``drive`` spelt as the trade writes it in a sentence (Ackermann is a name; the file
+    key stays ``ackermann``).
+
+    >>> drive_word("ackermann"), drive_word("mecanum")
+    ('Ackermann', 'mecanum')
+    """
+    return "Ackermann" if drive == "ackermann" else drive
+
+
 def a_drive(drive: str) -> str:
     """``drive`` with its article, spelt as the trade writes it for a message.
 
     >>> a_drive("ackermann"), a_drive("differential")
     ('an Ackermann', 'a differential')
     """
-    word = "Ackermann" if drive == "ackermann" else drive
+    word = drive_word(drive)
     return ("an " if word[:1].lower() in "aeiou" else "a ") + word
 
 

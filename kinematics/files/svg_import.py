@@ -17,10 +17,10 @@ What is read:
   to centre form, SVG 1.1 appendix F.6.5) by chords of sagitta at most
   :data:`TOLERANCE_M`; Bezier curves by uniform parameter steps chosen from the bound
   ``h**2 / 8 * max|B''|`` on the error of linear interpolation, so the polyline stays within
-  the same 1 mm. The bound is applied in plan metres after every transform. Chords lie
+  the same 0.25 mm. The bound is applied in plan metres after every transform. Chords lie
   inside the curve, so an outline holding curves is then grown by the tolerance (a solid
-  outward, a wall on both faces: its thickness plus 2 mm): the flattened solid contains the
-  true one and exceeds it by at most 2 mm, and a clearance is never read larger.
+  outward, a wall on both faces: its thickness plus 0.5 mm): the flattened solid contains the
+  true one and exceeds it by at most 0.5 mm, and a clearance is never read larger.
 - Units: one SVG user unit (of the root ``viewBox`` when there is one) is
   ``metres_per_unit`` metres (default 0.01, a drawing in centimetres). The SVG y axis
   points down; it is flipped so plan y points up: ``y_plan = (bottom - y) * metres_per_unit``
@@ -693,6 +693,23 @@ def _read_root(p: Path) -> Element:
         raise FileReadError(file, "line 1", f"expected an <svg> root element, got "
                                             f"<{one_line(_local(root.tag), 40)}>")
     return root
+
+
+def svg_groups(path: str | Path, limit: int = 500) -> list[str]:
+    """The names a zone rule can match: each group's Inkscape layer label, else its id, in
+    drawing order, without repeats (at most ``limit``). Raises :class:`FileReadError` as
+    :func:`import_svg` would for an unreadable file."""
+    root = _read_root(Path(path))
+    out: list[str] = []
+    for el in root.iter():
+        if _local(el.tag) != "g":
+            continue
+        name = (el.get(_INKSCAPE_LABEL) or el.get("id") or "").strip()
+        if name and name not in out:
+            out.append(name)
+            if len(out) >= limit:
+                break
+    return out
 
 
 def import_svg(path: str | Path, metres_per_unit: float = 0.01,

@@ -174,6 +174,43 @@ def _snap(a: NDArray[np.float64]) -> None:
     a[(a > _SNAP_BELOW) | (a < 0.0)] = 0.0
 
 
+#: An LSL / RSR straight shorter than this (in radii) joins circles that coincide to
+#: rounding: the word is then one arc (its position error at most this times the radius).
+_SAME_CIRCLE = 1e-9
+#: Widest snap (rad) of a first or last LSL / RSR arc to no turn (see _one_arc).
+_NOISE_SNAP_MAX = 1e-6
+
+
+def _one_arc(piece: NDArray[np.float64], turn: NDArray[np.float64], d: NDArray[np.float64],
+             gap: NDArray[np.float64]) -> None:
+    """Mend an LSL / RSR word ``(3, N)`` whose first and last arcs add up to its turn plus a
+    whole circle because the straight's direction is rounding noise, in place.
+
+    That direction is ``atan2`` of a vector of the straight's length ``p`` (radii) whose
+    components carry rounding errors of a few ``eps (d + 2)``, so it is good to about
+    ``8 eps (d + 2) / p`` rad: an arc of nearly 0 can wrap to nearly 2 pi. Where the arcs
+    add up to more than the turn (mod 2 pi) plus pi, an end arc within that error of 2 pi
+    becomes no turn, and where the circles' centres (``gap`` apart, radii, from their
+    coordinates: ``sqrt`` of the squared length formula is only good to ~1e-8) coincide
+    within ``_SAME_CIRCLE`` the word becomes one arc of the turn. Answers that are the turn
+    itself stay as they were.
+    """
+    arc = mod2pi(turn)
+    loop = piece[0] + piece[2] > arc + math.pi
+    if not loop.any():
+        return
+    one = loop & (gap < _SAME_CIRCLE)
+    if one.any():
+        piece[0, one] = arc[one]
+        piece[1, one] = 0.0
+        piece[2, one] = 0.0
+    with np.errstate(divide="ignore"):
+        tol = 8.0 * np.finfo(float).eps * (d + 2.0) / gap
+    np.clip(tol, _FULL_TURN_SNAP, _NOISE_SNAP_MAX, out=tol)
+    for k in (0, 2):
+        piece[k, loop & (piece[k] > TWO_PI - tol)] = 0.0
+
+
 def _dubins_words(d: NDArray[np.float64], alpha: NDArray[np.float64], beta: NDArray[np.float64],
                   trig: tuple[NDArray[np.float64], ...]
                   ) -> tuple[NDArray[np.float64], NDArray[np.float64]]:
@@ -209,6 +246,7 @@ def _dubins_words(d: NDArray[np.float64], alpha: NDArray[np.float64], beta: NDAr
     np.sqrt(np.maximum(p2, 0.0, out=tmp), out=out[0, 1])
     _wrap(np.subtract(beta, th_lsl, out=tmp), out[0, 2])
     np.less(p2, -tol, out=bad[0])
+    _one_arc(out[0], beta - alpha, d, np.hypot(cb - ca, d + sa - sb))
     # RSR
     np.subtract(base, 2.0 * sd, out=p2)
     th_rsr = np.arctan2(ca - cb, d - sa + sb)
@@ -216,6 +254,7 @@ def _dubins_words(d: NDArray[np.float64], alpha: NDArray[np.float64], beta: NDAr
     np.sqrt(np.maximum(p2, 0.0, out=tmp), out=out[1, 1])
     _wrap(np.subtract(th_rsr, beta, out=tmp), out[1, 2])
     np.less(p2, -tol, out=bad[1])
+    _one_arc(out[1], alpha - beta, d, np.hypot(ca - cb, d - sa + sb))
     # LSR: the straight is an inner tangent; needs the circles apart.
     sp = sa + sb
     sp *= 2.0 * d

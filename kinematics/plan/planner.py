@@ -58,7 +58,14 @@ from dataclasses import dataclass, field
 import numpy as np
 
 from kinematics.errors import ValidationError
-from kinematics.files.project import DRIVE_ALIASES, Chassis, Project, Route, route_transitions
+from kinematics.files.project import (
+    DRIVE_ALIASES,
+    Chassis,
+    Project,
+    Route,
+    drive_word,
+    route_transitions,
+)
 from kinematics.files.validate import MAX_PLAN_LENGTH_M, MAX_ROUTE_SPAN_M, too_spread
 from kinematics.motion.drives import drive_for
 from kinematics.motion.segments import Segment, holonomic_line, line, path_length, pivot
@@ -496,8 +503,8 @@ def _radius(route: Route, min_r: float, pts: _Points, b: _Builder, drive: str) -
     if asked <= 0.0:
         b.notes.append(f"turn_radius_m not set: using the chassis minimum {min_r:.4g} m")
         return min_r
-    b.issue("turn_radius", f"route asks for turn radius {asked:.4g} m but the {drive} chassis "
-            f"turns no tighter than {min_r:.4g} m; planned with {min_r:.4g} m",
+    b.issue("turn_radius", f"route asks for turn radius {asked:.4g} m but the {drive_word(drive)} "
+            f"chassis turns no tighter than {min_r:.4g} m; planned with {min_r:.4g} m",
             None, None, pts.xy[0], min_r - asked)
     return min_r
 
@@ -745,11 +752,12 @@ def _check_radii(b: _Builder, min_r: float, can_pivot: bool, drive: str) -> None
                 r < min_r * (1.0 - RADIUS_REL_TOL):
             what = "arc of radius" if s.kind == "arc" else "clothoid reaching radius"
             b.issue("turn_radius", f"segment {i}: {what} {r:.4g} m is tighter "
-                    f"than the {drive} chassis turns ({min_r:.4g} m)", None, i, s.start,
+                    f"than the {drive_word(drive)} chassis turns ({min_r:.4g} m)", None, i, s.start,
                     min_r - r)
         elif s.kind == "pivot" and not can_pivot:
-            b.issue("turn_radius", f"segment {i}: pivot on the spot, but the {drive} chassis "
-                    f"turns no tighter than {min_r:.4g} m", None, i, s.start, min_r)
+            b.issue("turn_radius", f"segment {i}: pivot on the spot, but the "
+                    f"{drive_word(drive)} chassis turns no tighter than {min_r:.4g} m", None, i,
+                    s.start, min_r)
 
 
 # -- public ---------------------------------------------------------------------------------

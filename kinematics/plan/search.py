@@ -13,9 +13,12 @@ set on a grid of cells and heading bins:
 - **Collision check** with the checker's own footprint, margin and conservative sweep
   (:func:`kinematics.check.sweep.swept_parts`): each primitive is swept once from the origin
   and moved rigidly to every node; a motion is kept only where every swept part is at least the
-  margin (plus ``SAFETY_M``) from every solid of the :class:`ObstacleIndex`. A clearance grid
+  margin (plus ``SAFETY_M``) from every solid of the :class:`ObstacleIndex`. The plan's zones
+  are honoured as the check rules them (:mod:`kinematics.check.zones`): keep-out zones are
+  barred to the footprint like solids, the part of a motion inside a margin zone keeps that
+  zone's margin, and no motion drives against a one-way zone. A clearance grid
   (:mod:`kinematics.plan.heuristics`) skips the exact test of a motion that stays far from
-  every solid.
+  every solid and keep-out zone (by the widest margin zone's margin).
 - **Cost**: path length; reversing costs ``reverse_factor`` times its length and every change
   of direction ``switch_penalty_m``; pivots cost their turn times ``pivot_cost_m_per_rad``; and
   a clearance term grows linearly from 0 where the swept motion keeps ``clearance_pref_m`` above
@@ -34,7 +37,8 @@ set on a grid of cells and heading bins:
   whose planner connection is clear (doubling then bisection). The route is then planned by
   :func:`~kinematics.plan.planner.plan_route` like any sketched route (so it is lines and arcs,
   and clothoids where the route's transitions ask for them and the planner makes them) and
-  re-checked with :func:`kinematics.check.clearance.check_route` before it is offered.
+  re-checked with :func:`kinematics.check.train.check_train` (the tug and every trailer it
+  tows, zones included) before it is offered.
 
 :class:`RouteFinder` offers the uses: :meth:`~RouteFinder.find` (first waypoint to last,
 through the interior waypoints in order, with their headings where set) and
@@ -55,7 +59,7 @@ import shapely
 from numpy.typing import NDArray
 from shapely.geometry import Point
 
-from kinematics.check.clearance import ObstacleIndex, RouteCheck, check_route
+from kinematics.check.clearance import ObstacleIndex, RouteCheck
 from kinematics.check.sweep import (
     DEFAULT_TOLERANCE_M,
     farthest_radius,
@@ -63,9 +67,12 @@ from kinematics.check.sweep import (
     prepare_footprint,
     swept_parts,
 )
+from kinematics.check.train import check_train
+from kinematics.check.zones import wrong_way
 from kinematics.errors import ValidationError
 from kinematics.files.project import Chassis, Project, Route, Stop, Waypoint
 from kinematics.motion.segments import Segment, arc, holonomic_line, line, pivot, poses_along
+from kinematics.motion.trailers import hitch_angles, trace_train
 from kinematics.plan import dubins, reeds_shepp
 from kinematics.plan.heuristics import ClearanceGrid
 from kinematics.plan.planner import RoutePlan, _drive_limits, plan_route
@@ -74,7 +81,12 @@ from kinematics.plan.planner import RoutePlan, _drive_limits, plan_route
 SAFETY_M = 1e-3
 #: The search area reaches this far (m) beyond the floor plan and the waypoints.
 AREA_PAD_M = 1.0
+#: Hitch angles are binned this coarsely (rad) in the search's closed set for a train.
+HITCH_BIN_RAD = math.radians(15.0)
+#: Hitch angles are sampled this often (m of tug travel) against the jackknife limit.
+HITCH_STEP_M = 0.02
 Pose = tuple[float, float, float]
+Headings = tuple[float, ...]
 ProgressFn = Callable[[float, int], None]
 StopFn = Callable[[], bool]
 
@@ -217,6 +229,13 @@ def _move(parts: NDArray[np.object_], pose: Sequence[float]) -> NDArray[np.objec
     return shapely.transform(parts, f)
 
 
+def _placed(seg: Segment, pose: Sequence[float]) -> Segment:
+    """Primitive ``seg`` (from the origin pose) started at ``pose`` instead."""
+    course = None if seg.course_rad is None else seg.course_rad + pose[2]
+    return replace(seg, start=(float(pose[0]), float(pose[1]), float(pose[2])),
+                   course_rad=course)
+
+
 def _compose(p: Sequence[float], rel: Sequence[float]) -> Pose:
     c, s = math.cos(p[2]), math.sin(p[2])
     return (p[0] + c * rel[0] - s * rel[1], p[1] + s * rel[0] + c * rel[1], p[2] + rel[2])
@@ -259,6 +278,34 @@ class RouteFinder:
         width = float(ring[:, 1].max() - ring[:, 1].min())
         length = float(ring[:, 0].max() - ring[:, 0].min())
         self.step = float(self.settings.step_m or min(0.5, max(0.08, 0.35 * min(width, length))))
+        # Zones of the plan the search honours as the check does (kinematics.check.zones):
+        # keep-out zones as solids the footprint must not meet, margin zones by the margin
+        # inside them, one-way zones by the direction of travel in them.
+        self.zones = self.index.zones
+        z = self.zones
+        self._keep_out = len(z.keep_out) > 0
+        self._margins = len(z.margin) > 0
+        self._one_way = len(z.one_way) > 0
+        zone_margins = [float(m.margin_m or 0.0) for m in z.margin.zones]
+        # Most any margin zone asks beyond the chassis margin (the clearance grid's lower
+        # bound must cover it before it skips an exact check).
+        self._extra_max = max([0.0] + [m - self.margin for m in zone_margins])
+        self._least_margin = min([self.margin] + zone_margins
+                                 + ([0.0] if self._keep_out else []))
+        # A towed train: each trailer's band is swept along every motion the search tries,
+        # from the trailer headings the node carries (the train's state), and kept clear of
+        # the solids and keep-out zones by its own margin, hitch angles within their limits.
+        self.trailers = tuple(getattr(self.chassis, "trailers", ()) or ())
+        self._tfp = [prepare_footprint(t.footprint) for t in self.trailers]
+        self._tmargin = [float(self.chassis.trailer_margin(j)) for j in range(len(self.trailers))]
+        self._tlimit = [math.radians(t.max_hitch_deg) for t in self.trailers]
+        # Every trailer lies within this distance of the tug's reference point.
+        reach, x = 0.0, 0.0
+        for t, f in zip(self.trailers, self._tfp):
+            x += abs(t.hitch_x_m) + abs(t.drawbar_m)
+            reach = max(reach, x + f.r_far_m)
+            x += f.r_far_m
+        self._train_reach = reach
         self._prims: dict[tuple, list[Primitive]] = {}
         self._grid: ClearanceGrid | None = None
         self._grid_bounds: tuple | None = None
@@ -268,7 +315,7 @@ class RouteFinder:
         xs = [w.x for w in route.waypoints]
         ys = [w.y for w in route.waypoints]
         if len(self.index):
-            b = shapely.total_bounds(self.index.geometries)
+            b = shapely.total_bounds(self._grid_geometries())
             xs += [b[0], b[2]]
             ys += [b[1], b[3]]
         pad = self.r_far + AREA_PAD_M
@@ -281,10 +328,16 @@ class RouteFinder:
                 self._grid_bounds[0] <= area[0] and self._grid_bounds[1] <= area[1]
                 and self._grid_bounds[2] >= area[2] and self._grid_bounds[3] >= area[3]):
             cell = min(0.1, max(0.03, self.step / 2.0))
-            self._grid = ClearanceGrid(self.index.geometries, area, cell,
-                                       self.r_in + self.margin)
+            self._grid = ClearanceGrid(self._grid_geometries(), area, cell,
+                                       self.r_in + self._least_margin)
             self._grid_bounds = area
         return self._grid
+
+    def _grid_geometries(self) -> NDArray[np.object_]:
+        """The solids and the keep-out zones (both barred to the footprint)."""
+        if not self._keep_out:
+            return self.index.geometries
+        return np.concatenate([self.index.geometries, self.zones.keep_out.geometries])
 
     def _prims_for(self, mode: str, radius: float, reverse: bool) -> list[Primitive]:
         key = (mode, radius, reverse)
@@ -292,15 +345,88 @@ class RouteFinder:
             self._prims[key] = primitives(mode, radius, self.step, reverse, self.fp)
         return self._prims[key]
 
-    def _parts_distance(self, parts: NDArray[np.object_], reach: float) -> float:
+    def _solid_distance(self, parts: NDArray[np.object_], reach: float) -> float:
         """Least distance of ``parts`` to the solids, or ``inf`` when beyond ``reach``."""
-        if not len(self.index):
+        if not len(self.index) or not len(parts):
             return math.inf
         pairs = self.index.tree.query(parts, predicate="dwithin", distance=reach)
         if pairs.shape[1] == 0:
             return math.inf
         return float(np.min(shapely.distance(parts[pairs[0]],
                                              self.index.geometries[pairs[1]])))
+
+    def _parts_distance(self, parts: NDArray[np.object_], reach: float) -> float:
+        """The least clearance of ``parts`` measured against the chassis margin, or ``inf``
+        when beyond ``reach``: the distance to the solids less what a margin zone asks beyond
+        the chassis margin where a part lies in it (the check's rule,
+        :class:`kinematics.check.zones.MarginRule`), and for keep-out zones the distance to
+        them plus the margin (so keeping the margin here keeps ``SAFETY_M`` off the zone)."""
+        if self._margins and self.zones.margin.touching(parts):
+            rule = self.zones.margin_rule(parts, self.margin)
+            least = math.inf
+            for cut, need, _n in rule.regions(parts):
+                cut = cut[~shapely.is_empty(cut)]
+                extra = need - self.margin
+                least = min(least, self._solid_distance(cut, reach + max(extra, 0.0)) - extra)
+        else:
+            least = self._solid_distance(parts, reach)
+        if self._keep_out:
+            ko = self.zones.keep_out
+            pairs = ko.tree.query(parts, predicate="dwithin",
+                                  distance=max(reach - self.margin, 0.0))
+            if pairs.shape[1]:
+                d = float(np.min(shapely.distance(parts[pairs[0]], ko.geometries[pairs[1]])))
+                least = min(least, d + self.margin)
+        return least
+
+    def _against_one_way(self, seg: Segment) -> bool:
+        """The reference point drives ``seg`` against a one-way zone somewhere."""
+        return self._one_way and seg.kind != "pivot" and bool(wrong_way(seg, self.zones))
+
+    def train_distance(self, segs: Sequence[Segment], th: Headings, cap: float,
+                       lower_bound: float = -math.inf) -> tuple[float, Headings]:
+        """The trailers' least clearance along ``segs`` from trailer headings ``th``, measured
+        against the chassis margin as :meth:`_parts_distance` does (``inf`` beyond ``cap``;
+        ``-inf`` where a hitch angle passes its limit), and the headings at the end.
+
+        The trailers' motion is integrated (:func:`kinematics.motion.trailers.trace_train`)
+        and each trailer's footprint placed every ``HITCH_STEP_M`` of tug travel; between two
+        placements no footprint point moves farther than ``D`` = the axle's displacement plus
+        the farthest footprint radius times the heading change (both are rigid placements),
+        so every point of the band lies within about ``D / 2`` of a placed footprint, and the
+        distance is taken less ``D / 2`` (plus 1 mm). This is the search's stand-in for the
+        exact band of :func:`kinematics.check.train.sweep_trailer`, which the found route's
+        final check (:func:`~kinematics.check.train.check_train`) uses.
+
+        ``lower_bound`` (the clearance grid's bound on the distance from the segments' start
+        to any solid) skips the placements of a motion the whole train stays far from.
+        """
+        trace = trace_train(segs, self.trailers, th)
+        end = tuple(float(v) for v in trace.end_headings())
+        limit = np.asarray(self._tlimit)[None, :] + 1e-9
+        poses = []
+        for i in range(len(segs)):
+            amount = trace.amount(i)
+            n = max(2, math.ceil(amount / HITCH_STEP_M) + 1) if amount > 0.0 else 2
+            pz = trace.poses(i, np.linspace(0.0, amount, n))
+            if np.any(np.abs(hitch_angles(pz)) > limit):
+                return -math.inf, end
+            poses.append(pz)
+        travel = sum(sg.length_m for sg in segs)
+        if lower_bound - self._extra_max >= self._train_reach + travel + cap:
+            return math.inf, end
+        allp = np.concatenate(poses)
+        least = math.inf
+        for j, fp in enumerate(self._tfp):
+            pj = allp[:, j + 1]
+            step = np.hypot(np.diff(pj[:, 0]), np.diff(pj[:, 1])) + \
+                fp.r_far_m * np.abs(np.diff(pj[:, 2]))
+            grow = 0.5 * float(step.max(initial=0.0)) + 1e-3
+            parts = placed_footprints(fp, pj)
+            # Against its own margin, shown as the chassis margin would be.
+            shift = self.margin - self._tmargin[j]
+            least = min(least, self._parts_distance(parts, cap - shift + grow) + shift - grow)
+        return least, end
 
     def segments_clear(self, segs: Sequence[Segment]) -> bool:
         """Every segment's conservative swept region keeps the margin from every solid."""
@@ -312,6 +438,8 @@ class RouteFinder:
         ``cap``); stops early, returning what it has, once below ``floor``."""
         least = math.inf
         for s in segs:
+            if self._against_one_way(s):
+                return -math.inf
             parts = swept_parts(self.fp, s)
             least = min(least, self._parts_distance(parts, cap))
             if floor is not None and least < floor:
@@ -363,6 +491,11 @@ class RouteFinder:
                 name = self._solid_name(int(inside[0]))
                 raise ValidationError(self.file, where, f"a waypoint outside the solids; "
                                       f"({w.x:g}, {w.y:g}) is inside {name}")
+            ko = self.zones.keep_out.touching(Point(w.x, w.y)) if self._keep_out else []
+            if ko:
+                raise ValidationError(self.file, where, f"a waypoint outside the keep-out "
+                                      f"zones; ({w.x:g}, {w.y:g}) is inside "
+                                      f"{self.zones.keep_out.name(ko[0])}")
             if w.heading_deg is not None:
                 d, j = self.pose_distance((w.x, w.y, math.radians(w.heading_deg)))
                 if d <= 0.0:
@@ -384,8 +517,16 @@ class RouteFinder:
     def _search_leg(self, route: Route, starts: list[Pose], goal: tuple[float, float,
                     float | None], deadline: float, budget: list[int],
                     should_stop: StopFn | None, progress: ProgressFn | None,
-                    t0: float, searched: list) -> tuple[list[Pose] | None, dict]:
-        """Hybrid A* from any of ``starts`` to ``goal``; the pose chain or ``None`` and why."""
+                    t0: float, searched: list, start_th: list[Headings] | None = None
+                    ) -> tuple[list[Pose] | None, dict]:
+        """Hybrid A* from any of ``starts`` to ``goal``; the pose chain or ``None`` and why.
+
+        With trailers, ``start_th`` holds each start's trailer headings (default: in line
+        with the tug) and ``info["th"]`` the chain's.
+        """
+        train = bool(self.trailers)
+        if start_th is None:
+            start_th = [tuple([p[2]] * len(self.trailers)) for p in starts]
         st = self.settings
         mode, radius = drive_mode(self.chassis, route)
         prims = self._prims_for(mode, radius, route.reverse)
@@ -416,31 +557,37 @@ class RouteFinder:
                 h = np.maximum(h, mod.shortest(poses, goals, radius).length_m)
             return h
 
-        def key(p: Sequence[float]) -> tuple[int, int, int]:
-            return (int(round(p[0] / xy_res)), int(round(p[1] / xy_res)),
-                    int(round(_wrap(p[2]) / (2.0 * math.pi) * bins)) % bins)
+        def key(p: Sequence[float], th: Headings = ()) -> tuple[int, ...]:
+            k = (int(round(p[0] / xy_res)), int(round(p[1] / xy_res)),
+                 int(round(_wrap(p[2]) / (2.0 * math.pi) * bins)) % bins)
+            if not th:
+                return k
+            ahead = [p[2], *th[:-1]]
+            return k + tuple(int(round(_wrap(a - t) / HITCH_BIN_RAD)) for a, t in zip(ahead, th))
 
         xs: list[Pose] = []
+        ths: list[Headings] = []
         gs: list[float] = []
         parent: list[int] = []
         pdir: list[int] = []
         best_g: dict[tuple, float] = {}
         heap: list[tuple[float, int]] = []
         hs = heuristic(np.array(starts, dtype=float))
-        for p, h in zip(starts, hs):
+        for p, h, th0 in zip(starts, hs, start_th):
             if not math.isfinite(h):
                 continue
             xs.append(p)
+            ths.append(th0)
             gs.append(0.0)
             parent.append(-1)
             pdir.append(0)
-            best_g[key(p)] = 0.0
+            best_g[key(p, th0)] = 0.0
             heapq.heappush(heap, (st.heuristic_weight * float(h), len(xs) - 1))
         done: set[tuple] = set()
         expanded = 0
         closest = (math.inf, starts[0] if starts else (gx, gy, 0.0))
         info: dict = {"expanded": 0, "closest": closest, "why": "exhausted"}
-        best_goal: tuple[float, int, Pose] = (math.inf, -1, (gx, gy, 0.0))
+        best_goal: tuple[float, int, Pose, Headings] = (math.inf, -1, (gx, gy, 0.0), ())
         stop_at = math.inf
         while heap:
             if budget[0] <= 0:
@@ -459,7 +606,8 @@ class RouteFinder:
             if best_goal[1] >= 0 and f >= best_goal[0]:
                 break
             p = xs[n]
-            k = key(p)
+            pth = ths[n]
+            k = key(p, pth)
             if k in done:
                 continue
             done.add(k)
@@ -473,16 +621,17 @@ class RouteFinder:
             # whose cost is counted like any motion's; the cheapest goal found so far ends
             # the search once no open node can beat it.
             if expanded == 1 or dist_goal < near_goal or expanded % st.analytic_every == 0:
-                hit = self._analytic(route, mode, p, goal, pdir[n], pivot_cost)
+                hit = self._analytic(route, mode, p, goal, pdir[n], pivot_cost, pth)
                 if hit is not None and gs[n] + hit[1] < best_goal[0]:
                     if best_goal[1] < 0:
                         # Look on for a cheaper (clearer) goal a bounded while only.
                         stop_at = expanded + max(st.improve_min, expanded // 2)
-                    best_goal = (gs[n] + hit[1], n, hit[0])
+                    best_goal = (gs[n] + hit[1], n, hit[0], hit[2])
             if best_goal[1] >= 0 and (not heap or heap[0][0] >= best_goal[0]
                                       or expanded >= stop_at):
                 break
             kids: list[Pose] = []
+            kid_th: list[Headings] = []
             kid_g: list[float] = []
             kid_dir: list[int] = []
             lb = grid.lower_bound(p[0], p[1])
@@ -490,15 +639,27 @@ class RouteFinder:
                 q = _compose(p, pr.end)
                 if not (area[0] <= q[0] <= area[2] and area[1] <= q[1] <= area[3]):
                     continue
-                kq = key(q)
-                if kq in done:
+                if not train and key(q) in done:
                     continue
-                if lb >= pr.reach_m + far_enough:
+                if self._one_way and self._against_one_way(_placed(pr.seg, p)):
+                    continue
+                if lb - self._extra_max >= pr.reach_m + far_enough:
                     d = math.inf
                 else:
                     d = self._parts_distance(_move(pr.parts, p), far_enough)
                     if d < need:
                         continue
+                qth: Headings = ()
+                if train:
+                    # The trailers' motion along the primitive gives the train's state (the
+                    # hitch angles in the key) and their band's clearance.
+                    td, qth = self.train_distance([_placed(pr.seg, p)], pth, far_enough, lb)
+                    if td < need:
+                        continue
+                    d = min(d, td)
+                kq = key(q, qth)
+                if train and kq in done:
+                    continue
                 travel = pr.length_m + pivot_cost * abs(pr.turn_rad) if pr.kind == "pivot" \
                     else pr.length_m
                 cost = pr.length_m * (st.reverse_factor if pr.direction < 0 else 1.0)
@@ -513,15 +674,17 @@ class RouteFinder:
                     continue
                 best_g[kq] = g
                 kids.append(q)
+                kid_th.append(qth)
                 kid_g.append(g)
                 kid_dir.append(pdir[n] if pr.kind == "pivot" else pr.direction)
             if not kids:
                 continue
             hk = heuristic(np.array(kids, dtype=float))
-            for q, g, dr, h in zip(kids, kid_g, kid_dir, hk):
+            for q, qth, g, dr, h in zip(kids, kid_th, kid_g, kid_dir, hk):
                 if not math.isfinite(h):
                     continue
                 xs.append(q)
+                ths.append(qth)
                 gs.append(g)
                 parent.append(n)
                 pdir.append(dr)
@@ -529,49 +692,62 @@ class RouteFinder:
         info.update(expanded=expanded, closest=closest)
         if best_goal[1] >= 0:
             m = best_goal[1]
-            chain = []
+            chain, cth = [], []
             while m >= 0:
                 chain.append(xs[m])
+                cth.append(ths[m])
                 m = parent[m]
             chain.reverse()
+            cth.reverse()
             chain.append(best_goal[2])
+            cth.append(best_goal[3])
+            info["th"] = cth
             info["why"] = "found"
             return chain, info
         return None, info
 
     def _analytic(self, route: Route, mode: str, p: Pose,
-                  goal: tuple[float, float, float | None], last_dir: int, pivot_cost: float
-                  ) -> tuple[Pose, float] | None:
-        """The goal pose reached by the cheapest clear connection from ``p`` and its cost."""
+                  goal: tuple[float, float, float | None], last_dir: int, pivot_cost: float,
+                  th: Headings = ()) -> tuple[Pose, float, Headings] | None:
+        """The goal pose reached by the cheapest clear connection from ``p``, its cost and
+        the trailer headings there."""
         gx, gy, gh = goal
         cands: list[float | None] = [gh]
         if gh is None and mode == "steer" and math.hypot(gx - p[0], gy - p[1]) > 1e-9:
             line_dir = math.atan2(gy - p[1], gx - p[0])
             cands += [p[2]] + [line_dir + k * math.pi / 4.0 for k in range(1, 8)]
-        best: tuple[Pose, float] | None = None
+        best: tuple[Pose, float, Headings] | None = None
         for h in cands:
             segs = self.connect(route, p, (gx, gy, h))
             if segs is None:
                 continue
-            cost = self._segments_cost(segs, last_dir, pivot_cost)
-            if cost is None or (best is not None and cost >= best[1]):
+            got = self._segments_cost(segs, last_dir, pivot_cost, th)
+            if got is None or (best is not None and got[0] >= best[1]):
                 continue
             end = segs[-1].end if segs else p
-            best = ((gx, gy, float(end[2]) if h is None else float(h)), cost)
+            best = ((gx, gy, float(end[2]) if h is None else float(h)), got[0], got[1])
         return best
 
-    def _segments_cost(self, segs: Sequence[Segment], last_dir: int, pivot_cost: float
-                       ) -> float | None:
-        """The search's cost of driving ``segs`` (``None`` where one is not clear)."""
+    def _segments_cost(self, segs: Sequence[Segment], last_dir: int, pivot_cost: float,
+                       th: Headings = ()) -> tuple[float, Headings] | None:
+        """The search's cost of driving ``segs`` and the trailer headings at their end
+        (``None`` where one is not clear)."""
         st = self.settings
         need = self.margin + SAFETY_M
         far = self.margin + st.clearance_pref_m
         cost = 0.0
         d_prev = last_dir
         for s in segs:
+            if self._against_one_way(s):
+                return None
             d = self._parts_distance(swept_parts(self.fp, s), far)
             if d < need:
                 return None
+            if self.trailers:
+                td, th = self.train_distance([s], th, far)
+                if td < need:
+                    return None
+                d = min(d, td)
             if s.kind == "pivot":
                 travel = pivot_cost * abs(s.turn_rad)
                 cost += travel
@@ -584,11 +760,14 @@ class RouteFinder:
             if d < far:
                 cost += st.clearance_weight * (far - d) / st.clearance_pref_m * \
                     max(travel, 1e-3)
-        return cost
+        return cost, th
 
-    def _smooth(self, route: Route, chain: list[Pose], free_end: bool) -> list[Pose]:
-        """As few of the chain's poses as keep every planner connection clear."""
+    def _smooth(self, route: Route, chain: list[Pose], free_end: bool,
+                cth: list[Headings] | None = None) -> tuple[list[Pose], Headings]:
+        """As few of the chain's poses as keep every planner connection clear, and the
+        trailer headings at the end (``cth``: the trailers' headings at each chain pose)."""
         m = len(chain) - 1
+        train = bool(self.trailers) and cth is not None
 
         def target(j: int) -> tuple:
             pj = chain[j]
@@ -601,16 +780,25 @@ class RouteFinder:
         base = []
         for i in range(m):
             segs = self.connect(route, chain[i], target(i + 1))
-            base.append(min(cap, self.segments_distance(segs, cap)) if segs else need)
-        memo: dict[tuple[int, int], bool] = {}
+            d = self.segments_distance(segs, cap) if segs else need
+            if segs and train:
+                d = min(d, self.train_distance(segs, cth[i], cap)[0])
+            base.append(min(cap, d))
+        memo: dict[tuple[int, int], tuple[bool, Headings]] = {}
+        now_th: list[Headings] = [cth[0] if train else ()]
 
         def ok(i: int, j: int) -> bool:
             if (i, j) not in memo:
                 want = max(need, min(base[i:j]) - SAFETY_M)
                 segs = self.connect(route, chain[i], target(j))
-                memo[(i, j)] = segs is not None and \
+                good = segs is not None and \
                     self.segments_distance(segs, cap, want) >= want
-            return memo[(i, j)]
+                end: Headings = ()
+                if good and train:
+                    td, end = self.train_distance(segs, now_th[0], cap)
+                    good = td >= want
+                memo[(i, j)] = (good, end)
+            return memo[(i, j)][0]
 
         keep = [0]
         i = 0
@@ -630,9 +818,16 @@ class RouteFinder:
                     else:
                         hi = mid
                 j = lo
+            if train:
+                good, end = memo.get((i, j), (False, ()))
+                if not good:
+                    # The searched step itself (its planner connection from here).
+                    segs = self.connect(route, chain[i], target(j)) or []
+                    end = self.train_distance(segs, now_th[0], cap)[1] if segs else cth[j]
+                now_th[0] = end
             keep.append(j)
             i = j
-        return [chain[k] for k in keep]
+        return [chain[k] for k in keep], now_th[0]
 
     # -- public uses -------------------------------------------------------------------------
     def _route_index(self, route: Route) -> int:
@@ -646,9 +841,9 @@ class RouteFinder:
             return [math.radians(w.heading_deg)]
         heads = np.linspace(-math.pi, math.pi, 24, endpoint=False)
         g = placed_footprints(self.fp, [(w.x, w.y, h) for h in heads])
-        d = shapely.distance(g, shapely.union_all(self.index.geometries)) \
-            if len(self.index) else np.full(len(heads), math.inf)
-        return [float(h) for h, dd in zip(heads, d) if dd >= self.margin + SAFETY_M]
+        need = self.margin + SAFETY_M
+        return [float(h) for h, p in zip(heads, g)
+                if self._parts_distance(np.array([p], dtype=object), need) >= need]
 
     def find(self, route: Route, progress: ProgressFn | None = None,
              should_stop: StopFn | None = None, legs: Sequence[int] | None = None,
@@ -680,6 +875,9 @@ class RouteFinder:
                               f"the start at ({wps[0].x:g}, {wps[0].y:g}) is closer than "
                               f"the margin to {self._solid_name(j)} at every heading")
         starts = [(wps[0].x, wps[0].y, h) for h in heads]
+        # Trailer headings at each start (None: in line with the tug, as the check starts a
+        # train; so too after a kept leg of a repair, which the final check then judges).
+        start_th: list[Headings] | None = None
         total = 0
         for k in range(n - 1):
             w1 = wps[k + 1]
@@ -689,10 +887,11 @@ class RouteFinder:
                 starts = [(w1.x, w1.y, math.radians(w1.heading_deg))] \
                     if w1.heading_deg is not None else [(w1.x, w1.y, h)
                                                        for h in self._start_headings(w1)]
+                start_th = None
                 continue
             gh = None if w1.heading_deg is None else math.radians(w1.heading_deg)
             chain, info = self._search_leg(route, starts, (w1.x, w1.y, gh), deadline, budget,
-                                           should_stop, progress, t0, searched)
+                                           should_stop, progress, t0, searched, start_th)
             total += info["expanded"]
             if chain is None:
                 cd, cp = info["closest"]
@@ -705,7 +904,11 @@ class RouteFinder:
                        f"{self._solid_name(j)}")
                 return self._fail(route, t0, total, searched, (cp[0], cp[1]), msg)
             free_end = last and gh is None
-            kept = self._smooth(route, chain, free_end)
+            kept, end_th = self._smooth(route, chain, free_end, info.get("th"))
+            if self.trailers and not self._train_follows(route, kept, free_end,
+                                                         info["th"][0]):
+                # The trailers did not follow the shortcuts clear: keep every searched pose.
+                kept, end_th = chain, info["th"][-1]
             # The first kept pose is the leg's start: a waypoint already in ``out``.
             if k == 0 or (k - 1) not in todo or out[-1].heading_deg is None:
                 s0 = kept[0]
@@ -718,14 +921,29 @@ class RouteFinder:
                     out.append(Waypoint(p[0], p[1], math.degrees(p[2])))
             end = kept[-1]
             starts = [(w1.x, w1.y, end[2])]
+            start_th = [end_th] if self.trailers else None
         new = replace(route, waypoints=tuple(out), stops=_moved_stops(route, out))
         return self._offer(new, t0, total, searched, tuple(sorted(todo)))
+
+    def _train_follows(self, route: Route, kept: list[Pose], free_end: bool,
+                       th: Headings) -> bool:
+        """The trailers keep their margin along the planner's connections of ``kept``."""
+        segs: list[Segment] = []
+        for i in range(len(kept) - 1):
+            b = kept[i + 1]
+            got = self.connect(route, kept[i], (b[0], b[1], None) if (
+                free_end and i + 2 == len(kept)) else b)
+            if got is None:
+                return False
+            segs += got
+        return not segs or self.train_distance(segs, th, self.margin + SAFETY_M)[0] >= \
+            self.margin + SAFETY_M
 
     def _offer(self, new: Route, t0: float, total: int, searched: list, legs: tuple[int, ...],
                notes: tuple[str, ...] = ()) -> FindResult:
         """Plan and re-check the new route; offer it only when clear."""
         pl = plan_route(new, self.chassis)
-        chk = check_route(pl, self.chassis, self.index, route_name=new.name, route=new)
+        chk = check_train(pl, self.chassis, self.index, route_name=new.name, route=new)
         found = chk.clear and not any(i.kind in ("infeasible", "turn_radius")
                                       for i in pl.issues)
         res = FindResult(new.name, found, new if found else None, pl if found else None,
@@ -756,7 +974,7 @@ class RouteFinder:
         self._check_inputs(route, self._route_index(route))
         t0 = time.perf_counter()
         pl = plan_route(route, self.chassis)
-        chk = check_route(pl, self.chassis, self.index, route_name=route.name, route=route)
+        chk = check_train(pl, self.chassis, self.index, route_name=route.name, route=route)
         bad_issue = [i for i in pl.issues if i.kind in ("infeasible", "turn_radius")]
         n = len(route.waypoints)
         if chk.clear and not bad_issue:
