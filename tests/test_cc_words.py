@@ -181,3 +181,20 @@ def test_car_like_reverse_route_with_transitions_is_cc_reeds_shepp():
         lim = math.radians(c.max_steer_rate_dps)
         for w, a in sch.samples.angle_rad.items():
             assert np.all(np.abs(np.diff(a)) <= lim * dt * 1.01 + 1e-12), w
+
+
+def test_turn_radius_issue_reads_the_smallest_radius_a_clothoid_reaches():
+    # Source: the clothoid's curvature is linear in distance (Euler spiral), so its smallest
+    # radius is 1 / max(|kappa0|, |kappa1|), reached at an end; a turn_radius issue names it.
+    from kinematics.motion.segments import clothoid
+    from kinematics.plan.planner import _Builder, _check_radii
+
+    b = _Builder(Route("r", (Waypoint(0, 0), Waypoint(1, 0))), (0.0, 0.0, 0.0))
+    b.segs = [clothoid((0.0, 0.0, 0.0), 0.25, 1.0 / 0.8, 0.9),
+              clothoid((1.0, 0.0, 0.0), 1.0 / 1.2, 0.0, 0.9)]
+    _check_radii(b, 1.0, False, "bicycle")
+    assert len(b.issues) == 1
+    issue = b.issues[0]
+    assert issue.kind == "turn_radius" and issue.segment == 0
+    assert "clothoid reaching radius 0.8 m" in issue.message
+    assert issue.amount_m == pytest.approx(0.2)
