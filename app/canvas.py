@@ -794,6 +794,11 @@ class PlanCanvas(QWidget):
             xs, ys = [0.0, 10.0], [0.0, 10.0]
         self.view.setRange(xRange=(min(xs), max(xs)), yRange=(min(ys), max(ys)), padding=0.04)
 
+    def highlight_place(self, geoms: Sequence) -> None:
+        """Outline plan places (shapely polygons) in the highlight style; empty clears."""
+        self.plan_gestures.highlight(None)
+        self.plan_gestures.highlight_item.setPath(polygons_path(list(geoms)))
+
     def center_on(self, x: float, y: float, span_m: float = 5.0) -> None:
         """Centre the view on plan point ``(x, y)``, zooming in to about ``span_m`` if wider."""
         (x0, x1), (y0, y1) = self.view.viewRange()
@@ -1092,13 +1097,29 @@ class PlanCanvas(QWidget):
         a, b = (wps[i], wps[j]) if j > i else (wps[j], wps[i])
         return math.degrees(math.atan2(b.y - a.y, b.x - a.x))
 
+    def _train(self, segs: list[Segment]) -> tuple[Any, Any]:
+        """The current route's vehicle and, when it tows trailers, the check's trace of
+        their headings along ``segs`` (else ``None``)."""
+        cur = self.doc.route()
+        if cur is None:
+            return self.doc.project.chassis, None
+        chassis = self.doc.vehicle(cur.name)
+        if not getattr(chassis, "trailers", ()) or not segs:
+            return chassis, None
+        chk = self.doc.check(cur.name)
+        trace = getattr(getattr(chk, "train", None), "trace", None)
+        if trace is None or len(trace.segments) != len(segs):
+            return chassis, None
+        return chassis, trace
+
     def _draw_band_and_outlines(self, segs: list[Segment]) -> None:
-        chassis = self.doc.project.chassis
+        chassis, trace = self._train(segs)
         if self.show_band and segs:
-            self.band_item.setPath(self._swept_path(segs))
+            self.band_item.setPath(self._swept_path(segs, chassis, trace))
         else:
             self.band_item.setPath(QPainterPath())
-        self._draw_outlines(segs if self.outline_spacing_m else [], chassis.footprint)
+        self._draw_outlines(segs if self.outline_spacing_m else [], chassis.footprint, chassis,
+                            trace)
 
     def _polish(self) -> None:
         """The drag rested or ended: the band and outlines drawn antialiased again."""
@@ -1106,22 +1127,31 @@ class PlanCanvas(QWidget):
         for it in self._outline_items.values():
             it.polish()
 
-    def _draw_outlines(self, segs: list[Segment], footprint: Sequence) -> None:
+    def _draw_outlines(self, segs: list[Segment], footprint: Sequence, chassis: Any = None,
+                       trace: Any = None) -> None:
         """Footprint outlines every ``outline_spacing_m`` along each segment from its start
         (and at the route's end), one child item per segment kept by the segment's value: a
-        drag step makes and repaints only the outlines of the segments that moved."""
+        drag step makes and repaints only the outlines of the segments that moved.
+
+        A towing vehicle's trailers are outlined at the same stations, each at its own pose
+        from the check's trace (kept by the trailers' headings where the segment starts,
+        which is all that an edit earlier on the route changes for them)."""
         spacing = self.outline_spacing_m
         items: dict = self._outline_items
+        trailers = tuple(getattr(chassis, "trailers", ()) or ()) if trace is not None else ()
+        shapes = tuple(tuple(map(tuple, t.footprint)) for t in trailers)
         want = {}
         for k, seg in enumerate(segs):
             if seg.length_m <= 0.0:
                 continue  # a turn on the spot: the next segment's first outline shows it
-            want[(seg, k == len(segs) - 1, spacing, tuple(map(tuple, footprint)))] = seg
+            state = (tuple(trace.traces[k].th[0].tolist()), shapes, k) if trailers else None
+            want[(seg, k == len(segs) - 1, spacing, tuple(map(tuple, footprint)), state)] = \
+                (k, seg)
         for key in [key for key in items if key not in want]:
             it = items.pop(key)
             it.hide()
             self._outline_pool.append(it)
-        for key, seg in want.items():
+        for key, (k, seg) in want.items():
             if key in items:
                 continue
             local = np.arange(0.0, seg.length_m, spacing)
@@ -1130,11 +1160,18 @@ class PlanCanvas(QWidget):
             it = self._outline_pool.pop() if self._outline_pool else \
                 _RoughWhileDragging(self.band_item._rough, self.outlines_item)
             it.setPen(self.outlines_item.pen())
-            it.setPath(footprint_outlines(footprint, seg.poses_at(local)))
+            path = footprint_outlines(footprint, seg.poses_at(local))
+            if trailers:
+                # The trace's progress on a line or arc is its length along the segment.
+                poses = trace.poses(k, local * (trace.amount(k) / seg.length_m))
+                for j, t in enumerate(trailers):
+                    path.addPath(footprint_outlines(t.footprint, poses[:, j + 1]))
+            it.setPath(path)
             it.show()
             items[key] = it
 
-    def _swept_path(self, segs: list[Segment]) -> QPainterPath:
+    def _swept_path(self, segs: list[Segment], chassis: Any = None, trace: Any = None
+                    ) -> QPainterPath:
         """The swept band as one winding-filled path of per-segment pieces.
 
         Pieces are oriented alike (exteriors counter-clockwise), so the non-zero winding rule
@@ -1143,16 +1180,25 @@ class PlanCanvas(QWidget):
         """
         from kinematics.check.sweep import swept_parts
 
-        fp = self.doc.project.chassis.footprint
-        if self._sweep_cache_key != fp:
+        chassis = chassis if chassis is not None else self.doc.project.chassis
+        fp = chassis.footprint
+        # A train's band holds its trailers' pieces too (the check's parts per segment).
+        train_key = tuple((t.hitch_x_m, t.drawbar_m, tuple(map(tuple, t.footprint)))
+                          for t in getattr(chassis, "trailers", ()) or ()) \
+            if trace is not None else ()
+        if self._sweep_cache_key != (fp, train_key):
             self._sweep_cache = {}
-            self._sweep_cache_key = fp
+            self._sweep_cache_key = (fp, train_key)
         old = self._sweep_cache
         new: dict = {}
         path = QPainterPath()
         checked = None
         for k, seg in enumerate(segs):
-            piece = old.get(seg)
+            if trace is not None:
+                seg_key: Any = (seg, tuple(trace.traces[k].th[0].tolist()))
+            else:
+                seg_key = seg
+            piece = old.get(seg_key)
             if piece is None:
                 if checked is None:
                     # The check swept these segments already; ask it only on a cache miss.
@@ -1162,7 +1208,7 @@ class PlanCanvas(QWidget):
                     checked = getattr(chk, "piece_parts", ()) or ()
                 raw = checked[k] if len(checked) == len(segs) else swept_parts(fp, seg)
                 piece = polygons_path(shapely.orient_polygons(raw))
-            new[seg] = piece
+            new[seg_key] = piece
             path.addPath(piece)
         self._sweep_cache = new
         path.setFillRule(Qt.FillRule.WindingFill)

@@ -116,6 +116,12 @@ class PlanGestures(QObject):
         self.highlight_item.setBrush(QBrush(QColor(213, 94, 0, 70)))
         self.highlight_item.setZValue(6)
         plot.addItem(self.highlight_item, ignoreBounds=True)
+        # The highlighted element's name on the plan, as the message cites it ("wall 23").
+        self.highlight_text = pg.TextItem("", color="#5A1E00",
+                                          fill=pg.mkBrush(255, 255, 255, 225), anchor=(0.5, 1.1))
+        self.highlight_text.setZValue(13)
+        self.highlight_text.setVisible(False)
+        plot.addItem(self.highlight_text, ignoreBounds=True)
         self.measure_item = QGraphicsPathItem()
         self.measure_item.setPen(_cosmetic("#222222", 2.0))
         self.measure_item.setZValue(12)
@@ -225,6 +231,14 @@ class PlanGestures(QObject):
         self.highlighted = name or None
         geoms = [s.geometry for s in self.doc.obstacle_index().solids if name and s.name == name]
         self.highlight_item.setPath(polygons_path(geoms))
+        if geoms:
+            x0, y0, x1, y1 = geoms[0].bounds
+            for g in geoms[1:]:
+                b = g.bounds
+                x0, y0, x1, y1 = min(x0, b[0]), min(y0, b[1]), max(x1, b[2]), max(y1, b[3])
+            self.highlight_text.setText(name)
+            self.highlight_text.setPos((x0 + x1) / 2, y1)  # just above the element
+        self.highlight_text.setVisible(bool(geoms))
         return bool(geoms)
 
     def _show_measure(self, a: tuple, b: tuple, text: str) -> None:

@@ -185,4 +185,10 @@ def test_violation_citing_an_obstacle_highlights_it(make_window, tmp_path, qtbot
     x0, y0, x1, y1 = solid.geometry.bounds
     assert abs(box.left() - x0) < 1e-6 and abs(box.right() - x1) < 1e-6
     assert abs(box.top() - y0) < 1e-6 and abs(box.bottom() - y1) < 1e-6
+    # ... and names it on the plan with the message's own words ("obstacle 0 (...)").
+    hl = c.plan_gestures.highlight_text
+    assert hl.isVisible() and hl.toPlainText() == v.solid
+    assert x0 <= hl.pos().x() <= x1 and abs(hl.pos().y() - y1) < 1e-6
+    c.plan_gestures.highlight(None)
+    assert not hl.isVisible()
     win.grab().save(str(tmp_path / "highlight.png"))

@@ -60,6 +60,8 @@ def test_trailers_read_with_defaults_and_round_trip() -> None:
     ("footprint", [[0, 0], [1, 1], [1, 0], [0, 1]], "chassis.trailers[0].footprint"),
     ("max_hitch_deg", 200, "chassis.trailers[0].max_hitch_deg"),
     ("margin_m", -0.01, "chassis.trailers[0].margin_m"),
+    ("drawbar_m", float("nan"), "chassis.trailers[0].drawbar_m"),
+    ("hitch_x_m", float("nan"), "chassis.trailers[0].hitch_x_m"),
 ])
 def test_bad_trailer_names_key(key, value, place) -> None:
     d = _doc()
@@ -122,3 +124,24 @@ def test_cli_exits_2_naming_file_and_key(tmp_path: Path) -> None:
     loaded["chassis"]["trailers"][1]["drawbar_m"] = 0.5
     f.write_text(json.dumps(loaded))
     assert load_project(f).chassis.trailers[1].drawbar_m == 0.5
+
+
+@pytest.mark.parametrize("key, value, place", [
+    ("drawbar_m", -0.5, "chassis.trailers[1].drawbar_m"),
+    ("footprint", [[0.2, -0.3], [1.0, -0.3], [1.0, 0.3], [0.2, 0.3]],
+     "chassis.trailers[1].footprint"),
+    # The JSON reader refuses the bare NaN token at its line and column, before keys.
+    ("hitch_x_m", float("nan"), "NaN is not allowed"),
+])
+def test_cli_bad_trailer_data_exits_2(tmp_path: Path, key: str, value, place: str) -> None:
+    # Source: /work/shared/contract.md exit codes (2: bad input, one line naming file and
+    # key path or place). json.dumps writes NaN as a bare token.
+    d = _doc()
+    d["chassis"]["trailers"][1][key] = value
+    f = tmp_path / "carts.swathe.json"
+    f.write_text(json.dumps(d))
+    r = subprocess.run([sys.executable, "-m", "app.cli", "check", str(f)], capture_output=True,
+                       text=True, cwd=Path(__file__).resolve().parent.parent)
+    assert r.returncode == 2, r.stderr
+    assert "carts.swathe.json" in r.stderr and place in r.stderr
+    assert "Traceback" not in r.stderr and len(r.stderr.strip().splitlines()) == 1
