@@ -6,8 +6,9 @@ OMPL's RRT* and BIT* over ``ReedsSheppStateSpace`` (radius = the chassis' turn r
 run with Swathe's footprint and margin as OMPL's state validity checker (OMPL checks motions
 at discrete states, every 1 cm). Reported: success, time to the first solution (median of
 interleaved runs, Swathe then each OMPL planner, repeated; a run that finds nothing counts as
-infinitely slow, so a planner solving fewer than half its runs has no median; with spread), and path length (Swathe's first; OMPL's best after the budget). OMPL is a
-reference only; the product never imports it.
+infinitely slow, so a planner solving fewer than half its runs has no median; with spread),
+and path length (Swathe's first; OMPL's best after the budget). OMPL is a reference only;
+the product never imports it.
 
 Targets (issue 11): Swathe succeeds wherever OMPL does; its median time to a first solution
 is >= 5x shorter than OMPL's; its length is within 5 % of OMPL's best after 10 s; the clinic
