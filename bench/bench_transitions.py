@@ -31,6 +31,7 @@ def _plan_and_check(project, index, transitions: str) -> float:
 
 
 def run(quick: bool = False) -> list[dict]:
+    from kinematics.check import sweep
     from kinematics.check.clearance import ObstacleIndex
     from kinematics.files.project import load_project
     from kinematics.plan import planner
@@ -44,7 +45,9 @@ def run(quick: bool = False) -> list[dict]:
         _plan_and_check(proj, index, "clothoid")  # warm imports and the sharpness cache
         with_t, without_t = [], []
         for _ in range(reps):
+            # Cold caches each run: only what one plan and check reuses within itself counts.
             planner._sharpness.cache_clear()
+            sweep.clear_caches()
             with_t.append(_plan_and_check(proj, index, "clothoid"))
             without_t.append(_plan_and_check(proj, index, "none"))
         w, wo = statistics.median(with_t), statistics.median(without_t)
