@@ -38,8 +38,9 @@ Last full runs (2 cores shared with other work, one process):
   CLI child runs: 219 accepted, 81 refused, 0 findings.
 - seed 13 (after both fixes): readers 10 000 each, 0 findings (slowest 0.51 s, largest
   peak 73 MB); CLI in process 1 128: 909 accepted, 217 refused, 2 hangs over 20 s (mecanum
-  check and schedule of mutated projects, both on a loaded machine); 300 CLI child runs:
-  235 accepted, 65 refused, 0 findings (slowest 5.6 s, largest peak 262 MB).
+  check and schedule of a route whose body turns along a line of ~10 km: open, the sweep's
+  holonomic piece count reaches its 100 000 cap, ~25 s of CPU); 300 CLI child runs: 235
+  accepted, 65 refused, 0 findings (slowest 5.6 s, largest peak 262 MB).
 
 Usage::
 
