@@ -51,7 +51,7 @@ def sweep_segment(fp: Footprint, index: ObstacleIndex, margin: float, tol: float
     # Margin zones meeting the piece replace the chassis margin inside them.
     rule = zones.margin_rule(parts, margin) if len(zones.margin) else None
     reach = margin if rule is None else rule.reach_m
-    if len(idx):
+    if len(idx) and _any_near(idx, parts, reach):
         near = unique_sorted(idx.tree.query(parts, predicate="dwithin", distance=reach)[1]
                              if reach > 0.0 else
                              idx.tree.query(parts, predicate="intersects")[1])
@@ -90,6 +90,16 @@ def sweep_segment(fp: Footprint, index: ObstacleIndex, margin: float, tol: float
     near_ = None if best_j is None else (best, best_j)
     return SegmentResult(sw, near_, tuple(hits), tuple(doors), tuple(keep_out),
                          wrong_way(seg, zones))
+
+
+def _any_near(idx: ObstacleIndex, parts: np.ndarray, reach: float) -> bool:
+    """Whether any solid lies within ``reach`` of the parts' bounding box (which holds every
+    part, so where none does no part has a solid within ``reach``): one query instead of one
+    per part for the many parts of a clothoid far from every solid."""
+    if len(parts) <= _MANY_PARTS:
+        return True
+    env = shapely.box(*shapely.total_bounds(parts))
+    return bool(len(idx.tree.query(env, predicate="dwithin", distance=max(reach, 0.0))))
 
 
 def _clip(parts: np.ndarray, box) -> np.ndarray:
