@@ -107,7 +107,7 @@ class FindSettings:
     heuristic_weight: float = 1.5
     analytic_every: int = 4
     analytic_near_every: int = 1
-    improve_min: int = 40
+    improve_min: int = 100
 
 
 @dataclass
