@@ -192,14 +192,14 @@ def cmd_check(args: argparse.Namespace) -> int:
 
 
 def cmd_schedule(args: argparse.Namespace) -> int:
-    from kinematics.files.jsonio import atomic_write_text, dumps
+    from kinematics.files.jsonio import atomic_write_text
     from kinematics.files.project import load_project
     from kinematics.plan.planner import plan_route
     from kinematics.timing.schedule import (
         build_schedule,
         samples_to_csv,
+        schedule_json_text,
         schedule_to_csv,
-        schedule_to_dict,
     )
 
     if not (args.dt > 0) or args.dt > 60:
@@ -221,7 +221,7 @@ def cmd_schedule(args: argparse.Namespace) -> int:
     if args.format == "csv":
         text = samples_to_csv(sched) if args.samples else schedule_to_csv(sched)
     else:
-        text = dumps(schedule_to_dict(sched))
+        text = schedule_json_text(sched)
     if args.output:
         _write_output(args.output, "-o", lambda: atomic_write_text(args.output, text))
     else:

@@ -154,6 +154,64 @@ class DxfImportDialog(QDialog):
         return opts
 
 
+class SvgImportDialog(QDialog):
+    """The SVG drawing's scale, and which of its groups (layers) are zones."""
+
+    def __init__(self, path: Path, groups: list[str], parent: QWidget | None = None) -> None:
+        super().__init__(parent)
+        self.setWindowTitle(f"Import {path.name}")
+        lay = QVBoxLayout(self)
+        form = QFormLayout()
+        self.scale = QDoubleSpinBox()
+        self.scale.setDecimals(6)
+        self.scale.setRange(1e-6, 1000.0)
+        self.scale.setValue(0.01)
+        self.scale.setSuffix(" m")
+        form.addRow("Metres per SVG unit (0.01: drawn in cm)", self.scale)
+        if groups:
+            form.addRow(QLabel("Groups read as zones (the rest as drawn):"))
+        self.combos: dict[str, QComboBox] = {}
+        self.values: dict[str, QDoubleSpinBox] = {}
+        for name in groups:
+            cb = QComboBox()
+            cb.addItems(["as drawn", *ZONE_ROLES])
+            spin = QDoubleSpinBox()
+            spin.setDecimals(2)
+            row = QWidget()
+            hl = QHBoxLayout(row)
+            hl.setContentsMargins(0, 0, 0, 0)
+            hl.addWidget(cb, 1)
+            hl.addWidget(spin)
+            form.addRow(name, row)
+            self.combos[name] = cb
+            self.values[name] = spin
+            cb.currentTextChanged.connect(
+                lambda role, sp=spin: DxfImportDialog._role_changed(role, sp))
+            DxfImportDialog._role_changed(cb.currentText(), spin)
+        lay.addLayout(form)
+        buttons = QDialogButtonBox(QDialogButtonBox.StandardButton.Ok
+                                   | QDialogButtonBox.StandardButton.Cancel)
+        buttons.accepted.connect(self.accept)
+        buttons.rejected.connect(self.reject)
+        lay.addWidget(buttons)
+
+    def options(self) -> dict[str, Any]:
+        """Options for :func:`kinematics.files.loader.load_floorplan`, as a project file's
+        import object holds them."""
+        opts: dict[str, Any] = {"metres_per_unit": self.scale.value()}
+        zones = []
+        for name, cb in self.combos.items():
+            if cb.currentText() in ZONE_ROLES:
+                kind, field = ZONE_ROLES[cb.currentText()]
+                z: dict[str, Any] = {"layer": name, "kind": kind}
+                if field is not None:
+                    z[field[0]] = self.values[name].value()
+                zones.append(z)
+        if zones:
+            opts["zones"] = zones
+        return opts
+
+
 def _keys(action: QAction) -> str:
     """The action's shortcuts as the user types them ("Ctrl+Shift+O"), or "" if none."""
     return ", ".join(k.toString(QKeySequence.SequenceFormat.NativeText)
@@ -849,12 +907,17 @@ class MainWindow(QMainWindow):
                     return False
                 options = dlg.options()
             elif suffix == ".svg":
-                scale, ok = QInputDialog.getDouble(
-                    self, f"Import {p.name}", "Metres per SVG unit (e.g. 0.01 when the drawing "
-                    "is in centimetres):", 0.01, 1e-6, 1000.0, 6)
-                if not ok:
+                try:
+                    from kinematics.files.svg_import import svg_groups
+
+                    groups = svg_groups(p)
+                except SwatheInputError as exc:
+                    self.show_input_error(exc, "read the drawing")
                     return False
-                options = {"metres_per_unit": scale}
+                sdlg = SvgImportDialog(p, groups, self)
+                if sdlg.exec() != QDialog.DialogCode.Accepted:
+                    return False
+                options = sdlg.options()
         if suffix in (".dxf", ".svg"):
             ref: str | dict = {"file": str(p), **options}
         else:

@@ -143,11 +143,16 @@ class SchedulePlots(pg.GraphicsLayoutWidget):
             return
         self.side_by_side = side
         layout = self.ci
+        # Side by side, a train's hitch angles take a third column rather than a row under
+        # the speed: a short dock split into two rows left each plot too low to read.
         layout.removeItem(self.rate_plot)
+        layout.removeItem(self.hitch_plot)
         if side:
             layout.addItem(self.rate_plot, row=0, col=1)
+            layout.addItem(self.hitch_plot, row=0, col=2)
         else:
             layout.addItem(self.rate_plot, row=1, col=0)
+            layout.addItem(self.hitch_plot, row=2, col=0)
 
     def clear_plots(self) -> None:
         for plot in (self.speed_plot, self.rate_plot, self.hitch_plot):

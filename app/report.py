@@ -366,7 +366,7 @@ def report_bytes(project: Any, fmt: str, route_name: str | None = None, sizing: 
 
 
 def export_report(project: Any, path: str | Path, route_name: str | None = None,
-                  sizing: Any = None) -> None:
+                  sizing: Any = None, when: str | None = None) -> None:
     """Write the one-page report of ``project`` (or one route) as PDF or PNG, atomically.
 
     Parameters
@@ -379,6 +379,8 @@ def export_report(project: Any, path: str | Path, route_name: str | None = None,
     sizing : dict, optional
         Sizing answers computed earlier (``ResultsPanel.current_sizing()``); answers the
         check carries are used otherwise.
+    when : str, optional
+        The "Generated ..." time written on the page (default: now, to the minute).
 
     Raises
     ------
@@ -393,4 +395,4 @@ def export_report(project: Any, path: str | Path, route_name: str | None = None,
         raise SwatheInputError(str(p), "", "expected a report file ending in .pdf or .png")
     if not p.resolve().parent.is_dir():
         raise SwatheInputError(str(p), "", f"the folder {p.resolve().parent} does not exist")
-    atomic_write_bytes(p, report_bytes(project, fmt, route_name, sizing))
+    atomic_write_bytes(p, report_bytes(project, fmt, route_name, sizing, when))

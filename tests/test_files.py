@@ -40,6 +40,7 @@ from kinematics.files.project import (
     save_project,
 )
 from kinematics.files.svg_import import import_svg
+from tests.mutations import DrawPick, edit_bytes, edit_text
 
 FLOOR = {"swathe_floorplan": 1, "name": "test level",
          "walls": [{"points": [[0, 0], [20, 0], [20, 8]], "thickness_m": 0.15}],
@@ -444,22 +445,7 @@ VALID_TEXT = json.dumps(PROJECT, indent=1)
 
 @st.composite
 def broken_text(draw, valid: str):
-    text = valid
-    for _ in range(draw(st.integers(1, 4))):
-        i = draw(st.integers(0, len(text)))
-        j = draw(st.integers(i, min(len(text), i + 12)))
-        op = draw(st.sampled_from(["delete", "insert", "replace", "truncate"]))
-        junk = draw(st.text(alphabet='{}[]",:0123456789.-eE truefalsnNaIiy\\\n\x00é',
-                            max_size=6))
-        if op == "delete":
-            text = text[:i] + text[j:]
-        elif op == "insert":
-            text = text[:i] + junk + text[i:]
-        elif op == "replace":
-            text = text[:i] + junk + text[j:]
-        else:
-            text = text[:i]
-    return text
+    return edit_text(DrawPick(draw), valid)
 
 
 def _only_input_errors(fn, *args, **kw):
@@ -538,19 +524,7 @@ VALID_DXF = _small_dxf()
 
 @st.composite
 def broken_bytes(draw, valid: bytes):
-    data = bytearray(valid)
-    for _ in range(draw(st.integers(1, 6))):
-        i = draw(st.integers(0, len(data)))
-        op = draw(st.sampled_from(["flip", "delete", "insert", "truncate"]))
-        if op == "flip" and i < len(data):
-            data[i] = draw(st.sampled_from(b"0123456789-.\n xAE\x00\xff"))
-        elif op == "delete":
-            del data[i:i + draw(st.integers(1, 40))]
-        elif op == "insert":
-            data[i:i] = draw(st.binary(max_size=8))
-        elif op == "truncate":
-            del data[i:]
-    return bytes(data)
+    return edit_bytes(DrawPick(draw), valid)
 
 
 @settings(max_examples=150, deadline=None)

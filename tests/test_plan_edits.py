@@ -22,6 +22,8 @@ def _doc(tmp_path: Path) -> tuple[Document, Path, Path]:
     fp = FloorPlan(name="edit test")
     fp = pe.add_wall(fp, ((0, 0), (10, 0), (10, 6)), 0.15)
     fp = pe.add_rectangle(fp, (3, 2), (4, 3), "crate")
+    fp = pe.add_zone(fp, Zone("margin", ((5, 4), (9, 4), (9, 5.5), (5, 5.5)), "people",
+                              margin_m=0.3))
     plan_path = tmp_path / "hall.floor.json"
     save_floorplan(fp, plan_path)
     proj = Project(fp, Chassis(track_m=0.5),
@@ -45,6 +47,9 @@ EDITS = {
     "delete vertex": lambda fp: pe.delete_vertex(fp, "wall", 0, 2),
     "delete element": lambda fp: pe.delete(fp, "obstacle", 0),
     "relabel": lambda fp: pe.relabel(fp, "obstacle", 0, "crate 2"),
+    "edit zone rule": lambda fp: pe.set_zone_rule(fp, 0, "slow", 0.6, "ward"),
+    "move zone vertex": lambda fp: pe.move_vertex(fp, "zone", 0, 2, (9.5, 5.8)),
+    "delete zone": lambda fp: pe.delete(fp, "zone", 0),
 }
 
 
@@ -65,7 +70,7 @@ def test_draw_save_reopen_gives_the_same_model(tmp_path, qtbot):
     # Common practice: a saved model reads back unchanged.
     doc, path, plan_path = _doc(tmp_path)
     for name in ("add wall", "add polygon", "add circle", "add door", "add zone",
-                 "move vertex", "relabel"):
+                 "move vertex", "relabel", "edit zone rule", "move zone vertex"):
         doc.edit_floorplan(EDITS[name](doc.project.floorplan), name)
     doc.save()
     again = load_project(path).floorplan

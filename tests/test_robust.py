@@ -164,6 +164,76 @@ def test_check_tolerance_outside_its_range_is_refused(tmp_path, capsys, tol):
     _one_bad_line(code, err, "--tolerance-mm", "0.1")
 
 
+# Found by bench/fuzz.py (seed 11): a chassis limit of 1e301 m/s2 was accepted, and the
+# profile's algebra overflowed (numpy printed "overflow encountered" beside the schedule).
+@pytest.mark.parametrize("key, value", [("max_accel_mps2", 1e301), ("max_decel_mps2", 1e300),
+                                        ("max_speed_mps", 1e200),
+                                        ("max_lateral_accel_mps2", 1e305),
+                                        ("max_wheel_rate_radps", 1e300),
+                                        ("max_yaw_rate_dps", 1e300)])
+def test_a_limit_past_any_drive_is_refused_with_its_key(tmp_path, capsys, key, value):
+    p = _project(tmp_path, chassis=dict(CHASSIS, **{key: value}))
+    code, out, err = _cli(["schedule", p, "--route", "along"], capsys)
+    _one_bad_line(code, err, str(p), f"chassis.{key}")
+    assert out == ""
+
+
+# Found by bench/fuzz.py (seed 12): a denormal speed limit overflowed the profile's algebra
+# (numpy warnings beside the message).
+@pytest.mark.parametrize("key", ["max_speed_mps", "max_accel_mps2", "max_wheel_rate_radps",
+                                 "max_yaw_rate_dps"])
+def test_a_denormal_limit_is_refused_with_its_key(tmp_path, capsys, key):
+    p = _project(tmp_path, chassis=dict(CHASSIS, **{key: 5e-324}))
+    code, out, err = _cli(["schedule", p, "--route", "along"], capsys)
+    _one_bad_line(code, err, str(p), f"chassis.{key}", "at least")
+
+
+def test_json_schedule_text_is_the_dict_encoded_and_holds_less_memory(tmp_path):
+    # Found by bench/fuzz.py (seed 12): a mecanum schedule of 126 000 samples (an
+    # acceleration of 4e-7 m/s2, inside the sample budget) peaked at 1.1 GB writing JSON,
+    # every sample held as Python objects and the encoder's pieces at once. The text is now
+    # made a row at a time: the same bytes, a fraction of the memory.
+    # Source: Python tracemalloc documentation (get_traced_memory gives the peak of the
+    # blocks Python allocated), counted the same way for both.
+    import tracemalloc
+
+    from kinematics.files.jsonio import dumps
+    from kinematics.files.project import Chassis
+    from kinematics.timing.schedule import schedule_json_text, schedule_to_dict
+
+    c = Chassis(drive="mecanum", wheelbase_m=0.9, track_m=0.6, wheel_radius_m=0.076,
+                max_speed_mps=0.8, max_accel_mps2=0.5)
+    segs = [line((0, 0, 0), 8.0), pivot((8, 0, 0), math.pi / 2)]
+    sched = build_schedule("r", segs, c, dt_s=0.005)
+    assert sched.samples.t_s.size > 2000
+    tracemalloc.start()
+    try:
+        lean = schedule_json_text(sched)
+        lean_peak = tracemalloc.get_traced_memory()[1]
+        tracemalloc.reset_peak()
+        full = dumps(schedule_to_dict(sched))
+        full_peak = tracemalloc.get_traced_memory()[1]
+    finally:
+        tracemalloc.stop()
+    assert lean == full
+    assert lean_peak < 0.5 * full_peak, (lean_peak, full_peak)
+
+
+def test_the_largest_limits_read_give_a_schedule_without_numeric_warnings(tmp_path, capsys):
+    import warnings
+
+    from kinematics.files.project import LIMIT_MAXIMA
+
+    limits = {k: v for k, v in LIMIT_MAXIMA.items() if k != "effective_track_factor"}
+    p = _project(tmp_path, chassis=dict(CHASSIS, **limits))
+    with warnings.catch_warnings():
+        warnings.simplefilter("error")  # an overflow warning fails the test
+        code, out, err = _cli(["schedule", p, "--route", "along", "--format", "json"], capsys)
+    assert code == 0, err
+    assert err == ""
+    assert json.loads(out)["route"] == "along"
+
+
 # -- file-system failures -------------------------------------------------------------------
 def test_floor_plan_name_longer_than_the_file_system_allows(tmp_path, capsys):
     p = _project(tmp_path, floorplan="x" * 5000 + ".floor.json")
@@ -629,3 +699,16 @@ def test_svg_degenerate_circle_warns_nothing(tmp_path, recwarn):
                  '<circle r="1e300"/></g><path class="walls" d="M0 0 H990"/></svg>')
     _only_input_errors(import_svg, p)
     assert not [w for w in recwarn if issubclass(w.category, RuntimeWarning)]
+
+
+# -- the suite itself ---------------------------------------------------------------------
+def test_property_tests_draw_the_same_examples_every_run():
+    # Source: hypothesis settings documentation (derandomize: the examples are chosen from
+    # the test itself, not at random; database=None: nothing an earlier run found is
+    # replayed). Each run of the suite therefore tries the same inputs: one run finding a
+    # damaged DXF and the next passing (the old behaviour) cannot happen.
+    from hypothesis import settings
+
+    active = settings()
+    assert active.derandomize is True
+    assert active.database is None

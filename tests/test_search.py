@@ -278,3 +278,34 @@ def test_repair_searches_the_whole_route_when_the_kept_legs_fail_with_the_search
     _assert_found(res, CART, rects, (6.6, 5.0, 90.0))
     assert res.legs == (0, 1)
     assert any("whole route was searched" in n for n in res.notes)
+
+
+def test_clinic_door_turn_repair_keeps_off_the_jambs_where_there_is_room():
+    # The clinic's doors are 1.2 m and the cart 0.6 m wide: up to 0.3 m a side. The cost's
+    # clearance term (0.15 m preferred above the margin) must keep the repaired route well off
+    # the jambs, not merely at the margin (a shorter search for a cheaper goal once left it
+    # 6 mm above the margin at the pharmacy door).
+    from pathlib import Path
+
+    from kinematics.files.loader import load_floorplan
+
+    fp = load_floorplan(Path(__file__).resolve().parent.parent / "sample_floorplans"
+                        / "clinic.floor.json")
+    sketch = Route("pharmacy-to-room-207", (Waypoint(3.1, 5.0, 90.0), Waypoint(6.0, 10.0, 0.0),
+                                            Waypoint(17.75, 14.0, 90.0)))
+    finder = RouteFinder(Project(fp, CART, (sketch,)), settings=SETTINGS)
+    res = finder.repair(sketch)
+    assert res.found, res.reason
+    # Source: shapely distances of densely placed footprints to the plan's solids.
+    polys = []
+    fpa = np.asarray(CART.footprint, dtype=float)
+    for s in res.plan.segments:
+        n = max(2, int(math.ceil(max(s.length_m / 0.005, abs(s.turn_rad) / math.radians(0.5)))))
+        p = s.poses_at_fraction(np.linspace(0.0, 1.0, n + 1))
+        c, sn = np.cos(p[:, 2])[:, None], np.sin(p[:, 2])[:, None]
+        x = p[:, :1] + c * fpa[None, :, 0] - sn * fpa[None, :, 1]
+        y = p[:, 1:2] + sn * fpa[None, :, 0] + c * fpa[None, :, 1]
+        polys.append(shapely.polygons(np.stack([x, y], axis=-1)))
+    solids = shapely.union_all(finder.index.geometries)
+    least = float(np.min(shapely.distance(np.concatenate(polys), solids)))
+    assert least >= CART.margin_m + 0.03

@@ -111,3 +111,30 @@ def test_window_plots_hitch_angles_of_a_train(qtbot) -> None:
     doc.set_current_route(1)  # the lone delivery cart: no hitch plot
     panel.refresh()
     assert not panel.hitch_plot.listDataItems() and not panel.hitch_plot.isVisible()
+
+
+def test_side_by_side_plots_give_the_hitch_angles_a_column_of_their_own(qtbot) -> None:
+    # Source: project rule (plots people read): in a wide, short dock a train's hitch plot
+    # stood in a row under the speed plot and squeezed both to a few pixels of data; side by
+    # side it takes a third column as tall as the others, stacked it is a third row.
+    from app.document import Document
+    from app.plots import PlotsPanel
+    from kinematics.files.project import load_project
+
+    doc = Document(load_project(SAMPLE))
+    panel = PlotsPanel(doc)
+    qtbot.addWidget(panel)
+    panel.resize(1800, 220)
+    panel.show()
+    doc.set_current_route(0)
+    panel.refresh()
+    qtbot.waitUntil(lambda: panel.side_by_side)
+    panel.graphics.ci.layout.activate()
+    sp, hp = panel.speed_plot.geometry(), panel.hitch_plot.geometry()
+    assert panel.hitch_plot.isVisible()
+    assert abs(hp.height() - sp.height()) < 2 and abs(hp.top() - sp.top()) < 2
+    assert hp.left() > panel.rate_plot.geometry().right() - 1
+    panel.resize(700, 700)
+    qtbot.waitUntil(lambda: not panel.side_by_side)
+    panel.graphics.ci.layout.activate()
+    assert panel.hitch_plot.geometry().top() >= panel.rate_plot.geometry().bottom() - 1

@@ -474,3 +474,49 @@ def test_a_zone_name_never_hides_an_obstacle(make_window):
         assert t.zValue() < min(c.obstacles_item.zValue(), c.walls_item.zValue())
         assert t.zValue() > max(it.zValue() for parts in c.zone_items.values()
                                 for it in (parts if isinstance(parts, list) else [parts]))
+
+
+def test_svg_groups_become_zones_in_the_window_import(make_window, tmp_path, qtbot):
+    # Source: issue 12 (SVG import can map layers to zone kinds); SVG 1.1 (g, id, rect,
+    # circle), Inkscape's layer label attribute; 1 unit = 1 cm given in the dialog.
+    from app.main_window import SvgImportDialog
+    from kinematics.files.svg_import import svg_groups
+
+    svg = ('<svg xmlns="http://www.w3.org/2000/svg" '
+           'xmlns:inkscape="http://www.inkscape.org/namespaces/inkscape" viewBox="0 0 1000 500">'
+           '<line x1="0" y1="480" x2="1000" y2="480" stroke-width="10"/>'
+           '<g id="layer2" inkscape:label="Aisle"><rect x="100" y="100" width="200" '
+           'height="100"/></g>'
+           '<g id="wet"><circle cx="700" cy="200" r="50"/></g>'
+           '<g id="furniture"><rect x="500" y="300" width="40" height="40"/></g></svg>')
+    path = tmp_path / "hall.svg"
+    path.write_text(svg)
+    assert svg_groups(path) == ["Aisle", "wet", "furniture"]
+    win = make_window(write_project(tmp_path))
+
+    def fill():
+        dlg = QApplication.activeModalWidget()
+        if not isinstance(dlg, SvgImportDialog):
+            QTimer.singleShot(20, fill)
+            return
+        dlg.scale.setValue(0.01)
+        dlg.combos["Aisle"].setCurrentText("one-way zone")
+        assert dlg.values["Aisle"].suffix() == " deg"
+        dlg.values["Aisle"].setValue(180.0)
+        dlg.combos["wet"].setCurrentText("keep-out zone")
+        dlg.accept()
+
+    QTimer.singleShot(0, fill)
+    with qtbot.waitSignal(win.taskFinished, timeout=10_000):
+        assert win.open_floorplan_file(path)
+    fp = win.doc.project.floorplan
+    kinds = sorted((z.kind, z.label, z.direction_deg) for z in fp.zones)
+    assert kinds == [("keep_out", "wet", None), ("one_way", "Aisle", 180.0)]
+    assert len(fp.obstacles) == 1 and len(fp.walls) == 1
+    aisle = [z for z in fp.zones if z.kind == "one_way"][0]
+    assert Polygon(aisle.points).area == pytest.approx(2.0)  # 200 x 100 cm
+    wet = [z for z in fp.zones if z.kind == "keep_out"][0]
+    # Outward: the circle (centre 7, 5 - 2 = 3; r 0.5 m) lies inside the zone (textbook).
+    assert Polygon(wet.points).exterior.distance(shapely.Point(7.0, 3.0)) >= 0.5 - 1e-9
+    assert win.doc.save()
+    assert load_project(win.doc.path).floorplan.zones == fp.zones

@@ -51,7 +51,7 @@ def sweep_segment(fp: Footprint, index: ObstacleIndex, margin: float, tol: float
     # Margin zones meeting the piece replace the chassis margin inside them.
     rule = zones.margin_rule(parts, margin) if len(zones.margin) else None
     reach = margin if rule is None else rule.reach_m
-    if len(idx):
+    if len(idx) and _any_near(idx, parts, reach):
         near = unique_sorted(idx.tree.query(parts, predicate="dwithin", distance=reach)[1]
                              if reach > 0.0 else
                              idx.tree.query(parts, predicate="intersects")[1])
@@ -77,7 +77,7 @@ def sweep_segment(fp: Footprint, index: ObstacleIndex, margin: float, tol: float
         crossed = unique_sorted(idx.door_tree.query(parts, predicate="intersects")[1])
         for k in crossed.tolist():
             box = idx.door_boxes[k]
-            local = SweptParts(shapely.intersection(parts, box))
+            local = SweptParts(_clip(parts, box))
             local.parts = local.parts[~shapely.is_empty(local.parts)]
             c, cj = math.inf, -1
             for j in idx.within(box, 0.0).tolist():
@@ -92,10 +92,40 @@ def sweep_segment(fp: Footprint, index: ObstacleIndex, margin: float, tol: float
                          wrong_way(seg, zones))
 
 
+def _any_near(idx: ObstacleIndex, parts: np.ndarray, reach: float) -> bool:
+    """Whether any solid lies within ``reach`` of the parts' bounding box (which holds every
+    part, so where none does no part has a solid within ``reach``): one query instead of one
+    per part for the many parts of a clothoid far from every solid."""
+    if len(parts) <= _MANY_PARTS:
+        return True
+    env = shapely.box(*shapely.total_bounds(parts))
+    return bool(len(idx.tree.query(env, predicate="dwithin", distance=max(reach, 0.0))))
+
+
+def _clip(parts: np.ndarray, box) -> np.ndarray:
+    """``shapely.intersection(parts, box)``, computed only for the parts that cross the box's
+    edge: a part whose bounding box misses the box's is empty there, and one inside it is
+    itself (a clothoid's many parts are mostly one or the other)."""
+    b = shapely.bounds(parts)
+    x0, y0, x1, y1 = box.bounds
+    out = np.full(len(parts), None, dtype=object)
+    meet = (b[:, 0] <= x1) & (b[:, 2] >= x0) & (b[:, 1] <= y1) & (b[:, 3] >= y0)
+    out[~meet] = shapely.Polygon()
+    idx = np.flatnonzero(meet)
+    shapely.prepare(box)
+    inside = shapely.contains_properly(box, parts[idx])
+    out[idx[inside]] = parts[idx[inside]]
+    cut = idx[~inside]
+    if cut.size:
+        out[cut] = shapely.intersection(parts[cut], box)
+    return out
+
+
 def door_least_xy(res: SegmentResult, index: ObstacleIndex, k: int, j: int
                   ) -> tuple[float, float]:
     """Where, inside door ``k``'s box, the segment's swept region comes nearest solid ``j``."""
-    local = shapely.intersection(res.swept.parts, index.door_boxes[k])
+    box = index.door_boxes[k]
+    local = _clip(res.swept.parts, box)
     local = local[~shapely.is_empty(local)]
     solid = index.geometries[j]
     overlap = bool(np.min(shapely.distance(local, solid)) <= 0.0)
@@ -110,11 +140,34 @@ def clearance_of(res: SegmentResult, index: ObstacleIndex) -> tuple[float, int |
         if not len(index):
             res.far = (math.inf, None)
         else:
-            ii, dd = index.tree.query_nearest(res.swept.parts, return_distance=True,
-                                              all_matches=False)
-            k = int(np.argmin(dd))
-            res.far = (float(dd[k]), int(ii[1][k]))
+            res.far = _nearest_solid(res.swept.parts, index)
     return res.far
+
+
+#: Parts above which :func:`_nearest_solid` narrows the solids first.
+_MANY_PARTS = 8
+
+
+def _nearest_solid(parts: np.ndarray, index: ObstacleIndex) -> tuple[float, int]:
+    """``(distance, solid)`` of the part nearest any solid: the first such part, and the
+    solid the index's nearest query names for it.
+
+    With many parts (a clothoid's) one nearest query per part costs more than the answer
+    needs: the solids within the middle part's nearest distance ``U`` of the parts' bounding
+    box hold every part's nearest solid that is no farther than ``U``, and so the least one;
+    distances to those alone pick the same first part."""
+    if len(parts) <= _MANY_PARTS:
+        ii, dd = index.tree.query_nearest(parts, return_distance=True, all_matches=False)
+        k = int(np.argmin(dd))
+        return float(dd[k]), int(ii[1][k])
+    _, du = index.tree.query_nearest(parts[len(parts) // 2], return_distance=True,
+                                     all_matches=False)
+    env = shapely.box(*shapely.total_bounds(parts))
+    cand = index.tree.query(env, predicate="dwithin", distance=float(du[0]))
+    dd = shapely.distance(parts[:, None], index.geometries[cand][None, :]).min(axis=1)
+    k = int(np.argmin(dd))
+    jj, dk = index.tree.query_nearest(parts[k], return_distance=True, all_matches=False)
+    return float(dk[0]), int(jj[0])
 
 
 def least_segment(results: Sequence[SegmentResult], index: ObstacleIndex,

@@ -50,6 +50,7 @@ sweeping its edges, and no decomposition is needed.
 
 from __future__ import annotations
 
+import functools
 import math
 from collections.abc import Sequence
 from dataclasses import dataclass, replace
@@ -529,6 +530,52 @@ def _clothoid_parts(ring: NDArray[np.float64], convex: bool, r_far: float, seg: 
     return np.asarray(geoms, dtype=object), (0.0 if grown is not None else dev_all)
 
 
+@functools.lru_cache(maxsize=1024)
+def _local_clothoid_parts(fp_key: tuple, kappa0: float, kappa1: float, length_m: float,
+                          direction: int, tol: float) -> tuple[NDArray[np.object_], float]:
+    """:func:`_clothoid_parts` of the clothoid starting at ``(0, 0, 0)``, kept: its parts
+    depend on the pose only through a rigid motion, and a route's CC turns of one radius
+    share their clothoids (every corner eases in and out along the same two)."""
+    from kinematics.motion.segments import clothoid
+
+    fp = prepare_footprint(np.array(fp_key, dtype=float))
+    seg = clothoid((0.0, 0.0, 0.0), kappa0, kappa1, length_m, direction)
+    return _clothoid_parts(fp.ring, fp.convex, fp.r_far_m, seg, tol)
+
+
+@functools.lru_cache(maxsize=1024)
+def _local_clothoid_swept(fp_key: tuple, kappa0: float, kappa1: float, length_m: float,
+                          direction: int, tol: float) -> NDArray[np.object_]:
+    """:func:`swept_parts` of the clothoid starting at ``(0, 0, 0)`` (finished: valid,
+    grown), kept for :func:`_moved`."""
+    return _finish_parts(*_local_clothoid_parts(fp_key, kappa0, kappa1, length_m, direction,
+                                                tol))
+
+
+def _moved(geoms: NDArray[np.object_], pose: Sequence[float]) -> NDArray[np.object_]:
+    """``geoms`` (body frame of a start pose ``(0, 0, 0)``) moved rigidly to ``pose``:
+    distances, validity and the tolerance are kept, to rounding."""
+    x, y, th = (float(v) for v in pose)
+    c, s_ = math.cos(th), math.sin(th)
+    rot = np.array([[c, s_], [-s_, c]])
+    off = np.array([x, y])
+    return shapely.transform(geoms, lambda p: p @ rot + off)
+
+
+def _placed_clothoid_parts(fp: Footprint, seg: Segment, tol: float
+                           ) -> tuple[NDArray[np.object_], float]:
+    """The clothoid's parts, from :func:`_local_clothoid_parts` moved to its start pose."""
+    geoms, dev = _local_clothoid_parts(fp.key, float(seg.kappa0), float(seg.kappa1),
+                                       float(seg.length_m), int(seg.direction), float(tol))
+    return _moved(geoms, seg.start), dev
+
+
+def clear_caches() -> None:
+    """Forget the kept clothoid parts (benchmarks measuring a cold check call this)."""
+    _local_clothoid_parts.cache_clear()
+    _local_clothoid_swept.cache_clear()
+
+
 def segment_parts(footprint: FootprintLike, seg: Segment,
                   tolerance_m: float = DEFAULT_TOLERANCE_M
                   ) -> tuple[NDArray[np.object_], float]:
@@ -542,7 +589,7 @@ def segment_parts(footprint: FootprintLike, seg: Segment,
     tol = _ARC_SHARE * float(tolerance_m)
     placed0 = _place_one(ring, seg.start)
     if seg.kind == "clothoid":
-        return _clothoid_parts(ring, convex, r_far, seg, tol)
+        return _placed_clothoid_parts(fp, seg, tol)
     if seg.kind == "pivot":
         parts = rotation_parts(placed0, seg.start[:2], seg.turn_rad, tol)
         return _polys(parts, False), 0.0
@@ -589,7 +636,18 @@ def swept_parts(footprint: FootprintLike, seg: Segment,
     """
     if not tolerance_m > 0.0:
         raise ValueError("tolerance_m must be > 0")
+    if seg.kind == "clothoid":
+        fp = prepare_footprint(footprint)
+        local = _local_clothoid_swept(fp.key, float(seg.kappa0), float(seg.kappa1),
+                                      float(seg.length_m), int(seg.direction),
+                                      _ARC_SHARE * float(tolerance_m))
+        return _moved(local, seg.start)
     geoms, dev = segment_parts(footprint, seg, tolerance_m)
+    return _finish_parts(geoms, dev)
+
+
+def _finish_parts(geoms: NDArray[np.object_], dev: float) -> NDArray[np.object_]:
+    """Parts without empties, made valid, grown by ``dev`` (see :func:`swept_parts`)."""
     geoms = geoms[~shapely.is_empty(geoms)]
     bad = ~shapely.is_valid(geoms)
     if bad.any():

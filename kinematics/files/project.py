@@ -263,6 +263,15 @@ _POSITIVE = ("wheel_radius_m", "track_m", "wheelbase_m", "max_speed_mps", "max_a
              "max_decel_mps2", "max_wheel_rate_radps", "max_lateral_accel_mps2",
              "max_yaw_rate_dps", "effective_track_factor")
 _NON_NEGATIVE = ("margin_m", "min_turn_radius_m")
+#: The largest value read for each limit that is not a size: far past any wheeled robot or
+#: cart in a building (100 m/s, ~100 g, a wheel at 100 000 rad/s), so no drive is refused,
+#: but a mutated 1e301 m/s2 cannot overflow the profile's algebra (common practice). The
+#: least is LIMIT_MINIMUM: a denormal 5e-324 m/s overflowed the same algebra; slow limits
+#: above it are left to the schedule's sample budget, which names --dt.
+LIMIT_MINIMUM = 1.0e-12
+LIMIT_MAXIMA = {"max_speed_mps": 100.0, "max_accel_mps2": 1000.0, "max_decel_mps2": 1000.0,
+                "max_wheel_rate_radps": 1.0e5, "max_lateral_accel_mps2": 1000.0,
+                "max_yaw_rate_dps": 1.0e5, "effective_track_factor": 100.0}
 #: The rate-of-change limits (optional) and the range each is read in. Below the least a
 #: transition curve would be longer than any building (common practice); above the largest
 #: the number cannot be a drive's (a steering motor turning 20 turns a second, a wheel
@@ -298,8 +307,8 @@ def chassis_from_dict(d: Any, file: str, place: str = "chassis") -> Chassis:
     for key in _POSITIVE:
         size = key.endswith("_m")
         vals[key] = r.opt_number(d, key, place, None, positive=True,
-                                 minimum=MIN_BODY_M if size else None,
-                                 maximum=MAX_BODY_M if size else None)
+                                 minimum=MIN_BODY_M if size else LIMIT_MINIMUM,
+                                 maximum=MAX_BODY_M if size else LIMIT_MAXIMA.get(key))
     for key in _NON_NEGATIVE:
         vals[key] = r.opt_number(d, key, place, None, non_negative=True,
                                  maximum=MAX_BODY_M if key.endswith("_m") else None)

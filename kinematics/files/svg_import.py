@@ -695,6 +695,23 @@ def _read_root(p: Path) -> Element:
     return root
 
 
+def svg_groups(path: str | Path, limit: int = 500) -> list[str]:
+    """The names a zone rule can match: each group's Inkscape layer label, else its id, in
+    drawing order, without repeats (at most ``limit``). Raises :class:`FileReadError` as
+    :func:`import_svg` would for an unreadable file."""
+    root = _read_root(Path(path))
+    out: list[str] = []
+    for el in root.iter():
+        if _local(el.tag) != "g":
+            continue
+        name = (el.get(_INKSCAPE_LABEL) or el.get("id") or "").strip()
+        if name and name not in out:
+            out.append(name)
+            if len(out) >= limit:
+                break
+    return out
+
+
 def import_svg(path: str | Path, metres_per_unit: float = 0.01,
                zones: tuple[ZoneLayer, ...] = ()) -> FloorPlan:
     """Read an SVG drawing as a :class:`~kinematics.files.floorplan.FloorPlan` in metres.

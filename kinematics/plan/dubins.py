@@ -195,8 +195,14 @@ def _one_arc(piece: NDArray[np.float64], turn: NDArray[np.float64], d: NDArray[n
     within ``_SAME_CIRCLE`` the word becomes one arc of the turn. Answers that are the turn
     itself stay as they were.
     """
-    arc = mod2pi(turn)
-    loop = piece[0] + piece[2] > arc + math.pi
+    # The arcs exceed pi wherever they exceed the turn (>= 0) plus pi: test that first.
+    ends = piece[0] + piece[2]
+    loop = ends > math.pi
+    if not loop.any():
+        return
+    arc = np.zeros_like(turn)
+    arc[loop] = mod2pi(turn[loop])
+    loop &= ends > arc + math.pi
     if not loop.any():
         return
     one = loop & (gap < _SAME_CIRCLE)

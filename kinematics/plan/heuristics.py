@@ -67,7 +67,8 @@ class ClearanceGrid:
         if len(geometries):
             grown = shapely.union_all(shapely.buffer(geometries, self.hd, quad_segs=2))
             shapely.prepare(grown)
-            occupied = shapely.contains_xy(grown, gx, gy) | shapely.intersects_xy(grown, gx, gy)
+            # A point inside a polygon intersects it too: one predicate covers both.
+            occupied = shapely.intersects_xy(grown, gx, gy)
         else:
             occupied = np.zeros(gx.shape, dtype=bool)
         if occupied.any():

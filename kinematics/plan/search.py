@@ -106,6 +106,7 @@ class FindSettings:
     pivot_cost_m_per_rad: float | None = None
     heuristic_weight: float = 1.5
     analytic_every: int = 4
+    analytic_near_every: int = 1
     improve_min: int = 100
 
 
@@ -567,6 +568,8 @@ class RouteFinder:
 
         xs: list[Pose] = []
         ths: list[Headings] = []
+        # Least clearance (as the search measures it) of the motion into each node.
+        clear_in: list[float] = []
         gs: list[float] = []
         parent: list[int] = []
         pdir: list[int] = []
@@ -578,6 +581,7 @@ class RouteFinder:
                 continue
             xs.append(p)
             ths.append(th0)
+            clear_in.append(math.inf)
             gs.append(0.0)
             parent.append(-1)
             pdir.append(0)
@@ -587,7 +591,7 @@ class RouteFinder:
         expanded = 0
         closest = (math.inf, starts[0] if starts else (gx, gy, 0.0))
         info: dict = {"expanded": 0, "closest": closest, "why": "exhausted"}
-        best_goal: tuple[float, int, Pose, Headings] = (math.inf, -1, (gx, gy, 0.0), ())
+        best_goal: tuple = (math.inf, -1, (gx, gy, 0.0), (), math.inf)
         stop_at = math.inf
         while heap:
             if budget[0] <= 0:
@@ -620,19 +624,21 @@ class RouteFinder:
             # Analytic expansion: the route's own connection to the goal, an edge to the goal
             # whose cost is counted like any motion's; the cheapest goal found so far ends
             # the search once no open node can beat it.
-            if expanded == 1 or dist_goal < near_goal or expanded % st.analytic_every == 0:
+            if expanded == 1 or expanded % (st.analytic_near_every if dist_goal < near_goal
+                                            else st.analytic_every) == 0:
                 hit = self._analytic(route, mode, p, goal, pdir[n], pivot_cost, pth)
                 if hit is not None and gs[n] + hit[1] < best_goal[0]:
                     if best_goal[1] < 0:
                         # Look on for a cheaper (clearer) goal a bounded while only.
                         stop_at = expanded + max(st.improve_min, expanded // 2)
-                    best_goal = (gs[n] + hit[1], n, hit[0], hit[2])
+                    best_goal = (gs[n] + hit[1], n, hit[0], hit[2], hit[3])
             if best_goal[1] >= 0 and (not heap or heap[0][0] >= best_goal[0]
                                       or expanded >= stop_at):
                 break
             kids: list[Pose] = []
             kid_th: list[Headings] = []
             kid_g: list[float] = []
+            kid_d: list[float] = []
             kid_dir: list[int] = []
             lb = grid.lower_bound(p[0], p[1])
             for pr in prims:
@@ -676,15 +682,17 @@ class RouteFinder:
                 kids.append(q)
                 kid_th.append(qth)
                 kid_g.append(g)
+                kid_d.append(d)
                 kid_dir.append(pdir[n] if pr.kind == "pivot" else pr.direction)
             if not kids:
                 continue
             hk = heuristic(np.array(kids, dtype=float))
-            for q, qth, g, dr, h in zip(kids, kid_th, kid_g, kid_dir, hk):
+            for q, qth, g, dr, h, dq in zip(kids, kid_th, kid_g, kid_dir, hk, kid_d):
                 if not math.isfinite(h):
                     continue
                 xs.append(q)
                 ths.append(qth)
+                clear_in.append(dq)
                 gs.append(g)
                 parent.append(n)
                 pdir.append(dr)
@@ -692,23 +700,27 @@ class RouteFinder:
         info.update(expanded=expanded, closest=closest)
         if best_goal[1] >= 0:
             m = best_goal[1]
-            chain, cth = [], []
+            chain, cth, cin = [], [], []
             while m >= 0:
                 chain.append(xs[m])
                 cth.append(ths[m])
+                cin.append(clear_in[m])
                 m = parent[m]
             chain.reverse()
             cth.reverse()
+            cin.reverse()
             chain.append(best_goal[2])
             cth.append(best_goal[3])
+            cin.append(best_goal[4])
             info["th"] = cth
+            info["clear_in"] = cin
             info["why"] = "found"
             return chain, info
         return None, info
 
     def _analytic(self, route: Route, mode: str, p: Pose,
                   goal: tuple[float, float, float | None], last_dir: int, pivot_cost: float,
-                  th: Headings = ()) -> tuple[Pose, float, Headings] | None:
+                  th: Headings = ()) -> tuple[Pose, float, Headings, float] | None:
         """The goal pose reached by the cheapest clear connection from ``p``, its cost and
         the trailer headings there."""
         gx, gy, gh = goal
@@ -725,17 +737,19 @@ class RouteFinder:
             if got is None or (best is not None and got[0] >= best[1]):
                 continue
             end = segs[-1].end if segs else p
-            best = ((gx, gy, float(end[2]) if h is None else float(h)), got[0], got[1])
+            best = ((gx, gy, float(end[2]) if h is None else float(h)), got[0], got[1],
+                    got[2])
         return best
 
     def _segments_cost(self, segs: Sequence[Segment], last_dir: int, pivot_cost: float,
-                       th: Headings = ()) -> tuple[float, Headings] | None:
-        """The search's cost of driving ``segs`` and the trailer headings at their end
-        (``None`` where one is not clear)."""
+                       th: Headings = ()) -> tuple[float, Headings, float] | None:
+        """The search's cost of driving ``segs``, the trailer headings at their end and
+        their least clearance (``None`` where one is not clear)."""
         st = self.settings
         need = self.margin + SAFETY_M
         far = self.margin + st.clearance_pref_m
         cost = 0.0
+        least = math.inf
         d_prev = last_dir
         for s in segs:
             if self._against_one_way(s):
@@ -748,6 +762,7 @@ class RouteFinder:
                 if td < need:
                     return None
                 d = min(d, td)
+            least = min(least, d)
             if s.kind == "pivot":
                 travel = pivot_cost * abs(s.turn_rad)
                 cost += travel
@@ -760,12 +775,15 @@ class RouteFinder:
             if d < far:
                 cost += st.clearance_weight * (far - d) / st.clearance_pref_m * \
                     max(travel, 1e-3)
-        return cost, th
+        return cost, th, least
 
     def _smooth(self, route: Route, chain: list[Pose], free_end: bool,
-                cth: list[Headings] | None = None) -> tuple[list[Pose], Headings]:
+                cth: list[Headings] | None = None, clear_in: list[float] | None = None
+                ) -> tuple[list[Pose], Headings]:
         """As few of the chain's poses as keep every planner connection clear, and the
-        trailer headings at the end (``cth``: the trailers' headings at each chain pose)."""
+        trailer headings at the end (``cth``: the trailers' headings at each chain pose;
+        ``clear_in``: the clearance the search measured on the motion into each, which
+        spares measuring the chain's steps again)."""
         m = len(chain) - 1
         train = bool(self.trailers) and cth is not None
 
@@ -779,6 +797,9 @@ class RouteFinder:
         need = self.margin + SAFETY_M
         base = []
         for i in range(m):
+            if clear_in is not None:
+                base.append(min(cap, clear_in[i + 1]))
+                continue
             segs = self.connect(route, chain[i], target(i + 1))
             d = self.segments_distance(segs, cap) if segs else need
             if segs and train:
@@ -904,7 +925,8 @@ class RouteFinder:
                        f"{self._solid_name(j)}")
                 return self._fail(route, t0, total, searched, (cp[0], cp[1]), msg)
             free_end = last and gh is None
-            kept, end_th = self._smooth(route, chain, free_end, info.get("th"))
+            kept, end_th = self._smooth(route, chain, free_end, info.get("th"),
+                                        info.get("clear_in"))
             if self.trailers and not self._train_follows(route, kept, free_end,
                                                          info["th"][0]):
                 # The trailers did not follow the shortcuts clear: keep every searched pose.

@@ -369,7 +369,45 @@ def _wheels(drive: DriveModel, rates: dict, angles: dict, k: int) -> dict:
     return out
 
 
-def schedule_to_dict(s: Schedule) -> dict:
+def _sample_dicts(s: Schedule):
+    """The JSON rows of the samples, one at a time."""
+    sm = s.samples
+    curv = sample_curvature(s)
+    for k in range(sm.t_s.size):
+        row: dict = {}
+        if s.pieces is not None:
+            row["plan_segment"] = s.pieces.plan_segment[int(sm.segment[k])]
+        row.update({
+            "t_s": float(sm.t_s[k]), "segment": int(sm.segment[k]),
+            "station_m": float(sm.station_m[k]), "x": float(sm.x[k]), "y": float(sm.y[k]),
+            "heading_deg": math.degrees(float(sm.heading_rad[k])), "v_mps": float(sm.v_mps[k]),
+            "yaw_rate_dps": math.degrees(float(sm.omega_radps[k])),
+            "x_m": float(sm.x[k]), "y_m": float(sm.y[k]),
+            "curvature_per_m": float(curv[k]),
+            "wheels": _wheels(s.drive, sm.rate_radps, sm.angle_rad, k),
+        })
+        if sm.trailers is not None:
+            row["trailers"] = _trailer_dicts(s, k)
+        yield row
+
+
+def schedule_json_text(s: Schedule) -> str:
+    """``jsonio.dumps(schedule_to_dict(s))``, the same text, without holding every sample as
+    Python objects at once: a sample row is encoded as it is made (a 126 000-sample mecanum
+    schedule took 1.1 GB the other way; fuzzing found it)."""
+    from kinematics.files.jsonio import dumps
+
+    mark = "\x00samples\x00"
+    head = schedule_to_dict(s, samples=False)
+    head["samples"] = mark
+    text = dumps(head)
+    rows = [dumps(row).rstrip("\n").replace("\n", "\n    ") for row in _sample_dicts(s)]
+    body = "[\n    " + ",\n    ".join(rows) + "\n  ]" if rows else "[]"
+    before, after = text.split(json.dumps(mark), 1)
+    return before + body + after
+
+
+def schedule_to_dict(s: Schedule, samples: bool = True) -> dict:
     """The contract's ``schedule --format json`` object (plus a few extra keys).
 
     Extra keys: per segment ``turn_deg``, ``radius_m``, ``direction``, ``binding_limit``
@@ -391,25 +429,7 @@ def schedule_to_dict(s: Schedule) -> dict:
             if s.pieces.zone[i]:
                 row["slow_zone"] = s.pieces.zone[i]
         segs.append(row)
-    sm = s.samples
-    curv = sample_curvature(s)
-    samples = []
-    for k in range(sm.t_s.size):
-        if s.pieces is not None:
-            samples.append({"plan_segment": s.pieces.plan_segment[int(sm.segment[k])]})
-        else:
-            samples.append({})
-        samples[-1].update({
-            "t_s": float(sm.t_s[k]), "segment": int(sm.segment[k]),
-            "station_m": float(sm.station_m[k]), "x": float(sm.x[k]), "y": float(sm.y[k]),
-            "heading_deg": math.degrees(float(sm.heading_rad[k])), "v_mps": float(sm.v_mps[k]),
-            "yaw_rate_dps": math.degrees(float(sm.omega_radps[k])),
-            "x_m": float(sm.x[k]), "y_m": float(sm.y[k]),
-            "curvature_per_m": float(curv[k]),
-            "wheels": _wheels(s.drive, sm.rate_radps, sm.angle_rad, k),
-        })
-        if sm.trailers is not None:
-            samples[-1]["trailers"] = _trailer_dicts(s, k)
+    rows = list(_sample_dicts(s)) if samples else []
     out = {
         "meta": schedule_meta(s),
         "route": s.route,
@@ -426,7 +446,7 @@ def schedule_to_dict(s: Schedule) -> dict:
             else math.degrees(lim.max_yaw_rate_radps),
         },
         "segments": segs,
-        "samples": samples,
+        "samples": rows,
     }
     if s.pieces is not None:
         out["stops"] = s.stop_rows()
