@@ -43,7 +43,7 @@ import numpy as np
 import shapely
 
 from kinematics.check.clearance import ObstacleIndex, check_route
-from kinematics.check.contact import nearest_point, part_name, to_body
+from kinematics.check.contact import nearest_point, overlap_depth, part_name, to_body
 from kinematics.check.door_crossing import door_station
 from kinematics.check.results import DoorPass, RouteCheck, Violation
 from kinematics.check.segment_parts import SweptParts
@@ -61,7 +61,7 @@ from kinematics.check.sweep import (
     sweep_allowance,
     translation_parts,
 )
-from kinematics.check.train_bounds import Hit, TrailerBounds, chain_bounds
+from kinematics.check.train_bounds import Hit, TrailerBounds, chain_bounds, trailer_poses
 from kinematics.motion.segments import Segment, segment_stations
 from kinematics.motion.trailers import TrainTrace, hitch_angles, trace_train
 
@@ -357,7 +357,7 @@ def _trailer_station(trace: TrainTrace, j: int, fp: Footprint, ck: Chunk,
         return st
     n = int(min(2000, max(8, math.ceil((ck.p1 - ck.p0) / 0.01))))
     ps = np.linspace(ck.p0, ck.p1, n + 1)
-    placed = placed_footprints(fp, trace.poses(ck.segment, ps)[:, j + 1])
+    placed = placed_footprints(fp, trailer_poses(trace, j, ck.segment, ps))
     w = int(np.argmin(shapely.distance(placed, shapely.Point(x, y))))
     return float(stations[ck.segment]) + float(ps[w])
 
@@ -388,7 +388,7 @@ def _first_station(trace: TrainTrace, tj: int, fp: Footprint, ck: Chunk, station
         return st
     n = int(min(4000, max(8, math.ceil((ck.p1 - ck.p0) / 0.01))))
     ps = np.linspace(ck.p0, ck.p1, n + 1)
-    placed = placed_footprints(fp, trace.poses(ck.segment, ps)[:, tj + 1])
+    placed = placed_footprints(fp, trailer_poses(trace, tj, ck.segment, ps))
     d = shapely.distance(placed, solid)
     bad = d <= 0.0 if collide else d < margin - MARGIN_SLACK_M
     if not bad.any():
@@ -403,7 +403,7 @@ def _interval_chunk(tb: TrailerBounds, k: int) -> Chunk:
     seg = int(tb.seg[k])
     p0, p1 = float(tb.pa[k]), float(tb.pb[k])
     parts, _owner = tb.pieces(np.array([k]), solid_only=True)
-    poses = tb.trace.poses(seg, np.linspace(p0, p1, 9))[:, tb.j + 1]
+    poses = tb._poses(np.full(9, seg), np.linspace(p0, p1, 9))
     return Chunk(seg, p0, p1, parts, poses, k)
 
 
@@ -473,8 +473,8 @@ def _trailer_doors(tb: TrailerBounds, stations, segs) -> dict[int, tuple[float, 
         st = _chunk_station(stations, segs, ck)
         if len(solids) and math.isfinite(c):
             if c <= 0.0:
-                touch = k[val <= 0.0].tolist()
-                depth = max(tb.depth(touch, jj, box=box) for jj in solids.tolist())
+                region = tb.placements(k[val <= 0.0].tolist()).intersection(box)
+                depth = max(overlap_depth(region, index.geometries[jj]) for jj in solids.tolist())
                 c = -depth if depth > 0.0 else c
             local = shapely.intersection(ck.parts, box)
             local = local[~shapely.is_empty(local)]

@@ -146,6 +146,22 @@ class TrailerPoser:
         return np.column_stack([x, y, th])
 
 
+def trailer_poser(trace: TrainTrace, j: int) -> TrailerPoser:
+    """The :class:`TrailerPoser` of trailer ``j`` on ``trace`` (made once per trace)."""
+    cache = trace.__dict__.setdefault("_posers", {})
+    got = cache.get(j)
+    if got is None:
+        got = cache[j] = TrailerPoser(trace, j)
+    return got
+
+
+def trailer_poses(trace: TrainTrace, j: int, segment: int, progress: np.ndarray
+                  ) -> np.ndarray:
+    """Trailer ``j``'s poses on one segment (as ``trace.poses(segment, p)[:, j + 1]``)."""
+    p = np.atleast_1d(np.asarray(progress, dtype=float))
+    return trailer_poser(trace, j)(np.full(len(p), segment), p)
+
+
 @dataclass
 class Hit:
     """Interval ``k`` (in route order) within the margin of solid ``solid``: its lower bound
@@ -187,7 +203,7 @@ class TrailerBounds:
             A.append(np.full(n, a_))
             T.append(np.full(n, t_))
         self.n_solids = len(index)
-        self._poser = TrailerPoser(trace, j)
+        self._poser = trailer_poser(trace, j)
         self.reach = max(4.0 * self.margin, 0.5)
         if not seg:
             self.seg = np.zeros(0, dtype=int)
@@ -445,8 +461,12 @@ class TrailerBounds:
         if len(km):
             reach = 0.5 * self.S[km] * (self.pb[km] - self.pa[km]) + self.delta(km)
             geoms = np.concatenate([self.Ga[km], self.Gb[km]])
-            pi, q = self.index.door_tree.query(geoms, predicate="dwithin",
-                                               distance=np.tile(reach, 2))
+            r2 = np.tile(reach, 2)
+            b = shapely.bounds(geoms)
+            pi, q = self.index.door_tree.query(shapely.box(b[:, 0] - r2, b[:, 1] - r2,
+                                                           b[:, 2] + r2, b[:, 3] + r2))
+            near = shapely.distance(geoms[pi], self.index.door_lines[q]) <= r2[pi]
+            pi, q = pi[near], q[near]
             key = np.unique(self.uid[km[pi % len(km)]] * nd + q)
             self._pu = np.concatenate([self._pu, key // nd])
             self._pq = np.concatenate([self._pq, key % nd])
@@ -625,23 +645,23 @@ class TrailerBounds:
         out.sort(key=lambda h: (h.k, h.solid))
         return out
 
-    def depth(self, ks: Sequence[int], solid: int, step_m: float = 0.01,
-              box: object = None) -> float:
-        """Overlap depth estimate of intervals ``ks`` with a solid: of the union of the
-        trailer's true placements about every ``step_m`` of any footprint point's travel
-        through them (at most 600 placements), inside ``box`` if given."""
+    def placements(self, ks: Sequence[int], step_m: float = 0.02, most: int = 150):
+        """The union of the trailer's true placements about every ``step_m`` of any
+        footprint point's travel through intervals ``ks`` (at most ``most`` placements)."""
         k = np.asarray(ks, dtype=int)
         n = np.clip(np.ceil(self.S[k] * (self.pb[k] - self.pa[k]) / step_m), 1, None)
-        n = np.maximum(1, (n * min(1.0, 600.0 / float(n.sum()))).astype(int))
+        n = np.maximum(1, (n * min(1.0, most / float(n.sum()))).astype(int))
         own = np.repeat(np.arange(len(k)), n + 1)
         start = np.concatenate([[0], np.cumsum(n + 1)])[:-1]
         f = (np.arange(len(own)) - start[own]) / n[own]
         kk = k[own]
         poses = self._poses(self.seg[kk], self.pa[kk] + f * (self.pb[kk] - self.pa[kk]))
-        region = shapely.union_all(self._placed(poses))
-        if box is not None:
-            region = region.intersection(box)
-        return overlap_depth(region, self.index.geometries[solid])
+        return shapely.union_all(self._placed(poses))
+
+    def depth(self, ks: Sequence[int], solid: int) -> float:
+        """Overlap depth estimate of intervals ``ks`` with a solid (of their placements'
+        union, :meth:`placements`)."""
+        return overlap_depth(self.placements(ks), self.index.geometries[solid])
 
     def least(self) -> tuple[float, int, int] | None:
         """The least lower bound over the intervals, its interval and the solid nearest it
@@ -656,4 +676,5 @@ class TrailerBounds:
         j, _d = self.index.nearest(self.Ga[k])
         return float(low[k]), k, int(j)
 
-__all__ = ["COARSE_M", "Hit", "TrailerBounds", "chain_bounds"]
+__all__ = ["COARSE_M", "Hit", "TrailerBounds", "TrailerPoser", "chain_bounds", "trailer_poser",
+           "trailer_poses"]
