@@ -460,6 +460,8 @@ def _trailer_doors(tb: TrailerBounds, stations, segs) -> dict[int, tuple[float, 
     out: dict[int, tuple[float, int, float]] = {}
     index = tb.index
     for q, (k, val, _up) in tb.door_values().items():
+        if 0.0 < float(val.min()) and float(val.min()) >= tb.door_caps[q]:
+            continue  # another body of the train is as near there: its pass stands
         geoms, owner = tb.pieces(k, solid_only=True)
         dl = tb.delta(k)
         if not shapely.dwithin(geoms, index.door_lines[q], dl[owner] + 1e-12).any():
@@ -595,7 +597,9 @@ def check_train(plan_or_segments: Any, chassis: Any, index: ObstacleIndex,
         sw = _TrailerSweep(trace, j, fp, sweep_allowance(tolerance_m))
         sweeps.append(sw)
         body = body_name(j + 1, chassis)
-        tb = TrailerBounds(trace, j, fp, index, margin, 0.5 * sweep_allowance(tolerance_m))
+        caps = {k: p.min_clearance_m for k, p in doors.items()}
+        tb = TrailerBounds(trace, j, fp, index, margin, 0.5 * sweep_allowance(tolerance_m),
+                           caps)
         vs, worsts = _stretch_violations(tb, tb.hits(), segs, stations, body)
         violations += vs
         least_j = tb.least()

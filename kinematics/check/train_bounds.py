@@ -176,9 +176,15 @@ class TrailerBounds:
     """The intervals of trailer ``j`` along a traced plan, refined against ``index``."""
 
     def __init__(self, trace: TrainTrace, j: int, fp: Footprint, index: ObstacleIndex,
-                 margin: float, eps: float) -> None:
+                 margin: float, eps: float, door_caps: dict[int, float] | None = None) -> None:
         self.trace, self.j, self.fp, self.index = trace, j, fp, index
         self.margin, self.eps = float(margin), float(eps)
+        # A door's least clearance already found for another body of the train: this
+        # trailer's clearance there needs telling apart only below it.
+        self.door_caps = np.full(len(index.doors), math.inf)
+        for q, c in (door_caps or {}).items():
+            if c is not None and math.isfinite(c):
+                self.door_caps[q] = c
         self.r = fp.r_far_m
         r_far = [0.0] * trace.n
         r_far[j] = self.r
@@ -544,7 +550,8 @@ class TrailerBounds:
     def door_values(self, low: np.ndarray | None = None
                     ) -> dict[int, tuple[np.ndarray, np.ndarray, float]]:
         """Per door the band may reach: its candidate intervals, their lower bounds of the
-        clearance inside the door's box, and the least true placement's (an upper bound).
+        clearance inside the door's box, and the least true placement's (an upper bound; no
+        more than the door's cap, the least another body of the train has there).
 
         The stand-in's part inside the box grown by its stray (the growth rounded up to
         ``eps`` times a power of two, so one rectangle clip serves many), less the stray,
@@ -565,6 +572,7 @@ class TrailerBounds:
         nd = len(self.index.doors)
         up = np.full(nd, math.inf)
         np.minimum.at(up, pq, self._pup)
+        up = np.minimum(up, self.door_caps)
         lk = low[ks]
         look = lk < up[pq] - self.eps
         todo = np.nonzero(look & np.isnan(self._plow))[0]
