@@ -46,6 +46,11 @@ sweeping its edges, and no decomposition is needed.
   tolerance (``r_far |phi|``), the line is swept as a translation of the start placement grown
   by ``r_far |phi|``: the circular stand-in's centre would lie so far away that rounding in
   its coordinates exceeds the tolerance.
+
+Size: the exact sweep of one rigid footprint for each segment kind (translation, rotation,
+clothoid, holonomic line) shares the edge-sweep and placement primitives and the tolerance
+bookkeeping that make the result conservative within a stated bound; kept together so that
+bound is argued in one place.
 """
 
 from __future__ import annotations
