@@ -23,7 +23,7 @@ from typing import Any
 
 import numpy as np
 import pyqtgraph as pg
-from PySide6.QtCore import QRectF, Qt, QTimer
+from PySide6.QtCore import QPointF, QRectF, Qt, QTimer
 from PySide6.QtGui import QColor, QImage, QPainter
 from PySide6.QtWidgets import (
     QButtonGroup,
@@ -118,18 +118,30 @@ class SchedulePlots(pg.GraphicsLayoutWidget):
                                                       brush=(255, 255, 255, 90), colCount=4)
         self.rate_legend = self.rate_plot.addLegend(offset=(8, 4), labelTextColor="#222222",
                                                     brush=(255, 255, 255, 90), colCount=4)
-        # Legends at the top centre, in the headroom above the curves and left of the limit
-        # labels, so they cover no data.
+        # Legends at the top left, in the headroom above the curves, and the limit labels at
+        # the right end of their lines: side by side they share a narrow plot's headroom
+        # (centred, a legend ran into the limit's name in the window's side-by-side plots).
         for legend in (self.speed_legend, self.rate_legend):
-            legend.anchor(itemPos=(0.5, 0.0), parentPos=(0.5, 0.0), offset=(0, 2))
+            legend.anchor(itemPos=(0.0, 0.0), parentPos=(0.0, 0.0), offset=(8, 2))
         vb = self.speed_plot.getViewBox()
         vb.sigRangeChanged.connect(self.place_cap_labels)
         vb.sigResized.connect(self.place_cap_labels)
         for plot in (self.rate_plot, self.hitch_plot):
             plot.getViewBox().sigRangeChanged.connect(self.keep_limit_labels_inside)
             plot.getViewBox().sigResized.connect(self.keep_limit_labels_inside)
+        # Names placed again once a new layout has settled: a view's resize signal comes
+        # while the labels still map through the old geometry (a train's hitch plot shown
+        # late left its limit's name cut at the plot's top).
+        self._relabel = QTimer(self)
+        self._relabel.setSingleShot(True)
+        self._relabel.setInterval(0)
+        self._relabel.timeout.connect(self.place_cap_labels)
+        for plot in (self.speed_plot, self.rate_plot, self.hitch_plot):
+            plot.getViewBox().sigResized.connect(self._relabel.start)
+            plot.getViewBox().sigRangeChanged.connect(self._relabel.start)
         self.side_by_side = False
         self._ranges: list[tuple[pg.PlotItem, tuple[float, float], tuple[float, float] | None]] = []
+        self._room: dict[int, float] = {}
 
     def fit(self) -> None:
         """Back to the ranges the last drawing chose (the whole route, room for the labels)."""
@@ -163,6 +175,7 @@ class SchedulePlots(pg.GraphicsLayoutWidget):
         self.cap_labels = []
         self.cap_items = []
         self._ranges = []
+        self._room: dict[int, float] = {}  # a plot's top raised to hold legend and name
 
     def set_x_axis_label(self, x_axis: str) -> None:
         xlabel = ("time", "s") if x_axis == "time" else ("distance along the route", "m")
@@ -251,34 +264,113 @@ class SchedulePlots(pg.GraphicsLayoutWidget):
             top = max(top, lim)
         self._set_range(self.hitch_plot, (-top * HEADROOM, top * HEADROOM))
 
+    def legend_rect(self, vb: pg.ViewBox) -> QRectF | None:
+        """The scene box of the legend of the plot whose view is ``vb`` (``None`` if empty)."""
+        for plot, legend in ((self.speed_plot, self.speed_legend),
+                             (self.rate_plot, self.rate_legend),
+                             (self.hitch_plot, self.hitch_legend)):
+            if plot.getViewBox() is vb:
+                # What the legend shows (its samples and names), not its padded box, which
+                # in a short plot reaches past the limit line under it.
+                rects = [it.sceneBoundingRect() for pair in legend.items for it in pair]
+                if not rects:
+                    return None
+                r = rects[0]
+                for o in rects[1:]:
+                    r = r.united(o)
+                return r
+        return None
+
+    @staticmethod
+    def limit_label_rect(line: pg.InfiniteLine, anchors: list | None = None) -> QRectF:
+        """Where ``line``'s name lies in the scene with ``anchors`` (default: its own), from
+        the view's mapping now (the label's own position catches up only later)."""
+        vb = line.getViewBox()
+        box = vb.sceneBoundingRect()
+        lab = line.label
+        size = lab.sceneBoundingRect()
+        w, h = size.width(), size.height()
+        y = vb.mapViewToScene(QPointF(0.0, float(line.value()))).y()
+        right = box.left() + lab.orthoPos * box.width()
+        above = (anchors or lab.anchors)[0][1] == 1  # the name's bottom on the line
+        return QRectF(right - w, y - h if above else y, w, h)
+
+    def make_room(self, plot: pg.PlotItem) -> bool:
+        """Raise the top of ``plot``'s range, as drawn (not zoomed by the user), until its
+        legend and the top limit's name fit one above the other in the headroom where the
+        plot is too narrow to hold them side by side; True if the range changed."""
+        vb = plot.getViewBox()
+        legend = self.legend_rect(vb)
+        lines = [ln for ln in self.limit_lines if ln.getViewBox() is vb and ln.value() >= 0]
+        base = [yr for pl, yr, _xr in self._ranges if pl is plot]
+        if legend is None or not lines or not base or not plot.isVisible():
+            return False
+        y0, y1 = vb.viewRange()[1]
+        if abs(y0 - base[-1][0]) > 1e-9 or y1 < base[-1][1] - 1e-9 or \
+                y1 > self._room.get(id(plot), base[-1][1]) + 1e-9:
+            return False  # the user's zoom, left as it is
+        line = max(lines, key=lambda ln: float(ln.value()))
+        lab = self.limit_label_rect(line, [(1, 1), (1, 1)])
+        if lab.left() >= legend.right():
+            return False  # side by side they fit
+        box = vb.sceneBoundingRect()
+        need = legend.bottom() - box.top() + lab.height() + 2.0
+        H = box.height()
+        v = float(line.value())
+        if H <= need + 1.0 or (y1 - v) * H / (y1 - y0) >= need - 0.5:
+            return False
+        top = (v * H - need * y0) / (H - need)
+        if top <= y1:
+            return False
+        self._room[id(plot)] = top
+        plot.setYRange(y0, top, padding=0)
+        return True
+
     def keep_limit_labels_inside(self, *_args) -> None:
-        """A limit's name goes to the other side of its line where the plot is too short for
-        it on its own side (it would be cut at the plot's edge)."""
+        """A limit's name sits on its own side of its line (above a positive limit, below a
+        negative one) unless it would be cut at the plot's edge there or cover the plot's
+        legend; then on the other side, where that is free."""
+        for plot in (self.speed_plot, self.rate_plot, self.hitch_plot):
+            if self.make_room(plot):
+                return  # the range change placed the names again
         for line in self.limit_lines:
             vb = line.getViewBox()
             if vb is None:
                 continue
             box = vb.sceneBoundingRect()
-            lab = line.label
+            legend = self.legend_rect(vb)
             above = line.value() >= 0
-            for a in ([(1, 1), (1, 1)], [(1, 0), (1, 0)])[:: 1 if above else -1]:
-                lab.anchors = a
-                lab.updatePosition()
-                lab.updateTransform(force=True)
-                r = lab.sceneBoundingRect()
-                if r.top() >= box.top() and r.bottom() <= box.bottom():
-                    break
+            sides = ([(1, 1), (1, 1)], [(1, 0), (1, 0)])[:: 1 if above else -1]
+            # A few pixels of the name's box may pass the edge: its text has padding round it.
+            edge = box.adjusted(0, -4, 0, 4)
+            inside = [a for a in sides if edge.top() <= self.limit_label_rect(line, a).top()
+                      and self.limit_label_rect(line, a).bottom() <= edge.bottom()]
+            free = [a for a in inside if legend is None
+                    or not self.limit_label_rect(line, a).intersects(legend)]
+            choice = (free or inside or sides[-1:])[0]
+            lab = line.label
+            lab.anchors = choice
+            lab.updatePosition()
+            lab.updateTransform(force=True)
 
     def place_cap_labels(self, *_args) -> None:
         """Put each cap's name above its dotted line, else below it, where it covers no other
-        name (a cap label or the limit lines' labels); a name with no free place is hidden
-        (its dotted line stays). Redone when the view or its size changes."""
+        name (a cap label, the limit lines' labels, the legend) and crosses no limit line; a
+        name with no free place is hidden (its dotted line stays). Redone when the view or
+        its size changes."""
         self.keep_limit_labels_inside()
+        vb = self.speed_plot.getViewBox()
+        box = vb.sceneBoundingRect()
         taken = []
         for line in self.limit_lines:
-            if line.getViewBox() is self.speed_plot.getViewBox():
-                line.label.updateTransform(force=True)
-                taken.append(line.label.sceneBoundingRect())
+            if line.getViewBox() is vb:
+                taken.append(self.limit_label_rect(line))
+                # The dashed line itself, a few pixels thick: a name across it reads badly.
+                y = vb.mapViewToScene(QPointF(0.0, float(line.value()))).y()
+                taken.append(QRectF(box.left(), y - 1.5, box.width(), 3.0))
+        legend = self.legend_rect(vb)
+        if legend is not None:
+            taken.append(legend)
         for t in self.cap_items:
             t.show()
             for anchor in ((0.5, 1.0), (0.5, 0.0)):
