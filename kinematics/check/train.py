@@ -29,6 +29,10 @@ each trailer's clearances without polygons, from certified intervals of its moti
 truth and never above it, the same promise, at a fraction of the sweep's cost. Violations of a train
 name their ``body`` ("tug (ward tug)", "trailer 2 (meal cart)"); a hitch angle beyond a
 trailer's ``max_hitch_deg`` is a ``jackknife``.
+
+Size: the train check is one argument (chunk a trailer's motion, sweep each chunk's rigid
+stand-in, grow it by the stray, then find hits, doors and jackknifes on the same chunks); the
+chunking and the results read the same chunk records, so they are kept together.
 """
 
 from __future__ import annotations
