@@ -26,13 +26,14 @@ clearance is the least over its bodies (each against its own margin).
 The band is swept only when drawn or asked for (traffic, views). The check itself measures
 each trailer's clearances without polygons, from certified intervals of its motion
 (:mod:`kinematics.check.train_bounds`): lower bounds within half the sweep allowance of the
-truth and never above it, the same promise, at a fraction of the sweep's cost. Violations of a train
-name their ``body`` ("tug (ward tug)", "trailer 2 (meal cart)"); a hitch angle beyond a
-trailer's ``max_hitch_deg`` is a ``jackknife``.
+truth and never above it, the same promise, at a fraction of the sweep's cost. Violations of
+a train name their ``body`` ("tug (ward tug)", "trailer 2 (meal cart)"); a hitch angle beyond
+a trailer's ``max_hitch_deg`` is a ``jackknife``.
 
-Size: the train check is one argument (chunk a trailer's motion, sweep each chunk's rigid
-stand-in, grow it by the stray, then find hits, doors and jackknifes on the same chunks); the
-chunking and the results read the same chunk records, so they are kept together.
+Size: the train check is one argument (a trailer's band in chunks of its motion, each a rigid
+stand-in grown by the stray, and the violations, doors and jackknifes read from the check's
+intervals as the same chunk records); the band and the results share those records, so they
+are kept together.
 """
 
 from __future__ import annotations

@@ -28,6 +28,10 @@ clearance, and per door for its box), or is undecided between within and clear o
 margin, or between touching and not; a fine interval (``S (b - a) / 2 <= eps`` or ``2 delta
 <= eps``) is never halved. So each reported least clearance lies within ``eps`` below the
 truth and never above it (the dense-pose oracles in tests/test_train_check.py check both).
+
+Size: one argument over one set of interval arrays (their placements, both bounds, the
+halving, and the per-door bounds kept per interval and door); the door part reads and
+extends the same arrays every round, so splitting it off would hand a dozen arrays across.
 """
 
 from __future__ import annotations
