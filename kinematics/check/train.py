@@ -356,14 +356,22 @@ def _trailer_station(trace: TrainTrace, j: int, fp: Footprint, ck: Chunk,
                      stations: np.ndarray, segs: Sequence[Segment], x: float, y: float
                      ) -> float:
     """Route station where trailer ``j``, within chunk ``ck``, is placed nearest ``(x, y)``
-    (placements every 1 cm of the chunk's progress; a pivot's station is its start)."""
+    (placements every 5 cm of the chunk's progress, then every 1 cm round the nearest; a
+    pivot's station is its start)."""
     st = _chunk_station(stations, segs, ck)
     if segs[ck.segment].kind == "pivot" or not ck.p1 > ck.p0:
         return st
-    n = int(min(2000, max(8, math.ceil((ck.p1 - ck.p0) / 0.01))))
-    ps = np.linspace(ck.p0, ck.p1, n + 1)
-    placed = placed_footprints(fp, trailer_poses(trace, j, ck.segment, ps))
-    w = int(np.argmin(shapely.distance(placed, shapely.Point(x, y))))
+    pt = shapely.Point(x, y)
+
+    def nearest(lo: float, hi: float, step: float) -> tuple[np.ndarray, int]:
+        n = int(min(2000, max(8, math.ceil((hi - lo) / step))))
+        ps = np.linspace(lo, hi, n + 1)
+        placed = placed_footprints(fp, trailer_poses(trace, j, ck.segment, ps))
+        return ps, int(np.argmin(shapely.distance(placed, pt)))
+
+    ps, w = nearest(ck.p0, ck.p1, 0.05)
+    if len(ps) > 9:
+        ps, w = nearest(float(ps[max(w - 1, 0)]), float(ps[min(w + 1, len(ps) - 1)]), 0.01)
     return float(stations[ck.segment]) + float(ps[w])
 
 
@@ -594,17 +602,21 @@ def check_train(plan_or_segments: Any, chassis: Any, index: ObstacleIndex,
     if at is not None:
         at = dict(at, body=tug_body)
     doors = {p.door: p for p in tug.doors}
+    fps = [prepare_footprint(t.footprint) for t in trailers]
+    margins = [chassis.trailer_margin(j) if hasattr(chassis, "trailer_margin") else
+               (t.margin_m if t.margin_m is not None else chassis.margin_m)
+               for j, t in enumerate(trailers)]
+    # Every trailer's intervals refined together (one round of calls serves them all).
+    batch = TrailerBounds(trace, range(len(trailers)), fps, index, margins,
+                          0.5 * sweep_allowance(tolerance_m),
+                          {k: p.min_clearance_m for k, p in doors.items()})
     sweeps = []
-    for j, t in enumerate(trailers):
-        fp = prepare_footprint(t.footprint)
-        margin = chassis.trailer_margin(j) if hasattr(chassis, "trailer_margin") else \
-            (t.margin_m if t.margin_m is not None else chassis.margin_m)
+    for j, fp in enumerate(fps):
+        margin = margins[j]
         sw = _TrailerSweep(trace, j, fp, sweep_allowance(tolerance_m))
         sweeps.append(sw)
         body = body_name(j + 1, chassis)
-        caps = {k: p.min_clearance_m for k, p in doors.items()}
-        tb = TrailerBounds(trace, j, fp, index, margin, 0.5 * sweep_allowance(tolerance_m),
-                           caps)
+        tb = batch.view(j)
         vs, worsts = _stretch_violations(tb, tb.hits(), segs, stations, body)
         violations += vs
         least_j = tb.least()

@@ -39,6 +39,7 @@ from __future__ import annotations
 import math
 from collections.abc import Sequence
 from dataclasses import dataclass
+from typing import Any
 
 import numpy as np
 import shapely
@@ -113,7 +114,10 @@ class TrailerPoser:
         self.th = np.concatenate([t.th[:, :j + 1] for t in trace.traces])
         self.dth = np.concatenate([t.dth[:, :j + 1] for t in trace.traces])
 
-    def __call__(self, seg: np.ndarray, p: np.ndarray) -> np.ndarray:
+    def __call__(self, seg: np.ndarray, p: np.ndarray, which: np.ndarray | None = None
+                 ) -> np.ndarray:
+        """Poses at ``(seg, p)``: of trailer ``j``, or per query of trailer ``which`` (each at
+        most ``j``)."""
         seg = np.asarray(seg, dtype=int)
         p = np.asarray(p, dtype=float)
         st = self.start[seg]
@@ -141,13 +145,17 @@ class TrailerPoser:
         t2, t3 = t * t, t * t * t
         hd = (2 * t3 - 3 * t2 + 1) * self.th[k] + (t3 - 2 * t2 + t) * h * self.dth[k] + \
             (-2 * t3 + 3 * t2) * self.th[k1] + (t3 - t2) * h * self.dth[k1]
+        out = np.empty((len(p), 3)) if which is not None else None
         for jj, hz in enumerate(self.trace.hitches[:self.j + 1]):
             hx = x + hz.hitch_x_m * np.cos(th)
             hy = y + hz.hitch_x_m * np.sin(th)
             th = hd[:, jj]
             x = hx - hz.drawbar_m * np.cos(th)
             y = hy - hz.drawbar_m * np.sin(th)
-        return np.column_stack([x, y, th])
+            if out is not None:
+                m = which == jj
+                out[m, 0], out[m, 1], out[m, 2] = x[m], y[m], th[m]
+        return out if out is not None else np.column_stack([x, y, th])
 
 
 def trailer_poser(trace: TrainTrace, j: int) -> TrailerPoser:
@@ -177,71 +185,87 @@ class Hit:
 
 
 class TrailerBounds:
-    """The intervals of trailer ``j`` along a traced plan, refined against ``index``."""
+    """The intervals of every trailer of a train along a traced plan, refined against
+    ``index`` together (one round of vectorised calls serves all trailers; ``jj`` says whose
+    each interval is). :meth:`view` gives one trailer's results."""
 
-    def __init__(self, trace: TrainTrace, j: int, fp: Footprint, index: ObstacleIndex,
-                 margin: float, eps: float, door_caps: dict[int, float] | None = None) -> None:
-        self.trace, self.j, self.fp, self.index = trace, j, fp, index
-        self.margin, self.eps = float(margin), float(eps)
-        # A door's least clearance already found for another body of the train: this
-        # trailer's clearance there needs telling apart only below it.
+    def __init__(self, trace: TrainTrace, js: Sequence[int], fps: Sequence[Footprint],
+                 index: ObstacleIndex, margins: Sequence[float], eps: float,
+                 door_caps: dict[int, float] | None = None) -> None:
+        self.trace, self.index = trace, index
+        self.js = np.asarray(js, dtype=int)
+        self.fps = list(fps)
+        self.nt = len(self.fps)
+        self.margins = np.asarray(margins, dtype=float)
+        self.eps = float(eps)
+        self.r_t = np.array([fp.r_far_m for fp in self.fps])
+        self.convex_t = np.array([fp.convex for fp in self.fps], dtype=bool)
+        # A door's least clearance already found for the tug: a trailer's clearance there
+        # needs telling apart only below it.
         self.door_caps = np.full(len(index.doors), math.inf)
         for q, c in (door_caps or {}).items():
             if c is not None and math.isfinite(c):
                 self.door_caps[q] = c
-        self.r = fp.r_far_m
-        r_far = [0.0] * trace.n
-        r_far[j] = self.r
-        seg, pa, pb, S, A, T = [], [], [], [], [], []
-        for i in range(len(trace.segments)):
-            amount = trace.amount(i)
-            if amount <= 0.0:
-                continue
-            P, W, _M, Ai, Wd = chain_bounds(trace.traces[i].motion, trace.hitches, r_far)[j]
-            if P <= 0.0:
-                # Still on this segment (an on-axle hitch on a pivot): one placement.
-                edges = np.array([0.0, 0.0])
-                s_ = a_ = t_ = 0.0
-            else:
-                s_, a_, t_ = P + self.r * W, Ai, Wd
-                edges = np.linspace(0.0, amount, max(1, math.ceil(amount * s_ / COARSE_M)) + 1)
-            n = len(edges) - 1
-            seg.append(np.full(n, i))
-            pa.append(edges[:-1])
-            pb.append(edges[1:])
-            S.append(np.full(n, s_))
-            A.append(np.full(n, a_))
-            T.append(np.full(n, t_))
+        seg, pa, pb, S, A, T, JJ = [], [], [], [], [], [], []
+        for t, (j, r) in enumerate(zip(self.js.tolist(), self.r_t.tolist())):
+            r_far = [0.0] * trace.n
+            r_far[j] = r
+            for i in range(len(trace.segments)):
+                amount = trace.amount(i)
+                if amount <= 0.0:
+                    continue
+                P, W, _M, Ai, Wd = chain_bounds(trace.traces[i].motion, trace.hitches,
+                                                r_far)[j]
+                if P <= 0.0:
+                    # Still on this segment (an on-axle hitch on a pivot): one placement.
+                    edges = np.array([0.0, 0.0])
+                    s_ = a_ = t_ = 0.0
+                else:
+                    s_, a_, t_ = P + r * W, Ai, Wd
+                    edges = np.linspace(0.0, amount,
+                                        max(1, math.ceil(amount * s_ / COARSE_M)) + 1)
+                n = len(edges) - 1
+                seg.append(np.full(n, i))
+                pa.append(edges[:-1])
+                pb.append(edges[1:])
+                S.append(np.full(n, s_))
+                A.append(np.full(n, a_))
+                T.append(np.full(n, t_))
+                JJ.append(np.full(n, t))
         self.n_solids = len(index)
-        self._poser = trailer_poser(trace, j)
-        self.reach = max(4.0 * self.margin, 0.5)
+        self._poser = trailer_poser(trace, int(self.js.max())) if self.nt else None
+        self.reach = max(4.0 * float(self.margins.max()), 0.5) if self.nt else 0.5
         if not seg:
             self.seg = np.zeros(0, dtype=int)
+            self.jj = np.zeros(0, dtype=int)
             return
-        self.seg = np.concatenate(seg)
+        self.seg, self.jj = np.concatenate(seg), np.concatenate(JJ)
         self.pa, self.pb = np.concatenate(pa), np.concatenate(pb)
         self.S, self.A, self.T = np.concatenate(S), np.concatenate(A), np.concatenate(T)
-        self.Pa = self._poses(self.seg, self.pa)
-        self.Pb = self._poses(self.seg, self.pb)
-        g = self._placed(np.concatenate([self.Pa, self.Pb[-1:]]))
-        self.Ga, self.Gb = g[:-1], g[1:].copy()
-        # Interval ends on segment joints are the same placement; so are shared ends.
-        same = self.seg[1:] == self.seg[:-1]
-        self.Gb[:-1][~same] = self._placed(self.Pb[:-1][~same])
+        self.Pa = self._poses(self.seg, self.pa, self.jj)
+        self.Pb = self._poses(self.seg, self.pb, self.jj)
+        self.Ga = self._placed(self.Pa, self.jj)
+        # Interval ends shared with the next interval are the same placement.
+        same = (self.seg[1:] == self.seg[:-1]) & (self.jj[1:] == self.jj[:-1])
+        self.Gb = np.empty(len(self.seg), dtype=object)
+        self.Gb[:-1][same] = self.Ga[1:][same]
+        rest = np.nonzero(np.append(~same, True))[0]
+        self.Gb[rest] = self._placed(self.Pb[rest], self.jj[rest])
         self.da = self._node_dist(self.Ga)
         self.db = self._node_dist(self.Gb)
         if self.n_solids:
-            while float(min(self.da.min(), self.db.min())) >= self.reach and self.reach < 1e6:
-                # Nothing within reach of any placement: measure farther.
+            while self.reach < 1e6 and bool(np.any(self._per_trailer_min(
+                    np.minimum(self.da, self.db)) >= self.reach)):
+                # Nothing within reach of a trailer's placements: measure farther.
                 self.reach *= 4.0
                 self.da = self._node_dist(self.Ga)
                 self.db = self._node_dist(self.Gb)
         self.l2 = np.full(len(self.seg), -math.inf)
-        self._level = self.reach
+        self._level_t = np.full(self.nt, self.reach)
+        self._door_level = 0.0
         # Door bounds per (interval id, door), kept until the interval is halved.
         self.uid = np.arange(len(self.seg))
         self._next_uid = len(self.seg)
-        # (interval id, door) pairs found so far, with their bounds once measured.
         self._queried = 0
         self._pu = np.zeros(0, dtype=int)
         self._pq = np.zeros(0, dtype=int)
@@ -249,17 +273,26 @@ class TrailerBounds:
         self._plow = np.zeros(0)
         self._frames: dict[int, tuple] = {}
         self._refine()
-        order = np.lexsort((self.pa, self.seg))
-        for name in ("seg", "pa", "pb", "S", "A", "T", "Pa", "Pb", "Ga", "Gb", "da", "db", "l2",
-                     "uid"):
+        order = np.lexsort((self.pa, self.seg, self.jj))
+        for name in ("seg", "jj", "pa", "pb", "S", "A", "T", "Pa", "Pb", "Ga", "Gb", "da",
+                     "db", "l2", "uid"):
             setattr(self, name, getattr(self, name)[order])
+
+    def view(self, t: int) -> TrailerView:
+        """Trailer ``t`` of the batch (``js[t]`` of the train)."""
+        return TrailerView(self, t)
 
     # -- pieces -------------------------------------------------------------------------
     def __len__(self) -> int:
         return len(self.seg)
 
-    def _poses(self, seg: np.ndarray, p: np.ndarray) -> np.ndarray:
-        return self._poser(seg, p)
+    def _per_trailer_min(self, v: np.ndarray) -> np.ndarray:
+        out = np.full(self.nt, math.inf)
+        np.minimum.at(out, self.jj, v)
+        return out
+
+    def _poses(self, seg: np.ndarray, p: np.ndarray, jj: np.ndarray) -> np.ndarray:
+        return self._poser(seg, p, self.js[jj])
 
     def _near(self, geoms: np.ndarray, cap: np.ndarray | float
               ) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
@@ -272,8 +305,20 @@ class TrailerBounds:
         pi, sj = self.index.tree.query(boxes)
         return pi, sj, shapely.distance(geoms[pi], self.index.geometries[sj])
 
-    def _placed(self, poses: np.ndarray) -> np.ndarray:
-        return shapely.polygons(_place(self.fp.ring, poses))
+    def _placed(self, poses: np.ndarray, jj: np.ndarray) -> np.ndarray:
+        """Each pose's trailer ``jj`` placed there, as polygons."""
+        if self.nt == 1 or len({fp.ring.shape for fp in self.fps}) == 1:
+            ring = np.stack([fp.ring for fp in self.fps])[jj]       # (n, N, 2)
+            c = np.cos(poses[:, 2])[:, None]
+            s = np.sin(poses[:, 2])[:, None]
+            x = poses[:, 0:1] + c * ring[..., 0] - s * ring[..., 1]
+            y = poses[:, 1:2] + s * ring[..., 0] + c * ring[..., 1]
+            return shapely.polygons(np.stack([x, y], axis=-1))
+        out = np.empty(len(poses), dtype=object)
+        for t in np.unique(jj).tolist():
+            m = jj == t
+            out[m] = shapely.polygons(_place(self.fps[t].ring, poses[m]))
+        return out
 
     def _node_dist(self, geoms: np.ndarray) -> np.ndarray:
         """Each true placement's distance to the nearest solid, capped at the reach."""
@@ -289,36 +334,52 @@ class TrailerBounds:
         """How far the true placements stray from the stand-in (see the module text)."""
         dp = self.pb[k] - self.pa[k]
         turn = np.abs(self.Pb[k, 2] - self.Pa[k, 2])
-        axle = dp * dp / 8.0 * (self.A[k] + self.r * self.T[k])
-        if self.fp.convex:
-            # Chord against arc of a point at radius r turning by phi: the sagitta
-            # r (1 - cos(phi / 2)) across, and along it |sin(t a) - t sin(a)| <= a^3 / 5
-            # (a = phi / 2 <= pi / 4; Taylor with remainder), else a.
-            a = 0.5 * turn
-            along = np.where(a <= math.pi / 4, a ** 3 / 5.0, a)
-            return axle + self.r * (1.0 - np.cos(a) + along)
-        return axle + self.r * 0.5 * turn
+        jj = self.jj[k]
+        r = self.r_t[jj]
+        axle = dp * dp / 8.0 * (self.A[k] + r * self.T[k])
+        # Convex: chord against arc of a point at radius r turning by phi, the sagitta
+        # r (1 - cos(phi / 2)) across and along it |sin(t a) - t sin(a)| <= a^3 / 5
+        # (a = phi / 2 <= pi / 4; Taylor with remainder), else a. Otherwise the
+        # translation stand-in at the mean heading: r phi / 2.
+        a = 0.5 * turn
+        along = np.where(a <= math.pi / 4, a ** 3 / 5.0, a)
+        return axle + r * np.where(self.convex_t[jj], 1.0 - np.cos(a) + along, a)
 
     def pieces(self, k: np.ndarray, solid_only: bool = False
                ) -> tuple[np.ndarray, np.ndarray]:
-        """The stand-in's swept pieces of intervals ``k``: both placements and every edge's
-        parallelogram (their union is exactly the stand-in's swept region), and the owner of
-        each piece (a position in ``k``)."""
-        return self._pieces_of(self.Pa[k], self.Pb[k], solid_only)
+        """The stand-in's pieces of intervals ``k`` and the owner of each piece (a position
+        in ``k``); see :meth:`_pieces_of`."""
+        return self._pieces_of(self.Pa[k], self.Pb[k], self.jj[k])
 
-    def _pieces_of(self, Pa: np.ndarray, Pb: np.ndarray, solid_only: bool = False
+    def _pieces_of(self, Pa: np.ndarray, Pb: np.ndarray, jj: np.ndarray
                    ) -> tuple[np.ndarray, np.ndarray]:
-        """Pieces of stand-ins from poses ``Pa`` to ``Pb``: both placements and the
+        """Pieces of stand-ins from poses ``Pa`` to ``Pb`` of trailers ``jj``: for a convex
+        footprint the convex hull of its two true placements (it holds every point part way
+        between a footprint point's two placements, see :meth:`delta`); otherwise the
+        footprint at the mean heading moved along the chord, as both placements and the
         parallelograms of the leading edges (whose outward normal points along the motion;
-        with both placements they make up the swept region exactly, as in
+        with both placements they make up its swept region exactly, as in
         :func:`kinematics.check.sweep.translation_parts`)."""
-        if self.fp.convex:
-            # The convex hull of the two true placements: it holds every point part way
-            # between a footprint point's two placements (see delta).
-            both = np.concatenate([_place(self.fp.ring, Pa), _place(self.fp.ring, Pb)], axis=1)
+        geoms, owners = [], []
+        for t in np.unique(jj).tolist():
+            sel = np.nonzero(jj == t)[0]
+            g, o = self._pieces_one(self.fps[t], Pa[sel], Pb[sel])
+            geoms.append(g)
+            owners.append(sel[o])
+        if not geoms:
+            return np.zeros(0, dtype=object), np.zeros(0, dtype=int)
+        if len(geoms) == 1:
+            return geoms[0], owners[0]
+        return np.concatenate(geoms), np.concatenate(owners)
+
+    @staticmethod
+    def _pieces_one(fp: Footprint, Pa: np.ndarray, Pb: np.ndarray
+                    ) -> tuple[np.ndarray, np.ndarray]:
+        if fp.convex:
+            both = np.concatenate([_place(fp.ring, Pa), _place(fp.ring, Pb)], axis=1)
             return shapely.convex_hull(shapely.linestrings(both)), np.arange(len(Pa))
         thm = 0.5 * (Pa[:, 2] + Pb[:, 2])
-        at_a = _place(self.fp.ring, np.column_stack([Pa[:, :2], thm]))
+        at_a = _place(fp.ring, np.column_stack([Pa[:, :2], thm]))
         v = (Pb[:, :2] - Pa[:, :2])[:, None, :]
         nxt = np.roll(at_a, -1, axis=1)
         d = nxt - at_a
@@ -330,9 +391,7 @@ class TrailerBounds:
         nk = len(Pa)
         geoms = np.concatenate([shapely.polygons(at_a), shapely.polygons(at_a + v),
                                 shapely.polygons(quads)])
-        owner = np.concatenate([np.arange(nk), np.arange(nk),
-                                np.nonzero(keep)[0]])
-        del solid_only  # every piece has area: the leading edges' parallelograms do
+        owner = np.concatenate([np.arange(nk), np.arange(nk), np.nonzero(keep)[0]])
         return geoms, owner
 
     def _standin_dist(self, k: np.ndarray, cap: np.ndarray) -> np.ndarray:
@@ -354,7 +413,7 @@ class TrailerBounds:
         k = k[dl < 0.5 * self.S[k] * dp]
         if len(k):
             dl = self.delta(k)
-            cap = np.minimum(self.reach, self._level + dl + self.eps)
+            cap = np.minimum(self.reach, self._level_t[self.jj[k]] + dl + self.eps)
             self.l2[k] = self._standin_dist(k, cap) - dl
 
     # -- bounds ---------------------------------------------------------------------------
@@ -372,44 +431,52 @@ class TrailerBounds:
         lip = (0.5 * self.S * dp <= self.eps) | (dp <= 1e-9)
         return lip | ((2.0 * self.delta() <= self.eps) & ~np.isneginf(self.l2)), lip
 
-    def _need(self) -> tuple[np.ndarray, np.ndarray]:
+    def _need(self, doors: bool = True) -> tuple[np.ndarray, np.ndarray]:
         """Intervals to cut, and into how many parts each: about the current bound's slack
         (``min(d_a, d_b)`` less the lower bound; both bounds shrink in proportion to the
         interval) over the room between the placements and the level to tell apart, so an
         interval far from its level is decided in one cut, one near it cut finely."""
         low = self.lower()
         up = np.minimum(self.da, self.db)
-        best = float(up.min())
-        m = self.margin - MARGIN_SLACK_M
+        best_t = self._per_trailer_min(up)
+        best = best_t[self.jj]
+        m = self.margins[self.jj] - MARGIN_SLACK_M
         fine, lip = self.fine()
         thr = np.full(len(low), -math.inf)
         hit = (low < m) & (up >= m) & ~lip     # within the margin or clear: undecided
-        thr[hit] = m
+        thr[hit] = m[hit]
         touch = (low <= 0.0) & (up > 0.0) & ~lip  # touching or not: undecided
         thr[touch] = np.maximum(thr[touch], 0.0)
-        if best > 0.0:
-            least = (low < best - self.eps) & ~fine
-            thr[least] = np.maximum(thr[least], best - self.eps)
-        door_thr, door_level = self._door_need(low)
-        door = (door_thr > -math.inf) & ~fine
-        thr[door] = np.maximum(thr[door], door_thr[door])
+        least = (best > 0.0) & (low < best - self.eps) & ~fine
+        thr[least] = np.maximum(thr[least], best[least] - self.eps)
+        if doors:
+            door_thr = self._door_need(low)
+            door = (door_thr > -math.inf) & ~fine
+            thr[door] = np.maximum(thr[door], door_thr[door])
         need = thr > -math.inf
         room = np.maximum(up - thr, self.eps)
         ways = np.clip(np.ceil((up - low) / room), 2, 16).astype(int)
         # The level the stand-in bounds of new parts must be told apart from.
-        self._level = max(self.margin, best, door_level)
+        self._level_t = np.maximum(np.maximum(self.margins, best_t), self._door_level)
         return need, ways
 
     def _refine(self) -> None:
-        first, _w = self._need()
+        """Cut until nothing needs it: first for the least clearances, the margins and
+        touching, then with the doors too (their bounds cost the most, so they are asked for
+        once the rest is settled)."""
+        _ks, up = self._door_ups()
+        ok = np.isfinite(up) & (up > 0.0)
+        self._door_level = float(up[ok].max()) if ok.any() else 0.0
+        first, _w = self._need(doors=False)
         if first.any():
             self._measure_l2(np.nonzero(first)[0])
-        for _ in range(_MAX_ROUNDS):
-            need, ways = self._need()
-            if not need.any():
-                return
-            k = np.nonzero(need)[0]
-            self._split(k, ways[k])
+        for doors in (False, True):
+            for _ in range(_MAX_ROUNDS):
+                need, ways = self._need(doors)
+                if not need.any():
+                    break
+                k = np.nonzero(need)[0]
+                self._split(k, ways[k])
 
     def _split(self, k: np.ndarray, ways: np.ndarray) -> None:
         """Cut intervals ``k`` into ``ways`` equal parts each (interval k keeps the first;
@@ -422,20 +489,20 @@ class TrailerBounds:
         rank = np.arange(len(owner)) - starts[owner] + 1  # 1..ways-1 within its interval
         cuts = pa[owner] + rank / ways[owner] * (pb - pa)[owner]
         kk = k[owner]
-        pm = self._poses(self.seg[kk], cuts)
-        gm = self._placed(pm)
+        pm = self._poses(self.seg[kk], cuts, self.jj[kk])
+        gm = self._placed(pm, self.jj[kk])
         dm = self._node_dist(gm)
         first = starts                                   # the first cut of each interval
         last = starts + cnt - 1
         # Appended part r of an interval runs from its cut r to cut r + 1, or to pb.
-        nxt = np.arange(1, len(owner) + 1)
+        nxt = np.minimum(np.arange(1, len(owner) + 1), len(owner) - 1)
         is_last = np.zeros(len(owner), dtype=bool)
         is_last[last] = True
-        ends_p = np.where(is_last, pb[owner], cuts[np.minimum(nxt, len(owner) - 1)])
-        ends_P = np.where(is_last[:, None], self.Pb[kk], pm[np.minimum(nxt, len(owner) - 1)])
-        ends_G = np.where(is_last, self.Gb[kk], gm[np.minimum(nxt, len(owner) - 1)])
-        ends_d = np.where(is_last, self.db[kk], dm[np.minimum(nxt, len(owner) - 1)])
-        for name in ("seg", "S", "A", "T"):
+        ends_p = np.where(is_last, pb[owner], cuts[nxt])
+        ends_P = np.where(is_last[:, None], self.Pb[kk], pm[nxt])
+        ends_G = np.where(is_last, self.Gb[kk], gm[nxt])
+        ends_d = np.where(is_last, self.db[kk], dm[nxt])
+        for name in ("seg", "jj", "S", "A", "T"):
             a = getattr(self, name)
             setattr(self, name, np.concatenate([a, a[kk]]))
         n0 = len(self.pa)
@@ -551,19 +618,14 @@ class TrailerBounds:
             np.minimum.at(d, r, shapely.distance(cut[r], np.concatenate(sols)))
         return d
 
-    def door_values(self, low: np.ndarray | None = None
-                    ) -> dict[int, tuple[np.ndarray, np.ndarray, float]]:
-        """Per door the band may reach: its candidate intervals, their lower bounds of the
-        clearance inside the door's box, and the least true placement's (an upper bound; no
-        more than the door's cap, the least another body of the train has there).
-
-        The stand-in's part inside the box grown by its stray (the growth rounded up to
-        ``eps`` times a power of two, so one rectangle clip serves many), less the stray,
-        bounds the true region's part inside the box from below."""
-        low = self.lower() if low is None else low
+    def _door_ups(self) -> tuple[np.ndarray, np.ndarray]:
+        """The pairs' intervals (see :meth:`_door_pairs`) and per (door, trailer), at
+        ``q * nt + t``, the least clearance of a true placement in the door's box (no more
+        than the door's cap)."""
         ks = self._door_pairs()
+        up = np.repeat(self.door_caps, self.nt)
         if not len(ks):
-            return {}
+            return ks, up
         pq = self._pq
         new = np.nonzero(np.isnan(self._pup))[0]
         if len(new):
@@ -571,21 +633,37 @@ class TrailerBounds:
             both = np.concatenate([self._in_frames(pq[new], self.Pa[kn]),
                                    self._in_frames(pq[new], self.Pb[kn])])
             qq = np.tile(pq[new], 2)
-            d = self._clipped(qq, self._placed(both), np.zeros(len(qq)))
+            d = self._clipped(qq, self._placed(both, np.tile(self.jj[kn], 2)),
+                              np.zeros(len(qq)))
             self._pup[new] = np.minimum(d[:len(new)], d[len(new):])
-        nd = len(self.index.doors)
-        up = np.full(nd, math.inf)
-        np.minimum.at(up, pq, self._pup)
-        up = np.minimum(up, self.door_caps)
+        np.minimum.at(up, pq * self.nt + self.jj[ks], self._pup)
+        return ks, up
+
+    def door_values(self, low: np.ndarray | None = None
+                    ) -> dict[tuple[int, int], tuple[np.ndarray, np.ndarray, float]]:
+        """Per (door, trailer) the band may reach: the candidate intervals, their lower
+        bounds of the clearance inside the door's box, and the least true placement's (an
+        upper bound; no more than the door's cap).
+
+        The stand-in's part inside the box grown by its stray (the growth rounded up to
+        ``eps`` times a power of two, so one rectangle clip serves many), less the stray,
+        bounds the true region's part inside the box from below."""
+        low = self.lower() if low is None else low
+        ks, up = self._door_ups()
+        if not len(ks):
+            return {}
+        pq = self._pq
+        key = pq * self.nt + self.jj[ks]
         lk = low[ks]
-        look = lk < up[pq] - self.eps
+        look = lk < up[key] - self.eps
         todo = np.nonzero(look & np.isnan(self._plow))[0]
         if len(todo):
             km = ks[todo]
             dl = self.delta(km)
             grow = self.eps * 2.0 ** np.ceil(np.log2(np.maximum(dl, 1e-6) / self.eps))
             geoms, owner = self._pieces_of(self._in_frames(pq[todo], self.Pa[km]),
-                                           self._in_frames(pq[todo], self.Pb[km]))
+                                           self._in_frames(pq[todo], self.Pb[km]),
+                                           self.jj[km])
             d = self._clipped(pq[todo][owner], geoms, grow[owner])
             dist = np.full(len(todo), math.inf)
             np.minimum.at(dist, owner, d)
@@ -593,25 +671,22 @@ class TrailerBounds:
         val = np.where(look, np.maximum(lk, np.where(np.isnan(self._plow), -math.inf,
                                                       self._plow)), lk)
         out = {}
-        for q in np.unique(pq).tolist():
-            sel = pq == q
-            out[q] = (ks[sel], val[sel], float(up[q]))
+        for kq in np.unique(key).tolist():
+            sel = key == kq
+            out[(kq // self.nt, kq % self.nt)] = (ks[sel], val[sel], float(up[kq]))
         return out
 
-    def _door_need(self, low: np.ndarray) -> tuple[np.ndarray, np.ndarray | float]:
+    def _door_need(self, low: np.ndarray) -> np.ndarray:
         """Per interval the highest door level it must be told apart from (``-inf`` where
-        none: its door bound is within ``eps`` of the door's least true placement), and
-        the largest such placement bound (0 without doors)."""
+        none: its door bound is within ``eps`` of the door's least true placement)."""
         thr = np.full(len(self), -math.inf)
-        level = 0.0
         if not len(self.index.doors):
-            return thr, level
+            return thr
         for k, val, up in self.door_values(low).values():
             if math.isfinite(up) and up > 0.0:
                 bad = val < up - self.eps
                 thr[k[bad]] = np.maximum(thr[k[bad]], up - self.eps)
-                level = max(level, up)
-        return thr, level
+        return thr
 
     # -- results --------------------------------------------------------------------------
     def per_solid(self, k: np.ndarray, reach: np.ndarray
@@ -641,15 +716,15 @@ class TrailerBounds:
                     - self.S[kk] * dp[pos])
         return pos, sol, np.maximum(l1, l2)
 
-    def hits(self) -> list[Hit]:
-        """Intervals within the margin of a solid (by their per-solid lower bound), in
-        route order; overlapping ones carry an overlap depth estimate of their stand-in."""
+    def hits(self, t: int) -> list[Hit]:
+        """Trailer ``t``'s intervals within its margin of a solid (by their per-solid lower
+        bound), in route order."""
         low = self.lower()
-        m = self.margin - MARGIN_SLACK_M
-        k = np.nonzero(low < m)[0]
+        m = float(self.margins[t]) - MARGIN_SLACK_M
+        k = np.nonzero((low < m) & (self.jj == t))[0]
         if not len(k):
             return []
-        pos, sol, lb = self.per_solid(k, np.full(len(k), max(self.margin, 0.0)))
+        pos, sol, lb = self.per_solid(k, np.full(len(k), max(float(self.margins[t]), 0.0)))
         out = []
         sel = lb < m
         for p_, s_, c in zip(pos[sel].tolist(), sol[sel].tolist(), lb[sel].tolist()):
@@ -657,9 +732,9 @@ class TrailerBounds:
         out.sort(key=lambda h: (h.k, h.solid))
         return out
 
-    def placements(self, ks: Sequence[int], step_m: float = 0.02, most: int = 150):
-        """The union of the trailer's true placements about every ``step_m`` of any
-        footprint point's travel through intervals ``ks`` (at most ``most`` placements)."""
+    def placements(self, ks: Sequence[int], step_m: float = 0.02, most: int = 80):
+        """The union of the true placements about every ``step_m`` of any footprint point's
+        travel through intervals ``ks`` (at most ``most`` placements)."""
         k = np.asarray(ks, dtype=int)
         n = np.clip(np.ceil(self.S[k] * (self.pb[k] - self.pa[k]) / step_m), 1, None)
         n = np.maximum(1, (n * min(1.0, most / float(n.sum()))).astype(int))
@@ -667,26 +742,57 @@ class TrailerBounds:
         start = np.concatenate([[0], np.cumsum(n + 1)])[:-1]
         f = (np.arange(len(own)) - start[own]) / n[own]
         kk = k[own]
-        poses = self._poses(self.seg[kk], self.pa[kk] + f * (self.pb[kk] - self.pa[kk]))
-        return shapely.union_all(self._placed(poses))
+        poses = self._poses(self.seg[kk], self.pa[kk] + f * (self.pb[kk] - self.pa[kk]),
+                            self.jj[kk])
+        return shapely.union_all(self._placed(poses, self.jj[kk]))
 
     def depth(self, ks: Sequence[int], solid: int) -> float:
         """Overlap depth estimate of intervals ``ks`` with a solid (of their placements'
         union, :meth:`placements`)."""
         return overlap_depth(self.placements(ks), self.index.geometries[solid])
 
-    def least(self) -> tuple[float, int, int] | None:
-        """The least lower bound over the intervals, its interval and the solid nearest it
-        (None without solids)."""
-        if not self.n_solids or not len(self):
+    def least(self, t: int) -> tuple[float, int, int] | None:
+        """Trailer ``t``'s least lower bound over its intervals, the interval and the solid
+        nearest it (None without solids)."""
+        mine = np.nonzero(self.jj == t)[0]
+        if not self.n_solids or not len(mine):
             return None
         low = self.lower()
-        k = int(np.argmin(low))
+        k = int(mine[int(np.argmin(low[mine]))])
         _pos, sol, lb = self.per_solid(np.array([k]), np.array([self.reach]))
         if len(lb):
             return float(low[k]), k, int(sol[int(np.argmin(lb))])
         j, _d = self.index.nearest(self.Ga[k])
         return float(low[k]), k, int(j)
 
-__all__ = ["COARSE_M", "Hit", "TrailerBounds", "TrailerPoser", "chain_bounds", "trailer_poser",
-           "trailer_poses"]
+
+class TrailerView:
+    """One trailer of a :class:`TrailerBounds` batch, with the names the check uses."""
+
+    def __init__(self, tb: TrailerBounds, t: int) -> None:
+        self.tb, self.t = tb, t
+        self.trace, self.index = tb.trace, tb.index
+        self.j = int(tb.js[t])
+        self.fp = tb.fps[t]
+        self.margin = float(tb.margins[t])
+        self.door_caps = tb.door_caps
+
+    def __getattr__(self, name: str) -> Any:
+        # The batch's interval arrays and per-interval methods (indices are the batch's).
+        return getattr(self.tb, name)
+
+    def _poses(self, seg: np.ndarray, p: np.ndarray) -> np.ndarray:
+        return self.tb._poses(seg, p, np.full(len(p), self.t))
+
+    def hits(self) -> list[Hit]:
+        return self.tb.hits(self.t)
+
+    def least(self) -> tuple[float, int, int] | None:
+        return self.tb.least(self.t)
+
+    def door_values(self) -> dict[int, tuple[np.ndarray, np.ndarray, float]]:
+        return {q: v for (q, t), v in self.tb.door_values().items() if t == self.t}
+
+
+__all__ = ["COARSE_M", "Hit", "TrailerBounds", "TrailerPoser", "TrailerView", "chain_bounds",
+           "trailer_poser", "trailer_poses"]
