@@ -235,9 +235,11 @@ class TrailerBounds:
         self.n_solids = len(index)
         self._poser = trailer_poser(trace, int(self.js.max())) if self.nt else None
         self.reach = max(4.0 * float(self.margins.max()), 0.5) if self.nt else 0.5
+        self._final_doors: dict | None = None
         if not seg:
             self.seg = np.zeros(0, dtype=int)
             self.jj = np.zeros(0, dtype=int)
+            self._final_doors = {}
             return
         self.seg, self.jj = np.concatenate(seg), np.concatenate(JJ)
         self.pa, self.pb = np.concatenate(pa), np.concatenate(pb)
@@ -676,6 +678,12 @@ class TrailerBounds:
             out[(kq // self.nt, kq % self.nt)] = (ks[sel], val[sel], float(up[kq]))
         return out
 
+    def final_door_values(self) -> dict[tuple[int, int], tuple[np.ndarray, np.ndarray, float]]:
+        """:meth:`door_values` of the refined intervals (computed once)."""
+        if self._final_doors is None:
+            self._final_doors = self.door_values()
+        return self._final_doors
+
     def _door_need(self, low: np.ndarray) -> np.ndarray:
         """Per interval the highest door level it must be told apart from (``-inf`` where
         none: its door bound is within ``eps`` of the door's least true placement)."""
@@ -719,6 +727,8 @@ class TrailerBounds:
     def hits(self, t: int) -> list[Hit]:
         """Trailer ``t``'s intervals within its margin of a solid (by their per-solid lower
         bound), in route order."""
+        if not len(self):
+            return []
         low = self.lower()
         m = float(self.margins[t]) - MARGIN_SLACK_M
         k = np.nonzero((low < m) & (self.jj == t))[0]
@@ -791,7 +801,7 @@ class TrailerView:
         return self.tb.least(self.t)
 
     def door_values(self) -> dict[int, tuple[np.ndarray, np.ndarray, float]]:
-        return {q: v for (q, t), v in self.tb.door_values().items() if t == self.t}
+        return {q: v for (q, t), v in self.tb.final_door_values().items() if t == self.t}
 
 
 __all__ = ["COARSE_M", "Hit", "TrailerBounds", "TrailerPoser", "TrailerView", "chain_bounds",
