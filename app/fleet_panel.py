@@ -209,12 +209,15 @@ class FleetBox(QGroupBox):
         """Show the fleet's names, the vehicle being edited and the current route's one."""
         names = self.doc.vehicle_names()
         i = min(max(self._member(), 0), len(names) - 1)
-        for combo in (self.vehicle, self.route_vehicle):
-            combo.blockSignals(True)
-            combo.clear()
-            combo.addItems(names)
-            combo.blockSignals(False)
-        self.vehicle.setItemText(0, f"{names[0]} (default)")
+        shown = [f"{names[0]} (default)", *names[1:]]
+        for combo, items in ((self.vehicle, shown), (self.route_vehicle, names)):
+            # Rebuilt only when the names change (an add, remove or rename): never while
+            # the combo's own choice is being handled.
+            if [combo.itemText(k) for k in range(combo.count())] != items:
+                combo.blockSignals(True)
+                combo.clear()
+                combo.addItems(items)
+                combo.blockSignals(False)
         self.vehicle.setCurrentIndex(i)
         self.remove_button.setEnabled(len(names) > 1)
         route = self.doc.route()
