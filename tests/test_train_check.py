@@ -184,3 +184,35 @@ def test_windowed_check_least_clearance_and_band(far: float) -> None:
     union = chk.swept
     for j, t in enumerate(TUG.trailers):
         assert _dense(trace, j, t.footprint).difference(union).area < 1e-9
+
+
+def test_three_carts_of_one_outline_are_each_conservative() -> None:
+    # Source: shapely distances of each cart placed at dense poses along the same trace
+    # (reference), for a train whose carts share one outline (the check then places them
+    # all in one vectorised call): each body's least clearance within [true - tolerance,
+    # true], and a clearance violation exactly for the carts nearer a post than the margin.
+    segs = _plan()
+    carts = tuple(Trailer(f"cart {k + 1}", -0.4 if k == 0 else -0.45, 0.7, CART)
+                  for k in range(3))
+    tug = Chassis(name="ward tug", footprint=TUG.footprint, margin_m=0.05, track_m=0.5,
+                  trailers=carts)
+    trace = trace_train(segs, carts)
+    cx, cy = segs[1].arc_centre()
+    posts = []
+    for k, (ang, r) in enumerate(((-0.6, 0.75), (0.9, 1.2), (2.2, 2.7))):
+        px, py = cx + r * math.cos(ang), cy + r * math.sin(ang)
+        posts.append(Obstacle(((px - 0.05, py - 0.05), (px + 0.05, py - 0.05),
+                               (px + 0.05, py + 0.05), (px - 0.05, py + 0.05)), f"post {k}"))
+    idx = ObstacleIndex(FloorPlan(obstacles=tuple(posts)))
+    chk = check_train(segs, tug, idx, 0.002, "r")
+    bodies = {b["body"]: b for b in chk.train.bodies}
+    near = set()
+    for j, t in enumerate(carts):
+        dense = _dense(trace, j, t.footprint, step=0.002)
+        true = min(float(dense.distance(g)) for g in idx.geometries)
+        got = bodies[f"trailer {j + 1} ({t.name})"]["min_clearance_m"]
+        assert 0.0 < true - 0.002 - 1e-6 <= got <= true + 1e-9, (j, got, true)
+        if true < 0.05:
+            near.add(f"trailer {j + 1} ({t.name})")
+    assert near  # the scene has a cart within the margin
+    assert {v.body for v in chk.violations if v.kind == "clearance"} == near
