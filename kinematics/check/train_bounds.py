@@ -631,6 +631,12 @@ class TrailerBounds:
         pq = self._pq
         new = np.nonzero(np.isnan(self._pup))[0]
         if len(new):
+            # A pair whose interval is already no nearer any solid than the door's cap
+            # cannot lower the door's clearance: its box bound is not needed.
+            far = self.lower()[ks[new]] >= self.door_caps[pq[new]]
+            self._pup[new[far]] = math.inf
+            new = new[~far]
+        if len(new):
             kn = ks[new]
             both = np.concatenate([self._in_frames(pq[new], self.Pa[kn]),
                                    self._in_frames(pq[new], self.Pb[kn])])
