@@ -475,10 +475,12 @@ def _trailer_doors(tb: TrailerBounds, stations, segs) -> dict[int, tuple[float, 
     for q, (k, val, _up) in tb.door_values().items():
         if 0.0 < float(val.min()) and float(val.min()) >= tb.door_caps[q]:
             continue  # another body of the train is as near there: its pass stands
-        geoms, owner = tb.pieces(k, solid_only=True)
-        dl = tb.delta(k)
-        if not shapely.dwithin(geoms, index.door_lines[q], dl[owner] + 1e-12).any():
-            continue
+        if not math.isfinite(tb.door_caps[q]):
+            # A door the tug does not pass: listed if the trailer's band reaches its line.
+            geoms, owner = tb.pieces(k, solid_only=True)
+            dl = tb.delta(k)
+            if not shapely.dwithin(geoms, index.door_lines[q], dl[owner] + 1e-12).any():
+                continue
         w = int(np.argmin(val))
         c = float(val[w])
         kb = int(k[w])
