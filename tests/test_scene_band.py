@@ -57,3 +57,30 @@ def test_band_pieces_without_a_check_are_swept_now():
     b = scene.band_bounds(pieces)
     assert b == tuple(float(v) for v in shapely.total_bounds(_union(pieces)))
     assert scene.band_bounds([]) is None
+
+
+def test_forced_labels_of_a_small_picture_do_not_pile_up(monkeypatch):
+    # Source: common practice (map labelling: a label that must show moves further out on a
+    # leader rather than cover another). The report's plan picture of the demo is small for
+    # its door and violation names; they used to be drawn over one another there.
+    from app import painting, render
+    from app.report import report_bytes
+
+    placed = []
+    orig = painting._Labels.place
+
+    def spy(self, *args, **kwargs):
+        r = orig(self, *args, **kwargs)
+        if r is not None:
+            placed.append((args[2], r))  # (painter, anchor, text, ...)
+        return r
+
+    monkeypatch.setattr(painting._Labels, "place", spy)
+    render.ensure_app()
+    project = load_project(SAMPLES / "demo.swathe.json")
+    assert report_bytes(project, "png")[:4] == b"\x89PNG"
+    texts = [t for t, _r in placed]
+    assert any("sluice" in t for t in texts) and any("short of margin" in t for t in texts)
+    for i, (ta, ra) in enumerate(placed):
+        for tb, rb in placed[i + 1:]:
+            assert not ra.intersects(rb), (ta, tb)
