@@ -244,24 +244,29 @@ class TrailerBounds:
         self.seg, self.jj = np.concatenate(seg), np.concatenate(JJ)
         self.pa, self.pb = np.concatenate(pa), np.concatenate(pb)
         self.S, self.A, self.T = np.concatenate(S), np.concatenate(A), np.concatenate(T)
-        self.Pa = self._poses(self.seg, self.pa, self.jj)
-        self.Pb = self._poses(self.seg, self.pb, self.jj)
-        self.Ga = self._placed(self.Pa, self.jj)
-        # Interval ends shared with the next interval are the same placement.
-        same = (self.seg[1:] == self.seg[:-1]) & (self.jj[1:] == self.jj[:-1])
-        self.Gb = np.empty(len(self.seg), dtype=object)
-        self.Gb[:-1][same] = self.Ga[1:][same]
-        rest = np.nonzero(np.append(~same, True))[0]
-        self.Gb[rest] = self._placed(self.Pb[rest], self.jj[rest])
-        self.da = self._node_dist(self.Ga)
-        self.db = self._node_dist(self.Gb)
+        # Interval ends shared with the next interval of the same segment and trailer are
+        # one placement: the nodes are every start plus the ends that start nothing.
+        same = np.append((self.seg[1:] == self.seg[:-1]) & (self.jj[1:] == self.jj[:-1]),
+                         False)
+        tail = np.nonzero(~same)[0]
+        n = len(self.seg)
+        node_seg = np.concatenate([self.seg, self.seg[tail]])
+        node_jj = np.concatenate([self.jj, self.jj[tail]])
+        node_p = np.concatenate([self.pa, self.pb[tail]])
+        b_of = np.arange(1, n + 1)                     # the next interval's start node ...
+        b_of[tail] = n + np.arange(len(tail))          # ... or an end node of its own
+        P = self._poses(node_seg, node_p, node_jj)
+        G = self._placed(P, node_jj)
+        self.Pa, self.Pb = P[:n], P[b_of]
+        self.Ga, self.Gb = G[:n], G[b_of]
+        d = self._node_dist(G)
         if self.n_solids:
             while self.reach < 1e6 and bool(np.any(self._per_trailer_min(
-                    np.minimum(self.da, self.db)) >= self.reach)):
+                    d, node_jj) >= self.reach)):
                 # Nothing within reach of a trailer's placements: measure farther.
                 self.reach *= 4.0
-                self.da = self._node_dist(self.Ga)
-                self.db = self._node_dist(self.Gb)
+                d = self._node_dist(G)
+        self.da, self.db = d[:n], d[b_of]
         self.l2 = np.full(len(self.seg), -math.inf)
         self._level_t = np.full(self.nt, self.reach)
         self._door_level = 0.0
@@ -288,9 +293,9 @@ class TrailerBounds:
     def __len__(self) -> int:
         return len(self.seg)
 
-    def _per_trailer_min(self, v: np.ndarray) -> np.ndarray:
+    def _per_trailer_min(self, v: np.ndarray, jj: np.ndarray | None = None) -> np.ndarray:
         out = np.full(self.nt, math.inf)
-        np.minimum.at(out, self.jj, v)
+        np.minimum.at(out, self.jj if jj is None else jj, v)
         return out
 
     def _poses(self, seg: np.ndarray, p: np.ndarray, jj: np.ndarray) -> np.ndarray:
