@@ -795,21 +795,39 @@ class RouteFinder:
                     got[2])
         return best
 
-    def _surely_blocked(self, poses: NDArray[np.float64]) -> bool:
-        """The footprint placed at one of ``poses`` certainly comes nearer a solid (or a
-        keep-out zone) than any margin the search would accept there: a disc inside the
-        footprint reaches within the least margin of it by the clearance grid's upper bound.
-        A quick way to pass over a connection before its exact sweep; ``False`` proves
-        nothing."""
+    def _surely_blocked(self, poses: NDArray[np.float64], want: float | None = None) -> bool:
+        """The footprint placed at one of ``poses`` certainly has a clearance (as
+        :meth:`_parts_distance` measures it) below ``want`` (default: the margin plus
+        ``SAFETY_M``, what every motion must keep): a disc inside the footprint lies, by the
+        clearance grid's upper bound, nearer a solid (or a keep-out zone) than ``want`` less
+        the most any zone's margin falls below the chassis margin. A quick way to pass over a
+        connection before its exact sweep; ``False`` proves nothing."""
         grid = self._grid
         if grid is None or not len(poses) or not self._discs.size:
             return False
+        extra = 0.0 if want is None else want - (self.margin + SAFETY_M)
         c, s = np.cos(poses[:, 2])[:, None], np.sin(poses[:, 2])[:, None]
         bx, by, rho = self._discs[:, 0], self._discs[:, 1], self._discs[:, 2]
         x = poses[:, 0:1] + c * bx - s * by
         y = poses[:, 1:2] + s * bx + c * by
-        need = np.broadcast_to(rho + self._least_margin + SAFETY_M, x.shape)
+        need = np.broadcast_to(rho + self._least_margin + SAFETY_M + extra, x.shape)
         return grid.surely_near(x.ravel(), y.ravel(), need.ravel())
+
+    def _quick_word_fn(self, route: Route) -> Callable[[Pose, Sequence[float]], tuple | None]:
+        """A function giving the planner's Dubins word between two poses (letters, piece
+        lengths) cheaply (:func:`~kinematics.plan.dubins_one.shortest_one`), or ``None``
+        where the route does not join poses by plain Dubins words (reversing, clothoid
+        transitions, drives that pivot or translate)."""
+        mode, _r = drive_mode(self.chassis, route)
+        if mode != "steer" or route.reverse or \
+                route_transitions(route, self.chassis) == "clothoid":
+            return lambda a, b: None
+        rad = self._leg_radius
+
+        def word(a: Pose, b: Sequence[float]) -> tuple:
+            got = shortest_one(a, (b[0], b[1], float(b[2])), rad)
+            return dubins.WORDS[got[1]], got[2]
+        return word
 
     def _word_blocked(self, route: Route, a: Pose, b: Sequence[float]) -> bool:
         """The shortest Dubins / Reeds-Shepp word from ``a`` to the leg's goal ``b`` (the
@@ -890,11 +908,20 @@ class RouteFinder:
         memo: dict[tuple[int, int], tuple[bool, Headings]] = {}
         now_th: list[Headings] = [cth[0] if train else ()]
 
+        quick = self._quick_word_fn(route)
+
         def ok(i: int, j: int) -> bool:
             if (i, j) not in memo:
                 want = max(need, min(base[i:j]) - SAFETY_M)
-                segs = self.connect(route, chain[i], target(j))
-                good = segs is not None and \
+                b = target(j)
+                word = quick(chain[i], b) if b[2] is not None else None
+                if word is not None and self._surely_blocked(word_poses(
+                        chain[i], word[0], word[1], self._leg_radius, self._sample_m), want):
+                    memo[(i, j)] = (False, ())
+                    return False
+                segs = self.connect(route, chain[i], b)
+                good = segs is not None and not self._surely_blocked(
+                    segment_poses(segs, self._sample_m), want) and \
                     self.segments_distance(segs, cap, want) >= want
                 end: Headings = ()
                 if good and train:
