@@ -123,3 +123,26 @@ def test_grid_distance_goes_round_a_wall_and_bounds_hold():
     hi = np.array([g.upper_bound(a, b) for a, b in zip(x, y)])
     # Source: shapely distance to the wall: the grid's bounds bracket it.
     assert np.all(lo <= true + 1e-12) and np.all(true <= hi + 1e-12)
+
+
+@pytest.mark.parametrize("reverse", [False, True])
+def test_connections_are_the_planners_own(reverse):
+    # A forward-only steered route's connections are laid from the Dubins word directly
+    # (RouteFinder._plain_dubins); they must be the planner's connection between those poses.
+    f = _finder(DOOR_SCENE, reverse=reverse)
+    r = _route([(1.0, 1.3, 0.0), (6.6, 5.0, 90.0)], reverse=reverse)
+    assert (f._plain_dubins(r) is not None) == (not reverse)
+    rng = np.random.default_rng(9)
+    for _ in range(60):
+        a = (*rng.uniform(0, 8, 2), rng.uniform(-math.pi, math.pi))
+        b = (*rng.uniform(0, 8, 2), rng.uniform(-math.pi, math.pi))
+        got = f.connect(r, a, b)
+        ref = f._planned(r, a, b)
+        # Source: kinematics.plan.planner.plan_route (the route's own planner) between the
+        # same two poses: the same pieces to rounding, ending at the same pose.
+        assert len(got) == len(ref)
+        for p, q in zip(got, ref):
+            assert p.kind == q.kind and p.direction == q.direction
+            assert p.length_m == pytest.approx(q.length_m, abs=1e-9)
+            assert p.curvature == pytest.approx(q.curvature, abs=1e-12)
+            np.testing.assert_allclose(p.end, q.end, atol=1e-9)
