@@ -10,6 +10,9 @@ Results (plan, check, schedule) are computed lazily on first request and cached 
 route, chassis and floor plan objects they came from, so an edit invalidates exactly what it
 changed. The route check keeps one incremental checker per route, so dragging one waypoint
 re-sweeps only the segments that moved.
+
+Size: the one Document: its undo commands, its edits and its per-route result caches are one
+state machine (an edit invalidates exactly what it changed), so they stay in one class.
 """
 
 from __future__ import annotations

@@ -24,6 +24,10 @@ the promise the single body makes; the train's band is the union of its bodies' 
 clearance is the least over its bodies (each against its own margin). Violations of a train
 name their ``body`` ("tug (ward tug)", "trailer 2 (meal cart)"); a hitch angle beyond a
 trailer's ``max_hitch_deg`` is a ``jackknife``.
+
+Size: the train check is one argument (chunk a trailer's motion, sweep each chunk's rigid
+stand-in, grow it by the stray, then find hits, doors and jackknifes on the same chunks); the
+chunking and the results read the same chunk records, so they are kept together.
 """
 
 from __future__ import annotations

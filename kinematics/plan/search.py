@@ -51,6 +51,10 @@ set on a grid of cells and heading bins:
 through the interior waypoints in order, with their headings where set) and
 :meth:`~RouteFinder.repair` (keep the legs that pass, re-search only the failing ones). The time
 limit is checked every few expansions and always honoured; a node budget is checked too.
+
+Size: one search (Hybrid A*): the motion primitives, the node expansion, the analytic
+Dubins/Reeds-Shepp shots and the repair of a sketched route share the settings, the closed set
+and the check; the grid heuristics are in kinematics/plan/heuristics.py.
 """
 
 from __future__ import annotations
