@@ -340,6 +340,20 @@ def test_lone_surrogates_are_refused_where_read(tmp_path, capsys, where, key):
     line_.encode("utf-8")
 
 
+@pytest.mark.parametrize("key, place", [("", '[""]'), ("a.b", '["a.b"]')])
+def test_a_refusal_at_an_empty_or_dotted_key_still_names_its_place(tmp_path, capsys, key,
+                                                                    place):
+    # Found by bench/fuzz.py (seed 21): a project with an unknown top-level key "" holding a
+    # lone surrogate was refused at the place "" (no place named).
+    p = _project(tmp_path)
+    d = json.loads(p.read_text())
+    d[key] = "\ud800x"
+    p.write_text(json.dumps(d))
+    code, _, err = _cli(["check", p], capsys)
+    line_ = _one_bad_line(code, err, str(p), f"{p}: {place}: ", "lone surrogate")
+    line_.encode("utf-8")
+
+
 def test_floor_plan_name_with_a_lone_surrogate_is_named_not_printed(tmp_path, capsys):
     # Found by bench/fuzz.py: a project naming the floor plan "\udfff" broke the message.
     p = _project(tmp_path, floorplan="\udfff")
