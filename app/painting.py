@@ -201,6 +201,20 @@ class _Labels:
                 continue
             chosen = r
             break
+        if chosen is None and force:
+            # A label that must show: rows further above and below, then further out to the
+            # sides, tied to its anchor by the leader, before it may cover another.
+            far = []
+            for k in range(1, 7):
+                step = k * (h + 2)
+                far += [(offset, -h - o3 - step), (offset, o3 + step),
+                        (-w - offset, -h - o3 - step), (-w - offset, o3 + step),
+                        (-w / 2, -h - offset * 1.6 - step), (-w / 2, offset * 1.6 + step)]
+            for dx, dy in far:
+                r = QRectF(ax + dx, ay + dy, w, h)
+                if self.bounds.contains(r) and not any(r.intersects(t) for t in self.taken):
+                    chosen = r
+                    break
         if chosen is None:
             if not force:
                 return None

@@ -40,6 +40,7 @@ from PySide6.QtGui import (
     QFontMetricsF,
     QImage,
     QPainter,
+    QPainterPath,
     QPolygonF,
 )
 
@@ -102,6 +103,8 @@ from .scene import (  # noqa: F401 - the geometry helpers are re-exported for ol
     VIOLATION_SHAPES,
     WAYPOINT_R_PX,
     ZONE_ARROW_STEP_PX,
+    band_bounds,
+    band_pieces,
     floorplan_layer,
     legend_rows,
     outline_poses,
@@ -127,10 +130,10 @@ def _scene_bounds(project: Any, plans: dict, bands: dict, focus: str | None = No
     if focus is not None:
         fx = [w.x for r in project.routes if r.name == focus for w in r.waypoints]
         fy = [w.y for r in project.routes if r.name == focus for w in r.waypoints]
-        g = bands.get(focus)
-        if g is not None and not g.is_empty:
-            fx += [g.bounds[0], g.bounds[2]]
-            fy += [g.bounds[1], g.bounds[3]]
+        gb = band_bounds(bands.get(focus))
+        if gb is not None:
+            fx += [gb[0], gb[2]]
+            fy += [gb[1], gb[3]]
         if fx:
             # The route and a few metres of its surroundings, within the plan.
             x0, x1, y0, y1 = min(fx), max(fx), min(fy), max(fy)
@@ -149,9 +152,9 @@ def _scene_bounds(project: Any, plans: dict, bands: dict, focus: str | None = No
         if r.name in plans or not plans:
             xs += [w.x for w in r.waypoints]
             ys += [w.y for w in r.waypoints]
-    for g in bands.values():
-        if g is not None and not g.is_empty:
-            gb = g.bounds
+    for pieces in bands.values():
+        gb = band_bounds(pieces)
+        if gb is not None:
             xs += [gb[0], gb[2]]
             ys += [gb[1], gb[3]]
     if not xs:
@@ -239,7 +242,7 @@ def _draw(p: QPainter, project: Any, plans: dict, checks: dict, route_name: str 
         plan = plans.get(name)
         if plan is not None and plan.segments:
             try:
-                bands[name] = swept_geometry(
+                bands[name] = band_pieces(
                     vehicle_of(project, project.route(name)).footprint, plan.segments,
                     checks.get(name))
             except Exception:  # noqa: BLE001 - a picture without a band is still a picture
@@ -266,9 +269,15 @@ def _draw(p: QPainter, project: Any, plans: dict, checks: dict, route_name: str 
         _paint_marker(p, view, mk, u)
     p.setPen(Qt.PenStyle.NoPen)
     p.setBrush(qbrush(STYLES["band"].fill))
-    for g in bands.values():
-        if g is not None and not g.is_empty:
-            p.drawPath(view.geometry_path(g))
+    for pieces in bands.values():
+        # The scene's per-segment pieces, each route's as one winding-filled path: their
+        # union painted once, as the canvas paints it.
+        band = QPainterPath()
+        for piece in pieces or ():
+            for g in piece:
+                band.addPath(view.geometry_path(g))
+        band.setFillRule(Qt.FillRule.WindingFill)
+        p.drawPath(band)
     plan_layer = floorplan_layer(project.floorplan, checks)
     for poly in plan_layer.polygons:
         _paint_polygons(p, view, poly.role, poly.geoms, u)
