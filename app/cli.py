@@ -345,7 +345,7 @@ def _with_project(exc: SwatheInputError, argv: list[str]) -> str:
     names the route, not the file) is given the project file in front."""
     if len(argv) > 1 and argv[0] in SUBCOMMANDS and exc.file and not (
             exc.file.startswith(("<", "command line")) or os.path.sep in exc.file
-            or exc.file == argv[1]) and exc.place.startswith(("waypoints", "segment ")):
+            or exc.file == argv[1]) and exc.place.startswith(("waypoints", "segment ", "trailers")):
         return f"{argv[1]}: route {exc.file!r}: {exc.place}: {exc.expected}".encode(
             "utf-8", "backslashreplace").decode("utf-8")
     return exc.message

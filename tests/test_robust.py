@@ -340,6 +340,34 @@ def test_lone_surrogates_are_refused_where_read(tmp_path, capsys, where, key):
     line_.encode("utf-8")
 
 
+@pytest.mark.parametrize("key, place", [("", '[""]'), ("a.b", '["a.b"]')])
+def test_a_refusal_at_an_empty_or_dotted_key_still_names_its_place(tmp_path, capsys, key,
+                                                                    place):
+    # Found by bench/fuzz.py (seed 21): a project with an unknown top-level key "" holding a
+    # lone surrogate was refused at the place "" (no place named).
+    p = _project(tmp_path)
+    d = json.loads(p.read_text())
+    d[key] = "\ud800x"
+    p.write_text(json.dumps(d))
+    code, _, err = _cli(["check", p], capsys)
+    line_ = _one_bad_line(code, err, str(p), f"{p}: {place}: ", "lone surrogate")
+    line_.encode("utf-8")
+
+
+@pytest.mark.parametrize("value", ["\ud800x", -10 ** 400])
+def test_a_floor_plan_refusal_at_an_empty_key_names_its_place(tmp_path, value):
+    # Found by bench/fuzz.py (seed 21): floor plans with an unknown key "" holding a lone
+    # surrogate or a number past any float were refused at the place "".
+    from kinematics.files.loader import load_floorplan
+
+    p = tmp_path / "f.floor.json"
+    p.write_text(json.dumps(dict(FLOOR, **{"": value})))
+    with pytest.raises(ValidationError) as info:
+        load_floorplan(p)
+    assert info.value.place == '[""]'
+    assert info.value.message.startswith(f'{p}: [""]: ')
+
+
 def test_floor_plan_name_with_a_lone_surrogate_is_named_not_printed(tmp_path, capsys):
     # Found by bench/fuzz.py: a project naming the floor plan "\udfff" broke the message.
     p = _project(tmp_path, floorplan="\udfff")
@@ -712,3 +740,26 @@ def test_property_tests_draw_the_same_examples_every_run():
     active = settings()
     assert active.derandomize is True
     assert active.database is None
+
+
+def test_a_pivot_whose_nearest_solid_lies_exactly_at_the_query_distance(capsys):
+    # Found by bench/fuzz.py (seed 21): the sample train project with the delivery cart
+    # starting at 360 deg instead of 180 (a pivot of 180 deg first) ended `check` with
+    # "internal error: ValueError: zero-size array": the nearest-solid shortcut asked the
+    # index for solids within the middle part's nearest distance of the parts' box, and GEOS
+    # answered none at exactly that distance. Now widened by rounding, with a fallback.
+    import copy
+    import tempfile
+
+    samples = Path(__file__).resolve().parent.parent / "sample_floorplans"
+    d = json.loads((samples / "clinic_train.swathe.json").read_text())
+    d = copy.deepcopy(d)
+    d["floorplan"] = str(samples / "clinic.floor.json")
+    d["routes"][1]["waypoints"][0][2] = 360
+    with tempfile.TemporaryDirectory() as tmp:
+        p = Path(tmp) / "p.swathe.json"
+        p.write_text(json.dumps(d))
+        code = main(["check", str(p), "--route", "supply-return"])
+    out = capsys.readouterr()
+    assert code in (0, 1), out.err
+    assert out.err == "" and "supply-return" in out.out

@@ -290,19 +290,34 @@ def test_waypoint_check_of_a_long_patrol_loop_stays_linear_in_memory():
     assert len(wc._wp_near) == 0  # nothing cached pair by pair
 
 
-def test_a_drag_step_redraws_only_what_moved(qtbot, tmp_path):
+def test_a_drag_step_redraws_only_what_moved(qtbot, tmp_path, monkeypatch):
     # Source: project rule (issue 14: a drag step's work is proportional to what moved):
     # outline items are made only for segments the move changed, the others stay the very
     # same items; the band is painted plain while the drag is live and antialiased after.
     from PySide6.QtCore import QSettings
-    from PySide6.QtWidgets import QApplication
 
-    from app.document import new_drag_token
-    from app.main_window import DEMO_PROJECT, MainWindow
+    from app.document import Document
+    from app.main_window import MainWindow
 
+    # The drag stays live until finish_drag: with the 150 ms rest a loaded machine could let
+    # the rest timer fire inside processEvents below and end the live state by the clock.
+    monkeypatch.setattr(Document, "LIVE_RESULTS_MS", 10 ** 8)
     w = MainWindow(settings=QSettings(str(tmp_path / "s.ini"), QSettings.Format.IniFormat),
                    autosave_dir=tmp_path / "autosave")
     qtbot.addWidget(w)
+    try:
+        _drag_step_checks(w)
+    finally:
+        w.doc.undo_stack.setClean()  # no "save changes?" question when the window closes
+        w.close()
+
+
+def _drag_step_checks(w) -> None:
+    from PySide6.QtWidgets import QApplication
+
+    from app.document import new_drag_token
+    from app.main_window import DEMO_PROJECT
+
     w.resize(1000, 700)
     assert w.open_project_file(DEMO_PROJECT)
     w.show()
@@ -330,5 +345,3 @@ def test_a_drag_step_redraws_only_what_moved(qtbot, tmp_path):
     QApplication.processEvents()
     c.plot.viewport().repaint()
     assert not c.band_item.painted_rough
-    doc.undo_stack.setClean()  # no "save changes?" question when the window closes
-    w.close()

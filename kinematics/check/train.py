@@ -67,8 +67,9 @@ from kinematics.check.sweep import (
     translation_parts,
 )
 from kinematics.check.train_bounds import Hit, TrailerBounds, chain_bounds, trailer_poses
+from kinematics.errors import ValidationError
 from kinematics.motion.segments import Segment, segment_stations
-from kinematics.motion.trailers import TrainTrace, hitch_angles, trace_train
+from kinematics.motion.trailers import TrainBudgetError, TrainTrace, hitch_angles, trace_train
 
 #: Shares of the tolerance: the stray of a chunk (measured plus between-sample slack), and
 #: of that the between-sample slack alone.
@@ -594,7 +595,11 @@ def check_train(plan_or_segments: Any, chassis: Any, index: ObstacleIndex,
     trailers = tuple(getattr(chassis, "trailers", ()) or ())
     if not trailers or not segs:
         return tug
-    trace = trace_train(segs, trailers)
+    try:
+        trace = trace_train(segs, trailers)
+    except TrainBudgetError as exc:
+        raise ValidationError(route_name or getattr(route, "name", ""), "trailers",
+                              exc.expected) from None
     stations = segment_stations(segs)
     tug_body = body_name(0, chassis)
     violations = [dataclasses.replace(v, body=v.body or tug_body) for v in tug.violations]

@@ -6,6 +6,7 @@ Every failure raises :class:`kinematics.errors.ValidationError` with the file, t
 
 from __future__ import annotations
 
+import json
 import math
 from collections.abc import Sequence
 from typing import Any
@@ -65,9 +66,17 @@ def unencodable(text: str) -> int | None:
 
 
 def join(place: str, key: str | int) -> str:
-    """Key path ``place`` extended by a key or list index."""
+    """Key path ``place`` extended by a key or list index. A key that would not read as one
+    in a dotted path (empty, or holding a dot, a bracket, a quote or a space) is written in
+    brackets as a JSON string, so a refusal at a key ``""`` still names its place.
+
+    >>> join("chassis", "track_m"), join("routes", 0), join("", ""), join("a", "b.c")
+    ('chassis.track_m', 'routes[0]', '[""]', 'a["b.c"]')
+    """
     if isinstance(key, int):
         return f"{place}[{key}]"
+    if not key or any(c in key for c in '.[]"') or any(c.isspace() for c in key):
+        return f"{place}[{json.dumps(key)}]"
     return f"{place}.{key}" if place else key
 
 

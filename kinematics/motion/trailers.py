@@ -34,6 +34,7 @@ from dataclasses import dataclass
 import numpy as np
 from numpy.typing import ArrayLike, NDArray
 
+from kinematics.errors import ValidationError
 from kinematics.motion.segments import Segment
 
 #: Local error tolerance of one integration step, radians.
@@ -41,6 +42,30 @@ LOCAL_TOL_RAD = 1e-8
 #: Longest step, as travel of the fastest hitch point, metres (keeps the Hermite
 #: interpolant between steps far more accurate than the sweep tolerance).
 MAX_STEP_TRAVEL_M = 0.3
+#: Most integration steps times trailers one plan may take (each step costs a few tens of
+#: microseconds per trailer in Python; the train's sweep grows with the same travel): about
+#: 18 km towing one trailer, 9 km towing two, 1.8 km towing ten. Checked before integrating
+#: (from the fewest steps :data:`MAX_STEP_TRAVEL_M` allows) and while integrating (steps
+#: tried, rejected ones too), so no plan integrates for longer.
+TRAIN_STEP_BUDGET = 60_000
+
+
+class TrainBudgetError(ValidationError):
+    """A plan whose trailer integration would take more than :data:`TRAIN_STEP_BUDGET`
+    steps times trailers: bad input, refused before (or, for steps the error control
+    rejects, while) integrating. ``file`` and ``place`` are left to the caller."""
+
+    def __init__(self, steps: float, n_trailers: int, length_m: float, when: str) -> None:
+        self.steps = float(steps)
+        super().__init__("", "", (
+            f"towing {n_trailers} trailer{'s' if n_trailers != 1 else ''} along "
+            f"{length_m:.6g} m {when} about {steps:.2g} integration steps times trailers "
+            f"(at most {TRAIN_STEP_BUDGET:.2g}); split the route or tow fewer trailers"))
+
+    @property
+    def message(self) -> str:
+        """As :attr:`SwatheInputError.message`; just the reason while no file is named."""
+        return super().message if self.file or self.place else self.expected
 
 # Dormand-Prince 5(4) tableau.
 _C = (0.0, 1 / 5, 3 / 10, 4 / 5, 8 / 9, 1.0, 1.0)
@@ -191,14 +216,27 @@ class SegmentTrace:
     p: NDArray[np.float64]
     th: NDArray[np.float64]
     dth: NDArray[np.float64]
+    #: Steps tried, rejected ones too (the work the step budget counts).
+    tried: int = 0
+
+
+def fewest_steps(m: TugMotion, hitches: Sequence[Hitch]) -> int:
+    """The fewest steps :func:`integrate_segment` can take on ``m`` (its longest step is
+    :data:`MAX_STEP_TRAVEL_M` of the fastest hitch point's travel)."""
+    if m.amount <= 0.0 or not hitches:
+        return 0
+    pmax = max(_hitch_speed_bounds(m, hitches), default=0.0)
+    return 1 if pmax <= 0.0 else math.ceil(m.amount * pmax / MAX_STEP_TRAVEL_M - 1e-12)
 
 
 def integrate_segment(m: TugMotion, hitches: Sequence[Hitch], th_start: Sequence[float],
-                      tol: float = LOCAL_TOL_RAD) -> tuple[SegmentTrace, float, float]:
+                      tol: float = LOCAL_TOL_RAD, max_steps: float = math.inf
+                      ) -> tuple[SegmentTrace, float, float]:
     """Trailer headings along one segment from ``th_start``.
 
     Returns the trace, the sum of the accepted local error estimates and the largest growth
-    rate of a heading error per unit progress on reversing steps (0 going forward).
+    rate of a heading error per unit progress on reversing steps (0 going forward). More than
+    ``max_steps`` steps tried (rejected ones too) raise :class:`TrainBudgetError`.
     """
     n = len(hitches)
     y = [float(v) for v in th_start]
@@ -222,7 +260,11 @@ def integrate_segment(m: TugMotion, hitches: Sequence[Hitch], th_start: Sequence
     c1, c2, c3, c4 = _C[1:5]
     amount = m.amount
     p, h = 0.0, min(hmax, 0.05 * amount + 1e-3)
+    tried = 0
     while p < amount:
+        tried += 1
+        if tried > max_steps:
+            raise TrainBudgetError(tried * n, n, amount, "needs more than")
         h = min(h, amount - p)
         k0 = f
         k1 = rhs(p + c1 * h, [yj + h * a10 * q0 for yj, q0 in zip(y, k0)])
@@ -249,7 +291,8 @@ def integrate_segment(m: TugMotion, hitches: Sequence[Hitch], th_start: Sequence
             err_sum = err_sum * math.exp(growth * h) + err
         fac = 0.9 * (tol / err) ** 0.2 if err > 0.0 else 5.0
         h = min(hmax, h * min(5.0, max(0.2, fac)))
-    return (SegmentTrace(m, np.array(ps), np.array(ths), np.array(dths)), err_sum, growth)
+    return (SegmentTrace(m, np.array(ps), np.array(ths), np.array(dths), tried), err_sum,
+            growth)
 
 
 def _hermite(p: NDArray, nodes: SegmentTrace) -> NDArray[np.float64]:
@@ -368,9 +411,17 @@ def trace_train(segments: Sequence[Segment], trailers: Sequence,
         y = [th0] * len(hz)
     else:
         y = [float(v) for v in start_headings]
+    motions = [TugMotion.of(s) for s in segs]
+    if hz:
+        need = sum(fewest_steps(m, hz) for m in motions) * len(hz)
+        if not need <= TRAIN_STEP_BUDGET:
+            raise TrainBudgetError(need, len(hz), sum(s.length_m for s in segs),
+                                   "would need")
+    left = TRAIN_STEP_BUDGET / max(1, len(hz))
     traces, bound = [], 0.0
-    for s in segs:
-        tr, err, growth = integrate_segment(TugMotion.of(s), hz, y, tol)
+    for m in motions:
+        tr, err, growth = integrate_segment(m, hz, y, tol, left)
+        left -= tr.tried
         bound = bound * math.exp(growth * tr.motion.amount) + err
         traces.append(tr)
         y = list(tr.th[-1])

@@ -270,7 +270,7 @@ def build_schedule(route_name: str, segments: Sequence[Segment], chassis,
         vy_mps=vy, omega_radps=omega,
         rate_radps={k: np.asarray(cmd.rate_radps[k]) for k in drive.wheel_names},
         angle_rad={k: np.asarray(dir_cmd.angle_rad[k]) for k in drive.steered_wheels},
-        **_trailer_samples(prof, chassis, idx, st.progress),
+        **_trailer_samples(prof, chassis, idx, st.progress, file, place),
     )
     return Schedule(route_name, drive, prof,
                     {k: np.asarray(cruise_cmd.rate_radps[k]) for k in drive.wheel_names},
@@ -296,14 +296,20 @@ def _steer_in_holds(prof: SpeedProfile, drive: DriveModel, idx: NDArray, tau: ND
             angles[w][m] = float(ea[w]) + f * (float(sb[w]) - float(ea[w]))
 
 
-def _trailer_samples(profile: SpeedProfile, chassis, idx: NDArray, progress: NDArray) -> dict:
-    """The trailers' poses and hitch angles at the samples (nothing for a lone chassis)."""
+def _trailer_samples(profile: SpeedProfile, chassis, idx: NDArray, progress: NDArray,
+                     file: str = "<schedule>", place: str = "") -> dict:
+    """The trailers' poses and hitch angles at the samples (nothing for a lone chassis); a
+    train past the integration budget is refused naming ``file`` and ``place``."""
     trailers = tuple(getattr(chassis, "trailers", ()) or ())
     if not trailers or not profile.segments or idx.size == 0:
         return {}
-    from kinematics.motion.trailers import hitch_angles, trace_train
+    from kinematics.motion.trailers import TrainBudgetError, hitch_angles, trace_train
 
-    trace = trace_train(profile.segments, trailers)
+    try:
+        trace = trace_train(profile.segments, trailers)
+    except TrainBudgetError as exc:
+        raise ValidationError(file, f"{place}, trailers" if place else "trailers",
+                              exc.expected) from None
     out = np.zeros((idx.size, len(trailers), 4))
     for i in unique_sorted(idx).tolist():
         m = idx == i
