@@ -31,6 +31,7 @@ from +x, radians inside the core and degrees in files. ``direction`` is +1 forwa
 
 from __future__ import annotations
 
+import functools
 import math
 from collections.abc import Sequence
 from dataclasses import dataclass, field
@@ -156,9 +157,9 @@ class Segment:
             return self.course_rad
         return self.start[2] + (0.0 if self.direction > 0 else math.pi)
 
-    @property
+    @functools.cached_property
     def end(self) -> tuple[float, float, float]:
-        """End pose ``(x, y, heading_rad)``."""
+        """End pose ``(x, y, heading_rad)`` (worked out once: a segment is immutable)."""
         p = self.poses_at_fraction(np.array([1.0]))[0]
         return (float(p[0]), float(p[1]), float(p[2]))
 
