@@ -66,3 +66,34 @@ def test_stand_in_arcs_stay_within_the_stated_deviation(start, k0, k1, length, d
             worst = max(worst, float(gap))
     assert worst <= dev
     assert worst >= 0.5 * dev  # and the bound is not loose by more than 2x
+
+
+@pytest.mark.parametrize("wall_x,d", [(1.95, 1), (1.7, 1), (1.8, -1)])
+def test_hit_on_a_clothoid_starts_where_dense_placements_first_break_the_margin(wall_x, d):
+    # Source: the dense-pose oracle - the footprint placed every 1 mm along the clothoid
+    # (poses checked against scipy.integrate.quad above); the check's reported start of the
+    # margin breach must lie within the tolerance of the first placement that breaks it
+    # (it may be earlier by the sweep between placements, never later by more than 1 mm).
+    import shapely
+
+    from kinematics.check.clearance import ObstacleIndex, check_route
+    from kinematics.files.floorplan import FloorPlan, Wall
+    from kinematics.files.project import Chassis
+
+    rect = [(-0.3, -0.25), (0.6, -0.25), (0.6, 0.25), (-0.3, 0.25)]
+    chassis = Chassis(name="t", footprint=rect, margin_m=0.05, track_m=0.4)
+    seg = clothoid((0.0, 0.0, 0.0 if d > 0 else math.pi), 0.0, 1.2, 1.6, d)
+    wall = Wall(((wall_x, -3.0), (wall_x, 3.0)), 0.1)
+    idx = ObstacleIndex(FloorPlan(walls=(wall,)))
+    chk = check_route([seg], chassis, idx, route_name="r")
+    assert chk.violations
+    v = chk.violations[0]
+    st = np.arange(0.0, seg.length_m + 1e-12, 0.001)
+    solid = shapely.box(wall_x - 0.05, -3.0, wall_x + 0.05, 3.0)
+    dist = shapely.distance(sweep.placed_footprints(rect, seg.poses_at(st)), solid)
+    # a collision's stretch starts where the body first touches, a clearance one's where
+    # the margin is first broken
+    bad = dist <= 0.0 if v.kind == "collision" else dist < 0.05
+    assert bad.any()
+    first = st[int(np.argmax(bad))]
+    assert first - 0.002 - 1e-9 <= v.station_m <= first + 0.001 + 1e-9

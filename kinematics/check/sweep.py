@@ -777,10 +777,36 @@ def _placed_clothoid_parts(fp: Footprint, seg: Segment, tol: float
     return _moved(geoms, seg.start), dev
 
 
+@functools.lru_cache(maxsize=256)
+def _local_clothoid_union(fp_key: tuple, kappa0: float, kappa1: float, length_m: float,
+                          direction: int, tol: float) -> BaseGeometry:
+    """:func:`union_parts` of :func:`_local_clothoid_swept`, kept like the parts."""
+    return union_parts(_local_clothoid_swept(fp_key, kappa0, kappa1, length_m, direction, tol))
+
+
+def swept_union_maker(footprint: FootprintLike, seg: Segment,
+                      tolerance_m: float = DEFAULT_TOLERANCE_M):
+    """For a clothoid, a function giving the union of :func:`swept_parts` (the same parts,
+    unioned once per clothoid shape in its start frame and moved rigidly, as the parts are:
+    a collision's overlap depth needs the union, and a drag meets the same clothoids again);
+    ``None`` for other kinds, whose union is made from their parts."""
+    if seg.kind != "clothoid":
+        return None
+    fp = prepare_footprint(footprint)
+    args = (fp.key, float(seg.kappa0), float(seg.kappa1), float(seg.length_m),
+            int(seg.direction), _ARC_SHARE * float(tolerance_m))
+
+    def make() -> BaseGeometry:
+        return _moved(np.asarray([_local_clothoid_union(*args)], dtype=object), seg.start)[0]
+
+    return make
+
+
 def clear_caches() -> None:
     """Forget the kept clothoid parts (benchmarks measuring a cold check call this)."""
     _local_clothoid_parts.cache_clear()
     _local_clothoid_swept.cache_clear()
+    _local_clothoid_union.cache_clear()
     _grown.cache_clear()
 
 

@@ -11,6 +11,7 @@ violation each.
 
 from __future__ import annotations
 
+import math
 from collections.abc import Sequence
 
 import numpy as np
@@ -49,6 +50,34 @@ def _violates(fp: Footprint, solid: object, margin: float, tol: float, seg: Segm
     return float(np.min(shapely.distance(g, solid))) < margin - MARGIN_SLACK_M
 
 
+#: Most placements :func:`_placements_bracket` tries in one bracket.
+DENSE_PLACEMENTS = 400
+
+
+def _placements_bracket(fp: Footprint, solid: object, margin: float, tol: float, seg: Segment,
+                        collision: bool, lo: float, hi: float, travel: float,
+                        rule: MarginRule | None) -> tuple[float, float]:
+    """The bracket ``[lo, hi]`` of a hit's start narrowed by placements of the footprint
+    between them, spaced so the farthest vertex moves at most ``tol`` from one to the next
+    (up to :data:`DENSE_PLACEMENTS`): the first placement that violates closes it. Sweeping
+    a clothoid's first part costs a whole new set of parts per bisection step (its shape
+    differs each time), a row of placements one vectorised distance. Where no placement in
+    the bracket violates (the sweep between two does) the bracket is returned as it was."""
+    n = min(DENSE_PLACEMENTS, max(2, math.ceil((hi - lo) * travel / tol) + 1))
+    fr = np.linspace(lo, hi, n + 1)[1:]
+    placed = placed_footprints(fp, seg.poses_at_fraction(fr))
+    if collision:
+        bad = shapely.distance(placed, solid) <= 0.0
+    elif rule is not None:
+        bad = rule.each(placed, solid) > MARGIN_SLACK_M
+    else:
+        bad = shapely.distance(placed, solid) < margin - MARGIN_SLACK_M
+    if not bad.any():
+        return lo, hi
+    k = int(np.argmax(bad))
+    return (float(fr[k - 1]) if k > 0 else lo), float(fr[k])
+
+
 def locate_hit(fp: Footprint, index: ObstacleIndex, margin: float, tol: float, seg: Segment,
                piece: SweptParts, j: int, c: float, rule: MarginRule | None = None) -> Hit:
     """The :class:`Hit` of solid ``j`` at clearance ``c`` on ``seg`` (swept as ``piece``).
@@ -75,6 +104,9 @@ def locate_hit(fp: Footprint, index: ObstacleIndex, margin: float, tol: float, s
     else:
         k = int(np.argmax(bad)) if bad.any() else len(fr) - 1
         lo, hi = float(fr[k - 1]) if k > 0 else 0.0, float(fr[k])
+        if seg.kind == "clothoid":
+            lo, hi = _placements_bracket(fp, solid, margin, tol, seg, collision, lo, hi,
+                                         travel, rule)
         if lo > 0.0 and _violates(fp, solid, margin, tol, seg, collision, lo, rule):
             lo = 0.0
         if _violates(fp, solid, margin, tol, seg, collision, 0.0, rule):
