@@ -737,6 +737,13 @@ def _clothoid_parts(ring: NDArray[np.float64], convex: bool, r_far: float, seg: 
     return np.asarray(geoms, dtype=object), (0.0 if grown is not None else dev_all)
 
 
+@functools.lru_cache(maxsize=64)
+def _footprint_of_key(fp_key: tuple) -> Footprint:
+    """:func:`prepare_footprint` of a :attr:`Footprint.key`, kept (every clothoid of a check
+    starts from the same footprint)."""
+    return prepare_footprint(np.array(fp_key, dtype=float))
+
+
 @functools.lru_cache(maxsize=1024)
 def _local_clothoid_parts(fp_key: tuple, kappa0: float, kappa1: float, length_m: float,
                           direction: int, tol: float) -> tuple[NDArray[np.object_], float]:
@@ -745,7 +752,7 @@ def _local_clothoid_parts(fp_key: tuple, kappa0: float, kappa1: float, length_m:
     share their clothoids (every corner eases in and out along the same two)."""
     from kinematics.motion.segments import clothoid
 
-    fp = prepare_footprint(np.array(fp_key, dtype=float))
+    fp = _footprint_of_key(fp_key)
     seg = clothoid((0.0, 0.0, 0.0), kappa0, kappa1, length_m, direction)
     return _clothoid_parts(fp.ring, fp.convex, fp.r_far_m, seg, tol)
 
@@ -807,6 +814,7 @@ def clear_caches() -> None:
     _local_clothoid_parts.cache_clear()
     _local_clothoid_swept.cache_clear()
     _local_clothoid_union.cache_clear()
+    _footprint_of_key.cache_clear()
     _grown.cache_clear()
 
 
