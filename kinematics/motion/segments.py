@@ -31,7 +31,6 @@ from +x, radians inside the core and degrees in files. ``direction`` is +1 forwa
 
 from __future__ import annotations
 
-import functools
 import math
 from collections.abc import Sequence
 from dataclasses import dataclass, field
@@ -157,9 +156,9 @@ class Segment:
             return self.course_rad
         return self.start[2] + (0.0 if self.direction > 0 else math.pi)
 
-    @functools.cached_property
+    @property
     def end(self) -> tuple[float, float, float]:
-        """End pose ``(x, y, heading_rad)`` (worked out once: a segment is immutable)."""
+        """End pose ``(x, y, heading_rad)``."""
         p = self.poses_at_fraction(np.array([1.0]))[0]
         return (float(p[0]), float(p[1]), float(p[2]))
 
