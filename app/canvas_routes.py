@@ -13,7 +13,6 @@ from collections.abc import Sequence
 from typing import Any
 
 import numpy as np
-import shapely
 from PySide6.QtCore import Qt
 from PySide6.QtGui import (
     QPainterPath,
@@ -45,6 +44,7 @@ from .qstyle import qbrush, qpen
 from .scene import (
     STYLES,
     WAYPOINT_R_PX,
+    band_piece,
     route_style,
     violation_layer,
 )
@@ -262,8 +262,6 @@ class RouteDrawing:
         fills their union once without computing it; pieces of unchanged segments come from
         a cache, so a drag re-sweeps only the segments that moved.
         """
-        from kinematics.check.sweep import swept_parts
-
         chassis = chassis if chassis is not None else self.doc.project.chassis
         fp = chassis.footprint
         # A train's band holds its trailers' pieces too (the check's parts per segment).
@@ -290,8 +288,9 @@ class RouteDrawing:
                     cur = self.doc.route()
                     chk = self.doc.check(cur.name) if cur is not None else None
                     checked = getattr(chk, "piece_parts", ()) or ()
-                raw = checked[k] if len(checked) == len(segs) else swept_parts(fp, seg)
-                piece = polygons_path(shapely.orient_polygons(raw))
+                # The scene's piece (app.scene.band_piece), as the picture fills it.
+                piece = polygons_path(band_piece(fp, seg, checked[k] if len(checked) ==
+                                                 len(segs) else None))
             new[seg_key] = piece
             path.addPath(piece)
         self._sweep_cache = new

@@ -1,6 +1,8 @@
-"""The chassis editor panel: drive, dimensions, footprint, margin and limits.
+"""The chassis editor panel: the fleet, drive, dimensions, footprint, margin, limits, trailers.
 
-Owns :class:`ChassisPanel`: each accepted change is one undoable ``doc.set_chassis``. A value
+Owns :class:`ChassisPanel`: it edits one vehicle of the fleet at a time (chosen in its Fleet
+box, :mod:`app.fleet_panel`, with the towed trailers below the form); each accepted change is
+one undoable ``doc.set_vehicle``. A value
 the core would refuse (a footprint that crosses itself, a size of zero) is shown as a message
 under the form and the document keeps its last good chassis. The form's fields, presets and
 preview are in :mod:`app.chassis_form`.
@@ -50,6 +52,7 @@ from .chassis_form import (
     stale_words,
 )
 from .document import new_drag_token
+from .fleet_panel import FleetBox, TrailerBox
 from .qstyle import MESSAGE_STYLE
 
 
@@ -76,10 +79,16 @@ class ChassisPanel(QWidget):
         self._burst: int | None = None
         self._burst_at = -math.inf
         self._pushing = False
+        #: Which vehicle of ``doc.project.fleet`` the form edits (0: the default one).
+        self.member = 0
 
-        inner = QWidget()
+        inner = QWidget(self)
         lay = QVBoxLayout(inner)
         lay.setContentsMargins(6, 6, 6, 6)
+
+        self.fleet_box = FleetBox(doc, lambda: self.member, inner)
+        self.fleet_box.memberChosen.connect(self.choose_member)
+        lay.addWidget(self.fleet_box)
 
         top = QFormLayout()
         self.preset = QComboBox()
@@ -152,6 +161,9 @@ class ChassisPanel(QWidget):
             form2.addRow(label, s)
         lay.addWidget(lim)
 
+        self.trailer_box = TrailerBox(doc, lambda: self.member, self._burst_key, inner)
+        lay.addWidget(self.trailer_box)
+
         self.message = QLabel()
         self.message.setWordWrap(True)
         self.message.setStyleSheet(MESSAGE_STYLE)
@@ -159,7 +171,7 @@ class ChassisPanel(QWidget):
         self.message.hide()
         lay.addStretch(1)
 
-        scroll = QScrollArea()
+        scroll = QScrollArea(self)
         scroll.setWidgetResizable(True)
         scroll.setHorizontalScrollBarPolicy(Qt.ScrollBarPolicy.ScrollBarAlwaysOff)
         scroll.setWidget(inner)
@@ -175,9 +187,24 @@ class ChassisPanel(QWidget):
         self.load()
 
     # -- document -> form --------------------------------------------------------------------
+    @property
+    def vehicle(self) -> Chassis:
+        """The fleet member the form edits."""
+        fleet = self.doc.project.fleet
+        self.member = min(max(self.member, 0), len(fleet) - 1)
+        return fleet[self.member]
+
+    def choose_member(self, i: int) -> None:
+        """Edit vehicle ``i`` of the fleet (drops any refused edit of the one shown)."""
+        self.member = i
+        self._burst = None
+        self.load()
+
     def load(self) -> None:
-        """Show the document's chassis (drops any refused edit)."""
-        c = self.doc.project.chassis
+        """Show the vehicle being edited (drops any refused edit)."""
+        c = self.vehicle
+        self.fleet_box.load()
+        self.trailer_box.load()
         self._loading = True
         try:
             self.name_edit.setText(c.name)
@@ -237,10 +264,9 @@ class ChassisPanel(QWidget):
 
     def candidate(self) -> Chassis:
         """The chassis the form describes (raises :class:`SwatheInputError` if invalid)."""
-        c = chassis_from_form(self.form_values(), self.footprint_rows(),
-                              self.doc.project.chassis.extra)
-        # The form edits the tug; the trailers it tows are kept.
-        return dataclasses.replace(c, trailers=self.doc.project.chassis.trailers)
+        c = chassis_from_form(self.form_values(), self.footprint_rows(), self.vehicle.extra)
+        # The form edits the tug; the trailers it tows are the trailer box's.
+        return dataclasses.replace(c, trailers=self.vehicle.trailers)
 
     def _apply(self, *_args) -> None:
         if self._loading:
@@ -259,10 +285,13 @@ class ChassisPanel(QWidget):
         self._show_message(None)
         self.doc.set_stale(None)
         self.preview.set_data(list(c.footprint), c.margin_m, c, True)
-        if c != self.doc.project.chassis:
+        if c != self.vehicle:
             self._pushing = True
             try:
-                self.doc.set_chassis(c, burst=self._burst_key())
+                self.doc.set_vehicle(self.member, c, burst=self._burst_key())
+            except ValueError as exc:  # a name another vehicle has
+                self._show_message(f"\u26a0 Name: {exc}")
+                self.doc.set_stale(f"Name: {exc}")
             finally:
                 self._pushing = False
 
@@ -281,8 +310,7 @@ class ChassisPanel(QWidget):
                 pts.append((float(xs), float(ys)))
             except ValueError:
                 continue
-        self.preview.set_data(pts, self.fields["margin_m"].value(), self.doc.project.chassis,
-                              valid)
+        self.preview.set_data(pts, self.fields["margin_m"].value(), self.vehicle, valid)
 
     def _cell_changed(self, _r: int, _c: int) -> None:
         if not self._loading:
@@ -322,5 +350,11 @@ class ChassisPanel(QWidget):
         name = self.preset.itemText(i)
         self.preset.setCurrentIndex(0)
         c = PRESETS[name]
-        self.doc.set_chassis(dataclasses.replace(c, extra=dict(self.doc.project.chassis.extra)),
-                             text=f"Use example chassis {c.name!r}")
+        old = self.vehicle
+        # The example's name (unless another vehicle has it; the routes that named this one
+        # follow), drive and sizes; this vehicle's trailers.
+        others = set(self.doc.vehicle_names()) - {old.name}
+        name = c.name if c.name not in others else self.doc.unique_vehicle_name(c.name)
+        self.doc.set_vehicle(self.member, dataclasses.replace(
+            c, name=name, trailers=old.trailers, extra=dict(old.extra)),
+            text=f"Use example chassis {c.name!r}")

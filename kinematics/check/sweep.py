@@ -65,7 +65,7 @@ Every segment's work is estimated from these chunk counts before anything is swe
 (:func:`sweep_cost`); one beyond :data:`SWEEP_WORK_BUDGET` is refused as bad input
 (:class:`SweepBudgetError`, which the route check names by route and segment).
 
-The module runs past 600 lines on purpose: every segment kind's sweep shares the footprint
+Size: the module runs past 600 lines on purpose: every segment kind's sweep shares the footprint
 preparation, the rotation pieces and the chunk counts that the work estimate reads, so split
 by kind the parts would import each other's internals.
 """
