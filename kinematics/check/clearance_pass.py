@@ -31,6 +31,7 @@ from kinematics.check.sweep import (
     Footprint,
     placed_footprints,
     swept_parts,
+    swept_union_maker,
     travel_m,
 )
 from kinematics.check.violations import Hit, locate_hit
@@ -43,7 +44,7 @@ def sweep_segment(fp: Footprint, index: ObstacleIndex, margin: float, tol: float
                   seg: Segment) -> SegmentResult:
     """Sweep one segment and measure it against the solids within the margin and its doors."""
     idx = index
-    sw = SweptParts(swept_parts(fp, seg, tol))
+    sw = SweptParts(swept_parts(fp, seg, tol), swept_union_maker(fp, seg, tol))
     parts = sw.parts
     hits: list[Hit] = []
     best, best_j = math.inf, None

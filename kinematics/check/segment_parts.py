@@ -43,16 +43,19 @@ class Hit:
 class SweptParts:
     """A segment's swept region as polygons whose union it is; the union is made on demand."""
 
-    __slots__ = ("parts", "_union")
+    __slots__ = ("parts", "_union", "_make")
 
-    def __init__(self, parts: np.ndarray) -> None:
+    def __init__(self, parts: np.ndarray, make_union: Callable[[], BaseGeometry] | None = None
+                 ) -> None:
         self.parts = parts
         self._union: BaseGeometry | None = None
+        # A way to the same union cheaper than unioning the parts (a clothoid's kept union).
+        self._make = make_union
 
     @property
     def union(self) -> BaseGeometry:
         if self._union is None:
-            self._union = union_parts(self.parts)
+            self._union = self._make() if self._make is not None else union_parts(self.parts)
         return self._union
 
     def union_near(self, solid: BaseGeometry) -> BaseGeometry:
@@ -65,7 +68,7 @@ class SweptParts:
         parts are all more than ``reach`` from it). Unioning only these keeps a long
         segment's collision as cheap as a short one's (a 10 km line swept as thousands of
         parts cost over 15 s to union whole)."""
-        if self._union is not None or len(self.parts) <= 64:
+        if self._union is not None or self._make is not None or len(self.parts) <= 64:
             return self.union
         b = shapely.bounds(self.parts)
         sx0, sy0, sx1, sy1 = solid.bounds

@@ -11,6 +11,7 @@ violation each.
 
 from __future__ import annotations
 
+import math
 from collections.abc import Sequence
 
 import numpy as np
@@ -49,6 +50,37 @@ def _violates(fp: Footprint, solid: object, margin: float, tol: float, seg: Segm
     return float(np.min(shapely.distance(g, solid))) < margin - MARGIN_SLACK_M
 
 
+#: Most placements :func:`_placements_bracket` tries in one bracket.
+DENSE_PLACEMENTS = 400
+
+
+def _placements_bracket(fp: Footprint, solid: object, margin: float, tol: float, seg: Segment,
+                        collision: bool, lo: float, hi: float, travel: float,
+                        rule: MarginRule | None) -> tuple[float, float, object | None]:
+    """The bracket ``[lo, hi]`` of a hit's start narrowed by placements of the footprint
+    between them, spaced so the farthest vertex moves at most ``tol`` from one to the next,
+    and the first placement that violates (it closes the bracket). Sweeping a clothoid's
+    first part costs a whole new set of parts per bisection step (its shape differs each
+    time), a row of placements one vectorised distance. Where no placement in the bracket
+    violates (the sweep between two does), or the bracket needs more than
+    :data:`DENSE_PLACEMENTS`, the bracket is returned as it was with ``None``."""
+    n = max(2, math.ceil((hi - lo) * travel / tol) + 1)
+    if n > DENSE_PLACEMENTS:
+        return lo, hi, None
+    fr = np.linspace(lo, hi, n + 1)[1:]
+    placed = placed_footprints(fp, seg.poses_at_fraction(fr))
+    if collision:
+        bad = shapely.distance(placed, solid) <= 0.0
+    elif rule is not None:
+        bad = rule.each(placed, solid) > MARGIN_SLACK_M
+    else:
+        bad = shapely.distance(placed, solid) < margin - MARGIN_SLACK_M
+    if not bad.any():
+        return lo, hi, None
+    k = int(np.argmax(bad))
+    return (float(fr[k - 1]) if k > 0 else lo), float(fr[k]), placed[k]
+
+
 def locate_hit(fp: Footprint, index: ObstacleIndex, margin: float, tol: float, seg: Segment,
                piece: SweptParts, j: int, c: float, rule: MarginRule | None = None) -> Hit:
     """The :class:`Hit` of solid ``j`` at clearance ``c`` on ``seg`` (swept as ``piece``).
@@ -70,26 +102,37 @@ def locate_hit(fp: Footprint, index: ObstacleIndex, margin: float, tol: float, s
         bad = rule.each(placed, solid) > MARGIN_SLACK_M
     else:
         bad = dist < margin - MARGIN_SLACK_M
+    first = None  # the first breaking placement, where placements found it
     if bad[0]:
         lo = hi = 0.0
     else:
         k = int(np.argmax(bad)) if bad.any() else len(fr) - 1
         lo, hi = float(fr[k - 1]) if k > 0 else 0.0, float(fr[k])
-        if lo > 0.0 and _violates(fp, solid, margin, tol, seg, collision, lo, rule):
-            lo = 0.0
-        if _violates(fp, solid, margin, tol, seg, collision, 0.0, rule):
-            hi = 0.0
-        steps = 0
-        while (hi - lo) * travel > tol and steps < 40:
-            mid = 0.5 * (lo + hi)
-            if _violates(fp, solid, margin, tol, seg, collision, mid, rule):
-                hi = mid
-            else:
-                lo = mid
-            steps += 1
+        if seg.kind == "clothoid":
+            lo, hi, first = _placements_bracket(fp, solid, margin, tol, seg, collision, lo, hi,
+                                                travel, rule)
+        if first is None:
+            if lo > 0.0 and _violates(fp, solid, margin, tol, seg, collision, lo, rule):
+                lo = 0.0
+            if _violates(fp, solid, margin, tol, seg, collision, 0.0, rule):
+                hi = 0.0
+            steps = 0
+            while (hi - lo) * travel > tol and steps < 40:
+                mid = 0.5 * (lo + hi)
+                if _violates(fp, solid, margin, tol, seg, collision, mid, rule):
+                    hi = mid
+                else:
+                    lo = mid
+                steps += 1
     f_start = hi
-    start_geom = SweptParts(placed[:1] if f_start <= 0.0
-                            else swept_parts(fp, sub_segment(seg, f_start), tol))
+    if first is not None:
+        # The first of placements spaced within the tolerance that breaks the margin: the
+        # swept first part can break it earlier only between two of them, less than one
+        # spacing (the tolerance along the farthest vertex's path) before.
+        start_geom = SweptParts(np.asarray([first], dtype=object))
+    else:
+        start_geom = SweptParts(placed[:1] if f_start <= 0.0
+                                else swept_parts(fp, sub_segment(seg, f_start), tol))
     if collision and not np.any(shapely.intersects(start_geom.parts, solid)):
         start_geom = piece
     x, y = nearest_point(start_geom.parts, solid, collision)

@@ -412,8 +412,9 @@ def cc_shortest(start: Sequence[float], goal: Sequence[float], radius_m: float, 
                 reverse: bool = False) -> list[Segment] | None:
     """The shortest CC path found from ``start`` to ``goal`` (poses ``(x, y, heading_rad)``):
     CC Dubins (forward) or CC Reeds-Shepp (``reverse``) words of this module's docstring, plus
-    the turn-line-turn scan of :func:`kinematics.plan.transitions.cc_connect` (which
-    also covers turns too small for an arc). ``None`` where none reaches the goal.
+    the turn-line-turn words with a turn too small for an arc from the scan of
+    :func:`kinematics.plan.transitions.cc_connect` (``small_turns_only``: the closed form
+    here finds the others). ``None`` where none reaches the goal.
 
     Examples
     --------
@@ -422,7 +423,7 @@ def cc_shortest(start: Sequence[float], goal: Sequence[float], radius_m: float, 
     (0.0, 0.0, 3.141593)
     """
     best: tuple[float, list[Segment]] | None = None
-    scan = cc_connect(start, goal, radius_m, sigma, reverse)
+    scan = cc_connect(start, goal, radius_m, sigma, reverse, small_turns_only=True)
     if scan is not None and _reaches(scan, goal, start):
         best = (math.fsum(s.length_m for s in scan), scan)
     for length, parts in cc_candidates(start, goal, radius_m, sigma, reverse):

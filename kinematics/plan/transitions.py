@@ -163,8 +163,8 @@ def cc_tangent_length(deflection_rad: float, radius_m: float, sigma: float) -> f
         return math.inf
     if a < 1e-12:
         return 0.0
-    end = cc_turn((0.0, 0.0, 0.0), a, radius_m, sigma)[-1].end
-    return abs(end[1]) / math.sin(a)
+    end = cc_turn_ends(a, radius_m, sigma)[0]  # the end of cc_turn's turn, in closed form
+    return abs(float(end[1])) / math.sin(a)
 
 
 # -- continuous-curvature connections between poses (car-like drives) ----------------------------
@@ -184,8 +184,14 @@ def cc_turn_ends(deflection_rad: ArrayLike, radius_m: float, sigma: float
     d = np.atleast_1d(np.asarray(deflection_rad, dtype=float))
     k = 1.0 / radius_m
     dmin = k * k / sigma
-    kk = np.where(d >= dmin, k, np.sqrt(np.maximum(d, 0.0) * sigma))
-    s_, c_ = fresnel(kk / math.sqrt(math.pi * sigma))
+    full = d >= dmin
+    kk = np.where(full, k, np.sqrt(np.maximum(d, 0.0) * sigma))
+    # The full turns share one clothoid: its Fresnel integrals are taken once.
+    t = kk / math.sqrt(math.pi * sigma)
+    s_, c_ = np.empty_like(t), np.empty_like(t)
+    s_[full], c_[full] = (float(v) for v in fresnel(k / math.sqrt(math.pi * sigma)))
+    if not full.all():
+        s_[~full], c_[~full] = fresnel(t[~full])
     a = math.sqrt(math.pi / sigma) * c_
     b = math.sqrt(math.pi / sigma) * s_
     h = kk * kk / (2.0 * sigma)
@@ -236,7 +242,7 @@ _SCAN = 720
 
 
 def cc_connect(start: Sequence[float], goal: Sequence[float], radius_m: float, sigma: float,
-               reverse: bool = False) -> list[Segment] | None:
+               reverse: bool = False, small_turns_only: bool = False) -> list[Segment] | None:
     """The shortest continuous-curvature path of the four turn-line-turn words (LSL, RSR,
     LSR, RSL; each turn a CC turn of :func:`cc_turn`, its arcs of ``radius_m``) from
     ``start`` to ``goal`` (poses ``(x, y, heading_rad)``), or ``None`` where none joins them.
@@ -251,25 +257,50 @@ def cc_connect(start: Sequence[float], goal: Sequence[float], radius_m: float, s
     this covers turns too small for an arc (two clothoids). The turn-turn-turn words are in
     :mod:`kinematics.plan.cc_words`.
 
+    ``small_turns_only``: only the words where a turn is too small for an arc (deflection
+    below ``kappa^2 / sigma``) are looked for, scanning only the line directions that give
+    one (a window of that width after the start heading and one before the goal's, at the
+    same density); :func:`kinematics.plan.cc_words.cc_shortest` finds the others in closed
+    form.
+
     Public: the route finder smooths found paths with it.
     """
     words = _WORDS_REV if reverse else _WORDS_FWD
-    s1, s2, e1, el, e2 = (words[:, i:i + 1] for i in range(5))
-    th = start[2] + np.linspace(0.0, 2.0 * math.pi, _SCAN, endpoint=False)[None, :]
-    th = np.broadcast_to(th, (len(words), _SCAN))
-    _, _, cr, _ = _csc_gap(th, start, goal, s1, s2, radius_m, sigma, e1, e2)
-    # A deflection wrapping from 2 pi to 0 moves no turn end (a full CC turn closes on its
-    # start), so the gap is continuous there and every sign change brackets a root; the check
-    # on the refined root below drops any that is not.
-    nxt = np.roll(np.arange(_SCAN), -1)
-    wi, ji = np.nonzero(np.sign(cr) != np.sign(cr[:, nxt]))
-    if wi.size == 0:
-        return None
-    w = words[wi]
+    dmin = 1.0 / (radius_m * radius_m * sigma)
+    if small_turns_only and dmin < math.pi:
+        n = max(16, math.ceil(_SCAN * dmin / (2.0 * math.pi))) + 1
+        f = np.linspace(0.0, dmin, n)[None, :]
+        rows = np.repeat(words, 2, axis=0)  # each word: the first turn's window, the second's
+        first = (np.arange(len(rows)) % 2 == 0)[:, None]
+        th = np.where(first, start[2] + rows[:, 0:1] * rows[:, 2:3] * f,
+                      goal[2] - rows[:, 1:2] * rows[:, 4:5] * f)
+        s1, s2, e1, el, e2 = (rows[:, i:i + 1] for i in range(5))
+        _, _, cr, _ = _csc_gap(th, start, goal, s1, s2, radius_m, sigma, e1, e2)
+        wi, ji = np.nonzero(np.sign(cr[:, :-1]) != np.sign(cr[:, 1:]))
+        if wi.size == 0:
+            return None
+        w = rows[wi]
+        lo, hi = th[wi, ji].copy(), th[wi, ji + 1].copy()
+        flo, fhi = cr[wi, ji], cr[wi, ji + 1]
+    elif small_turns_only:
+        return cc_connect(start, goal, radius_m, sigma, reverse)
+    else:
+        s1, s2, e1, el, e2 = (words[:, i:i + 1] for i in range(5))
+        th = start[2] + np.linspace(0.0, 2.0 * math.pi, _SCAN, endpoint=False)[None, :]
+        th = np.broadcast_to(th, (len(words), _SCAN))
+        _, _, cr, _ = _csc_gap(th, start, goal, s1, s2, radius_m, sigma, e1, e2)
+        # A deflection wrapping from 2 pi to 0 moves no turn end (a full CC turn closes on
+        # its start), so the gap is continuous there and every sign change brackets a root;
+        # the check on the refined root below drops any that is not.
+        nxt = np.roll(np.arange(_SCAN), -1)
+        wi, ji = np.nonzero(np.sign(cr) != np.sign(cr[:, nxt]))
+        if wi.size == 0:
+            return None
+        w = words[wi]
+        lo = th[wi, ji].copy()
+        hi = lo + 2.0 * math.pi / _SCAN
+        flo, fhi = cr[wi, ji], cr[wi, nxt[ji]]
     s1, s2, e1, el, e2 = (w[:, i] for i in range(5))
-    lo = th[wi, ji].copy()
-    hi = lo + 2.0 * math.pi / _SCAN
-    flo, fhi = cr[wi, ji], cr[wi, nxt[ji]]
     # Four bisections (a bracket of 5e-4 rad), then the Illinois variant of false position
     # (superlinear on the smooth gap; halving the kept end's value stops one end sticking)
     # until every root's gap is below 1e-12 m or 10 steps.
