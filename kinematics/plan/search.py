@@ -959,6 +959,10 @@ class RouteFinder:
                 d = min(d, self.train_distance(segs, cth[i], cap)[0])
             base.append(min(cap, d))
         memo: dict[tuple[int, int], tuple[bool, Headings]] = {}
+        if clear_in is not None and not train and not free_end and m >= 1:
+            # The chain's last step is the analytic expansion: this very connection, already
+            # swept by the search with the clearance ``base[m - 1]`` (the same call and cap).
+            memo[(m - 1, m)] = (True, ())
         now_th: list[Headings] = [cth[0] if train else ()]
 
         quick = self._quick_word_fn(route)
