@@ -76,8 +76,8 @@ def test_word_poses_follow_the_planners_segments():
 
 
 def test_cached_connections_are_the_planners_own():
-    # The heuristic puts its Reeds-Shepp words into the planner's cache; a connection planned
-    # through that cache must equal the one planned without it.
+    # The finder plans its connections through a cache of the planner's pieces; a connection
+    # planned through that cache after a search must equal the one planned without it.
     r = _route([(0.5, 3.5, 0.0), (4.45, 0.35, 90.0)], reverse=True)
     proj = _project(BAY, CART, r)
     f = RouteFinder(proj, settings=FindSettings(time_limit_s=5.0))

@@ -26,8 +26,9 @@ set on a grid of cells and heading bins:
   where it can.
 - **Heuristic**: the larger of the obstacle-free Dubins / Reeds-Shepp length to the goal pose
   (:mod:`~kinematics.plan.dubins`, :mod:`~kinematics.plan.reeds_shepp`; Euclidean for drives
-  that pivot or move sideways, or where the goal heading is free; Dubins one pair at a time in
-  plain floats, :mod:`~kinematics.plan.dubins_one`) and the 2D grid distance
+  that pivot or move sideways, or where the goal heading is free; one pair at a time in plain
+  floats, :mod:`~kinematics.plan.dubins_one`, :mod:`~kinematics.plan.reeds_shepp_one`) and the
+  2D grid distance
   around the solids, weighted by ``heuristic_weight`` (> 1 trades optimality for speed).
 - **Analytic expansion**: from popped nodes, every few expansions and at every one near the
   goal, the route's own connection to the goal (the planner's Dubins / Reeds-Shepp, pivot-line
@@ -36,9 +37,8 @@ set on a grid of cells and heading bins:
   shortcuts keep this cheap: the heuristic's shortest word from each node to the goal is
   kept, and a connection with a pose the clearance grid proves blocked (a disc inside the
   footprint nearer a solid than any margin, :meth:`RouteFinder._surely_blocked`) is passed
-  over before it is planned or swept; the heuristic's Reeds-Shepp words are also put into
-  the planner's :class:`~kinematics.plan.planner.PieceCache` (the plan is the same with or
-  without it), so a connection that is planned costs no second shortest-path evaluation.
+  over before it is planned or swept; connections are planned through a
+  :class:`~kinematics.plan.planner.PieceCache` (the plan is the same with or without it).
 - **Smoothing into the route's own segment kinds**: the chain of node poses becomes waypoints
   with headings, keeping only as many as needed: from each kept pose the farthest later pose
   whose planner connection is clear (doubling then bisection). The route is then planned by
@@ -84,7 +84,7 @@ from kinematics.errors import ValidationError
 from kinematics.files.project import Chassis, Project, Route, Stop, Waypoint, route_transitions
 from kinematics.motion.segments import Segment, arc, holonomic_line, line, pivot, poses_along
 from kinematics.motion.trailers import hitch_angles, trace_train
-from kinematics.plan import dubins, reeds_shepp
+from kinematics.plan import dubins
 from kinematics.plan.dubins_one import shortest_one
 from kinematics.plan.heuristics import ClearanceGrid
 from kinematics.plan.planner import (
@@ -94,6 +94,7 @@ from kinematics.plan.planner import (
     _drive_limits,
     plan_route,
 )
+from kinematics.plan.reeds_shepp_one import shortest_one as rs_one
 
 #: Extra clearance (m) the search keeps above the margin, so rounding never flips a verdict.
 SAFETY_M = 1e-3
@@ -330,8 +331,7 @@ class RouteFinder:
         self._train_reach = reach
         self._prims: dict[tuple, list[Primitive]] = {}
         # The planner's pieces kept between connections (the plan is the same with or without
-        # it); the heuristic's batched Dubins / Reeds-Shepp words to the goal are put in it, so
-        # an analytic expansion from a node costs no second shortest-path evaluation.
+        # it): the smoothing and the final plan ask for many of the search's connections again.
         self._cache = PieceCache(50_000)
         self._grid: ClearanceGrid | None = None
         self._leg_radius = 0.0
@@ -620,13 +620,8 @@ class RouteFinder:
         assert area is not None
         use_rs = mode == "steer" and gh is not None
         near_goal = max(2.0 * radius, 4.0 * self.step, 1.0)
-        mod = reeds_shepp if route.reverse else dubins
-        letters = reeds_shepp.LETTERS if route.reverse else dubins.WORDS
-        # The heuristic's shortest paths to the goal are the planner's own connections from
-        # those poses (plain words; clothoid transitions connect otherwise): kept in the
-        # planner's cache under the planner's key, with the poses as the planner reads them
-        # from waypoints (headings through degrees), for the analytic expansions to reuse.
-        seed = use_rs and route_transitions(route, self.chassis) != "clothoid"
+        # The heuristic's shortest words to the goal, from the poses as the planner reads them
+        # from waypoints (headings through degrees), are kept for _word_blocked.
         g_pose = (float(gx), float(gy),
                   math.radians(math.degrees(gh)) if gh is not None else 0.0)
         rad = float(radius)
@@ -643,22 +638,18 @@ class RouteFinder:
             if use_rs:
                 keys = [(float(x), float(y), math.radians(math.degrees(float(a))))
                         for x, y, a in poses]
+                # One pair at a time in plain floats: a few pairs cost less so than one array
+                # call (kinematics.plan.dubins_one, reeds_shepp_one; the same lengths to
+                # rounding).
                 if route.reverse:
-                    batch = mod.shortest(np.array(keys), np.tile(g_pose, (len(keys), 1)),
-                                         radius)
-                    h = np.maximum(h, batch.length_m)
-                    for k, w, par in zip(keys, batch.word, batch.params):
-                        val = (letters[w], tuple(float(v) for v in par))
-                        quick[k] = val
-                        if seed:
-                            self._cache.put(("word", k, g_pose, rad, True), val)
+                    got = [rs_one(k, g_pose, rad) for k in keys]
+                    for k, g in zip(keys, got):
+                        quick[k] = (g[1], g[2])
                 else:
-                    # One pair at a time in plain floats: a few pairs cost less so than one
-                    # array call (kinematics.plan.dubins_one; the same lengths to rounding).
                     got = [shortest_one(k, g_pose, rad) for k in keys]
-                    h = np.maximum(h, [g[0] for g in got])
                     for k, g in zip(keys, got):
                         quick[k] = (dubins.WORDS[g[1]], g[2])
+                h = np.maximum(h, [g[0] for g in got])
             return h
 
         def key(p: Sequence[float], th: Headings = ()) -> tuple[int, ...]:
@@ -959,6 +950,10 @@ class RouteFinder:
                 d = min(d, self.train_distance(segs, cth[i], cap)[0])
             base.append(min(cap, d))
         memo: dict[tuple[int, int], tuple[bool, Headings]] = {}
+        if clear_in is not None and not train and not free_end and m >= 1:
+            # The chain's last step is the analytic expansion: this very connection, already
+            # swept by the search with the clearance ``base[m - 1]`` (the same call and cap).
+            memo[(m - 1, m)] = (True, ())
         now_th: list[Headings] = [cth[0] if train else ()]
 
         quick = self._quick_word_fn(route)
