@@ -33,13 +33,12 @@ from PySide6.QtWidgets import (
     QGraphicsSimpleTextItem,
 )
 
-from kinematics.motion.segments import Segment
-
 from .palette import ORANGE, PURPLE
 from .qstyle import marker_path, qbrush
 from .scene import (
     STYLES,
     VIOLATION_R_PX,
+    sample_segments,  # noqa: F401 - the canvas's old import place
 )
 
 HIT_PX = 9.0  # how close (pixels) a press must be to grab a waypoint or handle
@@ -97,47 +96,6 @@ def polygons_path(geoms: Sequence, fill_rule: Qt.FillRule = Qt.FillRule.OddEvenF
     path = pg.arrayToQPath(xy[:, 0], xy[:, 1], connect=connect)
     path.setFillRule(fill_rule)
     return path
-
-
-def sample_segments(segments: Sequence[Segment], step_m: float = 0.05,
-                    cache: dict | None = None
-                    ) -> tuple[np.ndarray, np.ndarray, np.ndarray, np.ndarray]:
-    """Poses along a path for drawing and hover: ``(xy, station_m, seg_index, direction)``.
-
-    Lines get their two ends, arcs a point every ``step_m`` (at most every 3 degrees);
-    pivots one point. ``cache`` (a dict the caller keeps) holds each segment's points by
-    segment value, so a drag samples only the segments that moved.
-    """
-    xy, st, idx, dirs = [], [], [], []
-    s0 = 0.0
-    for seg in segments:
-        hit = cache.get((seg, step_m)) if cache is not None else None
-        if hit is None:
-            if seg.kind in ("arc", "clothoid"):
-                n = max(2, int(math.ceil(max(seg.length_m / step_m,
-                                             abs(seg.turn_rad) / math.radians(3.0)))) + 1)
-            elif seg.kind == "line":
-                n = max(2, int(math.ceil(seg.length_m / 0.5)) + 1)
-            else:
-                n = 1
-            f = np.linspace(0.0, 1.0, n)
-            hit = (seg.poses_at_fraction(f)[:, :2], f * seg.length_m)
-            if cache is not None:
-                cache[(seg, step_m)] = hit
-        pts, ds = hit
-        xy.append(pts)
-        st.append(ds)
-        idx.append(s0)  # the segment's start station, spread over its points below
-        dirs.append(seg.direction)
-        s0 += seg.length_m
-    if not xy:
-        z = np.zeros((0,))
-        return np.zeros((0, 2)), z, z.astype(int), z.astype(int)
-    # Per-point columns in a few array operations over the whole route (not per segment).
-    counts = np.fromiter((len(p) for p in xy), dtype=np.int64, count=len(xy))
-    stations = np.concatenate(st) + np.repeat(np.asarray(idx, dtype=float), counts)
-    return (np.vstack(xy), stations, np.repeat(np.arange(len(xy)), counts),
-            np.repeat(np.asarray(dirs), counts))
 
 
 def _broken_line(xy: np.ndarray, dirs: np.ndarray, idx: np.ndarray, want: int

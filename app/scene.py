@@ -322,22 +322,61 @@ def floorplan_layer(fp: Any, checks: dict | None = None, solids_list: Sequence[A
     return layer
 
 
-def sample_path(segments: Sequence[Any], step_rad: float = math.radians(3.0)
-                ) -> list[tuple[np.ndarray, int, int]]:
-    """Polylines to draw: ``(xy (n, 2), direction, segment index)`` per line or arc."""
-    out = []
-    for i, seg in enumerate(segments):
-        if seg.kind == "pivot":
-            continue
-        if seg.kind == "arc":
-            n = max(2, int(math.ceil(abs(seg.turn_rad) / step_rad)) + 1)
-        elif seg.kind == "clothoid":
-            n = max(2, int(math.ceil(seg.length_m * seg.max_abs_curvature / step_rad)) + 2)
-        else:
-            n = 2
-        p = seg.poses_at_fraction(np.linspace(0.0, 1.0, n))
-        out.append((p[:, :2], int(seg.direction), i))
-    return out
+def segment_samples(seg: Any, step_m: float = 0.05) -> tuple[np.ndarray, np.ndarray]:
+    """Points along one segment for drawing and hover: ``(xy (n, 2), station from its start)``.
+
+    Arcs and clothoids a point every ``step_m`` and at most every 3 degrees; lines a point
+    every half metre (the hover read-out finds its station among them); pivots one point.
+    """
+    if seg.kind in ("arc", "clothoid"):
+        n = max(2, int(math.ceil(max(seg.length_m / step_m,
+                                     abs(seg.turn_rad) / math.radians(3.0)))) + 1)
+    elif seg.kind == "line":
+        n = max(2, int(math.ceil(seg.length_m / 0.5)) + 1)
+    else:
+        n = 1
+    f = np.linspace(0.0, 1.0, n)
+    return seg.poses_at_fraction(f)[:, :2], f * seg.length_m
+
+
+def sample_segments(segments: Sequence[Any], step_m: float = 0.05,
+                    cache: dict | None = None
+                    ) -> tuple[np.ndarray, np.ndarray, np.ndarray, np.ndarray]:
+    """Poses along a path for drawing and hover: ``(xy, station_m, seg_index, direction)``.
+
+    Each segment's points are :func:`segment_samples`'s. ``cache`` (a dict the caller keeps)
+    holds each segment's points by segment value, so a drag samples only the segments that
+    moved.
+    """
+    xy, st, idx, dirs = [], [], [], []
+    s0 = 0.0
+    for seg in segments:
+        hit = cache.get((seg, step_m)) if cache is not None else None
+        if hit is None:
+            hit = segment_samples(seg, step_m)
+            if cache is not None:
+                cache[(seg, step_m)] = hit
+        pts, ds = hit
+        xy.append(pts)
+        st.append(ds)
+        idx.append(s0)  # the segment's start station, spread over its points below
+        dirs.append(seg.direction)
+        s0 += seg.length_m
+    if not xy:
+        z = np.zeros((0,))
+        return np.zeros((0, 2)), z, z.astype(int), z.astype(int)
+    # Per-point columns in a few array operations over the whole route (not per segment).
+    counts = np.fromiter((len(p) for p in xy), dtype=np.int64, count=len(xy))
+    stations = np.concatenate(st) + np.repeat(np.asarray(idx, dtype=float), counts)
+    return (np.vstack(xy), stations, np.repeat(np.arange(len(xy)), counts),
+            np.repeat(np.asarray(dirs), counts))
+
+
+def sample_path(segments: Sequence[Any]) -> list[tuple[np.ndarray, int, int]]:
+    """Polylines to draw: ``(xy (n, 2), direction, segment index)`` per line, arc or clothoid,
+    with the points :func:`segment_samples` gives (the canvas draws the same points)."""
+    return [(segment_samples(seg)[0], int(seg.direction), i) for i, seg in enumerate(segments)
+            if seg.kind != "pivot"]
 
 
 def outline_poses(segments: Sequence[Any], count: int = 8) -> np.ndarray:

@@ -84,3 +84,31 @@ def test_forced_labels_of_a_small_picture_do_not_pile_up(monkeypatch):
     for i, (ta, ra) in enumerate(placed):
         for tb, rb in placed[i + 1:]:
             assert not ra.intersects(rb), (ta, tb)
+
+
+def test_canvas_and_picture_draw_the_same_path_points(qtbot):
+    # Source: issue 16 (one scene, two painters): the picture's polylines
+    # (app.scene.sample_path) and the canvas's forward / reverse lines come from the one
+    # sampler, app.scene.segment_samples, point for point.
+    from app.canvas import PlanCanvas
+    from app.document import Document
+
+    doc = Document(load_project(SAMPLES / "depot_bicycle.swathe.json"))
+    canvas = PlanCanvas(doc)
+    qtbot.addWidget(canvas)
+    for i, name in enumerate(doc.route_names()):
+        doc.set_current_route(i)
+        segs = doc.plan(name).segments
+        for item, direction in ((canvas.path_fwd, 1), (canvas.path_rev, -1)):
+            x, y = item.getData()
+            drawn = np.column_stack([x, y])
+            drawn = drawn[np.isfinite(drawn).all(axis=1)]
+            want = [xy for xy, d, _i in scene.sample_path(segs) if d == direction]
+            if not want:
+                assert len(drawn) == 0, (name, direction)
+                continue
+            want = np.vstack(want)
+            # Every point of the picture's polylines is a point of the canvas's line.
+            dist = np.min(np.hypot(*(want[:, None, :] - drawn[None, :, :]).transpose(2, 0, 1)),
+                          axis=1)
+            assert dist.max() <= 1e-9, (name, direction, dist.max())
