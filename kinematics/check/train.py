@@ -568,6 +568,7 @@ class _TrainParts(SweptParts):
     def __init__(self, tug: SweptParts, i: int, sweeps: Sequence[_TrailerSweep]) -> None:
         self._tug, self._i, self._sweeps, self._all = tug, i, sweeps, None
         self._union = None
+        self._make = None  # the whole train's union is made from all its parts
 
     @property  # type: ignore[override]
     def parts(self) -> np.ndarray:
