@@ -33,6 +33,7 @@ from kinematics.check.clearance_pass import (
     door_least_xy,
     least_segment,
     sweep_segment,
+    sweep_segments,
     where_least,
 )
 from kinematics.check.contact import overlap_depth, part_name
@@ -93,7 +94,7 @@ class RouteChecker:
         self.tolerance_m = float(tolerance_m)
         self.index = index
         self.cache_size = int(cache_size)
-        self.segments = SegmentCache(self._sweep, self.cache_size)
+        self.segments = SegmentCache(self._sweep, self.cache_size, self._sweep_many)
         self.waypoints = WaypointCheck(self.footprint, index, self.cache_size)
         self._stations = StationFinder(self.footprint, self.cache_size)
 
@@ -144,6 +145,10 @@ class RouteChecker:
         return sweep_segment(self.footprint, self.index, self.margin_m,
                              sweep_allowance(self.tolerance_m), seg)
 
+    def _sweep_many(self, segs: list[Segment]) -> list[SegmentResult]:
+        return sweep_segments(self.footprint, self.index, self.margin_m,
+                              sweep_allowance(self.tolerance_m), segs)
+
     def segment_result(self, seg: Segment) -> SegmentResult:
         """The segment's result, from the cache or swept now."""
         return self.segments.result(seg)
@@ -171,7 +176,7 @@ class RouteChecker:
         name = route_name or getattr(plan_or_segments, "name", "") or getattr(route, "name", "")
         if waypoints is None and route is not None:
             waypoints = route.waypoints
-        results = [self.segment_result(s) for s in segs]
+        results = self.segments.results(segs)
         stations = segment_stations(segs)
         idx = self.index
         violations: list[Violation] = []
