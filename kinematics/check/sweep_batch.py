@@ -167,7 +167,7 @@ def _rotations(fp: Footprint, segs: Sequence[Segment], ids: list[int], tol: floa
     pc[flip] = pc[flip][:, ::-1]
     # Each piece swept by one chunk (rings of 2n + 3 vertices), then rotated to chunk k.
     per_piece: list = [None] * len(pc)
-    for nn in np.unique(n[owner]).tolist() if len(pc) else []:
+    for nn in sorted(set(n[owner].tolist())):
         sel = np.flatnonzero(n[owner] == nn)
         chunk0 = _edge_rotation_rings_many(pc[sel], phi_c[owner[sel]], nn)
         own = owner[sel]
