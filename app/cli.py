@@ -341,11 +341,11 @@ def cmd_render(args: argparse.Namespace) -> int:
 
 
 def _with_project(exc: SwatheInputError, argv: list[str]) -> str:
-    """The message of ``exc``; a refusal the planner raised about a route (it names the
-    route, not the file) is given the project file in front."""
+    """The message of ``exc``; a refusal the planner or the check raised about a route (it
+    names the route, not the file) is given the project file in front."""
     if len(argv) > 1 and argv[0] in SUBCOMMANDS and exc.file and not (
             exc.file.startswith(("<", "command line")) or os.path.sep in exc.file
-            or exc.file == argv[1]) and exc.place.startswith("waypoints"):
+            or exc.file == argv[1]) and exc.place.startswith(("waypoints", "segment ")):
         return f"{argv[1]}: route {exc.file!r}: {exc.place}: {exc.expected}".encode(
             "utf-8", "backslashreplace").decode("utf-8")
     return exc.message

@@ -10,6 +10,9 @@ Results (plan, check, schedule) are computed lazily on first request and cached 
 route, chassis and floor plan objects they came from, so an edit invalidates exactly what it
 changed. The route check keeps one incremental checker per route, so dragging one waypoint
 re-sweeps only the segments that moved.
+
+Size: the one Document: its undo commands, its edits and its per-route result caches are one
+state machine (an edit invalidates exactly what it changed), so they stay in one class.
 """
 
 from __future__ import annotations
@@ -586,6 +589,114 @@ class Document(QObject):
         # Not live: the results follow each step at once (no drag frame to keep).
         self._push(text, dataclasses.replace(self._project, chassis=chassis), "chassis",
                    merge_key=key, live=False)
+
+    # -- fleet -------------------------------------------------------------------------------
+    def vehicle_names(self) -> list[str]:
+        """The names of the project's vehicles, the default one (``project.chassis``) first."""
+        return [c.name for c in self._project.fleet]
+
+    def _vehicle_index(self, i: int) -> Chassis:
+        fleet = self._project.fleet
+        if not 0 <= i < len(fleet):
+            raise IndexError(f"no vehicle {i}")
+        return fleet[i]
+
+    def routes_driven_by(self, i: int) -> list[str]:
+        """Names of the routes vehicle ``i`` drives (those naming it; for the default vehicle
+        also those naming none)."""
+        name = self._vehicle_index(i).name
+        return [r.name for r in self._project.routes
+                if r.chassis == name or (i == 0 and r.chassis is None)]
+
+    def _with_fleet(self, fleet: list[Chassis], routes: tuple[Route, ...] | None = None
+                    ) -> Project:
+        return dataclasses.replace(self._project, chassis=fleet[0], others=tuple(fleet[1:]),
+                                   routes=self._project.routes if routes is None else routes)
+
+    def unique_vehicle_name(self, base: str) -> str:
+        names = set(self.vehicle_names())
+        if base not in names:
+            return base
+        for n in itertools.count(2):
+            cand = f"{base} {n}"
+            if cand not in names:
+                return cand
+        raise AssertionError("unreachable")
+
+    def set_vehicle(self, i: int, chassis: Chassis, burst: int | None = None,
+                    text: str | None = None) -> None:
+        """Use ``chassis`` as vehicle ``i`` of the fleet (0: the default one), one undo step.
+
+        A new name must be free in the fleet; the routes that named the old one name the new
+        one. Edits with the same ``burst`` key changing the same fields merge into one step
+        (see :meth:`set_chassis`).
+        """
+        old = self._vehicle_index(i)
+        name = chassis.name.strip()
+        if not name:
+            raise ValueError("a vehicle needs a name")
+        if name in [c.name for k, c in enumerate(self._project.fleet) if k != i]:
+            raise ValueError(f"another vehicle is already named {name!r}")
+        fleet = list(self._project.fleet)
+        fleet[i] = chassis
+        routes = self._project.routes
+        what = {"chassis"}
+        changed = tuple(f.name for f in dataclasses.fields(Chassis)
+                        if getattr(old, f.name) != getattr(chassis, f.name))
+        if name != old.name:
+            routes = tuple(dataclasses.replace(r, chassis=name) if r.chassis == old.name else r
+                           for r in routes)
+            what.add("routes")
+            text = text or f"Rename vehicle {old.name!r} to {name!r}"
+        elif text is None:
+            words = ", ".join("trailers" if k == "trailers" else chassis_field_words(k)
+                              for k in changed)
+            # One vehicle: "Change chassis track", as before there was a fleet.
+            who = "chassis" if len(fleet) == 1 else repr(name)
+            text = (f"Change {who} {words}" if 0 < len(changed) <= 2
+                    else f"Change {'chassis' if len(fleet) == 1 else 'vehicle ' + who}")
+        key = None if burst is None or not changed else ("vehicle", i, changed, burst)
+        self._push(text, self._with_fleet(fleet, routes), what, merge_key=key, live=False)
+
+    def add_vehicle(self, chassis: Chassis | None = None) -> int:
+        """Add a vehicle to the fleet (a copy of the default one without trailers when none is
+        given, named so no other vehicle has its name); returns its index."""
+        base = chassis if chassis is not None else dataclasses.replace(
+            self._project.chassis, trailers=())
+        c = dataclasses.replace(base, name=self.unique_vehicle_name(base.name.strip() or
+                                                                    "vehicle"))
+        fleet = [*self._project.fleet, c]
+        self._push(f"Add vehicle {c.name!r}", self._with_fleet(fleet), "chassis", live=False)
+        return len(fleet) - 1
+
+    def remove_vehicle(self, i: int) -> None:
+        """Remove vehicle ``i``: not the only one, nor one that still drives a route."""
+        c = self._vehicle_index(i)
+        if len(self._project.fleet) == 1:
+            raise ValueError("a project needs at least one vehicle")
+        users = self.routes_driven_by(i)
+        if users:
+            names = ", ".join(repr(n) for n in users)
+            raise ValueError(f"{c.name!r} drives {names}: choose another vehicle for "
+                             f"{'that route' if len(users) == 1 else 'those routes'} first")
+        fleet = list(self._project.fleet)
+        del fleet[i]
+        self._push(f"Remove vehicle {c.name!r}", self._with_fleet(fleet), "chassis",
+                   live=False)
+
+    def set_route_vehicle(self, route_i: int, name: str | None) -> None:
+        """Say which vehicle drives route ``route_i`` (``None``: the default one)."""
+        rt = self._check_route_index(route_i)
+        if name is not None and name not in self.vehicle_names():
+            raise ValueError(f"no vehicle named {name!r}")
+        if name == self._project.chassis.name and rt.chassis is None:
+            return
+        if name == rt.chassis:
+            return
+        shown = name if name is not None else self._project.chassis.name
+        self._push(f"Drive {rt.name!r} with {shown!r}",
+                   self._with_route(route_i, dataclasses.replace(rt, chassis=name)),
+                   {"routes", "chassis"}, live=False)
 
     @property
     def stale_reason(self) -> str:

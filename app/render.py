@@ -4,9 +4,13 @@ The picture painter of the plan scene (:mod:`app.scene`): it paints the scene's 
 the scene's styles, as the canvas does, and adds what only a picture has (title and verdict
 badge, legend, scale bar, axes cue, caution).
 
-Over 600 lines because it still holds the picture's own plot painter (:func:`draw_plots`, for
-``render --plots`` and the report) beside the window's pyqtgraph plots (:mod:`app.plots`);
-moving the picture onto pyqtgraph's path is the next step and would shrink it by a third.
+In parts: this module lays out the picture and paints the plan scene's layers (zones, band,
+floor plan, routes, trailers, violations and their labels) and writes images;
+:mod:`app.picture_frame` draws what frames the plan (grid, scale bar, axes cue, title and
+verdict badge, legend) and :mod:`app.painting` holds the QPainter basics both use. The plots
+of a picture or report are the window's (:func:`app.plots.draw_plots`). The names other
+modules import from here (``render_scene``, ``draw_legend``, ``pen``, ``font``, the palette,
+the analysis's results) stay importable from :mod:`app.render`.
 
 Everything is drawn with QPainter onto a QImage (or any paint device the caller's painter is
 on), so it works under ``QT_QPA_PLATFORM=offscreen`` with only a ``QGuiApplication``: the
@@ -34,11 +38,9 @@ from PySide6.QtGui import (
     QColor,
     QFont,
     QFontMetricsF,
-    QGuiApplication,
     QImage,
     QPainter,
     QPainterPath,
-    QPen,
     QPolygonF,
 )
 
@@ -55,8 +57,22 @@ from kinematics.analysis.results import (  # noqa: F401 - re-exported for older 
     violation_label,
     violations_of,
 )
-from kinematics.files.project import drive_word
 
+from .painting import (  # noqa: F401 - also imported from here by others
+    BAND_RGBA,
+    FORCED_VIOLATION_LABELS,
+    _Labels,
+    _paint_line,
+    _paint_marker,
+    _paint_polygons,
+    _View,
+    draw_marker,
+    ensure_app,
+    font,
+    nice_length,
+    pen,
+    qcolor,
+)
 from .palette import (  # noqa: F401 - re-exported for the report and tests
     BLACK,
     BLUE,
@@ -69,7 +85,13 @@ from .palette import (  # noqa: F401 - re-exported for the report and tests
     WALL_FILL,
     YELLOW,
 )
-from .qstyle import marker_path, paint_area, paint_area_sample, qbrush, qpen
+from .picture_frame import (  # noqa: F401 - also imported from here by others
+    _draw_grid,
+    _draw_scale_and_axes,
+    _draw_title,
+    draw_legend,
+)
+from .qstyle import qbrush
 from .scene import (  # noqa: F401 - the geometry helpers are re-exported for older callers
     FAINT_INK,
     INK,
@@ -81,6 +103,8 @@ from .scene import (  # noqa: F401 - the geometry helpers are re-exported for ol
     VIOLATION_SHAPES,
     WAYPOINT_R_PX,
     ZONE_ARROW_STEP_PX,
+    band_bounds,
+    band_pieces,
     floorplan_layer,
     legend_rows,
     outline_poses,
@@ -92,199 +116,6 @@ from .scene import (  # noqa: F401 - the geometry helpers are re-exported for ol
     zone_layer,
     zone_legend_rows,
 )
-
-#: The swept band, as the scene styles it.
-BAND_RGBA = (*(int(STYLES["band"].fill.colour[i:i + 2], 16) for i in (1, 3, 5)),
-             STYLES["band"].fill.alpha)
-#: How many violation labels (the worst first) are drawn even where they must overlap.
-FORCED_VIOLATION_LABELS = 8
-
-
-def ensure_app() -> QGuiApplication:
-    """The running Qt application, or a new one.
-
-    A ``QApplication`` rather than a bare ``QGuiApplication``: painting needs only the latter,
-    but a process that renders first and opens widgets later (the tests, a script that renders
-    and then shows the window) would abort on the wrong application type.
-    """
-    app = QGuiApplication.instance()
-    if app is None:
-        from PySide6.QtWidgets import QApplication
-
-        app = QApplication([])
-    return app  # type: ignore[return-value]
-
-
-def qcolor(spec: str, alpha: int = 255) -> QColor:
-    c = QColor(spec)
-    c.setAlpha(alpha)
-    return c
-
-
-def pen(colour: str | QColor, width: float = 1.0,
-        style: Qt.PenStyle = Qt.PenStyle.SolidLine) -> QPen:
-    p = QPen(QColor(colour) if isinstance(colour, str) else colour)
-    p.setWidthF(width)
-    p.setStyle(style)
-    p.setCapStyle(Qt.PenCapStyle.FlatCap)
-    p.setJoinStyle(Qt.PenJoinStyle.RoundJoin)
-    return p
-
-
-def font(px: float, bold: bool = False) -> QFont:
-    f = QFont("DejaVu Sans")
-    f.setPixelSize(max(6, int(round(px))))
-    f.setBold(bold)
-    return f
-
-
-def nice_length(target: float) -> float:
-    """The 1-2-5 series value at or just below ``target`` (for scale bars and ticks)."""
-    if not target > 0:
-        return 1.0
-    e = math.floor(math.log10(target))
-    for m in (5.0, 2.0, 1.0):
-        if m * 10 ** e <= target:
-            return m * 10 ** e
-    return 10 ** e
-
-
-def draw_marker(p: QPainter, kind: str, centre: QPointF, r: float) -> None:
-    """The marker of violation ``kind`` (the scene's shape and style) at ``centre``."""
-    st = STYLES["violation"]
-    p.setPen(qpen(st.stroke, max(1.0, r / VIOLATION_R_PX)))
-    p.setBrush(qbrush(st.fill))
-    p.drawPath(marker_path(VIOLATION_SHAPES.get(kind, "circle"), centre, r))
-
-
-def _paint_polygons(p: QPainter, view: _View, role: str, geoms: list, u: float) -> None:
-    # The plan's outlines keep their pixel width at any size, as on the canvas.
-    scale = 1.0 if role in ("wall", "obstacle") or role.startswith("zone_") else u
-    for g in geoms:
-        paint_area(p, STYLES[role], view.geometry_path(g), scale)
-
-
-def _paint_line(p: QPainter, view: _View, line: Any, u: float) -> None:
-    p.setPen(qpen(line.stroke, u))
-    p.setBrush(Qt.BrushStyle.NoBrush)
-    p.drawPolyline(view.poly(line.xy))
-
-
-def _paint_marker(p: QPainter, view: _View, m: Any, u: float) -> QRectF:
-    st = STYLES[m.role]
-    c = view.pt(m.x, m.y)
-    r = m.r_px * u
-    p.setPen(qpen(m.stroke or st.stroke, u))
-    p.setBrush(qbrush(st.fill))
-    p.drawPath(marker_path(m.shape, c, r, m.angle_rad))
-    box = QRectF(c.x() - r, c.y() - r, 2 * r, 2 * r)
-    if m.text:
-        p.setPen(QColor(st.ink))
-        p.setFont(font(10 * u, bold=True))
-        p.drawText(box, Qt.AlignmentFlag.AlignCenter, m.text)
-    return box
-
-
-class _View:
-    """Plan metres to image pixels: uniform scale, y up on the plan, y down on the image."""
-
-    def __init__(self, bounds: tuple[float, float, float, float], rect: QRectF) -> None:
-        x0, y0, x1, y1 = bounds
-        w, h = max(x1 - x0, 1e-6), max(y1 - y0, 1e-6)
-        self.scale = min(rect.width() / w, rect.height() / h)  # pixels per metre
-        cx, cy = (x0 + x1) / 2.0, (y0 + y1) / 2.0
-        self.ox = rect.center().x() - cx * self.scale
-        self.oy = rect.center().y() + cy * self.scale
-
-    def pt(self, x: float, y: float) -> QPointF:
-        return QPointF(self.ox + x * self.scale, self.oy - y * self.scale)
-
-    def poly(self, xy: np.ndarray) -> QPolygonF:
-        xy = np.asarray(xy, dtype=float)
-        px = self.ox + xy[:, 0] * self.scale
-        py = self.oy - xy[:, 1] * self.scale
-        return QPolygonF([QPointF(a, b) for a, b in zip(px, py)])
-
-    def geometry_path(self, geom: Any) -> QPainterPath:
-        """A shapely (multi)polygon as a painter path with holes (odd-even fill)."""
-        path = QPainterPath()
-        path.setFillRule(Qt.FillRule.OddEvenFill)
-        for g in getattr(geom, "geoms", [geom]):
-            if g is None or g.is_empty:
-                continue
-            if g.geom_type == "Polygon":
-                for ring in [g.exterior, *g.interiors]:
-                    path.addPolygon(self.poly(np.asarray(ring.coords)[:, :2]))
-                    path.closeSubpath()
-            elif g.geom_type in ("MultiPolygon", "GeometryCollection"):
-                path.addPath(self.geometry_path(g))
-        return path
-
-
-class _Labels:
-    """Greedy label placement: a label goes where it overlaps nothing placed before."""
-
-    def __init__(self, bounds: QRectF) -> None:
-        self.taken: list[QRectF] = []
-        self.bounds = bounds
-
-    def block(self, r: QRectF) -> None:
-        self.taken.append(r)
-
-    def place(self, p: QPainter, anchor: QPointF, text: str, f: QFont, offset: float,
-              ink: str = INK, fill: QColor | None = None, border: str | None = None,
-              force: bool = False, along: tuple[float, float] | None = None
-              ) -> QRectF | None:
-        """Place ``text`` near ``anchor``; ``along`` (a unit pixel vector) first tries the
-        two spots beyond the anchor in that direction and its opposite (a door's label goes
-        past its jambs, off the route that passes through the opening)."""
-        fm = QFontMetricsF(f)
-        w = fm.horizontalAdvance(text) + 8
-        h = fm.height() + 2
-        ax, ay = anchor.x(), anchor.y()
-        o3 = offset * 0.3
-        cands = []
-        if along is not None:
-            ux, uy = along
-            reach = offset + abs(ux) * w / 2 + abs(uy) * h / 2
-            for sgn in (1.0, -1.0):
-                cands.append((sgn * ux * reach - w / 2, sgn * uy * reach - h / 2))
-        cands += [(offset, -h - o3), (offset, o3), (-w - offset, -h - o3), (-w - offset, o3),
-                  (-w / 2, -h - offset * 1.6), (-w / 2, offset * 1.6),
-                  (offset * 2.5, -h / 2), (-w - offset * 2.5, -h / 2)]
-        chosen = None
-        for dx, dy in cands:
-            r = QRectF(ax + dx, ay + dy, w, h)
-            if not self.bounds.contains(r):
-                continue
-            if any(r.intersects(t) for t in self.taken):
-                continue
-            chosen = r
-            break
-        if chosen is None:
-            if not force:
-                return None
-            inside = [QRectF(ax + dx, ay + dy, w, h) for dx, dy in cands
-                      if self.bounds.contains(QRectF(ax + dx, ay + dy, w, h))]
-            chosen = inside[0] if inside else QRectF(ax + cands[0][0], ay + cands[0][1], w, h)
-        self.taken.append(chosen)
-        if border:
-            # A leader from the anchor to the label's nearest point ties them together.
-            near = QPointF(min(max(ax, chosen.left()), chosen.right()),
-                           min(max(ay, chosen.top()), chosen.bottom()))
-            dx, dy = near.x() - ax, near.y() - ay
-            dist = math.hypot(dx, dy)
-            start = offset * 0.7  # from the marker's edge, not across it
-            if dist > start:
-                p.setPen(pen(border, 1.0))
-                p.drawLine(QPointF(ax + dx / dist * start, ay + dy / dist * start), near)
-        p.setPen(pen(border, 1.0) if border else Qt.PenStyle.NoPen)
-        p.setBrush(QBrush(fill if fill is not None else qcolor("#FFFFFF", 225)))
-        p.drawRoundedRect(chosen, 3, 3)
-        p.setPen(QColor(ink))
-        p.setFont(f)
-        p.drawText(chosen, Qt.AlignmentFlag.AlignCenter, text)
-        return chosen
 
 
 # -- the scene ------------------------------------------------------------------------------
@@ -299,10 +130,10 @@ def _scene_bounds(project: Any, plans: dict, bands: dict, focus: str | None = No
     if focus is not None:
         fx = [w.x for r in project.routes if r.name == focus for w in r.waypoints]
         fy = [w.y for r in project.routes if r.name == focus for w in r.waypoints]
-        g = bands.get(focus)
-        if g is not None and not g.is_empty:
-            fx += [g.bounds[0], g.bounds[2]]
-            fy += [g.bounds[1], g.bounds[3]]
+        gb = band_bounds(bands.get(focus))
+        if gb is not None:
+            fx += [gb[0], gb[2]]
+            fy += [gb[1], gb[3]]
         if fx:
             # The route and a few metres of its surroundings, within the plan.
             x0, x1, y0, y1 = min(fx), max(fx), min(fy), max(fy)
@@ -321,9 +152,9 @@ def _scene_bounds(project: Any, plans: dict, bands: dict, focus: str | None = No
         if r.name in plans or not plans:
             xs += [w.x for w in r.waypoints]
             ys += [w.y for w in r.waypoints]
-    for g in bands.values():
-        if g is not None and not g.is_empty:
-            gb = g.bounds
+    for pieces in bands.values():
+        gb = band_bounds(pieces)
+        if gb is not None:
             xs += [gb[0], gb[2]]
             ys += [gb[1], gb[3]]
     if not xs:
@@ -411,7 +242,7 @@ def _draw(p: QPainter, project: Any, plans: dict, checks: dict, route_name: str 
         plan = plans.get(name)
         if plan is not None and plan.segments:
             try:
-                bands[name] = swept_geometry(
+                bands[name] = band_pieces(
                     vehicle_of(project, project.route(name)).footprint, plan.segments,
                     checks.get(name))
             except Exception:  # noqa: BLE001 - a picture without a band is still a picture
@@ -438,9 +269,15 @@ def _draw(p: QPainter, project: Any, plans: dict, checks: dict, route_name: str 
         _paint_marker(p, view, mk, u)
     p.setPen(Qt.PenStyle.NoPen)
     p.setBrush(qbrush(STYLES["band"].fill))
-    for g in bands.values():
-        if g is not None and not g.is_empty:
-            p.drawPath(view.geometry_path(g))
+    for pieces in bands.values():
+        # The scene's per-segment pieces, each route's as one winding-filled path: their
+        # union painted once, as the canvas paints it.
+        band = QPainterPath()
+        for piece in pieces or ():
+            for g in piece:
+                band.addPath(view.geometry_path(g))
+        band.setFillRule(Qt.FillRule.WindingFill)
+        p.drawPath(band)
     plan_layer = floorplan_layer(project.floorplan, checks)
     for poly in plan_layer.polygons:
         _paint_polygons(p, view, poly.role, poly.geoms, u)
@@ -489,25 +326,6 @@ def _draw(p: QPainter, project: Any, plans: dict, checks: dict, route_name: str 
                    | Qt.TextFlag.TextWordWrap, CAUTION)
     return {"plan_rect": plan_rect, "px_per_m": view.scale, "violations": marks,
             "to_px": view.pt, "covered": list(labels.taken)}
-
-
-def _draw_grid(p: QPainter, view: _View, rect: QRectF, u: float) -> None:
-    step = nice_length(90 * u / view.scale) if view.scale > 0 else 1.0
-    tl_x = (rect.left() - view.ox) / view.scale
-    br_x = (rect.right() - view.ox) / view.scale
-    top_y = (view.oy - rect.top()) / view.scale
-    bot_y = (view.oy - rect.bottom()) / view.scale
-    p.setPen(pen("#E6E6E6", 1.0))
-    x = math.floor(tl_x / step) * step
-    while x <= br_x:
-        a = view.pt(x, 0).x()
-        p.drawLine(QPointF(a, rect.top()), QPointF(a, rect.bottom()))
-        x += step
-    y = math.floor(bot_y / step) * step
-    while y <= top_y:
-        b = view.pt(0, y).y()
-        p.drawLine(QPointF(rect.left(), b), QPointF(rect.right(), b))
-        y += step
 
 
 def _obstacle_labels(p: QPainter, view: _View, layer: Any, u: float, labels: _Labels) -> None:
@@ -625,91 +443,6 @@ def _draw_violations(p: QPainter, view: _View, checks: dict, u: float, labels: _
     return marks
 
 
-def _draw_scale_and_axes(p: QPainter, view: _View, rect: QRectF, u: float, f: QFont) -> None:
-    length = nice_length(rect.width() * 0.18 / view.scale)
-    px = length * view.scale
-    x0 = rect.left() + 16 * u
-    y0 = rect.bottom() - 18 * u
-    tw = QFontMetricsF(f).horizontalAdvance(f"{length:g} m")
-    box = QRectF(x0 - 8 * u, y0 - 30 * u, px + tw + 24 * u, 42 * u)
-    p.setPen(Qt.PenStyle.NoPen)
-    p.setBrush(QBrush(qcolor("#FFFFFF", 220)))
-    p.drawRect(box)
-    # Alternating black and white halves, as on a drawing's scale bar.
-    h = 7 * u
-    for k in range(2):
-        p.setPen(pen(BLACK, 1.0))
-        p.setBrush(QBrush(QColor(BLACK if k == 0 else "#FFFFFF")))
-        p.drawRect(QRectF(x0 + k * px / 2, y0 - h, px / 2, h))
-    p.setPen(QColor(INK))
-    p.setFont(f)
-    text = f"{length:g} m"
-    p.drawText(QPointF(x0 + px + 6 * u, y0), text)
-    p.drawText(QPointF(x0, y0 - h - 5 * u), "0")
-    # Axes cue: the plan frame, x to the right and y up.
-    ax = QPointF(rect.right() - 62 * u, rect.bottom() - 18 * u)
-    L = 38 * u
-    p.setPen(Qt.PenStyle.NoPen)
-    p.setBrush(QBrush(qcolor("#FFFFFF", 220)))
-    p.drawRect(QRectF(ax.x() - 14 * u, ax.y() - L - 20 * u, L + 36 * u, L + 30 * u))
-    p.setPen(pen(INK, 1.6 * u))
-    p.setBrush(QBrush(QColor(INK)))
-    for dx, dy, name in ((L, 0.0, "x"), (0.0, -L, "y")):
-        tip = QPointF(ax.x() + dx, ax.y() + dy)
-        p.drawLine(ax, tip)
-        ux, uy = (1, 0) if dx else (0, -1)
-        a = 5 * u
-        p.drawPolygon(QPolygonF([QPointF(tip.x() + ux * a, tip.y() + uy * a),
-                                 QPointF(tip.x() - uy * a * 0.7, tip.y() + ux * a * 0.7),
-                                 QPointF(tip.x() + uy * a * 0.7, tip.y() - ux * a * 0.7)]))
-        p.drawText(QPointF(tip.x() + (8 * u if dx else 7 * u),
-                           tip.y() + (4 * u if dx else 6 * u)), name)
-
-
-def _draw_title(p: QPainter, project: Any, plans: dict, checks: dict, route_name: str | None,
-                errors: dict, W: float, h: float, u: float, f_title: QFont,
-                f_sub: QFont) -> None:
-    m = 14 * u
-    verdict, ok = verdict_text(checks, errors)
-    names = [route_name] if route_name is not None else list(plans)
-    routes = ", ".join(names) if names else "no routes"
-    chassis = project.chassis
-    # Verdict badge on the right: its words say it; colour and symbol only repeat them.
-    f_badge = font(18 * u, bold=True)
-    symbol = {True: "\u2713 ", False: "\u2717 ", None: ""}[ok]
-    badge_text = symbol + verdict
-    fm = QFontMetricsF(f_badge)
-    bw = min(fm.horizontalAdvance(badge_text) + 28 * u, W * 0.55)
-    badge = QRectF(W - bw - m, m, bw, h - 2 * m)
-    fill = {True: BLUE, False: VERMILLION, None: "#707070"}[ok]
-    p.setPen(Qt.PenStyle.NoPen)
-    p.setBrush(QBrush(QColor(fill)))
-    p.drawRoundedRect(badge, 6 * u, 6 * u)
-    p.setPen(QColor("#FFFFFF"))
-    p.setFont(f_badge)
-    p.drawText(badge, Qt.AlignmentFlag.AlignCenter, fm.elidedText(
-        badge_text, Qt.TextElideMode.ElideRight, bw - 16 * u))
-    left = QRectF(m, m * 0.6, W - bw - 3 * m, h - m)
-    p.setPen(QColor(INK))
-    p.setFont(f_title)
-    fmt = QFontMetricsF(f_title)
-    title = f"{project_title(project)} \u2014 {routes}"
-    p.drawText(QRectF(left.left(), left.top(), left.width(), fmt.height()),
-               Qt.AlignmentFlag.AlignLeft | Qt.AlignmentFlag.AlignVCenter,
-               fmt.elidedText(title, Qt.TextElideMode.ElideRight, left.width()))
-    sub = (f"plan: {project.floorplan.name or 'unnamed'}   \u00b7   chassis: {chassis.name} "
-           f"({drive_word(chassis.drive)}), margin {chassis.margin_m * 1000:.0f} mm")
-    errs = [f"{k}: {v}" for k, v in errors.items()]
-    if errs:
-        sub += "   \u00b7   " + "; ".join(errs)
-    fms = QFontMetricsF(f_sub)
-    p.setFont(f_sub)
-    p.setPen(QColor(FAINT_INK))
-    p.drawText(QRectF(left.left(), left.top() + fmt.height() + 2 * u, left.width(),
-                      fms.height()), Qt.AlignmentFlag.AlignLeft | Qt.AlignmentFlag.AlignVCenter,
-               fms.elidedText(sub, Qt.TextElideMode.ElideRight, left.width()))
-
-
 def _zone_captions(p: QPainter, view: _View, layer: Any, u: float, labels: _Labels) -> None:
     """Each zone's name and number inside it, where it fits and nothing is there yet."""
     f = font(10.5 * u)
@@ -731,79 +464,6 @@ def _zone_captions(p: QPainter, view: _View, layer: Any, u: float, labels: _Labe
         p.drawRect(r)
         p.setPen(QColor(lb.ink or st.ink))
         p.drawText(r, Qt.AlignmentFlag.AlignCenter, lb.text)
-
-
-def draw_legend(p: QPainter, rect: QRectF, names: Sequence[str], index_of: dict, checks: dict,
-                u: float, f: QFont, f_small: QFont, zones: Sequence[Any] = ()) -> None:
-    """The legend box in ``rect``: the picture's, and the window's legend dock."""
-    rows = legend_rows(names, checks, index_of, zones=zones)
-    row_h = 25 * u
-    head_h = 28 * u
-    needed = head_h + row_h * len(rows) + 10 * u
-    if needed > rect.height():
-        row_h = max(12.0, (rect.height() - head_h - 10 * u) / len(rows))
-    box = QRectF(rect.left(), rect.top(), rect.width(), min(rect.height(), needed))
-    p.setPen(pen("#B0B0B0", 1.0))
-    p.setBrush(QBrush(QColor("#FFFFFF")))
-    p.drawRect(box)
-    p.setPen(QColor(INK))
-    p.setFont(font(13 * u, bold=True))
-    p.drawText(QRectF(box.left() + 10 * u, box.top() + 4 * u, box.width(), head_h),
-               Qt.AlignmentFlag.AlignVCenter, "Legend")
-    fm = QFontMetricsF(f)
-    sw = 38 * u
-    y = box.top() + head_h + 4 * u
-    for kind, text, arg in rows:
-        cy = y + row_h / 2
-        x0 = box.left() + 10 * u
-        sample = QRectF(x0, cy - 7 * u, sw, 14 * u)
-        if kind in ("wall", "obstacle"):
-            paint_area_sample(p, STYLES[kind], sample)
-        elif kind == "zone":
-            paint_area_sample(p, STYLES["zone_" + arg], sample)
-        elif kind == "door":
-            p.setPen(qpen(STYLES["door"].stroke, u))
-            p.drawLine(QPointF(x0, cy), QPointF(x0 + sw, cy))
-            jst = STYLES["jamb"]
-            p.setPen(qpen(jst.stroke, u))
-            p.setBrush(qbrush(jst.fill))
-            for xx in (x0, x0 + sw):
-                p.drawPath(marker_path("circle", QPointF(xx, cy), JAMB_R_PX * u))
-        elif kind in ("path", "reverse"):
-            style = Qt.PenStyle.SolidLine if kind == "path" else Qt.PenStyle.DashLine
-            p.setPen(pen(arg or INK, ROUTE_WIDTH_PX * u, style))
-            p.drawLine(QPointF(x0, cy), QPointF(x0 + sw, cy))
-        elif kind == "pivot":
-            r = 8 * u
-            p.setPen(pen(INK, 2.0 * u))
-            p.setBrush(Qt.BrushStyle.NoBrush)
-            p.drawArc(QRectF(x0 + sw / 2 - r, cy - r, 2 * r, 2 * r), 30 * 16, 300 * 16)
-        elif kind == "band":
-            p.setPen(Qt.PenStyle.NoPen)
-            p.setBrush(qbrush(STYLES["band"].fill))
-            p.drawRect(sample)
-        elif kind == "outline":
-            p.setPen(qpen(STYLES["outline"].stroke, u))
-            p.setBrush(Qt.BrushStyle.NoBrush)
-            p.drawRect(QRectF(x0 + 6 * u, cy - 6 * u, sw - 12 * u, 12 * u))
-        elif kind == "waypoint":
-            r = WAYPOINT_R_PX * u
-            p.setPen(pen(INK, 2.0 * u))
-            p.setBrush(qbrush(STYLES["waypoint"].fill))
-            c = QPointF(x0 + sw / 2, cy)
-            p.drawEllipse(c, r, r)
-            p.setFont(font(9 * u, bold=True))
-            p.drawText(QRectF(c.x() - r, c.y() - r, 2 * r, 2 * r),
-                       Qt.AlignmentFlag.AlignCenter, "1")
-        elif kind == "violation":
-            draw_marker(p, arg, QPointF(x0 + sw / 2, cy), 7.5 * u)
-        p.setPen(QColor(INK if "(none)" not in text else FAINT_INK))
-        p.setFont(f)
-        tx = x0 + sw + 10 * u
-        p.drawText(QRectF(tx, y, box.right() - tx - 6 * u, row_h),
-                   Qt.AlignmentFlag.AlignVCenter | Qt.AlignmentFlag.AlignLeft,
-                   fm.elidedText(text, Qt.TextElideMode.ElideRight, box.right() - tx - 6 * u))
-        y += row_h
 
 
 # -- images and files -----------------------------------------------------------------------

@@ -261,11 +261,14 @@ def draw_report(p: QPainter, size: tuple[float, float], project: Any, plans: dic
 
         rows = [(f"Route {name}", who) for name, who in route_vehicle_lines(
             project, set(checks) or None)] + rows
+    fmb = QFontMetricsF(fb)
     for label, value in rows:
         p.setFont(fb)
         p.setPen(QColor(INK))
-        p.drawText(QRectF(rx, ry, lab_w, 40 * u), Qt.AlignmentFlag.AlignLeft
+        p.drawText(QRectF(rx, ry, col_w, 40 * u), Qt.AlignmentFlag.AlignLeft
                    | Qt.AlignmentFlag.AlignTop, label)
+        if fmb.horizontalAdvance(label) > lab_w - 8 * u:
+            ry += fmb.height() + 1 * u  # a long name (a fleet's route) has its own row
         p.setFont(f)
         flags = int(Qt.AlignmentFlag.AlignLeft | Qt.AlignmentFlag.AlignTop
                     | Qt.TextFlag.TextWordWrap)

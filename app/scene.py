@@ -387,12 +387,52 @@ def swept_geometry(footprint: Sequence[tuple[float, float]], segments: Sequence[
     return getattr(geom, "geometry", geom)
 
 
+def band_piece(footprint: Sequence[tuple[float, float]], segment: Any,
+               parts: Any = None) -> np.ndarray:
+    """One segment's piece of the swept band: the polygons whose union is the area it sweeps
+    (``parts``, the check's own, else swept now), oriented alike (exteriors
+    counter-clockwise, holes clockwise). Filled with a non-zero winding rule they cover their
+    union once without the union being computed."""
+    import shapely
+
+    if parts is None:
+        from kinematics.check.sweep import swept_parts
+
+        parts = swept_parts(footprint, segment)
+    arr = np.asarray(list(parts), dtype=object).ravel()
+    return shapely.orient_polygons(arr) if arr.size else arr
+
+
+def band_pieces(footprint: Sequence[tuple[float, float]], segments: Sequence[Any],
+                check: Any = None) -> list[np.ndarray]:
+    """The swept band of a route, one :func:`band_piece` per segment, from the check's parts
+    when it holds them for these segments (a train's include its trailers), as both painters
+    draw it: the picture fills each route's pieces as one path, the canvas keeps each
+    segment's piece by the segment's value so a drag remakes only the pieces that moved."""
+    parts = tuple(getattr(check, "piece_parts", None) or ()) if check is not None else ()
+    if len(parts) != len(segments):
+        parts = (None,) * len(segments)
+    return [band_piece(footprint, seg, raw) for seg, raw in zip(segments, parts)]
+
+
+def band_bounds(pieces: Sequence[np.ndarray] | None) -> tuple[float, float, float, float] | None:
+    """``(x0, y0, x1, y1)`` of a route's band pieces, or ``None`` when there is none."""
+    import shapely
+
+    arrs = [np.asarray(p, dtype=object).ravel() for p in pieces or ()]
+    arrs = [a for a in arrs if a.size]
+    if not arrs:
+        return None
+    b = shapely.total_bounds(np.concatenate(arrs))
+    return None if not np.all(np.isfinite(b)) else tuple(float(v) for v in b)
+
+
 def route_layer(route: Any, k: int, plan: Any, footprint: Sequence[tuple[float, float]],
                 outline_count: int = 8) -> Layer:
     """One route: its path (dashed in reverse), footprint outlines and numbered waypoints.
 
-    The swept band is drawn by each painter from the check's pieces (see ``band`` in
-    :data:`STYLES`): the canvas keeps it per segment for the drag.
+    The swept band is :func:`band_pieces` (one piece per segment, in the ``band`` style of
+    :data:`STYLES`), which both painters fill.
     """
     layer = Layer()
     if plan is not None:

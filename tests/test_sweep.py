@@ -148,6 +148,29 @@ def test_thin_triangle_turning_along_a_line_is_contained():
     assert excess(g, placed) <= TOL + step / 2 + 1e-9
 
 
+@pytest.mark.parametrize(("footprint", "seg"), [
+    (RECT, holonomic_line((0.0, 0.0, 0.3), (8.0, 3.0), 1.2)),
+    (RECT, holonomic_line((1.0, 0.0, -0.5), (-6.0, 2.0), -0.7)),
+    (RECT, holonomic_line((0.0, 0.0, 0.0), (25.0, 0.0), 3.1)),
+    (ELL, holonomic_line((0.0, 0.0, 0.3), (24.0, 6.0), 0.7)),
+    (ELL, holonomic_line((1.0, 0.0, -0.5), (-40.0, 2.0), -1.2)),
+])
+def test_turning_holonomic_line_swept_by_grown_translations(footprint, seg):
+    # Source: shapely.covers / STRtree.query_nearest on dense placements, as above. Long lines
+    # that turn the body are swept as chunks translating the footprint grown by 0.32 of the
+    # tolerance at each chunk's middle heading (kinematics.check.sweep docstring); the result
+    # must still contain every placement and stay within the tolerance.
+    from kinematics.check.sweep import _holonomic_method
+
+    assert _holonomic_method(prepare_footprint(footprint), seg, 0.95 * TOL)[0] == \
+        "translations"
+    g = swept_segment(footprint, seg, TOL)
+    placed, step = dense_placements(footprint, seg, 0.001)
+    assert g.is_valid
+    assert contains_all(g, placed)
+    assert excess(g, placed) <= TOL + step / 2 + 1e-9
+
+
 def test_swept_route_gives_one_piece_per_segment():
     # Source: common plane geometry - a straight run split in two sweeps the same region.
     segs = [line((0, 0, 0), 1.0), line((1, 0, 0), 2.0)]

@@ -5,6 +5,7 @@ from __future__ import annotations
 from pathlib import Path
 
 import numpy as np
+import pytest
 import shapely
 from PySide6.QtCore import QSettings
 from PySide6.QtWidgets import QApplication
@@ -135,4 +136,172 @@ def test_traffic_panel_lists_and_shows_places(qtbot, tmp_path) -> None:
     panel.compute()
     assert not panel.stale_label.isVisibleTo(panel) and panel.table.isEnabled()
     w.doc.undo_stack.setClean()
+    w.close()
+
+
+# -- the fleet and trailers edited in the window ------------------------------------------------
+
+
+def _doc():
+    from app.document import Document
+    from kinematics.files.project import load_project
+
+    return Document(load_project(TRAIN))
+
+
+def _reloaded(doc, tmp_path):
+    """The document's project written and read back by the file reader."""
+    from kinematics.files.project import load_project
+
+    path = tmp_path / "fleet.swathe.json"
+    doc.save(path)
+    return load_project(path)
+
+
+def test_fleet_edits_are_undoable_and_keep_the_file_valid(qtbot, tmp_path) -> None:
+    # Source: the project file's own reader (kinematics.files.project.load_project, which
+    # refuses a route naming a vehicle the fleet does not hold): after every edit the saved
+    # project reads back with the same vehicles and route assignments, and undo restores the
+    # tree exactly.
+    import dataclasses
+
+    doc = _doc()
+    start = doc.project
+    assert doc.vehicle_names() == ["ward tug", "hospital delivery cart"]
+    # Add: a copy of the default vehicle without trailers, under a free name.
+    i = doc.add_vehicle()
+    assert i == 2 and doc.vehicle_names()[2] == "ward tug 2"
+    assert doc.project.fleet[2].trailers == ()
+    # Rename the cart: the route that named it follows, in the file too.
+    cart = doc.project.fleet[1]
+    doc.set_vehicle(1, dataclasses.replace(cart, name="pallet cart"))
+    assert doc.undo_stack.text(doc.undo_stack.index() - 1) == \
+        "Rename vehicle 'hospital delivery cart' to 'pallet cart'"
+    assert doc.project.routes[1].chassis == "pallet cart"
+    back = _reloaded(doc, tmp_path)
+    assert [c.name for c in back.fleet] == ["ward tug", "pallet cart", "ward tug 2"]
+    assert back.chassis_for(back.routes[1]).name == "pallet cart"
+    # A name another vehicle has is refused; so is removing a vehicle that drives a route
+    # (the default one drives the route naming none) or the last one.
+    with pytest.raises(ValueError, match="already named"):
+        doc.set_vehicle(2, dataclasses.replace(doc.project.fleet[2], name="ward tug"))
+    with pytest.raises(ValueError, match="drives 'supply-return'"):
+        doc.remove_vehicle(1)
+    with pytest.raises(ValueError, match="drives 'linen-to-ward-b'"):
+        doc.remove_vehicle(0)
+    # Choose the new vehicle for the linen route; the check then uses it (no trailers).
+    doc.set_route_vehicle(0, "ward tug 2")
+    name = doc.project.routes[0].name
+    assert doc.vehicle(name).name == "ward tug 2"
+    assert doc.check(name).train is None
+    doc.set_route_vehicle(0, None)
+    assert doc.check(name).train is not None
+    doc.remove_vehicle(2)
+    assert doc.vehicle_names() == ["ward tug", "pallet cart"]
+    assert _reloaded(doc, tmp_path).routes[1].chassis == "pallet cart"
+    while doc.undo_stack.canUndo():
+        doc.undo_stack.undo()
+    assert doc.project == start
+
+
+def test_trailer_rows_are_read_as_the_file_reads_them() -> None:
+    # Source: kinematics.files.project.trailer_from_dict (the file's rules: a positive
+    # drawbar, a footprint around the trailer's own axle midpoint) gives the same trailers,
+    # and the table names the refused cell.
+    from app.fleet_panel import footprint_text, trailers_from_rows
+    from kinematics.errors import SwatheInputError
+    from kinematics.files.project import load_project, trailer_to_dict
+
+    tug = load_project(TRAIN).chassis
+    rows = [{"name": t.name, "hitch_x_m": f"{t.hitch_x_m}", "drawbar_m": f"{t.drawbar_m}",
+             "margin_m": "" if t.margin_m is None else f"{t.margin_m}",
+             "max_hitch_deg": f"{t.max_hitch_deg}",
+             "footprint": footprint_text(t.footprint)} for t in tug.trailers]
+    got = trailers_from_rows(rows)
+    assert [trailer_to_dict(t) for t in got] == [trailer_to_dict(t) for t in tug.trailers]
+    bad = [dict(rows[0], drawbar_m="-0.5")]
+    with pytest.raises(SwatheInputError) as exc:
+        trailers_from_rows(bad)
+    assert exc.value.place == "trailers[0].drawbar_m"
+    off = [dict(rows[0], footprint="1 -0.2; 1.5 -0.2; 1.5 0.2; 1 0.2")]
+    with pytest.raises(SwatheInputError) as exc:
+        trailers_from_rows(off)
+    assert exc.value.place == "trailers[0].footprint" and "(0, 0)" in exc.value.expected
+    with pytest.raises(SwatheInputError, match="corner 2"):
+        trailers_from_rows([dict(rows[0], footprint="-0.3 -0.2; oops; 0.3 0.2")])
+
+
+def test_chassis_panel_edits_fleet_and_trailers(qtbot, tmp_path) -> None:
+    w = _window(qtbot, tmp_path)
+    doc = w.doc
+    panel = w.chassis_panel
+    assert panel is not None
+    fleet, trailers = panel.fleet_box, panel.trailer_box
+    assert fleet.vehicle.count() == 2 and trailers.table.rowCount() == 2
+    # The cart has no trailers; choosing it in the fleet box shows it in the form.
+    fleet.vehicle.setCurrentIndex(1)
+    fleet.vehicle.activated.emit(1)
+    assert panel.member == 1 and panel.name_edit.text() == "hospital delivery cart"
+    assert trailers.table.rowCount() == 0
+    # Hitch a trailer to it: one undo step, the row appears.
+    n0 = doc.undo_stack.count()
+    trailers.add_button.click()
+    assert doc.undo_stack.count() == n0 + 1
+    assert len(doc.project.fleet[1].trailers) == 1 and trailers.table.rowCount() == 1
+    # A negative drawbar is refused with a message naming the cell; the document keeps the
+    # last good trailer and says its results are of it.
+    good = doc.project.fleet[1].trailers
+    trailers.table.item(0, 2).setText("-0.4")
+    assert doc.project.fleet[1].trailers == good
+    assert trailers.message.isVisibleTo(trailers)
+    assert trailers.message.text().startswith("\u26a0 Trailer 1, drawbar:")
+    assert doc.stale_reason
+    # A valid drawbar is taken: the message goes, the check is of the new trailer.
+    trailers.table.item(0, 2).setText("0.75")
+    assert doc.project.fleet[1].trailers[0].drawbar_m == pytest.approx(0.75)
+    assert not trailers.message.isVisibleTo(trailers) and not doc.stale_reason
+    chk = doc.check("supply-return")
+    assert chk.train is not None and len(chk.train.bodies) == 2
+    # Its footprint, in the line under the table: one not around the trailer's axle is
+    # refused (the file's rule), a good one taken.
+    trailers.table.setCurrentCell(0, 0)
+    trailers.footprint.setText("0.5 -0.2; 1.2 -0.2; 1.2 0.2; 0.5 0.2")
+    trailers.footprint.editingFinished.emit()
+    assert trailers.message.text().startswith("\u26a0 Trailer 1, footprint:")
+    assert doc.project.fleet[1].trailers[0].footprint == good[0].footprint
+    trailers.footprint.setText("-0.4 -0.25; 0.4 -0.25; 0.4 0.25; -0.4 0.25")
+    trailers.footprint.editingFinished.emit()
+    assert doc.project.fleet[1].trailers[0].footprint == \
+        ((-0.4, -0.25), (0.4, -0.25), (0.4, 0.25), (-0.4, 0.25))
+    assert not trailers.message.isVisibleTo(trailers)
+    # The current route is the linen route; have the cart drive it through the fleet box.
+    assert doc.route().name == "linen-to-ward-b"
+    fleet.route_vehicle.setCurrentIndex(1)
+    fleet.route_vehicle.activated.emit(1)
+    assert doc.vehicle("linen-to-ward-b").name == "hospital delivery cart"
+    # Removing a vehicle that drives routes is refused with a message.
+    fleet.remove_button.click()
+    assert fleet.message.isVisibleTo(fleet) and "drives" in fleet.message.text()
+    assert len(doc.project.fleet) == 2
+    # Renaming in the form's Name field renames the vehicle; the routes follow.
+    panel.name_edit.setText("meal cart")
+    panel.name_edit.editingFinished.emit()
+    assert doc.vehicle_names()[1] == "meal cart"
+    assert {r.chassis for r in doc.project.routes} == {"meal cart"}
+    assert fleet.route_vehicle.currentText() == "meal cart"
+    # Remove the trailer again, then undo everything: the sample's tree comes back.
+    trailers.table.setCurrentCell(0, 0)
+    trailers.remove_button.click()
+    assert trailers.table.rowCount() == 0
+    while doc.undo_stack.canUndo():
+        doc.undo_stack.undo()
+    QApplication.processEvents()
+    from kinematics.files.project import load_project
+
+    assert doc.project.fleet == load_project(TRAIN).fleet
+    assert panel.name_edit.text() == "hospital delivery cart" and panel.member == 1
+    fleet.vehicle.setCurrentIndex(0)
+    fleet.vehicle.activated.emit(0)
+    assert trailers.table.rowCount() == 2
+    doc.undo_stack.setClean()
     w.close()

@@ -44,11 +44,13 @@ from kinematics.check.segment_parts import SegmentCache, SegmentResult, cache_ke
 from kinematics.check.sweep import (
     DEFAULT_TOLERANCE_M,
     Footprint,
+    SweepBudgetError,
     prepare_footprint,
     sweep_allowance,
 )
 from kinematics.check.violations import stretches, zone_stretches
 from kinematics.check.waypoints import WaypointCheck, grid_poses
+from kinematics.errors import ValidationError
 from kinematics.files.floorplan import check_footprint
 from kinematics.motion.segments import Segment, segment_stations
 
@@ -176,7 +178,16 @@ class RouteChecker:
         name = route_name or getattr(plan_or_segments, "name", "") or getattr(route, "name", "")
         if waypoints is None and route is not None:
             waypoints = route.waypoints
-        results = self.segments.results(segs)
+        try:
+            results = self.segments.results(segs)
+        except SweepBudgetError:
+            # One at a time, to name the segment over the budget.
+            results = []
+            for i, s in enumerate(segs):
+                try:
+                    results.append(self.segment_result(s))
+                except SweepBudgetError as exc:
+                    raise ValidationError(name, f"segment {i}", exc.expected) from None
         stations = segment_stations(segs)
         idx = self.index
         violations: list[Violation] = []

@@ -61,7 +61,7 @@ def sweep_segment(fp: Footprint, index: ObstacleIndex, margin: float, tol: float
             solid = idx.geometries[j]
             c = sw.distance(solid)
             if c <= 0.0:
-                c = -overlap_depth(sw.union, solid)
+                c = -overlap_depth(sw.union_near(solid), solid)
             if c < best:
                 best, best_j = c, j
             if rule is not None and c > 0.0:
@@ -72,7 +72,7 @@ def sweep_segment(fp: Footprint, index: ObstacleIndex, margin: float, tol: float
     keep_out = []
     for k in zones.keep_out.touching(parts):
         zone = zones.keep_out.geometries[k]
-        c = -overlap_depth(sw.union, zone)
+        c = -overlap_depth(sw.union_near(zone), zone)
         keep_out.append(locate_hit(fp, zones.keep_out, 0.0, tol, seg, sw, k, min(c, 0.0)))
     doors = []
     if len(idx.doors):

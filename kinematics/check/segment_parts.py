@@ -55,6 +55,28 @@ class SweptParts:
             self._union = union_parts(self.parts)
         return self._union
 
+    def union_near(self, solid: BaseGeometry) -> BaseGeometry:
+        """The union of the parts whose bounding boxes come within ``reach`` of the solid's,
+        where ``reach`` is the solid's bounding-box diagonal plus twice the largest part's:
+        for :func:`~kinematics.check.contact.overlap_depth`, which then gives what it gives
+        on the whole union wherever the overlap lies less than ``reach`` deep in the union.
+        A part farther away cannot meet the solid, and a point of the solid lying ``r``
+        inside the union lies as deep in the near union while ``r <= reach`` (the dropped
+        parts are all more than ``reach`` from it). Unioning only these keeps a long
+        segment's collision as cheap as a short one's (a 10 km line swept as thousands of
+        parts cost over 15 s to union whole)."""
+        if self._union is not None or len(self.parts) <= 64:
+            return self.union
+        b = shapely.bounds(self.parts)
+        sx0, sy0, sx1, sy1 = solid.bounds
+        size = np.hypot(b[:, 2] - b[:, 0], b[:, 3] - b[:, 1])
+        reach = math.hypot(sx1 - sx0, sy1 - sy0) + 2.0 * float(size.max())
+        near = ((b[:, 0] <= sx1 + reach) & (b[:, 2] >= sx0 - reach)
+                & (b[:, 1] <= sy1 + reach) & (b[:, 3] >= sy0 - reach))
+        if near.all():
+            return self.union
+        return union_parts(self.parts[near])
+
     def distance(self, solid: BaseGeometry) -> float:
         """Least distance from any part to ``solid`` (0 where one touches or overlaps it)."""
         return float(np.min(shapely.distance(self.parts, solid)))

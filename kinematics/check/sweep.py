@@ -46,6 +46,23 @@ sweeping its edges, and no decomposition is needed.
   tolerance (``r_far |phi|``), the line is swept as a translation of the start placement grown
   by ``r_far |phi|``: the circular stand-in's centre would lie so far away that rounding in
   its coordinates exceeds the tolerance.
+  Those rotation chunks number about ``sqrt(L phi / (2 tol))``: they grow with the line's
+  length. A long line is instead cut into chunks turning by at most ``2 dev / r_far`` (``dev``
+  = 0.32 of the tolerance), however long: over a chunk the body's heading stays within
+  ``ph / 2`` of the chunk's middle heading, so every footprint point stays within
+  ``r_far ph / 2 <= dev`` of where the footprint at the middle heading puts it, and the chunk
+  is swept as the exact translation of that footprint grown by ``dev`` (a mitred offset,
+  limit 2: it contains the round offset and lies within ``2 dev`` of the outline). It
+  contains the true region and exceeds it by at most ``dev + 2 dev`` = 0.96 of the
+  tolerance. Each turning line takes whichever way makes fewer vertices.
+
+Every segment's work is estimated from these chunk counts before anything is swept
+(:func:`sweep_cost`); one beyond :data:`SWEEP_WORK_BUDGET` is refused as bad input
+(:class:`SweepBudgetError`, which the route check names by route and segment).
+
+Size: the module runs past 600 lines on purpose: every segment kind's sweep shares the footprint
+preparation, the rotation pieces and the chunk counts that the work estimate reads, so split
+by kind the parts would import each other's internals.
 """
 
 from __future__ import annotations
@@ -61,6 +78,7 @@ from numpy.typing import ArrayLike, NDArray
 from shapely.geometry import Polygon
 from shapely.geometry.base import BaseGeometry
 
+from kinematics.errors import ValidationError
 from kinematics.files.curves import CURVE_EXCESS_M
 from kinematics.motion.segments import Segment
 
@@ -98,6 +116,18 @@ _QUAD_SEGS = 4
 #: A holonomic line whose farthest vertex turns by at most this share of the tolerance is
 #: swept as a translation grown by that turn.
 _TINY_TURN_SHARE = 0.25
+#: Share of the tolerance a turning holonomic line swept as grown translations grows the
+#: footprint by (spent three times: the growth, the body's own turn within a chunk, and the
+#: mitred corners' excess, at most one more growth at a mitre limit of 2).
+_GROWN_SHARE = 0.32
+#: Most work one segment's sweep may take, in polygon vertices made (plus
+#: :data:`_CHUNK_WORK` per chunk made one at a time in Python): about 2 s on one core of a
+#: 2020s laptop. :func:`sweep_cost` estimates it before any sweeping; a segment beyond it is
+#: refused (:class:`SweepBudgetError`). The demo's routes take under 2 000 per segment.
+SWEEP_WORK_BUDGET = 1_500_000
+#: Work counted per chunk swept by its own Python call (measured: one rotation chunk costs
+#: about as much as 100 vertices made in one vectorised call).
+_CHUNK_WORK = 100
 
 @dataclass(frozen=True, eq=False)
 class Footprint:
@@ -365,15 +395,161 @@ def union_parts(geoms: NDArray[np.object_]) -> BaseGeometry:
 
 
 def _holonomic_chunks(seg: Segment, tol: float) -> tuple[int, float]:
-    """Chunks for a turning holonomic line and the translation bound of each chunk."""
+    """Chunks for a turning holonomic line swept as rotations (module docstring), and the
+    translation bound of each chunk: the fewest chunks ``m`` with
+    ``dev = l ph^2 / (16 sin(ph / 2)) <= tol / 4`` for chunks of length ``l = L / m`` and turn
+    ``ph = phi / m`` (about ``sqrt(L phi / (2 tol))``; :func:`sweep_cost` bounds it first)."""
     ell, phi = seg.length_m, abs(seg.turn_rad)
     m = max(1, math.ceil(phi / MAX_CHUNK_RAD - 1e-12))
     while True:
         le, ph = ell / m, phi / m
         dev = 0.0 if ph == 0.0 else le * ph * ph / (16.0 * math.sin(ph / 2.0))
-        if dev <= 0.25 * tol or m > 100000:
+        if dev <= 0.25 * tol:
             return m, dev
         m = max(m + 1, math.ceil(m * math.sqrt(dev / (0.25 * tol))))
+
+
+def _turning_translation_chunks(seg: Segment, r_far: float, tol: float) -> int:
+    """Chunks for a turning holonomic line swept as translations of the footprint grown by
+    ``dev = _GROWN_SHARE * tol`` (module docstring): each chunk turns by at most
+    ``2 dev / r_far``."""
+    return max(1, math.ceil(abs(seg.turn_rad) * r_far / (2.0 * _GROWN_SHARE * tol) - 1e-12))
+
+
+class SweepBudgetError(ValidationError):
+    """A segment whose sweep would take more than :data:`SWEEP_WORK_BUDGET`: bad input
+    (a line of kilometres turning the body, a tolerance far below the default), refused
+    before any sweeping. ``work`` is the estimate; the route checker names route and segment
+    (``file`` and ``place`` are left empty here)."""
+
+    def __init__(self, seg: Segment, work: float, tolerance_m: float) -> None:
+        self.work = float(work)
+        super().__init__("", "", _budget_text(seg, work))
+
+    @property
+    def message(self) -> str:
+        """As :attr:`SwatheInputError.message`; just the reason while no file is named."""
+        return super().message if self.file or self.place else self.expected
+
+
+def _budget_text(seg: Segment, work: float) -> str:
+    turn = f" whose body turns {math.degrees(abs(seg.turn_rad)):.4g} deg" \
+        if seg.kind == "line" and seg.turn_rad else ""
+    what = {"line": f"this {seg.length_m:.6g} m line{turn}",
+            "arc": f"this {seg.length_m:.6g} m arc",
+            "clothoid": f"this {seg.length_m:.6g} m clothoid",
+            "pivot": f"this {math.degrees(abs(seg.turn_rad)):.4g} deg pivot"}.get(seg.kind,
+                                                                                "this segment")
+    return (f"sweeping {what} would make about {work:.2g} polygon vertices (at most "
+            f"{SWEEP_WORK_BUDGET:.2g} per segment); split it with waypoints or raise the "
+            f"tolerance")
+
+
+def _rotation_work(n_ring: int, r_max: float, phi: float, tol: float) -> float:
+    """Vertices :func:`rotation_parts` makes for a ring of ``n_ring`` vertices."""
+    m = max(1, math.ceil(abs(phi) / MAX_CHUNK_RAD - 1e-12))
+    n = arc_steps(r_max, phi / m, tol)
+    return (m + 1) * n_ring + m * 2 * n_ring * (2 * n + 3)
+
+
+def _holonomic_method(fp: Footprint, seg: Segment, tol: float) -> tuple[str, float]:
+    """How a turning holonomic line is swept (``"rotations"`` or ``"translations"``,
+    whichever makes less work; module docstring) and that work."""
+    n_ring = len(fp.ring)
+    m_r, dev = _holonomic_chunks(seg, tol)
+    ph = abs(seg.turn_rad) / m_r
+    rho = (seg.length_m / m_r) / (2.0 * math.sin(ph / 2.0))
+    rot_tol = tol - dev - dev / math.cos(math.pi / (4 * _QUAD_SEGS))
+    # Each chunk one rotation call; the buffer of every part roughly triples its vertices.
+    rot = m_r * (_CHUNK_WORK + 3.0 * _rotation_work(n_ring, rho + fp.r_far_m, ph, rot_tol))
+    m_t = _turning_translation_chunks(seg, fp.r_far_m, tol)
+    g = len(_grown(fp.key, _GROWN_SHARE * tol).ring)
+    # Convex: one ring of 2 g vertices per chunk; else both placements and the leading quads.
+    per = 2 * g + 1 if fp.convex else 2 * (g + 1) + 5 * g
+    trans = _CHUNK_WORK + m_t * float(per)
+    return ("rotations", rot) if rot < trans else ("translations", trans)
+
+
+def sweep_cost(footprint: FootprintLike, seg: Segment,
+               tolerance_m: float = DEFAULT_TOLERANCE_M) -> float:
+    """Estimated work of :func:`swept_parts` for ``seg``, in polygon vertices made (plus
+    :data:`_CHUNK_WORK` per chunk swept by its own call), computed from the chunk counts
+    alone, before any sweeping: compare with :data:`SWEEP_WORK_BUDGET`."""
+    fp = prepare_footprint(footprint)
+    n_ring, r_far = len(fp.ring), fp.r_far_m
+    tol = _ARC_SHARE * float(tolerance_m)
+    if seg.kind == "clothoid":
+        m, _dev = clothoid_chunks(seg, r_far, tol)
+        kmax = float(seg.max_abs_curvature)
+        m = max(m, math.ceil(seg.length_m * kmax / MAX_CHUNK_RAD - 1e-12))
+        if kmax <= 0.0:
+            return m * 6.0 * n_ring
+        le = seg.length_m / m
+        n = arc_steps(1.0 / kmax + r_far, le * kmax, tol)
+        return m * (2.0 * n_ring + 2 * n_ring * (2 * n + 3))
+    if seg.kind == "pivot" or (seg.kind == "arc" and seg.curvature != 0.0):
+        r_c = 0.0 if seg.kind == "pivot" else abs(1.0 / seg.curvature)
+        return _CHUNK_WORK + _rotation_work(n_ring, r_c + r_far, seg.turn_rad, tol)
+    turn = abs(seg.turn_rad) * r_far
+    if seg.kind == "line" and turn > _TINY_TURN_SHARE * tol and seg.length_m > 1e-12:
+        return _holonomic_method(fp, seg, tol)[1]
+    if seg.kind == "line" and turn > 1e-12 and seg.length_m <= 1e-12:
+        return _CHUNK_WORK + _rotation_work(n_ring, r_far, seg.turn_rad, tol)
+    return _CHUNK_WORK + 6.0 * n_ring
+
+
+def _check_budget(fp: Footprint, seg: Segment, tolerance_m: float) -> None:
+    work = sweep_cost(fp, seg, tolerance_m)
+    if not work <= SWEEP_WORK_BUDGET:
+        raise SweepBudgetError(seg, work, tolerance_m)
+
+
+@functools.lru_cache(maxsize=64)
+def _grown(fp_key: tuple, dev: float) -> Footprint:
+    """The footprint grown by ``dev`` with mitred corners (limit 2: no point more than
+    ``2 dev`` from the outline, and the round offset inside)."""
+    ring = np.array(fp_key, dtype=float)
+    return prepare_footprint(shapely.buffer(Polygon(ring), dev, join_style="mitre",
+                                            mitre_limit=2.0))
+
+
+def _grown_translation_parts(fp: Footprint, seg: Segment, tol: float) -> NDArray[np.object_]:
+    """A turning holonomic line swept chunk by chunk as translations of the footprint grown
+    by ``dev``, each at the chunk's middle heading (module docstring): ``m`` does not grow
+    with the line's length, only with its turn times the farthest vertex radius."""
+    dev = _GROWN_SHARE * tol
+    g = _grown(fp.key, dev)
+    m = _turning_translation_chunks(seg, fp.r_far_m, tol)
+    f = np.linspace(0.0, 1.0, m + 1)
+    poses = seg.poses_at_fraction(f)
+    mid = seg.poses_at_fraction(0.5 * (f[:-1] + f[1:]))[:, 2]
+    a = poses[:-1].copy()
+    b = poses[1:].copy()
+    a[:, 2] = mid
+    b[:, 2] = mid
+    pa, pb = _place(g.ring, a), _place(g.ring, b)
+    v = (b[:, :2] - a[:, :2])[:, None, :]                        # (m, 1, 2)
+    d = np.roll(pa, -1, axis=1) - pa                              # (m, N, 2)
+    cross = d[..., 0] * v[..., 1] - d[..., 1] * v[..., 0]         # < 0: a leading edge
+    if g.convex:
+        # The Minkowski sum of a convex ring and the segment [0, v], drawn directly: every
+        # vertex twice, moved by v after (slot 1) or before (slot 0) a leading edge (outward
+        # normal (dy, -dx) along v), so the leading chain is the end placement's and the
+        # trailing chain the start's, joined by the two edges along v (repeated points where
+        # a vertex is not a joint). The same region as the convex hull of both placements.
+        lead = cross < 0.0
+        out = np.empty((len(pa), 2 * pa.shape[1], 2))
+        out[:, 0::2] = pa + np.roll(lead, 1, axis=1)[..., None] * v
+        out[:, 1::2] = pa + lead[..., None] * v
+        return np.asarray(shapely.polygons(out), dtype=object)
+    # Leading edges only, as translation_parts: the placements and their parallelograms
+    # are exactly the region a translation sweeps.
+    keep = cross < -1e-12 * max(1.0, float(np.abs(pa).max()))
+    a_e, b_e = pa[keep], np.roll(pa, -1, axis=1)[keep]
+    vv = np.broadcast_to(v, pa.shape)[keep]
+    quads = np.stack([a_e, b_e, b_e + vv, a_e + vv], axis=1)
+    return np.concatenate([shapely.polygons(pa), shapely.polygons(pb),
+                           shapely.polygons(quads) if len(quads) else []]).astype(object)
 
 
 def _rigid_centre(a: Sequence[float], b: Sequence[float]) -> NDArray[np.float64]:
@@ -391,7 +567,7 @@ def clothoid_chunks(seg: Segment, r_far: float, tol: float) -> tuple[int, float]
     m = 1
     while True:
         dev = clothoid_deviation(seg, r_far, ell / m)
-        if dev <= _CLOTHOID_SHARE * tol or m > 100000:
+        if dev <= _CLOTHOID_SHARE * tol:
             return m, dev
         m = max(m + 1, math.ceil(m * math.sqrt(dev / (_CLOTHOID_SHARE * tol))))
 
@@ -574,6 +750,7 @@ def clear_caches() -> None:
     """Forget the kept clothoid parts (benchmarks measuring a cold check call this)."""
     _local_clothoid_parts.cache_clear()
     _local_clothoid_swept.cache_clear()
+    _grown.cache_clear()
 
 
 def segment_parts(footprint: FootprintLike, seg: Segment,
@@ -585,6 +762,7 @@ def segment_parts(footprint: FootprintLike, seg: Segment,
     for holonomic lines that turn the body).
     """
     fp = prepare_footprint(footprint)
+    _check_budget(fp, seg, tolerance_m)
     ring, convex, r_far = fp.ring, fp.convex, fp.r_far_m
     tol = _ARC_SHARE * float(tolerance_m)
     placed0 = _place_one(ring, seg.start)
@@ -612,6 +790,8 @@ def segment_parts(footprint: FootprintLike, seg: Segment,
         if seg.length_m <= 1e-12:
             parts = rotation_parts(placed0, seg.start[:2], seg.turn_rad, tol)
             return _polys(parts, False), 0.0
+        if _holonomic_method(fp, seg, tol)[0] == "translations":
+            return _grown_translation_parts(fp, seg, tol), 0.0
         m, dev = _holonomic_chunks(seg, tol)
         poses = seg.poses_at_fraction(np.linspace(0.0, 1.0, m + 1))
         placed = _place(ring, poses)
@@ -638,6 +818,7 @@ def swept_parts(footprint: FootprintLike, seg: Segment,
         raise ValueError("tolerance_m must be > 0")
     if seg.kind == "clothoid":
         fp = prepare_footprint(footprint)
+        _check_budget(fp, seg, tolerance_m)
         local = _local_clothoid_swept(fp.key, float(seg.kappa0), float(seg.kappa1),
                                       float(seg.length_m), int(seg.direction),
                                       _ARC_SHARE * float(tolerance_m))

@@ -21,9 +21,19 @@ from that stand-in:
 
 So each trailer's band CONTAINS its true swept region and exceeds it by at most the tolerance,
 the promise the single body makes; the train's band is the union of its bodies' bands, and its
-clearance is the least over its bodies (each against its own margin). Violations of a train
-name their ``body`` ("tug (ward tug)", "trailer 2 (meal cart)"); a hitch angle beyond a
-trailer's ``max_hitch_deg`` is a ``jackknife``.
+clearance is the least over its bodies (each against its own margin).
+
+The band is swept only when drawn or asked for (traffic, views). The check itself measures
+each trailer's clearances without polygons, from certified intervals of its motion
+(:mod:`kinematics.check.train_bounds`): lower bounds within half the sweep allowance of the
+truth and never above it, the same promise, at a fraction of the sweep's cost. Violations of
+a train name their ``body`` ("tug (ward tug)", "trailer 2 (meal cart)"); a hitch angle beyond
+a trailer's ``max_hitch_deg`` is a ``jackknife``.
+
+Size: the train check is one argument (a trailer's band in chunks of its motion, each a rigid
+stand-in grown by the stray, and the violations, doors and jackknifes read from the check's
+intervals as the same chunk records); the band and the results share those records, so they
+are kept together.
 """
 
 from __future__ import annotations
@@ -56,9 +66,9 @@ from kinematics.check.sweep import (
     sweep_allowance,
     translation_parts,
 )
-from kinematics.motion.arrays import unique_sorted
+from kinematics.check.train_bounds import Hit, TrailerBounds, chain_bounds, trailer_poses
 from kinematics.motion.segments import Segment, segment_stations
-from kinematics.motion.trailers import Hitch, TrainTrace, TugMotion, hitch_angles, trace_train
+from kinematics.motion.trailers import TrainTrace, hitch_angles, trace_train
 
 #: Shares of the tolerance: the stray of a chunk (measured plus between-sample slack), and
 #: of that the between-sample slack alone.
@@ -82,31 +92,7 @@ def body_name(i: int, chassis: Any) -> str:
     return f"trailer {i} ({chassis.trailers[i - 1].name})"
 
 
-def _bounds(m: TugMotion, hitches: Sequence[Hitch], r_far: Sequence[float]
-            ) -> list[tuple[float, float, float, float]]:
-    """Per trailer on one segment, per unit progress: speed bound of its axle ``V``, turn
-    rate ``W``, and ``M``, a bound of any footprint point's path's second derivative, true or
-    stand-in (see the module text)."""
-    V = m.speed_bound()
-    W = m.turn_bound()
-    Wd = abs(m.wd)
-    A = W * V if m.fixed is None else 0.0  # |d/dp velocity| of the tug's reference point
-    out = []
-    first = True
-    for hz, r in zip(hitches, r_far):
-        h = abs(hz.hitch_x_m)
-        # A trailer's velocity is along its heading, its turn moves the hitch across it:
-        # the two add at right angles (so does a non-holonomic tug's).
-        P = V + h * W if first and m.fixed is not None else math.hypot(V, h * W)
-        first = False
-        Pd = A + h * (Wd + W * W)
-        Wi = P / hz.drawbar_m
-        Wid = (Pd + P * Wi) / hz.drawbar_m
-        Ai = Pd + 2.0 * P * Wi
-        M = Ai + r * (Wid + Wi * Wi) + 1.12 * Wi * (P + r * Wi)
-        out.append((P, Wi, M, Ai, Wid))
-        V, W, Wd, A = P, Wi, Wid, Ai
-    return out
+_bounds = chain_bounds
 
 
 @dataclass
@@ -295,69 +281,39 @@ def sweep_trailer(trace: TrainTrace, j: int, footprint: Any,
 
 
 class _TrailerSweep:
-    """One trailer's sweep in windows of about :data:`WINDOW_M` of travel, each swept only
-    when asked for: the check sweeps the windows that could come within the margin of a
-    solid or reach a door, then, nearest first, those that could hold the least clearance
-    (by a lower bound: the distance of the axle's sampled path to the solids less the
-    footprint's farthest radius, the path's stray from its chords and the tolerance, since
-    every footprint point lies within that radius of the axle). The rest are swept when the
-    band is drawn or its union asked for."""
+    """One trailer's band in windows of about :data:`WINDOW_M` of travel, each swept only
+    when asked for (drawing the band, its union, traffic): the check itself measures the
+    trailer's clearances without polygons (:mod:`kinematics.check.train_bounds`)."""
 
     def __init__(self, trace: TrainTrace, j: int, fp: Footprint, tol: float) -> None:
         self.fp, self.tol = fp, tol
-        self.grids = _grids(trace, j, fp, tol)
-        self.windows: list[tuple[int, int, int]] = []  # (grid, k0, k1)
-        for gi, g in enumerate(self.grids):
-            if g.still:
-                self.windows.append((gi, 0, g.n))
-                continue
-            travel = float(np.hypot(*np.diff(g.poses[:, :2], axis=0).T).max()) \
-                if g.n else 0.0
-            w = max(4, int(WINDOW_M / travel)) if travel > 0.0 else g.n
-            for k0 in range(0, g.n, w):
-                self.windows.append((gi, k0, min(g.n, k0 + w)))
+        self._trace, self._j = trace, j
+        self._grids: list[_Grid] | None = None
+        self._windows: list[tuple[int, int, int]] | None = None
         self.swept: dict[int, list[Chunk]] = {}
 
-    def lower_bounds(self, index: ObstacleIndex, reach_m: float
-                     ) -> tuple[np.ndarray, np.ndarray]:
-        """Per window a lower bound of its parts' distance to the solids (solids farther than
-        ``reach_m`` from every probe are not measured: the bound is then ``reach_m`` less the
-        probes' slack), and whether its parts may reach a door's box.
+    @property
+    def grids(self) -> list[_Grid]:
+        """Fine samples per segment (built on first use: the check itself needs none)."""
+        if self._grids is None:
+            self._grids = _grids(self._trace, self._j, self.fp, self.tol)
+        return self._grids
 
-        The footprint is placed at samples of the window at most :data:`PROBE_SLACK_M` x 2
-        of travel of any footprint point apart (the speed bound times the progress between
-        them); every point of the true swept region then lies within half that travel of a
-        placement, and the parts exceed the true region by at most the tolerance."""
-        polys, owner, slack = [], [], []
-        for w, (gi, k0, k1) in enumerate(self.windows):
-            g = self.grids[gi]
-            if g.still or k1 <= k0:
-                ks = np.array([k0])
-                half = 0.0
-            else:
-                dp = float(g.p[1] - g.p[0])
-                stride = max(1, int(2.0 * PROBE_SLACK_M / (g.speed * dp))) if g.speed > 0 \
-                    else k1 - k0
-                ks = np.unique(np.append(np.arange(k0, k1, stride), k1))
-                half = 0.5 * g.speed * dp * float(np.diff(ks).max())
-            polys.append(placed_footprints(self.fp, g.poses[ks]))
-            owner.append(np.full(len(ks), w))
-            slack.append(np.full(len(ks), half + self.tol))
-        geoms = np.concatenate(polys)
-        who = np.concatenate(owner)
-        reach = np.concatenate(slack)
-        lower = np.full(len(self.windows), math.inf)
-        if len(index):
-            np.minimum.at(lower, who, reach_m - reach)
-            pi, sj = index.tree.query(geoms, predicate="dwithin", distance=reach_m)
-            if len(pi):
-                dd = shapely.distance(geoms[pi], index.geometries[sj])
-                np.minimum.at(lower, who[pi], dd - reach[pi])
-        door = np.zeros(len(self.windows), dtype=bool)
-        if len(index.doors):
-            near = index.door_tree.query(geoms, predicate="dwithin", distance=reach)[0]
-            door[who[near]] = True
-        return lower, door
+    @property
+    def windows(self) -> list[tuple[int, int, int]]:
+        """The sweep windows: (grid, first sample, last sample)."""
+        if self._windows is None:
+            self._windows = []
+            for gi, g in enumerate(self.grids):
+                if g.still:
+                    self._windows.append((gi, 0, g.n))
+                    continue
+                travel = float(np.hypot(*np.diff(g.poses[:, :2], axis=0).T).max()) \
+                    if g.n else 0.0
+                w = max(4, int(WINDOW_M / travel)) if travel > 0.0 else g.n
+                for k0 in range(0, g.n, w):
+                    self._windows.append((gi, k0, min(g.n, k0 + w)))
+        return self._windows
 
     def ensure(self, ws: Any) -> None:
         for w in ws:
@@ -391,92 +347,6 @@ class _TrailerSweep:
         return [ck.parts for w in ws for ck in self.swept[w]]
 
 
-def _checked_chunks(sw: _TrailerSweep, index: ObstacleIndex, margin: float
-                    ) -> tuple[list[Chunk], list, float, int | None, int | None]:
-    """Sweep what the check needs (see :class:`_TrailerSweep`) and find the hits and the
-    least clearance among the swept chunks."""
-    if not sw.windows:
-        return [], [], math.inf, None, None
-    reach_m = max(4.0 * margin, 0.5)
-    lower, door = sw.lower_bounds(index, reach_m)
-    need = (lower < margin) | door
-    sw.ensure(np.nonzero(need)[0].tolist())
-    while True:
-        chunks = sw.swept_chunks()
-        if not chunks:
-            if not np.isfinite(lower).any():
-                return [], [], math.inf, None, None
-            sw.ensure([int(np.argmin(lower))])
-            continue
-        hits, best, bk, bj = _trailer_hits(chunks, index, margin)
-        more = [w for w in np.nonzero(lower < best)[0].tolist() if w not in sw.swept]
-        if not more:
-            return chunks, hits, best, bk, bj
-        if best > reach_m and reach_m < 1e6:
-            # Bounds capped short of the best found: measure farther before sweeping.
-            reach_m = min(4.0 * max(reach_m, best), 1e6)
-            lower = np.maximum(lower, sw.lower_bounds(index, reach_m)[0])
-            continue
-        sw.ensure(more)
-
-
-@dataclass
-class _BodyHit:
-    chunk: int
-    solid: int
-    clearance_m: float
-
-
-def _trailer_hits(chunks: Sequence[Chunk], index: ObstacleIndex, margin: float
-                  ) -> tuple[list[_BodyHit], float, int | None, int | None]:
-    """Hits within the margin per chunk, and the least clearance (chunk, solid) overall."""
-    if not len(index) or not chunks:
-        return [], math.inf, None, None
-    parts = np.concatenate([c.parts for c in chunks])
-    owner = np.concatenate([np.full(len(c.parts), k) for k, c in enumerate(chunks)])
-    pairs = (index.tree.query(parts, predicate="dwithin", distance=margin) if margin > 0.0
-             else index.tree.query(parts, predicate="intersects"))
-    hits: list[_BodyHit] = []
-    best, best_k, best_j = math.inf, None, None
-    seen: set[tuple[int, int]] = set()
-    for pi, j in zip(pairs[0].tolist(), pairs[1].tolist()):
-        key = (int(owner[pi]), j)
-        if key in seen:
-            continue
-        seen.add(key)
-        ck = chunks[key[0]]
-        solid = index.geometries[j]
-        c = float(np.min(shapely.distance(ck.parts, solid)))
-        if c <= 0.0:
-            c = -overlap_depth(SweptParts(ck.parts).union, solid)
-        if c < margin - MARGIN_SLACK_M:
-            hits.append(_BodyHit(key[0], j, c))
-        if c < best:
-            best, best_k, best_j = c, key[0], j
-    if best_k is None:
-        # Nothing within the margin: the nearest solid, measured chunk by chunk from the
-        # nearest bounding box out, until a box is farther than the best found.
-        b = shapely.bounds(parts)
-        boxes = []
-        for ck_i in range(len(chunks)):
-            m = owner == ck_i
-            boxes.append(shapely.box(b[m, 0].min(), b[m, 1].min(), b[m, 2].max(),
-                                     b[m, 3].max()))
-        ii, dd = index.tree.query_nearest(np.array(boxes, dtype=object), return_distance=True,
-                                          all_matches=False)
-        for w in np.argsort(dd, kind="stable").tolist():
-            if dd[w] >= best:
-                break
-            ck = chunks[int(ii[0][w])]
-            jj, dj = index.tree.query_nearest(ck.parts, return_distance=True,
-                                              all_matches=False)
-            q = int(np.argmin(dj))
-            if dj[q] < best:
-                best, best_k, best_j = float(dj[q]), int(ii[0][w]), int(jj[1][q])
-    hits.sort(key=lambda h: (h.chunk, h.solid))
-    return hits, best, best_k, best_j
-
-
 def _chunk_station(stations: np.ndarray, segs: Sequence[Segment], ck: Chunk) -> float:
     seg = segs[ck.segment]
     return float(stations[ck.segment]) + (ck.p0 if seg.kind != "pivot" else 0.0)
@@ -492,7 +362,7 @@ def _trailer_station(trace: TrainTrace, j: int, fp: Footprint, ck: Chunk,
         return st
     n = int(min(2000, max(8, math.ceil((ck.p1 - ck.p0) / 0.01))))
     ps = np.linspace(ck.p0, ck.p1, n + 1)
-    placed = placed_footprints(fp, trace.poses(ck.segment, ps)[:, j + 1])
+    placed = placed_footprints(fp, trailer_poses(trace, j, ck.segment, ps))
     w = int(np.argmin(shapely.distance(placed, shapely.Point(x, y))))
     return float(stations[ck.segment]) + float(ps[w])
 
@@ -523,7 +393,7 @@ def _first_station(trace: TrainTrace, tj: int, fp: Footprint, ck: Chunk, station
         return st
     n = int(min(4000, max(8, math.ceil((ck.p1 - ck.p0) / 0.01))))
     ps = np.linspace(ck.p0, ck.p1, n + 1)
-    placed = placed_footprints(fp, trace.poses(ck.segment, ps)[:, tj + 1])
+    placed = placed_footprints(fp, trailer_poses(trace, tj, ck.segment, ps))
     d = shapely.distance(placed, solid)
     bad = d <= 0.0 if collide else d < margin - MARGIN_SLACK_M
     if not bad.any():
@@ -532,81 +402,96 @@ def _first_station(trace: TrainTrace, tj: int, fp: Footprint, ck: Chunk, station
     return float(stations[ck.segment]) + float(ps[max(k - 1, 0)])
 
 
-def _stretch_violations(chunks: Sequence[Chunk], hits: Sequence[_BodyHit], segs, stations,
-                        index: ObstacleIndex, margin: float, fp: Footprint, body: str,
-                        trace: TrainTrace, tj: int) -> list[Violation]:
-    """One violation per run of consecutive chunks near the same solid (trailer ``tj``)."""
-    by_solid: dict[int, list[_BodyHit]] = {}
+def _interval_chunk(tb: TrailerBounds, k: int) -> Chunk:
+    """Interval ``k`` of a trailer's bounds as a :class:`Chunk` (its stand-in's pieces and
+    nine true poses), for the nearest-point, station and part-name helpers."""
+    seg = int(tb.seg[k])
+    p0, p1 = float(tb.pa[k]), float(tb.pb[k])
+    parts, _owner = tb.pieces(np.array([k]), solid_only=True)
+    poses = tb._poses(np.full(9, seg), np.linspace(p0, p1, 9))
+    return Chunk(seg, p0, p1, parts, poses, k)
+
+
+def _stretch_violations(tb: TrailerBounds, hits: Sequence[Hit], segs, stations,
+                        body: str) -> tuple[list[Violation], list[tuple[float, int, int]]]:
+    """One violation per run of consecutive intervals near the same solid; and each run's
+    worst clearance with its interval and solid (an overlap depth where it touches)."""
+    index, margin, fp, trace, tj = tb.index, tb.margin, tb.fp, tb.trace, tb.j
+    by_solid: dict[int, list[Hit]] = {}
     for h in hits:
         by_solid.setdefault(h.solid, []).append(h)
-    out = []
+    out, worsts = [], []
     for j, hs in by_solid.items():
-        runs: list[list[_BodyHit]] = []
+        runs: list[list[Hit]] = []
         for h in hs:
-            if runs and h.chunk == runs[-1][-1].chunk + 1 and (
-                    chunks[h.chunk].order < 0 or
-                    chunks[h.chunk].order == chunks[runs[-1][-1].chunk].order + 1):
+            if runs and h.k == runs[-1][-1].k + 1:
                 runs[-1].append(h)
             else:
                 runs.append([h])
         for run in runs:
             collide = [h for h in run if h.clearance_m <= 0.0]
             chosen = collide or run
-            h0 = chosen[0]
             worst = min(chosen, key=lambda h: h.clearance_m)
-            ck = chunks[h0.chunk]
+            c = worst.clearance_m
+            if collide:
+                depth = tb.depth([h.k for h in collide], j)
+                c = -depth if depth > 0.0 else c
+            ck = _interval_chunk(tb, chosen[0].k)
             solid = index.geometries[j]
             x, y = nearest_point(ck.parts, solid, bool(collide))
             st = _first_station(trace, tj, fp, ck, stations, segs, solid, margin,
                                 bool(collide))
             name = index.solids[j].name
-            part = _part_of(fp, chunks[worst.chunk].poses, solid)
+            part = _part_of(fp, _interval_chunk(tb, worst.k).poses, solid)
             if collide:
-                amount = -worst.clearance_m
+                amount = -c
                 msg = (f"{body}: {part} scrapes {name} by {amount * 1000:.0f} mm at station "
                        f"{st:.2f} m")
             else:
-                amount = margin - worst.clearance_m
-                msg = (f"{body}: {part} passes {name} with {worst.clearance_m * 1000:.0f} mm "
+                amount = margin - c
+                msg = (f"{body}: {part} passes {name} with {c * 1000:.0f} mm "
                        f"clearance, {amount * 1000:.0f} mm short of the {margin * 1000:.0f} "
                        f"mm margin, from station {st:.2f} m")
             out.append(Violation("collision" if collide else "clearance", ck.segment, st,
                                  x, y, float(amount), msg, name, body))
-    return out
+            worsts.append((float(c), worst.k, j))
+    return out, worsts
 
 
-def _trailer_doors(chunks: Sequence[Chunk], index: ObstacleIndex, stations, segs,
-                   trace: TrainTrace, j: int, fp: Footprint
-                   ) -> dict[int, tuple[float, int, float]]:
-    """Per door trailer ``j``'s band crosses: least clearance in the door's box, and the
-    segment and route station where the trailer comes that near (the tug's station then)."""
-    best: dict[int, tuple[float, Chunk, int]] = {}
-    if not len(index.doors):
-        return {}
-    for ck in chunks:
-        crossed = unique_sorted(index.door_tree.query(ck.parts, predicate="intersects")[1])
-        for k in crossed.tolist():
-            box = index.door_boxes[k]
+def _trailer_doors(tb: TrailerBounds, stations, segs) -> dict[int, tuple[float, int, float]]:
+    """Per door trailer ``tb.j``'s band crosses (its stand-ins, grown by their stray, reach
+    the door's line): least clearance in the door's box, and the segment and route station
+    where the trailer comes that near (the tug's station then)."""
+    out: dict[int, tuple[float, int, float]] = {}
+    index = tb.index
+    for q, (k, val, _up) in tb.door_values().items():
+        if 0.0 < float(val.min()) and float(val.min()) >= tb.door_caps[q]:
+            continue  # another body of the train is as near there: its pass stands
+        geoms, owner = tb.pieces(k, solid_only=True)
+        dl = tb.delta(k)
+        if not shapely.dwithin(geoms, index.door_lines[q], dl[owner] + 1e-12).any():
+            continue
+        w = int(np.argmin(val))
+        c = float(val[w])
+        kb = int(k[w])
+        box = index.door_boxes[q]
+        solids = index.within(box, 0.0)
+        ck = _interval_chunk(tb, kb)
+        st = _chunk_station(stations, segs, ck)
+        if len(solids) and math.isfinite(c):
+            if c <= 0.0:
+                region = tb.placements(k[val <= 0.0].tolist()).intersection(box)
+                depth = max(overlap_depth(region, index.geometries[jj]) for jj in solids.tolist())
+                c = -depth if depth > 0.0 else c
             local = shapely.intersection(ck.parts, box)
             local = local[~shapely.is_empty(local)]
-            c, cj = math.inf, -1
-            for jj in index.within(box, 0.0).tolist():
-                solid = index.geometries[jj]
-                d = float(np.min(shapely.distance(local, solid))) if len(local) else math.inf
-                d = d if d > 0.0 else -overlap_depth(SweptParts(local).union, solid)
-                if d < c:
-                    c, cj = d, jj
-            if k not in best or c < best[k][0]:
-                best[k] = (c, ck, cj)
-    out = {}
-    for k, (c, ck, cj) in best.items():
-        st = _chunk_station(stations, segs, ck)
-        if cj >= 0 and math.isfinite(c):
-            local = shapely.intersection(ck.parts, index.door_boxes[k])
-            local = local[~shapely.is_empty(local)]
-            x, y = nearest_point(local, index.geometries[cj], c <= 0.0)
-            st = _trailer_station(trace, j, fp, ck, stations, segs, x, y)
-        out[k] = (c, ck.segment, st)
+            if len(local):
+                dd = [float(np.min(shapely.distance(local, index.geometries[jj])))
+                      for jj in solids.tolist()]
+                cj = int(solids[int(np.argmin(dd))])
+                x, y = nearest_point(local, index.geometries[cj], c <= 0.0)
+                st = _trailer_station(tb.trace, tb.j, tb.fp, ck, stations, segs, x, y)
+        out[q] = (c, ck.segment, st)
     return out
 
 
@@ -618,8 +503,11 @@ def _jackknifes(trace: TrainTrace, chassis: Any, stations) -> tuple[list[Violati
         amount = trace.amount(i)
         n = max(2, min(4000, math.ceil(amount / 0.02) + 1)) if amount > 0.0 else 1
         p = np.linspace(0.0, amount, n)
-        poses = trace.poses(i, p)
-        ang = np.abs(hitch_angles(poses))
+        m = trace.traces[i].motion
+        heads = np.empty((n, trace.n + 1, 3))
+        heads[:, 0, 2] = m.th0 + (m.w + 0.5 * m.wd * p) * p
+        heads[:, 1:, 2] = trace.headings(i, p)
+        ang = np.abs(hitch_angles(heads))
         for j, t in enumerate(chassis.trailers):
             worst[j] = max(worst[j], float(ang[:, j].max()))
             over = ang[:, j] > math.radians(t.max_hitch_deg) + 1e-9
@@ -636,7 +524,7 @@ def _jackknifes(trace: TrainTrace, chassis: Any, stations) -> tuple[list[Violati
             how = "reversing" if seg.direction < 0 else (
                 "turning on the spot" if seg.kind == "pivot" else "driving")
             body = body_name(j + 1, chassis)
-            x, y = float(poses[k, j + 1, 0]), float(poses[k, j + 1, 1])
+            x, y = (float(v) for v in trace.poses(i, p[k:k + 1])[0, j + 1, :2])
             excess = math.radians(deg - t.max_hitch_deg)
             out.append(Violation(
                 "jackknife", i, st, x, y, float(t.drawbar_m * math.sin(min(excess, math.pi / 2))),
@@ -713,21 +601,26 @@ def check_train(plan_or_segments: Any, chassis: Any, index: ObstacleIndex,
             (t.margin_m if t.margin_m is not None else chassis.margin_m)
         sw = _TrailerSweep(trace, j, fp, sweep_allowance(tolerance_m))
         sweeps.append(sw)
-        chunks, hits, best, bk, bj = _checked_chunks(sw, index, margin)
         body = body_name(j + 1, chassis)
-        violations += _stretch_violations(chunks, hits, segs, stations, index, margin, fp,
-                                          body, trace, j)
-        c_min = None if bk is None else float(best)
+        caps = {k: p.min_clearance_m for k, p in doors.items()}
+        tb = TrailerBounds(trace, j, fp, index, margin, 0.5 * sweep_allowance(tolerance_m),
+                           caps)
+        vs, worsts = _stretch_violations(tb, tb.hits(), segs, stations, body)
+        violations += vs
+        least_j = tb.least()
+        if worsts and min(worsts)[0] <= 0.0:
+            least_j = min(worsts)
+        c_min = None if least_j is None else float(least_j[0])
         bodies.append({"body": body, "min_clearance_m": c_min, "margin_m": margin})
         if c_min is not None and (least is None or c_min < least):
             least = c_min
-            ck = chunks[bk]
+            _c, bk, bj = least_j
+            ck = _interval_chunk(tb, bk)
             x, y = nearest_point(ck.parts, index.geometries[bj], c_min <= 0.0)
             at = {"x": x, "y": y,
                   "station_m": _trailer_station(trace, j, fp, ck, stations, segs, x, y),
                   "segment": ck.segment, "solid": index.solids[bj].name, "body": body}
-        for k, (c, si, st) in _trailer_doors(chunks, index, stations, segs, trace, j,
-                                                  fp).items():
+        for k, (c, si, st) in _trailer_doors(tb, stations, segs).items():
             old = doors.get(k)
             cval = None if not math.isfinite(c) else float(c)
             if old is None:

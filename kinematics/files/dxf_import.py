@@ -45,6 +45,10 @@ What is read, from model space only:
 
 An unreadable, non-DXF or damaged file raises :class:`~kinematics.errors.FileReadError`
 naming the file and, where ezdxf reports one, the line.
+
+Size: one reader: ezdxf's document walk with INSERT transforms, each entity type's outward
+flattening, the layer roles and the messages that name the entity and line; the chord helpers
+shared with SVG are in kinematics/files/curves.py.
 """
 
 from __future__ import annotations

@@ -2,6 +2,10 @@
 
 Loading checks every value and names the file and key path of the first mistake; saving is
 atomic and keeps keys this version does not know, so a newer file survives a round trip.
+
+Size: the project model and its file format together: every dataclass (waypoint, stop, route,
+trailer, chassis, project) with its reader and writer, which must name the same keys; splitting
+the model from its I/O would put each key in two places.
 """
 
 from __future__ import annotations

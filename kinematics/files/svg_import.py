@@ -38,6 +38,10 @@ What is read:
   that of a group it sits in, is a named layer into a zone of that kind; open shapes there
   are skipped. A curved zone outline is grown outward by the tolerance as a solid's is,
   whatever its kind (a one-way zone too: its rule then holds over a slightly larger area).
+
+Size: one reader: the SVG path grammar, transforms, shape elements and the tree walk that names
+each element in its messages; the chord helpers it shares with DXF are in
+kinematics/files/curves.py.
 """
 
 from __future__ import annotations

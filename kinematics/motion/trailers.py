@@ -37,7 +37,7 @@ from numpy.typing import ArrayLike, NDArray
 from kinematics.motion.segments import Segment
 
 #: Local error tolerance of one integration step, radians.
-LOCAL_TOL_RAD = 1e-9
+LOCAL_TOL_RAD = 1e-8
 #: Longest step, as travel of the fastest hitch point, metres (keeps the Hermite
 #: interpolant between steps far more accurate than the sweep tolerance).
 MAX_STEP_TRAVEL_M = 0.3
@@ -134,14 +134,53 @@ def _rhs(m: TugMotion, hitches: Sequence[Hitch], p: float, th: Sequence[float]
 
 
 def _hitch_speed_bounds(m: TugMotion, hitches: Sequence[Hitch]) -> list[float]:
-    """Upper bounds of each hitch point's speed per unit progress on the segment."""
+    """Upper bounds of each hitch point's speed per unit progress on the segment.
+
+    A hitch moves with the body ahead: its reference point's velocity plus the body's turn
+    rate times the offset, across the body. For a trailer (and a tug driving along its
+    heading) the two are at right angles and add as ``hypot``; a holonomic tug's velocity
+    may point anywhere, so there they add as a plain sum. A trailer turns at most
+    ``|v_h| / d``."""
     v, w = m.speed_bound(), m.turn_bound()
     out = []
+    first = True
     for hz in hitches:
-        ph = v + w * abs(hz.hitch_x_m)
+        h = abs(hz.hitch_x_m)
+        ph = v + w * h if first and m.fixed is not None else math.hypot(v, w * h)
+        first = False
         out.append(ph)
         v, w = ph, ph / hz.drawbar_m
     return out
+
+
+def _rhs_of(m: TugMotion, hitches: Sequence[Hitch]):
+    """:func:`_rhs` for one segment's motion, with its constants bound once (the integrator
+    calls it seven times a step)."""
+    th0, w0, wd, fixed, direction = m.th0, m.w, m.wd, m.fixed, m.direction
+    geo = [(hz.hitch_x_m, 1.0 / hz.drawbar_m) for hz in hitches]
+    cos, sin = math.cos, math.sin
+
+    def f(p: float, th: Sequence[float]) -> list[float]:
+        t_prev = th0 + (w0 + 0.5 * wd * p) * p
+        cp, sp = cos(t_prev), sin(t_prev)
+        if fixed is None:
+            vx, vy = direction * cp, direction * sp
+        else:
+            vx, vy = fixed
+        w_prev = w0 + wd * p
+        out = []
+        for (h, inv_d), t in zip(geo, th):
+            hx = vx - w_prev * h * sp
+            hy = vy + w_prev * h * cp
+            c, s = cos(t), sin(t)
+            w = (hy * c - hx * s) * inv_d
+            along = hx * c + hy * s
+            vx, vy = along * c, along * s
+            out.append(w)
+            cp, sp, w_prev = c, s, w
+        return out
+
+    return f
 
 
 @dataclass
@@ -176,21 +215,37 @@ def integrate_segment(m: TugMotion, hitches: Sequence[Hitch], th_start: Sequence
     # pivots the hitch may push, and an error may grow by up to |v_h| / d per unit progress.
     pushing = m.fixed is not None or m.direction < 0
     growth = max(b / hz.drawbar_m for b, hz in zip(bounds, hitches)) if pushing else 0.0
-    p, h = 0.0, min(hmax, 0.05 * m.amount + 1e-3)
-    while p < m.amount:
-        h = min(h, m.amount - p)
-        k = [f]
-        for i in range(1, 7):
-            yi = [y[j] + h * sum(_A[i][q] * k[q][j] for q in range(i)) for j in range(n)]
-            k.append(_rhs(m, hitches, p + _C[i] * h, yi))
-        y5 = yi  # the 7th stage is evaluated at the 5th-order solution (FSAL)
-        err = max(abs(h * sum(_E[q] * k[q][j] for q in range(7))) for j in range(n))
-        if err <= tol or h <= 1e-9 * max(1.0, m.amount):
-            p = m.amount if m.amount - (p + h) <= 1e-12 * max(1.0, m.amount) else p + h
-            y, f = y5, k[6]
+    rhs = _rhs_of(m, hitches)
+    (a10,), (a20, a21), (a30, a31, a32), (a40, a41, a42, a43), \
+        (a50, a51, a52, a53, a54), (a60, _a61, a62, a63, a64, a65) = _A[1:]
+    e0, _e1, e2, e3, e4, e5, e6 = _E
+    c1, c2, c3, c4 = _C[1:5]
+    amount = m.amount
+    p, h = 0.0, min(hmax, 0.05 * amount + 1e-3)
+    while p < amount:
+        h = min(h, amount - p)
+        k0 = f
+        k1 = rhs(p + c1 * h, [yj + h * a10 * q0 for yj, q0 in zip(y, k0)])
+        k2 = rhs(p + c2 * h, [yj + h * (a20 * q0 + a21 * q1)
+                              for yj, q0, q1 in zip(y, k0, k1)])
+        k3 = rhs(p + c3 * h, [yj + h * (a30 * q0 + a31 * q1 + a32 * q2)
+                              for yj, q0, q1, q2 in zip(y, k0, k1, k2)])
+        k4 = rhs(p + c4 * h, [yj + h * (a40 * q0 + a41 * q1 + a42 * q2 + a43 * q3)
+                              for yj, q0, q1, q2, q3 in zip(y, k0, k1, k2, k3)])
+        k5 = rhs(p + h, [yj + h * (a50 * q0 + a51 * q1 + a52 * q2 + a53 * q3 + a54 * q4)
+                         for yj, q0, q1, q2, q3, q4 in zip(y, k0, k1, k2, k3, k4)])
+        # The 7th stage is evaluated at the 5th-order solution (FSAL; a61 = 0).
+        y5 = [yj + h * (a60 * q0 + a62 * q2 + a63 * q3 + a64 * q4 + a65 * q5)
+              for yj, q0, q2, q3, q4, q5 in zip(y, k0, k2, k3, k4, k5)]
+        k6 = rhs(p + h, y5)
+        err = max(abs(h * (e0 * q0 + e2 * q2 + e3 * q3 + e4 * q4 + e5 * q5 + e6 * q6))
+                  for q0, q2, q3, q4, q5, q6 in zip(k0, k2, k3, k4, k5, k6))
+        if err <= tol or h <= 1e-9 * max(1.0, amount):
+            p = amount if amount - (p + h) <= 1e-12 * max(1.0, amount) else p + h
+            y, f = y5, k6
             ps.append(p)
-            ths.append(list(y))
-            dths.append(list(f))
+            ths.append(y)
+            dths.append(f)
             err_sum = err_sum * math.exp(growth * h) + err
         fac = 0.9 * (tol / err) ** 0.2 if err > 0.0 else 5.0
         h = min(hmax, h * min(5.0, max(0.2, fac)))

@@ -95,6 +95,21 @@ class ClearanceGrid:
         i, j = self.cell_of(x, y)
         return float(self.edt[i, j]) + 2.0 * self.hd
 
+    def surely_near(self, x: NDArray[np.float64], y: NDArray[np.float64], dist: NDArray[np.float64]
+                    | float) -> bool:
+        """Some point (x, y) inside the grid lies nearer a solid than its ``dist``: its cell's
+        upper bound (``edt + 2 hd``) is below it. Points outside the grid are passed over
+        (the bound is not kept there), so ``False`` proves nothing."""
+        fi = (np.asarray(x) - self.x0) / self.cell_m
+        fj = (np.asarray(y) - self.y0) / self.cell_m
+        inside = (fi >= -0.5) & (fi <= self.nx - 0.5) & (fj >= -0.5) & (fj <= self.ny - 0.5)
+        if not inside.any():
+            return False
+        i = np.clip(np.rint(fi[inside]), 0, self.nx - 1).astype(np.int64)
+        j = np.clip(np.rint(fj[inside]), 0, self.ny - 1).astype(np.int64)
+        d = np.broadcast_to(np.asarray(dist, dtype=float), inside.shape)[inside]
+        return bool(np.any(self.edt[i, j] + 2.0 * self.hd < d))
+
     # -- the 2D distance ---------------------------------------------------------------------
     def _build_graph(self) -> None:
         ids = np.arange(self.nx * self.ny).reshape(self.nx, self.ny)

@@ -45,6 +45,10 @@ pieces between calls (its plans equal :func:`plan_route`'s) for a window replann
 Waypoint indices in issues (``waypoint``) and ``chosen_headings`` are 0-based indices into
 the route's waypoints as given; messages and notes, which people read beside the window and
 the rendered picture, count waypoints from 1 ("waypoint 3" is the third, index 2).
+
+Size: one planner with a rule per drive (pivoting, holonomic, steered, filleted with
+Dubins/Reeds-Shepp and CC transitions); the rules share the segment builder, the issues and the
+piece cache that keeps a drag cheap.
 """
 
 from __future__ import annotations

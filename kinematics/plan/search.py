@@ -26,12 +26,19 @@ set on a grid of cells and heading bins:
   where it can.
 - **Heuristic**: the larger of the obstacle-free Dubins / Reeds-Shepp length to the goal pose
   (:mod:`~kinematics.plan.dubins`, :mod:`~kinematics.plan.reeds_shepp`; Euclidean for drives
-  that pivot or move sideways, or where the goal heading is free) and the 2D grid distance
+  that pivot or move sideways, or where the goal heading is free; Dubins one pair at a time in
+  plain floats, :mod:`~kinematics.plan.dubins_one`) and the 2D grid distance
   around the solids, weighted by ``heuristic_weight`` (> 1 trades optimality for speed).
 - **Analytic expansion**: from popped nodes, every few expansions and at every one near the
   goal, the route's own connection to the goal (the planner's Dubins / Reeds-Shepp, pivot-line
   or holonomic line between two poses, :func:`kinematics.plan.planner.plan_route`) is swept;
-  if it is clear the search ends there. Goal poses are therefore reached exactly.
+  if it is clear the search ends there. Goal poses are therefore reached exactly. Two
+  shortcuts keep this cheap: the heuristic's shortest word from each node to the goal is
+  kept, and a connection with a pose the clearance grid proves blocked (a disc inside the
+  footprint nearer a solid than any margin, :meth:`RouteFinder._surely_blocked`) is passed
+  over before it is planned or swept; the heuristic's Reeds-Shepp words are also put into
+  the planner's :class:`~kinematics.plan.planner.PieceCache` (the plan is the same with or
+  without it), so a connection that is planned costs no second shortest-path evaluation.
 - **Smoothing into the route's own segment kinds**: the chain of node poses becomes waypoints
   with headings, keeping only as many as needed: from each kept pose the farthest later pose
   whose planner connection is clear (doubling then bisection). The route is then planned by
@@ -44,6 +51,10 @@ set on a grid of cells and heading bins:
 through the interior waypoints in order, with their headings where set) and
 :meth:`~RouteFinder.repair` (keep the legs that pass, re-search only the failing ones). The time
 limit is checked every few expansions and always honoured; a node budget is checked too.
+
+Size: one search (Hybrid A*): the motion primitives, the node expansion, the analytic
+Dubins/Reeds-Shepp shots and the repair of a sketched route share the settings, the closed set
+and the check; the grid heuristics are in kinematics/plan/heuristics.py.
 """
 
 from __future__ import annotations
@@ -70,12 +81,13 @@ from kinematics.check.sweep import (
 from kinematics.check.train import check_train
 from kinematics.check.zones import wrong_way
 from kinematics.errors import ValidationError
-from kinematics.files.project import Chassis, Project, Route, Stop, Waypoint
+from kinematics.files.project import Chassis, Project, Route, Stop, Waypoint, route_transitions
 from kinematics.motion.segments import Segment, arc, holonomic_line, line, pivot, poses_along
 from kinematics.motion.trailers import hitch_angles, trace_train
 from kinematics.plan import dubins, reeds_shepp
+from kinematics.plan.dubins_one import shortest_one
 from kinematics.plan.heuristics import ClearanceGrid
-from kinematics.plan.planner import RoutePlan, _drive_limits, plan_route
+from kinematics.plan.planner import PieceCache, RoutePlan, _drive_limits, plan_route
 
 #: Extra clearance (m) the search keeps above the margin, so rounding never flips a verdict.
 SAFETY_M = 1e-3
@@ -276,6 +288,9 @@ class RouteFinder:
         ref = Point(0.0, 0.0)
         self.r_in = (float(self.fp.polygon.exterior.distance(ref))
                      if self.fp.polygon.contains(ref) else 0.0)
+        # Discs inside the footprint (body-frame centre, radius) for the clearance grid's quick
+        # proof that a pose collides (see :meth:`_surely_blocked`).
+        self._discs = _footprint_discs(self.fp.polygon)
         width = float(ring[:, 1].max() - ring[:, 1].min())
         length = float(ring[:, 0].max() - ring[:, 0].min())
         self.step = float(self.settings.step_m or min(0.5, max(0.08, 0.35 * min(width, length))))
@@ -308,7 +323,15 @@ class RouteFinder:
             x += f.r_far_m
         self._train_reach = reach
         self._prims: dict[tuple, list[Primitive]] = {}
+        # The planner's pieces kept between connections (the plan is the same with or without
+        # it); the heuristic's batched Dubins / Reeds-Shepp words to the goal are put in it, so
+        # an analytic expansion from a node costs no second shortest-path evaluation.
+        self._cache = PieceCache(50_000)
         self._grid: ClearanceGrid | None = None
+        self._leg_radius = 0.0
+        self._sample_m = 0.1
+        self._quick: dict[Pose, tuple] = {}
+        self._quick_goal: Pose | None = None
         self._grid_bounds: tuple | None = None
 
     # -- geometry helpers --------------------------------------------------------------------
@@ -466,7 +489,7 @@ class RouteFinder:
         hb = None if b[2] is None else math.degrees(float(b[2]))
         wb = Waypoint(float(b[0]), float(b[1]), hb)
         sub = replace(route, waypoints=(wa, wb), stops=())
-        pl = plan_route(sub, self.chassis)
+        pl = plan_route(sub, self.chassis, cache=self._cache)
         if any(i.kind in ("infeasible", "turn_radius") for i in pl.issues):
             return None
         return list(pl.segments)
@@ -532,6 +555,8 @@ class RouteFinder:
         mode, radius = drive_mode(self.chassis, route)
         prims = self._prims_for(mode, radius, route.reverse)
         grid = self.grid(route)
+        self._leg_radius = float(radius)
+        self._sample_m = grid.cell_m
         gx, gy, gh = goal
         h2d = grid.distance_to(gx, gy)
         cell = grid.cell_m
@@ -546,6 +571,20 @@ class RouteFinder:
         assert area is not None
         use_rs = mode == "steer" and gh is not None
         near_goal = max(2.0 * radius, 4.0 * self.step, 1.0)
+        mod = reeds_shepp if route.reverse else dubins
+        letters = reeds_shepp.LETTERS if route.reverse else dubins.WORDS
+        # The heuristic's shortest paths to the goal are the planner's own connections from
+        # those poses (plain words; clothoid transitions connect otherwise): kept in the
+        # planner's cache under the planner's key, with the poses as the planner reads them
+        # from waypoints (headings through degrees), for the analytic expansions to reuse.
+        seed = use_rs and route_transitions(route, self.chassis) != "clothoid"
+        g_pose = (float(gx), float(gy),
+                  math.radians(math.degrees(gh)) if gh is not None else 0.0)
+        rad = float(radius)
+        # Each pose's shortest word to the goal (the heuristic's), for _word_blocked.
+        quick: dict[Pose, tuple] = {}
+        self._quick = quick
+        self._quick_goal = g_pose
 
         def heuristic(poses: NDArray[np.float64]) -> NDArray[np.float64]:
             i, j = grid.cell_of(poses[:, 0], poses[:, 1])
@@ -553,9 +592,24 @@ class RouteFinder:
             eu = np.hypot(poses[:, 0] - gx, poses[:, 1] - gy)
             h = np.maximum(d2, eu)
             if use_rs:
-                goals = np.tile([gx, gy, gh], (poses.shape[0], 1))
-                mod = reeds_shepp if route.reverse else dubins
-                h = np.maximum(h, mod.shortest(poses, goals, radius).length_m)
+                keys = [(float(x), float(y), math.radians(math.degrees(float(a))))
+                        for x, y, a in poses]
+                if route.reverse:
+                    batch = mod.shortest(np.array(keys), np.tile(g_pose, (len(keys), 1)),
+                                         radius)
+                    h = np.maximum(h, batch.length_m)
+                    for k, w, par in zip(keys, batch.word, batch.params):
+                        val = (letters[w], tuple(float(v) for v in par))
+                        quick[k] = val
+                        if seed:
+                            self._cache.put(("word", k, g_pose, rad, True), val)
+                else:
+                    # One pair at a time in plain floats: a few pairs cost less so than one
+                    # array call (kinematics.plan.dubins_one; the same lengths to rounding).
+                    got = [shortest_one(k, g_pose, rad) for k in keys]
+                    h = np.maximum(h, [g[0] for g in got])
+                    for k, g in zip(keys, got):
+                        quick[k] = (dubins.WORDS[g[1]], g[2])
             return h
 
         def key(p: Sequence[float], th: Headings = ()) -> tuple[int, ...]:
@@ -730,8 +784,12 @@ class RouteFinder:
             cands += [p[2]] + [line_dir + k * math.pi / 4.0 for k in range(1, 8)]
         best: tuple[Pose, float, Headings] | None = None
         for h in cands:
+            if h is not None and mode == "steer" and self._word_blocked(route, p, (gx, gy, h)):
+                continue
             segs = self.connect(route, p, (gx, gy, h))
             if segs is None:
+                continue
+            if self._surely_blocked(segment_poses(segs, self._sample_m)):
                 continue
             got = self._segments_cost(segs, last_dir, pivot_cost, th)
             if got is None or (best is not None and got[0] >= best[1]):
@@ -740,6 +798,34 @@ class RouteFinder:
             best = ((gx, gy, float(end[2]) if h is None else float(h)), got[0], got[1],
                     got[2])
         return best
+
+    def _surely_blocked(self, poses: NDArray[np.float64]) -> bool:
+        """The footprint placed at one of ``poses`` certainly comes nearer a solid (or a
+        keep-out zone) than any margin the search would accept there: a disc inside the
+        footprint reaches within the least margin of it by the clearance grid's upper bound.
+        A quick way to pass over a connection before its exact sweep; ``False`` proves
+        nothing."""
+        grid = self._grid
+        if grid is None or not len(poses) or not self._discs.size:
+            return False
+        c, s = np.cos(poses[:, 2])[:, None], np.sin(poses[:, 2])[:, None]
+        bx, by, rho = self._discs[:, 0], self._discs[:, 1], self._discs[:, 2]
+        x = poses[:, 0:1] + c * bx - s * by
+        y = poses[:, 1:2] + s * bx + c * by
+        need = np.broadcast_to(rho + self._least_margin + SAFETY_M, x.shape)
+        return grid.surely_near(x.ravel(), y.ravel(), need.ravel())
+
+    def _word_blocked(self, route: Route, a: Pose, b: Sequence[float]) -> bool:
+        """The shortest Dubins / Reeds-Shepp word from ``a`` to the leg's goal ``b`` (the
+        heuristic measured it from ``a``) has a pose that is :meth:`_surely_blocked`: the
+        planner's connection (that word) fails without planning or sweeping it."""
+        start = (float(a[0]), float(a[1]), math.radians(math.degrees(a[2])))
+        goal = (float(b[0]), float(b[1]), math.radians(math.degrees(float(b[2]))))
+        hit = self._quick.get(start) if goal == self._quick_goal else None
+        if hit is None:
+            return False
+        return self._surely_blocked(word_poses(start, hit[0], hit[1], self._leg_radius,
+                                               self._sample_m))
 
     def _segments_cost(self, segs: Sequence[Segment], last_dir: int, pivot_cost: float,
                        th: Headings = ()) -> tuple[float, Headings, float] | None:
@@ -1031,6 +1117,56 @@ class RouteFinder:
         full.notes = full.notes + ("the kept legs did not pass with the searched ones; the "
                                    "whole route was searched",)
         return full
+
+
+def _footprint_discs(poly) -> NDArray[np.float64]:
+    """Discs inside a footprint polygon, rows ``(x, y, radius)`` in the body frame: up to seven
+    centres along the middle of its bounding box, each with its distance to the outline."""
+    x0, y0, x1, y1 = poly.bounds
+    ym = 0.5 * (y0 + y1)
+    half = 0.5 * min(x1 - x0, y1 - y0)
+    xs = np.linspace(x0 + half, x1 - half, 7) if x1 - x0 >= y1 - y0 else None
+    pts = [(float(x), ym) for x in xs] if xs is not None else \
+        [(0.5 * (x0 + x1), float(y)) for y in np.linspace(y0 + half, y1 - half, 7)]
+    out = []
+    for px, py in dict.fromkeys(pts):
+        q = Point(px, py)
+        if poly.contains(q):
+            out.append((px, py, float(poly.exterior.distance(q))))
+    return np.array(out, dtype=float).reshape(-1, 3)
+
+
+def word_poses(start: Sequence[float], letters: str, lengths_m: Sequence[float],
+               radius_m: float, step_m: float) -> NDArray[np.float64]:
+    """Poses every ``step_m`` or less along a Dubins / Reeds-Shepp word from ``start`` (each
+    piece's ends included), shape ``(n, 3)``: the closed-form motion along an arc of signed
+    curvature ``+-1 / radius_m`` (``L``, ``R``) or a straight (``S``), a negative length
+    driven in reverse, as :func:`kinematics.plan.dubins.pieces_to_segments` lays them."""
+    x, y, th = (float(v) for v in start)
+    out = [np.array([[x, y, th]])]
+    for c, s in zip(letters, lengths_m):
+        s = float(s)
+        if abs(s) < 1e-12:
+            continue
+        u = np.linspace(0.0, s, max(2, math.ceil(abs(s) / step_m) + 1))[1:]
+        if c == "S":
+            px, py, ph = x + u * math.cos(th), y + u * math.sin(th), np.full(u.shape, th)
+        else:
+            k = (1.0 if c == "L" else -1.0) / radius_m
+            ph = th + k * u
+            px = x + (np.sin(ph) - math.sin(th)) / k
+            py = y - (np.cos(ph) - math.cos(th)) / k
+        out.append(np.column_stack([px, py, ph]))
+        x, y, th = float(px[-1]), float(py[-1]), float(ph[-1])
+    return np.concatenate(out)
+
+
+def segment_poses(segs: Sequence[Segment], step_m: float) -> NDArray[np.float64]:
+    """Poses every ``step_m`` or less along ``segs`` (ends included), shape ``(n, 3)``."""
+    total = sum(sg.length_m for sg in segs)
+    if not segs or total <= 0.0:
+        return np.array([sg.start for sg in segs], dtype=float).reshape(-1, 3)
+    return poses_along(segs, np.linspace(0.0, total, max(2, math.ceil(total / step_m) + 1)))
 
 
 def waypoint_stations(plan: RoutePlan, route: Route, step_m: float = 0.02) -> NDArray[np.float64]:

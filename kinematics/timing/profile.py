@@ -54,6 +54,10 @@ wheel's rim within the linear limits: ``alpha = max_accel / lever`` with ``lever
 speed of that wheel per unit yaw rate (``track / 2`` for a differential drive). With neither a
 yaw-rate nor a wheel-rate limit, a pivot keeps every wheel's rim speed within
 ``max_speed_mps``. Steering (bicycle, ackermann, swerve) is taken as instantaneous.
+
+Size: one forward-backward pass and every limit it honours; each limit's cap (speed, wheel
+rate, lateral and yaw, clothoid transitions, pivots, steer and curvature steps) is a short
+function the pass calls, and they share the segment and limit types defined here.
 """
 
 from __future__ import annotations

@@ -16,6 +16,10 @@ the steer angles turning linearly in time, at the steer-rate limit.
 Rates are signed: reverse travel gives negative rates. A steered wheel at rest shows the angle
 its segment needs, taken from the direction of travel, so the angles never jump to zero.
 The output keys follow ``shared/contract.md`` (``schedule --format json`` and CSV).
+
+Size: one schedule from its build to its three outputs (per-segment table, timed samples,
+CSV/JSON text and the plot series); the samples and the trailer columns share the segment walk,
+and the exports must write exactly the columns the build made, so they are kept beside it.
 """
 
 from __future__ import annotations
