@@ -89,3 +89,60 @@ def test_cached_connections_are_the_planners_own():
         # Source: PieceCache's contract (kinematics.plan.planner): the plan is the same with
         # or without it; here compared segment by segment.
         assert plan_route(sub, CART, cache=f._cache).segments == plan_route(sub, CART).segments
+
+
+def test_grid_distance_is_the_octile_distance_in_open_space():
+    from kinematics.plan.heuristics import ClearanceGrid
+
+    g = ClearanceGrid(np.array([], dtype=object), (0.0, 0.0, 6.0, 4.0), 0.1, 0.3)
+    d = g.distance_to(1.0, 1.0)
+    i, j = np.meshgrid(np.arange(g.nx), np.arange(g.ny), indexing="ij")
+    a, b = np.abs(i - 10), np.abs(j - 10)
+    # Source: the octile distance, the shortest 8-connected grid path between two cells
+    # (max + (sqrt 2 - 1) min steps; common practice in grid path finding).
+    np.testing.assert_allclose(d, 0.1 * (np.maximum(a, b) + (math.sqrt(2) - 1) * np.minimum(a, b)),
+                               atol=1e-9)
+
+
+def test_grid_distance_goes_round_a_wall_and_bounds_hold():
+    from kinematics.plan.heuristics import ClearanceGrid
+
+    wall = shapely.box(2.9, 0.0, 3.1, 3.0)  # a wall from the floor to y = 3 in a 6 x 4 room
+    g = ClearanceGrid(np.array([wall], dtype=object), (0.0, 0.0, 6.0, 4.0), 0.1, 0.3)
+    d = g.distance_to(1.0, 1.0)
+    far = d[g.cell_of(5.0, 1.0)]
+    # Source: plane geometry: round the wall's end (its corner grown by the free radius
+    # 0.3 m, at about (3, 3.3)) the path is at least the two straight legs, and the
+    # 8-connected grid path is at most 8 % (octile vs Euclid) longer than that.
+    legs = 2 * math.hypot(2.0, 2.3)
+    assert legs - 0.3 <= far <= legs * 1.09
+    rng = np.random.default_rng(4)
+    x, y = rng.uniform(0, 6, 500), rng.uniform(0, 4, 500)
+    true = shapely.distance(shapely.points(x, y), wall)
+    lo = np.array([g.lower_bound(a, b) for a, b in zip(x, y)])
+    hi = np.array([g.upper_bound(a, b) for a, b in zip(x, y)])
+    # Source: shapely distance to the wall: the grid's bounds bracket it.
+    assert np.all(lo <= true + 1e-12) and np.all(true <= hi + 1e-12)
+
+
+@pytest.mark.parametrize("reverse", [False, True])
+def test_connections_are_the_planners_own(reverse):
+    # A forward-only steered route's connections are laid from the Dubins word directly
+    # (RouteFinder._plain_dubins); they must be the planner's connection between those poses.
+    f = _finder(DOOR_SCENE, reverse=reverse)
+    r = _route([(1.0, 1.3, 0.0), (6.6, 5.0, 90.0)], reverse=reverse)
+    assert (f._plain_dubins(r) is not None) == (not reverse)
+    rng = np.random.default_rng(9)
+    for _ in range(60):
+        a = (*rng.uniform(0, 8, 2), rng.uniform(-math.pi, math.pi))
+        b = (*rng.uniform(0, 8, 2), rng.uniform(-math.pi, math.pi))
+        got = f.connect(r, a, b)
+        ref = f._planned(r, a, b)
+        # Source: kinematics.plan.planner.plan_route (the route's own planner) between the
+        # same two poses: the same pieces to rounding, ending at the same pose.
+        assert len(got) == len(ref)
+        for p, q in zip(got, ref):
+            assert p.kind == q.kind and p.direction == q.direction
+            assert p.length_m == pytest.approx(q.length_m, abs=1e-9)
+            assert p.curvature == pytest.approx(q.curvature, abs=1e-12)
+            np.testing.assert_allclose(p.end, q.end, atol=1e-9)

@@ -27,7 +27,7 @@ import numpy as np
 import shapely
 from numpy.typing import NDArray
 from scipy import ndimage
-from scipy.sparse import coo_matrix
+from scipy.sparse import csr_matrix
 from scipy.sparse.csgraph import dijkstra
 
 #: Most cells a grid may hold; the cell grows on very large plans to stay below it.
@@ -64,13 +64,23 @@ class ClearanceGrid:
         xs = x0 + cell * np.arange(self.nx)
         ys = y0 + cell * np.arange(self.ny)
         gx, gy = np.meshgrid(xs, ys, indexing="ij")
+        occupied = np.zeros(gx.shape, dtype=bool)
         if len(geometries):
-            grown = shapely.union_all(shapely.buffer(geometries, self.hd, quad_segs=2))
-            shapely.prepare(grown)
-            # A point inside a polygon intersects it too: one predicate covers both.
-            occupied = shapely.intersects_xy(grown, gx, gy)
-        else:
-            occupied = np.zeros(gx.shape, dtype=bool)
+            # Each grown solid marks the cell centres it covers, tested only within its own
+            # bounding box (a point inside a polygon intersects it too: one predicate covers
+            # both); the union of the marks is that of the grown solids' union.
+            grown = shapely.buffer(geometries, self.hd, quad_segs=2)
+            lo_i = np.ceil((shapely.bounds(grown)[:, 0] - x0) / cell)
+            lo_j = np.ceil((shapely.bounds(grown)[:, 1] - y0) / cell)
+            hi_i = np.floor((shapely.bounds(grown)[:, 2] - x0) / cell)
+            hi_j = np.floor((shapely.bounds(grown)[:, 3] - y0) / cell)
+            for g, a, b, c, d in zip(grown, lo_i, lo_j, hi_i, hi_j):
+                a, b = max(int(a), 0), max(int(b), 0)
+                c, d = min(int(c), self.nx - 1), min(int(d), self.ny - 1)
+                if a > c or b > d:
+                    continue
+                win = (slice(a, c + 1), slice(b, d + 1))
+                occupied[win] |= shapely.intersects_xy(g, gx[win], gy[win])
         if occupied.any():
             self.edt = ndimage.distance_transform_edt(~occupied) * cell
         else:
@@ -121,13 +131,14 @@ class ClearanceGrid:
         for a, b, step in pairs:
             a, b = a.ravel(), b.ravel()
             ok = free[a] & free[b]
-            rows.append(a[ok])
-            cols.append(b[ok])
-            w.append(np.full(int(ok.sum()), self.cell_m * step))
-        r = np.concatenate(rows)
-        c = np.concatenate(cols)
+            a, b = a[ok], b[ok]
+            # Both directions stored: Dijkstra need not symmetrise the graph on every call.
+            rows += [a, b]
+            cols += [b, a]
+            w.append(np.full(2 * a.size, self.cell_m * step))
         n = self.nx * self.ny
-        self._graph = coo_matrix((np.concatenate(w), (r, c)), shape=(n, n)).tocsr()
+        self._graph = csr_matrix((np.concatenate(w), (np.concatenate(rows),
+                                                      np.concatenate(cols))), shape=(n, n))
 
     def distance_to(self, x: float, y: float) -> NDArray[np.float64]:
         """Grid path length (m) from every cell to the cell of (x, y), ``inf`` where cut off.
@@ -139,7 +150,7 @@ class ClearanceGrid:
             self._build_graph()
         i, j = self.cell_of(x, y)
         goal = int(i) * self.ny + int(j)
-        d = dijkstra(self._graph, directed=False, indices=goal)
+        d = dijkstra(self._graph, directed=True, indices=goal)
         if np.isfinite(d).sum() <= 1:
             # The goal cell is hemmed in by blocked cells: measure to its free neighbours.
             ii, jj = np.meshgrid(np.arange(max(0, i - 3), min(self.nx, i + 4)),
@@ -147,6 +158,6 @@ class ClearanceGrid:
             near = (ii * self.ny + jj).ravel()
             near = near[self.free.ravel()[near]]
             if near.size:
-                d = dijkstra(self._graph, directed=False, indices=near, min_only=True)
+                d = dijkstra(self._graph, directed=True, indices=near, min_only=True)
                 d[goal] = 0.0
         return d.reshape(self.nx, self.ny)

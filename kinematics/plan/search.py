@@ -87,7 +87,13 @@ from kinematics.motion.trailers import hitch_angles, trace_train
 from kinematics.plan import dubins, reeds_shepp
 from kinematics.plan.dubins_one import shortest_one
 from kinematics.plan.heuristics import ClearanceGrid
-from kinematics.plan.planner import PieceCache, RoutePlan, _drive_limits, plan_route
+from kinematics.plan.planner import (
+    DUPLICATE_TOL_M,
+    PieceCache,
+    RoutePlan,
+    _drive_limits,
+    plan_route,
+)
 
 #: Extra clearance (m) the search keeps above the margin, so rounding never flips a verdict.
 SAFETY_M = 1e-3
@@ -331,6 +337,7 @@ class RouteFinder:
         self._leg_radius = 0.0
         self._sample_m = 0.1
         self._quick: dict[Pose, tuple] = {}
+        self._dubins_ok: dict[tuple, float | None] = {}
         self._quick_goal: Pose | None = None
         self._grid_bounds: tuple | None = None
 
@@ -484,7 +491,49 @@ class RouteFinder:
     # -- connections -------------------------------------------------------------------------
     def connect(self, route: Route, a: Pose, b: Sequence[float | None]) -> list[Segment] | None:
         """The route's own connection from pose ``a`` to ``b`` (heading ``None``: the
-        planner's choice), as the planner draws it; ``None`` where it has an issue."""
+        planner's choice), as the planner draws it; ``None`` where it has an issue.
+
+        Between two poses of a forward-only steered route the planner draws the shortest
+        Dubins word from ``a`` to ``b`` (headings read through degrees, as from waypoints);
+        that word is laid here directly (:func:`~kinematics.plan.dubins_one.shortest_one`,
+        :func:`~kinematics.plan.dubins.pieces_to_segments`) once a first connection showed
+        the planner draws this route so (:meth:`_plain_dubins`)."""
+        rad = self._plain_dubins(route) if b[2] is not None else None
+        if rad is not None and math.hypot(b[0] - a[0], b[1] - a[1]) > 10.0 * DUPLICATE_TOL_M:
+            start = (float(a[0]), float(a[1]), math.radians(math.degrees(a[2])))
+            goal = (float(b[0]), float(b[1]), math.radians(math.degrees(float(b[2]))))
+            _n, w, pieces = shortest_one(start, goal, rad)
+            return dubins.pieces_to_segments(start, dubins.WORDS[w], pieces, rad)
+        return self._planned(route, a, b)
+
+    def _plain_dubins(self, route: Route) -> float | None:
+        """The radius of the plain Dubins words the planner joins two poses of ``route`` with,
+        or ``None`` where it joins them otherwise (reversing, clothoid transitions, a drive
+        that pivots or translates, a radius the chassis cannot turn). Found once per route
+        setting by planning one connection both ways and comparing them."""
+        key = (route.turn_radius_m, route.reverse, route_transitions(route, self.chassis))
+        if key not in self._dubins_ok:
+            mode, radius = drive_mode(self.chassis, route)
+            got = None
+            if mode == "steer" and not route.reverse and key[2] != "clothoid" and radius > 0:
+                a, b = (0.0, 0.0, 0.3), (3.0 * radius + 1.0, 1.5 * radius, -1.0)
+                ref = self._planned(route, a, b)
+                _n, w, pieces = shortest_one((a[0], a[1], math.radians(math.degrees(a[2]))),
+                                             (b[0], b[1], math.radians(math.degrees(b[2]))),
+                                             radius)
+                mine = dubins.pieces_to_segments(
+                    (a[0], a[1], math.radians(math.degrees(a[2]))), dubins.WORDS[w], pieces,
+                    radius)
+                if ref is not None and len(ref) == len(mine) and all(
+                        p.kind == q.kind and abs(p.length_m - q.length_m) < 1e-9
+                        and abs(p.curvature - q.curvature) < 1e-12 for p, q in zip(ref, mine)):
+                    got = float(radius)
+            self._dubins_ok[key] = got
+        return self._dubins_ok[key]
+
+    def _planned(self, route: Route, a: Pose, b: Sequence[float | None]
+                 ) -> list[Segment] | None:
+        """:meth:`connect` by :func:`~kinematics.plan.planner.plan_route` itself."""
         wa = Waypoint(float(a[0]), float(a[1]), math.degrees(a[2]))
         hb = None if b[2] is None else math.degrees(float(b[2]))
         wb = Waypoint(float(b[0]), float(b[1]), hb)
@@ -799,21 +848,39 @@ class RouteFinder:
                     got[2])
         return best
 
-    def _surely_blocked(self, poses: NDArray[np.float64]) -> bool:
-        """The footprint placed at one of ``poses`` certainly comes nearer a solid (or a
-        keep-out zone) than any margin the search would accept there: a disc inside the
-        footprint reaches within the least margin of it by the clearance grid's upper bound.
-        A quick way to pass over a connection before its exact sweep; ``False`` proves
-        nothing."""
+    def _surely_blocked(self, poses: NDArray[np.float64], want: float | None = None) -> bool:
+        """The footprint placed at one of ``poses`` certainly has a clearance (as
+        :meth:`_parts_distance` measures it) below ``want`` (default: the margin plus
+        ``SAFETY_M``, what every motion must keep): a disc inside the footprint lies, by the
+        clearance grid's upper bound, nearer a solid (or a keep-out zone) than ``want`` less
+        the most any zone's margin falls below the chassis margin. A quick way to pass over a
+        connection before its exact sweep; ``False`` proves nothing."""
         grid = self._grid
         if grid is None or not len(poses) or not self._discs.size:
             return False
+        extra = 0.0 if want is None else want - (self.margin + SAFETY_M)
         c, s = np.cos(poses[:, 2])[:, None], np.sin(poses[:, 2])[:, None]
         bx, by, rho = self._discs[:, 0], self._discs[:, 1], self._discs[:, 2]
         x = poses[:, 0:1] + c * bx - s * by
         y = poses[:, 1:2] + s * bx + c * by
-        need = np.broadcast_to(rho + self._least_margin + SAFETY_M, x.shape)
+        need = np.broadcast_to(rho + self._least_margin + SAFETY_M + extra, x.shape)
         return grid.surely_near(x.ravel(), y.ravel(), need.ravel())
+
+    def _quick_word_fn(self, route: Route) -> Callable[[Pose, Sequence[float]], tuple | None]:
+        """A function giving the planner's Dubins word between two poses (letters, piece
+        lengths) cheaply (:func:`~kinematics.plan.dubins_one.shortest_one`), or ``None``
+        where the route does not join poses by plain Dubins words (reversing, clothoid
+        transitions, drives that pivot or translate)."""
+        mode, _r = drive_mode(self.chassis, route)
+        if mode != "steer" or route.reverse or \
+                route_transitions(route, self.chassis) == "clothoid":
+            return lambda a, b: None
+        rad = self._leg_radius
+
+        def word(a: Pose, b: Sequence[float]) -> tuple:
+            got = shortest_one(a, (b[0], b[1], float(b[2])), rad)
+            return dubins.WORDS[got[1]], got[2]
+        return word
 
     def _word_blocked(self, route: Route, a: Pose, b: Sequence[float]) -> bool:
         """The shortest Dubins / Reeds-Shepp word from ``a`` to the leg's goal ``b`` (the
@@ -894,11 +961,20 @@ class RouteFinder:
         memo: dict[tuple[int, int], tuple[bool, Headings]] = {}
         now_th: list[Headings] = [cth[0] if train else ()]
 
+        quick = self._quick_word_fn(route)
+
         def ok(i: int, j: int) -> bool:
             if (i, j) not in memo:
                 want = max(need, min(base[i:j]) - SAFETY_M)
-                segs = self.connect(route, chain[i], target(j))
-                good = segs is not None and \
+                b = target(j)
+                word = quick(chain[i], b) if b[2] is not None else None
+                if word is not None and self._surely_blocked(word_poses(
+                        chain[i], word[0], word[1], self._leg_radius, self._sample_m), want):
+                    memo[(i, j)] = (False, ())
+                    return False
+                segs = self.connect(route, chain[i], b)
+                good = segs is not None and not self._surely_blocked(
+                    segment_poses(segs, self._sample_m), want) and \
                     self.segments_distance(segs, cap, want) >= want
                 end: Headings = ()
                 if good and train:
