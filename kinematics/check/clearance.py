@@ -33,6 +33,7 @@ from kinematics.check.clearance_pass import (
     door_least_xy,
     least_segment,
     sweep_segment,
+    sweep_segments,
     where_least,
 )
 from kinematics.check.contact import overlap_depth, part_name
@@ -95,7 +96,7 @@ class RouteChecker:
         self.tolerance_m = float(tolerance_m)
         self.index = index
         self.cache_size = int(cache_size)
-        self.segments = SegmentCache(self._sweep, self.cache_size)
+        self.segments = SegmentCache(self._sweep, self.cache_size, self._sweep_many)
         self.waypoints = WaypointCheck(self.footprint, index, self.cache_size)
         self._stations = StationFinder(self.footprint, self.cache_size)
 
@@ -146,6 +147,10 @@ class RouteChecker:
         return sweep_segment(self.footprint, self.index, self.margin_m,
                              sweep_allowance(self.tolerance_m), seg)
 
+    def _sweep_many(self, segs: list[Segment]) -> list[SegmentResult]:
+        return sweep_segments(self.footprint, self.index, self.margin_m,
+                              sweep_allowance(self.tolerance_m), segs)
+
     def segment_result(self, seg: Segment) -> SegmentResult:
         """The segment's result, from the cache or swept now."""
         return self.segments.result(seg)
@@ -173,12 +178,16 @@ class RouteChecker:
         name = route_name or getattr(plan_or_segments, "name", "") or getattr(route, "name", "")
         if waypoints is None and route is not None:
             waypoints = route.waypoints
-        results = []
-        for i, s in enumerate(segs):
-            try:
-                results.append(self.segment_result(s))
-            except SweepBudgetError as exc:
-                raise ValidationError(name, f"segment {i}", exc.expected) from None
+        try:
+            results = self.segments.results(segs)
+        except SweepBudgetError:
+            # One at a time, to name the segment over the budget.
+            results = []
+            for i, s in enumerate(segs):
+                try:
+                    results.append(self.segment_result(s))
+                except SweepBudgetError as exc:
+                    raise ValidationError(name, f"segment {i}", exc.expected) from None
         stations = segment_stations(segs)
         idx = self.index
         violations: list[Violation] = []

@@ -34,6 +34,7 @@ from kinematics.check.sweep import (
     swept_union_maker,
     travel_m,
 )
+from kinematics.check.sweep_batch import swept_parts_many
 from kinematics.check.violations import Hit, locate_hit
 from kinematics.check.zones import wrong_way
 from kinematics.motion.arrays import unique_sorted
@@ -41,10 +42,12 @@ from kinematics.motion.segments import Segment
 
 
 def sweep_segment(fp: Footprint, index: ObstacleIndex, margin: float, tol: float,
-                  seg: Segment) -> SegmentResult:
-    """Sweep one segment and measure it against the solids within the margin and its doors."""
+                  seg: Segment, parts: np.ndarray | None = None) -> SegmentResult:
+    """Sweep one segment and measure it against the solids within the margin and its doors
+    (``parts``: its swept parts when already made)."""
     idx = index
-    sw = SweptParts(swept_parts(fp, seg, tol), swept_union_maker(fp, seg, tol))
+    sw = SweptParts(swept_parts(fp, seg, tol) if parts is None else parts,
+                    swept_union_maker(fp, seg, tol))
     parts = sw.parts
     hits: list[Hit] = []
     best, best_j = math.inf, None
@@ -91,6 +94,34 @@ def sweep_segment(fp: Footprint, index: ObstacleIndex, margin: float, tol: float
     near_ = None if best_j is None else (best, best_j)
     return SegmentResult(sw, near_, tuple(hits), tuple(doors), tuple(keep_out),
                          wrong_way(seg, zones))
+
+
+def sweep_segments(fp: Footprint, index: ObstacleIndex, margin: float, tol: float,
+                   segs: Sequence[Segment]) -> list[SegmentResult]:
+    """``[sweep_segment(fp, index, margin, tol, s) for s in segs]``, the same results, with
+    the parts of all segments made in one pass (:mod:`kinematics.check.sweep_batch`) and one
+    query of each index for all of them: only segments with a solid within the margin, a door
+    or a keep-out zone near them are then measured one by one."""
+    all_parts = swept_parts_many(fp, segs, tol)
+    idx = index
+    zones = idx.zones
+    if len(segs) <= 1 or len(zones.margin):
+        return [sweep_segment(fp, idx, margin, tol, s, p) for s, p in zip(segs, all_parts)]
+    flat = np.concatenate(all_parts)
+    owner = np.repeat(np.arange(len(segs)), [len(p) for p in all_parts])
+    busy = np.zeros(len(segs), dtype=bool)
+    if len(idx) and len(flat):
+        got = (idx.tree.query(flat, predicate="dwithin", distance=margin) if margin > 0.0
+               else idx.tree.query(flat, predicate="intersects"))
+        busy[owner[got[0]]] = True
+    for tree in ((idx.door_tree if len(idx.doors) else None),
+                 (zones.keep_out.tree if len(zones.keep_out) else None)):
+        if tree is not None and len(flat):
+            busy[owner[tree.query(flat, predicate="intersects")[0]]] = True
+    return [sweep_segment(fp, idx, margin, tol, s, p) if b else
+            SegmentResult(SweptParts(p, swept_union_maker(fp, s, tol)), None, (), (), (),
+                          wrong_way(s, zones))
+            for s, p, b in zip(segs, all_parts, busy.tolist())]
 
 
 def _any_near(idx: ObstacleIndex, parts: np.ndarray, reach: float) -> bool:
@@ -178,32 +209,81 @@ def _nearest_solid(parts: np.ndarray, index: ObstacleIndex) -> tuple[float, int]
     return float(dk[0]), int(jj[0])
 
 
+def _within_many(results: Sequence[SegmentResult], index: ObstacleIndex, bound: float
+                 ) -> list[bool]:
+    """Whether some solid lies within ``bound`` of each segment's swept parts, with one tree
+    query for all of them (a segment with none is farther than ``bound`` from every solid)."""
+    counts = [len(r.swept.parts) for r in results]
+    got = index.tree.query(np.concatenate([r.swept.parts for r in results]),
+                           predicate="dwithin", distance=max(bound, 0.0))[0]
+    owner = np.repeat(np.arange(len(results)), counts)
+    near = np.zeros(len(results), dtype=bool)
+    near[owner[got]] = True
+    return near.tolist()
+
+
 def least_segment(results: Sequence[SegmentResult], index: ObstacleIndex,
                   margin: float) -> int:
     """Index of the first segment with the least clearance.
 
     Segments whose clearance is known (a solid within the margin, or measured in an
-    earlier check) go first. A segment not yet measured is measured only if some solid
-    lies within the least clearance so far of its swept region's bounding box (which
-    contains the region, so it is at least as near any solid); otherwise its clearance
+    earlier check) go first. Of the others, the one whose swept region's bounding box comes
+    nearest a solid is measured if nothing is known yet; then a segment is measured only if
+    its box (which contains the region, so it is at least as near any solid) comes as near a
+    solid as the least clearance so far, and a tree query over all those segments' parts at
+    once finds a solid within that least clearance of its parts; otherwise its clearance
     exceeds that least one. The answer is that of measuring every segment.
     """
-    known = [i for i, r in enumerate(results) if r.near is not None or r.far is not None]
-    rest = [i for i, r in enumerate(results) if r.near is None and r.far is None]
     best, best_i = math.inf, None
-    for i in known + rest:
+    rest = []
+    for i, r in enumerate(results):
+        if r.near is None and r.far is None:
+            rest.append(i)
+            continue
+        c = clearance_of(r, index)[0]
+        if c < best:
+            best, best_i = c, i
+    # Nothing lies within the margin of the rest, so each is farther than that (and than a
+    # bound an earlier check proved); the others are measured nearest box first, and only
+    # while their box comes as near a solid as the least clearance so far.
+    if best_i is not None:
+        rest = [i for i in rest if max(results[i].lower_m, margin) < best]
+    rest = [i for i in rest if len(results[i].swept.parts)]
+    if not rest:
+        return 0 if best_i is None else best_i
+    b = shapely.bounds(np.concatenate([results[i].swept.parts for i in rest]))
+    offs = np.r_[0, np.cumsum([len(results[i].swept.parts) for i in rest])][:-1]
+    boxes = shapely.box(np.minimum.reduceat(b[:, 0], offs), np.minimum.reduceat(b[:, 1], offs),
+                        np.maximum.reduceat(b[:, 2], offs), np.maximum.reduceat(b[:, 3], offs))
+    got, dist = index.tree.query_nearest(boxes, return_distance=True, all_matches=False)
+    lower = np.full(len(rest), math.inf)
+    lower[got[0]] = dist
+    order = np.lexsort((np.asarray(rest), lower)).tolist()
+    if best_i is None:
+        # The segment whose box is nearest a solid first, to bound the others.
+        k = order[0]
+        best, best_i = clearance_of(results[rest[k]], index)[0], rest[k]
+    # The segments whose box comes as near a solid as that, and of those the ones with a
+    # solid that near their parts (one query for all), are measured; the others are farther.
+    todo = [rest[k] for k in order if results[rest[k]].far is None
+            and (lower[k] < best or (lower[k] == best and rest[k] < best_i))]
+    bound = best
+    near = dict(zip(todo, _within_many([results[i] for i in todo], index, bound))) \
+        if todo else {}
+    for k in order:
+        i, lo = rest[k], float(lower[k])
         r = results[i]
-        if r.near is None and r.far is None and best_i is not None:
-            # Nothing lies within the margin of this one, so it is farther than that.
-            if max(r.lower_m, margin) >= best:
+        if r.far is None:
+            if lo > best:        # its box is farther than the least clearance
+                r.lower_m = max(r.lower_m, best)
                 continue
-            b = shapely.bounds(r.swept.parts)
-            box = shapely.box(b[:, 0].min(), b[:, 1].min(), b[:, 2].max(), b[:, 3].max())
-            if not len(index.tree.query_nearest(box, max_distance=best, all_matches=False)):
-                r.lower_m = best
+            if i not in near:    # as far as the least one at best, and later in the route
+                continue
+            if not near[i]:      # no solid within ``bound`` of its parts
+                r.lower_m = max(r.lower_m, bound)
                 continue
         c = clearance_of(r, index)[0]
-        if c < best or (c == best and (best_i is None or i < best_i)):
+        if c < best or (c == best and i < best_i):
             best, best_i = c, i
     return 0 if best_i is None else best_i
 

@@ -14,7 +14,7 @@ from __future__ import annotations
 
 import math
 from collections import OrderedDict
-from collections.abc import Callable
+from collections.abc import Callable, Sequence
 from dataclasses import dataclass
 
 import numpy as np
@@ -136,10 +136,15 @@ class SegmentCache:
         Makes the result of a segment not seen before.
     cache_size : int
         Results kept (least recently used dropped first).
+    compute_many : callable, optional
+        Makes the results of many segments at once (the same as ``compute`` of each).
     """
 
-    def __init__(self, compute: Callable[[Segment], SegmentResult], cache_size: int) -> None:
+    def __init__(self, compute: Callable[[Segment], SegmentResult], cache_size: int,
+                 compute_many: Callable[[list[Segment]], list[SegmentResult]] | None = None
+                 ) -> None:
         self.compute = compute
+        self.compute_many = compute_many
         self.cache_size = int(cache_size)
         self._results: OrderedDict[tuple, SegmentResult] = OrderedDict()
         self.computed = 0  # results made (not taken from the cache), for tests
@@ -156,3 +161,28 @@ class SegmentCache:
         if len(self._results) > self.cache_size:
             self._results.popitem(last=False)
         return res
+
+    def results(self, segs: Sequence[Segment]) -> list[SegmentResult]:
+        """``[self.result(s) for s in segs]``, the segments not kept made in one
+        ``compute_many`` call."""
+        if self.compute_many is None:
+            return [self.result(s) for s in segs]
+        keys = [cache_key(s) for s in segs]
+        new: dict[tuple, Segment] = {}
+        for k, s in zip(keys, segs):
+            if k not in self._results and k not in new:
+                new[k] = s
+        made = dict(zip(new, self.compute_many(list(new.values())))) if new else {}
+        self.computed += len(made)
+        out = []
+        for k in keys:
+            res = self._results.get(k)
+            if res is None:
+                res = made[k]
+                self._results[k] = res
+                if len(self._results) > self.cache_size:
+                    self._results.popitem(last=False)
+            else:
+                self._results.move_to_end(k)
+            out.append(res)
+        return out
