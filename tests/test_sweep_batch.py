@@ -13,11 +13,12 @@ from __future__ import annotations
 import math
 
 import numpy as np
+import pytest
 import shapely
 
 from kinematics.check.clearance import ObstacleIndex, RouteChecker
 from kinematics.check.clearance_pass import clearance_of
-from kinematics.check.sweep import prepare_footprint, swept_parts
+from kinematics.check.sweep import SweepBudgetError, prepare_footprint, swept_parts
 from kinematics.check.sweep_batch import swept_parts_many
 from kinematics.files.floorplan import Door, FloorPlan, Obstacle, Wall
 from kinematics.files.project import Chassis, Route, Waypoint
@@ -146,3 +147,16 @@ def test_least_clearance_segment_is_measured_and_named():
     measured = [r.far is not None for r in kept]
     assert 0 < sum(measured) < len(segs)
     assert clearance_of(kept[c.min_clearance_at["segment"]], idx)[0] == c.min_clearance_m
+
+
+def test_a_batched_turn_over_the_work_budget_is_refused_as_one_call_is():
+    # A 12 m x 7 m body pivoting 1000 rad at a 0.1 mm tolerance is past the sweep work
+    # budget (kinematics.check.sweep.sweep_cost): the one-pass sweep must refuse it before
+    # sweeping, exactly as the one-segment call does, not build millions of vertices.
+    # Source: the budget rule of issue 17 (work checked before allocating); common practice.
+    big = [[-6, -3.5], [6, -3.5], [6, 3.5], [-6, 3.5]]
+    huge = pivot((0.0, 0.0, 0.0), 1000.0)
+    with pytest.raises(SweepBudgetError):
+        swept_parts(big, huge, 0.0001)
+    with pytest.raises(SweepBudgetError):
+        swept_parts_many(prepare_footprint(big), [line((0, 0, 0), 1.0), huge], 0.0001)
