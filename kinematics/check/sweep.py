@@ -274,31 +274,48 @@ def _monotone_pieces(rel: NDArray[np.float64], sense: float) -> NDArray[np.float
     out of the footprint are kept: a point the body newly covers is first reached by the
     outline moving outward over it, so trailing pieces add nothing to the swept region.
     """
+    return monotone_pieces_many(rel[None], np.array([sense], dtype=float))[0]
+
+
+def monotone_pieces_many(rel: NDArray[np.float64], sense: NDArray[np.float64],
+                         moving: NDArray[np.bool_] | None = None
+                         ) -> tuple[NDArray[np.float64], NDArray[np.intp]]:
+    """:func:`_monotone_pieces` of many rings ``rel`` ``(K, N, 2)`` at once, ring ``k``
+    rotating with sign ``sense[k]``; a ring whose ``moving[k]`` is false has none.
+
+    Returns the pieces ``(M, 2, 2)`` ring by ring, each ring's in the one-ring order (whole
+    edges, then the near and far halves of split edges), and the ring each belongs to.
+    """
     a = rel
-    b = np.roll(rel, -1, axis=0)
+    b = np.roll(rel, -1, axis=1)
     d = b - a
-    dd = np.einsum("ij,ij->i", d, d)
+    dd = np.einsum("kij,kij->ki", d, d)
     ok = dd > 1e-24
-    a, b, d, dd = a[ok], b[ok], d[ok], dd[ok]
-    t = -np.einsum("ij,ij->i", a, d) / dd
-    split = (t > 1e-9) & (t < 1.0 - 1e-9)
-    foot = a + t[:, None] * d
-    whole = np.stack([a[~split], b[~split]], axis=1)
-    first = np.stack([a[split], foot[split]], axis=1)
-    second = np.stack([foot[split], b[split]], axis=1)
-    pieces = np.concatenate([whole, first, second], axis=0)
+    with np.errstate(divide="ignore", invalid="ignore"):
+        t = np.where(ok, -np.einsum("kij,kij->ki", a, d) / np.where(ok, dd, 1.0), 0.0)
+    split = ok & (t > 1e-9) & (t < 1.0 - 1e-9)
+    foot = a + t[..., None] * d
+    first = np.concatenate([a, a, foot], axis=1)                     # (K, 3N, 2)
+    second = np.concatenate([b, foot, b], axis=1)
+    pieces = np.stack([first, second], axis=2)                       # (K, 3N, 2, 2)
+    valid = np.concatenate([ok & ~split, split, split], axis=1)
     # Counter-clockwise ring: the outward normal of edge direction (dx, dy) is (dy, -dx);
     # the velocity of point p under rotation is sense * (-py, px).
-    dirs = pieces[:, 1] - pieces[:, 0]
-    mid = 0.5 * (pieces[:, 0] + pieces[:, 1])
-    vn = sense * (-mid[:, 1] * dirs[:, 1] - mid[:, 0] * dirs[:, 0])
-    length = np.hypot(dirs[:, 0], dirs[:, 1])
-    pieces = pieces[(vn >= 0.0) & (length > 1e-12)]
-    r0 = np.hypot(pieces[:, 0, 0], pieces[:, 0, 1])
-    r1 = np.hypot(pieces[:, 1, 0], pieces[:, 1, 1])
+    dirs = pieces[:, :, 1] - pieces[:, :, 0]
+    mid = 0.5 * (pieces[:, :, 0] + pieces[:, :, 1])
+    vn = np.asarray(sense, dtype=float)[:, None] * (-mid[..., 1] * dirs[..., 1]
+                                                     - mid[..., 0] * dirs[..., 0])
+    length = np.hypot(dirs[..., 0], dirs[..., 1])
+    valid &= (vn >= 0.0) & (length > 1e-12)
+    if moving is not None:
+        valid &= np.asarray(moving, dtype=bool)[:, None]
+    pc = pieces[valid]
+    owner = np.broadcast_to(np.arange(len(rel))[:, None], valid.shape)[valid]
+    r0 = np.hypot(pc[:, 0, 0], pc[:, 0, 1])
+    r1 = np.hypot(pc[:, 1, 0], pc[:, 1, 1])
     flip = r0 > r1
-    pieces[flip] = pieces[flip][:, ::-1]
-    return pieces
+    pc[flip] = pc[flip][:, ::-1]
+    return pc, owner
 
 
 def _edge_rotation_rings(pieces: NDArray[np.float64], phi: float, n: int
@@ -634,33 +651,8 @@ def _rotation_chunks(ring: NDArray[np.float64], starts: NDArray[np.float64],
     if keep_end is not None:
         end = end[keep_end]
     out = list(shapely.polygons(placed)) + list(shapely.polygons(end))
-    # Monotone leading pieces of every chunk (as _monotone_pieces, vectorised with masks).
-    a = rel
-    b = np.roll(rel, -1, axis=1)
-    dv = b - a
-    dd = np.einsum("kij,kij->ki", dv, dv)
-    ok = dd > 1e-24
-    with np.errstate(divide="ignore", invalid="ignore"):
-        t = np.where(ok, -np.einsum("kij,kij->ki", a, dv) / np.where(ok, dd, 1.0), 0.0)
-    split = ok & (t > 1e-9) & (t < 1.0 - 1e-9)
-    foot = a + t[..., None] * dv
-    first = np.stack([a, np.where(split[..., None], foot, b)], axis=2)     # (m, N, 2, 2)
-    second = np.stack([foot, b], axis=2)
-    pieces = np.concatenate([first, second], axis=1)                      # (m, 2N, 2, 2)
-    valid = np.concatenate([ok, split], axis=1)
-    dirs = pieces[:, :, 1] - pieces[:, :, 0]
-    mid = 0.5 * (pieces[:, :, 0] + pieces[:, :, 1])
-    sense = np.sign(phi)[:, None]
-    vn = sense * (-mid[..., 1] * dirs[..., 1] - mid[..., 0] * dirs[..., 0])
-    length = np.hypot(dirs[..., 0], dirs[..., 1])
-    valid &= (vn >= 0.0) & (length > 1e-12)
-    valid &= (np.abs(phi) * r_max > 1e-12)[:, None]
-    chunk = np.broadcast_to(np.arange(len(phi))[:, None], valid.shape)[valid]
-    pc = pieces[valid]
-    r0 = np.hypot(pc[:, 0, 0], pc[:, 0, 1])
-    r1 = np.hypot(pc[:, 1, 0], pc[:, 1, 1])
-    flip = r0 > r1
-    pc[flip] = pc[flip][:, ::-1]
+    # Monotone leading pieces of every chunk (as _monotone_pieces, chunk by chunk).
+    pc, chunk = monotone_pieces_many(rel, np.sign(phi), np.abs(phi) * r_max > 1e-12)
     if pc.shape[0]:
         rings = _edge_rotation_rings_many(pc, phi[chunk], n) + q[chunk][:, None, :]
         out.extend(shapely.polygons(rings))

@@ -32,6 +32,7 @@ from kinematics.check.sweep import (
     _edge_rotation_rings_many,
     _place,
     arc_steps,
+    monotone_pieces_many,
     swept_parts,
 )
 from kinematics.motion.segments import Segment
@@ -142,33 +143,8 @@ def _rotations(fp: Footprint, segs: Sequence[Segment], ids: list[int], tol: floa
     pseg = np.repeat(np.arange(len(segs)), m + 1)
     pk = np.concatenate([np.arange(mi + 1) for mi in m.tolist()])
     places = shapely.polygons(_rotate_many(rel[pseg], pk * phi_c[pseg]) + q[pseg][:, None, :])
-    # Monotone leading pieces (as sweep._monotone_pieces, the same order: whole edges, then
-    # the near and far halves of split edges).
-    a = rel
-    b = np.roll(rel, -1, axis=1)
-    d = b - a
-    dd = np.einsum("kij,kij->ki", d, d)
-    ok = dd > 1e-24
-    with np.errstate(divide="ignore", invalid="ignore"):
-        t = -np.einsum("kij,kij->ki", a, d) / np.where(ok, dd, 1.0)
-    split = ok & (t > 1e-9) & (t < 1.0 - 1e-9)
-    foot = a + t[..., None] * d
-    first_a = np.concatenate([a, a, foot], axis=1)                   # (K, 3N, 2)
-    first_b = np.concatenate([b, foot, b], axis=1)
-    pieces = np.stack([first_a, first_b], axis=2)                    # (K, 3N, 2, 2)
-    valid = np.concatenate([ok & ~split, split, split], axis=1)
-    dirs = pieces[:, :, 1] - pieces[:, :, 0]
-    mid = 0.5 * (pieces[:, :, 0] + pieces[:, :, 1])
-    sense = np.copysign(1.0, phi)[:, None]
-    vn = sense * (-mid[..., 1] * dirs[..., 1] - mid[..., 0] * dirs[..., 0])
-    length = np.hypot(dirs[..., 0], dirs[..., 1])
-    valid &= (vn >= 0.0) & (length > 1e-12) & moving[:, None]
-    pc = pieces[valid]
-    owner = np.broadcast_to(np.arange(len(segs))[:, None], valid.shape)[valid]
-    r0 = np.hypot(pc[:, 0, 0], pc[:, 0, 1])
-    r1 = np.hypot(pc[:, 1, 0], pc[:, 1, 1])
-    flip = r0 > r1
-    pc[flip] = pc[flip][:, ::-1]
+    # Monotone leading pieces of every segment (sweep._monotone_pieces, the same order).
+    pc, owner = monotone_pieces_many(rel, np.copysign(1.0, phi), moving)
     # Each piece swept by one chunk (rings of 2n + 3 vertices), then rotated to chunk k.
     per_piece: list = [None] * len(pc)
     for nn in sorted(set(n[owner].tolist())):
