@@ -107,17 +107,14 @@ def sweep_segments(fp: Footprint, index: ObstacleIndex, margin: float, tol: floa
     zones = idx.zones
     if len(segs) <= 1 or len(zones.margin):
         return [sweep_segment(fp, idx, margin, tol, s, p) for s, p in zip(segs, all_parts)]
-    flat = np.concatenate(all_parts)
-    owner = np.repeat(np.arange(len(segs)), [len(p) for p in all_parts])
     busy = np.zeros(len(segs), dtype=bool)
-    if len(idx) and len(flat):
-        got = (idx.tree.query(flat, predicate="dwithin", distance=margin) if margin > 0.0
-               else idx.tree.query(flat, predicate="intersects"))
-        busy[owner[got[0]]] = True
+    if len(idx):
+        busy |= (_meeting(all_parts, idx.tree, "dwithin", margin) if margin > 0.0
+                 else _meeting(all_parts, idx.tree, "intersects"))
     for tree in ((idx.door_tree if len(idx.doors) else None),
                  (zones.keep_out.tree if len(zones.keep_out) else None)):
-        if tree is not None and len(flat):
-            busy[owner[tree.query(flat, predicate="intersects")[0]]] = True
+        if tree is not None:
+            busy |= _meeting(all_parts, tree, "intersects")
     return [sweep_segment(fp, idx, margin, tol, s, p) if b else
             SegmentResult(SweptParts(p, swept_union_maker(fp, s, tol)), None, (), (), (),
                           wrong_way(s, zones))
@@ -209,17 +206,26 @@ def _nearest_solid(parts: np.ndarray, index: ObstacleIndex) -> tuple[float, int]
     return float(dk[0]), int(jj[0])
 
 
+def _meeting(parts_of: Sequence[np.ndarray], tree: shapely.STRtree, predicate: str,
+             distance: float | None = None) -> np.ndarray:
+    """Whether each segment's parts meet some geometry of ``tree`` (``predicate``, with
+    ``distance`` for ``"dwithin"``), with one tree query for all of them."""
+    n = len(parts_of)
+    hit = np.zeros(n, dtype=bool)
+    counts = [len(p) for p in parts_of]
+    if not sum(counts):
+        return hit
+    got = tree.query(np.concatenate(parts_of), predicate=predicate, distance=distance)[0]
+    hit[np.repeat(np.arange(n), counts)[got]] = True
+    return hit
+
+
 def _within_many(results: Sequence[SegmentResult], index: ObstacleIndex, bound: float
                  ) -> list[bool]:
     """Whether some solid lies within ``bound`` of each segment's swept parts, with one tree
     query for all of them (a segment with none is farther than ``bound`` from every solid)."""
-    counts = [len(r.swept.parts) for r in results]
-    got = index.tree.query(np.concatenate([r.swept.parts for r in results]),
-                           predicate="dwithin", distance=max(bound, 0.0))[0]
-    owner = np.repeat(np.arange(len(results)), counts)
-    near = np.zeros(len(results), dtype=bool)
-    near[owner[got]] = True
-    return near.tolist()
+    return _meeting([r.swept.parts for r in results], index.tree, "dwithin",
+                    max(bound, 0.0)).tolist()
 
 
 def least_segment(results: Sequence[SegmentResult], index: ObstacleIndex,
