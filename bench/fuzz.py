@@ -492,11 +492,22 @@ def fuzz_readers(seeds: Seeds, rng: random.Random, count: int, deadline: float,
     tallies = {k: Tally(k, out) for k in ("project", "floorplan", "dxf", "svg")}
     layers = {"walls": ["WALLS"], "obstacles": ["FIXTURES"], "doors": ["DOORS"]}
 
+    def dumps_mutated(doc: Any, indent: int | None) -> str:
+        # A mutation that repeats a list can outgrow the address-space limit this process
+        # sets for the readers; that is the harness's own input, not a finding: draw again
+        # (seed 25 ended here after 7 500 inputs per reader with 0 findings).
+        for _ in range(5):
+            try:
+                return json.dumps(mutate_json(rng, doc), indent=indent)
+            except MemoryError:
+                continue
+        return json.dumps(doc, indent=indent)
+
     def one(kind: str, i: int) -> None:
         if kind == "project":
             name, doc = rng.choice(list(seeds.projects.items()))
             if rng.random() < 0.7:
-                data: bytes | str = json.dumps(mutate_json(rng, doc), indent=1)
+                data: bytes | str = dumps_mutated(doc, 1)
             else:
                 data = mutate_text(rng, json.dumps(doc, indent=1))
             path = _write(work / f"fuzz{i % 50}.swathe.json", data)
@@ -508,7 +519,7 @@ def fuzz_readers(seeds: Seeds, rng: random.Random, count: int, deadline: float,
                                  msg, mb)
         elif kind == "floorplan":
             name, doc = rng.choice(list(seeds.floors.items()))
-            data = (json.dumps(mutate_json(rng, doc)) if rng.random() < 0.7
+            data = (dumps_mutated(doc, None) if rng.random() < 0.7
                     else mutate_text(rng, json.dumps(doc, indent=1)))
             path = _write(work / "fuzz.floor.json", data)
             outcome, secs, msg, mb = run_reader(load_floorplan, path, hang_s, noise,
