@@ -54,8 +54,6 @@ COARSE_M = 0.25
 #: Rounds of halving at most (each halves every interval it touches; the fine test stops
 #: far sooner).
 _MAX_ROUNDS = 48
-#: Most geometry-by-target box tests done as one numpy array (above it the tree is asked).
-_MATRIX_TESTS = 250_000
 #: Slack of the box-distance test, metres (far above the rounding of any distance).
 _BOX_SLACK_M = 1e-9
 
@@ -63,26 +61,18 @@ _BOX_SLACK_M = 1e-9
 def box_pairs(b: np.ndarray, cap: np.ndarray, targets: np.ndarray, tree: Any
               ) -> tuple[np.ndarray, np.ndarray]:
     """Pairs (geometry, target) whose bounding boxes come within ``cap`` (per geometry) of
-    each other, ``b`` the geometries' bounds and ``targets`` the targets' (those of the
-    geometries in ``tree``).
+    each other, ``b`` the geometries' bounds and ``targets`` the bounds of the geometries in
+    ``tree``: the tree's query of the boxes grown by ``cap``, less the pairs whose boxes are
+    farther apart than ``cap`` across a corner.
 
     The distance between two boxes is a lower bound of the distance between anything inside
     them, so no pair left out is within ``cap`` (the test allows :data:`_BOX_SLACK_M` for
-    rounding). Few pairs in all are tested as one numpy array; many go through the tree's
-    query of the grown boxes first."""
-    if len(b) * len(targets) <= _MATRIX_TESTS:
-        dx = np.maximum(np.maximum(targets[None, :, 0] - b[:, 2:3],
-                                   b[:, 0:1] - targets[None, :, 2]), 0.0)
-        dy = np.maximum(np.maximum(targets[None, :, 1] - b[:, 3:4],
-                                   b[:, 1:2] - targets[None, :, 3]), 0.0)
-        lim = cap + _BOX_SLACK_M
-        gi, tj = np.nonzero(dx * dx + dy * dy <= (lim * lim)[:, None])
-        return gi, tj
+    rounding), and each pair dropped saves a GEOS distance."""
     gi, tj = tree.query(shapely.box(b[:, 0] - cap, b[:, 1] - cap, b[:, 2] + cap,
                                     b[:, 3] + cap))
-    tb = targets[tj]
-    dx = np.maximum(np.maximum(tb[:, 0] - b[gi, 2], b[gi, 0] - tb[:, 2]), 0.0)
-    dy = np.maximum(np.maximum(tb[:, 1] - b[gi, 3], b[gi, 1] - tb[:, 3]), 0.0)
+    tb, bg = targets[tj], b[gi]
+    dx = np.maximum(np.maximum(tb[:, 0] - bg[:, 2], bg[:, 0] - tb[:, 2]), 0.0)
+    dy = np.maximum(np.maximum(tb[:, 1] - bg[:, 3], bg[:, 1] - tb[:, 3]), 0.0)
     lim = cap[gi] + _BOX_SLACK_M
     keep = dx * dx + dy * dy <= lim * lim
     return gi[keep], tj[keep]
