@@ -184,6 +184,33 @@ def _rhs_of(m: TugMotion, hitches: Sequence[Hitch]):
     th0, w0, wd, fixed, direction = m.th0, m.w, m.wd, m.fixed, m.direction
     geo = [(hz.hitch_x_m, 1.0 / hz.drawbar_m) for hz in hitches]
     cos, sin = math.cos, math.sin
+    if fixed is None and w0 == 0.0 and wd == 0.0:
+        # A straight line along the heading: the tug's heading and velocity are constant and
+        # it does not turn, so the first hitch moves with it (the same numbers as below).
+        c0, s0 = cos(th0), sin(th0)
+        v0x, v0y = direction * c0, direction * s0
+        (_h1, inv_1), rest = geo[0], geo[1:]
+
+        def f_line(p: float, th: Sequence[float]) -> list[float]:
+            t = th[0]
+            c, s = cos(t), sin(t)
+            w = (v0y * c - v0x * s) * inv_1
+            along = v0x * c + v0y * s
+            vx, vy = along * c, along * s
+            out = [w]
+            cp, sp, w_prev = c, s, w
+            for (h, inv_d), t in zip(rest, th[1:]):
+                hx = vx - w_prev * h * sp
+                hy = vy + w_prev * h * cp
+                c, s = cos(t), sin(t)
+                w = (hy * c - hx * s) * inv_d
+                along = hx * c + hy * s
+                vx, vy = along * c, along * s
+                out.append(w)
+                cp, sp, w_prev = c, s, w
+            return out
+
+        return f_line
 
     def f(p: float, th: Sequence[float]) -> list[float]:
         t_prev = th0 + (w0 + 0.5 * wd * p) * p
