@@ -42,6 +42,7 @@ from kinematics.motion.arrays import unique_sorted
 from kinematics.motion.drives import DriveModel, drive_for
 from kinematics.motion.segments import Segment
 from kinematics.timing.profile import Limits, SpeedProfile, joint_angles, speed_profile
+from kinematics.timing.schedule_text import sample_curvature
 from kinematics.timing.zones import SLOW_ZONE, RoutePieces, StopAt, split_route
 
 SEGMENT_COLUMNS = ("index", "kind", "t0_s", "duration_s", "length_m", "v_start_mps",
@@ -473,20 +474,6 @@ def schedule_to_dict(s: Schedule, samples: bool = True) -> dict:
     }
     if s.pieces is not None:
         out["stops"] = s.stop_rows()
-    return out
-
-
-def sample_curvature(s: Schedule) -> NDArray[np.float64]:
-    """Signed path curvature (1/m) at each sample (0 in pivots and on holonomic lines)."""
-    sm = s.samples
-    out = np.zeros(sm.t_s.size)
-    p = s.profile
-    for i in unique_sorted(sm.segment):
-        seg = p.segments[int(i)]
-        m = sm.segment == i
-        if seg.kind in ("arc", "clothoid"):
-            out[m] = seg.curvature_at(np.clip(sm.station_m[m] - p.station0_m[int(i)], 0.0,
-                                              seg.length_m))
     return out
 
 

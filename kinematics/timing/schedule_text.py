@@ -28,6 +28,8 @@ from collections.abc import Iterator
 import numpy as np
 from numpy.typing import NDArray
 
+from kinematics.motion.arrays import unique_sorted
+
 #: Rows formatted per block: the block's text and its Python numbers stay a few MB.
 CHUNK_ROWS = 4096
 
@@ -82,12 +84,26 @@ def _template(row: dict, marks: list[str], kinds: list[str]) -> str | None:
     return text
 
 
+def sample_curvature(s) -> NDArray[np.float64]:
+    """Signed path curvature (1/m) at each sample of a schedule (0 in pivots and on holonomic
+    lines). Here rather than in :mod:`kinematics.timing.schedule`, which imports this module,
+    so that the two make no import circle."""
+    sm = s.samples
+    out = np.zeros(sm.t_s.size)
+    p = s.profile
+    for i in unique_sorted(sm.segment):
+        seg = p.segments[int(i)]
+        m = sm.segment == i
+        if seg.kind in ("arc", "clothoid"):
+            out[m] = seg.curvature_at(np.clip(sm.station_m[m] - p.station0_m[int(i)], 0.0,
+                                              seg.length_m))
+    return out
+
+
 def _sample_fields(s) -> tuple[dict, list[str], list[str], list[NDArray]]:
     """A sample row with marks for its numbers, in the key order of the row-at-a-time
     encoder (:func:`kinematics.timing.schedule._sample_dicts`), with the marks, their kinds
     (``i`` integer, ``f`` float) and one array per mark over all samples."""
-    from kinematics.timing.schedule import sample_curvature
-
     sm = s.samples
     marks: list[str] = []
     kinds: list[str] = []
@@ -159,8 +175,6 @@ def sample_rows_csv(s) -> Iterator[str]:
     """The sampled CSV's data rows (after its header) as text pieces, a block of
     :data:`CHUNK_ROWS` rows each: every float as ``format(v, ".9g")``, the segment as an
     integer, as the csv module writes them (no cell needs quoting)."""
-    from kinematics.timing.schedule import sample_curvature
-
     sm = s.samples
     cols: list[NDArray] = [sm.t_s, np.asarray(sm.segment, dtype=np.int64), sm.station_m, sm.x,
                            sm.y, sm.heading_rad * _DEG, sm.v_mps, sm.omega_radps * _DEG,
