@@ -38,9 +38,20 @@ Last full runs (2 cores shared with other work, one process):
   CLI child runs: 219 accepted, 81 refused, 0 findings.
 - seed 13 (after both fixes): readers 10 000 each, 0 findings (slowest 0.51 s, largest
   peak 73 MB); CLI in process 1 128: 909 accepted, 217 refused, 2 hangs over 20 s (mecanum
-  check and schedule of a route whose body turns along a line of ~10 km: open, the sweep's
-  holonomic piece count reaches its 100 000 cap, ~25 s of CPU); 300 CLI child runs: 235
-  accepted, 65 refused, 0 findings (slowest 5.6 s, largest peak 262 MB).
+  check and schedule of a route whose body turns along a line of ~10 km; fixed since: the
+  body's turn is swept in chunks that do not grow with the length, under the sweep's work
+  budget, tests/test_sweep_budget.py); 300 CLI child runs: 235 accepted, 65 refused, 0
+  findings (slowest 5.6 s, largest peak 262 MB).
+- seed 21: three findings in process, fixed and kept in tests/test_robust.py: refusals at an
+  empty key named no place (now ``[""]``, two floor plans and a project), and a pivot of the
+  sample train's delivery cart ended ``check`` with a zero-size GEOS answer (the nearest-solid
+  query's reach is widened by rounding, with a per-part fallback).
+- seed 23 (branch code 0b9165a): readers 10 000 each, 1 184 projects through the CLI in
+  process and 300 child runs, 0 findings (slowest input 9.1 s, largest peak 190 MB).
+- seed 25 (main 3cff9e1, the harness pinned to one core beside a loaded second core):
+  7 500 inputs per reader, 0 findings, then the harness itself stopped with a MemoryError
+  while writing a mutated project that repeated a list past the harness's own 1 GiB limit
+  (the harness now draws such a mutation again). The rerun's figures are in the closing notes.
 
 Usage::
 
