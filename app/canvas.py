@@ -105,6 +105,8 @@ from .scene import (
     HANDLE_R_PX,
     HANDLE_SHAPE,
     JAMB_R_PX,
+    PIVOT_R_PX,
+    PIVOT_WIDTH_PX,
     STYLES,
     VIOLATION_SHAPES,
     WAYPOINT_R_PX,
@@ -334,6 +336,15 @@ class PlanCanvas(PlanDrawing, RouteDrawing, CanvasEditing, QWidget):
         for it in (self.path_fwd, self.path_rev):
             it.setZValue(4)
             add(it)
+        # Turns on the spot: the picture's ring and arrow head (app.qstyle.pivot_paths) in
+        # the route's colour, the ring stroked and the head filled.
+        self.pivot_rings = _Markers("pivot_ring+", 2 * PIVOT_R_PX, _pen(BLACK, PIVOT_WIDTH_PX),
+                                    None)
+        self.pivot_heads = _Markers("pivot_head+", 2 * PIVOT_R_PX, _pen(BLACK, 1.0),
+                                    _brush(BLACK))
+        for it in (self.pivot_rings, self.pivot_heads):
+            it.setZValue(4.5)
+            add(it, ignoreBounds=True)
         self.chords_item = _Polyline(_pen("#777777", 1.0, Qt.PenStyle.DotLine))
         self.chords_item.setZValue(3.5)
         add(self.chords_item)

@@ -34,7 +34,7 @@ from PySide6.QtWidgets import (
 )
 
 from .palette import ORANGE, PURPLE
-from .qstyle import marker_path, qbrush
+from .qstyle import marker_path, pivot_paths, qbrush
 from .scene import (
     STYLES,
     VIOLATION_R_PX,
@@ -202,6 +202,9 @@ def _symbol_path(symbol: str, size_px: float) -> QPainterPath:
     if path is None:
         if symbol in _SCENE_SHAPES:
             path = marker_path(symbol, QPointF(0.0, 0.0), size_px / 2.0)
+        elif symbol.startswith("pivot_"):  # "pivot_ring+", "pivot_head-": a turn on the spot
+            ring, head = pivot_paths(1.0 if symbol.endswith("+") else -1.0, size_px / 2.0)
+            path = ring if symbol.startswith("pivot_ring") else head
         else:
             path = QTransform.fromScale(size_px, size_px).map(Symbols[symbol])
         _SYMBOL_PATHS[key] = path

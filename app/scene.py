@@ -149,6 +149,10 @@ VIOLATION_R_PX = 8.0
 #: waypoint).
 HANDLE_SHAPE = "circle"
 HANDLE_R_PX = 5.0
+#: A turn on the spot: the ring's radius and its line's width, pixels at the default size
+#: (:func:`app.qstyle.pivot_paths`), in the route's colour.
+PIVOT_R_PX = 11.0
+PIVOT_WIDTH_PX = 2.0
 #: Route lines, pixels.
 ROUTE_WIDTH_PX = 2.5
 
@@ -394,6 +398,24 @@ def outline_poses(segments: Sequence[Any], count: int = 8) -> np.ndarray:
     return poses
 
 
+def segment_outline_stations(seg: Any, spacing_m: float, last: bool = False) -> np.ndarray:
+    """Stations (metres from the segment's start) of the footprint outlines along one segment:
+    every ``spacing_m`` from its start, and its end too when it is the route's ``last``; none
+    for a turn on the spot (the next segment's first outline shows it). These are the
+    window's outlines (View > Footprint outlines), kept per segment so a drag remakes only
+    the segments that moved."""
+    if seg.length_m <= 0.0:
+        return np.zeros((0,))
+    local = np.arange(0.0, seg.length_m, spacing_m)
+    return np.append(local, seg.length_m) if last else local
+
+
+def segment_outline_poses(seg: Any, spacing_m: float, last: bool = False) -> np.ndarray:
+    """The poses ``(x, y, heading_rad)`` at :func:`segment_outline_stations`."""
+    local = segment_outline_stations(seg, spacing_m, last)
+    return seg.poses_at(local) if len(local) else np.zeros((0, 3))
+
+
 def place_footprint(footprint: Sequence[tuple[float, float]], pose: Sequence[float]
                     ) -> np.ndarray:
     """The footprint's corners in the plan frame at ``pose`` ``(x, y, heading_rad)``."""
@@ -467,15 +489,24 @@ def band_bounds(pieces: Sequence[np.ndarray] | None) -> tuple[float, float, floa
 
 
 def route_layer(route: Any, k: int, plan: Any, footprint: Sequence[tuple[float, float]],
-                outline_count: int = 8) -> Layer:
+                outline_count: int = 8, outline_spacing_m: float | None = None) -> Layer:
     """One route: its path (dashed in reverse), footprint outlines and numbered waypoints.
 
-    The swept band is :func:`band_pieces` (one piece per segment, in the ``band`` style of
-    :data:`STYLES`), which both painters fill.
+    Outlines: ``outline_count`` spread evenly along the route (the picture), or, with
+    ``outline_spacing_m``, every that many metres along each segment
+    (:func:`segment_outline_poses`, the window's). The swept band is :func:`band_pieces` (one
+    piece per segment, in the ``band`` style of :data:`STYLES`), which both painters fill.
     """
     layer = Layer()
     if plan is not None:
-        for pose in outline_poses(list(plan.segments), outline_count):
+        segs = list(plan.segments)
+        if outline_spacing_m:
+            poses = [segment_outline_poses(seg, outline_spacing_m, i == len(segs) - 1)
+                     for i, seg in enumerate(segs)]
+            poses = np.vstack(poses) if poses else np.zeros((0, 3))
+        else:
+            poses = outline_poses(segs, outline_count)
+        for pose in poses:
             ring = place_footprint(footprint, pose)
             layer.lines.append(Polyline(np.vstack([ring, ring[:1]]), STYLES["outline"].stroke,
                                         "outline"))
