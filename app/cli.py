@@ -192,13 +192,13 @@ def cmd_check(args: argparse.Namespace) -> int:
 
 
 def cmd_schedule(args: argparse.Namespace) -> int:
-    from kinematics.files.jsonio import atomic_write_text
+    from kinematics.files.jsonio import atomic_write_pieces
     from kinematics.files.project import load_project
     from kinematics.plan.planner import plan_route
     from kinematics.timing.schedule import (
         build_schedule,
-        samples_to_csv,
-        schedule_json_text,
+        samples_csv_pieces,
+        schedule_json_pieces,
         schedule_to_csv,
     )
 
@@ -219,13 +219,15 @@ def cmd_schedule(args: argparse.Namespace) -> int:
                            zones=project.floorplan.zones, route=route,
                            file=args.project, place=_route_place(project, route))
     if args.format == "csv":
-        text = samples_to_csv(sched) if args.samples else schedule_to_csv(sched)
-    else:
-        text = schedule_json_text(sched)
+        pieces = (samples_csv_pieces(sched) if args.samples
+                  else iter([schedule_to_csv(sched)]))
+    else:  # a near-limit schedule is ~130 MB of JSON: written a block of samples at a time
+        pieces = schedule_json_pieces(sched)
     if args.output:
-        _write_output(args.output, "-o", lambda: atomic_write_text(args.output, text))
+        _write_output(args.output, "-o", lambda: atomic_write_pieces(args.output, pieces))
     else:
-        sys.stdout.write(text)
+        for piece in pieces:
+            sys.stdout.write(piece)
     # The schedule is written either way; a route that fails its check says so and exits 1.
     from kinematics.analysis.results import check_with_vehicle
     from kinematics.check.clearance import ObstacleIndex

@@ -117,13 +117,13 @@ class ScheduleTable(QWidget):
 
     def export_json(self, path: str | Path) -> None:
         """Write the schedule as ``swathe schedule --format json`` does, atomically."""
-        from kinematics.files.jsonio import atomic_write_text, dumps
-        from kinematics.timing.schedule import schedule_to_dict
+        from kinematics.files.jsonio import atomic_write_pieces
+        from kinematics.timing.schedule import schedule_json_pieces
 
         s = self.schedule()
         if s is None:
             raise ValueError("there is no schedule to export")
-        atomic_write_text(path, dumps(schedule_to_dict(s)))
+        atomic_write_pieces(path, schedule_json_pieces(s))
 
     def _export_dialog(self, fmt: str) -> None:
         r = self.doc.route()

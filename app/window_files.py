@@ -212,8 +212,8 @@ class WindowFiles:
 
     def export_schedule(self, path: str | Path, fmt: str | None = None) -> bool:
         """Write the current route's schedule as CSV or JSON (by ``fmt`` or the suffix)."""
-        from kinematics.files.jsonio import atomic_write_text, dumps
-        from kinematics.timing.schedule import schedule_to_csv, schedule_to_dict
+        from kinematics.files.jsonio import atomic_write_pieces
+        from kinematics.timing.schedule import schedule_json_pieces, schedule_to_csv
 
         r = self.doc.route()
         if r is None:
@@ -226,9 +226,9 @@ class WindowFiles:
             return False
         p = Path(path)
         fmt = fmt or ("csv" if p.suffix.lower() == ".csv" else "json")
-        text = schedule_to_csv(sched) if fmt == "csv" else dumps(schedule_to_dict(sched))
+        pieces = iter([schedule_to_csv(sched)]) if fmt == "csv" else schedule_json_pieces(sched)
         try:
-            atomic_write_text(p, text)
+            atomic_write_pieces(p, pieces)
         except OSError as exc:
             self.show_error("Swathe could not export", f"{p}: {exc.strerror or exc}")
             return False

@@ -311,10 +311,12 @@ def test_output_write_failure_is_bad_input(tmp_path, capsys, monkeypatch):
     def full(*a, **kw):
         raise OSError(28, "No space left on device")
 
-    monkeypatch.setattr("kinematics.files.jsonio.atomic_write_text", full)
-    code, _, err = _cli(["schedule", p, "--route", "along", "-o", tmp_path / "s.json"],
-                        capsys)
-    _one_bad_line(code, err, "s.json", "-o", "No space left on device")
+    # Every atomic writer (whole text or pieces) ends in _atomic_write.
+    monkeypatch.setattr("kinematics.files.jsonio._atomic_write", full)
+    for fmt in ("json", "csv"):
+        code, _, err = _cli(["schedule", p, "--route", "along", "--format", fmt, "-o",
+                             tmp_path / "s.json"], capsys)
+        _one_bad_line(code, err, "s.json", "-o", "No space left on device")
 
 
 # -- text that cannot be encoded ----------------------------------------------------------

@@ -39,6 +39,7 @@ are kept together.
 from __future__ import annotations
 
 import dataclasses
+import functools
 import math
 from collections.abc import Sequence
 from dataclasses import dataclass
@@ -84,6 +85,20 @@ _MAX_SAMPLES = 20000
 WINDOW_M = 1.0
 #: Half the travel of any footprint point between the placements probing a window, metres.
 PROBE_SLACK_M = 0.03
+
+
+@functools.lru_cache(maxsize=64)
+def _prepared_cached(footprint: tuple) -> Footprint:
+    return prepare_footprint(footprint)
+
+
+def _prepared(footprint: Any) -> Footprint:
+    """:func:`prepare_footprint` of a trailer's footprint, kept for footprints given as
+    tuples (a project's trailers are checked route after route)."""
+    try:
+        return _prepared_cached(footprint)
+    except TypeError:  # not hashable: a list or an array
+        return prepare_footprint(footprint)
 
 
 def body_name(i: int, chassis: Any) -> str:
@@ -413,12 +428,18 @@ def _first_station(trace: TrainTrace, tj: int, fp: Footprint, ck: Chunk, station
 
 def _interval_chunk(tb: TrailerBounds, k: int) -> Chunk:
     """Interval ``k`` of a trailer's bounds as a :class:`Chunk` (its stand-in's pieces and
-    nine true poses), for the nearest-point, station and part-name helpers."""
+    nine true poses), for the nearest-point, station and part-name helpers (made once per
+    interval: the violations, doors and least clearance often ask for the same one)."""
+    made = tb.tb.__dict__.setdefault("_interval_chunks", {})
+    got = made.get(k)
+    if got is not None:
+        return got
     seg = int(tb.seg[k])
     p0, p1 = float(tb.pa[k]), float(tb.pb[k])
     parts, _owner = tb.pieces(np.array([k]), solid_only=True)
     poses = tb._poses(np.full(9, seg), np.linspace(p0, p1, 9))
-    return Chunk(seg, p0, p1, parts, poses, k)
+    got = made[k] = Chunk(seg, p0, p1, parts, poses, k)
+    return got
 
 
 def _stretch_violations(tb: TrailerBounds, hits: Sequence[Hit], segs, stations,
@@ -610,7 +631,7 @@ def check_train(plan_or_segments: Any, chassis: Any, index: ObstacleIndex,
     if at is not None:
         at = dict(at, body=tug_body)
     doors = {p.door: p for p in tug.doors}
-    fps = [prepare_footprint(t.footprint) for t in trailers]
+    fps = [_prepared(t.footprint) for t in trailers]
     margins = [chassis.trailer_margin(j) if hasattr(chassis, "trailer_margin") else
                (t.margin_m if t.margin_m is not None else chassis.margin_m)
                for j, t in enumerate(trailers)]

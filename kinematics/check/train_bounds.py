@@ -54,6 +54,28 @@ COARSE_M = 0.25
 #: Rounds of halving at most (each halves every interval it touches; the fine test stops
 #: far sooner).
 _MAX_ROUNDS = 48
+#: Slack of the box-distance test, metres (far above the rounding of any distance).
+_BOX_SLACK_M = 1e-9
+
+
+def box_pairs(b: np.ndarray, cap: np.ndarray, targets: np.ndarray, tree: Any
+              ) -> tuple[np.ndarray, np.ndarray]:
+    """Pairs (geometry, target) whose bounding boxes come within ``cap`` (per geometry) of
+    each other, ``b`` the geometries' bounds and ``targets`` the bounds of the geometries in
+    ``tree``: the tree's query of the boxes grown by ``cap``, less the pairs whose boxes are
+    farther apart than ``cap`` across a corner.
+
+    The distance between two boxes is a lower bound of the distance between anything inside
+    them, so no pair left out is within ``cap`` (the test allows :data:`_BOX_SLACK_M` for
+    rounding), and each pair dropped saves a GEOS distance."""
+    gi, tj = tree.query(shapely.box(b[:, 0] - cap, b[:, 1] - cap, b[:, 2] + cap,
+                                    b[:, 3] + cap))
+    tb, bg = targets[tj], b[gi]
+    dx = np.maximum(np.maximum(tb[:, 0] - bg[:, 2], bg[:, 0] - tb[:, 2]), 0.0)
+    dy = np.maximum(np.maximum(tb[:, 1] - bg[:, 3], bg[:, 1] - tb[:, 3]), 0.0)
+    lim = cap[gi] + _BOX_SLACK_M
+    keep = dx * dx + dy * dy <= lim * lim
+    return gi[keep], tj[keep]
 
 
 def chain_bounds(m: TugMotion, hitches: Sequence[Hitch], r_far: Sequence[float]
@@ -140,21 +162,36 @@ class TrailerPoser:
                     np.maximum(self.last[seg] - 1, self.first[seg]))
         single = self.last[seg] == self.first[seg]
         k1 = np.where(single, k, k + 1)
-        h = np.where(single, 1.0, self.gp[k1] - self.gp[k])[:, None]
-        t = np.where(single, 0.0, (g - self.gp[k]))[:, None] / h
+        h = np.where(single, 1.0, self.gp[k1] - self.gp[k])
+        t = np.where(single, 0.0, (g - self.gp[k])) / h
         t2, t3 = t * t, t * t * t
-        hd = (2 * t3 - 3 * t2 + 1) * self.th[k] + (t3 - 2 * t2 + t) * h * self.dth[k] + \
-            (-2 * t3 + 3 * t2) * self.th[k1] + (t3 - t2) * h * self.dth[k1]
-        out = np.empty((len(p), 3)) if which is not None else None
+        c0, c1, c2, c3 = 2 * t3 - 3 * t2 + 1, t3 - 2 * t2 + t, -2 * t3 + 3 * t2, t3 - t2
+        if which is None:
+            out, rows = None, None
+        else:
+            # Each query follows the chain only as far as its own trailer.
+            out, rows = np.empty((len(p), 3)), np.arange(len(p))
+            which = np.asarray(which)
         for jj, hz in enumerate(self.trace.hitches[:self.j + 1]):
+            hd = c0 * self.th[k, jj] + c1 * h * self.dth[k, jj] + c2 * self.th[k1, jj] + \
+                c3 * h * self.dth[k1, jj]
             hx = x + hz.hitch_x_m * np.cos(th)
             hy = y + hz.hitch_x_m * np.sin(th)
-            th = hd[:, jj]
+            th = hd
             x = hx - hz.drawbar_m * np.cos(th)
             y = hy - hz.drawbar_m * np.sin(th)
             if out is not None:
                 m = which == jj
-                out[m, 0], out[m, 1], out[m, 2] = x[m], y[m], th[m]
+                if m.any():
+                    r = rows[m]
+                    out[r, 0], out[r, 1], out[r, 2] = x[m], y[m], th[m]
+                    go = ~m
+                    rows, which = rows[go], which[go]
+                    x, y, th = x[go], y[go], th[go]
+                    k, k1, h = k[go], k1[go], h[go]
+                    c0, c1, c2, c3 = c0[go], c1[go], c2[go], c3[go]
+                if not len(rows):
+                    break
         return out if out is not None else np.column_stack([x, y, th])
 
 
@@ -172,6 +209,13 @@ def trailer_poses(trace: TrainTrace, j: int, segment: int, progress: np.ndarray
     """Trailer ``j``'s poses on one segment (as ``trace.poses(segment, p)[:, j + 1]``)."""
     p = np.atleast_1d(np.asarray(progress, dtype=float))
     return trailer_poser(trace, j)(np.full(len(p), segment), p)
+
+
+def _door_axes(door: Any) -> tuple[float, float, float, float]:
+    """A door's frame: jamb ``a`` and the cosine and sine of the line's direction to ``b``."""
+    (ax, ay), (bx, by) = door.a, door.b
+    w = math.hypot(bx - ax, by - ay)
+    return ax, ay, (bx - ax) / w, (by - ay) / w
 
 
 @dataclass
@@ -233,6 +277,9 @@ class TrailerBounds:
                 T.append(np.full(n, t_))
                 JJ.append(np.full(n, t))
         self.n_solids = len(index)
+        self._solid_bounds = shapely.bounds(index.geometries).reshape(-1, 4)
+        self._door_bounds = shapely.bounds(index.door_lines).reshape(-1, 4)
+        self._frame_rows: np.ndarray | None = None
         self._poser = trailer_poser(trace, int(self.js.max())) if self.nt else None
         self.reach = max(4.0 * float(self.margins.max()), 0.5) if self.nt else 0.5
         self._final_doors: dict | None = None
@@ -306,10 +353,8 @@ class TrailerBounds:
         """Pairs (geometry, solid) whose bounding boxes come within ``cap`` (per geometry)
         and their exact distances: a box query of the tree then plain distances, several
         times cheaper than the tree's ``dwithin`` predicate on many small pieces."""
-        b = shapely.bounds(geoms)
         c = np.broadcast_to(np.asarray(cap, dtype=float), (len(geoms),))
-        boxes = shapely.box(b[:, 0] - c, b[:, 1] - c, b[:, 2] + c, b[:, 3] + c)
-        pi, sj = self.index.tree.query(boxes)
+        pi, sj = box_pairs(shapely.bounds(geoms), c, self._solid_bounds, self.index.tree)
         return pi, sj, shapely.distance(geoms[pi], self.index.geometries[sj])
 
     def _placed(self, poses: np.ndarray, jj: np.ndarray) -> np.ndarray:
@@ -546,9 +591,8 @@ class TrailerBounds:
             reach = 0.5 * self.S[km] * (self.pb[km] - self.pa[km]) + self.delta(km)
             geoms = np.concatenate([self.Ga[km], self.Gb[km]])
             r2 = np.tile(reach, 2)
-            b = shapely.bounds(geoms)
-            pi, q = self.index.door_tree.query(shapely.box(b[:, 0] - r2, b[:, 1] - r2,
-                                                           b[:, 2] + r2, b[:, 3] + r2))
+            pi, q = box_pairs(shapely.bounds(geoms), r2, self._door_bounds,
+                              self.index.door_tree)
             near = shapely.distance(geoms[pi], self.index.door_lines[q]) <= r2[pi]
             pi, q = pi[near], q[near]
             key = np.unique(self.uid[km[pi % len(km)]] * nd + q)
@@ -573,9 +617,8 @@ class TrailerBounds:
         got = self._frames.get(q)
         if got is None:
             door = self.index.doors[q]
-            (ax, ay), (bx, by) = door.a, door.b
-            w = math.hypot(bx - ax, by - ay)
-            c, s = (bx - ax) / w, (by - ay) / w
+            ax, ay, c, s = _door_axes(door)
+            w = math.hypot(door.b[0] - ax, door.b[1] - ay)
             solids = self.index.within(self.index.door_boxes[q], 0.0)
 
             def to_frame(xy: np.ndarray) -> np.ndarray:
@@ -589,7 +632,10 @@ class TrailerBounds:
 
     def _in_frames(self, q: np.ndarray, P: np.ndarray) -> np.ndarray:
         """Poses ``P`` (one per pair) in their doors' frames."""
-        fr = np.array([self._door_frame(d)[:4] for d in q.tolist()]).reshape(-1, 4)
+        if self._frame_rows is None:
+            self._frame_rows = np.array([_door_axes(d) for d in self.index.doors]
+                                        ).reshape(-1, 4)
+        fr = self._frame_rows[q]
         dx, dy = P[:, 0] - fr[:, 0], P[:, 1] - fr[:, 1]
         c, s = fr[:, 2], fr[:, 3]
         return np.column_stack([c * dx + s * dy, c * dy - s * dx,
@@ -755,8 +801,17 @@ class TrailerBounds:
 
     def placements(self, ks: Sequence[int], step_m: float = 0.02, most: int = 80):
         """The union of the true placements about every ``step_m`` of any footprint point's
-        travel through intervals ``ks`` (at most ``most`` placements)."""
-        k = np.asarray(ks, dtype=int)
+        travel through intervals ``ks`` (at most ``most`` placements; each union made once,
+        a stretch's overlap and its door's often being the same intervals)."""
+        key = (tuple(int(v) for v in ks), float(step_m), int(most))
+        made = self.__dict__.setdefault("_placements", {})
+        got = made.get(key)
+        if got is None:
+            got = made[key] = self._placements_of(np.asarray(key[0], dtype=int), step_m,
+                                                  most)
+        return got
+
+    def _placements_of(self, k: np.ndarray, step_m: float, most: int):
         n = np.clip(np.ceil(self.S[k] * (self.pb[k] - self.pa[k]) / step_m), 1, None)
         n = np.maximum(1, (n * min(1.0, most / float(n.sum()))).astype(int))
         own = np.repeat(np.arange(len(k)), n + 1)

@@ -9,7 +9,7 @@ import math
 import os
 import re
 import stat
-from collections.abc import Iterator
+from collections.abc import Iterable, Iterator
 from contextlib import contextmanager
 from pathlib import Path
 from typing import Any
@@ -248,7 +248,7 @@ def _sweep_stale(directory: Path, p: Path) -> None:
             pass
 
 
-def _atomic_write(path: str | os.PathLike[str], data: bytes) -> None:
+def _atomic_write(path: str | os.PathLike[str], data: bytes | Iterable[bytes]) -> None:
     p = Path(path)
     directory = p.parent if str(p.parent) else Path(".")
     import tempfile  # only saves need it
@@ -258,7 +258,11 @@ def _atomic_write(path: str | os.PathLike[str], data: bytes) -> None:
                                dir=directory)
     try:
         with os.fdopen(fd, "wb") as fh:
-            fh.write(data)
+            if isinstance(data, bytes):
+                fh.write(data)
+            else:
+                for piece in data:
+                    fh.write(piece)
             fh.flush()
             os.fsync(fh.fileno())
         os.chmod(tmp, _final_mode(p))  # mkstemp makes 0600; keep the file's usual mode
@@ -279,6 +283,13 @@ def atomic_write_text(path: str | os.PathLike[str], text: str) -> None:
     leaves is removed by the next write of the same file.
     """
     _atomic_write(path, text.encode("utf-8"))
+
+
+def atomic_write_pieces(path: str | os.PathLike[str], pieces: Iterable[str]) -> None:
+    """:func:`atomic_write_text` of ``"".join(pieces)``, each piece encoded and written as
+    it comes, so a long text (a schedule's samples) is never held whole, neither as text
+    nor as bytes."""
+    _atomic_write(path, (piece.encode("utf-8") for piece in pieces))
 
 
 def atomic_write_bytes(path: str | os.PathLike[str], data: bytes) -> None:

@@ -178,12 +178,42 @@ def _hitch_speed_bounds(m: TugMotion, hitches: Sequence[Hitch]) -> list[float]:
     return out
 
 
+def _trailer_rates(hx: float, hy: float, th: Sequence[float], inv_d: Sequence[float],
+                   h_next: Sequence[float]) -> list[float]:
+    """Each trailer's heading rate down the chain, from the first hitch's velocity
+    ``(hx, hy)``: trailer ``i`` turns at its hitch velocity across its heading over its
+    drawbar, and its own hitch (``h_next[i]`` along its axis) then moves with its axle's
+    velocity plus its turn times that offset (the same terms as :func:`_rhs`)."""
+    cos, sin = math.cos, math.sin
+    out = []
+    for t, inv, hn in zip(th, inv_d, h_next):
+        c, s = cos(t), sin(t)
+        w = (hy * c - hx * s) * inv
+        along = hx * c + hy * s
+        out.append(w)
+        hx = along * c - w * hn * s
+        hy = along * s + w * hn * c
+    return out
+
+
 def _rhs_of(m: TugMotion, hitches: Sequence[Hitch]):
     """:func:`_rhs` for one segment's motion, with its constants bound once (the integrator
     calls it seven times a step)."""
     th0, w0, wd, fixed, direction = m.th0, m.w, m.wd, m.fixed, m.direction
-    geo = [(hz.hitch_x_m, 1.0 / hz.drawbar_m) for hz in hitches]
+    h1 = hitches[0].hitch_x_m
+    inv_d = [1.0 / hz.drawbar_m for hz in hitches]
+    h_next = [hz.hitch_x_m for hz in hitches[1:]] + [0.0]
     cos, sin = math.cos, math.sin
+    if fixed is None and w0 == 0.0 and wd == 0.0:
+        # A straight line along the heading: the tug's heading and velocity are constant and
+        # it does not turn, so the first hitch moves with it (the same numbers as below).
+        c0, s0 = cos(th0), sin(th0)
+        v0x, v0y = direction * c0, direction * s0
+
+        def f_line(p: float, th: Sequence[float]) -> list[float]:
+            return _trailer_rates(v0x, v0y, th, inv_d, h_next)
+
+        return f_line
 
     def f(p: float, th: Sequence[float]) -> list[float]:
         t_prev = th0 + (w0 + 0.5 * wd * p) * p
@@ -193,17 +223,8 @@ def _rhs_of(m: TugMotion, hitches: Sequence[Hitch]):
         else:
             vx, vy = fixed
         w_prev = w0 + wd * p
-        out = []
-        for (h, inv_d), t in zip(geo, th):
-            hx = vx - w_prev * h * sp
-            hy = vy + w_prev * h * cp
-            c, s = cos(t), sin(t)
-            w = (hy * c - hx * s) * inv_d
-            along = hx * c + hy * s
-            vx, vy = along * c, along * s
-            out.append(w)
-            cp, sp, w_prev = c, s, w
-        return out
+        return _trailer_rates(vx - w_prev * h1 * sp, vy + w_prev * h1 * cp, th, inv_d,
+                              h_next)
 
     return f
 

@@ -26,9 +26,10 @@ from __future__ import annotations
 
 import csv
 import io
+import itertools
 import json
 import math
-from collections.abc import Sequence
+from collections.abc import Iterator, Sequence
 from dataclasses import dataclass
 
 import numpy as np
@@ -41,6 +42,7 @@ from kinematics.motion.arrays import unique_sorted
 from kinematics.motion.drives import DriveModel, drive_for
 from kinematics.motion.segments import Segment
 from kinematics.timing.profile import Limits, SpeedProfile, joint_angles, speed_profile
+from kinematics.timing.schedule_text import sample_curvature
 from kinematics.timing.zones import SLOW_ZONE, RoutePieces, StopAt, split_route
 
 SEGMENT_COLUMNS = ("index", "kind", "t0_s", "duration_s", "length_m", "v_start_mps",
@@ -401,20 +403,32 @@ def _sample_dicts(s: Schedule):
         yield row
 
 
-def schedule_json_text(s: Schedule) -> str:
-    """``jsonio.dumps(schedule_to_dict(s))``, the same text, without holding every sample as
-    Python objects at once: a sample row is encoded as it is made (a 126 000-sample mecanum
-    schedule took 1.1 GB the other way; fuzzing found it)."""
+def schedule_json_pieces(s: Schedule) -> Iterator[str]:
+    """The text of ``jsonio.dumps(schedule_to_dict(s))`` in pieces, to be joined or written
+    one after another: the samples a block of rows at a time
+    (:mod:`kinematics.timing.schedule_text`), never every sample as Python objects at once
+    (a 126 000-sample mecanum schedule took 1.1 GB that way; fuzzing found it).
+
+    Raises ``ValueError`` on a non-finite number before the first piece is made."""
     from kinematics.files.jsonio import dumps
+    from kinematics.timing.schedule_text import sample_rows_json
 
     mark = "\x00samples\x00"
     head = schedule_to_dict(s, samples=False)
     head["samples"] = mark
     text = dumps(head)
-    rows = [dumps(row).rstrip("\n").replace("\n", "\n    ") for row in _sample_dicts(s)]
-    body = "[\n    " + ",\n    ".join(rows) + "\n  ]" if rows else "[]"
     before, after = text.split(json.dumps(mark), 1)
-    return before + body + after
+    body = sample_rows_json(s)
+    if body is None:  # a name the fast template cannot hold: a row at a time
+        rows = [dumps(row).rstrip("\n").replace("\n", "\n    ") for row in _sample_dicts(s)]
+        body = iter(["[\n    " + ",\n    ".join(rows) + "\n  ]" if rows else "[]"])
+    return itertools.chain((before,), body, (after,))
+
+
+def schedule_json_text(s: Schedule) -> str:
+    """``jsonio.dumps(schedule_to_dict(s))``, the same text, made a block of samples at a
+    time (:func:`schedule_json_pieces`)."""
+    return "".join(schedule_json_pieces(s))
 
 
 def schedule_to_dict(s: Schedule, samples: bool = True) -> dict:
@@ -460,20 +474,6 @@ def schedule_to_dict(s: Schedule, samples: bool = True) -> dict:
     }
     if s.pieces is not None:
         out["stops"] = s.stop_rows()
-    return out
-
-
-def sample_curvature(s: Schedule) -> NDArray[np.float64]:
-    """Signed path curvature (1/m) at each sample (0 in pivots and on holonomic lines)."""
-    sm = s.samples
-    out = np.zeros(sm.t_s.size)
-    p = s.profile
-    for i in unique_sorted(sm.segment):
-        seg = p.segments[int(i)]
-        m = sm.segment == i
-        if seg.kind in ("arc", "clothoid"):
-            out[m] = seg.curvature_at(np.clip(sm.station_m[m] - p.station0_m[int(i)], 0.0,
-                                              seg.length_m))
     return out
 
 
@@ -529,9 +529,11 @@ def schedule_meta(s: Schedule) -> dict:
     }
 
 
-def samples_to_csv(s: Schedule) -> str:
-    """The sampled schedule as CSV: ``#`` comment lines (:func:`schedule_meta`), a header row
-    (:func:`sample_columns`), then one row per sample, ``t_s`` strictly increasing."""
+def samples_csv_pieces(s: Schedule) -> Iterator[str]:
+    """The text of :func:`samples_to_csv` in pieces: the comment lines and header, then the
+    rows a block at a time (:func:`kinematics.timing.schedule_text.sample_rows_csv`)."""
+    from kinematics.timing.schedule_text import sample_rows_csv
+
     meta = schedule_meta(s)
 
     def dumps(v: object) -> str:
@@ -548,19 +550,13 @@ def samples_to_csv(s: Schedule) -> str:
     buf.write("# columns: " + ", ".join(meta["columns"]) + "\n")
     w = csv.writer(buf, lineterminator="\n")
     w.writerow(sample_columns(s.drive) + trailer_sample_columns(s))
-    sm = s.samples
-    curv = sample_curvature(s)
-    for k in range(sm.t_s.size):
-        cells = [_cell(float(sm.t_s[k])), str(int(sm.segment[k])), _cell(float(sm.station_m[k])),
-                 _cell(float(sm.x[k])), _cell(float(sm.y[k])),
-                 _cell(math.degrees(float(sm.heading_rad[k]))), _cell(float(sm.v_mps[k])),
-                 _cell(math.degrees(float(sm.omega_radps[k]))), _cell(float(curv[k]))]
-        cells += [_cell(float(sm.rate_radps[n][k])) for n in s.drive.wheel_names]
-        cells += [_cell(math.degrees(float(sm.angle_rad[n][k])))
-                  for n in s.drive.steered_wheels]
-        cells += [_cell(v) for v in trailer_sample_cells(s, k)]
-        w.writerow(cells)
-    return buf.getvalue()
+    return itertools.chain((buf.getvalue(),), sample_rows_csv(s))
+
+
+def samples_to_csv(s: Schedule) -> str:
+    """The sampled schedule as CSV: ``#`` comment lines (:func:`schedule_meta`), a header row
+    (:func:`sample_columns`), then one row per sample, ``t_s`` strictly increasing."""
+    return "".join(samples_csv_pieces(s))
 
 
 def csv_columns(drive: DriveModel) -> list[str]:
