@@ -17,6 +17,7 @@ from PySide6.QtCore import Qt
 from PySide6.QtGui import (
     QPainterPath,
 )
+from PySide6.QtWidgets import QGraphicsItem
 
 from kinematics.motion.segments import Segment
 
@@ -241,8 +242,11 @@ class RouteDrawing:
             local = np.arange(0.0, seg.length_m, spacing)
             if key[1]:
                 local = np.append(local, seg.length_m)
-            it = self._outline_pool.pop() if self._outline_pool else \
-                _RoughWhileDragging(self.band_item._rough, self.outlines_item)
+            if self._outline_pool:
+                it = self._outline_pool.pop()
+            else:
+                it = _RoughWhileDragging(self.band_item._rough, self.outlines_item)
+                it.setCacheMode(QGraphicsItem.CacheMode.DeviceCoordinateCache)
             it.setPen(self.outlines_item.pen())
             path = footprint_outlines(footprint, seg.poses_at(local))
             if trailers:
