@@ -81,6 +81,7 @@ from .canvas_items import (  # noqa: F401 - also imported from here by others
     _Polyline,
     _RoughWhileDragging,
     _set_text,
+    _ViewCachedPath,
     footprint_outlines,
     polygons_path,
     sample_segments,
@@ -272,7 +273,7 @@ class PlanCanvas(PlanDrawing, RouteDrawing, CanvasEditing, QWidget):
         self.obstacles_item.setBrush(qbrush(STYLES["obstacle"].fill))
         self.obstacles_item.setZValue(0)
         add(self.obstacles_item)
-        self.hatch_item = QGraphicsPathItem()
+        self.hatch_item = _ViewCachedPath()
         self.hatch_item.setPen(QPen(Qt.PenStyle.NoPen))
         self.hatch_item.setBrush(hatch_brush(STYLES["obstacle"].fill) or _NO_BRUSH)
         self.hatch_item.setZValue(0.1)

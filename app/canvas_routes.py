@@ -20,6 +20,7 @@ from PySide6.QtGui import (
     QPainterPath,
     QPen,
 )
+from PySide6.QtWidgets import QGraphicsItem
 
 from kinematics.motion.segments import Segment
 
@@ -286,8 +287,11 @@ class RouteDrawing:
         for key, (k, seg) in want.items():
             if key in items:
                 continue
-            it = self._outline_pool.pop() if self._outline_pool else \
-                _RoughWhileDragging(self.band_item._rough, self.outlines_item)
+            if self._outline_pool:
+                it = self._outline_pool.pop()
+            else:
+                it = _RoughWhileDragging(self.band_item._rough, self.outlines_item)
+                it.setCacheMode(QGraphicsItem.CacheMode.DeviceCoordinateCache)
             it.setPen(self.outlines_item.pen())
             # The scene's outline stations for this segment, as route_layer places them.
             local = segment_outline_stations(seg, spacing, key[1])
