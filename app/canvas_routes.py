@@ -4,6 +4,31 @@ footprint outlines and violations, and the other routes.
 Owns :class:`RouteDrawing`, the part of :class:`app.canvas.PlanCanvas` called on every drag
 step (``refresh_routes``): each piece is redrawn only when what it shows changed, and the band
 and outlines are kept per segment, so a step touches only the segments that moved.
+
+Why the canvas keeps caches of the scene's pieces rather than rebuilding the scene: a drag
+step must fit in a frame, and remaking the whole route's layer (:func:`app.scene.route_layer`,
+:func:`app.scene.band_pieces`) re-samples and re-sweeps every segment, most of which a step
+leaves as they were. So the canvas asks the scene's per-segment builders only for segments it
+has not seen, and draws exactly what they return (tests/test_drag_scene.py compares the
+canvas after a drag with the scene built afresh):
+
+- ``_sample_cache``: the points along each segment (:func:`app.scene.segment_samples`), keyed
+  by ``(segment, step_m)``. A :class:`kinematics.motion.segments.Segment` is a frozen value
+  (kind, start pose, length, turn, direction, course, curvatures) that fixes every point of
+  it, and its points depend on nothing else, so an equal
+  key always means equal points. Entries of segments no longer on the route are dropped once
+  the cache holds more than four times the route's segments (plus 64), so a long drag does not
+  grow it without bound.
+- ``_sweep_cache``: each segment's swept-band piece as a painter path
+  (:func:`app.scene.band_piece`, from the check's own parts when it has them), keyed by the
+  segment, and for a train also by the trailers' headings where the segment starts (all an
+  edit earlier on the route changes for them). The piece depends besides only on the
+  footprint and the trailers' geometry, so the whole cache is emptied when
+  ``_sweep_cache_key`` (footprint, trailers' hitch, drawbar and footprint) changes; after each
+  redraw it holds only the current route's segments.
+- ``_outline_items``: one outline item per segment, keyed by the segment, whether it is the
+  last, the spacing, the footprint and the trailers' state (the stations are
+  :func:`app.scene.segment_outline_stations`); items whose key left the route go back to a pool.
 """
 
 from __future__ import annotations

@@ -413,12 +413,22 @@ def _dark(win: np.ndarray, level: int = 110) -> np.ndarray:
     return win.max(axis=2) < level
 
 
+def _fit_grab(canvas) -> np.ndarray:
+    """The canvas fitted to the plan again and grabbed (a test before may have zoomed in, and
+    ``to_can`` maps through the view as it is now)."""
+    canvas.fit()
+    for _ in range(5):
+        QApplication.processEvents()
+    return _array(canvas.plot.viewport().grab().toImage())
+
+
 def test_waypoint_numbers_sit_inside_the_ring_in_both(painted):
     # Source: app.painting._paint_marker (the picture centres a waypoint's number in its
     # ring, bold 10 px) and the legend's "waypoint (number)"; the canvas drew the number above
     # and to the right of the ring. Inside the ring's white disc (radius WAYPOINT_R_PX less
     # its line) the only dark pixels are the number's; their centroid is the ring's centre.
-    pic, to_pic, can, to_can, project, _checks, _c, _cp, _cc, _free = painted
+    pic, to_pic, _can, to_can, project, _checks, canvas, _cp, _cc, _free = painted
+    can = _fit_grab(canvas)
     inner = scene.WAYPOINT_R_PX - 2.5
     for k, w in enumerate(project.route(FAILING).waypoints):
         counts = []
@@ -494,7 +504,8 @@ def test_a_pivot_has_the_same_symbol_in_the_canvas_the_picture_and_the_legend(pa
     from app.painting import font
     from app.picture_frame import draw_legend
 
-    pic, to_pic, can, to_can, project, checks, _c, _cp, _cc, _free = painted
+    pic, to_pic, _can, to_can, project, checks, canvas, _cp, _cc, _free = painted
+    can = _fit_grab(canvas)
     assert project.chassis.drive == "differential"
     plans, _checks, _e = compute_results(project)
     (x, y), turn, lines = _pivot_and_lines(project, plans)
