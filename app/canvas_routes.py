@@ -15,10 +15,9 @@ canvas after a drag with the scene built afresh):
 - ``_sample_cache``: the points along each segment (:func:`app.scene.segment_samples`), keyed
   by ``(segment, step_m)``. A :class:`kinematics.motion.segments.Segment` is a frozen value
   (kind, start pose, length, turn, direction, course, curvatures) that fixes every point of
-  it, and its points depend on nothing else, so an equal
-  key always means equal points. Entries of segments no longer on the route are dropped once
-  the cache holds more than four times the route's segments (plus 64), so a long drag does not
-  grow it without bound.
+  it, and its points depend on nothing else, so an equal key always means equal points.
+  Entries of segments no longer on the route are dropped once the cache holds more than four
+  times the route's segments (plus 64), so a long drag does not grow it without bound.
 - ``_sweep_cache``: each segment's swept-band piece as a painter path
   (:func:`app.scene.band_piece`, from the check's own parts when it has them), keyed by the
   segment, and for a train also by the trailers' headings where the segment starts (all an
