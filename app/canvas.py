@@ -81,6 +81,7 @@ from .canvas_items import (  # noqa: F401 - also imported from here by others
     _Polyline,
     _RoughWhileDragging,
     _set_text,
+    _ViewCachedPath,
     footprint_outlines,
     polygons_path,
     sample_segments,
@@ -105,6 +106,8 @@ from .scene import (
     HANDLE_R_PX,
     HANDLE_SHAPE,
     JAMB_R_PX,
+    PIVOT_R_PX,
+    PIVOT_WIDTH_PX,
     STYLES,
     VIOLATION_SHAPES,
     WAYPOINT_R_PX,
@@ -270,7 +273,7 @@ class PlanCanvas(PlanDrawing, RouteDrawing, CanvasEditing, QWidget):
         self.obstacles_item.setBrush(qbrush(STYLES["obstacle"].fill))
         self.obstacles_item.setZValue(0)
         add(self.obstacles_item)
-        self.hatch_item = QGraphicsPathItem()
+        self.hatch_item = _ViewCachedPath()
         self.hatch_item.setPen(QPen(Qt.PenStyle.NoPen))
         self.hatch_item.setBrush(hatch_brush(STYLES["obstacle"].fill) or _NO_BRUSH)
         self.hatch_item.setZValue(0.1)
@@ -334,6 +337,15 @@ class PlanCanvas(PlanDrawing, RouteDrawing, CanvasEditing, QWidget):
         for it in (self.path_fwd, self.path_rev):
             it.setZValue(4)
             add(it)
+        # Turns on the spot: the picture's ring and arrow head (app.qstyle.pivot_paths) in
+        # the route's colour, the ring stroked and the head filled.
+        self.pivot_rings = _Markers("pivot_ring+", 2 * PIVOT_R_PX, _pen(BLACK, PIVOT_WIDTH_PX),
+                                    None)
+        self.pivot_heads = _Markers("pivot_head+", 2 * PIVOT_R_PX, _pen(BLACK, 1.0),
+                                    _brush(BLACK))
+        for it in (self.pivot_rings, self.pivot_heads):
+            it.setZValue(4.5)
+            add(it, ignoreBounds=True)
         self.chords_item = _Polyline(_pen("#777777", 1.0, Qt.PenStyle.DotLine))
         self.chords_item.setZValue(3.5)
         add(self.chords_item)

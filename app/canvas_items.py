@@ -21,6 +21,7 @@ from PySide6.QtCore import QPointF, QRectF, Qt
 from PySide6.QtGui import (
     QBrush,
     QColor,
+    QImage,
     QPainter,
     QPainterPath,
     QPen,
@@ -34,7 +35,7 @@ from PySide6.QtWidgets import (
 )
 
 from .palette import ORANGE, PURPLE
-from .qstyle import marker_path, qbrush
+from .qstyle import marker_path, pivot_paths, qbrush
 from .scene import (
     STYLES,
     VIOLATION_R_PX,
@@ -163,6 +164,56 @@ class _RoughWhileDragging(QGraphicsPathItem):
             self.update()
 
 
+class _ViewCachedPath(QGraphicsPathItem):
+    """A path item that repaints from a picture of its last full paint while the view and
+    the path are unchanged (the floor plan's hatch: a 20,000-edge path filled with a
+    pattern brush on every repaint cost most of a drag step's paint on a big plan).
+
+    Qt's own item caches paint into a pixmap placed at the item's bounding box, which lays a
+    pattern brush at another phase than a paint on the viewport; this picture is the whole
+    viewport, painted with the viewport painter's own transform, so its pixels are the ones
+    a direct paint lays, and a repaint of part of the view copies that part."""
+
+    def __init__(self, parent: QGraphicsItem | None = None) -> None:
+        super().__init__(parent)
+        self._picture: QImage | None = None
+        self._picture_key: tuple | None = None
+
+    def setPath(self, path: QPainterPath) -> None:  # noqa: N802 - Qt's name
+        self._picture_key = None
+        super().setPath(path)
+
+    def setBrush(self, brush: QBrush) -> None:  # noqa: N802 - Qt's name
+        self._picture_key = None
+        super().setBrush(brush)
+
+    def setPen(self, pen: QPen) -> None:  # noqa: N802 - Qt's name
+        self._picture_key = None
+        super().setPen(pen)
+
+    def paint(self, painter: QPainter, option, widget=None) -> None:  # noqa: D102 - Qt's
+        dev = painter.device()
+        tf = painter.deviceTransform()
+        ratio = dev.devicePixelRatioF() if hasattr(dev, "devicePixelRatioF") else 1.0
+        key = (tf.m11(), tf.m12(), tf.m21(), tf.m22(), tf.dx(), tf.dy(), dev.width(),
+               dev.height(), ratio, int(painter.renderHints().value), self.opacity())
+        if self._picture is None or key != self._picture_key:
+            img = QImage(max(1, round(dev.width() * ratio)), max(1, round(dev.height() * ratio)),
+                         QImage.Format.Format_ARGB32_Premultiplied)
+            img.fill(0)
+            p = QPainter(img)
+            p.setRenderHints(painter.renderHints())
+            p.setTransform(tf)
+            super().paint(p, option, widget)
+            p.end()
+            img.setDevicePixelRatio(ratio)
+            self._picture, self._picture_key = img, key
+        painter.save()
+        painter.resetTransform()
+        painter.drawImage(QPointF(0.0, 0.0), self._picture)
+        painter.restore()
+
+
 class _Polyline(QGraphicsPathItem):
     """A polyline (NaN breaks it) as one path item; ``setData(x, y)`` like a plot curve."""
 
@@ -202,6 +253,9 @@ def _symbol_path(symbol: str, size_px: float) -> QPainterPath:
     if path is None:
         if symbol in _SCENE_SHAPES:
             path = marker_path(symbol, QPointF(0.0, 0.0), size_px / 2.0)
+        elif symbol.startswith("pivot_"):  # "pivot_ring+", "pivot_head-": a turn on the spot
+            ring, head = pivot_paths(1.0 if symbol.endswith("+") else -1.0, size_px / 2.0)
+            path = ring if symbol.startswith("pivot_ring") else head
         else:
             path = QTransform.fromScale(size_px, size_px).map(Symbols[symbol])
         _SYMBOL_PATHS[key] = path

@@ -4,6 +4,30 @@ footprint outlines and violations, and the other routes.
 Owns :class:`RouteDrawing`, the part of :class:`app.canvas.PlanCanvas` called on every drag
 step (``refresh_routes``): each piece is redrawn only when what it shows changed, and the band
 and outlines are kept per segment, so a step touches only the segments that moved.
+
+Why the canvas keeps caches of the scene's pieces rather than rebuilding the scene: a drag
+step must fit in a frame, and remaking the whole route's layer (:func:`app.scene.route_layer`,
+:func:`app.scene.band_pieces`) re-samples and re-sweeps every segment, most of which a step
+leaves as they were. So the canvas asks the scene's per-segment builders only for segments it
+has not seen, and draws exactly what they return (tests/test_drag_scene.py compares the
+canvas after a drag with the scene built afresh):
+
+- ``_sample_cache``: the points along each segment (:func:`app.scene.segment_samples`), keyed
+  by ``(segment, step_m)``. A :class:`kinematics.motion.segments.Segment` is a frozen value
+  (kind, start pose, length, turn, direction, course, curvatures) that fixes every point of
+  it, and its points depend on nothing else, so an equal key always means equal points.
+  Entries of segments no longer on the route are dropped once the cache holds more than four
+  times the route's segments (plus 64), so a long drag does not grow it without bound.
+- ``_sweep_cache``: each segment's swept-band piece as a painter path
+  (:func:`app.scene.band_piece`, from the check's own parts when it has them), keyed by the
+  segment, and for a train also by the trailers' headings where the segment starts (all an
+  edit earlier on the route changes for them). The piece depends besides only on the
+  footprint and the trailers' geometry, so the whole cache is emptied when
+  ``_sweep_cache_key`` (footprint, trailers' hitch, drawbar and footprint) changes; after each
+  redraw it holds only the current route's segments.
+- ``_outline_items``: one outline item per segment, keyed by the segment, whether it is the
+  last, the spacing, the footprint and the trailers' state (the stations are
+  :func:`app.scene.segment_outline_stations`); items whose key left the route go back to a pool.
 """
 
 from __future__ import annotations
@@ -15,8 +39,12 @@ from typing import Any
 import numpy as np
 from PySide6.QtCore import Qt
 from PySide6.QtGui import (
+    QBrush,
+    QFont,
     QPainterPath,
+    QPen,
 )
+from PySide6.QtWidgets import QGraphicsItem
 
 from kinematics.motion.segments import Segment
 
@@ -42,12 +70,27 @@ from .canvas_items import (
 from .palette import BLACK
 from .qstyle import qbrush, qpen
 from .scene import (
+    PIVOT_WIDTH_PX,
     STYLES,
     WAYPOINT_R_PX,
     band_piece,
     route_style,
+    segment_outline_stations,
     violation_layer,
 )
+
+_FONTS: dict[str, QFont] = {}
+
+
+def _waypoint_font() -> QFont:
+    """The waypoints' numbers: the picture's marker text at the default size (bold, 10 px);
+    made once, after the application exists."""
+    f = _FONTS.get("waypoint")
+    if f is None:
+        f = _FONTS["waypoint"] = QFont("DejaVu Sans")
+        f.setPixelSize(10)
+        f.setBold(True)
+    return f
 
 
 class RouteDrawing:
@@ -71,7 +114,8 @@ class RouteDrawing:
                                       [pending[1]] if pending else [])
         if cur is None:
             for it in (self.path_fwd, self.path_rev, self.chords_item, self.waypoints_item,
-                       self.handles_item, self.handles_line, self.violations_item):
+                       self.handles_item, self.handles_line, self.violations_item,
+                       self.pivot_rings, self.pivot_heads):
                 it.setData([], [])
             self.band_item.setPath(QPainterPath())
             self._draw_outlines([], self.doc.project.chassis.footprint)
@@ -79,6 +123,7 @@ class RouteDrawing:
             self._labels(self.violation_labels, 0, BLACK, None, (0, 0))
             self._samples = sample_segments([])
             self._drawn.pop("violations", None)
+            self._drawn.pop("pivots", None)
             return
         plan = doc.plan(cur.name)
         segs = list(plan.segments) if plan is not None else []
@@ -96,11 +141,17 @@ class RouteDrawing:
         self.waypoints_item.setData(wx, wy, brush=[_SELECTED_BRUSH if s else _WAYPOINT_BRUSH
                                                    for s in sel],
                                     size=np.where(sel, 2 * WAYPOINT_R_PX + 3, 2 * WAYPOINT_R_PX))
-        labels = self._labels(self.wp_labels, len(wx), BLACK, None, (-0.35, 1.15))
+        # Each waypoint's number inside its ring, in the picture's bold type
+        # (app.painting._paint_marker, the legend's "waypoint (number)").
+        labels = self._labels(self.wp_labels, len(wx), STYLES["waypoint"].ink, None,
+                              (0.5, 0.5))
         for k, t in enumerate(labels):
+            if t.text_item.font() != _waypoint_font():
+                t.text_item.setFont(_waypoint_font())
             _set_text(t, str(k + 1))
             t.setPos(wx[k], wy[k])
         self._draw_handles()
+        self._draw_pivots(segs)
         self._draw_band_and_outlines(segs)
         self._draw_violations(cur.name)
 
@@ -116,6 +167,28 @@ class RouteDrawing:
         wp.setWidthF(2.0)
         wp.setStyle(Qt.PenStyle.SolidLine)
         self.waypoints_item.setPen(wp)
+        ring = QPen(wp)
+        ring.setWidthF(PIVOT_WIDTH_PX)
+        self.pivot_rings.setPen(ring)
+        head = QPen(wp)
+        head.setWidthF(1.0)
+        self.pivot_heads.setPen(head)
+        self._pivot_brush = QBrush(wp.color())
+        self._drawn.pop("pivots", None)
+
+    def _draw_pivots(self, segs: list[Segment]) -> None:
+        """Each turn on the spot as the picture draws it: a ring with an arrow head turning
+        the way the body turns (app.qstyle.pivot_paths)."""
+        piv = [s for s in segs if s.kind == "pivot" and s.turn_rad != 0.0]
+        key = [(s.start[0], s.start[1], s.turn_rad > 0) for s in piv]
+        if key == self._drawn.get("pivots"):
+            return
+        self._drawn["pivots"] = key
+        xs, ys = [k[0] for k in key], [k[1] for k in key]
+        signs = ["+" if k[2] else "-" for k in key]
+        self.pivot_rings.setData(xs, ys, symbol=["pivot_ring" + g for g in signs])
+        self.pivot_heads.setData(xs, ys, symbol=["pivot_head" + g for g in signs],
+                                 brush=getattr(self, "_pivot_brush", None))
 
     def _draw_other_routes(self) -> None:
         """Other routes: faint dash-dot paths so the user sees what else shares the floor."""
@@ -238,12 +311,14 @@ class RouteDrawing:
         for key, (k, seg) in want.items():
             if key in items:
                 continue
-            local = np.arange(0.0, seg.length_m, spacing)
-            if key[1]:
-                local = np.append(local, seg.length_m)
-            it = self._outline_pool.pop() if self._outline_pool else \
-                _RoughWhileDragging(self.band_item._rough, self.outlines_item)
+            if self._outline_pool:
+                it = self._outline_pool.pop()
+            else:
+                it = _RoughWhileDragging(self.band_item._rough, self.outlines_item)
+                it.setCacheMode(QGraphicsItem.CacheMode.DeviceCoordinateCache)
             it.setPen(self.outlines_item.pen())
+            # The scene's outline stations for this segment, as route_layer places them.
+            local = segment_outline_stations(seg, spacing, key[1])
             path = footprint_outlines(footprint, seg.poses_at(local))
             if trailers:
                 # The trace's progress on a line or arc is its length along the segment.

@@ -41,11 +41,12 @@ from .palette import (
     BLUE,
     VERMILLION,
 )
-from .qstyle import marker_path, paint_area_sample, qbrush, qpen
+from .qstyle import marker_path, paint_area_sample, pivot_paths, qbrush, qpen
 from .scene import (
     FAINT_INK,
     INK,
     JAMB_R_PX,
+    PIVOT_WIDTH_PX,
     ROUTE_WIDTH_PX,
     STYLES,
     WAYPOINT_R_PX,
@@ -198,10 +199,13 @@ def draw_legend(p: QPainter, rect: QRectF, names: Sequence[str], index_of: dict,
             p.setPen(pen(arg or INK, ROUTE_WIDTH_PX * u, style))
             p.drawLine(QPointF(x0, cy), QPointF(x0 + sw, cy))
         elif kind == "pivot":
-            r = 8 * u
-            p.setPen(pen(INK, 2.0 * u))
+            # The plan's symbol (ring and arrow head), a little smaller.
+            ring, head = pivot_paths(1.0, 8 * u, QPointF(x0 + sw / 2, cy))
+            p.setPen(pen(INK, PIVOT_WIDTH_PX * u))
             p.setBrush(Qt.BrushStyle.NoBrush)
-            p.drawArc(QRectF(x0 + sw / 2 - r, cy - r, 2 * r, 2 * r), 30 * 16, 300 * 16)
+            p.drawPath(ring)
+            p.setBrush(QBrush(QColor(INK)))
+            p.drawPath(head)
         elif kind == "band":
             p.setPen(Qt.PenStyle.NoPen)
             p.setBrush(qbrush(STYLES["band"].fill))

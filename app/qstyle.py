@@ -78,6 +78,32 @@ def marker_path(shape: str, centre: QPointF, r: float, angle_rad: float = 0.0
     return path
 
 
+def pivot_paths(turn: float, r: float, centre: QPointF | None = None
+                ) -> tuple[QPainterPath, QPainterPath]:
+    """The "turn on the spot" symbol of radius ``r`` pixels (screen axes): ``(ring, head)``,
+    an open ring of 300 degrees (stroked, not filled) and the arrow head at its end (filled),
+    turning the way the body turns (``turn`` > 0: counter-clockwise as seen on the plan).
+    The picture, its legend and the canvas draw this one symbol (``scene.PIVOT_R_PX``)."""
+    cx, cy = (centre.x(), centre.y()) if centre is not None else (0.0, 0.0)
+    span = 300.0 if turn > 0 else -300.0
+    rect = QRectF(cx - r, cy - r, 2 * r, 2 * r)
+    ring = QPainterPath()
+    ring.arcMoveTo(rect, 30.0)
+    ring.arcTo(rect, 30.0, span)
+    end = math.radians(30.0 + span)
+    tip = (cx + r * math.cos(end), cy - r * math.sin(end))
+    tang = end + (math.pi / 2 if span > 0 else -math.pi / 2)
+    tx, ty = math.cos(tang), -math.sin(tang)
+    h = 5.0 * r / 11.0
+    head = QPainterPath()
+    head.addPolygon(QPolygonF([
+        QPointF(tip[0] + tx * h, tip[1] + ty * h),
+        QPointF(tip[0] - tx * h * 0.2 - ty * h, tip[1] - ty * h * 0.2 + tx * h),
+        QPointF(tip[0] - tx * h * 0.2 + ty * h, tip[1] - ty * h * 0.2 - tx * h)]))
+    head.closeSubpath()
+    return ring, head
+
+
 def paint_area(p: QPainter, style: Style, path: QPainterPath, scale: float = 1.0) -> None:
     """An area in ``style``: its fill, the hatch over it, then its outline (pen width times
     ``scale``); used for the plan's areas and their legend samples alike."""

@@ -41,7 +41,6 @@ from PySide6.QtGui import (
     QImage,
     QPainter,
     QPainterPath,
-    QPolygonF,
 )
 
 from kinematics.analysis.report_text import CAUTION
@@ -91,11 +90,13 @@ from .picture_frame import (  # noqa: F401 - also imported from here by others
     _draw_title,
     draw_legend,
 )
-from .qstyle import qbrush
+from .qstyle import pivot_paths, qbrush
 from .scene import (  # noqa: F401 - the geometry helpers are re-exported for older callers
     FAINT_INK,
     INK,
     JAMB_R_PX,
+    PIVOT_R_PX,
+    PIVOT_WIDTH_PX,
     ROUTE_COLOURS,
     ROUTE_WIDTH_PX,
     STYLES,
@@ -393,27 +394,18 @@ def _draw_trailers(p: QPainter, view: _View, vehicle: Any, check: Any, segments:
 
 
 def _draw_pivots(p: QPainter, view: _View, segments: Sequence, colour: str, u: float) -> None:
-    """Pivots: a ring with an arrow head, turning the way the body turns."""
+    """Pivots: a ring with an arrow head, turning the way the body turns
+    (:func:`app.qstyle.pivot_paths`, as the canvas draws them)."""
     for seg in segments:
         if seg.kind != "pivot" or seg.turn_rad == 0.0:
             continue
-        c = view.pt(seg.start[0], seg.start[1])
-        r = 11 * u
-        rect = QRectF(c.x() - r, c.y() - r, 2 * r, 2 * r)
-        p.setPen(pen(colour, 2.0 * u))
+        ring, head = pivot_paths(seg.turn_rad, PIVOT_R_PX * u,
+                                 view.pt(seg.start[0], seg.start[1]))
+        p.setPen(pen(colour, PIVOT_WIDTH_PX * u))
         p.setBrush(Qt.BrushStyle.NoBrush)
-        span = 300 if seg.turn_rad > 0 else -300
-        p.drawArc(rect, 30 * 16, span * 16)
-        end = math.radians(30 + span)
-        tip = QPointF(c.x() + r * math.cos(end), c.y() - r * math.sin(end))
-        tang = end + (math.pi / 2 if span > 0 else -math.pi / 2)
-        tx, ty = math.cos(tang), -math.sin(tang)
-        h = 5 * u
+        p.drawPath(ring)
         p.setBrush(QBrush(QColor(colour)))
-        p.drawPolygon(QPolygonF([
-            QPointF(tip.x() + tx * h, tip.y() + ty * h),
-            QPointF(tip.x() - tx * h * 0.2 - ty * h, tip.y() - ty * h * 0.2 + tx * h),
-            QPointF(tip.x() - tx * h * 0.2 + ty * h, tip.y() - ty * h * 0.2 - tx * h)]))
+        p.drawPath(head)
 
 
 def _draw_headings(p: QPainter, view: _View, route: Any, colour: str, u: float) -> None:

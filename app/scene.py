@@ -12,7 +12,9 @@ outline and each violation's marker look the same in the window, the PNG and the
   (:mod:`kinematics.analysis.results`) and the core's plans and checks;
 - :func:`zone_layer`, :func:`zone_caption`, :data:`ZONE_WORDS`: how zones look (one style per
   kind in :data:`STYLES`, ``zone_<kind>``: fill, hatch pattern, outline dash, ink);
-- :func:`legend_rows`: the legend's rows, in the order and words every legend uses.
+- :func:`legend_rows`: the legend's rows, in the order and words every legend uses;
+- the geometry the primitives are placed at (points along segments, outline poses, the swept
+  band's per-segment pieces) is :mod:`app.scene_geometry`'s, read from here as well.
 
 It lives in ``app/`` because it is about drawing (roles, pixels, colours), but it imports no
 Qt: the primitives are plain data (shapely geometry, numpy arrays, strings), so a test can
@@ -48,6 +50,19 @@ from .palette import (
     SKY,
     VERMILLION,
     WALL_FILL,
+)
+from .scene_geometry import (  # noqa: F401 - the geometry is read from app.scene too
+    band_bounds,
+    band_piece,
+    band_pieces,
+    outline_poses,
+    place_footprint,
+    sample_path,
+    sample_segments,
+    segment_outline_poses,
+    segment_outline_stations,
+    segment_samples,
+    swept_geometry,
 )
 
 INK = "#1A1A1A"
@@ -149,6 +164,10 @@ VIOLATION_R_PX = 8.0
 #: waypoint).
 HANDLE_SHAPE = "circle"
 HANDLE_R_PX = 5.0
+#: A turn on the spot: the ring's radius and its line's width, pixels at the default size
+#: (:func:`app.qstyle.pivot_paths`), in the route's colour.
+PIVOT_R_PX = 11.0
+PIVOT_WIDTH_PX = 2.0
 #: Route lines, pixels.
 ROUTE_WIDTH_PX = 2.5
 
@@ -322,160 +341,25 @@ def floorplan_layer(fp: Any, checks: dict | None = None, solids_list: Sequence[A
     return layer
 
 
-def segment_samples(seg: Any, step_m: float = 0.05) -> tuple[np.ndarray, np.ndarray]:
-    """Points along one segment for drawing and hover: ``(xy (n, 2), station from its start)``.
-
-    Arcs and clothoids a point every ``step_m`` and at most every 3 degrees; lines a point
-    every half metre (the hover read-out finds its station among them); pivots one point.
-    """
-    if seg.kind in ("arc", "clothoid"):
-        n = max(2, int(math.ceil(max(seg.length_m / step_m,
-                                     abs(seg.turn_rad) / math.radians(3.0)))) + 1)
-    elif seg.kind == "line":
-        n = max(2, int(math.ceil(seg.length_m / 0.5)) + 1)
-    else:
-        n = 1
-    f = np.linspace(0.0, 1.0, n)
-    return seg.poses_at_fraction(f)[:, :2], f * seg.length_m
-
-
-def sample_segments(segments: Sequence[Any], step_m: float = 0.05,
-                    cache: dict | None = None
-                    ) -> tuple[np.ndarray, np.ndarray, np.ndarray, np.ndarray]:
-    """Poses along a path for drawing and hover: ``(xy, station_m, seg_index, direction)``.
-
-    Each segment's points are :func:`segment_samples`'s. ``cache`` (a dict the caller keeps)
-    holds each segment's points by segment value, so a drag samples only the segments that
-    moved.
-    """
-    xy, st, idx, dirs = [], [], [], []
-    s0 = 0.0
-    for seg in segments:
-        hit = cache.get((seg, step_m)) if cache is not None else None
-        if hit is None:
-            hit = segment_samples(seg, step_m)
-            if cache is not None:
-                cache[(seg, step_m)] = hit
-        pts, ds = hit
-        xy.append(pts)
-        st.append(ds)
-        idx.append(s0)  # the segment's start station, spread over its points below
-        dirs.append(seg.direction)
-        s0 += seg.length_m
-    if not xy:
-        z = np.zeros((0,))
-        return np.zeros((0, 2)), z, z.astype(int), z.astype(int)
-    # Per-point columns in a few array operations over the whole route (not per segment).
-    counts = np.fromiter((len(p) for p in xy), dtype=np.int64, count=len(xy))
-    stations = np.concatenate(st) + np.repeat(np.asarray(idx, dtype=float), counts)
-    return (np.vstack(xy), stations, np.repeat(np.arange(len(xy)), counts),
-            np.repeat(np.asarray(dirs), counts))
-
-
-def sample_path(segments: Sequence[Any]) -> list[tuple[np.ndarray, int, int]]:
-    """Polylines to draw: ``(xy (n, 2), direction, segment index)`` per line, arc or clothoid,
-    with the points :func:`segment_samples` gives (the canvas draws the same points)."""
-    return [(segment_samples(seg)[0], int(seg.direction), i) for i, seg in enumerate(segments)
-            if seg.kind != "pivot"]
-
-
-def outline_poses(segments: Sequence[Any], count: int = 8) -> np.ndarray:
-    """Poses for footprint outlines: the start, the end and ``count`` in between."""
-    from kinematics.motion.segments import path_length, poses_along
-
-    if not segments:
-        return np.zeros((0, 3))
-    total = path_length(segments)
-    if total <= 0:
-        return np.array([segments[0].start, segments[-1].end], dtype=float)
-    st = np.linspace(0.0, total, count + 2)
-    poses = poses_along(segments, st)
-    poses[-1] = segments[-1].end
-    return poses
-
-
-def place_footprint(footprint: Sequence[tuple[float, float]], pose: Sequence[float]
-                    ) -> np.ndarray:
-    """The footprint's corners in the plan frame at ``pose`` ``(x, y, heading_rad)``."""
-    fp = np.asarray(footprint, dtype=float)
-    c, s = math.cos(pose[2]), math.sin(pose[2])
-    return np.column_stack([pose[0] + c * fp[:, 0] - s * fp[:, 1],
-                            pose[1] + s * fp[:, 0] + c * fp[:, 1]])
-
-
-def swept_geometry(footprint: Sequence[tuple[float, float]], segments: Sequence[Any],
-                   check: Any = None) -> Any:
-    """The swept area of a route as one shapely geometry (``None`` if it cannot be had).
-
-    Taken from the check when it carries it (``check.swept``), else from
-    :func:`kinematics.check.sweep.swept_route`.
-    """
-    import shapely
-
-    geom = getattr(check, "swept", None) if check is not None else None
-    if geom is None:
-        if not segments:
-            return None
-        from kinematics.check.sweep import swept_route
-
-        geom = swept_route(footprint, list(segments))
-    if isinstance(geom, (list, tuple)):
-        parts = [getattr(p, "geometry", p) for p in geom]
-        parts = [p for p in parts if p is not None]
-        return shapely.union_all(parts) if parts else None
-    return getattr(geom, "geometry", geom)
-
-
-def band_piece(footprint: Sequence[tuple[float, float]], segment: Any,
-               parts: Any = None) -> np.ndarray:
-    """One segment's piece of the swept band: the polygons whose union is the area it sweeps
-    (``parts``, the check's own, else swept now), oriented alike (exteriors
-    counter-clockwise, holes clockwise). Filled with a non-zero winding rule they cover their
-    union once without the union being computed."""
-    import shapely
-
-    if parts is None:
-        from kinematics.check.sweep import swept_parts
-
-        parts = swept_parts(footprint, segment)
-    arr = np.asarray(list(parts), dtype=object).ravel()
-    return shapely.orient_polygons(arr) if arr.size else arr
-
-
-def band_pieces(footprint: Sequence[tuple[float, float]], segments: Sequence[Any],
-                check: Any = None) -> list[np.ndarray]:
-    """The swept band of a route, one :func:`band_piece` per segment, from the check's parts
-    when it holds them for these segments (a train's include its trailers), as both painters
-    draw it: the picture fills each route's pieces as one path, the canvas keeps each
-    segment's piece by the segment's value so a drag remakes only the pieces that moved."""
-    parts = tuple(getattr(check, "piece_parts", None) or ()) if check is not None else ()
-    if len(parts) != len(segments):
-        parts = (None,) * len(segments)
-    return [band_piece(footprint, seg, raw) for seg, raw in zip(segments, parts)]
-
-
-def band_bounds(pieces: Sequence[np.ndarray] | None) -> tuple[float, float, float, float] | None:
-    """``(x0, y0, x1, y1)`` of a route's band pieces, or ``None`` when there is none."""
-    import shapely
-
-    arrs = [np.asarray(p, dtype=object).ravel() for p in pieces or ()]
-    arrs = [a for a in arrs if a.size]
-    if not arrs:
-        return None
-    b = shapely.total_bounds(np.concatenate(arrs))
-    return None if not np.all(np.isfinite(b)) else tuple(float(v) for v in b)
-
-
 def route_layer(route: Any, k: int, plan: Any, footprint: Sequence[tuple[float, float]],
-                outline_count: int = 8) -> Layer:
+                outline_count: int = 8, outline_spacing_m: float | None = None) -> Layer:
     """One route: its path (dashed in reverse), footprint outlines and numbered waypoints.
 
-    The swept band is :func:`band_pieces` (one piece per segment, in the ``band`` style of
-    :data:`STYLES`), which both painters fill.
+    Outlines: ``outline_count`` spread evenly along the route (the picture), or, with
+    ``outline_spacing_m``, every that many metres along each segment
+    (:func:`segment_outline_poses`, the window's). The swept band is :func:`band_pieces` (one
+    piece per segment, in the ``band`` style of :data:`STYLES`), which both painters fill.
     """
     layer = Layer()
     if plan is not None:
-        for pose in outline_poses(list(plan.segments), outline_count):
+        segs = list(plan.segments)
+        if outline_spacing_m:
+            poses = [segment_outline_poses(seg, outline_spacing_m, i == len(segs) - 1)
+                     for i, seg in enumerate(segs)]
+            poses = np.vstack(poses) if poses else np.zeros((0, 3))
+        else:
+            poses = outline_poses(segs, outline_count)
+        for pose in poses:
             ring = place_footprint(footprint, pose)
             layer.lines.append(Polyline(np.vstack([ring, ring[:1]]), STYLES["outline"].stroke,
                                         "outline"))

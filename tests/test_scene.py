@@ -6,6 +6,7 @@ from __future__ import annotations
 
 import dataclasses
 import math
+from collections.abc import Sequence
 from pathlib import Path
 
 import numpy as np
@@ -403,3 +404,142 @@ def test_waypoint_markers_are_the_same_ring_in_both(painted):
             assert len(d) > 20
             radii.append(d.mean())
         assert abs(radii[0] - radii[1]) < 1.0, radii
+
+
+def _dark(win: np.ndarray, level: int = 110) -> np.ndarray:
+    """The ink of text and of a black route: every channel below ``level`` (the white disc,
+    the light band and the route colours other than black are all lighter; at 45 the grey
+    footprint outlines are too)."""
+    return win.max(axis=2) < level
+
+
+def _fit_grab(canvas) -> np.ndarray:
+    """The canvas fitted to the plan again and grabbed (a test before may have zoomed in, and
+    ``to_can`` maps through the view as it is now)."""
+    canvas.fit()
+    for _ in range(5):
+        QApplication.processEvents()
+    return _array(canvas.plot.viewport().grab().toImage())
+
+
+def test_waypoint_numbers_sit_inside_the_ring_in_both(painted):
+    # Source: app.painting._paint_marker (the picture centres a waypoint's number in its
+    # ring, bold 10 px) and the legend's "waypoint (number)"; the canvas drew the number above
+    # and to the right of the ring. Inside the ring's white disc (radius WAYPOINT_R_PX less
+    # its line) the only dark pixels are the number's; their centroid is the ring's centre.
+    pic, to_pic, _can, to_can, project, _checks, canvas, _cp, _cc, _free = painted
+    can = _fit_grab(canvas)
+    inner = scene.WAYPOINT_R_PX - 2.5
+    for k, w in enumerate(project.route(FAILING).waypoints):
+        counts = []
+        for painter, arr, to_px in (("picture", pic, to_pic), ("canvas", can, to_can)):
+            cx, cy = to_px(w.x, w.y)
+            r = int(scene.WAYPOINT_R_PX) + 2
+            xi, yi = int(round(cx)), int(round(cy))
+            win = arr[yi - r:yi + r + 1, xi - r:xi + r + 1]
+            yy, xx = np.mgrid[-r:r + 1, -r:r + 1]
+            d = np.hypot(xx + xi - cx, yy + yi - cy)
+            ink = _dark(win) & (d < inner)
+            n = int(ink.sum())
+            assert n >= 6, (painter, k + 1, n)  # the digit is there, inside the ring
+            mx = (xx + xi - cx)[ink].mean()
+            my = (yy + yi - cy)[ink].mean()
+            assert math.hypot(mx, my) < 2.0, (painter, k + 1, mx, my)
+            counts.append(n)
+        # The same digit in the same type: about as many ink pixels in each.
+        assert 0.5 < counts[0] / counts[1] < 2.0, (k + 1, counts)
+
+
+def _ring_profile(arr: np.ndarray, cx: float, cy: float, r: float, skip_deg: Sequence[float]
+                  ) -> tuple[set[int], float]:
+    """A pivot symbol of radius ``r`` px centred at (cx, cy) in an image: the 10-degree bins
+    (angles counter-clockwise from +x on screen, y up) holding black pixels on the ring's
+    circle, and the mean angle of the black pixels just outside it (the arrow head). Bins
+    within 15 degrees of ``skip_deg`` (route lines leaving the centre) are left out."""
+    n = int(r * 1.6) + 3
+    xi, yi = int(round(cx)), int(round(cy))
+    win = arr[yi - n:yi + n + 1, xi - n:xi + n + 1]
+    yy, xx = np.mgrid[-n:n + 1, -n:n + 1]
+    dx, dy = xx + xi - cx, -(yy + yi - cy)
+    d = np.hypot(dx, dy)
+    ang = np.degrees(np.arctan2(dy, dx)) % 360.0
+    keep = np.ones_like(d, dtype=bool)
+    for s in skip_deg:
+        keep &= np.abs((ang - s + 180.0) % 360.0 - 180.0) > 15.0
+    dark = _dark(win, 45) & keep
+    on = dark & (np.abs(d - r) <= 1.2)
+    bins = {int(a // 10) for a in ang[on]}
+    out = dark & (d > r + 1.8) & (d < r * 1.5 + 1.0)
+    a = np.radians(ang[out])
+    head = math.degrees(math.atan2(np.sin(a).sum(), np.cos(a).sum())) % 360.0 if a.size \
+        else float("nan")
+    return bins, head
+
+
+def _pivot_and_lines(project, plans) -> tuple[tuple[float, float], float, list[float]]:
+    segs = list(plans[FAILING].segments)
+    i = next(i for i, s in enumerate(segs) if s.kind == "pivot" and s.turn_rad != 0.0)
+    x, y = segs[i].start[0], segs[i].start[1]
+    # Screen angles (y up) of the lines arriving and leaving: from the centre back along the
+    # previous segment and on along the next.
+    lines = [math.degrees(math.atan2(q[1] - y, q[0] - x)) % 360.0
+             for q in (segs[i - 1].start, segs[i + 1].end)]
+    return (x, y), segs[i].turn_rad, lines
+
+
+def _mirror(bins: set[int]) -> set[int]:
+    """Bins of the mirror image about the 30-degree line the ring starts on (a clockwise
+    symbol seen as the counter-clockwise one: angle -> 60 - angle)."""
+    return {int(((60.0 - (b * 10 + 5)) % 360.0) // 10) for b in bins}
+
+
+def test_a_pivot_has_the_same_symbol_in_the_canvas_the_picture_and_the_legend(painted):
+    # Source: app.qstyle.pivot_paths (an open ring of 300 degrees from the 30-degree line, an
+    # arrow head at its end, turning the way the body turns) drawn by the picture and its
+    # legend; the canvas drew no pivot at all, and the legend a ring without a head. The
+    # demo's failing route turns on the spot (differential chassis) at waypoint 2.
+    from PySide6.QtCore import QRectF
+    from PySide6.QtGui import QPainter
+
+    from app.painting import font
+    from app.picture_frame import draw_legend
+
+    pic, to_pic, _can, to_can, project, checks, canvas, _cp, _cc, _free = painted
+    can = _fit_grab(canvas)
+    assert project.chassis.drive == "differential"
+    plans, _checks, _e = compute_results(project)
+    (x, y), turn, lines = _pivot_and_lines(project, plans)
+    assert turn < 0  # clockwise: the ring runs from 30 degrees down round to 90
+    profiles = []
+    for painter, arr, to_px in (("picture", pic, to_pic), ("canvas", can, to_can)):
+        cx, cy = to_px(x, y)
+        bins, head = _ring_profile(arr, cx, cy, scene.PIVOT_R_PX, lines)
+        # 300 of 360 degrees drawn (less the bins the route lines hide); the 60-degree gap
+        # lies between 30 and 90 degrees, and the head at the ring's end, at 90 degrees.
+        assert len(bins) >= 22, (painter, sorted(bins))
+        assert not bins & {4, 5}, (painter, sorted(bins))
+        assert abs((head - 90.0 + 180.0) % 360.0 - 180.0) < 25.0, (painter, head)
+        profiles.append((bins, head))
+    (bp, hp), (bc, hc) = profiles
+    assert len(bp ^ bc) <= 3, sorted(bp ^ bc)
+    assert abs((hp - hc + 180.0) % 360.0 - 180.0) < 12.0, (hp, hc)
+
+    # The legend's sample: the same symbol, counter-clockwise, at radius 8 px (u = 1).
+    render.ensure_app()
+    img = QImage(400, 700, QImage.Format.Format_RGB32)
+    img.fill(QColor("white"))
+    p = QPainter(img)
+    p.setRenderHint(QPainter.RenderHint.Antialiasing)
+    names = [r.name for r in project.routes]
+    rect = QRectF(10, 10, 380, 680)
+    draw_legend(p, rect, names, {n: i for i, n in enumerate(names)}, checks, 1.0,
+                font(12), font(10))
+    p.end()
+    rows = scene.legend_rows(names, checks, {n: i for i, n in enumerate(names)})
+    i = [kind for kind, _t, _a in rows].index("pivot")
+    cx, cy = rect.left() + 10 + 38 / 2, rect.top() + 28 + 4 + 25 * (i + 0.5)
+    bl, hl = _ring_profile(_array(img), cx, cy, 8.0, [])
+    assert len(bl) >= 27 and not bl & {0, 1}, sorted(bl)  # the gap about 0 degrees
+    assert abs((hl - 330.0 + 180.0) % 360.0 - 180.0) < 25.0, hl
+    # Mirrored about its 30-degree line, the picture's clockwise ring is the legend's.
+    assert len(_mirror(bp) - bl) <= 2, sorted(_mirror(bp) - bl)
