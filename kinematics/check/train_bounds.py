@@ -56,26 +56,69 @@ COARSE_M = 0.25
 _MAX_ROUNDS = 48
 #: Slack of the box-distance test, metres (far above the rounding of any distance).
 _BOX_SLACK_M = 1e-9
+#: Least growth of a :class:`GrownBoxes` tree, metres.
+_MIN_GROW_M = 2.0 ** -10
 
 
-def box_pairs(b: np.ndarray, cap: np.ndarray, targets: np.ndarray, tree: Any
+class GrownBoxes:
+    """Pairs (geometry, target) whose bounding boxes come within a distance ``cap`` (per
+    geometry) of each other, for targets given by their bounds (a floor plan's solids or
+    door lines).
+
+    The targets' boxes grown by ``C`` (the largest cap of a call, rounded up to a power of
+    two) sit in an STRtree made once per ``C``; the geometries themselves query it (their
+    envelopes), so no grown box is made per geometry. Every pair whose boxes are within
+    ``cap`` meets that tree; of its answers the pairs whose boxes are farther apart than
+    their own ``cap`` (along an axis or across a corner) are dropped. The distance between
+    two boxes is a lower bound of the distance between anything inside them, so no pair left
+    out is within ``cap`` (the test allows :data:`_BOX_SLACK_M` for rounding), and each pair
+    dropped saves a GEOS distance."""
+
+    def __init__(self, targets: np.ndarray) -> None:
+        self.targets = np.asarray(targets, dtype=float).reshape(-1, 4)
+        self._trees: dict[int, Any] = {}
+
+    def _tree(self, cap: float) -> Any:
+        key = math.ceil(math.log2(max(cap, _MIN_GROW_M)))
+        got = self._trees.get(key)
+        if got is None:
+            c = 2.0 ** key
+            t = self.targets
+            ok = np.isfinite(t).all(axis=1)
+            boxes = np.full(len(t), None, dtype=object)
+            boxes[ok] = shapely.box(t[ok, 0] - c, t[ok, 1] - c, t[ok, 2] + c, t[ok, 3] + c)
+            got = self._trees[key] = shapely.STRtree(boxes)
+        return got
+
+    def pairs(self, geoms: np.ndarray, b: np.ndarray, cap: np.ndarray
               ) -> tuple[np.ndarray, np.ndarray]:
-    """Pairs (geometry, target) whose bounding boxes come within ``cap`` (per geometry) of
-    each other, ``b`` the geometries' bounds and ``targets`` the bounds of the geometries in
-    ``tree``: the tree's query of the boxes grown by ``cap``, less the pairs whose boxes are
-    farther apart than ``cap`` across a corner.
+        """``(geometry index, target index)`` of the pairs, ``b`` the geometries' bounds."""
+        if not len(geoms) or not len(self.targets):
+            return np.zeros(0, dtype=int), np.zeros(0, dtype=int)
+        top = float(np.max(cap))
+        if math.isfinite(top):
+            gi, tj = self._tree(top).query(geoms)
+        else:  # an unbounded reach: every pair is a candidate
+            gi, tj = (a.ravel() for a in np.meshgrid(np.arange(len(geoms)),
+                                                    np.arange(len(self.targets)),
+                                                    indexing="ij"))
+        tb, bg = self.targets[tj], b[gi]
+        dx = np.maximum(np.maximum(tb[:, 0] - bg[:, 2], bg[:, 0] - tb[:, 2]), 0.0)
+        dy = np.maximum(np.maximum(tb[:, 1] - bg[:, 3], bg[:, 1] - tb[:, 3]), 0.0)
+        lim = cap[gi] + _BOX_SLACK_M
+        keep = dx * dx + dy * dy <= lim * lim
+        return gi[keep], tj[keep]
 
-    The distance between two boxes is a lower bound of the distance between anything inside
-    them, so no pair left out is within ``cap`` (the test allows :data:`_BOX_SLACK_M` for
-    rounding), and each pair dropped saves a GEOS distance."""
-    gi, tj = tree.query(shapely.box(b[:, 0] - cap, b[:, 1] - cap, b[:, 2] + cap,
-                                    b[:, 3] + cap))
-    tb, bg = targets[tj], b[gi]
-    dx = np.maximum(np.maximum(tb[:, 0] - bg[:, 2], bg[:, 0] - tb[:, 2]), 0.0)
-    dy = np.maximum(np.maximum(tb[:, 1] - bg[:, 3], bg[:, 1] - tb[:, 3]), 0.0)
-    lim = cap[gi] + _BOX_SLACK_M
-    keep = dx * dx + dy * dy <= lim * lim
-    return gi[keep], tj[keep]
+
+def grown_boxes(index: ObstacleIndex, which: str) -> GrownBoxes:
+    """The :class:`GrownBoxes` of an index's solids (``"solids"``) or door lines
+    (``"doors"``), made once per index."""
+    made = index.__dict__.setdefault("_grown_boxes", {})
+    got = made.get(which)
+    if got is None:
+        geoms = index.geometries if which == "solids" else index.door_lines
+        got = made[which] = GrownBoxes(shapely.bounds(geoms).reshape(-1, 4))
+    return got
 
 
 def chain_bounds(m: TugMotion, hitches: Sequence[Hitch], r_far: Sequence[float]
@@ -277,8 +320,8 @@ class TrailerBounds:
                 T.append(np.full(n, t_))
                 JJ.append(np.full(n, t))
         self.n_solids = len(index)
-        self._solid_bounds = shapely.bounds(index.geometries).reshape(-1, 4)
-        self._door_bounds = shapely.bounds(index.door_lines).reshape(-1, 4)
+        self._solid_boxes = grown_boxes(index, "solids")
+        self._door_boxes = grown_boxes(index, "doors")
         self._frame_rows: np.ndarray | None = None
         self._poser = trailer_poser(trace, int(self.js.max())) if self.nt else None
         self.reach = max(4.0 * float(self.margins.max()), 0.5) if self.nt else 0.5
@@ -354,7 +397,7 @@ class TrailerBounds:
         and their exact distances: a box query of the tree then plain distances, several
         times cheaper than the tree's ``dwithin`` predicate on many small pieces."""
         c = np.broadcast_to(np.asarray(cap, dtype=float), (len(geoms),))
-        pi, sj = box_pairs(shapely.bounds(geoms), c, self._solid_bounds, self.index.tree)
+        pi, sj = self._solid_boxes.pairs(geoms, shapely.bounds(geoms), c)
         return pi, sj, shapely.distance(geoms[pi], self.index.geometries[sj])
 
     def _placed(self, poses: np.ndarray, jj: np.ndarray) -> np.ndarray:
@@ -591,8 +634,7 @@ class TrailerBounds:
             reach = 0.5 * self.S[km] * (self.pb[km] - self.pa[km]) + self.delta(km)
             geoms = np.concatenate([self.Ga[km], self.Gb[km]])
             r2 = np.tile(reach, 2)
-            pi, q = box_pairs(shapely.bounds(geoms), r2, self._door_bounds,
-                              self.index.door_tree)
+            pi, q = self._door_boxes.pairs(geoms, shapely.bounds(geoms), r2)
             near = shapely.distance(geoms[pi], self.index.door_lines[q]) <= r2[pi]
             pi, q = pi[near], q[near]
             key = np.unique(self.uid[km[pi % len(km)]] * nd + q)
@@ -870,5 +912,5 @@ class TrailerView:
         return {q: v for (q, t), v in self.tb.final_door_values().items() if t == self.t}
 
 
-__all__ = ["COARSE_M", "Hit", "TrailerBounds", "TrailerPoser", "TrailerView", "chain_bounds",
-           "trailer_poser", "trailer_poses"]
+__all__ = ["COARSE_M", "GrownBoxes", "Hit", "TrailerBounds", "TrailerPoser", "TrailerView",
+           "chain_bounds", "grown_boxes", "trailer_poser", "trailer_poses"]

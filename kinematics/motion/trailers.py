@@ -35,6 +35,7 @@ import numpy as np
 from numpy.typing import ArrayLike, NDArray
 
 from kinematics.errors import ValidationError
+from kinematics.motion.dp_step import make_step
 from kinematics.motion.segments import Segment
 
 #: Local error tolerance of one integration step, radians.
@@ -66,20 +67,6 @@ class TrainBudgetError(ValidationError):
     def message(self) -> str:
         """As :attr:`SwatheInputError.message`; just the reason while no file is named."""
         return super().message if self.file or self.place else self.expected
-
-# Dormand-Prince 5(4) tableau.
-_C = (0.0, 1 / 5, 3 / 10, 4 / 5, 8 / 9, 1.0, 1.0)
-_A = ((),
-      (1 / 5,),
-      (3 / 40, 9 / 40),
-      (44 / 45, -56 / 15, 32 / 9),
-      (19372 / 6561, -25360 / 2187, 64448 / 6561, -212 / 729),
-      (9017 / 3168, -355 / 33, 46732 / 5247, 49 / 176, -5103 / 18656),
-      (35 / 384, 0.0, 500 / 1113, 125 / 192, -2187 / 6784, 11 / 84))
-_B5 = (35 / 384, 0.0, 500 / 1113, 125 / 192, -2187 / 6784, 11 / 84, 0.0)
-_B4 = (5179 / 57600, 0.0, 7571 / 16695, 393 / 640, -92097 / 339200, 187 / 2100, 1 / 40)
-_E = tuple(a - b for a, b in zip(_B5, _B4))
-
 
 @dataclass(frozen=True)
 class Hitch:
@@ -178,55 +165,21 @@ def _hitch_speed_bounds(m: TugMotion, hitches: Sequence[Hitch]) -> list[float]:
     return out
 
 
-def _trailer_rates(hx: float, hy: float, th: Sequence[float], inv_d: Sequence[float],
-                   h_next: Sequence[float]) -> list[float]:
-    """Each trailer's heading rate down the chain, from the first hitch's velocity
-    ``(hx, hy)``: trailer ``i`` turns at its hitch velocity across its heading over its
-    drawbar, and its own hitch (``h_next[i]`` along its axis) then moves with its axle's
-    velocity plus its turn times that offset (the same terms as :func:`_rhs`)."""
-    cos, sin = math.cos, math.sin
-    out = []
-    for t, inv, hn in zip(th, inv_d, h_next):
-        c, s = cos(t), sin(t)
-        w = (hy * c - hx * s) * inv
-        along = hx * c + hy * s
-        out.append(w)
-        hx = along * c - w * hn * s
-        hy = along * s + w * hn * c
-    return out
-
-
-def _rhs_of(m: TugMotion, hitches: Sequence[Hitch]):
-    """:func:`_rhs` for one segment's motion, with its constants bound once (the integrator
-    calls it seven times a step)."""
-    th0, w0, wd, fixed, direction = m.th0, m.w, m.wd, m.fixed, m.direction
-    h1 = hitches[0].hitch_x_m
+def _step_of(m: TugMotion, hitches: Sequence[Hitch]):
+    """One Dormand-Prince step on ``m`` (:func:`kinematics.motion.dp_step.make_step`): the
+    hitch chain's right-hand side with the segment's constants bound once."""
     inv_d = [1.0 / hz.drawbar_m for hz in hitches]
     h_next = [hz.hitch_x_m for hz in hitches[1:]] + [0.0]
-    cos, sin = math.cos, math.sin
-    if fixed is None and w0 == 0.0 and wd == 0.0:
+    h1 = hitches[0].hitch_x_m
+    if m.fixed is None and m.w == 0.0 and m.wd == 0.0:
         # A straight line along the heading: the tug's heading and velocity are constant and
-        # it does not turn, so the first hitch moves with it (the same numbers as below).
-        c0, s0 = cos(th0), sin(th0)
-        v0x, v0y = direction * c0, direction * s0
-
-        def f_line(p: float, th: Sequence[float]) -> list[float]:
-            return _trailer_rates(v0x, v0y, th, inv_d, h_next)
-
-        return f_line
-
-    def f(p: float, th: Sequence[float]) -> list[float]:
-        t_prev = th0 + (w0 + 0.5 * wd * p) * p
-        cp, sp = cos(t_prev), sin(t_prev)
-        if fixed is None:
-            vx, vy = direction * cp, direction * sp
-        else:
-            vx, vy = fixed
-        w_prev = w0 + wd * p
-        return _trailer_rates(vx - w_prev * h1 * sp, vy + w_prev * h1 * cp, th, inv_d,
-                              h_next)
-
-    return f
+        # it does not turn, so the first hitch moves with it.
+        c0, s0 = math.cos(m.th0), math.sin(m.th0)
+        return make_step("line", m.th0, m.w, m.wd, (m.direction * c0, m.direction * s0),
+                         m.direction, h1, inv_d, h_next)
+    kind = "free" if m.fixed is None else "fixed"
+    return make_step(kind, m.th0, m.w, m.wd, m.fixed or (0.0, 0.0), m.direction, h1, inv_d,
+                     h_next)
 
 
 @dataclass
@@ -274,11 +227,7 @@ def integrate_segment(m: TugMotion, hitches: Sequence[Hitch], th_start: Sequence
     # pivots the hitch may push, and an error may grow by up to |v_h| / d per unit progress.
     pushing = m.fixed is not None or m.direction < 0
     growth = max(b / hz.drawbar_m for b, hz in zip(bounds, hitches)) if pushing else 0.0
-    rhs = _rhs_of(m, hitches)
-    (a10,), (a20, a21), (a30, a31, a32), (a40, a41, a42, a43), \
-        (a50, a51, a52, a53, a54), (a60, _a61, a62, a63, a64, a65) = _A[1:]
-    e0, _e1, e2, e3, e4, e5, e6 = _E
-    c1, c2, c3, c4 = _C[1:5]
+    step = _step_of(m, hitches)
     amount = m.amount
     p, h = 0.0, min(hmax, 0.05 * amount + 1e-3)
     tried = 0
@@ -287,22 +236,8 @@ def integrate_segment(m: TugMotion, hitches: Sequence[Hitch], th_start: Sequence
         if tried > max_steps:
             raise TrainBudgetError(tried * n, n, amount, "needs more than")
         h = min(h, amount - p)
-        k0 = f
-        k1 = rhs(p + c1 * h, [yj + h * a10 * q0 for yj, q0 in zip(y, k0)])
-        k2 = rhs(p + c2 * h, [yj + h * (a20 * q0 + a21 * q1)
-                              for yj, q0, q1 in zip(y, k0, k1)])
-        k3 = rhs(p + c3 * h, [yj + h * (a30 * q0 + a31 * q1 + a32 * q2)
-                              for yj, q0, q1, q2 in zip(y, k0, k1, k2)])
-        k4 = rhs(p + c4 * h, [yj + h * (a40 * q0 + a41 * q1 + a42 * q2 + a43 * q3)
-                              for yj, q0, q1, q2, q3 in zip(y, k0, k1, k2, k3)])
-        k5 = rhs(p + h, [yj + h * (a50 * q0 + a51 * q1 + a52 * q2 + a53 * q3 + a54 * q4)
-                         for yj, q0, q1, q2, q3, q4 in zip(y, k0, k1, k2, k3, k4)])
         # The 7th stage is evaluated at the 5th-order solution (FSAL; a61 = 0).
-        y5 = [yj + h * (a60 * q0 + a62 * q2 + a63 * q3 + a64 * q4 + a65 * q5)
-              for yj, q0, q2, q3, q4, q5 in zip(y, k0, k2, k3, k4, k5)]
-        k6 = rhs(p + h, y5)
-        err = max(abs(h * (e0 * q0 + e2 * q2 + e3 * q3 + e4 * q4 + e5 * q5 + e6 * q6))
-                  for q0, q2, q3, q4, q5, q6 in zip(k0, k2, k3, k4, k5, k6))
+        y5, k6, err = step(p, h, y, f)
         if err <= tol or h <= 1e-9 * max(1.0, amount):
             p = amount if amount - (p + h) <= 1e-12 * max(1.0, amount) else p + h
             y, f = y5, k6
