@@ -602,12 +602,14 @@ class RouteFinder:
             start_th = [tuple([p[2]] * len(self.trailers)) for p in starts]
         st = self.settings
         mode, radius = drive_mode(self.chassis, route)
-        prims = self._prims_for(mode, radius, route.reverse)
+        # The primitives and the grid distance to the goal are made when first needed: a leg
+        # whose first analytic shot (from its one start) is clear never needs them.
+        prims: list[Primitive] = []
         grid = self.grid(route)
         self._leg_radius = float(radius)
         self._sample_m = grid.cell_m
         gx, gy, gh = goal
-        h2d = grid.distance_to(gx, gy)
+        h2d_box: list[NDArray[np.float64]] = []
         cell = grid.cell_m
         pref = st.clearance_pref_m
         need = self.margin + SAFETY_M
@@ -630,11 +632,14 @@ class RouteFinder:
         self._quick = quick
         self._quick_goal = g_pose
 
-        def heuristic(poses: NDArray[np.float64]) -> NDArray[np.float64]:
-            i, j = grid.cell_of(poses[:, 0], poses[:, 1])
-            d2 = np.maximum(h2d[i, j] - 1.5 * cell, 0.0)
-            eu = np.hypot(poses[:, 0] - gx, poses[:, 1] - gy)
-            h = np.maximum(d2, eu)
+        def heuristic(poses: NDArray[np.float64], with_grid: bool = True
+                      ) -> NDArray[np.float64]:
+            h = np.hypot(poses[:, 0] - gx, poses[:, 1] - gy)
+            if with_grid:
+                if not h2d_box:
+                    h2d_box.append(grid.distance_to(gx, gy))
+                i, j = grid.cell_of(poses[:, 0], poses[:, 1])
+                h = np.maximum(np.maximum(h2d_box[0][i, j] - 1.5 * cell, 0.0), h)
             if use_rs:
                 keys = [(float(x), float(y), math.radians(math.degrees(float(a))))
                         for x, y, a in poses]
@@ -669,7 +674,11 @@ class RouteFinder:
         pdir: list[int] = []
         best_g: dict[tuple, float] = {}
         heap: list[tuple[float, int]] = []
-        hs = heuristic(np.array(starts, dtype=float))
+        # One start is expanded first whatever its key, so its heuristic skips the grid
+        # distance (still made before any successor is keyed). A start the grid cuts off from
+        # the goal is then expanded rather than dropped: its analytic shot is swept and
+        # checked like any other, and its successors' keys are infinite.
+        hs = heuristic(np.array(starts, dtype=float), with_grid=len(starts) != 1)
         for p, h, th0 in zip(starts, hs, start_th):
             if not math.isfinite(h):
                 continue
@@ -735,6 +744,8 @@ class RouteFinder:
             kid_d: list[float] = []
             kid_dir: list[int] = []
             lb = grid.lower_bound(p[0], p[1])
+            if not prims:
+                prims = self._prims_for(mode, radius, route.reverse)
             for pr in prims:
                 q = _compose(p, pr.end)
                 if not (area[0] <= q[0] <= area[2] and area[1] <= q[1] <= area[3]):
