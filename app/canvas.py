@@ -5,7 +5,8 @@ a scale bar in metres. It draws the Document (walls, obstacles, doors, every rou
 current route's swept band, footprint outlines and violations) and turns mouse gestures into
 Document edits:
 
-- drag a waypoint to move it; drag its heading handle (the purple knob) to fix its heading;
+- drag a waypoint to move it; drag its heading handle (the knob in the route's colour) to
+  fix its heading;
 - click in *add* mode, or Ctrl+click in any mode, to append a waypoint;
 - double-click a leg to insert a waypoint there;
 - Delete / Backspace or the context menu removes the selected waypoint;
@@ -58,8 +59,6 @@ from .canvas_editing import CanvasEditing
 from .canvas_items import (  # noqa: F401 - also imported from here by others
     _BOX_CELL_PX,
     _DOOR_LABEL_PLACES,
-    _FIXED_BRUSH,
-    _FREE_BRUSH,
     _IGNORES_VIEW,
     _LABEL_PLACES,
     _NO_BRUSH,
@@ -105,9 +104,11 @@ from .qstyle import MESSAGE_STYLE, hatch_brush, qbrush, qpen
 from .scene import (
     HANDLE_R_PX,
     HANDLE_SHAPE,
+    HEADING_WIDTH_PX,
     JAMB_R_PX,
     PIVOT_R_PX,
     PIVOT_WIDTH_PX,
+    ROUTE_COLOURS,
     STYLES,
     VIOLATION_SHAPES,
     WAYPOINT_R_PX,
@@ -318,10 +319,16 @@ class PlanCanvas(PlanDrawing, RouteDrawing, CanvasEditing, QWidget):
         self.plan_labels: list[_Label] = []
         self.zone_labels: list[_Label] = []
 
-        self.others_item = _Polyline(_pen("#8C8C8C", 1.5, Qt.PenStyle.DashDotLine))
-        self.others_item.setZValue(2)
-        self.others_item.setCacheMode(QGraphicsItem.CacheMode.DeviceCoordinateCache)
-        add(self.others_item)
+        # The other routes' paths as the picture draws every route: in the route's colour,
+        # dashed in reverse (app.scene.route_style); one item per colour and direction.
+        self.others_items: dict[tuple[int, int], _Polyline] = {}
+        for ci in range(len(ROUTE_COLOURS)):
+            for direction in (1, -1):
+                it = _Polyline(qpen(route_style(ci, direction), cosmetic=True))
+                it.setZValue(2)
+                it.setCacheMode(QGraphicsItem.CacheMode.DeviceCoordinateCache)
+                add(it)
+                self.others_items[(ci, direction)] = it
         # The outlines' parent: one child per segment (_draw_outlines), none of its own path.
         self.outlines_item = QGraphicsPathItem()
         self.outlines_item.setPen(qpen(STYLES["outline"].stroke, cosmetic=True))
@@ -349,13 +356,13 @@ class PlanCanvas(PlanDrawing, RouteDrawing, CanvasEditing, QWidget):
         self.chords_item = _Polyline(_pen("#777777", 1.0, Qt.PenStyle.DotLine))
         self.chords_item.setZValue(3.5)
         add(self.chords_item)
-        self.handles_line = _Polyline(_pen(PURPLE, 2.0))
+        self.handles_line = _Polyline(_pen(BLACK, HEADING_WIDTH_PX))  # route colour later
         self.handles_line.setZValue(6)
         add(self.handles_line)
         # Markers and labels keep their pixel size at any zoom; they are plain Qt items
         # (see _Markers, _Label), which a drag moves without per-paint Python.
         self.handles_item = _Markers(HANDLE_SHAPE, 2 * HANDLE_R_PX, _pen(BLACK, 1.0),
-                                     _brush(PURPLE))
+                                     _brush(BLACK))
         self.handles_item.setZValue(7)
         add(self.handles_item, ignoreBounds=True)
         self.waypoints_item = _Markers("circle", 2 * WAYPOINT_R_PX, _pen(BLACK, 2.0),

@@ -34,7 +34,7 @@ from PySide6.QtWidgets import (
     QGraphicsSimpleTextItem,
 )
 
-from .palette import ORANGE, PURPLE
+from .palette import ORANGE
 from .qstyle import marker_path, pivot_paths, qbrush
 from .scene import (
     STYLES,
@@ -344,8 +344,8 @@ MARKER_PX = int(2 * VIOLATION_R_PX)
 _LABEL_PLACES = ((-0.12, -0.1), (1.12, -0.1), (-0.12, 1.1), (1.12, 1.1))
 
 
-#: Where a door's name may sit, as the anchor of its box on the door's middle: just below the
-#: door line, else a row further down (neighbouring doors' names then alternate rows), else
+#: Where a door's label may sit, as the anchor of its box on the door's middle: just below the
+#: door line, else a row further down (neighbouring doors' labels then alternate rows), else
 #: just above it.
 _DOOR_LABEL_PLACES = ((0.5, -0.3), (0.5, -1.45), (0.5, 1.3))
 
@@ -451,7 +451,3 @@ class _Label(QGraphicsRectItem):
 
 _WAYPOINT_BRUSH = qbrush(STYLES["waypoint"].fill)
 _SELECTED_BRUSH = pg.mkBrush(ORANGE)
-_FIXED_BRUSH = pg.mkBrush(PURPLE)  # a heading the user fixed
-# The planner's choice, to grab: the handle's purple, pale (a white disc would read as a
-# small waypoint).
-_FREE_BRUSH = pg.mkBrush(QColor(PURPLE).lighter(150))

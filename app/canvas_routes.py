@@ -50,8 +50,6 @@ from kinematics.motion.segments import Segment
 
 from .canvas_items import (
     _BOX_CELL_PX,
-    _FIXED_BRUSH,
-    _FREE_BRUSH,
     _LABEL_PLACES,
     _SELECTED_BRUSH,
     _WAYPOINT_BRUSH,
@@ -70,7 +68,9 @@ from .canvas_items import (
 from .palette import BLACK
 from .qstyle import qbrush, qpen
 from .scene import (
+    HEADING_WIDTH_PX,
     PIVOT_WIDTH_PX,
+    ROUTE_COLOURS,
     STYLES,
     WAYPOINT_R_PX,
     band_piece,
@@ -175,6 +175,14 @@ class RouteDrawing:
         self.pivot_heads.setPen(head)
         self._pivot_brush = QBrush(wp.color())
         self._drawn.pop("pivots", None)
+        # Heading handles in the route's colour, as the picture draws a fixed heading: the
+        # knob filled with it where the heading is fixed, with it lightened where the planner
+        # chose it (the selected waypoint's free heading).
+        line = QPen(wp)
+        line.setWidthF(HEADING_WIDTH_PX)
+        self.handles_line.setPen(line)
+        self._handle_brushes = (QBrush(wp.color()), QBrush(wp.color().lighter(150)))
+        self._drawn.pop("handles", None)
 
     def _draw_pivots(self, segs: list[Segment]) -> None:
         """Each turn on the spot as the picture draws it: a ring with an arrow head turning
@@ -191,38 +199,49 @@ class RouteDrawing:
                                  brush=getattr(self, "_pivot_brush", None))
 
     def _draw_other_routes(self) -> None:
-        """Other routes: faint dash-dot paths so the user sees what else shares the floor."""
+        """Other routes: their paths as the picture draws every route's (the route's colour
+        from its place in the project, dashed in reverse: app.scene.route_style), so the user
+        sees what else shares the floor and the legend's colours name them. Only the route
+        being edited has its band, outlines, waypoints and markers on the canvas."""
         doc = self.doc
         if not self.painted:
             # The first picture shows the route being edited; the others are planned and
             # drawn right after it (see _after_first_paint).
-            self.others_item.setData([], [])
+            for it in self.others_items.values():
+                it.setData([], [])
             self._drawn.pop("others", None)
             return
-        others = [(r, doc.plan(r.name)) for i, r in enumerate(doc.project.routes)
+        others = [(i, r, doc.plan(r.name)) for i, r in enumerate(doc.project.routes)
                   if i != doc.current_route]
         # The key holds the objects themselves: compared by identity, never a reused id().
-        key = [x for pair in others for x in pair]
+        key = [x for _i, *pair in others for x in pair]
         was = self._drawn.get("others")
         if was is not None and len(was) == len(key) and all(a is b for a, b in zip(was, key)):
             return  # dragging the current route leaves the others as they are
         self._drawn["others"] = key
-        ox, oy = [], []
-        for r, plan in others:
-            if plan is None or not plan.segments:
-                pts = np.array([[w.x, w.y] for w in r.waypoints])
-            else:
-                pts = sample_segments(plan.segments, 0.15)[0]
-            ox += list(pts[:, 0]) + [np.nan]
-            oy += list(pts[:, 1]) + [np.nan]
-        self.others_item.setData(np.asarray(ox, float), np.asarray(oy, float))
+        lines: dict[tuple[int, int], tuple[list, list]] = {k: ([], []) for k in self.others_items}
+        for i, r, plan in others:
+            ci = i % len(ROUTE_COLOURS)
+            if plan is None or not plan.segments:  # not planned: its waypoints' chords
+                x, y = [w.x for w in r.waypoints], [w.y for w in r.waypoints]
+                lines[(ci, 1)][0].extend(list(x) + [np.nan])
+                lines[(ci, 1)][1].extend(list(y) + [np.nan])
+                continue
+            xy, _st, idx, dirs = sample_segments(plan.segments)  # the picture's points
+            for direction in (1, -1):
+                x, y = _broken_line(xy, dirs, idx, direction)
+                if len(x):
+                    lines[(ci, direction)][0].extend(list(x) + [np.nan])
+                    lines[(ci, direction)][1].extend(list(y) + [np.nan])
+        for k, (x, y) in lines.items():
+            self.others_items[k].setData(np.asarray(x, float), np.asarray(y, float))
 
     def _draw_handles(self) -> None:
         cur = self.doc.route()
         if cur is None:
             return
         L = HANDLE_PX * self.px_m()
-        hx, hy, lx, ly, brushes = [], [], [], [], []
+        hx, hy, lx, ly, fixed = [], [], [], [], []
         for i, w in enumerate(cur.waypoints):
             if w.heading_deg is None and i != self.selected:
                 continue
@@ -231,15 +250,16 @@ class RouteDrawing:
             ex, ey = w.x + L * math.cos(h), w.y + L * math.sin(h)
             hx.append(ex)
             hy.append(ey)
-            brushes.append(_FIXED_BRUSH if w.heading_deg is not None else _FREE_BRUSH)
+            fixed.append(w.heading_deg is not None)
             if w.heading_deg is not None:
                 lx += [w.x, ex, np.nan]
                 ly += [w.y, ey, np.nan]
-        key = (hx, hy, lx, ly, [b is _FIXED_BRUSH for b in brushes])
+        key = (hx, hy, lx, ly, fixed)
         if key == self._drawn.get("handles"):
             return
         self._drawn["handles"] = key
-        self.handles_item.setData(hx, hy, brush=brushes)
+        ink = getattr(self, "_handle_brushes", None) or (QBrush(), QBrush())
+        self.handles_item.setData(hx, hy, brush=[ink[0] if f else ink[1] for f in fixed])
         self.handles_line.setData(np.asarray(lx, float), np.asarray(ly, float))
 
     def _free_heading_deg(self, i: int) -> float:

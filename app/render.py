@@ -93,6 +93,7 @@ from .picture_frame import (  # noqa: F401 - also imported from here by others
 from .qstyle import pivot_paths, qbrush
 from .scene import (  # noqa: F401 - the geometry helpers are re-exported for older callers
     FAINT_INK,
+    HEADING_WIDTH_PX,
     INK,
     JAMB_R_PX,
     PIVOT_R_PX,
@@ -409,14 +410,15 @@ def _draw_pivots(p: QPainter, view: _View, segments: Sequence, colour: str, u: f
 
 
 def _draw_headings(p: QPainter, view: _View, route: Any, colour: str, u: float) -> None:
-    """A line from each waypoint with a fixed heading, pointing along it."""
+    """A line from each waypoint with a fixed heading, pointing along it, in the route's
+    colour (as the window's heading handle)."""
     for w in route.waypoints:
         if w.heading_deg is None:
             continue
         c = view.pt(w.x, w.y)
         h = math.radians(w.heading_deg)
         L = 24 * u
-        p.setPen(pen(colour, 1.8 * u))
+        p.setPen(pen(colour, HEADING_WIDTH_PX * u))
         p.drawLine(c, QPointF(c.x() + L * math.cos(h), c.y() - L * math.sin(h)))
 
 

@@ -159,7 +159,8 @@ ZONE_ARROW_R_PX = 7.0
 JAMB_R_PX = 3.0
 WAYPOINT_R_PX = 7.5
 VIOLATION_R_PX = 8.0
-#: A waypoint's heading handle (the knob at the end of its purple line, dragged to turn the
+#: A waypoint's heading handle (the knob at the end of its heading line, in the route's
+#: colour, dragged to turn the
 #: heading): a small filled disc, a shape no violation marker has (a diamond marks a blocked
 #: waypoint).
 HANDLE_SHAPE = "circle"
@@ -170,6 +171,9 @@ PIVOT_R_PX = 11.0
 PIVOT_WIDTH_PX = 2.0
 #: Route lines, pixels.
 ROUTE_WIDTH_PX = 2.5
+#: A fixed heading: a line from the waypoint along it, in the route's colour (the window's
+#: heading handle, and the picture's heading line), this wide in pixels.
+HEADING_WIDTH_PX = 2.0
 
 
 def route_style(k: int, direction: int = 1) -> Stroke:
@@ -320,7 +324,6 @@ def floorplan_layer(fp: Any, checks: dict | None = None, solids_list: Sequence[A
             b = s.geometry.bounds
             layer.labels.append(Label("obstacle_label", s.label, c.x, c.y, priority=3,
                                       offset_px=0.0, fit_m=b[2] - b[0]))
-    clear = door_clearances(checks or {})
     for d in fp.doors:
         xy = np.array([d.a, d.b], float)
         layer.lines.append(Polyline(xy, STYLES["door_gap"].stroke, "door_gap"))
@@ -328,17 +331,29 @@ def floorplan_layer(fp: Any, checks: dict | None = None, solids_list: Sequence[A
         for q in (d.a, d.b):
             layer.markers.append(Marker("jamb", "circle", float(q[0]), float(q[1]),
                                         JAMB_R_PX))
+    layer.labels.extend(door_labels(fp, checks))
+    return layer
+
+
+def door_labels(fp: Any, checks: dict | None = None) -> list[Label]:
+    """Each door's label, one per door in the plan's order, as both painters show it: its
+    name and width (``"lift 1 1.10 m"``), and where a checked route passes it the least
+    clearance there too (``", clearance 250 mm"``, always shown); other doors' labels small,
+    shown where there is room."""
+    clear = door_clearances(checks or {})
+    out = []
+    for d in fp.doors:
         text = f"{d.label or 'door'} {d.width_m:.2f} m"
         passed = d.label in clear
         if passed:
             text += f", clearance {clear[d.label] * 1000:.0f} mm"
         dx, dy = d.b[0] - d.a[0], d.b[1] - d.a[1]
         n = math.hypot(dx, dy) or 1.0
-        layer.labels.append(Label("door_label", text, *map(float, d.midpoint),
-                                  priority=1 if passed else 2, force=passed,
-                                  along=(dx / n, dy / n), small=not passed, offset_px=6.0,
-                                  reach_m=n / 2))
-    return layer
+        out.append(Label("door_label", text, *map(float, d.midpoint),
+                         priority=1 if passed else 2, force=passed,
+                         along=(dx / n, dy / n), small=not passed, offset_px=6.0,
+                         reach_m=n / 2))
+    return out
 
 
 def route_layer(route: Any, k: int, plan: Any, footprint: Sequence[tuple[float, float]],

@@ -543,3 +543,91 @@ def test_a_pivot_has_the_same_symbol_in_the_canvas_the_picture_and_the_legend(pa
     assert abs((hl - 330.0 + 180.0) % 360.0 - 180.0) < 25.0, hl
     # Mirrored about its 30-degree line, the picture's clockwise ring is the legend's.
     assert len(_mirror(bp) - bl) <= 2, sorted(_mirror(bp) - bl)
+
+
+def test_other_routes_are_drawn_in_their_colours_in_both(painted):
+    # Source: app.scene.route_style (each route's colour from its place in the project, as
+    # the legend names it); the canvas drew every route but the current one grey dash-dot.
+    # Probed along each other route's path, away from waypoints, doors, other routes and the
+    # current route's band.
+    import shapely
+
+    pic, to_pic, _can, to_can, project, checks, canvas, cov_pic, cov_can, _free = painted
+    can = _fit_grab(canvas)
+    plans, _c, _e = compute_results(project)
+    names = [r.name for r in project.routes]
+    lines = {n: shapely.LineString(np.vstack([scene.segment_samples(s)[0]
+                                              for s in plans[n].segments if s.kind != "pivot"]))
+             for n in names if plans.get(n) is not None}
+    wps = shapely.MultiPoint([(w.x, w.y) for r in project.routes for w in r.waypoints])
+    doors = shapely.MultiLineString([[d.a, d.b] for d in project.floorplan.doors])
+    band = checks[FAILING].swept
+    probed = {"picture": 0, "canvas": 0}
+    hit = {"picture": 0, "canvas": 0}
+    for k, n in enumerate(names):
+        if n == FAILING or n not in lines:
+            continue
+        colour = scene.ROUTE_COLOURS[k % len(scene.ROUTE_COLOURS)]
+        others = shapely.union_all([ln for m, ln in lines.items() if m != n])
+        for f in np.linspace(0.0, 1.0, 80):
+            q = lines[n].interpolate(f, normalized=True)
+            if (q.distance(wps) < 0.45 or q.distance(doors) < 0.3 or q.distance(others) < 0.3
+                    or q.distance(band) < 0.3):
+                continue
+            for painter, arr, to_px, covered in (("picture", pic, to_pic, cov_pic),
+                                                 ("canvas", can, to_can, cov_can)):
+                px = to_px(q.x, q.y)
+                if covered(*px):
+                    continue
+                probed[painter] += 1
+                hit[painter] += _near(arr, *px, colour, r=1, tol=40)
+    for painter in probed:
+        assert probed[painter] > 40, probed
+        assert hit[painter] >= 0.9 * probed[painter], (painter, hit, probed)
+
+
+def test_a_fixed_heading_is_drawn_in_the_routes_colour_in_both(painted):
+    # Source: app.scene.route_style; the picture drew a fixed heading's line in the route's
+    # colour and the canvas its handle purple (the second route's colour). A heading fixed at
+    # the first waypoint of the first route (blue) as the planner chose it: pixels 12-20 px
+    # from the waypoint along the heading are blue in both, and so is the handle's knob.
+    from app.canvas_items import HANDLE_PX
+
+    _pic, _to_pic, _can, to_can, _project, _checks, canvas, _cp, _cc, _free = painted
+    doc = canvas.doc
+    k = 0
+    colour = scene.ROUTE_COLOURS[k]
+    doc.set_current_route(k)
+    for _ in range(5):
+        QApplication.processEvents()
+    try:
+        h = round(canvas._free_heading_deg(0), 2)
+        doc.set_waypoint_heading(k, 0, h)
+        for _ in range(5):
+            QApplication.processEvents()
+        w = doc.route().waypoints[0]
+        assert w.heading_deg == h
+        can = _fit_grab(canvas)
+        plans, checks, _e = compute_results(doc.project)
+        img = render.new_image((1600, 1000))
+        info = render.render_scene(img, doc.project, plans, checks, footer=False)
+        pic = _array(img)
+
+        def to_pic(x: float, y: float) -> tuple[float, float]:
+            q = info["to_px"](x, y)
+            return q.x(), q.y()
+
+        a = math.radians(h)
+        for painter, arr, to_px in (("picture", pic, to_pic), ("canvas", can, to_can)):
+            cx, cy = to_px(w.x, w.y)
+            for d in (12, 15, 18, 20):
+                x, y = cx + d * math.cos(a), cy - d * math.sin(a)
+                assert _near(arr, x, y, colour, r=1, tol=40), (painter, d)
+        cx, cy = to_can(w.x, w.y)
+        x, y = cx + HANDLE_PX * math.cos(a), cy - HANDLE_PX * math.sin(a)
+        assert _near(can, x, y, colour, r=1, tol=40), "the knob"
+    finally:
+        doc.undo_stack.undo()
+        doc.set_current_route(doc.route_names().index(FAILING))
+        for _ in range(5):
+            QApplication.processEvents()

@@ -212,11 +212,38 @@ def _meeting(parts_of: Sequence[np.ndarray], tree: shapely.STRtree, predicate: s
     ``distance`` for ``"dwithin"``), with one tree query for all of them."""
     n = len(parts_of)
     hit = np.zeros(n, dtype=bool)
-    counts = [len(p) for p in parts_of]
-    if not sum(counts):
+    counts = np.array([len(p) for p in parts_of], dtype=int)
+    if not counts.sum():
         return hit
-    got = tree.query(np.concatenate(parts_of), predicate=predicate, distance=distance)[0]
-    hit[np.repeat(np.arange(n), counts)[got]] = True
+    flat = np.concatenate(parts_of)
+    owner = np.repeat(np.arange(n), counts)
+    if counts.max() > _MANY_PARTS:
+        # Many parts (a clothoid's): first one query of each segment's bounding box, which
+        # holds all its parts, so a segment whose box meets nothing has no part meeting
+        # anything. Boxes are tested with "intersects" (an exact predicate) or "dwithin"
+        # widened by a little more than rounding (GEOS may measure a box a few ulps farther
+        # than a part inside it; see _nearest_solid). The answer is the one-query answer.
+        full = np.flatnonzero(counts)
+        offs = np.r_[0, np.cumsum(counts)][full]
+        b = shapely.bounds(flat)
+        boxes = shapely.box(np.minimum.reduceat(b[:, 0], offs),
+                            np.minimum.reduceat(b[:, 1], offs),
+                            np.maximum.reduceat(b[:, 2], offs),
+                            np.maximum.reduceat(b[:, 3], offs))
+        if predicate == "dwithin":
+            near = tree.query(boxes, predicate="dwithin",
+                              distance=float(distance) * (1.0 + 1e-9) + 1e-12)[0]
+        else:
+            near = tree.query(boxes, predicate=predicate)[0]
+        live = np.zeros(n, dtype=bool)
+        live[full[near]] = True
+        sel = live[owner]
+        if not sel.all():
+            flat, owner = flat[sel], owner[sel]
+            if not len(flat):
+                return hit
+    got = tree.query(flat, predicate=predicate, distance=distance)[0]
+    hit[owner[got]] = True
     return hit
 
 
